@@ -1,0 +1,42 @@
+//! # umbral
+//!
+//! Black-hole shadows for tests of general relativity. A metric is written once, as the five
+//! covariant components of a stationary, axisymmetric line element in Boyer–Lindquist-like
+//! coordinates `(t, r, θ, φ)`, generic over a dual-number scalar; everything else (inverse metric,
+//! Christoffel symbols, the null-geodesic Hamiltonian and its exact gradient, horizons) follows
+//! from that one method with no hand-written derivative.
+//!
+//! Conventions: `G = c = M = 1`, signature `(−,+,+,+)`, angles in radians inside the library.
+//! See `docs/conventions.md`.
+//!
+//! ```
+//! use umbral::prelude::*;
+//!
+//! let kerr = Kerr::new(0.9).unwrap();
+//! // Christoffel symbols at a point, from dual-number derivatives of the metric components.
+//! let gamma = kerr.christoffel(6.0, 1.0);
+//! assert!(gamma[1][0][0] > 0.0); // Γ^r_tt > 0: gravity pulls inward
+//! // The outer horizon r₊ = 1 + √(1 − a²).
+//! let r_plus = kerr.outer_horizon().unwrap();
+//! assert!((r_plus - (1.0 + (1.0f64 - 0.81).sqrt())).abs() < 1e-14);
+//! ```
+
+pub mod error;
+pub mod geodesic;
+pub mod metric;
+pub mod metrics;
+pub mod numerics;
+pub mod scalar;
+
+/// The names most programs need.
+pub mod prelude {
+    pub use crate::error::MetricError;
+    pub use crate::metric::{
+        Bound, Classification, Domain, Metric, MetricComponents, MetricInfo, ParameterSpec,
+        SphericalMetric, Spacetime,
+    };
+    pub use crate::metrics::{
+        build_metric, builtin_metrics, Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild,
+    };
+    pub use crate::scalar::DualScalar;
+}

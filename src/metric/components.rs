@@ -1,0 +1,106 @@
+//! Metric components of a stationary, axisymmetric line element and their inverse.
+
+use crate::scalar::DualScalar;
+use nalgebra::Matrix4;
+use serde::Serialize;
+
+/// Covariant components of ds² = g_tt dt² + 2 g_tφ dt dφ + g_rr dr² + g_θθ dθ² + g_φφ dφ².
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct MetricComponents<D> {
+    pub g_tt: D,
+    pub g_tphi: D,
+    pub g_rr: D,
+    pub g_thth: D,
+    pub g_phph: D,
+}
+
+/// Contravariant components g^tt, g^tφ, g^rr, g^θθ, g^φφ.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct InverseComponents<D> {
+    pub g_tt: D,
+    pub g_tphi: D,
+    pub g_rr: D,
+    pub g_thth: D,
+    pub g_phph: D,
+}
+
+impl<D: DualScalar> MetricComponents<D> {
+    /// The inverse: the (t, φ) block inverted in closed form, g^rr = 1/g_rr, g^θθ = 1/g_θθ.
+    ///
+    /// With Δ₂ = g_tt g_φφ − g_tφ²: g^tt = g_φφ/Δ₂, g^tφ = −g_tφ/Δ₂, g^φφ = g_tt/Δ₂.
+    #[inline]
+    pub fn inverse(&self) -> InverseComponents<D> {
+        let det = self.g_tt * self.g_phph - self.g_tphi * self.g_tphi;
+        let inv_det = det.recip();
+        InverseComponents {
+            g_tt: self.g_phph * inv_det,
+            g_tphi: -self.g_tphi * inv_det,
+            g_rr: self.g_rr.recip(),
+            g_thth: self.g_thth.recip(),
+            g_phph: self.g_tt * inv_det,
+        }
+    }
+
+    /// Apply `f` to every component.
+    pub fn map<E>(&self, f: impl Fn(&D) -> E) -> MetricComponents<E> {
+        MetricComponents {
+            g_tt: f(&self.g_tt),
+            g_tphi: f(&self.g_tphi),
+            g_rr: f(&self.g_rr),
+            g_thth: f(&self.g_thth),
+            g_phph: f(&self.g_phph),
+        }
+    }
+}
+
+impl<D: DualScalar> InverseComponents<D> {
+    /// Null-geodesic Hamiltonian H = ½ g^{μν} p_μ p_ν for covariant momenta (p_t, p_r, p_θ, p_φ).
+    #[inline]
+    pub fn hamiltonian(&self, p: &[f64; 4]) -> D {
+        let [pt, pr, pth, pph] = *p;
+        (self.g_tt * (pt * pt)
+            + self.g_tphi * (2.0 * pt * pph)
+            + self.g_phph * (pph * pph)
+            + self.g_rr * (pr * pr)
+            + self.g_thth * (pth * pth))
+            * 0.5
+    }
+
+    /// Apply `f` to every component.
+    pub fn map<E>(&self, f: impl Fn(&D) -> E) -> InverseComponents<E> {
+        InverseComponents {
+            g_tt: f(&self.g_tt),
+            g_tphi: f(&self.g_tphi),
+            g_rr: f(&self.g_rr),
+            g_thth: f(&self.g_thth),
+            g_phph: f(&self.g_phph),
+        }
+    }
+}
+
+macro_rules! impl_matrix {
+    ($t:ident) => {
+        impl $t<f64> {
+            /// The full 4×4 matrix in index order (t, r, θ, φ).
+            pub fn matrix(&self) -> Matrix4<f64> {
+                let mut m = Matrix4::zeros();
+                m[(0, 0)] = self.g_tt;
+                m[(0, 3)] = self.g_tphi;
+                m[(3, 0)] = self.g_tphi;
+                m[(1, 1)] = self.g_rr;
+                m[(2, 2)] = self.g_thth;
+                m[(3, 3)] = self.g_phph;
+                m
+            }
+
+            /// Whether every component is a finite number.
+            pub fn is_finite(&self) -> bool {
+                [self.g_tt, self.g_tphi, self.g_rr, self.g_thth, self.g_phph]
+                    .iter()
+                    .all(|x| x.is_finite())
+            }
+        }
+    };
+}
+impl_matrix!(MetricComponents);
+impl_matrix!(InverseComponents);

@@ -1,0 +1,214 @@
+//! Plain metadata of a metric: its name, literature reference and parameters.
+
+use crate::error::MetricError;
+use serde::Serialize;
+use std::fmt;
+
+/// One end of a parameter's domain.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", content = "value", rename_all = "snake_case")]
+pub enum Bound {
+    /// No limit on this side.
+    Unbounded,
+    /// The end value is allowed.
+    Inclusive(f64),
+    /// The end value is excluded.
+    Exclusive(f64),
+}
+
+/// The set of allowed values of a parameter: an interval of the real line.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Domain {
+    pub lower: Bound,
+    pub upper: Bound,
+}
+
+impl Domain {
+    /// Every finite real number.
+    pub const REAL: Domain = Domain {
+        lower: Bound::Unbounded,
+        upper: Bound::Unbounded,
+    };
+
+    /// The closed interval `[lo, hi]`.
+    pub const fn closed(lo: f64, hi: f64) -> Domain {
+        Domain {
+            lower: Bound::Inclusive(lo),
+            upper: Bound::Inclusive(hi),
+        }
+    }
+
+    /// `[lo, ∞)`.
+    pub const fn at_least(lo: f64) -> Domain {
+        Domain {
+            lower: Bound::Inclusive(lo),
+            upper: Bound::Unbounded,
+        }
+    }
+
+    /// `(lo, ∞)`.
+    pub const fn greater_than(lo: f64) -> Domain {
+        Domain {
+            lower: Bound::Exclusive(lo),
+            upper: Bound::Unbounded,
+        }
+    }
+
+    /// Whether `x` lies in the domain (NaN never does).
+    pub fn contains(&self, x: f64) -> bool {
+        if !x.is_finite() {
+            return false;
+        }
+        let above = match self.lower {
+            Bound::Unbounded => true,
+            Bound::Inclusive(lo) => x >= lo,
+            Bound::Exclusive(lo) => x > lo,
+        };
+        let below = match self.upper {
+            Bound::Unbounded => true,
+            Bound::Inclusive(hi) => x <= hi,
+            Bound::Exclusive(hi) => x < hi,
+        };
+        above && below
+    }
+}
+
+impl fmt::Display for Domain {
+    /// Interval notation, e.g. `[0, 1]`, `(0, inf)`, `(-inf, inf)`.
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self.lower {
+            Bound::Unbounded => write!(f, "(-inf, ")?,
+            Bound::Inclusive(lo) => write!(f, "[{lo}, ")?,
+            Bound::Exclusive(lo) => write!(f, "({lo}, ")?,
+        }
+        match self.upper {
+            Bound::Unbounded => write!(f, "inf)"),
+            Bound::Inclusive(hi) => write!(f, "{hi}]"),
+            Bound::Exclusive(hi) => write!(f, "{hi})"),
+        }
+    }
+}
+
+/// A parameter of a metric: its command-line name, default, domain and meaning.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ParameterSpec {
+    pub name: String,
+    pub default: f64,
+    pub domain: Domain,
+    pub meaning: String,
+}
+
+impl ParameterSpec {
+    /// A parameter specification.
+    pub fn new(name: &str, default: f64, domain: Domain, meaning: &str) -> Self {
+        ParameterSpec {
+            name: name.to_string(),
+            default,
+            domain,
+            meaning: meaning.to_string(),
+        }
+    }
+
+    /// Check a value against this parameter: finite and inside the domain.
+    pub fn check(&self, value: f64) -> Result<f64, MetricError> {
+        if !value.is_finite() {
+            return Err(MetricError::NonFinite {
+                name: self.name.clone(),
+                value,
+            });
+        }
+        if !self.domain.contains(value) {
+            return Err(MetricError::OutOfDomain {
+                name: self.name.clone(),
+                value,
+                domain: self.domain.to_string(),
+            });
+        }
+        Ok(value)
+    }
+}
+
+/// The symmetry a metric declares.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Symmetry {
+    /// ds² = −A dt² + B dr² + C dΩ².
+    Spherical,
+    /// Stationary and axisymmetric (the general case).
+    StationaryAxisymmetric,
+}
+
+impl fmt::Display for Symmetry {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(match self {
+            Symmetry::Spherical => "spherical",
+            Symmetry::StationaryAxisymmetric => "stationary axisymmetric",
+        })
+    }
+}
+
+/// What a metric says about itself.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct MetricInfo {
+    /// Command-line name, e.g. `kerr`.
+    pub name: String,
+    /// Human title, e.g. `Kerr`.
+    pub title: String,
+    /// Literature reference of the line element.
+    pub reference: String,
+    /// Parameters in a fixed order.
+    pub parameters: Vec<ParameterSpec>,
+}
+
+impl MetricInfo {
+    /// Metadata for a metric that did not describe itself.
+    pub fn unnamed(type_name: &str) -> Self {
+        let short = type_name.rsplit("::").next().unwrap_or(type_name);
+        MetricInfo {
+            name: short.to_string(),
+            title: short.to_string(),
+            reference: "not given".to_string(),
+            parameters: Vec::new(),
+        }
+    }
+
+    /// Comma-separated parameter names, or `none`.
+    pub fn parameter_names(&self) -> String {
+        if self.parameters.is_empty() {
+            "none".to_string()
+        } else {
+            self.parameters
+                .iter()
+                .map(|p| p.name.as_str())
+                .collect::<Vec<_>>()
+                .join(", ")
+        }
+    }
+
+    /// Resolve `name=value` assignments against the defaults, checking names, repeats,
+    /// finiteness and domains. Returns the values in parameter order.
+    pub fn resolve(&self, assignments: &[(String, f64)]) -> Result<Vec<f64>, MetricError> {
+        let mut values: Vec<f64> = self.parameters.iter().map(|p| p.default).collect();
+        let mut seen = vec![false; values.len()];
+        for (name, value) in assignments {
+            let index = self
+                .parameters
+                .iter()
+                .position(|p| &p.name == name)
+                .ok_or_else(|| MetricError::UnknownParameter {
+                    metric: self.name.clone(),
+                    name: name.clone(),
+                    known: self.parameter_names(),
+                })?;
+            if seen[index] {
+                return Err(MetricError::RepeatedParameter {
+                    metric: self.name.clone(),
+                    name: name.clone(),
+                });
+            }
+            seen[index] = true;
+            values[index] = self.parameters[index].check(*value)?;
+        }
+        Ok(values)
+    }
+}

@@ -1,0 +1,301 @@
+//! The object-safe view of a metric, [`Spacetime`], given to every [`Metric`] by a blanket impl.
+//!
+//! Solvers and the command line hold `Box<dyn Spacetime>`; every method here is derived from
+//! [`Metric::components`] by dual numbers, so no implementor writes a derivative.
+
+use super::{Metric, MetricComponents, MetricInfo, Symmetry};
+use nalgebra::{Matrix4, SVector};
+use num_dual::{hessian, Derivative, Dual2_64, DualSVec64, DualVec};
+use serde::Serialize;
+
+/// Christoffel symbols Γ^μ_{αβ}, indexed `[mu][alpha][beta]` in the order (t, r, θ, φ).
+pub type Christoffel = [[[f64; 4]; 4]; 4];
+
+/// Hamilton's equations' right-hand side for H(x, p) = ½ g^{μν}(x) p_μ p_ν.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PhaseGradient {
+    /// The value of H.
+    pub h: f64,
+    /// ∂H/∂x^μ in the order (t, r, θ, φ); the t and φ entries vanish by symmetry.
+    pub dh_dx: [f64; 4],
+    /// ∂H/∂p_μ = g^{μν} p_ν, i.e. dx^μ/dτ.
+    pub dh_dp: [f64; 4],
+}
+
+/// Values and first and second r-derivatives of the spherical functions A, B, C.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SphericalJet {
+    /// [A, A′, A″]
+    pub a: [f64; 3],
+    /// [B, B′, B″]
+    pub b: [f64; 3],
+    /// [C, C′, C″]
+    pub c: [f64; 3],
+}
+
+/// A separation potential with its gradient and Hessian in (x, λ, η), where x is r or θ.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PotentialJet {
+    pub value: f64,
+    pub gradient: [f64; 3],
+    pub hessian: [[f64; 3]; 3],
+}
+
+/// What kind of object a parameter point describes.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Classification {
+    /// A black hole with this outer horizon radius.
+    BlackHole { outer_horizon: f64 },
+    /// No horizon: a naked singularity, a wormhole or another horizonless object.
+    Horizonless,
+}
+
+/// Object-safe geometry of a stationary, axisymmetric spacetime, at points `(r, θ)`.
+///
+/// Implemented for every [`Metric`]; users never implement it.
+pub trait Spacetime: Send + Sync {
+    /// Name, reference and parameter specifications.
+    fn info(&self) -> MetricInfo;
+    /// Current parameter values, in the order of `info().parameters`.
+    fn parameter_values(&self) -> Vec<f64>;
+    /// The declared symmetry.
+    fn symmetry(&self) -> Symmetry;
+    /// Whether the metric declares θ → π − θ reflection symmetry.
+    fn is_equatorially_symmetric(&self) -> bool;
+    /// Whether the metric provides separation data (radial and polar potentials).
+    fn is_separable(&self) -> bool;
+    /// The five covariant components.
+    fn components_at(&self, r: f64, theta: f64) -> MetricComponents<f64>;
+    /// The covariant metric g_{μν} as a 4×4 matrix.
+    fn metric(&self, r: f64, theta: f64) -> Matrix4<f64>;
+    /// The inverse metric g^{μν}.
+    fn inverse_metric(&self, r: f64, theta: f64) -> Matrix4<f64>;
+    /// First derivatives ∂_λ g_{μν}, indexed `[lambda]`; the t and φ entries are zero.
+    fn metric_derivatives(&self, r: f64, theta: f64) -> [Matrix4<f64>; 4];
+    /// Second derivatives ∂_i ∂_j g_{μν} for i, j ∈ {r, θ}, indexed `[i][j]` (0 = r, 1 = θ).
+    fn metric_second_derivatives(&self, r: f64, theta: f64) -> [[Matrix4<f64>; 2]; 2];
+    /// Γ^μ_{αβ} = ½ g^{μν}(∂_α g_{νβ} + ∂_β g_{να} − ∂_ν g_{αβ}).
+    fn christoffel(&self, r: f64, theta: f64) -> Christoffel;
+    /// H = ½ g^{μν} p_μ p_ν for covariant momenta p = (p_t, p_r, p_θ, p_φ).
+    fn hamiltonian(&self, r: f64, theta: f64, p: &[f64; 4]) -> f64;
+    /// H with its exact gradient in x and p, from one dual-number evaluation.
+    fn hamiltonian_gradient(&self, r: f64, theta: f64, p: &[f64; 4]) -> PhaseGradient;
+    /// Hessian of H in (r, θ) at fixed p, `[[H_rr, H_rθ], [H_θr, H_θθ]]`.
+    fn hamiltonian_hessian(&self, r: f64, theta: f64, p: &[f64; 4]) -> [[f64; 2]; 2];
+    /// Outer horizon radius, if any.
+    fn outer_horizon(&self) -> Option<f64>;
+    /// Black hole (with its outer horizon) or horizonless.
+    fn classify(&self) -> Classification;
+    /// A, B, C and their first two r-derivatives, for a metric declared spherical.
+    fn spherical_jet(&self, r: f64) -> Option<SphericalJet>;
+    /// The radial potential R(r; λ, η) with gradient and Hessian in (r, λ, η).
+    fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
+    /// The polar potential Θ(θ; λ, η) with gradient and Hessian in (θ, λ, η).
+    fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
+}
+
+/// A dual number seeded with derivative direction `i` of two variables (0 = r, 1 = θ).
+#[inline(always)]
+fn seeded(x: f64, i: usize) -> DualSVec64<2> {
+    let mut e = SVector::<f64, 2>::zeros();
+    e[i] = 1.0;
+    DualVec::new(x, Derivative::some(e))
+}
+
+#[inline(always)]
+fn eps2(x: &DualSVec64<2>) -> [f64; 2] {
+    x.eps.0.map_or([0.0, 0.0], |m| [m[0], m[1]])
+}
+
+/// Components with their (r, θ) gradients from one evaluation.
+#[inline]
+fn components_with_gradient<M: Metric + ?Sized>(
+    m: &M,
+    r: f64,
+    theta: f64,
+) -> MetricComponents<DualSVec64<2>> {
+    m.components(seeded(r, 0), seeded(theta, 1))
+}
+
+/// Components as 4×4 matrices: value and ∂_r, ∂_θ.
+fn matrices_with_gradient<M: Metric + ?Sized>(m: &M, r: f64, theta: f64) -> [Matrix4<f64>; 3] {
+    let c = components_with_gradient(m, r, theta);
+    let value = c.map(|x| x.re).matrix();
+    let d_r = c.map(|x| eps2(x)[0]).matrix();
+    let d_theta = c.map(|x| eps2(x)[1]).matrix();
+    [value, d_r, d_theta]
+}
+
+fn jet_of(
+    f: impl Fn(SVector<num_dual::Dual2SVec64<3>, 3>) -> Option<num_dual::Dual2SVec64<3>>,
+    x: [f64; 3],
+) -> Option<PotentialJet> {
+    let (value, grad, hess) = hessian(f, &SVector::from(x))?;
+    Some(PotentialJet {
+        value,
+        gradient: [grad[0], grad[1], grad[2]],
+        hessian: [
+            [hess[(0, 0)], hess[(0, 1)], hess[(0, 2)]],
+            [hess[(1, 0)], hess[(1, 1)], hess[(1, 2)]],
+            [hess[(2, 0)], hess[(2, 1)], hess[(2, 2)]],
+        ],
+    })
+}
+
+impl<M: Metric> Spacetime for M {
+    fn info(&self) -> MetricInfo {
+        Metric::info(self)
+    }
+
+    fn parameter_values(&self) -> Vec<f64> {
+        Metric::parameter_values(self)
+    }
+
+    fn symmetry(&self) -> Symmetry {
+        if self.spherical_functions(1.0f64).is_some() {
+            Symmetry::Spherical
+        } else {
+            Symmetry::StationaryAxisymmetric
+        }
+    }
+
+    fn is_equatorially_symmetric(&self) -> bool {
+        self.equatorially_symmetric()
+    }
+
+    fn is_separable(&self) -> bool {
+        self.radial_potential(3.0f64, 1.0, 1.0).is_some()
+            && self.polar_potential(1.0f64, 1.0, 1.0).is_some()
+    }
+
+    fn components_at(&self, r: f64, theta: f64) -> MetricComponents<f64> {
+        self.components(r, theta)
+    }
+
+    fn metric(&self, r: f64, theta: f64) -> Matrix4<f64> {
+        self.components(r, theta).matrix()
+    }
+
+    fn inverse_metric(&self, r: f64, theta: f64) -> Matrix4<f64> {
+        self.components(r, theta).inverse().matrix()
+    }
+
+    fn metric_derivatives(&self, r: f64, theta: f64) -> [Matrix4<f64>; 4] {
+        let [_, d_r, d_theta] = matrices_with_gradient(self, r, theta);
+        [Matrix4::zeros(), d_r, d_theta, Matrix4::zeros()]
+    }
+
+    fn metric_second_derivatives(&self, r: f64, theta: f64) -> [[Matrix4<f64>; 2]; 2] {
+        let mut out = [[Matrix4::zeros(); 2]; 2];
+        // One hyper-dual-style evaluation per component: the Hessian of each g_{μν} in (r, θ).
+        let pick: [fn(&MetricComponents<num_dual::Dual2SVec64<2>>) -> num_dual::Dual2SVec64<2>; 5] = [
+            |c| c.g_tt,
+            |c| c.g_tphi,
+            |c| c.g_rr,
+            |c| c.g_thth,
+            |c| c.g_phph,
+        ];
+        let slots = [(0, 0), (0, 3), (1, 1), (2, 2), (3, 3)];
+        for (f, (mu, nu)) in pick.iter().zip(slots) {
+            let (_, _, h) = hessian(
+                |x: SVector<num_dual::Dual2SVec64<2>, 2>| f(&self.components(x[0], x[1])),
+                &SVector::from([r, theta]),
+            );
+            for i in 0..2 {
+                for j in 0..2 {
+                    out[i][j][(mu, nu)] = h[(i, j)];
+                    out[i][j][(nu, mu)] = h[(i, j)];
+                }
+            }
+        }
+        out
+    }
+
+    fn christoffel(&self, r: f64, theta: f64) -> Christoffel {
+        let [g, d_r, d_theta] = matrices_with_gradient(self, r, theta);
+        let g_inv = self.components(r, theta).inverse().matrix();
+        let dg = [Matrix4::zeros(), d_r, d_theta, Matrix4::zeros()];
+        let _ = g;
+        let mut gamma = [[[0.0; 4]; 4]; 4];
+        for (mu, gamma_mu) in gamma.iter_mut().enumerate() {
+            for alpha in 0..4 {
+                for beta in alpha..4 {
+                    let mut sum = 0.0;
+                    for nu in 0..4 {
+                        let inv = g_inv[(mu, nu)];
+                        if inv != 0.0 {
+                            sum += inv
+                                * (dg[alpha][(nu, beta)] + dg[beta][(nu, alpha)]
+                                    - dg[nu][(alpha, beta)]);
+                        }
+                    }
+                    gamma_mu[alpha][beta] = 0.5 * sum;
+                    gamma_mu[beta][alpha] = 0.5 * sum;
+                }
+            }
+        }
+        gamma
+    }
+
+    fn hamiltonian(&self, r: f64, theta: f64, p: &[f64; 4]) -> f64 {
+        self.components(r, theta).inverse().hamiltonian(p)
+    }
+
+    #[inline]
+    fn hamiltonian_gradient(&self, r: f64, theta: f64, p: &[f64; 4]) -> PhaseGradient {
+        let inv = components_with_gradient(self, r, theta).inverse();
+        let h = inv.hamiltonian(p);
+        let [dh_dr, dh_dtheta] = eps2(&h);
+        let [pt, pr, pth, pph] = *p;
+        PhaseGradient {
+            h: h.re,
+            dh_dx: [0.0, dh_dr, dh_dtheta, 0.0],
+            dh_dp: [
+                inv.g_tt.re * pt + inv.g_tphi.re * pph,
+                inv.g_rr.re * pr,
+                inv.g_thth.re * pth,
+                inv.g_tphi.re * pt + inv.g_phph.re * pph,
+            ],
+        }
+    }
+
+    fn hamiltonian_hessian(&self, r: f64, theta: f64, p: &[f64; 4]) -> [[f64; 2]; 2] {
+        let (_, _, h) = hessian(
+            |x: SVector<num_dual::Dual2SVec64<2>, 2>| {
+                self.components(x[0], x[1]).inverse().hamiltonian(p)
+            },
+            &SVector::from([r, theta]),
+        );
+        [[h[(0, 0)], h[(0, 1)]], [h[(1, 0)], h[(1, 1)]]]
+    }
+
+    fn outer_horizon(&self) -> Option<f64> {
+        Metric::outer_horizon(self)
+    }
+
+    fn classify(&self) -> Classification {
+        match Metric::outer_horizon(self) {
+            Some(outer_horizon) => Classification::BlackHole { outer_horizon },
+            None => Classification::Horizonless,
+        }
+    }
+
+    fn spherical_jet(&self, r: f64) -> Option<SphericalJet> {
+        let f = self.spherical_functions(Dual2_64::from_re(r).derivative())?;
+        let jet = |x: Dual2_64| [x.re, x.v1, x.v2];
+        Some(SphericalJet {
+            a: jet(f.a),
+            b: jet(f.b),
+            c: jet(f.c),
+        })
+    }
+
+    fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
+        jet_of(|x| self.radial_potential(x[0], x[1], x[2]), [r, lambda, eta])
+    }
+
+    fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
+        jet_of(|x| self.polar_potential(x[0], x[1], x[2]), [theta, lambda, eta])
+    }
+}
