@@ -27,6 +27,7 @@ pub mod metric;
 pub mod metrics;
 pub mod numerics;
 pub mod scalar;
+pub mod shadow;
 
 /// The names most programs need.
 pub mod prelude {

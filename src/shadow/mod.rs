@@ -1,0 +1,167 @@
+//! Critical curves ("shadows"): three solvers behind one entry point.
+//!
+//! * [`spherical`]: exact, for metrics that declare spherical symmetry: the photon sphere is
+//!   the minimum of C/A outside the horizon and b_c = √(C/A) there (Synge 1966).
+//! * [`separable`]: exact up to root finding, for metrics with separation data: spherical
+//!   photon orbits R = R′ = 0 mapped to the screen (Bardeen 1973).
+//! * [`raytrace`]: any metric: backward null geodesics and bisection on capture.
+//!
+//! Screen convention (Bardeen 1973): α = −λ / sin θ_o, β = ±√(η + a² cos²θ_o − λ² cot²θ_o)
+//! for a distant observer at inclination θ_o, in units of M. See docs/conventions.md.
+
+pub mod curve;
+pub mod observer;
+pub mod raytrace;
+pub mod separable;
+pub mod spherical;
+
+pub use curve::CriticalCurve;
+pub use observer::Observer;
+
+use crate::metric::{Spacetime, Symmetry};
+use serde::Serialize;
+
+/// Which solver to use.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SolverChoice {
+    /// The most exact solver that applies: spherical, then separable, then raytrace.
+    Auto,
+    Spherical,
+    Separable,
+    Raytrace,
+}
+
+/// The solver that produced a result.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SolverKind {
+    Spherical,
+    Separable,
+    Raytrace,
+}
+
+impl SolverKind {
+    /// Lower-case name as on the command line.
+    pub fn name(&self) -> &'static str {
+        match self {
+            SolverKind::Spherical => "spherical",
+            SolverKind::Separable => "separable",
+            SolverKind::Raytrace => "raytrace",
+        }
+    }
+}
+
+/// Settings shared by the solvers.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct ShadowSettings {
+    /// Number of curve points, uniform in screen polar angle.
+    pub points: usize,
+    /// Boundary tolerance in M (raytrace bisection; separable root finding).
+    pub tolerance: f64,
+    /// Solver choice.
+    pub solver: SolverChoice,
+}
+
+impl Default for ShadowSettings {
+    fn default() -> Self {
+        ShadowSettings {
+            points: 256,
+            tolerance: 1e-8,
+            solver: SolverChoice::Auto,
+        }
+    }
+}
+
+/// Errors that make a shadow request meaningless (as opposed to "no shadow", a result).
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ShadowError {
+    /// The requested solver does not apply to this metric.
+    #[error("solver '{solver}' does not apply to metric '{metric}': {why}")]
+    SolverNotApplicable {
+        solver: &'static str,
+        metric: String,
+        why: String,
+    },
+    /// A bad observer or setting.
+    #[error("{0}")]
+    BadRequest(String),
+    /// A numerical step failed to converge; the result is not returned.
+    #[error("{0}")]
+    NotConverged(String),
+}
+
+/// Pick the solver `auto` would use for this metric.
+pub fn auto_solver(spacetime: &dyn Spacetime) -> SolverKind {
+    if spacetime.symmetry() == Symmetry::Spherical {
+        SolverKind::Spherical
+    } else if spacetime.is_separable() {
+        SolverKind::Separable
+    } else {
+        SolverKind::Raytrace
+    }
+}
+
+/// Whether the metric casts a shadow for this observer.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(tag = "status", rename_all = "snake_case")]
+pub enum ShadowStatus {
+    /// A closed critical curve was found.
+    Shadow,
+    /// No critical curve, with the reason (e.g. no photon sphere).
+    NoShadow { reason: String },
+}
+
+/// A photon sphere of a spherically symmetric metric: an extremum of C/A.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct PhotonSphere {
+    /// Radius (in the metric's r coordinate).
+    pub radius: f64,
+    /// Impact parameter √(C/A) there.
+    pub impact_parameter: f64,
+    /// Unstable orbits (a minimum of C/A) bound capture; stable ones (a maximum) do not.
+    pub unstable: bool,
+}
+
+/// Photon-ring exponents of the orbit(s) forming the curve.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RingExponents {
+    /// Lyapunov exponent λ in coordinate time (Cardoso et al. 2009), for spherical metrics.
+    pub lyapunov: Option<f64>,
+    /// Demagnification exponent γ per half orbit (Johnson et al. 2020); one value for
+    /// spherical metrics, and min and max along the curve for separable ones.
+    pub gamma_min: f64,
+    pub gamma_max: f64,
+}
+
+/// Per-run counts and timing.
+#[derive(Debug, Clone, Default, PartialEq, Serialize)]
+pub struct Diagnostics {
+    /// Geodesics integrated (raytrace only).
+    pub rays_traced: usize,
+    /// Rays that failed (step-size underflow, non-finite state, step limit).
+    pub failed_rays: usize,
+    /// Whether every radial line from the curve's origin crosses the boundary once.
+    pub star_shaped: bool,
+    /// For a curve that is not star-shaped: (screen polar angle, every crossing radius).
+    pub extra_crossings: Vec<(f64, Vec<f64>)>,
+    /// Integrator steps in total (raytrace only).
+    pub integrator_steps: usize,
+    /// Wall-clock seconds.
+    pub wall_seconds: f64,
+}
+
+/// What a solver returns.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ShadowResult {
+    pub solver: SolverKind,
+    pub status: ShadowStatus,
+    /// The critical curve, when there is a shadow.
+    pub curve: Option<CriticalCurve>,
+    /// Min and max radius of the bound photon orbits that form the curve.
+    pub photon_orbit_radii: Option<[f64; 2]>,
+    /// Every photon sphere found (spherical solver only).
+    pub photon_spheres: Vec<PhotonSphere>,
+    pub exponents: Option<RingExponents>,
+    pub diagnostics: Diagnostics,
+}
