@@ -41,3 +41,7 @@ pub mod prelude {
     };
     pub use crate::scalar::DualScalar;
 }
+
+/// The project's conventions (docs/conventions.md); its Rust example is compiled as a doctest.
+#[doc = include_str!("../docs/conventions.md")]
+pub mod conventions {}

@@ -1,0 +1,78 @@
+//! Shared argument types and the command-line error.
+
+use std::fmt;
+use umbral::error::MetricError;
+use umbral::metric::Spacetime;
+use umbral::metrics::build_metric;
+
+/// An error to print on one line, with its exit code.
+#[derive(Debug)]
+pub struct CliError {
+    message: String,
+    code: u8,
+}
+
+impl CliError {
+    /// Bad input: exit code 2.
+    pub fn usage(message: impl Into<String>) -> Self {
+        CliError {
+            message: message.into().replace('\n', " "),
+            code: 2,
+        }
+    }
+
+    /// The process exit code.
+    pub fn exit_code(&self) -> u8 {
+        self.code
+    }
+}
+
+impl fmt::Display for CliError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+impl From<MetricError> for CliError {
+    fn from(e: MetricError) -> Self {
+        CliError::usage(e.to_string())
+    }
+}
+
+/// Read a finite number, naming what it is for in the error.
+pub fn parse_finite(text: &str, what: &str) -> Result<f64, CliError> {
+    let value: f64 = text.trim().parse().map_err(|_| MetricError::BadNumber {
+        text: text.to_string(),
+        expected: format!("a number for {what}"),
+    })?;
+    if !value.is_finite() {
+        return Err(CliError::usage(format!(
+            "{what} must be a finite number, got '{text}'"
+        )));
+    }
+    Ok(value)
+}
+
+/// Read `NAME=VALUE` assignments (one value each).
+pub fn parse_assignments(items: &[String]) -> Result<Vec<(String, f64)>, CliError> {
+    items
+        .iter()
+        .map(|item| {
+            let (name, value) = item.split_once('=').ok_or_else(|| {
+                CliError::usage(format!("cannot read '--set {item}': expected NAME=VALUE"))
+            })?;
+            let name = name.trim().to_string();
+            let value = value.trim().parse::<f64>().map_err(|_| MetricError::BadNumber {
+                text: value.to_string(),
+                expected: format!("a number for parameter '{name}'"),
+            })?;
+            Ok((name, value))
+        })
+        .collect()
+}
+
+/// Build the metric named on the command line with its `--set` assignments.
+pub fn metric_from_args(name: &str, sets: &[String]) -> Result<Box<dyn Spacetime>, CliError> {
+    let assignments = parse_assignments(sets)?;
+    Ok(build_metric(name, &assignments)?)
+}

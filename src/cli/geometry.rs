@@ -1,0 +1,145 @@
+//! `umbral geometry`: the metric, its inverse and the Christoffel symbols at one point.
+
+use super::args::{metric_from_args, parse_finite};
+use super::CliError;
+use clap::Args;
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::f64::consts::PI;
+use umbral::metric::{Classification, Spacetime};
+
+#[derive(Debug, Args)]
+pub struct GeometryArgs {
+    /// Metric name (see `umbral metrics`).
+    #[arg(long)]
+    metric: String,
+    /// Parameter assignment NAME=VALUE (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    set: Vec<String>,
+    /// Radius r in units of M.
+    #[arg(long, allow_hyphen_values = true)]
+    r: String,
+    /// Polar angle theta in radians (strictly between 0 and pi).
+    #[arg(long, allow_hyphen_values = true)]
+    theta: String,
+    /// Print JSON instead of tables.
+    #[arg(long)]
+    json: bool,
+}
+
+#[derive(Serialize)]
+struct Point {
+    r: f64,
+    theta: f64,
+}
+
+#[derive(Serialize)]
+struct GeometryReport {
+    metric: String,
+    parameters: BTreeMap<String, f64>,
+    point: Point,
+    g: Vec<Vec<f64>>,
+    g_inverse: Vec<Vec<f64>>,
+    christoffel: Vec<Vec<Vec<f64>>>,
+    horizon_radius: Option<f64>,
+}
+
+/// Evaluate everything at the point, refusing points where the metric is singular.
+fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, CliError> {
+    if !(theta > 0.0 && theta < PI) {
+        return Err(CliError::usage(format!(
+            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {theta}"
+        )));
+    }
+    let info = metric.info();
+    let g = metric.metric(r, theta);
+    let g_inv = metric.inverse_metric(r, theta);
+    let gamma = metric.christoffel(r, theta);
+    let finite = g.iter().chain(g_inv.iter()).all(|x| x.is_finite())
+        && gamma.iter().flatten().flatten().all(|x| x.is_finite());
+    if !finite {
+        return Err(umbral::error::MetricError::SingularPoint { r, theta }.into());
+    }
+    let rows = |m: &nalgebra::Matrix4<f64>| -> Vec<Vec<f64>> {
+        (0..4).map(|i| (0..4).map(|j| m[(i, j)]).collect()).collect()
+    };
+    Ok(GeometryReport {
+        metric: info.name.clone(),
+        parameters: info
+            .parameters
+            .iter()
+            .map(|p| p.name.clone())
+            .zip(metric.parameter_values())
+            .collect(),
+        point: Point { r, theta },
+        g: rows(&g),
+        g_inverse: rows(&g_inv),
+        christoffel: gamma
+            .iter()
+            .map(|m| m.iter().map(|row| row.to_vec()).collect())
+            .collect(),
+        horizon_radius: match metric.classify() {
+            Classification::BlackHole { outer_horizon } => Some(outer_horizon),
+            Classification::Horizonless => None,
+        },
+    })
+}
+
+const NAMES: [&str; 4] = ["t", "r", "theta", "phi"];
+
+fn print_matrix(title: &str, m: &[Vec<f64>]) {
+    println!("{title}");
+    println!(
+        "{:>8}{}",
+        "",
+        NAMES.iter().map(|n| format!("{n:>24}")).collect::<String>()
+    );
+    for (i, row) in m.iter().enumerate() {
+        println!(
+            "{:>8}{}",
+            NAMES[i],
+            row.iter().map(|x| format!("{x:>24.16e}")).collect::<String>()
+        );
+    }
+}
+
+pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
+    let r = parse_finite(&args.r, "--r")?;
+    let theta = parse_finite(&args.theta, "--theta")?;
+    let metric = metric_from_args(&args.metric, &args.set)?;
+    let rep = report(metric.as_ref(), r, theta)?;
+    if args.json {
+        println!("{}", serde_json::to_string_pretty(&rep).expect("serialisable"));
+        return Ok(());
+    }
+    let params: Vec<String> = rep
+        .parameters
+        .iter()
+        .map(|(k, v)| format!("{k} = {v}"))
+        .collect();
+    println!(
+        "metric {} ({}) at r = {r} M, theta = {theta} rad",
+        rep.metric,
+        if params.is_empty() { "no parameters".to_string() } else { params.join(", ") }
+    );
+    match rep.horizon_radius {
+        Some(h) => println!("outer horizon: r = {h:.15} M"),
+        None => println!("outer horizon: none (horizonless)"),
+    }
+    print_matrix("g_{mu nu}", &rep.g);
+    print_matrix("g^{mu nu}", &rep.g_inverse);
+    println!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)");
+    for (mu, m) in rep.christoffel.iter().enumerate() {
+        for (alpha, row) in m.iter().enumerate() {
+            for (beta, x) in row.iter().enumerate().skip(alpha) {
+                if *x != 0.0 {
+                    println!(
+                        "  Gamma^{}_{{{} {}}} = {x:.16e}",
+                        NAMES[mu], NAMES[alpha], NAMES[beta]
+                    );
+                }
+            }
+        }
+    }
+    Ok(())
+}

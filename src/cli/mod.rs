@@ -1,0 +1,62 @@
+//! Command-line front end: argument parsing (clap) and the subcommands.
+
+mod args;
+mod demo;
+mod geometry;
+mod metrics;
+
+use clap::{Parser, Subcommand};
+use std::ffi::OsString;
+use std::process::ExitCode;
+
+pub use args::CliError;
+
+/// Black-hole shadows for tests of general relativity.
+#[derive(Debug, Parser)]
+#[command(name = "umbral", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// List the built-in metrics with their parameters, symmetry and reference.
+    Metrics(metrics::MetricsArgs),
+    /// Metric, inverse metric, Christoffel symbols and horizon at a point.
+    Geometry(geometry::GeometryArgs),
+    /// Run the whole chain on the built-in invented scenario.
+    Demo(demo::DemoArgs),
+}
+
+/// Parse the arguments and run a subcommand.
+pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliError> {
+    let cli = match Cli::try_parse_from(args) {
+        Ok(cli) => cli,
+        Err(e) => {
+            use clap::error::ErrorKind;
+            if matches!(e.kind(), ErrorKind::DisplayHelp | ErrorKind::DisplayVersion) {
+                print!("{e}");
+                return Ok(ExitCode::SUCCESS);
+            }
+            if e.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand {
+                return Err(CliError::usage("a subcommand is required (try --help)"));
+            }
+            // clap's first paragraph carries the message; the rest is usage boilerplate.
+            let text = e.to_string();
+            let message: Vec<&str> = text
+                .lines()
+                .take_while(|l| !l.trim().is_empty())
+                .map(str::trim)
+                .collect();
+            let message = message.join(" ");
+            return Err(CliError::usage(message.trim_start_matches("error: ")));
+        }
+    };
+    match cli.command {
+        Command::Metrics(a) => metrics::run(&a),
+        Command::Geometry(a) => geometry::run(&a),
+        Command::Demo(a) => demo::run(&a),
+    }?;
+    Ok(ExitCode::SUCCESS)
+}
