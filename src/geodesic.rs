@@ -22,7 +22,13 @@ pub fn hamilton_rhs(spacetime: &dyn Spacetime, y: &PhaseState) -> PhaseState {
     let p = [y[4], y[5], y[6], y[7]];
     let g = spacetime.hamiltonian_gradient(y[1], y[2], &p);
     [
-        g.dh_dp[0], g.dh_dp[1], g.dh_dp[2], g.dh_dp[3], -g.dh_dx[0], -g.dh_dx[1], -g.dh_dx[2],
+        g.dh_dp[0],
+        g.dh_dp[1],
+        g.dh_dp[2],
+        g.dh_dp[3],
+        -g.dh_dx[0],
+        -g.dh_dx[1],
+        -g.dh_dx[2],
         -g.dh_dx[3],
     ]
 }
@@ -187,7 +193,11 @@ pub fn integrate(
         let k2 = f(&combine(&y, hs, &[(A21, &k1)]));
         let k3 = f(&combine(&y, hs, &[(A31, &k1), (A32, &k2)]));
         let k4 = f(&combine(&y, hs, &[(A41, &k1), (A42, &k2), (A43, &k3)]));
-        let k5 = f(&combine(&y, hs, &[(A51, &k1), (A52, &k2), (A53, &k3), (A54, &k4)]));
+        let k5 = f(&combine(
+            &y,
+            hs,
+            &[(A51, &k1), (A52, &k2), (A53, &k3), (A54, &k4)],
+        ));
         let k6 = f(&combine(
             &y,
             hs,
@@ -201,8 +211,8 @@ pub fn integrate(
         let k7 = f(&y_new);
         let mut err2 = 0.0;
         for i in 0..8 {
-            let e = hs
-                * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
+            let e =
+                hs * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
             let scale = settings.atol + settings.rtol * y[i].abs().max(y_new[i].abs());
             err2 += (e / scale) * (e / scale);
         }

@@ -34,7 +34,7 @@ pub mod prelude {
     pub use crate::error::MetricError;
     pub use crate::metric::{
         Bound, Classification, Domain, Metric, MetricComponents, MetricInfo, ParameterSpec,
-        SphericalMetric, Spacetime,
+        Spacetime, SphericalMetric,
     };
     pub use crate::metrics::{
         build_metric, builtin_metrics, Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild,

@@ -38,8 +38,16 @@ impl Convergency<f64> for FullPrecision {
 /// let r = umbral::numerics::brent_root(|x| x * x - 2.0, 0.0, 2.0, 0.0).unwrap();
 /// assert!((r - 2f64.sqrt()).abs() < 1e-15);
 /// ```
-pub fn brent_root<F: FnMut(f64) -> f64>(f: F, lo: f64, hi: f64, xtol: f64) -> Result<f64, RootError> {
-    let mut conv = FullPrecision { xtol, max_iter: 200 };
+pub fn brent_root<F: FnMut(f64) -> f64>(
+    f: F,
+    lo: f64,
+    hi: f64,
+    xtol: f64,
+) -> Result<f64, RootError> {
+    let mut conv = FullPrecision {
+        xtol,
+        max_iter: 200,
+    };
     find_root_brent(lo, hi, f, &mut conv).map_err(|e| match e {
         roots::SearchError::NoBracketing => RootError::NotBracketed { lo, hi },
         _ => RootError::NoConvergence { lo, hi },

@@ -55,24 +55,61 @@ pub fn parse_finite(text: &str, what: &str) -> Result<f64, CliError> {
 
 /// Read `NAME=VALUE` assignments (one value each).
 pub fn parse_assignments(items: &[String]) -> Result<Vec<(String, f64)>, CliError> {
-    items
-        .iter()
-        .map(|item| {
-            let (name, value) = item.split_once('=').ok_or_else(|| {
-                CliError::usage(format!("cannot read '--set {item}': expected NAME=VALUE"))
-            })?;
-            let name = name.trim().to_string();
-            let value = value.trim().parse::<f64>().map_err(|_| MetricError::BadNumber {
-                text: value.to_string(),
-                expected: format!("a number for parameter '{name}'"),
-            })?;
-            Ok((name, value))
-        })
-        .collect()
+    let mut family = parse_set_family(items)?;
+    if family.len() != 1 {
+        return Err(CliError::usage(
+            "this command takes one value per parameter, not a comma list",
+        ));
+    }
+    Ok(family.remove(0))
 }
 
 /// Build the metric named on the command line with its `--set` assignments.
 pub fn metric_from_args(name: &str, sets: &[String]) -> Result<Box<dyn Spacetime>, CliError> {
     let assignments = parse_assignments(sets)?;
     Ok(build_metric(name, &assignments)?)
+}
+
+/// Read `--set` items where at most one parameter carries a comma list of values, giving one
+/// assignment list per family member.
+pub fn parse_set_family(items: &[String]) -> Result<Vec<Vec<(String, f64)>>, CliError> {
+    let mut fixed = Vec::new();
+    let mut varied: Option<(String, Vec<f64>)> = None;
+    for item in items {
+        let (name, values) = item.split_once('=').ok_or_else(|| {
+            CliError::usage(format!("cannot read '--set {item}': expected NAME=VALUE"))
+        })?;
+        let name = name.trim().to_string();
+        let values: Vec<f64> = values
+            .split(',')
+            .map(|v| {
+                v.trim().parse::<f64>().map_err(|_| {
+                    CliError::from(MetricError::BadNumber {
+                        text: v.to_string(),
+                        expected: format!("a number for parameter '{name}'"),
+                    })
+                })
+            })
+            .collect::<Result<_, _>>()?;
+        if values.len() == 1 {
+            fixed.push((name, values[0]));
+        } else if varied.is_some() {
+            return Err(CliError::usage(
+                "only one parameter may take a comma list of values",
+            ));
+        } else {
+            varied = Some((name, values));
+        }
+    }
+    Ok(match varied {
+        None => vec![fixed],
+        Some((name, values)) => values
+            .into_iter()
+            .map(|v| {
+                let mut member = fixed.clone();
+                member.push((name.clone(), v));
+                member
+            })
+            .collect(),
+    })
 }

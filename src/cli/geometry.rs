@@ -61,7 +61,9 @@ fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, 
         return Err(umbral::error::MetricError::SingularPoint { r, theta }.into());
     }
     let rows = |m: &nalgebra::Matrix4<f64>| -> Vec<Vec<f64>> {
-        (0..4).map(|i| (0..4).map(|j| m[(i, j)]).collect()).collect()
+        (0..4)
+            .map(|i| (0..4).map(|j| m[(i, j)]).collect())
+            .collect()
     };
     Ok(GeometryReport {
         metric: info.name.clone(),
@@ -98,7 +100,9 @@ fn print_matrix(title: &str, m: &[Vec<f64>]) {
         println!(
             "{:>8}{}",
             NAMES[i],
-            row.iter().map(|x| format!("{x:>24.16e}")).collect::<String>()
+            row.iter()
+                .map(|x| format!("{x:>24.16e}"))
+                .collect::<String>()
         );
     }
 }
@@ -109,7 +113,10 @@ pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
     let metric = metric_from_args(&args.metric, &args.set)?;
     let rep = report(metric.as_ref(), r, theta)?;
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&rep).expect("serialisable"));
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&rep).expect("serialisable")
+        );
         return Ok(());
     }
     let params: Vec<String> = rep
@@ -120,7 +127,11 @@ pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
     println!(
         "metric {} ({}) at r = {r} M, theta = {theta} rad",
         rep.metric,
-        if params.is_empty() { "no parameters".to_string() } else { params.join(", ") }
+        if params.is_empty() {
+            "no parameters".to_string()
+        } else {
+            params.join(", ")
+        }
     );
     match rep.horizon_radius {
         Some(h) => println!("outer horizon: r = {h:.15} M"),

@@ -65,7 +65,10 @@ fn rows() -> Result<Vec<MetricRow>, CliError> {
 pub fn run(args: &MetricsArgs) -> Result<(), CliError> {
     let rows = rows()?;
     if args.json {
-        println!("{}", serde_json::to_string_pretty(&rows).expect("serialisable"));
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&rows).expect("serialisable")
+        );
         return Ok(());
     }
     for m in &rows {

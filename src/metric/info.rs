@@ -212,3 +212,35 @@ impl MetricInfo {
         Ok(values)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn out_of_domain_and_non_finite_values_name_the_parameter() {
+        let info = MetricInfo {
+            name: "toy".into(),
+            title: "Toy".into(),
+            reference: "none".into(),
+            parameters: vec![ParameterSpec::new(
+                "g",
+                0.2,
+                Domain::closed(0.0, 0.7698),
+                "charge",
+            )],
+        };
+        let err = info.resolve(&[("g".into(), 0.9)]).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "parameter 'g' = 0.9 is outside its domain [0, 0.7698]"
+        );
+        let err = info.resolve(&[("g".into(), f64::NAN)]).unwrap_err();
+        assert!(err.to_string().contains("must be a finite number"));
+        assert_eq!(info.resolve(&[]).unwrap(), vec![0.2]);
+        assert!(
+            Domain::greater_than(0.5).contains(0.6) && !Domain::greater_than(0.5).contains(0.5)
+        );
+        assert_eq!(Domain::REAL.to_string(), "(-inf, inf)");
+    }
+}

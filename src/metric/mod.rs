@@ -18,7 +18,7 @@ pub use components::{InverseComponents, MetricComponents};
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
 pub use spacetime::{
-    Christoffel, Classification, PhaseGradient, PotentialJet, SphericalJet, Spacetime,
+    Christoffel, Classification, PhaseGradient, PotentialJet, Spacetime, SphericalJet,
 };
 pub use spherical::{SphericalFunctions, SphericalMetric};
 

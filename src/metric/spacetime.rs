@@ -292,10 +292,16 @@ impl<M: Metric> Spacetime for M {
     }
 
     fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
-        jet_of(|x| self.radial_potential(x[0], x[1], x[2]), [r, lambda, eta])
+        jet_of(
+            |x| self.radial_potential(x[0], x[1], x[2]),
+            [r, lambda, eta],
+        )
     }
 
     fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
-        jet_of(|x| self.polar_potential(x[0], x[1], x[2]), [theta, lambda, eta])
+        jet_of(
+            |x| self.polar_potential(x[0], x[1], x[2]),
+            [theta, lambda, eta],
+        )
     }
 }

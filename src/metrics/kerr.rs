@@ -34,8 +34,9 @@ impl Kerr {
         MetricInfo {
             name: "kerr".into(),
             title: "Kerr".into(),
-            reference: "Kerr 1963, Phys. Rev. Lett. 11, 237; Boyer & Lindquist 1967, J. Math. Phys. 8, 265"
-                .into(),
+            reference:
+                "Kerr 1963, Phys. Rev. Lett. 11, 237; Boyer & Lindquist 1967, J. Math. Phys. 8, 265"
+                    .into(),
             parameters: vec![ParameterSpec::new(
                 "a",
                 0.0,
@@ -61,7 +62,8 @@ impl Kerr {
         let big_p = (r * r + a * a) * e - a * l;
         let t = l - a * e * s2;
         let k = -big_p * big_p / delta + t * t / s2 + delta * pr * pr + pth * pth;
-        let dk_dr = -4.0 * r * e * big_p / delta + big_p * big_p * d_delta / (delta * delta)
+        let dk_dr = -4.0 * r * e * big_p / delta
+            + big_p * big_p * d_delta / (delta * delta)
             + d_delta * pr * pr;
         let dt_dth = -2.0 * a * e * s * c;
         let dk_dth = 2.0 * t * dt_dth / s2 - 2.0 * t * t * c / (s2 * s);

@@ -71,8 +71,9 @@ impl KerrNewman {
         MetricInfo {
             name: "kerr-newman".into(),
             title: "Kerr-Newman".into(),
-            reference: "Newman, Couch, Chinnapared, Exton, Prakash & Torrence 1965, J. Math. Phys. 6, 918"
-                .into(),
+            reference:
+                "Newman, Couch, Chinnapared, Exton, Prakash & Torrence 1965, J. Math. Phys. 6, 918"
+                    .into(),
             parameters: vec![
                 ParameterSpec::new("a", 0.0, Domain::REAL, "spin a = J/M^2"),
                 ParameterSpec::new(

@@ -1,0 +1,175 @@
+//! The command line as a user meets it: output keys, exit codes and one-line errors.
+
+use serde_json::Value;
+use std::process::{Command, Output};
+
+fn umbral(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_umbral"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+/// Exit code 2 and exactly one line on stderr that contains `needle`.
+fn assert_one_line_error(args: &[&str], needle: &str) {
+    let out = umbral(args);
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{args:?}: {stderr}");
+    assert_eq!(stderr.lines().count(), 1, "{args:?}: {stderr}");
+    assert!(stderr.contains(needle), "{args:?}: {stderr}");
+    assert!(out.stdout.is_empty(), "{args:?} printed to stdout");
+}
+
+#[test]
+fn metrics_json_lists_the_core_metrics_with_their_parameters() {
+    let out = umbral(&["metrics", "--json"]);
+    assert!(out.status.success());
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let names: Vec<&str> = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| m["name"].as_str().unwrap())
+        .collect();
+    for n in ["schwarzschild", "kerr", "reissner-nordstrom", "kerr-newman"] {
+        assert!(names.contains(&n), "{n} missing from {names:?}");
+    }
+    let kn = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["name"] == "kerr-newman")
+        .unwrap();
+    let params: Vec<&str> = kn["parameters"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["name"].as_str().unwrap())
+        .collect();
+    assert_eq!(params, ["a", "q"]);
+    for p in kn["parameters"].as_array().unwrap() {
+        for key in ["default", "domain", "meaning"] {
+            assert!(!p[key].is_null(), "parameter {p} lacks {key}");
+        }
+    }
+    assert_eq!(kn["symmetry"], "stationary_axisymmetric");
+    let rn = v
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|m| m["name"] == "reissner-nordstrom")
+        .unwrap();
+    assert_eq!(rn["symmetry"], "spherical");
+    assert!(rn["reference"].as_str().unwrap().contains("Reissner"));
+}
+
+#[test]
+fn geometry_json_has_the_documented_keys_and_values() {
+    let out = umbral(&[
+        "geometry", "--metric", "kerr", "--set", "a=0.6", "--r", "6", "--theta", "1.2", "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["metric"], "kerr");
+    assert_eq!(v["parameters"]["a"], 0.6);
+    assert_eq!(v["point"]["r"], 6.0);
+    assert_eq!(v["point"]["theta"], 1.2);
+    // r₊ = 1 + √(1 − a²) = 1.8 (Boyer & Lindquist 1967).
+    assert!((v["horizon_radius"].as_f64().unwrap() - 1.8).abs() < 1e-14);
+    let g = v["g"].as_array().unwrap();
+    assert_eq!(g.len(), 4);
+    // g_θθ = Σ = r² + a² cos²θ.
+    let sigma = 36.0 + 0.36 * 1.2f64.cos().powi(2);
+    assert!((g[2][2].as_f64().unwrap() - sigma).abs() < 1e-12);
+    assert_eq!(v["g_inverse"].as_array().unwrap().len(), 4);
+    let gamma = v["christoffel"].as_array().unwrap();
+    assert_eq!(gamma.len(), 4);
+    assert_eq!(gamma[1].as_array().unwrap().len(), 4);
+    assert_eq!(gamma[1][2].as_array().unwrap().len(), 4);
+    // Γ^θ_{rθ} = r/Σ in Kerr (Chandrasekhar 1983, §58).
+    assert!((gamma[2][1][2].as_f64().unwrap() - 6.0 / sigma).abs() < 1e-13);
+}
+
+#[test]
+fn geometry_reports_no_horizon_for_a_naked_singularity() {
+    let out = umbral(&[
+        "geometry", "--metric", "kerr", "--set", "a=1.2", "--r", "3", "--theta", "1", "--json",
+    ]);
+    assert!(out.status.success());
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(v["horizon_radius"].is_null());
+    let out = umbral(&[
+        "geometry", "--metric", "kerr", "--set", "a=1.2", "--r", "3", "--theta", "1",
+    ]);
+    assert!(String::from_utf8_lossy(&out.stdout).contains("none (horizonless)"));
+}
+
+#[test]
+fn bad_input_gives_one_line_and_exit_code_two() {
+    assert_one_line_error(
+        &["geometry", "--metric", "kerrr", "--r", "6", "--theta", "1"],
+        "unknown metric 'kerrr' (known: schwarzschild, kerr",
+    );
+    assert_one_line_error(
+        &[
+            "geometry", "--metric", "kerr", "--set", "spin=0.5", "--r", "6", "--theta", "1",
+        ],
+        "no parameter 'spin'",
+    );
+    assert_one_line_error(
+        &[
+            "geometry", "--metric", "kerr", "--set", "a=abc", "--r", "6", "--theta", "1",
+        ],
+        "cannot read 'abc'",
+    );
+    assert_one_line_error(
+        &[
+            "geometry", "--metric", "kerr", "--set", "a=nan", "--r", "6", "--theta", "1",
+        ],
+        "must be a finite number",
+    );
+    assert_one_line_error(
+        &[
+            "geometry", "--metric", "kerr", "--set", "a=inf", "--r", "6", "--theta", "1",
+        ],
+        "must be a finite number",
+    );
+    assert_one_line_error(
+        &["geometry", "--metric", "kerr", "--r", "six", "--theta", "1"],
+        "cannot read 'six'",
+    );
+    assert_one_line_error(
+        &["geometry", "--metric", "kerr", "--r", "NaN", "--theta", "1"],
+        "finite",
+    );
+    assert_one_line_error(
+        &["geometry", "--metric", "kerr", "--r", "6", "--theta", "0"],
+        "strictly between 0 and pi",
+    );
+    assert_one_line_error(
+        &[
+            "geometry",
+            "--metric",
+            "schwarzschild",
+            "--r",
+            "0",
+            "--theta",
+            "1",
+        ],
+        "singular",
+    );
+    assert_one_line_error(&["geometry", "--metric", "kerr", "--r", "6"], "--theta");
+    assert_one_line_error(
+        &[
+            "geometry", "--metric", "kerr", "--set", "a=0.1", "--set", "a=0.2", "--r", "6",
+            "--theta", "1",
+        ],
+        "more than once",
+    );
+    assert_one_line_error(&["frobnicate"], "frobnicate");
+    assert_one_line_error(&[], "subcommand");
+}
