@@ -13,12 +13,15 @@ pub use schwarzschild::Schwarzschild;
 use crate::error::MetricError;
 use crate::metric::{MetricInfo, Spacetime};
 
+/// A constructor from parameter values in order.
+type Builder = fn(&[f64]) -> Result<Box<dyn Spacetime>, MetricError>;
+
 /// A built-in metric: its metadata and a constructor from checked parameter values.
 pub struct MetricEntry {
     /// Name, reference and parameter specifications.
     pub describe: fn() -> MetricInfo,
     /// Build from values in parameter order (already checked against their domains).
-    build: fn(&[f64]) -> Result<Box<dyn Spacetime>, MetricError>,
+    build: Builder,
 }
 
 impl MetricEntry {
