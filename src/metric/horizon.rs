@@ -31,7 +31,16 @@ pub fn numerical_outer_horizon<M: Metric + ?Sized>(metric: &M) -> Option<f64> {
     let g_rr_inv = |r: f64| -> (f64, f64, bool) {
         let c = metric.components(Dual64::from_re(r).derivative(), theta);
         let inv = c.g_rr.recip();
-        (inv.re, inv.eps, regular(&c.map(|x| x.re)))
+        // Where g_rr overflows (Δ rounds to zero at an extremal horizon) the dual reciprocal
+        // has a NaN slope; d g^rr/dr = −g_rr′/g_rr² then tends to zero from the sign of g_rr′.
+        let slope = if inv.eps.is_finite() {
+            inv.eps
+        } else if c.g_rr.eps.is_nan() {
+            0.0
+        } else {
+            -c.g_rr.eps.signum()
+        };
+        (inv.re, slope, regular(&c.map(|x| x.re)))
     };
     let value = |r: f64| g_rr_inv(r).0;
     let slope = |r: f64| g_rr_inv(r).1;
@@ -41,7 +50,7 @@ pub fn numerical_outer_horizon<M: Metric + ?Sized>(metric: &M) -> Option<f64> {
         let (f, d, ok) = g_rr_inv(R_FAR);
         (R_FAR, f, d, ok)
     };
-    if !ok || !(f_prev > 0.0) {
+    if !ok || f_prev.is_nan() || f_prev <= 0.0 {
         return None;
     }
     for i in 1..SCAN_POINTS {

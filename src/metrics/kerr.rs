@@ -5,7 +5,7 @@
 //! g_tt = −(1 − 2r/Σ), g_tφ = −2ar sin²θ/Σ, g_rr = Σ/Δ, g_θθ = Σ,
 //! g_φφ = (r² + a² + 2ra² sin²θ/Σ) sin²θ. Horizons r± = 1 ± √(1 − a²).
 
-use super::kerr_newman::{kerr_newman_components, kerr_newman_polar, kerr_newman_radial};
+use super::kerr_like;
 use crate::error::MetricError;
 use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec, PhaseGradient};
 use crate::scalar::DualScalar;
@@ -88,7 +88,7 @@ impl Kerr {
 impl Metric for Kerr {
     #[inline]
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
-        kerr_newman_components(self.a, 0.0, r, theta)
+        kerr_like::components(self.a, r * r, r * 2.0, theta)
     }
     fn info(&self) -> MetricInfo {
         Self::describe()
@@ -104,9 +104,15 @@ impl Metric for Kerr {
         true
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
-        Some(kerr_newman_radial(self.a, 0.0, r, lambda, eta))
+        Some(kerr_like::radial_potential(
+            self.a,
+            r * r,
+            r * 2.0,
+            lambda,
+            eta,
+        ))
     }
     fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
-        Some(kerr_newman_polar(self.a, theta, lambda, eta))
+        Some(kerr_like::polar_potential(self.a, theta, lambda, eta))
     }
 }

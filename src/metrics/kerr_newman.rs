@@ -5,6 +5,7 @@
 //! g_φφ = [r² + a² + (2r − q²) a² sin²θ/Σ] sin²θ. Horizons r± = 1 ± √(1 − a² − q²).
 //! With q = 0 this is Kerr (1963).
 
+use super::kerr_like;
 use crate::error::MetricError;
 use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
 use crate::scalar::DualScalar;
@@ -14,46 +15,6 @@ use crate::scalar::DualScalar;
 pub struct KerrNewman {
     a: f64,
     q: f64,
-}
-
-/// Kerr–Newman components, shared with [`super::Kerr`] (q = 0).
-#[inline(always)]
-pub(crate) fn kerr_newman_components<D: DualScalar>(
-    a: f64,
-    q2: f64,
-    r: D,
-    theta: D,
-) -> MetricComponents<D> {
-    let (s, c) = theta.sin_cos();
-    let s2 = s * s;
-    let sigma = r * r + c * c * (a * a);
-    let delta = r * r - r * 2.0 + (a * a + q2);
-    let mass_term = (r * 2.0 - q2) / sigma; // (2r − q²)/Σ
-    MetricComponents {
-        g_tt: mass_term - 1.0,
-        g_tphi: -(mass_term * s2) * a,
-        g_rr: sigma / delta,
-        g_thth: sigma,
-        g_phph: (r * r + a * a + mass_term * s2 * (a * a)) * s2,
-    }
-}
-
-/// Carter's radial potential R = (r² + a² − aλ)² − Δ[η + (λ − a)²] (Carter 1968,
-/// Phys. Rev. 174, 1559), with Δ = r² − 2r + a² + q².
-#[inline(always)]
-pub(crate) fn kerr_newman_radial<D: DualScalar>(a: f64, q2: f64, r: D, lambda: D, eta: D) -> D {
-    let delta = r * r - r * 2.0 + (a * a + q2);
-    let p = r * r + a * a - lambda * a;
-    let l_minus_a = lambda - a;
-    p * p - delta * (eta + l_minus_a * l_minus_a)
-}
-
-/// Carter's polar potential Θ = η + a² cos²θ − λ² cot²θ.
-#[inline(always)]
-pub(crate) fn kerr_newman_polar<D: DualScalar>(a: f64, theta: D, lambda: D, eta: D) -> D {
-    let (s, c) = theta.sin_cos();
-    let cot = c / s;
-    eta + c * c * (a * a) - lambda * lambda * cot * cot
 }
 
 impl KerrNewman {
@@ -90,7 +51,7 @@ impl KerrNewman {
 impl Metric for KerrNewman {
     #[inline]
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
-        kerr_newman_components(self.a, self.q * self.q, r, theta)
+        kerr_like::components(self.a, r * r, r * 2.0 - self.q * self.q, theta)
     }
     fn info(&self) -> MetricInfo {
         Self::describe()
@@ -106,9 +67,10 @@ impl Metric for KerrNewman {
         true
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
-        Some(kerr_newman_radial(self.a, self.q * self.q, r, lambda, eta))
+        let mu = r * 2.0 - self.q * self.q;
+        Some(kerr_like::radial_potential(self.a, r * r, mu, lambda, eta))
     }
     fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
-        Some(kerr_newman_polar(self.a, theta, lambda, eta))
+        Some(kerr_like::polar_potential(self.a, theta, lambda, eta))
     }
 }

@@ -1,14 +1,39 @@
 //! Built-in metrics and the registry that builds them by name.
 
+mod bardeen;
+mod dilaton;
+mod hayward;
+mod jnw;
+mod johannsen;
+mod johannsen_psaltis;
 mod kerr;
+mod kerr_like;
 mod kerr_newman;
+mod kerr_sen;
+mod krz;
 mod reissner_nordstrom;
+mod rezzolla_zhidenko;
+mod rotating_regular;
 mod schwarzschild;
+mod simpson_visser;
+mod tidal_charge;
 
+pub use bardeen::Bardeen;
+pub use dilaton::Dilaton;
+pub use hayward::Hayward;
+pub use jnw::Jnw;
+pub use johannsen::Johannsen;
+pub use johannsen_psaltis::JohannsenPsaltis;
 pub use kerr::Kerr;
 pub use kerr_newman::KerrNewman;
+pub use kerr_sen::KerrSen;
+pub use krz::Krz;
 pub use reissner_nordstrom::ReissnerNordstrom;
+pub use rezzolla_zhidenko::RezzollaZhidenko;
+pub use rotating_regular::{RegularCore, RotatingRegular};
 pub use schwarzschild::Schwarzschild;
+pub use simpson_visser::SimpsonVisser;
+pub use tidal_charge::TidalCharge;
 
 use crate::error::MetricError;
 use crate::metric::{MetricInfo, Spacetime};
@@ -32,6 +57,13 @@ impl MetricEntry {
     }
 }
 
+/// The registry passed the wrong number of values (a programming error, reported not panicked).
+fn arity() -> MetricError {
+    MetricError::BadPoint {
+        what: "internal: wrong number of parameter values".into(),
+    }
+}
+
 /// Every built-in metric, in listing order.
 pub fn builtin_metrics() -> Vec<MetricEntry> {
     vec![
@@ -50,6 +82,78 @@ pub fn builtin_metrics() -> Vec<MetricEntry> {
         MetricEntry {
             describe: KerrNewman::describe,
             build: |v| Ok(Box::new(KerrNewman::new(v[0], v[1])?)),
+        },
+        MetricEntry {
+            describe: TidalCharge::describe,
+            build: |v| Ok(Box::new(TidalCharge::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: Bardeen::describe,
+            build: |v| Ok(Box::new(Bardeen::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: Hayward::describe,
+            build: |v| Ok(Box::new(Hayward::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: Dilaton::describe,
+            build: |v| Ok(Box::new(Dilaton::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: SimpsonVisser::describe,
+            build: |v| Ok(Box::new(SimpsonVisser::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: Jnw::describe,
+            build: |v| Ok(Box::new(Jnw::new(v[0])?)),
+        },
+        MetricEntry {
+            describe: RezzollaZhidenko::describe,
+            build: |v| {
+                Ok(Box::new(RezzollaZhidenko::new(
+                    v.try_into().map_err(|_| arity())?,
+                )?))
+            },
+        },
+        MetricEntry {
+            describe: JohannsenPsaltis::describe,
+            build: |v| Ok(Box::new(JohannsenPsaltis::new(v[0], v[1])?)),
+        },
+        MetricEntry {
+            describe: Johannsen::describe,
+            build: |v| {
+                Ok(Box::new(Johannsen::new(
+                    v.try_into().map_err(|_| arity())?,
+                )?))
+            },
+        },
+        MetricEntry {
+            describe: Krz::describe,
+            build: |v| Ok(Box::new(Krz::new(v.try_into().map_err(|_| arity())?)?)),
+        },
+        MetricEntry {
+            describe: KerrSen::describe,
+            build: |v| Ok(Box::new(KerrSen::new(v[0], v[1])?)),
+        },
+        MetricEntry {
+            describe: || RotatingRegular::describe(RegularCore::Bardeen),
+            build: |v| {
+                Ok(Box::new(RotatingRegular::new(
+                    RegularCore::Bardeen,
+                    v[0],
+                    v[1],
+                )?))
+            },
+        },
+        MetricEntry {
+            describe: || RotatingRegular::describe(RegularCore::Hayward),
+            build: |v| {
+                Ok(Box::new(RotatingRegular::new(
+                    RegularCore::Hayward,
+                    v[0],
+                    v[1],
+                )?))
+            },
         },
     ]
 }

@@ -1,0 +1,86 @@
+//! Kerr–Sen black hole of heterotic string theory (Sen 1992, Phys. Rev. Lett. 69, 1006), in
+//! the Einstein frame and Boyer–Lindquist-like coordinates:
+//!
+//! ρ² = r(r + 2b) + a² cos²θ, Δ = r(r + 2b) − 2r + a²,
+//! g_tt = −(1 − 2r/ρ²), g_tφ = −2ar sin²θ/ρ², g_rr = ρ²/Δ, g_θθ = ρ²,
+//! g_φφ = [r(r + 2b) + a² + 2ra² sin²θ/ρ²] sin²θ,
+//!
+//! with `b = Q²/(2M) ≥ 0`. Horizons r± = 1 − b ± √((1 − b)² − a²). Separable (Kerr-like
+//! with r² → r(r + 2b)).
+
+use super::kerr_like;
+use crate::error::MetricError;
+use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::scalar::DualScalar;
+
+/// The Kerr–Sen metric.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct KerrSen {
+    a: f64,
+    b: f64,
+}
+
+impl KerrSen {
+    /// A Kerr–Sen metric with spin `a` and dilaton charge `b ≥ 0`.
+    pub fn new(a: f64, b: f64) -> Result<Self, MetricError> {
+        let spec = Self::describe().parameters;
+        Ok(KerrSen {
+            a: spec[0].check(a)?,
+            b: spec[1].check(b)?,
+        })
+    }
+
+    /// Name, reference and parameters.
+    pub fn describe() -> MetricInfo {
+        MetricInfo {
+            name: "kerr-sen".into(),
+            title: "Kerr-Sen".into(),
+            reference: "Sen 1992, Phys. Rev. Lett. 69, 1006".into(),
+            parameters: vec![
+                ParameterSpec::new("a", 0.0, Domain::REAL, "spin a = J/M^2"),
+                ParameterSpec::new(
+                    "b",
+                    0.0,
+                    Domain::at_least(0.0),
+                    "dilaton charge b = Q^2/(2M) (horizon only for |a| <= 1 - b)",
+                ),
+            ],
+        }
+    }
+
+    fn rho2<D: DualScalar>(&self, r: D) -> D {
+        r * (r + 2.0 * self.b)
+    }
+}
+
+impl Metric for KerrSen {
+    #[inline]
+    fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
+        kerr_like::components(self.a, self.rho2(r), r * 2.0, theta)
+    }
+    fn info(&self) -> MetricInfo {
+        Self::describe()
+    }
+    fn parameter_values(&self) -> Vec<f64> {
+        vec![self.a, self.b]
+    }
+    fn outer_horizon(&self) -> Option<f64> {
+        let disc = (1.0 - self.b).powi(2) - self.a * self.a;
+        (disc >= 0.0 && self.b <= 1.0).then(|| 1.0 - self.b + disc.sqrt())
+    }
+    fn equatorially_symmetric(&self) -> bool {
+        true
+    }
+    fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
+        Some(kerr_like::radial_potential(
+            self.a,
+            self.rho2(r),
+            r * 2.0,
+            lambda,
+            eta,
+        ))
+    }
+    fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
+        Some(kerr_like::polar_potential(self.a, theta, lambda, eta))
+    }
+}
