@@ -308,3 +308,11 @@ fn extremal_horizons_from_the_numerical_finder() {
         "extremal user Kerr-Newman (numerical default)",
     );
 }
+
+/// Exactly extremal parameters whose squares round: 0.8² + 0.6² = 1 in exact arithmetic, so
+/// r₊ = 1 (Newman et al. 1965), although 1 − 0.64 − 0.36 is −1.1e-16 in floating point.
+#[test]
+fn rounded_extremal_parameters_keep_their_degenerate_horizon() {
+    let m = umbral::metrics::KerrNewman::new(0.8, 0.6).unwrap();
+    assert_eq!(m.outer_horizon(), Some(1.0));
+}

@@ -97,8 +97,7 @@ impl Metric for Kerr {
         vec![self.a]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        let disc = 1.0 - self.a * self.a;
-        (disc >= 0.0).then(|| 1.0 + disc.sqrt())
+        super::horizon_root(1.0, self.a * self.a).map(|s| 1.0 + s)
     }
     fn equatorially_symmetric(&self) -> bool {
         true

@@ -60,8 +60,7 @@ impl Metric for KerrNewman {
         vec![self.a, self.q]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        let disc = 1.0 - self.a * self.a - self.q * self.q;
-        (disc >= 0.0).then(|| 1.0 + disc.sqrt())
+        super::horizon_root(1.0, self.a * self.a + self.q * self.q).map(|s| 1.0 + s)
     }
     fn equatorially_symmetric(&self) -> bool {
         true

@@ -65,8 +65,10 @@ impl Metric for KerrSen {
         vec![self.a, self.b]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        let disc = (1.0 - self.b).powi(2) - self.a * self.a;
-        (disc >= 0.0 && self.b <= 1.0).then(|| 1.0 - self.b + disc.sqrt())
+        if self.b > 1.0 {
+            return None;
+        }
+        super::horizon_root((1.0 - self.b).powi(2), self.a * self.a).map(|s| 1.0 - self.b + s)
     }
     fn equatorially_symmetric(&self) -> bool {
         true

@@ -57,6 +57,20 @@ impl MetricEntry {
     }
 }
 
+/// √(x − y) for a horizon discriminant x − y, or `None` when it is negative. Differences within
+/// a few units in the last place of x count as zero, so that exactly extremal parameters whose
+/// squares round (e.g. a = 0.8, q = 0.6) keep their degenerate horizon.
+pub(crate) fn horizon_root(x: f64, y: f64) -> Option<f64> {
+    let disc = x - y;
+    if disc >= 0.0 {
+        Some(disc.sqrt())
+    } else if disc >= -4.0 * f64::EPSILON * x.abs() {
+        Some(0.0)
+    } else {
+        None
+    }
+}
+
 /// The registry passed the wrong number of values (a programming error, reported not panicked).
 fn arity() -> MetricError {
     MetricError::BadPoint {

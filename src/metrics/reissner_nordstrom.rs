@@ -52,7 +52,6 @@ impl SphericalMetric for ReissnerNordstrom {
         vec![self.q]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        let disc = 1.0 - self.q * self.q;
-        (disc >= 0.0).then(|| 1.0 + disc.sqrt())
+        super::horizon_root(1.0, self.q * self.q).map(|s| 1.0 + s)
     }
 }

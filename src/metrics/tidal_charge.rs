@@ -56,7 +56,6 @@ impl SphericalMetric for TidalCharge {
         vec![self.q2]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        let disc = 1.0 - self.q2;
-        (disc >= 0.0).then(|| 1.0 + disc.sqrt())
+        super::horizon_root(1.0, self.q2).map(|s| 1.0 + s)
     }
 }
