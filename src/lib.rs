@@ -17,7 +17,7 @@
 //! let gamma = kerr.christoffel(6.0, 1.0);
 //! assert!(gamma[1][0][0] > 0.0); // Γ^r_tt > 0: gravity pulls inward
 //! // The outer horizon r₊ = 1 + √(1 − a²).
-//! let r_plus = kerr.outer_horizon().unwrap();
+//! let r_plus = Spacetime::outer_horizon(&kerr).unwrap();
 //! assert!((r_plus - (1.0 + (1.0f64 - 0.81).sqrt())).abs() < 1e-14);
 //! ```
 
@@ -26,6 +26,7 @@ pub mod geodesic;
 pub mod metric;
 pub mod metrics;
 pub mod numerics;
+pub mod observables;
 pub mod scalar;
 pub mod shadow;
 

@@ -173,3 +173,186 @@ fn bad_input_gives_one_line_and_exit_code_two() {
     assert_one_line_error(&["frobnicate"], "frobnicate");
     assert_one_line_error(&[], "subcommand");
 }
+
+#[test]
+fn shadow_json_has_the_documented_keys() {
+    let out = umbral(&[
+        "shadow",
+        "--metric",
+        "reissner-nordstrom",
+        "--set",
+        "q=1",
+        "--inclination",
+        "45",
+        "--points",
+        "64",
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    for key in [
+        "metric",
+        "parameters",
+        "inclination_deg",
+        "observer_radius",
+        "solver",
+        "status",
+        "observables",
+        "curve",
+        "diagnostics",
+    ] {
+        assert!(v.get(key).is_some(), "missing {key}");
+    }
+    assert_eq!(v["status"], "shadow");
+    assert_eq!(v["solver"], "spherical");
+    assert_eq!(v["inclination_deg"], 45.0);
+    assert!(v["observer_radius"].is_null());
+    // Extremal Reissner–Nordström: b_c = 4 exactly (r_ph = 2; e.g. Perlick & Tsupko 2022).
+    assert!((v["observables"]["mean_radius"].as_f64().unwrap() - 4.0).abs() < 1e-12);
+    assert_eq!(v["curve"]["alpha"].as_array().unwrap().len(), 64);
+    for key in ["rays_traced", "failed_rays", "star_shaped", "wall_seconds"] {
+        assert!(
+            v["diagnostics"].get(key).is_some(),
+            "missing diagnostics.{key}"
+        );
+    }
+}
+
+#[test]
+fn shadow_family_writes_csv_and_plot() {
+    let dir = std::env::temp_dir().join(format!("umbral-cli-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let csv = dir.join("k.csv");
+    let svg = dir.join("k.svg");
+    let out = umbral(&[
+        "shadow",
+        "--metric",
+        "kerr",
+        "--set",
+        "a=0,0.5,0.9",
+        "--inclination",
+        "60",
+        "--points",
+        "32",
+        "--csv",
+        csv.to_str().unwrap(),
+        "--plot",
+        svg.to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v.as_array().unwrap().len(), 3);
+    let text = std::fs::read_to_string(&csv).unwrap();
+    assert_eq!(text.lines().count(), 1 + 3 * 32);
+    let svg_text = std::fs::read_to_string(&svg).unwrap();
+    assert!(svg_text.starts_with("<svg") && svg_text.contains("alpha / M"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn shadow_bad_input_is_one_line() {
+    assert_one_line_error(
+        &["shadow", "--metric", "kerr", "--inclination", "200"],
+        "between 0 and 180",
+    );
+    assert_one_line_error(
+        &["shadow", "--metric", "kerr", "--inclination", "nan"],
+        "finite",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--solver",
+            "magic",
+        ],
+        "magic",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--set",
+            "a=0.5",
+            "--inclination",
+            "30",
+            "--solver",
+            "spherical",
+        ],
+        "does not apply",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--csv",
+            "/nonexistent-dir/x.csv",
+        ],
+        "cannot write",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--plot",
+            "/nonexistent-dir/x.svg",
+        ],
+        "cannot write plot",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--set",
+            "a=0.1,0.2",
+            "--set",
+            "q=1,2",
+        ],
+        "only one parameter",
+    );
+}
+
+#[test]
+fn demo_writes_its_figures_report_and_results() {
+    let dir = std::env::temp_dir().join(format!("umbral-demo-{}", std::process::id()));
+    let out = umbral(&["demo", "--out", dir.to_str().unwrap()]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    for f in [
+        "kerr-family.svg",
+        "reissner-nordstrom-family.svg",
+        "results.json",
+        "report.md",
+    ] {
+        assert!(dir.join(f).exists(), "{f} missing");
+    }
+    let report = std::fs::read_to_string(dir.join("report.md")).unwrap();
+    assert!(report.contains("invented"));
+    assert!(report.contains("ring-to-shadow calibration"));
+    std::fs::remove_dir_all(&dir).ok();
+}

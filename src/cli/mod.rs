@@ -4,6 +4,8 @@ mod args;
 mod demo;
 mod geometry;
 mod metrics;
+mod plot;
+mod shadow;
 
 use clap::{Parser, Subcommand};
 use std::ffi::OsString;
@@ -25,6 +27,8 @@ enum Command {
     Metrics(metrics::MetricsArgs),
     /// Metric, inverse metric, Christoffel symbols and horizon at a point.
     Geometry(geometry::GeometryArgs),
+    /// The critical curve ("shadow") and its observables.
+    Shadow(shadow::ShadowArgs),
     /// Run the whole chain on the built-in invented scenario.
     Demo(demo::DemoArgs),
 }
@@ -56,6 +60,7 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErro
     match cli.command {
         Command::Metrics(a) => metrics::run(&a),
         Command::Geometry(a) => geometry::run(&a),
+        Command::Shadow(a) => shadow::run(&a),
         Command::Demo(a) => demo::run(&a),
     }?;
     Ok(ExitCode::SUCCESS)

@@ -54,7 +54,7 @@ use crate::scalar::DualScalar;
 ///
 /// let m = MyKerr { a: 0.6 };
 /// // The default horizon finder locates r₊ = 1 + √(1 − a²) = 1.8 numerically.
-/// assert!((m.outer_horizon().unwrap() - 1.8).abs() < 1e-12);
+/// assert!((Spacetime::outer_horizon(&m).unwrap() - 1.8).abs() < 1e-12);
 /// // Any implementor is usable as a trait object, e.g. chosen by name at run time.
 /// let dynamic: Box<dyn Spacetime> = Box::new(m);
 /// let gamma = dynamic.christoffel(5.0, 0.7);

@@ -30,7 +30,7 @@ pub struct SphericalFunctions<D> {
 ///
 /// let m = Tidal { q2: -0.5 };
 /// // r₊ = 1 + √(1 − q2), found by the default horizon finder.
-/// assert!((m.outer_horizon().unwrap() - (1.0 + 1.5f64.sqrt())).abs() < 1e-12);
+/// assert!((Spacetime::outer_horizon(&m).unwrap() - (1.0 + 1.5f64.sqrt())).abs() < 1e-12);
 /// ```
 pub trait SphericalMetric: Send + Sync {
     /// A(r) = −g_tt.

@@ -10,6 +10,7 @@
 //! for a distant observer at inclination θ_o, in units of M. See docs/conventions.md.
 
 pub mod curve;
+pub mod exponents;
 pub mod observer;
 pub mod raytrace;
 pub mod separable;
@@ -164,4 +165,51 @@ pub struct ShadowResult {
     pub photon_spheres: Vec<PhotonSphere>,
     pub exponents: Option<RingExponents>,
     pub diagnostics: Diagnostics,
+}
+
+/// Solve for the critical curve with the chosen solver (`Auto`: the most exact that applies).
+///
+/// ```no_run
+/// use umbral::prelude::*;
+/// use umbral::shadow::{solve, Observer, ShadowSettings};
+/// let kerr = Kerr::new(0.9).unwrap();
+/// let result = solve(&kerr, &Observer::distant(60f64.to_radians()), &ShadowSettings::default());
+/// ```
+pub fn solve(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+) -> Result<ShadowResult, ShadowError> {
+    if !(observer.inclination.is_finite()
+        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
+    {
+        return Err(ShadowError::BadRequest(format!(
+            "inclination must lie in [0, pi] radians, got {}",
+            observer.inclination
+        )));
+    }
+    if let Some(r) = observer.radius {
+        if !(r.is_finite() && r > 0.0) {
+            return Err(ShadowError::BadRequest(format!(
+                "observer radius must be a positive finite number, got {r}"
+            )));
+        }
+    }
+    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0) || settings.points < 8 {
+        return Err(ShadowError::BadRequest(format!(
+            "need tolerance > 0 and at least 8 points, got tolerance {} and {} points",
+            settings.tolerance, settings.points
+        )));
+    }
+    let kind = match settings.solver {
+        SolverChoice::Auto => auto_solver(spacetime),
+        SolverChoice::Spherical => SolverKind::Spherical,
+        SolverChoice::Separable => SolverKind::Separable,
+        SolverChoice::Raytrace => SolverKind::Raytrace,
+    };
+    match kind {
+        SolverKind::Spherical => spherical::solve(spacetime, observer, settings),
+        SolverKind::Separable => separable::solve(spacetime, observer, settings),
+        SolverKind::Raytrace => raytrace::solve(spacetime, observer, settings),
+    }
 }

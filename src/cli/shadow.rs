@@ -1,0 +1,335 @@
+//! `umbral shadow`: the critical curve and its observables for one metric and observer.
+
+use super::args::{parse_finite, parse_set_family};
+use super::plot::{screen_curves, ScreenCurve};
+use super::CliError;
+use clap::{Args, ValueEnum};
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::io::Write;
+use umbral::metric::Spacetime;
+use umbral::metrics::build_metric;
+use umbral::observables::{CentreChoice, Observables};
+use umbral::shadow::{self, Diagnostics, Observer, ShadowSettings, ShadowStatus, SolverChoice};
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum SolverArg {
+    Auto,
+    Spherical,
+    Separable,
+    Raytrace,
+}
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum CentreArg {
+    Centroid,
+    Midpoint,
+}
+
+#[derive(Debug, Args)]
+pub struct ShadowArgs {
+    /// Metric name (see `umbral metrics`).
+    #[arg(long)]
+    metric: String,
+    /// Parameter assignment NAME=VALUE (repeatable); one parameter may take a comma list
+    /// (`--set a=0,0.5,0.9`) to draw a family.
+    #[arg(long = "set", value_name = "NAME=VALUE")]
+    set: Vec<String>,
+    /// Observer inclination from the spin axis, in degrees (0 to 180).
+    #[arg(long, allow_hyphen_values = true)]
+    inclination: String,
+    /// Observer radius in M (default: a distant observer).
+    #[arg(long = "observer-radius", allow_hyphen_values = true)]
+    observer_radius: Option<String>,
+    /// Number of curve points, uniform in screen polar angle.
+    #[arg(long, default_value_t = 256)]
+    points: usize,
+    /// Solver.
+    #[arg(long, value_enum, default_value = "auto")]
+    solver: SolverArg,
+    /// Boundary tolerance in M.
+    #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
+    tolerance: String,
+    /// Centre the radius observables are measured about.
+    #[arg(long, value_enum, default_value = "centroid")]
+    centre: CentreArg,
+    /// Angular gravitational radius theta_g = GM/(c^2 D) in micro-arcseconds, to print sizes in uas.
+    #[arg(long = "mass-distance-uas", allow_hyphen_values = true)]
+    mass_distance_uas: Option<String>,
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    json: bool,
+    /// Write the curve(s) as CSV.
+    #[arg(long, value_name = "FILE")]
+    csv: Option<String>,
+    /// Write an SVG figure of the curve(s).
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<String>,
+}
+
+/// The curve's screen coordinates.
+#[derive(Debug, Serialize)]
+pub struct CurveJson {
+    pub alpha: Vec<f64>,
+    pub beta: Vec<f64>,
+}
+
+/// One shadow, as printed in JSON.
+#[derive(Debug, Serialize)]
+pub struct ShadowReport {
+    pub metric: String,
+    pub parameters: BTreeMap<String, f64>,
+    pub inclination_deg: f64,
+    pub observer_radius: Option<f64>,
+    pub solver: &'static str,
+    pub status: &'static str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
+    pub observables: Option<Observables>,
+    pub curve: Option<CurveJson>,
+    pub diagnostics: Diagnostics,
+}
+
+/// Solve one shadow and reduce it to observables.
+pub fn shadow_report(
+    metric: &dyn Spacetime,
+    inclination_deg: f64,
+    observer: &Observer,
+    settings: &ShadowSettings,
+    centre: CentreChoice,
+) -> Result<ShadowReport, CliError> {
+    let result =
+        shadow::solve(metric, observer, settings).map_err(|e| CliError::usage(e.to_string()))?;
+    let info = metric.info();
+    let (status, reason) = match &result.status {
+        ShadowStatus::Shadow => ("shadow", None),
+        ShadowStatus::NoShadow { reason } => ("no_shadow", Some(reason.clone())),
+    };
+    let observables = match &result.curve {
+        Some(curve) => Some(
+            Observables::from_curve(
+                curve,
+                centre,
+                metric.outer_horizon(),
+                result.photon_orbit_radii,
+            )
+            .map_err(|e| CliError::usage(e.to_string()))?,
+        ),
+        None => None,
+    };
+    let curve = result.curve.as_ref().map(|c| {
+        let (alpha, beta) = c.alpha_beta();
+        CurveJson { alpha, beta }
+    });
+    Ok(ShadowReport {
+        metric: info.name.clone(),
+        parameters: info
+            .parameters
+            .iter()
+            .map(|p| p.name.clone())
+            .zip(metric.parameter_values())
+            .collect(),
+        inclination_deg,
+        observer_radius: observer.radius,
+        solver: result.solver.name(),
+        status,
+        reason,
+        observables,
+        curve,
+        diagnostics: result.diagnostics,
+    })
+}
+
+fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), CliError> {
+    let inclination = parse_finite(&args.inclination, "--inclination")?;
+    if !(0.0..=180.0).contains(&inclination) {
+        return Err(CliError::usage(format!(
+            "--inclination must lie between 0 and 180 degrees, got {inclination}"
+        )));
+    }
+    let observer = match &args.observer_radius {
+        None => Observer::distant(inclination.to_radians()),
+        Some(text) => {
+            let r = parse_finite(text, "--observer-radius")?;
+            if r <= 0.0 {
+                return Err(CliError::usage(format!(
+                    "--observer-radius must be positive, got {r}"
+                )));
+            }
+            Observer::at_radius(inclination.to_radians(), r)
+        }
+    };
+    let tolerance = parse_finite(&args.tolerance, "--tolerance")?;
+    if tolerance <= 0.0 {
+        return Err(CliError::usage(format!(
+            "--tolerance must be positive, got {tolerance}"
+        )));
+    }
+    if args.points < 8 {
+        return Err(CliError::usage(format!(
+            "--points must be at least 8, got {}",
+            args.points
+        )));
+    }
+    let solver = match args.solver {
+        SolverArg::Auto => SolverChoice::Auto,
+        SolverArg::Spherical => SolverChoice::Spherical,
+        SolverArg::Separable => SolverChoice::Separable,
+        SolverArg::Raytrace => SolverChoice::Raytrace,
+    };
+    Ok((
+        inclination,
+        observer,
+        ShadowSettings {
+            points: args.points,
+            tolerance,
+            solver,
+        },
+    ))
+}
+
+fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
+    let params: Vec<String> = rep
+        .parameters
+        .iter()
+        .map(|(k, v)| format!("{k} = {v}"))
+        .collect();
+    println!(
+        "{} ({}), inclination {} deg, {} observer, solver {}",
+        rep.metric,
+        if params.is_empty() {
+            "no parameters".into()
+        } else {
+            params.join(", ")
+        },
+        rep.inclination_deg,
+        match rep.observer_radius {
+            Some(r) => format!("r_o = {r} M"),
+            None => "distant".into(),
+        },
+        rep.solver
+    );
+    let Some(o) = &rep.observables else {
+        println!(
+            "  no shadow: {}",
+            rep.reason.as_deref().unwrap_or("no critical curve")
+        );
+        return;
+    };
+    let uas = |x: f64| match theta_g {
+        Some(t) => format!("  ({:.4} uas)", x * t),
+        None => String::new(),
+    };
+    let row = |name: &str, x: f64, unit: &str, scaled: bool| {
+        println!(
+            "  {name:<28}{x:>20.12} {unit}{}",
+            if scaled { uas(x) } else { String::new() }
+        );
+    };
+    println!("  centre: {}", o.centre.name());
+    row("mean radius", o.mean_radius, "M", true);
+    row("area radius", o.area_radius, "M", true);
+    row("mean diameter", 2.0 * o.mean_radius, "M", true);
+    row("circularity deviation", o.circularity_deviation, "", false);
+    row("centroid offset (alpha)", o.centroid_offset, "M", true);
+    row("midpoint offset (alpha)", o.midpoint_offset, "M", true);
+    row("width", o.width, "M", true);
+    row("height", o.height, "M", true);
+    row("axis ratio", o.axis_ratio, "", false);
+    row("Hioki-Maeda radius", o.hioki_maeda_radius, "M", true);
+    row(
+        "Hioki-Maeda distortion",
+        o.hioki_maeda_distortion,
+        "",
+        false,
+    );
+    row(
+        "fractional deviation (mean)",
+        o.fractional_deviation_mean,
+        "",
+        false,
+    );
+    row(
+        "fractional deviation (area)",
+        o.fractional_deviation_area,
+        "",
+        false,
+    );
+    if let Some(h) = o.horizon_radius {
+        row("horizon radius", h, "M", false);
+    }
+    if let Some([lo, hi]) = o.photon_orbit_radii {
+        println!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii");
+    }
+}
+
+fn write_csv(path: &str, reports: &[ShadowReport]) -> Result<(), CliError> {
+    let fail = |e: std::io::Error| CliError::usage(format!("cannot write '{path}': {e}"));
+    let mut text = String::from("curve,alpha,beta\n");
+    for (i, rep) in reports.iter().enumerate() {
+        if let Some(c) = &rep.curve {
+            for (a, b) in c.alpha.iter().zip(&c.beta) {
+                text.push_str(&format!("{i},{a:.17e},{b:.17e}\n"));
+            }
+        }
+    }
+    let mut file = std::fs::File::create(path).map_err(fail)?;
+    file.write_all(text.as_bytes()).map_err(fail)
+}
+
+pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
+    let (inclination_deg, observer, settings) = settings_from(args)?;
+    let theta_g = match &args.mass_distance_uas {
+        Some(t) => Some(parse_finite(t, "--mass-distance-uas")?),
+        None => None,
+    };
+    let centre = match args.centre {
+        CentreArg::Centroid => CentreChoice::Centroid,
+        CentreArg::Midpoint => CentreChoice::Midpoint,
+    };
+    let family = parse_set_family(&args.set)?;
+    // Build every member first, so a bad value fails before any work.
+    let metrics: Vec<Box<dyn Spacetime>> = family
+        .iter()
+        .map(|assignments| build_metric(&args.metric, assignments))
+        .collect::<Result<_, _>>()?;
+    let reports: Vec<ShadowReport> = metrics
+        .iter()
+        .map(|m| shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre))
+        .collect::<Result<_, _>>()?;
+    if let Some(path) = &args.csv {
+        write_csv(path, &reports)?;
+    }
+    if let Some(path) = &args.plot {
+        let curves: Vec<ScreenCurve> = reports
+            .iter()
+            .filter_map(|rep| {
+                rep.curve.as_ref().map(|c| ScreenCurve {
+                    label: rep
+                        .parameters
+                        .iter()
+                        .map(|(k, v)| format!("{k} = {v}"))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    alpha: c.alpha.clone(),
+                    beta: c.beta.clone(),
+                })
+            })
+            .collect();
+        let title = format!("{} shadow, inclination {inclination_deg} deg", args.metric);
+        screen_curves(path, &title, &curves)?;
+    }
+    if args.json {
+        let text = if reports.len() == 1 {
+            serde_json::to_string_pretty(&reports[0])
+        } else {
+            serde_json::to_string_pretty(&reports)
+        };
+        println!("{}", text.expect("serialisable"));
+    } else {
+        for rep in &reports {
+            print_table(rep, theta_g);
+        }
+    }
+    Ok(())
+}
