@@ -1,1 +1,1154 @@
-//! placeholder
+//! The separable solver: spherical photon orbits R = ∂_r R = 0 mapped to the screen
+//! (Bardeen 1973, in *Black Holes*, eds. DeWitt & DeWitt, p. 215).
+//!
+//! For a metric with separation data, null geodesics with λ = L/E and Carter's η obey
+//! (dr/dσ)² = R(r; λ, η) and (dθ/dσ)² = Θ(θ; λ, η) in Mino time. The boundary of the shadow is
+//! formed by spherical photon orbits, R = ∂_r R = 0, that reach the observer's latitude,
+//! Θ(θ_o; λ, η) ≥ 0.
+//!
+//! **Solving R = R′ = 0 from the potentials alone.** Carter-separable metrics have R quadratic in
+//! λ and linear in η. Two jets of R, at (r, 0, 0) and (r, 1, 0), give that quadratic exactly;
+//! eliminating η from R = 0 leaves a quadratic in λ for R′ = 0, whose two roots are the two
+//! candidate orbits at r. The one with the larger Θ(θ_o) is kept (for Kerr the other root,
+//! P − aλ = 0, η = −(λ − a)², has Θ = −(λ − a sin²θ)²/sin²θ < 0 at every latitude). The
+//! quadratic structure is verified once per solve against full evaluations of R and ∂_r R at
+//! three radii; if it does not hold exactly, every root is polished by Newton's method in
+//! (λ, η) with the exact Jacobian from the jet (converging from the model, or failing with
+//! `NotConverged`). For Kerr the closed form λ(r) = (Δ′P − 2ΔP′)/(Δ′Q − 2ΔQ′),
+//! η(r) = (P − Qλ)²/Δ − (λ − a)² is a check in the tests, not the method.
+//!
+//! **Admissible radii.** β²(r) = Θ(θ_o; λ(r), η(r)) is scanned on a grid outside the horizon,
+//! its maximum refined by golden-section search, and the two roots around it found by Brent's
+//! method: these are `photon_orbit_radii` [r_min, r_max].
+//!
+//! **Screen.** Distant observer: α = −λ/sin θ_o, β = ±√Θ(θ_o) (Bardeen 1973). Finite observer
+//! (ZAMO at r_o): the photon p = (−1, p_r, ±√Θ(θ_o), λ) with p_r > 0 from the null condition,
+//! mapped to celestial and screen coordinates by [`super::observer`]. The curve is symmetric
+//! under β → −β, so only the upper half is solved.
+//!
+//! **Sampling.** The origin is the midpoint of the two β = 0 points on the α axis. Each polar
+//! angle ψ_k = 2πk/N in [0, π] is mapped to one orbit by Brent's method on
+//! ψ(s) = atan2(β(s), α(s) − α₀) − ψ_k, in the variable u with s = s̄ − h cos u (so that ψ is
+//! smooth at the ends, where β ∝ √(s − s_end) ∝ u), bracketed by a 64-interval table uniform
+//! in u, and stopped when the point is placed to 1% of `settings.tolerance`; every point is
+//! then checked to lie within `settings.tolerance` of its ray (else `NotConverged`). The
+//! lower half follows by β → −β. The curve is star-shaped when ψ(s) is monotonic on the
+//! table; otherwise every crossing is reported and the outermost is used as the radius.
+//!
+//! **Special cases.** (i) If R depends on λ and η only through η + λ² (a = 0: a spherical
+//! metric written in separable form) the orbits do not fix λ: a single photon sphere r_c at the
+//! minimum of K(r), R(r; 0, K) = 0, and the curve is parametrised by λ at η = K − λ².
+//! (ii) Near the axis (sin θ_o < 3e-8) only λ → 0 orbits reach the observer and the curve is
+//! the limit circle of radius √Θ(θ_o; 0, η*) about the axis, at the polar orbit λ = 0. Its
+//! error is O(θ_o) (the centre moves by ≈ 2θ_o M for Kerr a = 0.9), while the general path loses
+//! digits like ε/sin θ_o; the switch balances the two at ≈ 1e-7 M. Between the switch and
+//! sin θ_o ≈ 1e-6 the general path may therefore miss a tolerance of 1e-8 M and report
+//! `NotConverged`.
+//! (iii) A metric without a horizon gives `NoShadow`: without capture the photon orbits need not
+//! bound a dark region (use the raytracer).
+//! (iv) γ (`exponents`, from [`separable_gamma`]) ranges over the orbits of the curve: nine
+//! orbits uniform in u, each interior extremum refined by parabolic interpolation; `None` if
+//! any evaluation fails.
+//! For near-degenerate metrics (Kerr with |a| ≲ 1e-5) the λ(r) parametrisation loses digits
+//! like ε/|a|.
+//!
+//! ```
+//! use umbral::metrics::Kerr;
+//! use umbral::shadow::{separable, Observer, ShadowSettings};
+//!
+//! let kerr = Kerr::new(0.0).unwrap();
+//! let result = separable::solve(&kerr, &Observer::distant(1.0), &ShadowSettings::default()).unwrap();
+//! // Schwarzschild: a circle of radius 3√3 (Synge 1966).
+//! let curve = result.curve.unwrap();
+//! assert!(curve.radii.iter().all(|r| (r - 27f64.sqrt()).abs() < 1e-10));
+//! ```
+
+use super::exponents::separable_gamma;
+use super::observer::{zamo_tetrad, Observer, Tetrad};
+use super::{
+    CriticalCurve, Diagnostics, RingExponents, ShadowError, ShadowResult, ShadowSettings,
+    ShadowStatus, SolverKind,
+};
+use crate::geodesic::null_radial_momentum;
+use crate::metric::{PotentialJet, Spacetime};
+use crate::numerics::brent_root;
+use serde::Serialize;
+use std::f64::consts::{PI, TAU};
+
+/// Below this sin θ_o the face-on limit circle is used.
+const FACE_ON_SIN: f64 = 3e-8;
+/// Points of the β²(r) scan outside the horizon.
+const SCAN_POINTS: usize = 240;
+/// Intervals of the Chebyshev table of ψ(s) that brackets each screen angle.
+const TABLE_INTERVALS: usize = 64;
+/// Intervals of the first grid on which the ring exponent γ is evaluated.
+const GAMMA_NODES: usize = 8;
+/// Newton iterations allowed when polishing (λ, η).
+const MAX_NEWTON: usize = 40;
+
+/// A spherical photon orbit: its radius and constants of motion per unit energy.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SphericalOrbit {
+    pub r: f64,
+    /// λ = L/E.
+    pub lambda: f64,
+    /// Carter's constant over E².
+    pub eta: f64,
+}
+
+/// The separable critical curve (see the module docs).
+///
+/// Errors: `SolverNotApplicable` for a metric without separation data; `BadRequest` for a bad
+/// observer or settings, or a finite observer inside the photon region; `NotConverged` when a
+/// root or Newton iteration fails. No admissible orbit gives `ShadowStatus::NoShadow`.
+pub fn solve(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+) -> Result<ShadowResult, ShadowError> {
+    solve_with(spacetime, observer, settings, true)
+}
+
+/// [`solve`] without the ring exponents (`exponents: None`): the curve alone, several times
+/// faster, since each γ needs a polar quadrature.
+pub fn solve_curve(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+) -> Result<ShadowResult, ShadowError> {
+    solve_with(spacetime, observer, settings, false)
+}
+
+fn solve_with(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+    with_exponents: bool,
+) -> Result<ShadowResult, ShadowError> {
+    let start = std::time::Instant::now();
+    if !spacetime.is_separable() {
+        return Err(ShadowError::SolverNotApplicable {
+            solver: "separable",
+            metric: spacetime.info().name,
+            why: "the metric provides no separation data (radial and polar potentials)".into(),
+        });
+    }
+    observer.validate()?;
+    if settings.points < 4 {
+        return Err(ShadowError::BadRequest(format!(
+            "the curve needs at least 4 points, got {}",
+            settings.points
+        )));
+    }
+    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0) {
+        return Err(ShadowError::BadRequest(format!(
+            "the tolerance must be a positive number, got {}",
+            settings.tolerance
+        )));
+    }
+    let problem = Problem::new(spacetime, observer, with_exponents)?;
+    let mut result = problem.run(settings)?;
+    result.diagnostics.wall_seconds = start.elapsed().as_secs_f64();
+    Ok(result)
+}
+
+/// The screen map for one observer.
+enum Screen {
+    /// α = −λ/sin θ_o, β = √Θ(θ_o).
+    Distant { sin_o: f64 },
+    /// ZAMO at (r_o, θ_o).
+    Finite {
+        tetrad: Tetrad,
+        r_o: f64,
+        theta_o: f64,
+        sqrt_g_thth: f64,
+    },
+}
+
+/// How an orbit is parametrised along the curve.
+#[derive(Clone, Copy)]
+enum Family {
+    /// By its radius s = r (the generic case).
+    Radius,
+    /// A single photon sphere r_c with η + λ² = K, parametrised by s = λ.
+    Degenerate { r_c: f64, k: f64 },
+}
+
+/// Θ(θ_o; λ, η) as an exact quadratic in (λ, η) when the metric's polar potential is one.
+struct PolarAtObserver {
+    theta: f64,
+    /// [Θ, ∂_λ, ∂_η, ∂²_λλ, ∂²_λη, ∂²_ηη] at (λ, η) = (0, 0).
+    quadratic: Option<[f64; 6]>,
+}
+
+struct Problem<'a> {
+    spacetime: &'a dyn Spacetime,
+    polar: PolarAtObserver,
+    screen: Screen,
+    face_on: bool,
+    /// Set once the radial potential has been verified to be exactly quadratic in (λ, η).
+    exact_quadratic: std::cell::Cell<bool>,
+    /// Whether to compute the γ range.
+    with_exponents: bool,
+}
+
+/// R = r0 + r1 λ + r2 λ² + r3 η and ∂_r R = d0 + d1 λ + d2 λ² + d3 η at one radius.
+struct RadialModel {
+    r: [f64; 4],
+    dr: [f64; 4],
+}
+
+impl RadialModel {
+    fn at(&self, l: f64, e: f64) -> (f64, f64) {
+        let f = |c: &[f64; 4]| c[0] + c[1] * l + c[2] * l * l + c[3] * e;
+        (f(&self.r), f(&self.dr))
+    }
+}
+
+/// The orbits whose γ range is reported.
+enum GammaSource {
+    /// One orbit (the face-on limit).
+    Single(SphericalOrbit),
+    /// The orbits s ∈ [s_lo, s_hi] of a family.
+    Along {
+        family: Family,
+        s_lo: f64,
+        s_hi: f64,
+    },
+}
+
+/// A sampled upper half-curve.
+struct Sampled {
+    origin: [f64; 2],
+    radii: Vec<f64>,
+    star_shaped: bool,
+    extra_crossings: Vec<(f64, Vec<f64>)>,
+    /// Where γ is evaluated.
+    gamma_source: GammaSource,
+}
+
+fn not_converged(what: String) -> ShadowError {
+    ShadowError::NotConverged(what)
+}
+
+fn no_shadow(reason: String) -> ShadowResult {
+    ShadowResult {
+        solver: SolverKind::Separable,
+        status: ShadowStatus::NoShadow { reason },
+        curve: None,
+        photon_orbit_radii: None,
+        photon_spheres: Vec::new(),
+        exponents: None,
+        diagnostics: Diagnostics::default(),
+    }
+}
+
+impl PolarAtObserver {
+    fn new(spacetime: &dyn Spacetime, theta: f64) -> Result<Self, ShadowError> {
+        let jet = polar_jet(spacetime, theta, 0.0, 0.0)?;
+        let h = jet.hessian;
+        let q = [
+            jet.value,
+            jet.gradient[1],
+            jet.gradient[2],
+            h[1][1],
+            h[1][2],
+            h[2][2],
+        ];
+        let model = |l: f64, e: f64| {
+            q[0] + q[1] * l + q[2] * e + 0.5 * q[3] * l * l + q[4] * l * e + 0.5 * q[5] * e * e
+        };
+        let mut exact = q.iter().all(|x| x.is_finite());
+        for (l, e) in [(2.5, 7.0), (-4.0, 13.0), (0.7, -3.0)] {
+            let v = polar_jet(spacetime, theta, l, e)?.value;
+            exact &= (v - model(l, e)).abs() <= 1e-12 * (1.0 + v.abs());
+        }
+        Ok(PolarAtObserver {
+            theta,
+            quadratic: exact.then_some(q),
+        })
+    }
+
+    fn value(&self, spacetime: &dyn Spacetime, l: f64, e: f64) -> Result<f64, ShadowError> {
+        match self.quadratic {
+            Some(q) => Ok(q[0]
+                + q[1] * l
+                + q[2] * e
+                + 0.5 * q[3] * l * l
+                + q[4] * l * e
+                + 0.5 * q[5] * e * e),
+            None => Ok(polar_jet(spacetime, self.theta, l, e)?.value),
+        }
+    }
+}
+
+fn polar_jet(
+    spacetime: &dyn Spacetime,
+    theta: f64,
+    l: f64,
+    e: f64,
+) -> Result<PotentialJet, ShadowError> {
+    let jet = spacetime
+        .polar_potential_jet(theta, l, e)
+        .ok_or_else(|| not_applicable(spacetime, "the metric provides no polar potential"))?;
+    if !jet.value.is_finite() {
+        return Err(ShadowError::BadRequest(format!(
+            "the polar potential is not finite at theta = {theta}"
+        )));
+    }
+    Ok(jet)
+}
+
+fn not_applicable(spacetime: &dyn Spacetime, why: &str) -> ShadowError {
+    ShadowError::SolverNotApplicable {
+        solver: "separable",
+        metric: spacetime.info().name,
+        why: why.into(),
+    }
+}
+
+/// Real roots of A x² + B x + C = 0 (the stable form), fewest first when A vanishes.
+fn quadratic_roots(a: f64, b: f64, c: f64) -> Vec<f64> {
+    if a == 0.0 || a.abs() <= 1e-14 * b.abs() {
+        return if b != 0.0 { vec![-c / b] } else { Vec::new() };
+    }
+    let disc = b * b - 4.0 * a * c;
+    if disc < 0.0 {
+        return Vec::new();
+    }
+    let q = -0.5 * (b + b.signum() * disc.sqrt());
+    if q == 0.0 {
+        return vec![0.0];
+    }
+    vec![q / a, c / q]
+}
+
+impl<'a> Problem<'a> {
+    fn new(
+        spacetime: &'a dyn Spacetime,
+        observer: &Observer,
+        with_exponents: bool,
+    ) -> Result<Self, ShadowError> {
+        let theta_o = observer.inclination;
+        // On the axis itself the polar potential is evaluated just off it (cot θ finite).
+        let theta_p = theta_o.max(1e-100);
+        let sin_o = theta_p.sin();
+        let face_on = sin_o < FACE_ON_SIN;
+        let screen = match observer.radius {
+            None => Screen::Distant { sin_o },
+            Some(r_o) => {
+                let tetrad = zamo_tetrad(spacetime, r_o, theta_p)?;
+                let g = spacetime.components_at(r_o, theta_p);
+                Screen::Finite {
+                    tetrad,
+                    r_o,
+                    theta_o: theta_p,
+                    sqrt_g_thth: g.g_thth.sqrt(),
+                }
+            }
+        };
+        Ok(Problem {
+            spacetime,
+            polar: PolarAtObserver::new(spacetime, theta_p)?,
+            screen,
+            face_on,
+            exact_quadratic: std::cell::Cell::new(false),
+            with_exponents,
+        })
+    }
+
+    fn radial(&self, r: f64, l: f64, e: f64) -> Result<PotentialJet, ShadowError> {
+        let jet = self
+            .spacetime
+            .radial_potential_jet(r, l, e)
+            .ok_or_else(|| {
+                not_applicable(self.spacetime, "the metric provides no radial potential")
+            })?;
+        let finite = jet.value.is_finite()
+            && jet.gradient.iter().all(|x| x.is_finite())
+            && jet.hessian.iter().flatten().all(|x| x.is_finite());
+        if !finite {
+            return Err(ShadowError::BadRequest(format!(
+                "the radial potential is not finite at r = {r}"
+            )));
+        }
+        Ok(jet)
+    }
+
+    fn beta_squared(&self, l: f64, e: f64) -> Result<f64, ShadowError> {
+        self.polar.value(self.spacetime, l, e)
+    }
+
+    /// Whether R depends on (λ, η) only through η + λ² (checked at two radii, three points).
+    fn is_degenerate(&self, r_lo: f64) -> Result<bool, ShadowError> {
+        for r in [r_lo + 1.3, r_lo + 4.1] {
+            let base = self.radial(r, 0.0, 20.0)?.value;
+            for (l, e) in [(3.0, 11.0), (-2.0, 16.0)] {
+                let v = self.radial(r, l, e)?.value;
+                if (v - base).abs() > 1e-12 * (base.abs() + r.powi(4)) {
+                    return Ok(false);
+                }
+            }
+        }
+        Ok(true)
+    }
+
+    /// Newton's method in (λ, η) on (R, ∂_r R) = 0 at fixed r, with the exact Jacobian.
+    fn polish(&self, r: f64, mut l: f64, mut e: f64) -> Result<(f64, f64), ShadowError> {
+        let mut last_step = f64::INFINITY;
+        for _ in 0..MAX_NEWTON {
+            let j = self.radial(r, l, e)?;
+            let (f0, f1) = (j.value, j.gradient[0]);
+            let (a11, a12) = (j.gradient[1], j.gradient[2]);
+            let (a21, a22) = (j.hessian[0][1], j.hessian[0][2]);
+            let det = a11 * a22 - a12 * a21;
+            if !(det.abs() > 0.0 && det.is_finite()) {
+                return Err(not_converged(format!(
+                    "singular Jacobian solving R = R' = 0 at r = {r}"
+                )));
+            }
+            let dl = (f0 * a22 - a12 * f1) / det;
+            let de = (a11 * f1 - a21 * f0) / det;
+            l -= dl;
+            e -= de;
+            let step = (dl.abs() / (1.0 + l.abs())).max(de.abs() / (1.0 + e.abs()));
+            // Converged, or at the rounding floor (the step stopped shrinking).
+            if step <= 1e-14 || (step < 1e-9 && step >= 0.5 * last_step) {
+                return Ok((l, e));
+            }
+            last_step = step;
+        }
+        Err(not_converged(format!(
+            "Newton's method for the spherical photon orbit at r = {r} did not converge"
+        )))
+    }
+
+    /// The spherical photon orbit at radius r that best reaches the observer, if any.
+    /// R and ∂_r R at r as quadratics in λ (linear in η), from jets at (r, 0, 0) and (r, 1, 0).
+    fn radial_model(&self, r: f64) -> Result<RadialModel, ShadowError> {
+        let j0 = self.radial(r, 0.0, 0.0)?;
+        let j1 = self.radial(r, 1.0, 0.0)?;
+        Ok(RadialModel {
+            r: [
+                j0.value,
+                j0.gradient[1],
+                0.5 * j0.hessian[1][1],
+                j0.gradient[2],
+            ],
+            dr: [
+                j0.gradient[0],
+                j0.hessian[0][1],
+                j1.gradient[0] - j0.gradient[0] - j0.hessian[0][1],
+                j0.hessian[0][2],
+            ],
+        })
+    }
+
+    /// Whether R is exactly quadratic in λ and linear in η with no λη term, tested against
+    /// full evaluations at three radii and two points each.
+    fn radial_is_quadratic(&self, r_lo: f64) -> Result<bool, ShadowError> {
+        for r in [r_lo + 0.7, r_lo + 2.3, r_lo + 5.9] {
+            let m = self.radial_model(r)?;
+            for (l, e) in [(2.7, 5.3), (-3.1, 17.0)] {
+                let j = self.radial(r, l, e)?;
+                let (v, dv) = m.at(l, e);
+                let scale = r.powi(4) + r * r * (l * l + e.abs()) + 1.0;
+                if (v - j.value).abs() > 1e-12 * scale || (dv - j.gradient[0]).abs() > 1e-12 * scale
+                {
+                    return Ok(false);
+                }
+            }
+        }
+        Ok(true)
+    }
+
+    /// The spherical photon orbit at radius r that best reaches the observer, if any.
+    fn orbit_at_radius(&self, r: f64) -> Result<Option<SphericalOrbit>, ShadowError> {
+        let m = self.radial_model(r)?;
+        let [c0, c1, c2, d] = m.r;
+        let [e0, e1, e2, f] = m.dr;
+        if d == 0.0 {
+            return Ok(None);
+        }
+        // R = 0 gives η = −(c0 + c1 λ + c2 λ²)/d; then d·R′ = 0 is a quadratic in λ.
+        let roots = quadratic_roots(e2 * d - f * c2, e1 * d - f * c1, e0 * d - f * c0);
+        let mut best: Option<(f64, f64, f64)> = None;
+        for l in roots {
+            let e = -(c0 + c1 * l + c2 * l * l) / d;
+            let b2 = self.beta_squared(l, e)?;
+            if b2.is_finite() && best.is_none_or(|(_, _, b)| b2 > b) {
+                best = Some((l, e, b2));
+            }
+        }
+        match best {
+            None => Ok(None),
+            // An exact model needs no polish: its root is as accurate as Newton's.
+            Some((lambda, eta, _)) if self.exact_quadratic.get() => {
+                Ok(Some(SphericalOrbit { r, lambda, eta }))
+            }
+            Some((l, e, _)) => {
+                let (lambda, eta) = self.polish(r, l, e)?;
+                Ok(Some(SphericalOrbit { r, lambda, eta }))
+            }
+        }
+    }
+
+    /// K(r) with R(r; 0, K) = 0 for a degenerate metric (Newton; R is linear in K).
+    fn degenerate_k(&self, r: f64) -> Result<f64, ShadowError> {
+        let mut k = 0.0;
+        for _ in 0..MAX_NEWTON {
+            let j = self.radial(r, 0.0, k)?;
+            let step = j.value / j.gradient[2];
+            if !step.is_finite() {
+                return Err(not_converged(format!("no K(r) at r = {r}")));
+            }
+            k -= step;
+            if step.abs() <= 1e-15 * (1.0 + k.abs()) {
+                return Ok(k);
+            }
+        }
+        Ok(k)
+    }
+
+    fn orbit(&self, family: Family, s: f64) -> Result<SphericalOrbit, ShadowError> {
+        match family {
+            Family::Radius => self.orbit_at_radius(s)?.ok_or_else(|| {
+                not_converged(format!(
+                    "no spherical photon orbit at r = {s} inside the admissible range"
+                ))
+            }),
+            Family::Degenerate { r_c, k } => Ok(SphericalOrbit {
+                r: r_c,
+                lambda: s,
+                eta: k - s * s,
+            }),
+        }
+    }
+
+    /// A finite observer must lie outside every orbit that forms the curve, so that each
+    /// critical photon reaches it moving outwards (p_r > 0).
+    fn require_observer_outside(&self, r_max: f64) -> Result<(), ShadowError> {
+        match self.screen {
+            Screen::Finite { r_o, .. } if r_o <= r_max => Err(ShadowError::BadRequest(format!(
+                "the observer at r = {r_o} is inside the photon region (its outer edge is at r = {r_max})"
+            ))),
+            _ => Ok(()),
+        }
+    }
+
+    /// The upper-half screen point (α, β ≥ 0) of an orbit.
+    fn screen_point(&self, o: &SphericalOrbit) -> Result<(f64, f64), ShadowError> {
+        let b2 = self.beta_squared(o.lambda, o.eta)?.max(0.0);
+        match &self.screen {
+            Screen::Distant { sin_o } => Ok((-o.lambda / sin_o, b2.sqrt())),
+            Screen::Finite {
+                tetrad,
+                r_o,
+                theta_o,
+                sqrt_g_thth,
+            } => {
+                let p_theta = b2.sqrt();
+                let p_r = null_radial_momentum(
+                    self.spacetime,
+                    *r_o,
+                    *theta_o,
+                    -1.0,
+                    p_theta,
+                    o.lambda,
+                    1.0,
+                )
+                .ok_or_else(|| {
+                    ShadowError::BadRequest(format!(
+                        "the observer at r = {r_o} is inside the photon region: the orbit at r = {} does not reach it",
+                        o.r
+                    ))
+                })?;
+                let (theta_c, psi_c) = tetrad.celestial(&[-1.0, p_r, p_theta, o.lambda])?;
+                if theta_c > 0.5 * PI {
+                    return Err(ShadowError::BadRequest(format!(
+                        "the shadow covers more than a hemisphere of the sky at r = {r_o}: it cannot be drawn on the screen"
+                    )));
+                }
+                let rho = sqrt_g_thth * theta_c.sin();
+                Ok((rho * psi_c.cos(), rho * psi_c.sin()))
+            }
+        }
+    }
+
+    /// Scan radii from just outside the outer horizon r_h to max(12, 4 r_h).
+    fn scan_grid(r_h: f64) -> (f64, Vec<f64>) {
+        let r_lo = r_h + 1e-6 * r_h.max(1.0);
+        let r_hi = (4.0 * r_lo).max(12.0);
+        let grid = (0..SCAN_POINTS)
+            .map(|i| r_lo + (r_hi - r_lo) * i as f64 / (SCAN_POINTS - 1) as f64)
+            .collect();
+        (r_lo, grid)
+    }
+
+    fn run(&self, settings: &ShadowSettings) -> Result<ShadowResult, ShadowError> {
+        let horizon = self
+            .spacetime
+            .outer_horizon()
+            .filter(|r| r.is_finite() && *r > 0.0);
+        let Some(r_h) = horizon else {
+            return Ok(no_shadow(
+                "the metric has no horizon: the separable solver bounds the shadow by photon orbits outside an outer horizon (use the raytracer)"
+                    .into(),
+            ));
+        };
+        let (r_lo, grid) = Self::scan_grid(r_h);
+        self.exact_quadratic.set(self.radial_is_quadratic(r_lo)?);
+        if self.is_degenerate(r_lo)? {
+            return self.run_degenerate(&grid, settings);
+        }
+        // β²(r), with −∞ where no spherical orbit exists.
+        let beta2_at = |r: f64| -> Result<f64, ShadowError> {
+            match self.orbit_at_radius(r)? {
+                Some(o) => self.beta_squared(o.lambda, o.eta),
+                None => Ok(f64::NEG_INFINITY),
+            }
+        };
+        if self.face_on {
+            return self.run_face_on(&grid, settings);
+        }
+        let mut values = Vec::with_capacity(grid.len());
+        for &r in &grid {
+            values.push(beta2_at(r)?);
+        }
+        let i_max = (0..grid.len())
+            .max_by(|&i, &j| values[i].total_cmp(&values[j]))
+            .unwrap_or(0);
+        // Refine the maximum (narrow ranges at small inclination fall between grid points).
+        let (lo, hi) = (
+            grid[i_max.saturating_sub(1)],
+            grid[(i_max + 1).min(grid.len() - 1)],
+        );
+        let (r_peak, peak) = golden_max(&beta2_at, lo, hi)?;
+        let (r_peak, peak) = if peak >= values[i_max] {
+            (r_peak, peak)
+        } else {
+            (grid[i_max], values[i_max])
+        };
+        if peak.is_nan() || peak <= 0.0 {
+            return Ok(no_shadow(format!(
+                "no spherical photon orbit reaches the observer's latitude (max Theta(theta_o) = {peak:e})"
+            )));
+        }
+        let runs = values
+            .windows(2)
+            .filter(|w| w[0] <= 0.0 && w[1] > 0.0)
+            .count()
+            + usize::from(values[0] > 0.0);
+        if runs > 1 {
+            return Err(not_converged(
+                "several disjoint ranges of admissible photon orbits: not supported by the separable solver"
+                    .into(),
+            ));
+        }
+        let left = (0..i_max)
+            .rev()
+            .find(|&i| values[i] < 0.0 && grid[i] < r_peak);
+        let right = (i_max..grid.len()).find(|&i| values[i] < 0.0 && grid[i] > r_peak);
+        let (Some(left), Some(right)) = (left, right) else {
+            return Ok(no_shadow(format!(
+                "the admissible photon orbits reach the edge of the scanned range [{}, {}]: the critical curve does not close",
+                grid[0],
+                grid[grid.len() - 1]
+            )));
+        };
+        let r_min = root(
+            &beta2_at,
+            grid[left],
+            r_peak,
+            "the inner end of the photon region",
+        )?;
+        let r_max = root(
+            &beta2_at,
+            r_peak,
+            grid[right],
+            "the outer end of the photon region",
+        )?;
+        self.require_observer_outside(r_max)?;
+        let sampled = self.sample(Family::Radius, r_min, r_max, settings)?;
+        self.finish(sampled, [r_min, r_max])
+    }
+
+    fn run_degenerate(
+        &self,
+        grid: &[f64],
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        // The photon sphere is the minimum of K(r) = η + λ² over r (Synge 1966).
+        let mut ks = Vec::with_capacity(grid.len());
+        for &r in grid {
+            ks.push(self.degenerate_k(r)?);
+        }
+        let i_min = (0..grid.len())
+            .filter(|&i| ks[i] > 0.0)
+            .min_by(|&i, &j| ks[i].total_cmp(&ks[j]));
+        let Some(i_min) = i_min.filter(|&i| i > 0 && i + 1 < grid.len()) else {
+            return Ok(no_shadow(
+                "K(r) = eta + lambda^2 has no minimum outside the horizon: no photon sphere".into(),
+            ));
+        };
+        let slope = |r: f64| -> Result<f64, ShadowError> {
+            let k = self.degenerate_k(r)?;
+            Ok(self.radial(r, 0.0, k)?.gradient[0])
+        };
+        let r_c = root(
+            &slope,
+            grid[i_min - 1],
+            grid[i_min + 1],
+            "the photon sphere",
+        )?;
+        let k = self.degenerate_k(r_c)?;
+        self.require_observer_outside(r_c)?;
+        if self.face_on {
+            let orbit = SphericalOrbit {
+                r: r_c,
+                lambda: 0.0,
+                eta: k,
+            };
+            return self.face_on_circle(orbit, [r_c, r_c], settings);
+        }
+        // λ range where Θ(θ_o; λ, K − λ²) ≥ 0, about λ = 0.
+        let b2 = |l: f64| self.beta_squared(l, k - l * l);
+        let centre = b2(0.0)?;
+        if centre.is_nan() || centre <= 0.0 {
+            return Ok(no_shadow(
+                "no photon on the photon sphere reaches the observer".into(),
+            ));
+        }
+        let mut ends = [0.0; 2];
+        for (end, sign) in ends.iter_mut().zip([-1.0, 1.0]) {
+            let mut step = 1e-3 * k.abs().sqrt().max(1.0);
+            let mut inner = 0.0;
+            let mut outer = sign * step;
+            while b2(outer)? > 0.0 {
+                inner = outer;
+                step *= 2.0;
+                outer = sign * step;
+                if step > 1e8 {
+                    return Err(not_converged(
+                        "unbounded range of lambda on the photon sphere".into(),
+                    ));
+                }
+            }
+            *end = root(&b2, inner, outer, "the end of the lambda range")?;
+        }
+        let sampled = self.sample(Family::Degenerate { r_c, k }, ends[0], ends[1], settings)?;
+        self.finish(sampled, [r_c, r_c])
+    }
+
+    /// Face-on: the polar orbit (λ = 0) and its limit circle. With λ = 0 a root of the
+    /// quadratic of [`Self::orbit_at_radius`], its constant term d·e0 − f·c0 vanishes at r*:
+    /// a smooth function of r, free of the choice between the two roots.
+    fn run_face_on(
+        &self,
+        grid: &[f64],
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        let constant_term = |r: f64| -> Result<f64, ShadowError> {
+            let m = self.radial_model(r)?;
+            Ok(m.dr[0] * m.r[3] - m.dr[3] * m.r[0])
+        };
+        let mut values = Vec::with_capacity(grid.len());
+        for &r in grid {
+            values.push(constant_term(r)?);
+        }
+        let mut candidates = Vec::new();
+        for i in 0..grid.len() - 1 {
+            if values[i] * values[i + 1] <= 0.0 {
+                let r = root(
+                    &constant_term,
+                    grid[i],
+                    grid[i + 1],
+                    "the polar photon orbit",
+                )?;
+                let orbit = self.polar_orbit(r)?;
+                let polar = self.beta_squared(0.0, orbit.eta)?;
+                if polar > 0.0 {
+                    candidates.push(orbit);
+                }
+            }
+        }
+        let orbit = match candidates.as_slice() {
+            [] => {
+                return Ok(no_shadow(
+                    "no spherical photon orbit with lambda = 0 reaches the axis".into(),
+                ))
+            }
+            [orbit] => *orbit,
+            _ => {
+                return Err(not_converged(
+                    "several polar photon orbits: not supported by the separable solver".into(),
+                ))
+            }
+        };
+        self.require_observer_outside(orbit.r)?;
+        self.face_on_circle(orbit, [orbit.r, orbit.r], settings)
+    }
+
+    /// The λ = 0 spherical orbit near r: Newton's method in (r, η) on R = ∂_r R = 0.
+    fn polar_orbit(&self, r0: f64) -> Result<SphericalOrbit, ShadowError> {
+        let m = self.radial_model(r0)?;
+        let (mut r, mut eta) = (r0, -m.r[0] / m.r[3]);
+        let mut last_step = f64::INFINITY;
+        for _ in 0..MAX_NEWTON {
+            let j = self.radial(r, 0.0, eta)?;
+            let (f0, f1) = (j.value, j.gradient[0]);
+            let (a11, a12) = (j.gradient[0], j.gradient[2]);
+            let (a21, a22) = (j.hessian[0][0], j.hessian[0][2]);
+            let det = a11 * a22 - a12 * a21;
+            if det == 0.0 || !det.is_finite() {
+                return Err(not_converged(format!(
+                    "singular Jacobian for the polar photon orbit near r = {r}"
+                )));
+            }
+            let dr = (f0 * a22 - a12 * f1) / det;
+            let de = (a11 * f1 - a21 * f0) / det;
+            r -= dr;
+            eta -= de;
+            let step = (dr.abs() / r).max(de.abs() / (1.0 + eta.abs()));
+            // Converged, or at the rounding floor (the step stopped shrinking).
+            let done = step <= 1e-15 || (step < 1e-9 && step >= 0.5 * last_step);
+            last_step = step;
+            if done {
+                return Ok(SphericalOrbit {
+                    r,
+                    lambda: 0.0,
+                    eta,
+                });
+            }
+        }
+        Err(not_converged(format!(
+            "Newton's method for the polar photon orbit near r = {r0} did not converge"
+        )))
+    }
+
+    fn face_on_circle(
+        &self,
+        orbit: SphericalOrbit,
+        radii: [f64; 2],
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        let polar = self.beta_squared(0.0, orbit.eta)?;
+        if polar.is_nan() || polar <= 0.0 {
+            return Ok(no_shadow(
+                "the polar photon orbit does not reach the observer".into(),
+            ));
+        }
+        let (_, rho) = self.screen_point(&orbit)?;
+        let points = settings.points;
+        let sampled = Sampled {
+            origin: [0.0, 0.0],
+            radii: vec![rho; points],
+            star_shaped: true,
+            extra_crossings: Vec::new(),
+            gamma_source: GammaSource::Single(orbit),
+        };
+        self.finish(sampled, radii)
+    }
+
+    /// Sample the curve uniformly in screen polar angle (module docs).
+    fn sample(
+        &self,
+        family: Family,
+        s_lo: f64,
+        s_hi: f64,
+        settings: &ShadowSettings,
+    ) -> Result<Sampled, ShadowError> {
+        let n = settings.points;
+        let (mid, half) = (0.5 * (s_lo + s_hi), 0.5 * (s_hi - s_lo));
+        // s = mid − half cos u: near the ends β ∝ √(s − s_end) ∝ u, so ψ(u) is smooth there.
+        let s_of = |u: f64| match u {
+            u if u <= 0.0 => s_lo,
+            u if u >= PI => s_hi,
+            u => mid - half * u.cos(),
+        };
+        let angle = |j: usize| PI * j as f64 / TABLE_INTERVALS as f64;
+        let mut points = Vec::with_capacity(TABLE_INTERVALS + 1);
+        for j in 0..=TABLE_INTERVALS {
+            let s = s_of(angle(j));
+            let o = self.orbit(family, s)?;
+            let (x, mut y) = self.screen_point(&o)?;
+            if j == 0 || j == TABLE_INTERVALS {
+                y = 0.0; // the ends lie on the α axis (Θ = 0 there up to rounding)
+            }
+            if !(x.is_finite() && y.is_finite()) {
+                return Err(not_converged(format!("non-finite screen point at s = {s}")));
+            }
+            points.push((x, y));
+        }
+        let x0 = 0.5 * (points[0].0 + points[TABLE_INTERVALS].0);
+        let psi_of = |(x, y): (f64, f64)| y.atan2(x - x0);
+        let psis: Vec<f64> = points.iter().map(|&p| psi_of(p)).collect();
+        let increasing = psis.windows(2).all(|w| w[1] > w[0]);
+        let decreasing = psis.windows(2).all(|w| w[1] < w[0]);
+        let star_shaped = increasing || decreasing;
+        let radius_of = |(x, y): (f64, f64)| (x - x0).hypot(y);
+
+        let mut radii = vec![0.0; n];
+        let mut extra_crossings = Vec::new();
+        for (k, radius) in radii.iter_mut().enumerate().take(n / 2 + 1) {
+            let target = TAU * k as f64 / n as f64;
+            let mut crossings = Vec::new();
+            for (j, &psi) in psis.iter().enumerate() {
+                if psi == target {
+                    crossings.push(radius_of(points[j]));
+                }
+            }
+            for j in 0..TABLE_INTERVALS {
+                let (p0, p1) = (psis[j] - target, psis[j + 1] - target);
+                if p0 * p1 >= 0.0 {
+                    continue;
+                }
+                let mut failure = None;
+                // Brent's method (the `roots` crate) re-evaluates the bracket ends at every
+                // step: remember the last few points, starting with the table nodes.
+                let mut memo = [
+                    (s_of(angle(j)), points[j]),
+                    (s_of(angle(j + 1)), points[j + 1]),
+                    (f64::NAN, (0.0, 0.0)),
+                    (f64::NAN, (0.0, 0.0)),
+                ];
+                let mut slot = 2;
+                let mut psi_minus_target = |s: f64| {
+                    if let Some((_, p)) = memo.iter().find(|(m, _)| *m == s) {
+                        return psi_of(*p) - target;
+                    }
+                    match self.orbit(family, s).and_then(|o| self.screen_point(&o)) {
+                        Ok(p) => {
+                            memo[slot % memo.len()] = (s, p);
+                            slot += 1;
+                            psi_of(p) - target
+                        }
+                        Err(e) => {
+                            failure.get_or_insert(e);
+                            0.0
+                        }
+                    }
+                };
+                // Stop when the point is placed to 1% of the tolerance along the curve.
+                let chord = (points[j + 1].0 - points[j].0).hypot(points[j + 1].1 - points[j].1);
+                let xtol = 0.01 * settings.tolerance * (angle(j + 1) - angle(j)) / chord;
+                let u = brent_root(|u| psi_minus_target(s_of(u)), angle(j), angle(j + 1), xtol)
+                    .map_err(|e| not_converged(format!("screen angle {target}: {e}")))?;
+                let s = s_of(u);
+                if let Some(e) = failure {
+                    return Err(e);
+                }
+                let p = match memo.iter().find(|(m, _)| *m == s) {
+                    Some((_, p)) => *p,
+                    None => self.screen_point(&self.orbit(family, s)?)?,
+                };
+                let r = radius_of(p);
+                let miss = (psi_of(p) - target).abs() * r;
+                if miss.is_nan() || miss > settings.tolerance {
+                    return Err(not_converged(format!(
+                        "the curve point at screen angle {target} is off by {miss:e} M (tolerance {})",
+                        settings.tolerance
+                    )));
+                }
+                crossings.push(r);
+            }
+            let Some(outer) = crossings.iter().copied().reduce(f64::max) else {
+                return Err(not_converged(format!(
+                    "no curve point at screen angle {target}: the origin lies outside the curve"
+                )));
+            };
+            *radius = outer;
+            if crossings.len() > 1 {
+                extra_crossings.push((target, crossings));
+            }
+        }
+        for k in n / 2 + 1..n {
+            radii[k] = radii[n - k];
+        }
+        Ok(Sampled {
+            origin: [x0, 0.0],
+            radii,
+            star_shaped: star_shaped && extra_crossings.is_empty(),
+            extra_crossings,
+            gamma_source: GammaSource::Along { family, s_lo, s_hi },
+        })
+    }
+
+    /// Min and max of γ over the orbits: γ on `GAMMA_NODES` + 1 orbits uniform in u
+    /// (s = s̄ − h cos u), then each interior extremum refined by safeguarded parabolic
+    /// interpolation in u (to 1e-7 in u; at an extremum γ is then off by O(1e-14)).
+    fn gamma_range(&self, source: &GammaSource) -> Result<(f64, f64), ShadowError> {
+        let (family, s_lo, s_hi) = match *source {
+            GammaSource::Single(o) => {
+                let g = separable_gamma(self.spacetime, o.r, o.lambda, o.eta)?;
+                return Ok((g, g));
+            }
+            GammaSource::Along { family, s_lo, s_hi } => (family, s_lo, s_hi),
+        };
+        let (mid, half) = (0.5 * (s_lo + s_hi), 0.5 * (s_hi - s_lo));
+        let gamma = |u: f64| -> Result<f64, ShadowError> {
+            let s = match u {
+                u if u <= 0.0 => s_lo,
+                u if u >= PI => s_hi,
+                u => mid - half * u.cos(),
+            };
+            let o = self.orbit(family, s)?;
+            separable_gamma(self.spacetime, o.r, o.lambda, o.eta)
+        };
+        let nodes: Vec<f64> = (0..=GAMMA_NODES)
+            .map(|j| PI * j as f64 / GAMMA_NODES as f64)
+            .collect();
+        let mut values = Vec::with_capacity(nodes.len());
+        for &u in &nodes {
+            values.push(gamma(u)?);
+        }
+        let mut range = [f64::INFINITY, f64::NEG_INFINITY];
+        for (slot, sign) in range.iter_mut().zip([1.0, -1.0]) {
+            // Minimise sign·γ.
+            let i = (0..nodes.len())
+                .min_by(|&i, &j| (sign * values[i]).total_cmp(&(sign * values[j])))
+                .unwrap_or(0);
+            *slot = if i == 0 || i == GAMMA_NODES {
+                values[i]
+            } else {
+                let f = |u: f64| gamma(u).map(|g| sign * g);
+                let bracket = [
+                    (nodes[i - 1], sign * values[i - 1]),
+                    (nodes[i], sign * values[i]),
+                    (nodes[i + 1], sign * values[i + 1]),
+                ];
+                sign * parabolic_min(&f, bracket)?
+            };
+        }
+        Ok((range[0], range[1]))
+    }
+
+    fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
+        // The curve does not depend on γ: `None` if any evaluation fails.
+        let exponents = if !self.with_exponents {
+            None
+        } else {
+            self.gamma_range(&sampled.gamma_source).ok()
+        }
+        .map(|(lo, hi)| RingExponents {
+            lyapunov: None,
+            gamma_min: lo,
+            gamma_max: hi,
+        });
+        Ok(ShadowResult {
+            solver: SolverKind::Separable,
+            status: ShadowStatus::Shadow,
+            curve: Some(CriticalCurve {
+                origin: sampled.origin,
+                radii: sampled.radii,
+            }),
+            photon_orbit_radii: Some(radii),
+            photon_spheres: Vec::new(),
+            exponents,
+            diagnostics: Diagnostics {
+                star_shaped: sampled.star_shaped,
+                extra_crossings: sampled.extra_crossings,
+                ..Diagnostics::default()
+            },
+        })
+    }
+}
+
+/// Brent's method on a fallible function; errors inside stop the search and are returned.
+fn root(
+    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
+    lo: f64,
+    hi: f64,
+    what: &str,
+) -> Result<f64, ShadowError> {
+    let mut failure = None;
+    let x = brent_root(
+        |x| match f(x) {
+            Ok(v) => v,
+            Err(e) => {
+                failure.get_or_insert(e);
+                0.0
+            }
+        },
+        lo,
+        hi,
+        0.0,
+    )
+    .map_err(|e| not_converged(format!("{what}: {e}")))?;
+    match failure {
+        Some(e) => Err(e),
+        None => Ok(x),
+    }
+}
+
+/// The minimum of `f` in a bracket a < b < c with f(b) ≤ f(a), f(c): successive parabolic
+/// interpolation, with a golden-section step whenever the parabola's vertex leaves the bracket.
+/// Returns the smallest value evaluated.
+fn parabolic_min(
+    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
+    bracket: [(f64, f64); 3],
+) -> Result<f64, ShadowError> {
+    let [(mut a, mut fa), (mut b, mut fb), (mut c, mut fc)] = bracket;
+    let golden = 0.5 * (3.0 - 5f64.sqrt());
+    for _ in 0..40 {
+        let p = (b - a) * (b - a) * (fb - fc) - (b - c) * (b - c) * (fb - fa);
+        let q = (b - a) * (fb - fc) - (b - c) * (fb - fa);
+        let mut x = if q != 0.0 { b - 0.5 * p / q } else { f64::NAN };
+        if x.is_nan() || x <= a || x >= c || x == b {
+            x = if c - b > b - a {
+                b + golden * (c - b)
+            } else {
+                b - golden * (b - a)
+            };
+        }
+        let fx = f(x)?;
+        let moved = (x - b).abs();
+        if fx < fb {
+            if x < b {
+                (c, fc) = (b, fb);
+            } else {
+                (a, fa) = (b, fb);
+            }
+            (b, fb) = (x, fx);
+        } else if x < b {
+            (a, fa) = (x, fx);
+        } else {
+            (c, fc) = (x, fx);
+        }
+        if moved <= 1e-7 || c - a <= 1e-7 {
+            break;
+        }
+    }
+    Ok(fb)
+}
+
+/// Golden-section search for a maximum of `f` on [lo, hi].
+fn golden_max(
+    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
+    mut lo: f64,
+    mut hi: f64,
+) -> Result<(f64, f64), ShadowError> {
+    let ratio = 0.5 * (5f64.sqrt() - 1.0);
+    let mut x1 = hi - ratio * (hi - lo);
+    let mut x2 = lo + ratio * (hi - lo);
+    let (mut f1, mut f2) = (f(x1)?, f(x2)?);
+    for _ in 0..200 {
+        if hi - lo <= 1e-13 * (1.0 + lo.abs()) {
+            break;
+        }
+        if f1 >= f2 {
+            hi = x2;
+            x2 = x1;
+            f2 = f1;
+            x1 = hi - ratio * (hi - lo);
+            f1 = f(x1)?;
+        } else {
+            lo = x1;
+            x1 = x2;
+            f1 = f2;
+            x2 = lo + ratio * (hi - lo);
+            f2 = f(x2)?;
+        }
+    }
+    Ok(if f1 >= f2 { (x1, f1) } else { (x2, f2) })
+}

@@ -1,1 +1,316 @@
-//! placeholder
+//! The exact shadow of a static, spherically symmetric metric ds² = −A dt² + B dr² + C dΩ².
+//!
+//! A light ray from infinity with impact parameter b = L/E obeys B ṙ² = E²(1/A − b²/C), so it
+//! reaches radius r only while b² ≤ C/A all the way in (Synge 1966, Mon. Not. R. Astron. Soc.
+//! 131, 463; Perlick & Tsupko 2022, Phys. Rep. 947, 1). Photon spheres are the extrema of C/A;
+//! a minimum is an unstable circular photon orbit. A ray with b² below the global minimum of
+//! C/A over the region outside the horizon never turns and is captured, so the shadow edge has
+//! b_c = √(min C/A), a circle of radius b_c on the screen of a distant observer at any
+//! inclination. B does not enter.
+//!
+//! A static observer at radius r_o sees the shadow at the angular radius
+//! sin α_sh = b_c √(A(r_o)/C(r_o)) from the centre direction (Synge 1966; Perlick & Tsupko 2022).
+//! Its screen curve is given, by the project's convention for finite observers, as the circle
+//! of radius √C(r_o) · sin α_sh = b_c √A(r_o), which tends to b_c as r_o → ∞ when A → 1.
+
+// `!(x > 0.0)` is used on purpose: it also rejects NaN.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
+use super::exponents::spherical_exponents;
+use super::{
+    CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult, ShadowSettings,
+    ShadowStatus, SolverKind,
+};
+use crate::metric::{Spacetime, Symmetry};
+use crate::numerics::brent_root;
+use std::time::Instant;
+
+/// Outermost radius of the photon-sphere scan, in M.
+const R_FAR: f64 = 1.0e4;
+/// Innermost radius of the scan for a horizonless metric, in M.
+const R_NEAR: f64 = 1.0e-6;
+/// Points of the logarithmic scan.
+const SCAN_POINTS: usize = 8000;
+/// The scan stops this far (relatively) outside a horizon, where C/A diverges.
+const HORIZON_MARGIN: f64 = 1.0e-9;
+/// Fewest curve points accepted.
+const MIN_POINTS: usize = 4;
+
+/// The extrema of C/A and the one that bounds capture.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PhotonSphereAnalysis {
+    /// Every photon sphere found, outermost first.
+    pub spheres: Vec<PhotonSphere>,
+    /// The unstable photon sphere at the global minimum of C/A, which bounds capture; `None`
+    /// when nothing is captured (see `no_shadow_reason`).
+    pub capture: Option<PhotonSphere>,
+    /// Why there is no shadow, when `capture` is `None`.
+    pub no_shadow_reason: Option<String>,
+    /// Innermost radius examined: just outside the horizon, or where A, B, C stop being
+    /// positive and finite (or 1e-6) for a horizonless metric.
+    pub inner_boundary: f64,
+}
+
+/// C/A and (ln C/A)′ = C′/C − A′/A at r, with whether A, B, C are positive and finite there.
+fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
+    let jet = spacetime.spherical_jet(r)?;
+    let [a, a1, _] = jet.a;
+    let [b, _, _] = jet.b;
+    let [c, c1, _] = jet.c;
+    let ok = [a, a1, b, c, c1].iter().all(|x| x.is_finite()) && a > 0.0 && b > 0.0 && c > 0.0;
+    ok.then(|| (c / a, c1 / c - a1 / a))
+}
+
+fn not_spherical(spacetime: &dyn Spacetime) -> ShadowError {
+    ShadowError::SolverNotApplicable {
+        solver: "spherical",
+        metric: spacetime.info().name,
+        why: "the metric is not declared spherically symmetric".to_string(),
+    }
+}
+
+/// Find every photon sphere (root of (C/A)′ = 0) outside the horizon or inner boundary, and
+/// the one that bounds capture.
+///
+/// (ln C/A)′ = C′/C − A′/A is evaluated exactly (dual numbers, via
+/// [`Spacetime::spherical_jet`]) on a logarithmic grid of 8000 radii from 10⁴ inward to just
+/// outside the horizon (or, without a horizon, to where A, B, C stop being positive and finite,
+/// at most to 10⁻⁶); every sign change is refined by Brent's method to full double precision.
+/// A change from − (inside) to + (outside) is a minimum of C/A: an unstable photon sphere.
+/// Two extrema closer together than one grid cell (0.3% in r) are not resolved.
+///
+/// ```
+/// use umbral::prelude::*;
+/// use umbral::shadow::spherical::photon_sphere_analysis;
+///
+/// let rn = ReissnerNordstrom::new(0.5).unwrap();
+/// let found = photon_sphere_analysis(&rn).unwrap();
+/// let r = (3.0 + (9.0f64 - 8.0 * 0.25).sqrt()) / 2.0; // (3 + √(9 − 8q²))/2
+/// assert!((found.capture.unwrap().radius - r).abs() < 1e-13);
+/// ```
+pub fn photon_sphere_analysis(
+    spacetime: &dyn Spacetime,
+) -> Result<PhotonSphereAnalysis, ShadowError> {
+    if spacetime.symmetry() != Symmetry::Spherical || spacetime.spherical_jet(R_FAR).is_none() {
+        return Err(not_spherical(spacetime));
+    }
+    let horizon = spacetime
+        .outer_horizon()
+        .filter(|h| h.is_finite() && *h > 0.0);
+    let r_stop = match horizon {
+        Some(h) => h * (1.0 + HORIZON_MARGIN),
+        None => R_NEAR,
+    };
+    if !(r_stop < R_FAR) {
+        return Err(ShadowError::BadRequest(format!(
+            "the horizon r = {r_stop} lies beyond the photon-sphere scan (r <= {R_FAR})"
+        )));
+    }
+    let (far_value, far_slope) = potential(spacetime, R_FAR).ok_or_else(|| {
+        ShadowError::BadRequest(format!(
+            "A, B, C are not positive and finite at r = {R_FAR}"
+        ))
+    })?;
+    if !(far_slope > 0.0) {
+        return Err(ShadowError::BadRequest(format!(
+            "C/A does not grow outward at r = {R_FAR} (C/A = {far_value:e}): not asymptotically flat"
+        )));
+    }
+    let slope = |r: f64| potential(spacetime, r).map_or(f64::NAN, |p| p.1);
+    let ratio = (r_stop / R_FAR).powf(1.0 / (SCAN_POINTS - 1) as f64);
+    let mut spheres = Vec::new();
+    let (mut r_prev, mut g_prev) = (R_FAR, far_slope);
+    let mut boundary = (R_FAR, far_value, far_slope);
+    for i in 1..SCAN_POINTS {
+        let r = if i == SCAN_POINTS - 1 {
+            r_stop
+        } else {
+            R_FAR * ratio.powi(i as i32)
+        };
+        let Some((value, g)) = potential(spacetime, r) else {
+            break; // inner boundary of a horizonless metric
+        };
+        if (g_prev > 0.0 && g <= 0.0) || (g_prev < 0.0 && g >= 0.0) {
+            let root = brent_root(slope, r, r_prev, 0.0).map_err(|e| {
+                ShadowError::NotConverged(format!(
+                    "photon sphere between r = {r} and {r_prev}: {e}"
+                ))
+            })?;
+            let (ratio_ca, _) = potential(spacetime, root).ok_or_else(|| {
+                ShadowError::NotConverged(format!(
+                    "metric not regular at the photon sphere r = {root}"
+                ))
+            })?;
+            spheres.push(PhotonSphere {
+                radius: root,
+                impact_parameter: ratio_ca.sqrt(),
+                unstable: g_prev > 0.0,
+            });
+        }
+        boundary = (r, value, g);
+        r_prev = r;
+        g_prev = g;
+    }
+    let (inner_boundary, boundary_value, boundary_slope) = boundary;
+    let lowest = spheres
+        .iter()
+        .filter(|s| s.unstable)
+        .min_by(|x, y| x.impact_parameter.total_cmp(&y.impact_parameter))
+        .copied();
+    let (capture, no_shadow_reason) = match lowest {
+        None => (
+            None,
+            Some(format!(
+                "no photon sphere: C/A decreases monotonically from r = {R_FAR} to the inner boundary r = {inner_boundary:e}"
+            )),
+        ),
+        Some(s) if boundary_slope > 0.0 && boundary_value < s.impact_parameter.powi(2) => (
+            None,
+            Some(format!(
+                "photon sphere at r = {} (b = {}), but C/A falls below b^2 towards the inner boundary r = {inner_boundary:e}: rays inside it are turned back, none is captured",
+                s.radius, s.impact_parameter
+            )),
+        ),
+        Some(s) => (Some(s), None),
+    };
+    Ok(PhotonSphereAnalysis {
+        spheres,
+        capture,
+        no_shadow_reason,
+        inner_boundary,
+    })
+}
+
+/// Angular radius α_sh (radians) of the shadow seen by a static observer at `r_o`:
+/// sin α_sh = b_c √(A(r_o)/C(r_o)) (Synge 1966; Perlick & Tsupko 2022). `r_o` must lie outside
+/// every photon sphere.
+///
+/// ```
+/// use umbral::prelude::*;
+/// use umbral::shadow::spherical::shadow_angular_radius;
+///
+/// // Schwarzschild: sin α = 3√3 √(1 − 2/r_o)/r_o (Synge 1966).
+/// let alpha = shadow_angular_radius(&Schwarzschild, 10.0).unwrap();
+/// assert!((alpha.sin() - 27f64.sqrt() * 0.8f64.sqrt() / 10.0).abs() < 1e-14);
+/// ```
+pub fn shadow_angular_radius(spacetime: &dyn Spacetime, r_o: f64) -> Result<f64, ShadowError> {
+    let analysis = photon_sphere_analysis(spacetime)?;
+    let capture = analysis.capture.ok_or_else(|| {
+        ShadowError::BadRequest(analysis.no_shadow_reason.clone().unwrap_or_default())
+    })?;
+    Ok(observer_view(spacetime, &analysis, capture.impact_parameter, r_o)?.0)
+}
+
+/// (α_sh, √A(r_o)) for an observer at r_o, after checking r_o.
+fn observer_view(
+    spacetime: &dyn Spacetime,
+    analysis: &PhotonSphereAnalysis,
+    b_c: f64,
+    r_o: f64,
+) -> Result<(f64, f64), ShadowError> {
+    let outermost = analysis
+        .spheres
+        .iter()
+        .map(|s| s.radius)
+        .fold(0.0, f64::max);
+    if !(r_o.is_finite() && r_o > outermost && r_o > analysis.inner_boundary) {
+        return Err(ShadowError::BadRequest(format!(
+            "observer radius must be finite and outside every photon sphere (r > {outermost}), got {r_o}"
+        )));
+    }
+    let jet = spacetime
+        .spherical_jet(r_o)
+        .ok_or_else(|| not_spherical(spacetime))?;
+    let (a, c) = (jet.a[0], jet.c[0]);
+    if !(a.is_finite() && c.is_finite() && a > 0.0 && c > 0.0) {
+        return Err(ShadowError::BadRequest(format!(
+            "A and C must be positive and finite at the observer, r = {r_o}"
+        )));
+    }
+    let sine = b_c * (a / c).sqrt();
+    if !(sine <= 1.0 + 1e-12) {
+        return Err(ShadowError::NotConverged(format!(
+            "sin(alpha_sh) = {sine} > 1 at r = {r_o}: inconsistent photon-sphere minimum"
+        )));
+    }
+    Ok((sine.min(1.0).asin(), a.sqrt()))
+}
+
+/// The spherical solver: photon spheres, b_c, the circular curve and the ring exponents.
+///
+/// Distant observer: a circle of radius b_c about the origin. Finite observer at r_o (outside
+/// every photon sphere): a circle of radius √C(r_o) sin α_sh = b_c √A(r_o). No minimum of C/A
+/// (or none that captures) gives `ShadowStatus::NoShadow` with the reason and no curve.
+///
+/// ```
+/// use umbral::prelude::*;
+/// use umbral::shadow::{spherical, Observer, ShadowSettings};
+///
+/// let result = spherical::solve(&Schwarzschild, &Observer::distant(1.0), &ShadowSettings::default())
+///     .unwrap();
+/// let curve = result.curve.unwrap();
+/// assert!((curve.radii[0] - 27f64.sqrt()).abs() < 1e-14); // b_c = 3√3 (Synge 1966)
+/// ```
+pub fn solve(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+) -> Result<ShadowResult, ShadowError> {
+    let start = Instant::now();
+    if !(observer.inclination.is_finite()
+        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
+    {
+        return Err(ShadowError::BadRequest(format!(
+            "inclination must lie in [0, pi] radians, got {}",
+            observer.inclination
+        )));
+    }
+    if settings.points < MIN_POINTS {
+        return Err(ShadowError::BadRequest(format!(
+            "need at least {MIN_POINTS} curve points, got {}",
+            settings.points
+        )));
+    }
+    let analysis = photon_sphere_analysis(spacetime)?;
+    let diagnostics = |start: Instant| Diagnostics {
+        star_shaped: true,
+        wall_seconds: start.elapsed().as_secs_f64(),
+        ..Diagnostics::default()
+    };
+    let Some(capture) = analysis.capture else {
+        return Ok(ShadowResult {
+            solver: SolverKind::Spherical,
+            status: ShadowStatus::NoShadow {
+                reason: analysis.no_shadow_reason.clone().unwrap_or_default(),
+            },
+            curve: None,
+            photon_orbit_radii: None,
+            photon_spheres: analysis.spheres,
+            exponents: None,
+            diagnostics: diagnostics(start),
+        });
+    };
+    let b_c = capture.impact_parameter;
+    let screen_radius = match observer.radius {
+        None => b_c,
+        Some(r_o) => b_c * observer_view(spacetime, &analysis, b_c, r_o)?.1,
+    };
+    let exponents = spherical_exponents(spacetime, capture.radius).map_err(|e| {
+        ShadowError::NotConverged(format!(
+            "photon-ring exponents at r = {}: {e}",
+            capture.radius
+        ))
+    })?;
+    Ok(ShadowResult {
+        solver: SolverKind::Spherical,
+        status: ShadowStatus::Shadow,
+        curve: Some(CriticalCurve {
+            origin: [0.0, 0.0],
+            radii: vec![screen_radius; settings.points],
+        }),
+        photon_orbit_radii: Some([capture.radius, capture.radius]),
+        photon_spheres: analysis.spheres,
+        exponents: Some(exponents),
+        diagnostics: diagnostics(start),
+    })
+}

@@ -1,0 +1,360 @@
+//! Observables of critical curves, against closed forms and independent quadratures.
+
+use proptest::prelude::*;
+use std::f64::consts::{PI, TAU};
+use umbral::observables::{
+    radii_about, CentreChoice, Observables, ObservablesError, ReferenceSide,
+};
+use umbral::shadow::CriticalCurve;
+
+fn observe(curve: &CriticalCurve, centre: CentreChoice) -> Observables {
+    Observables::from_curve(curve, centre, None, None).unwrap()
+}
+
+/// Complete elliptic integral of the first kind K(m) = π/(2 AGM(1, √(1 − m)))
+/// (Abramowitz & Stegun 1964, 17.6).
+fn elliptic_k(m: f64) -> f64 {
+    let (mut a, mut b) = (1.0f64, (1.0 - m).sqrt());
+    for _ in 0..60 {
+        let (an, bn) = (0.5 * (a + b), (a * b).sqrt());
+        a = an;
+        b = bn;
+        if (a - b).abs() <= 1e-16 * a {
+            break;
+        }
+    }
+    PI / (2.0 * a)
+}
+
+#[test]
+fn circle_has_no_circularity_deviation_and_exact_offsets() {
+    // A circle of radius R about (α₀, β₀): R̄ = √(A/π) = R, ΔC = 0, centroid = midpoint = (α₀, β₀),
+    // Hioki–Maeda R_s = R, δ_s = 0 (elementary geometry).
+    let (radius, origin) = (5.3, [0.75, -0.25]);
+    for centre in [CentreChoice::Centroid, CentreChoice::Midpoint] {
+        let obs = observe(&CriticalCurve::circle(origin, radius, 128), centre);
+        assert_eq!(obs.centre, centre);
+        assert!(
+            obs.circularity_deviation < 1e-14,
+            "{}",
+            obs.circularity_deviation
+        );
+        assert!((obs.mean_radius - radius).abs() < 1e-13);
+        assert!((obs.area_radius - radius).abs() < 1e-13);
+        assert!((obs.centroid_offset - origin[0]).abs() < 1e-14);
+        assert!((obs.centroid_offset_beta - origin[1]).abs() < 1e-14);
+        assert!((obs.midpoint_offset - origin[0]).abs() < 1e-14);
+        assert!((obs.midpoint_offset_beta - origin[1]).abs() < 1e-14);
+        assert!((obs.width - 2.0 * radius).abs() < 1e-13);
+        assert!((obs.height - 2.0 * radius).abs() < 1e-13);
+        assert!((obs.axis_ratio - 1.0).abs() < 1e-14);
+        assert!((obs.hioki_maeda_radius - radius).abs() < 1e-12);
+        assert!(obs.hioki_maeda_distortion.abs() < 1e-13);
+        let expected = radius / 27f64.sqrt() - 1.0; // δ = R/(3√3) − 1 (physics notes §3)
+        assert!((obs.fractional_deviation_mean - expected).abs() < 1e-14);
+        assert!((obs.fractional_deviation_area - expected).abs() < 1e-14);
+    }
+}
+
+#[test]
+fn off_centre_circle_is_recentred_exactly() {
+    // A circle of radius ρ centred at (x₀, 0) sampled about the screen origin:
+    // R(ψ) = x₀ cos ψ + √(ρ² − x₀² sin²ψ) (elementary geometry). About its centroid it is
+    // again a circle: R̄ = ρ, ΔC = 0, offsets x₀.
+    let (rho, x0) = (5.0, 1.2);
+    let curve = CriticalCurve::from_polar([0.0, 0.0], 128, |p| {
+        x0 * p.cos() + (rho * rho - x0 * x0 * p.sin().powi(2)).sqrt()
+    });
+    let obs = observe(&curve, CentreChoice::Centroid);
+    assert!(
+        (obs.centroid_offset - x0).abs() < 1e-13,
+        "{}",
+        obs.centroid_offset
+    );
+    assert!(obs.centroid_offset_beta.abs() < 1e-13);
+    assert!((obs.midpoint_offset - x0).abs() < 1e-13);
+    assert!((obs.mean_radius - rho).abs() < 1e-12);
+    assert!(obs.circularity_deviation < 1e-12);
+    assert!((obs.width - 2.0 * rho).abs() < 1e-12 && (obs.height - 2.0 * rho).abs() < 1e-12);
+}
+
+#[test]
+fn four_to_three_ellipse_circularity() {
+    // Ellipse with semi-axes a = 4 (α), b = 3 (β) about its centre: R(φ) = ab/√(b²cos²φ + a²sin²φ).
+    // (1/2π)∮R dφ = (2b/π) K(1 − b²/a²) (standard integral, cf. Abramowitz & Stegun 1964,
+    // 17.2 and 17.3) and (1/2π)∮R² dφ = ab, so ΔC = √(ab/R̄² − 1). The physics notes recall
+    // "about 0.10" for a 4:3 ellipse.
+    let (a, b) = (4.0f64, 3.0f64);
+    let ellipse = |p: f64| a * b / ((b * p.cos()).powi(2) + (a * p.sin()).powi(2)).sqrt();
+    let mean = 2.0 * b / PI * elliptic_k(1.0 - b * b / (a * a));
+    let exact = (a * b / (mean * mean) - 1.0).sqrt();
+    // Independent check of the closed form by a brute-force midpoint rule on the formula.
+    let m = 20000;
+    let (mut s1, mut s2) = (0.0, 0.0);
+    for j in 0..m {
+        let r = ellipse(TAU * (j as f64 + 0.5) / m as f64);
+        s1 += r;
+        s2 += r * r;
+    }
+    let (mean_q, second_q) = (s1 / m as f64, s2 / m as f64);
+    assert!((mean_q - mean).abs() < 1e-12 && (second_q - a * b).abs() < 1e-11);
+    assert!((exact - 0.10).abs() < 0.01, "exact DeltaC = {exact}");
+    // The same closed form evaluated by mpmath (30 digits: ellipk(7/16), then √(ab/R̄² − 1)):
+    // ΔC = 0.101864591056800003393...
+    assert!((exact - 0.101_864_591_056_8).abs() < 1e-14, "{exact}");
+
+    // Sampled about a shifted origin, so the centroid has to be found and re-centred on.
+    let shift = [0.6, -0.4];
+    let curve = CriticalCurve::from_polar(shift, 256, ellipse);
+    let obs = observe(&curve, CentreChoice::Centroid);
+    assert!(
+        (obs.circularity_deviation - exact).abs() < 1e-12,
+        "{} vs {exact}",
+        obs.circularity_deviation
+    );
+    assert!((obs.mean_radius - mean).abs() < 1e-12);
+    assert!((obs.area_radius - (a * b).sqrt()).abs() < 1e-12);
+    assert!((obs.centroid_offset - shift[0]).abs() < 1e-13);
+    assert!((obs.centroid_offset_beta - shift[1]).abs() < 1e-13);
+    assert!((obs.width - 2.0 * a).abs() < 1e-12 && (obs.height - 2.0 * b).abs() < 1e-12);
+    assert!((obs.axis_ratio - 0.75).abs() < 1e-13);
+    // The midpoint of a centrally symmetric curve is its centroid.
+    let mid = observe(&curve, CentreChoice::Midpoint);
+    assert!((mid.centre_alpha - shift[0]).abs() < 1e-12);
+    assert!((mid.circularity_deviation - exact).abs() < 1e-12);
+}
+
+fn smooth_radius(p: f64) -> f64 {
+    5.0 + 0.3 * p.cos() + 0.1 * (2.0 * p).cos() + 0.05 * (3.0 * p).sin()
+}
+
+#[test]
+fn sixty_four_points_match_four_thousand_ninety_six() {
+    // Spectral convergence (common practice, no source): a band-limited curve about an offset
+    // origin gives the same observables at N = 64 and N = 4096 to 1e-9 relative.
+    let origin = [0.4, 0.1];
+    for centre in [CentreChoice::Centroid, CentreChoice::Midpoint] {
+        let coarse = observe(
+            &CriticalCurve::from_polar(origin, 64, smooth_radius),
+            centre,
+        );
+        let fine = observe(
+            &CriticalCurve::from_polar(origin, 4096, smooth_radius),
+            centre,
+        );
+        let pairs = [
+            ("mean_radius", coarse.mean_radius, fine.mean_radius),
+            ("area_radius", coarse.area_radius, fine.area_radius),
+            (
+                "circularity",
+                coarse.circularity_deviation,
+                fine.circularity_deviation,
+            ),
+            ("centroid", coarse.centroid_offset, fine.centroid_offset),
+            (
+                "centroid_beta",
+                coarse.centroid_offset_beta,
+                fine.centroid_offset_beta,
+            ),
+            ("midpoint", coarse.midpoint_offset, fine.midpoint_offset),
+            (
+                "midpoint_beta",
+                coarse.midpoint_offset_beta,
+                fine.midpoint_offset_beta,
+            ),
+            ("width", coarse.width, fine.width),
+            ("height", coarse.height, fine.height),
+            (
+                "hm_radius",
+                coarse.hioki_maeda_radius,
+                fine.hioki_maeda_radius,
+            ),
+            (
+                "hm_distortion",
+                coarse.hioki_maeda_distortion,
+                fine.hioki_maeda_distortion,
+            ),
+        ];
+        for (name, x, y) in pairs {
+            assert!(
+                (x - y).abs() <= 1e-9 * y.abs().max(1e-3),
+                "{name}: {x} vs {y}"
+            );
+        }
+        assert!(coarse.circularity_deviation > 0.01);
+    }
+}
+
+#[test]
+fn extremes_come_from_the_interpolant_not_the_samples() {
+    // α_max of R(ψ) = 5 + 0.3 cos ψ + 0.1 cos 2ψ + 0.05 sin 3ψ about (0.4, 0.1): maximise
+    // α(ψ) = 0.4 + R(ψ) cos ψ by a fine independent scan with golden-section refinement.
+    let alpha = |p: f64| 0.4 + smooth_radius(p) * p.cos();
+    let (mut lo, mut hi) = (-0.5f64, 0.5f64);
+    let g = (5f64.sqrt() - 1.0) / 2.0;
+    for _ in 0..200 {
+        let (x1, x2) = (hi - g * (hi - lo), lo + g * (hi - lo));
+        if alpha(x1) > alpha(x2) {
+            hi = x2;
+        } else {
+            lo = x1;
+        }
+    }
+    let expected = alpha(0.5 * (lo + hi));
+    // 12 samples: the sampled maximum is off by far more than the interpolated one.
+    let curve = CriticalCurve::from_polar([0.4, 0.1], 12, smooth_radius);
+    let obs = observe(&curve, CentreChoice::Centroid);
+    assert!(
+        (obs.alpha_max - expected).abs() < 1e-13,
+        "{} vs {expected}",
+        obs.alpha_max
+    );
+}
+
+#[test]
+fn hioki_maeda_on_a_circle_with_a_flattened_chord() {
+    // Circle of radius ρ = 5 about the origin, cut by the chord α = −c, c = 3. By hand: top
+    // (0, 5), bottom (0, −5), right edge (5, 0) → reference circle = the original circle,
+    // R_s = [(α_t − α_r)² + β_t²]/(2|α_r − α_t|) = 50/10 = 5 (Hioki & Maeda 2009, Phys. Rev. D
+    // 80, 024042); D = 5 − 3 = 2, δ_s = 2/5 = 0.4. The kinks at the chord's ends limit the
+    // interpolant to algebraic convergence, hence the looser tolerances.
+    let (rho, c) = (5.0, 3.0);
+    let curve = CriticalCurve::from_polar([0.0, 0.0], 2048, |p: f64| {
+        if p.cos() < -c / rho {
+            -c / p.cos()
+        } else {
+            rho
+        }
+    });
+    let obs = observe(&curve, CentreChoice::Centroid);
+    assert_eq!(obs.hioki_maeda_reference_side, ReferenceSide::PositiveAlpha);
+    assert!(
+        (obs.hioki_maeda_radius - 5.0).abs() < 1e-5,
+        "{}",
+        obs.hioki_maeda_radius
+    );
+    assert!(
+        (obs.hioki_maeda_distortion - 0.4).abs() < 1e-5,
+        "{}",
+        obs.hioki_maeda_distortion
+    );
+    assert!((obs.alpha_min + 3.0).abs() < 1e-5);
+    // Mirror image: the reference side flips, the numbers do not.
+    let mirrored = CriticalCurve::from_polar([0.0, 0.0], 2048, |p: f64| {
+        if p.cos() > c / rho {
+            c / p.cos()
+        } else {
+            rho
+        }
+    });
+    let m = observe(&mirrored, CentreChoice::Centroid);
+    assert_eq!(m.hioki_maeda_reference_side, ReferenceSide::NegativeAlpha);
+    assert!((m.hioki_maeda_distortion - obs.hioki_maeda_distortion).abs() < 1e-9);
+}
+
+#[test]
+fn hioki_maeda_radius_matches_the_symmetric_formula() {
+    // For a curve symmetric about β = 0, R_s = [(α_t − α_r)² + β_t²]/(2|α_r − α_t|)
+    // (Hioki & Maeda 2009), with the top point (α_t, β_t) and the retrograde edge α_r.
+    let curve = CriticalCurve::from_polar([0.3, 0.0], 128, |p: f64| {
+        5.0 + 0.2 * p.cos() - 0.15 * (2.0 * p).cos() + 0.04 * (3.0 * p).cos()
+    });
+    let obs = observe(&curve, CentreChoice::Centroid);
+    let r = |p: f64| 5.0 + 0.2 * p.cos() - 0.15 * (2.0 * p).cos() + 0.04 * (3.0 * p).cos();
+    // Top point: root of dβ/dψ = R′ sin ψ + R cos ψ near π/2, by Brent's method.
+    let dr = |p: f64| -0.2 * p.sin() + 0.3 * (2.0 * p).sin() - 0.12 * (3.0 * p).sin();
+    let beta = |p: f64| r(p) * p.sin();
+    let p_top =
+        umbral::numerics::brent_root(|p| dr(p) * p.sin() + r(p) * p.cos(), 1.0, 2.2, 0.0).unwrap();
+    let (alpha_t, beta_t) = (0.3 + r(p_top) * p_top.cos(), beta(p_top));
+    let (alpha_plus, alpha_minus) = (0.3 + r(0.0), 0.3 - r(PI));
+    let alpha_r = if (alpha_plus - alpha_t).abs() >= (alpha_minus - alpha_t).abs() {
+        alpha_plus
+    } else {
+        alpha_minus
+    };
+    let expected =
+        ((alpha_t - alpha_r).powi(2) + beta_t * beta_t) / (2.0 * (alpha_r - alpha_t).abs());
+    assert!(
+        (obs.hioki_maeda_radius - expected).abs() < 1e-11,
+        "{} vs {expected}",
+        obs.hioki_maeda_radius
+    );
+}
+
+#[test]
+fn bad_curves_are_refused() {
+    let few = CriticalCurve::circle([0.0, 0.0], 1.0, 3);
+    assert!(matches!(
+        Observables::from_curve(&few, CentreChoice::Centroid, None, None),
+        Err(ObservablesError::BadCurve(_))
+    ));
+    let mut nan = CriticalCurve::circle([0.0, 0.0], 1.0, 16);
+    nan.radii[3] = f64::NAN;
+    assert!(matches!(
+        Observables::from_curve(&nan, CentreChoice::Midpoint, None, None),
+        Err(ObservablesError::BadCurve(_))
+    ));
+    let circle = CriticalCurve::circle([0.0, 0.0], 1.0, 16);
+    assert!(matches!(
+        radii_about(&circle, [3.0, 0.0], 8),
+        Err(ObservablesError::NotStarShaped { .. })
+    ));
+    let obs = Observables::from_curve(&circle, CentreChoice::Centroid, Some(2.0), Some([3.0, 3.0]))
+        .unwrap();
+    assert_eq!(obs.horizon_radius, Some(2.0));
+    assert_eq!(obs.photon_orbit_radii, Some([3.0, 3.0]));
+}
+
+/// A random smooth star-shaped curve: R = r0 + Σ_{m=1}^{4} (c_m cos mψ + s_m sin mψ).
+fn random_curve(r0: f64, coeffs: &[f64], origin: [f64; 2], n: usize) -> CriticalCurve {
+    CriticalCurve::from_polar(origin, n, |p| {
+        r0 + (1..=4)
+            .map(|m| {
+                let mf = m as f64;
+                r0 * (coeffs[2 * m - 2] * (mf * p).cos() + coeffs[2 * m - 1] * (mf * p).sin())
+            })
+            .sum::<f64>()
+    })
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(48))]
+
+    #[test]
+    fn observables_are_consistent_and_reflection_invariant(
+        r0 in 3.0f64..8.0,
+        coeffs in proptest::collection::vec(-0.03f64..0.03, 8),
+        ox in -2.0f64..2.0,
+        oy in -2.0f64..2.0,
+        centroid in proptest::bool::ANY,
+    ) {
+        let n = 64;
+        let centre = if centroid { CentreChoice::Centroid } else { CentreChoice::Midpoint };
+        let curve = random_curve(r0, &coeffs, [ox, oy], n);
+        let obs = observe(&curve, centre);
+        prop_assert!(obs.circularity_deviation >= 0.0);
+        let radii = radii_about(&curve, [obs.centre_alpha, obs.centre_beta], 256).unwrap();
+        let (lo, hi) = radii.iter().fold((f64::INFINITY, 0.0f64), |(a, b), &r| (a.min(r), b.max(r)));
+        prop_assert!(obs.mean_radius >= lo && obs.mean_radius <= hi);
+        prop_assert!(obs.width > 0.0 && obs.height > 0.0);
+
+        // Reflection α → −α: R′(ψ) = R(π − ψ) about (−α₀, β₀).
+        let reflected = CriticalCurve {
+            origin: [-ox, oy],
+            radii: (0..n).map(|k| curve.radii[(n / 2 + n - k) % n]).collect(),
+        };
+        let r = observe(&reflected, centre);
+        let same = |x: f64, y: f64| (x - y).abs() <= 1e-11 * y.abs().max(1.0);
+        prop_assert!(same(r.mean_radius, obs.mean_radius));
+        prop_assert!(same(r.area_radius, obs.area_radius));
+        prop_assert!((r.circularity_deviation - obs.circularity_deviation).abs() < 1e-11);
+        prop_assert!(same(r.width, obs.width) && same(r.height, obs.height));
+        prop_assert!(same(r.hioki_maeda_radius, obs.hioki_maeda_radius));
+        prop_assert!((r.hioki_maeda_distortion - obs.hioki_maeda_distortion).abs() < 1e-11);
+        prop_assert!(same(r.centroid_offset, -obs.centroid_offset));
+        prop_assert!(same(r.midpoint_offset, -obs.midpoint_offset));
+        prop_assert!(same(r.centroid_offset_beta, obs.centroid_offset_beta));
+        prop_assert!(same(r.centre_alpha, -obs.centre_alpha));
+    }
+}
