@@ -1,0 +1,428 @@
+//! The general ray tracer against closed-form critical curves, plus its numerical guarantees:
+//! convergence of the distant-observer start data in the start radius, bit-identical results
+//! for any thread count, failures reported rather than hidden, and multiple crossings found.
+//!
+//! The reference curves are computed here from the closed forms, independently of the
+//! project's separable solver.
+
+use rayon::prelude::*;
+use rayon::ThreadPoolBuilder;
+use umbral::geodesic::IntegratorSettings;
+use umbral::metric::{Metric, MetricComponents, Spacetime};
+use umbral::metrics::{Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild};
+use umbral::scalar::DualScalar;
+use umbral::shadow::raytrace::{
+    gauss_legendre_unit, solve, solve_with, trace_curve, LineScan, RaytraceOptions, Tracer,
+};
+use umbral::shadow::{Observer, ShadowError, ShadowResult, ShadowSettings, ShadowStatus};
+
+fn scan(scan_to: f64, tolerance: f64) -> LineScan {
+    LineScan {
+        spacing: 0.5,
+        scan_to,
+        tolerance,
+        max_radius: 100.0,
+    }
+}
+
+fn settings(points: usize) -> ShadowSettings {
+    ShadowSettings {
+        points,
+        ..Default::default()
+    }
+}
+
+/// Kerr–Newman spherical photon orbits mapped to a distant screen (Bardeen 1973, in *Black
+/// Holes*, eds. DeWitt & DeWitt, Gordon & Breach; the charged case with Δ = r² − 2r + a² + q²):
+/// λ(r) = (Δ′P − 2ΔP′)/(Δ′Q − 2ΔQ′), η(r) = (P − Qλ)²/Δ − (λ − a)² with P = r² + a², Q = a;
+/// α = −λ/sin θ_o, β² = η + a² cos²θ_o − λ² cot²θ_o.
+struct ExactCurve {
+    a: f64,
+    q: f64,
+    inclination: f64,
+}
+
+impl ExactCurve {
+    fn point(&self, r: f64) -> (f64, f64) {
+        let (a, q) = (self.a, self.q);
+        let delta = r * r - 2.0 * r + a * a + q * q;
+        let d_delta = 2.0 * r - 2.0;
+        let p = r * r + a * a;
+        let lambda = (d_delta * p - 2.0 * delta * 2.0 * r) / (d_delta * a);
+        let eta = (p - a * lambda).powi(2) / delta - (lambda - a).powi(2);
+        let (s, c) = self.inclination.sin_cos();
+        let beta2 = eta + a * a * c * c - lambda * lambda * c * c / (s * s);
+        (-lambda / s, beta2)
+    }
+
+    /// The radius interval where β² ≥ 0, by sampling and bisection.
+    fn orbit_range(&self) -> (f64, f64) {
+        let r_plus = 1.0 + (1.0 - self.a * self.a - self.q * self.q).sqrt();
+        let f = |r: f64| self.point(r).1;
+        let samples: Vec<f64> = (0..4000)
+            .map(|i| r_plus + 1e-6 + 5.0 * i as f64 / 4000.0)
+            .collect();
+        let mut ends = Vec::new();
+        for w in samples.windows(2) {
+            if (f(w[0]) >= 0.0) != (f(w[1]) >= 0.0) {
+                ends.push(bisect(f, w[0], w[1]));
+            }
+        }
+        assert_eq!(ends.len(), 2, "one photon-orbit interval expected");
+        (ends[0], ends[1])
+    }
+
+    /// The exact curve radius along the screen ray from `origin` at angle `psi`, on the
+    /// branch with the sign of β given by `upper`.
+    fn radius(&self, origin: [f64; 2], psi: f64, upper: bool) -> f64 {
+        let (r1, r2) = self.orbit_range();
+        let sign = if upper { 1.0 } else { -1.0 };
+        let at = |r: f64| {
+            let (alpha, beta2) = self.point(r);
+            (alpha - origin[0], sign * beta2.max(0.0).sqrt() - origin[1])
+        };
+        let (s, c) = psi.sin_cos();
+        if s.abs() < 1e-12 && origin[1] == 0.0 {
+            // Along the α axis the curve meets the line where β = 0: an end of the interval.
+            return [r1, r2]
+                .iter()
+                .map(|&r| at(r).0)
+                .find(|x| x * c > 0.0)
+                .expect("one end on each side")
+                .abs();
+        }
+        let cross = |r: f64| {
+            let (x, y) = at(r);
+            x * s - y * c
+        };
+        let n = 2000;
+        for i in 0..n {
+            let lo = r1 + (r2 - r1) * i as f64 / n as f64;
+            let hi = r1 + (r2 - r1) * (i + 1) as f64 / n as f64;
+            let (x, y) = at(0.5 * (lo + hi));
+            if (cross(lo) >= 0.0) != (cross(hi) >= 0.0) && x * c + y * s > 0.0 {
+                let r = bisect(cross, lo, hi);
+                let (x, y) = at(r);
+                return x.hypot(y);
+            }
+        }
+        panic!("no exact crossing at psi = {psi}");
+    }
+}
+
+fn bisect(f: impl Fn(f64) -> f64, mut lo: f64, mut hi: f64) -> f64 {
+    let f_lo = f(lo) >= 0.0;
+    for _ in 0..200 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if (f(mid) >= 0.0) == f_lo {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// Largest distance between the traced curve and the exact one, along the traced radial lines.
+fn worst_deviation(result: &ShadowResult, exact: &ExactCurve) -> f64 {
+    let curve = result.curve.as_ref().expect("a shadow");
+    let (alpha, beta) = curve.alpha_beta();
+    (0..curve.radii.len())
+        .map(|k| {
+            let r = if exact.a == 0.0 {
+                // Schwarzschild-like: the circle of radius 3√3 about the screen centre
+                // (Synge 1966, MNRAS 131, 463).
+                let b_c = 27f64.sqrt();
+                return (alpha[k].hypot(beta[k]) - b_c).abs();
+            } else {
+                exact.radius(curve.origin, curve.angle(k), beta[k] >= 0.0)
+            };
+            (curve.radii[k] - r).abs()
+        })
+        .fold(0.0, f64::max)
+}
+
+#[test]
+fn kerr_and_kerr_newman_match_bardeen_closed_form() {
+    let mut cases: Vec<(f64, f64, f64)> = Vec::new();
+    for a in [0.0, 0.5, 0.9, 0.99] {
+        for deg in [17.0, 60.0, 90.0] {
+            cases.push((a, 0.0, deg));
+        }
+    }
+    cases.push((0.5, 0.5, 60.0));
+    let results: Vec<(f64, f64, f64, f64)> = cases
+        .par_iter()
+        .map(|&(a, q, deg)| {
+            let inclination = f64::to_radians(deg);
+            let observer = Observer::distant(inclination);
+            let result = if q == 0.0 {
+                solve(&Kerr::new(a).unwrap(), &observer, &settings(8))
+            } else {
+                solve(&KerrNewman::new(a, q).unwrap(), &observer, &settings(8))
+            }
+            .unwrap_or_else(|e| panic!("a = {a}, q = {q}, {deg} deg: {e}"));
+            assert_eq!(result.status, ShadowStatus::Shadow);
+            assert_eq!(result.diagnostics.failed_rays, 0);
+            assert!(result.diagnostics.star_shaped);
+            let exact = ExactCurve { a, q, inclination };
+            (a, q, deg, worst_deviation(&result, &exact))
+        })
+        .collect();
+    for (a, q, deg, dev) in results {
+        println!("a = {a}, q = {q}, inclination {deg} deg: worst deviation {dev:.2e} M");
+        assert!(dev < 1e-6, "a = {a}, q = {q}, {deg} deg: deviation {dev}");
+    }
+}
+
+/// Kerr with its separation data and equatorial symmetry hidden: the solver must take the
+/// general path (origin from both axes, no mirror) and still find Bardeen's curve.
+struct OpaqueKerr(Kerr);
+
+impl Metric for OpaqueKerr {
+    fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
+        self.0.components(r, theta)
+    }
+    fn outer_horizon(&self) -> Option<f64> {
+        Spacetime::outer_horizon(&self.0)
+    }
+}
+
+#[test]
+fn general_path_without_symmetry_matches_kerr() {
+    let inclination = f64::to_radians(60.0);
+    let metric = OpaqueKerr(Kerr::new(0.9).unwrap());
+    assert!(!metric.is_separable() && !metric.is_equatorially_symmetric());
+    let result = solve(&metric, &Observer::distant(inclination), &settings(8)).unwrap();
+    let curve = result.curve.as_ref().unwrap();
+    // The Kerr curve is symmetric in β, so the origin found from the vertical line is on the
+    // α axis (Bardeen 1973).
+    assert!(curve.origin[1].abs() < 1e-7, "origin {:?}", curve.origin);
+    let exact = ExactCurve {
+        a: 0.9,
+        q: 0.0,
+        inclination,
+    };
+    let dev = worst_deviation(&result, &exact);
+    assert!(dev < 1e-6, "deviation {dev}");
+}
+
+#[test]
+fn spherical_metrics_match_closed_form_critical_impact_parameter() {
+    let observer = Observer::distant(f64::to_radians(60.0));
+    let q: f64 = 0.5;
+    // Reissner–Nordström photon sphere r = (3 + √(9 − 8q²))/2 and b_c = r²/√(r² − 2r + q²)
+    // (e.g. Perlick & Tsupko 2022, Phys. Rep. 947, 1, from b_c² = min C/A).
+    let r_ph = (3.0 + (9.0 - 8.0 * q * q).sqrt()) / 2.0;
+    let b_rn = r_ph * r_ph / (r_ph * r_ph - 2.0 * r_ph + q * q).sqrt();
+    let rn = ReissnerNordstrom::new(q).unwrap();
+    // Schwarzschild b_c = 3√3 (Synge 1966, MNRAS 131, 463).
+    let cases: Vec<(&dyn Spacetime, f64)> = vec![(&Schwarzschild, 27f64.sqrt()), (&rn, b_rn)];
+    for (metric, b_c) in cases {
+        let result = solve(metric, &observer, &settings(8)).unwrap();
+        let curve = result.curve.unwrap();
+        let (alpha, beta) = curve.alpha_beta();
+        for k in 0..alpha.len() {
+            let b = alpha[k].hypot(beta[k]);
+            assert!((b - b_c).abs() < 1e-7, "b = {b}, b_c = {b_c}");
+        }
+    }
+}
+
+#[test]
+fn finite_observer_matches_synge_angular_radius() {
+    // Static observer at r_o in Schwarzschild: sin θ_sh = b_c √(A(r_o)/C(r_o)) (Synge 1966,
+    // MNRAS 131, 463), so the screen radius √g_θθ sin θ_sh = 3√3 √(1 − 2/r_o).
+    for r_o in [15.0, 60.0] {
+        let observer = Observer::at_radius(f64::to_radians(60.0), r_o);
+        let result = solve(&Schwarzschild, &observer, &settings(8)).unwrap();
+        let expected = 27f64.sqrt() * (1.0 - 2.0 / r_o).sqrt();
+        let curve = result.curve.unwrap();
+        let (alpha, beta) = curve.alpha_beta();
+        for k in 0..alpha.len() {
+            let rho = alpha[k].hypot(beta[k]);
+            assert!(
+                (rho - expected).abs() < 1e-7,
+                "r_o = {r_o}: {rho} vs {expected}"
+            );
+        }
+    }
+}
+
+#[test]
+fn start_radius_convergence_of_the_asymptotic_correction() {
+    // Kerr a = 0.9, 60°, one radial line off the symmetry axes. With the first-order
+    // correction the boundary converges like 1/D²; without it like 1/D.
+    let kerr = Kerr::new(0.9).unwrap();
+    let observer = Observer::distant(f64::to_radians(60.0));
+    let boundary = |d: f64, corrected: bool| {
+        let options = RaytraceOptions {
+            start_radius: d,
+            asymptotic_correction: corrected,
+            integrator: IntegratorSettings {
+                rtol: 1e-12,
+                ..RaytraceOptions::default().integrator
+            },
+            ..Default::default()
+        };
+        let tracer = Tracer::new(&kerr, &observer, &options).unwrap();
+        let line = tracer.boundary_along_line([0.0, 0.0], true, 1.0, &scan(0.0, 1e-11));
+        assert!(line.failure.is_none());
+        line.crossings[0]
+    };
+    let ds = [3e3, 1e4, 3e4, 1e5];
+    let radii: Vec<f64> = ds.par_iter().map(|&d| boundary(d, true)).collect();
+    let reference = radii[3];
+    let errors: Vec<f64> = radii[..3].iter().map(|r| (r - reference).abs()).collect();
+    println!("corrected errors at D = 3e3, 1e4, 3e4: {errors:?}");
+    // 1/D²: each factor ~3.3 in D gains a factor ~10 (at least 5 allowing for noise).
+    assert!(errors[0] > 5.0 * errors[1] && errors[1] > 5.0 * errors[2]);
+    // The default start radius 3e4 is within 1e-8 M of D = 1e5 (and D = 1e5 itself is
+    // within ~1e-10 by the same scaling).
+    assert!(errors[2] < 1e-8);
+    assert_eq!(RaytraceOptions::default().start_radius, 3e4);
+    let uncorrected = (boundary(3e4, false) - reference).abs();
+    println!("uncorrected error at D = 3e4: {uncorrected:e}");
+    assert!(uncorrected > 1e-6 && uncorrected > 100.0 * errors[2]);
+}
+
+#[test]
+fn result_is_bit_identical_for_one_and_two_threads() {
+    let kerr = Kerr::new(0.7).unwrap();
+    let observer = Observer::distant(f64::to_radians(45.0));
+    let run = |threads: usize| {
+        let pool = ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap();
+        pool.install(|| solve(&kerr, &observer, &settings(12)).unwrap())
+    };
+    let (one, two) = (run(1), run(2));
+    let (c1, c2) = (one.curve.unwrap(), two.curve.unwrap());
+    assert_eq!(c1.origin.map(f64::to_bits), c2.origin.map(f64::to_bits));
+    let bits = |r: &[f64]| r.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+    assert_eq!(bits(&c1.radii), bits(&c2.radii));
+    assert_eq!(one.diagnostics.rays_traced, two.diagnostics.rays_traced);
+    assert_eq!(
+        one.diagnostics.integrator_steps,
+        two.diagnostics.integrator_steps
+    );
+}
+
+#[test]
+fn step_limit_failures_are_reported_not_classified() {
+    let options = RaytraceOptions {
+        integrator: IntegratorSettings {
+            max_steps: 40,
+            ..RaytraceOptions::default().integrator
+        },
+        ..Default::default()
+    };
+    let observer = Observer::distant(1.0);
+    let report = trace_curve(&Schwarzschild, &observer, &settings(8), &options).unwrap();
+    assert!(report.diagnostics.failed_rays >= 1);
+    assert!(report.first_failure().unwrap().contains("steps"));
+    match solve_with(&Schwarzschild, &observer, &settings(8), &options) {
+        Err(ShadowError::NotConverged(message)) => assert!(message.contains("rays failed")),
+        other => panic!("expected NotConverged, got {other:?}"),
+    }
+}
+
+/// Schwarzschild with a non-finite patch at 8 < r < 9 near the north pole (θ < 0.5): rays
+/// that pass there cannot be classified.
+struct PoisonedSchwarzschild;
+
+impl Metric for PoisonedSchwarzschild {
+    fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
+        let g = Schwarzschild.components(r, theta);
+        let bad = r.re() > 8.0 && r.re() < 9.0 && theta.re().abs() < 0.5;
+        if bad {
+            g.map(|x| *x * f64::NAN)
+        } else {
+            g
+        }
+    }
+    fn outer_horizon(&self) -> Option<f64> {
+        Some(2.0)
+    }
+}
+
+#[test]
+fn non_finite_metric_gives_failed_rays_not_a_curve() {
+    let observer = Observer::distant(f64::to_radians(60.0));
+    let report = trace_curve(
+        &PoisonedSchwarzschild,
+        &observer,
+        &settings(8),
+        &RaytraceOptions::default(),
+    )
+    .unwrap();
+    assert!(
+        report.diagnostics.failed_rays >= 1,
+        "{:?}",
+        report.diagnostics
+    );
+    let failure = report.first_failure().unwrap();
+    assert!(failure.contains("failed"), "{failure}");
+    assert!(matches!(
+        solve(&PoisonedSchwarzschild, &observer, &settings(8)),
+        Err(ShadowError::NotConverged(_))
+    ));
+}
+
+#[test]
+fn a_line_crossing_the_boundary_twice_reports_both_crossings() {
+    // A screen line that misses the origin: from (−10, 2) along +α it enters and leaves the
+    // Schwarzschild circle of radius 3√3 at α = ∓√(27 − 4) (Synge 1966).
+    let observer = Observer::distant(f64::to_radians(90.0));
+    let tracer = Tracer::new(&Schwarzschild, &observer, &RaytraceOptions::default()).unwrap();
+    assert_eq!(
+        tracer.trace(-10.0, 2.0).fate,
+        umbral::shadow::raytrace::RayFate::Escaped
+    );
+    let line = tracer.boundary_along_line([-10.0, 2.0], false, 0.0, &scan(20.0, 1e-9));
+    assert!(line.failure.is_none());
+    let half_chord = 23f64.sqrt();
+    assert_eq!(line.crossings.len(), 2, "{:?}", line.crossings);
+    assert!((line.crossings[0] - (10.0 - half_chord)).abs() < 1e-7);
+    assert!((line.crossings[1] - (10.0 + half_chord)).abs() < 1e-7);
+}
+
+#[test]
+fn gauss_legendre_is_exact_for_polynomials() {
+    // An n-node rule integrates u^k exactly for k ≤ 2n − 1 (Abramowitz & Stegun 1964, 25.4.29).
+    for n in [2, 6, 16] {
+        let rule = gauss_legendre_unit(n);
+        for k in 0..2 * n {
+            let sum: f64 = rule.iter().map(|(u, w)| w * u.powi(k as i32)).sum();
+            assert!(
+                (sum - 1.0 / (k as f64 + 1.0)).abs() < 1e-14,
+                "n = {n}, k = {k}"
+            );
+        }
+    }
+}
+
+#[test]
+fn bad_requests_are_rejected() {
+    let kerr = Kerr::new(0.5).unwrap();
+    for inclination in [0.0, std::f64::consts::PI, f64::NAN] {
+        assert!(matches!(
+            solve(&kerr, &Observer::distant(inclination), &settings(8)),
+            Err(ShadowError::BadRequest(_))
+        ));
+    }
+    let tiny = ShadowSettings {
+        points: 2,
+        ..Default::default()
+    };
+    assert!(solve(&kerr, &Observer::distant(1.0), &tiny).is_err());
+    let zero_tolerance = ShadowSettings {
+        tolerance: 0.0,
+        ..Default::default()
+    };
+    assert!(solve(&kerr, &Observer::distant(1.0), &zero_tolerance).is_err());
+}
