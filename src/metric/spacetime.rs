@@ -5,7 +5,7 @@
 
 use super::{Metric, MetricComponents, MetricInfo, Symmetry};
 use nalgebra::{Matrix4, SVector};
-use num_dual::{hessian, Derivative, Dual2_64, DualSVec64, DualVec};
+use num_dual::{hessian, Derivative, Dual, Dual2_64, DualSVec64, DualVec, HyperDual64};
 use serde::Serialize;
 
 /// Christoffel symbols Γ^μ_{αβ}, indexed `[mu][alpha][beta]` in the order (t, r, θ, φ).
@@ -39,6 +39,15 @@ pub struct PotentialJet {
     pub value: f64,
     pub gradient: [f64; 3],
     pub hessian: [[f64; 3]; 3],
+}
+
+/// R(r; λ, η) expanded in λ and η: `value` = [R, ∂_λR, ∂²_λR], `d_r` = their r-derivatives,
+/// `eta` = [∂_ηR, ∂_r∂_ηR].
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct RadialLambdaJet {
+    pub value: [f64; 3],
+    pub d_r: [f64; 3],
+    pub eta: [f64; 2],
 }
 
 /// What kind of object a parameter point describes.
@@ -91,6 +100,12 @@ pub trait Spacetime: Send + Sync {
     fn spherical_jet(&self, r: f64) -> Option<SphericalJet>;
     /// The radial potential R(r; λ, η) with gradient and Hessian in (r, λ, η).
     fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
+    /// The radial potential's derivatives in λ (to second order) and η (first order), each with
+    /// its r-derivative, at (r; λ, η): exact, and cheaper than
+    /// [`Spacetime::radial_potential_jet`] (nested and hyper-dual numbers instead of a full
+    /// three-variable Hessian).
+    fn radial_potential_lambda_jet(&self, r: f64, lambda: f64, eta: f64)
+        -> Option<RadialLambdaJet>;
     /// The polar potential Θ(θ; λ, η) with gradient and Hessian in (θ, λ, η).
     fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
 }
@@ -296,6 +311,29 @@ impl<M: Metric> Spacetime for M {
             |x| self.radial_potential(x[0], x[1], x[2]),
             [r, lambda, eta],
         )
+    }
+
+    fn radial_potential_lambda_jet(
+        &self,
+        r: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Option<RadialLambdaJet> {
+        // Outer dual: d/dr; inner second-order dual: d/dλ, d²/dλ².
+        let rr = Dual::new(Dual2_64::from(r), Dual2_64::from(1.0));
+        let ll = Dual::from_re(Dual2_64::from_re(lambda).derivative());
+        let v = self.radial_potential(rr, ll, Dual::from_re(Dual2_64::from(eta)))?;
+        // Hyper-dual: ε₁ = d/dr, ε₂ = d/dη.
+        let w = self.radial_potential(
+            HyperDual64::from_re(r).derivative1(),
+            HyperDual64::from(lambda),
+            HyperDual64::from_re(eta).derivative2(),
+        )?;
+        Some(RadialLambdaJet {
+            value: [v.re.re, v.re.v1, v.re.v2],
+            d_r: [v.eps.re, v.eps.v1, v.eps.v2],
+            eta: [w.eps2, w.eps1eps2],
+        })
     }
 
     fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {

@@ -424,23 +424,24 @@ impl<'a> Problem<'a> {
     }
 
     /// The spherical photon orbit at radius r that best reaches the observer, if any.
-    /// R and ∂_r R at r as quadratics in λ (linear in η), from jets at (r, 0, 0) and (r, 1, 0).
+    /// R and ∂_r R at r as quadratics in λ (linear in η): R = c0 + c1 λ + c2 λ² + d η with the
+    /// coefficients (and their r-derivatives) from exact derivatives at (r, 0, 0).
     fn radial_model(&self, r: f64) -> Result<RadialModel, ShadowError> {
-        let j0 = self.radial(r, 0.0, 0.0)?;
-        let j1 = self.radial(r, 1.0, 0.0)?;
+        let j = self
+            .spacetime
+            .radial_potential_lambda_jet(r, 0.0, 0.0)
+            .ok_or_else(|| {
+                not_applicable(self.spacetime, "the metric provides no radial potential")
+            })?;
+        let all = j.value.iter().chain(&j.d_r).chain(&j.eta);
+        if !all.into_iter().all(|x| x.is_finite()) {
+            return Err(ShadowError::BadRequest(format!(
+                "the radial potential is not finite at r = {r}"
+            )));
+        }
         Ok(RadialModel {
-            r: [
-                j0.value,
-                j0.gradient[1],
-                0.5 * j0.hessian[1][1],
-                j0.gradient[2],
-            ],
-            dr: [
-                j0.gradient[0],
-                j0.hessian[0][1],
-                j1.gradient[0] - j0.gradient[0] - j0.hessian[0][1],
-                j0.hessian[0][2],
-            ],
+            r: [j.value[0], j.value[1], 0.5 * j.value[2], j.eta[0]],
+            dr: [j.d_r[0], j.d_r[1], 0.5 * j.d_r[2], j.eta[1]],
         })
     }
 
