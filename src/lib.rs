@@ -21,14 +21,19 @@
 //! assert!((r_plus - (1.0 + (1.0f64 - 0.81).sqrt())).abs() < 1e-14);
 //! ```
 
+pub mod bounds;
 pub mod error;
 pub mod geodesic;
+pub mod measurement;
 pub mod metric;
+pub mod metric_file;
 pub mod metrics;
 pub mod numerics;
 pub mod observables;
 pub mod scalar;
+pub mod scan;
 pub mod shadow;
+pub mod verify;
 
 /// The names most programs need.
 pub mod prelude {

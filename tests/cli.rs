@@ -24,7 +24,8 @@ fn assert_one_line_error(args: &[&str], needle: &str) {
 fn metrics_json_lists_the_core_metrics_with_their_parameters() {
     let out = umbral(&["metrics", "--json"]);
     assert!(out.status.success());
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let listing: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let v = listing["metrics"].clone();
     let names: Vec<&str> = v
         .as_array()
         .unwrap()
@@ -354,5 +355,129 @@ fn demo_writes_its_figures_report_and_results() {
     let report = std::fs::read_to_string(dir.join("report.md")).unwrap();
     assert!(report.contains("invented"));
     assert!(report.contains("ring-to-shadow calibration"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn metric_files_work_wherever_a_metric_name_does() {
+    let file = concat!(env!("CARGO_MANIFEST_DIR"), "/metrics/kerr.toml");
+    let by_file = umbral(&[
+        "geometry",
+        "--metric-file",
+        file,
+        "--set",
+        "a=0.6",
+        "--r",
+        "6",
+        "--theta",
+        "1.2",
+        "--json",
+    ]);
+    let by_name = umbral(&[
+        "geometry", "--metric", "kerr", "--set", "a=0.6", "--r", "6", "--theta", "1.2", "--json",
+    ]);
+    assert!(
+        by_file.status.success(),
+        "{}",
+        String::from_utf8_lossy(&by_file.stderr)
+    );
+    let (f, n): (Value, Value) = (
+        serde_json::from_slice(&by_file.stdout).unwrap(),
+        serde_json::from_slice(&by_name.stdout).unwrap(),
+    );
+    for key in ["g", "g_inverse", "christoffel"] {
+        let (a, b) = (f[key].to_string(), n[key].to_string());
+        let (a, b): (Vec<f64>, Vec<f64>) = (numbers(&a), numbers(&b));
+        assert_eq!(a.len(), b.len());
+        for (x, y) in a.iter().zip(&b) {
+            assert!(
+                (x - y).abs() <= 1e-12 * x.abs().max(1.0),
+                "{key}: {x} vs {y}"
+            );
+        }
+    }
+    let shadow = umbral(&[
+        "shadow",
+        "--metric-file",
+        file,
+        "--set",
+        "a=0.9",
+        "--inclination",
+        "60",
+        "--points",
+        "32",
+        "--json",
+    ]);
+    assert!(
+        shadow.status.success(),
+        "{}",
+        String::from_utf8_lossy(&shadow.stderr)
+    );
+    let listing = umbral(&[
+        "metrics",
+        "--metrics-dir",
+        concat!(env!("CARGO_MANIFEST_DIR"), "/metrics"),
+        "--json",
+    ]);
+    let v: Value = serde_json::from_slice(&listing.stdout).unwrap();
+    assert!(v["metrics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .any(|m| m["source"].as_str().unwrap().ends_with("kerr.toml")));
+}
+
+fn numbers(text: &str) -> Vec<f64> {
+    text.split(|c: char| c == '[' || c == ']' || c == ',')
+        .filter(|t| !t.is_empty())
+        .map(|t| t.parse().unwrap())
+        .collect()
+}
+
+#[test]
+fn metric_choice_errors() {
+    assert_one_line_error(&["geometry", "--r", "6", "--theta", "1"], "--metric");
+    assert_one_line_error(
+        &[
+            "geometry",
+            "--metric",
+            "kerr",
+            "--metric-file",
+            "x.toml",
+            "--r",
+            "6",
+            "--theta",
+            "1",
+        ],
+        "cannot be used with",
+    );
+    // A broken file: the message names file, line and column and puts a caret under the token.
+    let dir = std::env::temp_dir().join(format!("umbral-mf-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("broken.toml");
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/metrics/schwarzschild.toml"
+    ))
+    .unwrap();
+    std::fs::write(&path, text.replacen("2/r", "2/rr", 1)).unwrap();
+    let out = umbral(&[
+        "geometry",
+        "--metric-file",
+        path.to_str().unwrap(),
+        "--r",
+        "6",
+        "--theta",
+        "1",
+    ]);
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{stderr}");
+    assert!(
+        stderr.contains("broken.toml")
+            && stderr.contains("line 6, column 23")
+            && stderr.contains("^^"),
+        "{stderr}"
+    );
+    assert!(out.stdout.is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -1,8 +1,11 @@
 //! Shared argument types and the command-line error.
 
+use clap::Args;
 use std::fmt;
+use std::path::PathBuf;
 use umbral::error::MetricError;
 use umbral::metric::Spacetime;
+use umbral::metric_file::{load_metric_file, FileMetricSpec};
 use umbral::metrics::build_metric;
 
 /// An error to print on one line, with its exit code.
@@ -17,6 +20,15 @@ impl CliError {
     pub fn usage(message: impl Into<String>) -> Self {
         CliError {
             message: message.into().replace('\n', " "),
+            code: 2,
+        }
+    }
+
+    /// Bad input whose message spans several lines on purpose (a metric-file error with the
+    /// offending line and a caret under it): exit code 2.
+    pub fn detailed(message: impl Into<String>) -> Self {
+        CliError {
+            message: message.into(),
             code: 2,
         }
     }
@@ -64,10 +76,62 @@ pub fn parse_assignments(items: &[String]) -> Result<Vec<(String, f64)>, CliErro
     Ok(family.remove(0))
 }
 
-/// Build the metric named on the command line with its `--set` assignments.
-pub fn metric_from_args(name: &str, sets: &[String]) -> Result<Box<dyn Spacetime>, CliError> {
+/// The metric: a built-in one by name, or a declarative metric file.
+#[derive(Debug, Clone, Args)]
+#[group(required = true, multiple = false)]
+pub struct MetricChoice {
+    /// Built-in metric name (see `umbral metrics`).
+    #[arg(long)]
+    pub metric: Option<String>,
+    /// A declarative metric file (see docs/metric-files.md).
+    #[arg(long = "metric-file", value_name = "PATH")]
+    pub metric_file: Option<PathBuf>,
+}
+
+/// A metric source resolved once, from which family members are built.
+pub enum MetricSource {
+    Builtin(String),
+    File(Box<FileMetricSpec>),
+}
+
+impl MetricChoice {
+    /// Load the file (if any): its errors point at the place, over several lines.
+    pub fn resolve(&self) -> Result<MetricSource, CliError> {
+        match (&self.metric, &self.metric_file) {
+            (Some(name), _) => Ok(MetricSource::Builtin(name.clone())),
+            (None, Some(path)) => load_metric_file(path)
+                .map(|spec| MetricSource::File(Box::new(spec)))
+                .map_err(|e| CliError::detailed(e.to_string().trim_end().to_string())),
+            (None, None) => Err(CliError::usage("give --metric NAME or --metric-file PATH")),
+        }
+    }
+}
+
+impl MetricSource {
+    /// The metric with these parameter assignments.
+    pub fn build(&self, assignments: &[(String, f64)]) -> Result<Box<dyn Spacetime>, CliError> {
+        Ok(match self {
+            MetricSource::Builtin(name) => build_metric(name, assignments)?,
+            MetricSource::File(spec) => Box::new(spec.instantiate(assignments)?),
+        })
+    }
+
+    /// The metric's name, for titles.
+    pub fn name(&self) -> String {
+        match self {
+            MetricSource::Builtin(name) => name.clone(),
+            MetricSource::File(spec) => spec.info().name.clone(),
+        }
+    }
+}
+
+/// Build the metric chosen on the command line with its `--set` assignments.
+pub fn metric_from_args(
+    choice: &MetricChoice,
+    sets: &[String],
+) -> Result<Box<dyn Spacetime>, CliError> {
     let assignments = parse_assignments(sets)?;
-    Ok(build_metric(name, &assignments)?)
+    choice.resolve()?.build(&assignments)
 }
 
 /// Read `--set` items where at most one parameter carries a comma list of values, giving one

@@ -1,6 +1,6 @@
 //! `umbral geometry`: the metric, its inverse and the Christoffel symbols at one point.
 
-use super::args::{metric_from_args, parse_finite};
+use super::args::{metric_from_args, parse_finite, MetricChoice};
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
@@ -10,9 +10,8 @@ use umbral::metric::{Classification, Spacetime};
 
 #[derive(Debug, Args)]
 pub struct GeometryArgs {
-    /// Metric name (see `umbral metrics`).
-    #[arg(long)]
-    metric: String,
+    #[command(flatten)]
+    metric: MetricChoice,
     /// Parameter assignment NAME=VALUE (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     set: Vec<String>,

@@ -3,7 +3,10 @@
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
+use std::path::{Path, PathBuf};
+use umbral::metric::Spacetime;
 use umbral::metric::{ParameterSpec, Symmetry};
+use umbral::metric_file::list_metric_dir;
 use umbral::metrics::builtin_metrics;
 use umbral::shadow::auto_solver;
 
@@ -12,6 +15,10 @@ pub struct MetricsArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     json: bool,
+    /// Also list the metric files in this folder (repeatable). Default: ./metrics when it
+    /// exists (the project's own folder when run from the repository).
+    #[arg(long = "metrics-dir", value_name = "DIR")]
+    metrics_dir: Vec<PathBuf>,
 }
 
 #[derive(Serialize)]
@@ -24,6 +31,8 @@ struct ParameterRow {
 
 #[derive(Serialize)]
 struct MetricRow {
+    /// `builtin`, or the metric file it was read from.
+    source: String,
     name: String,
     title: String,
     symmetry: Symmetry,
@@ -47,32 +56,88 @@ fn rows() -> Result<Vec<MetricRow>, CliError> {
     builtin_metrics()
         .iter()
         .map(|entry| {
-            let info = (entry.describe)();
             let metric = entry.build(&[])?;
-            Ok(MetricRow {
-                name: info.name.clone(),
-                title: info.title.clone(),
-                symmetry: metric.symmetry(),
-                separable: metric.is_separable(),
-                auto_solver: auto_solver(metric.as_ref()).name(),
-                reference: info.reference.clone(),
-                parameters: info.parameters.iter().map(row).collect(),
-            })
+            Ok(describe("builtin".into(), metric.as_ref()))
         })
         .collect()
 }
 
+fn describe(source: String, metric: &dyn Spacetime) -> MetricRow {
+    let info = metric.info();
+    MetricRow {
+        source,
+        name: info.name.clone(),
+        title: info.title.clone(),
+        symmetry: metric.symmetry(),
+        separable: metric.is_separable(),
+        auto_solver: auto_solver(metric).name(),
+        reference: info.reference.clone(),
+        parameters: info.parameters.iter().map(row).collect(),
+    }
+}
+
+/// A metric file that could not be read: listed with its error, not fatal for the listing.
+#[derive(Serialize)]
+struct BrokenFile {
+    source: String,
+    error: String,
+}
+
+fn file_rows(dirs: &[PathBuf]) -> Result<(Vec<MetricRow>, Vec<BrokenFile>), CliError> {
+    let mut good = Vec::new();
+    let mut bad = Vec::new();
+    for dir in dirs {
+        if !dir.is_dir() {
+            return Err(CliError::usage(format!(
+                "--metrics-dir '{}' is not a readable folder",
+                dir.display()
+            )));
+        }
+        for (path, spec) in list_metric_dir(dir) {
+            let source = path.display().to_string();
+            match spec {
+                Ok(spec) => good.push(describe(source, &spec.instantiate_defaults())),
+                Err(e) => bad.push(BrokenFile {
+                    source,
+                    error: e.summary(),
+                }),
+            }
+        }
+    }
+    Ok((good, bad))
+}
+
 pub fn run(args: &MetricsArgs) -> Result<(), CliError> {
-    let rows = rows()?;
+    let mut rows = rows()?;
+    let dirs = if args.metrics_dir.is_empty() && Path::new("metrics").is_dir() {
+        vec![PathBuf::from("metrics")]
+    } else {
+        args.metrics_dir.clone()
+    };
+    let (files, broken) = file_rows(&dirs)?;
+    rows.extend(files);
     if args.json {
+        #[derive(Serialize)]
+        struct Listing<'a> {
+            metrics: &'a [MetricRow],
+            unreadable_files: &'a [BrokenFile],
+        }
+        let listing = Listing {
+            metrics: &rows,
+            unreadable_files: &broken,
+        };
         println!(
             "{}",
-            serde_json::to_string_pretty(&rows).expect("serialisable")
+            serde_json::to_string_pretty(&listing).expect("serialisable")
         );
         return Ok(());
     }
     for m in &rows {
-        println!("{} ({})", m.name, m.title);
+        if m.source == "builtin" {
+            println!("{} ({})", m.name, m.title);
+        } else {
+            println!("{} ({}) from file {}", m.name, m.title, m.source);
+        }
         println!(
             "  symmetry: {}; separable: {}; auto solver: {}",
             m.symmetry,
@@ -89,6 +154,9 @@ pub fn run(args: &MetricsArgs) -> Result<(), CliError> {
                 p.name, p.default, p.domain, p.meaning
             );
         }
+    }
+    for b in &broken {
+        println!("unreadable metric file {}: {}", b.source, b.error);
     }
     Ok(())
 }

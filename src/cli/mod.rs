@@ -1,11 +1,15 @@
 //! Command-line front end: argument parsing (clap) and the subcommands.
 
 mod args;
+mod bound;
 mod demo;
 mod geometry;
 mod metrics;
 mod plot;
+mod plot_bounds;
+mod scan;
 mod shadow;
+mod verify;
 
 use clap::{Parser, Subcommand};
 use std::ffi::OsString;
@@ -31,6 +35,12 @@ enum Command {
     Shadow(shadow::ShadowArgs),
     /// Run the whole chain on the built-in invented scenario.
     Demo(demo::DemoArgs),
+    /// Allowed ranges of a metric parameter from a measured shadow size or ring.
+    Bound(bound::BoundArgs),
+    /// Observables on a parameter grid, streamed to JSON lines (resumable).
+    Scan(scan::ScanArgs),
+    /// Recompute pinned numbers from checks files; exit 1 if any drifted.
+    Verify(verify::VerifyArgs),
 }
 
 /// Parse the arguments and run a subcommand.
@@ -62,6 +72,9 @@ pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErro
         Command::Geometry(a) => geometry::run(&a),
         Command::Shadow(a) => shadow::run(&a),
         Command::Demo(a) => demo::run(&a),
+        Command::Bound(a) => bound::run(&a),
+        Command::Scan(a) => scan::run(&a),
+        Command::Verify(a) => return verify::run(&a),
     }?;
     Ok(ExitCode::SUCCESS)
 }

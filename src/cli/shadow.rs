@@ -1,6 +1,6 @@
 //! `umbral shadow`: the critical curve and its observables for one metric and observer.
 
-use super::args::{parse_finite, parse_set_family};
+use super::args::{parse_finite, parse_set_family, MetricChoice};
 use super::plot::{screen_curves, ScreenCurve};
 use super::CliError;
 use clap::{Args, ValueEnum};
@@ -8,7 +8,6 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::io::Write;
 use umbral::metric::Spacetime;
-use umbral::metrics::build_metric;
 use umbral::observables::{CentreChoice, Observables};
 use umbral::shadow::{self, Diagnostics, Observer, ShadowSettings, ShadowStatus, SolverChoice};
 
@@ -28,9 +27,8 @@ enum CentreArg {
 
 #[derive(Debug, Args)]
 pub struct ShadowArgs {
-    /// Metric name (see `umbral metrics`).
-    #[arg(long)]
-    metric: String,
+    #[command(flatten)]
+    metric: MetricChoice,
     /// Parameter assignment NAME=VALUE (repeatable); one parameter may take a comma list
     /// (`--set a=0,0.5,0.9`) to draw a family.
     #[arg(long = "set", value_name = "NAME=VALUE")]
@@ -288,10 +286,11 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         CentreArg::Midpoint => CentreChoice::Midpoint,
     };
     let family = parse_set_family(&args.set)?;
+    let source = args.metric.resolve()?;
     // Build every member first, so a bad value fails before any work.
     let metrics: Vec<Box<dyn Spacetime>> = family
         .iter()
-        .map(|assignments| build_metric(&args.metric, assignments))
+        .map(|assignments| source.build(assignments))
         .collect::<Result<_, _>>()?;
     let reports: Vec<ShadowReport> = metrics
         .iter()
@@ -316,7 +315,10 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
                 })
             })
             .collect();
-        let title = format!("{} shadow, inclination {inclination_deg} deg", args.metric);
+        let title = format!(
+            "{} shadow, inclination {inclination_deg} deg",
+            source.name()
+        );
         screen_curves(path, &title, &curves)?;
     }
     if args.json {

@@ -1,0 +1,934 @@
+//! From intervals on the shadow radius to the allowed range of a deviation parameter.
+//!
+//! A value x of the varied parameter is allowed at a confidence level with interval [L, H] on
+//! r_sh/M if some point of the nuisance box (spin, inclination, other metric parameters) puts
+//! the predicted size inside [L, H] and the circularity deviation ΔC under the measured limit.
+//! With s₋(x), s₊(x) the min and max of the size over the nuisance points with ΔC ≤ limit
+//! (see [`nuisance`]), and assuming the size takes every value in between, x is allowed iff
+//! s₋(x) ≤ H, s₊(x) ≥ L and min ΔC(x) ≤ limit. The allowed set is a union of intervals whose
+//! ends are sign changes of these margins, bracketed on an adaptive grid and refined by
+//! Brent's method ([`crate::numerics::brent_root`]).
+//!
+//! ```
+//! use umbral::bounds::{bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure};
+//! use umbral::measurement::Measurement;
+//! let m = Measurement::from_toml_str(r#"
+//! [size.shadow_radius]
+//! intervals = [ { confidence = 0.68, low = 4.9, high = 5.3 } ]
+//! "#).unwrap();
+//! let request = BoundRequest {
+//!     metric: "reissner-nordstrom".into(),
+//!     vary: ParameterRange { name: "q".into(), low: 0.0, high: 1.2 },
+//!     fixed: vec![],
+//!     inclination: Inclination::Fixed { degrees: 17.0 },
+//!     nuisance: vec![],
+//!     size_measure: SizeMeasure::Mean,
+//!     radii: m.derive(None).unwrap(),
+//!     circularity_max: None,
+//!     settings: BoundSettings::default(),
+//! };
+//! let result = bound(&request).unwrap();
+//! // Reissner-Nordstrom shadows shrink with charge: small charges are allowed.
+//! assert_eq!(result.levels[0].allowed.len(), 1);
+//! assert!(result.levels[0].allowed[0][0] == 0.0);
+//! assert!(!result.no_horizon.is_empty()); // q > 1 has no horizon
+//! ```
+
+pub mod minimise;
+pub mod nuisance;
+
+use crate::error::MetricError;
+use crate::measurement::DerivedRadii;
+use crate::metric::{Classification, Spacetime, Symmetry};
+use crate::metrics::build_metric;
+use crate::numerics::brent_root;
+use crate::observables::{CentreChoice, Observables};
+use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice};
+use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
+use rayon::prelude::*;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// Which size of the critical curve is compared with the measured radius.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SizeMeasure {
+    /// R̄, the mean distance from the area centroid.
+    Mean,
+    /// √(Area/π).
+    Area,
+}
+
+impl SizeMeasure {
+    /// Lower-case name as on the command line.
+    pub fn name(&self) -> &'static str {
+        match self {
+            SizeMeasure::Mean => "mean",
+            SizeMeasure::Area => "area",
+        }
+    }
+}
+
+/// A named parameter range `[low, high]`.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ParameterRange {
+    pub name: String,
+    pub low: f64,
+    pub high: f64,
+}
+
+/// The observer's inclination: fixed or a nuisance range (degrees from the spin axis).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Inclination {
+    Fixed { degrees: f64 },
+    Range { low_degrees: f64, high_degrees: f64 },
+}
+
+/// Numerical settings of a bound.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct BoundSettings {
+    /// Uniform starting grid over the varied range (at least 3 points).
+    pub initial_grid: usize,
+    /// Tolerance on the ends of the allowed ranges, in the varied parameter.
+    pub parameter_tolerance: f64,
+    /// Rounds of grid refinement looking for crossings hidden between grid points.
+    pub refinement_rounds: usize,
+    /// Nuisance search.
+    pub nuisance: NuisanceSearch,
+    /// Shadow solver settings.
+    pub shadow: ShadowSettings,
+}
+
+impl Default for BoundSettings {
+    fn default() -> Self {
+        BoundSettings {
+            initial_grid: 21,
+            parameter_tolerance: 1e-8,
+            refinement_rounds: 3,
+            nuisance: NuisanceSearch {
+                grid: 7,
+                relative_tolerance: 1e-10,
+            },
+            shadow: ShadowSettings {
+                points: 64,
+                tolerance: 1e-8,
+                solver: SolverChoice::Auto,
+            },
+        }
+    }
+}
+
+/// What to bound.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BoundRequest {
+    /// Built-in metric name.
+    pub metric: String,
+    /// The varied (deviation) parameter and its range.
+    pub vary: ParameterRange,
+    /// Other parameters held fixed.
+    pub fixed: Vec<(String, f64)>,
+    pub inclination: Inclination,
+    /// Metric parameters treated as nuisance over a range.
+    pub nuisance: Vec<ParameterRange>,
+    pub size_measure: SizeMeasure,
+    /// The measured r_sh/M intervals (from [`crate::measurement::Measurement::derive`]).
+    pub radii: DerivedRadii,
+    /// Upper limit on ΔC, if any.
+    pub circularity_max: Option<f64>,
+    pub settings: BoundSettings,
+}
+
+/// The allowed set at one confidence level.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LevelBound {
+    pub confidence: f64,
+    /// The r_sh/M interval [low, high] at this level.
+    pub radius_interval: [f64; 2],
+    /// Allowed ranges of the varied parameter, in increasing order.
+    pub allowed: Vec<[f64; 2]>,
+}
+
+/// A range of the varied parameter where the solver failed.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Failure {
+    pub low: f64,
+    pub high: f64,
+    pub error: String,
+}
+
+/// The prediction at one grid node of the varied parameter.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PredictedPoint {
+    pub value: f64,
+    /// `ok`, `no_horizon`, `no_shadow` or `failed`.
+    pub status: &'static str,
+    /// Min and max of the predicted size over the (feasible) nuisance box.
+    pub size_min: Option<f64>,
+    pub size_max: Option<f64>,
+    pub circularity_min: Option<f64>,
+}
+
+/// A bound, ready to serialise.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct BoundResult {
+    pub metric: String,
+    pub vary: ParameterRange,
+    pub fixed: BTreeMap<String, f64>,
+    pub nuisance: Vec<ParameterRange>,
+    pub inclination: Inclination,
+    pub size_measure: SizeMeasure,
+    pub levels: Vec<LevelBound>,
+    pub circularity_max: Option<f64>,
+    /// Ranges of the varied parameter where no nuisance point has a horizon.
+    pub no_horizon: Vec<[f64; 2]>,
+    /// Ranges where there is a horizon but no shadow.
+    pub no_shadow: Vec<[f64; 2]>,
+    /// Ranges where the solver failed (neither allowed nor excluded).
+    pub failures: Vec<Failure>,
+    pub assumptions: Vec<String>,
+    /// Every evaluated node, in increasing order of the varied parameter.
+    pub predicted: Vec<PredictedPoint>,
+}
+
+/// Why a bound could not be computed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum BoundError {
+    #[error(transparent)]
+    Metric(#[from] MetricError),
+    #[error("{0}")]
+    BadRequest(String),
+    #[error("{0}")]
+    NotConverged(String),
+}
+
+/// One nuisance dimension.
+#[derive(Debug, Clone, PartialEq)]
+enum Dimension {
+    Parameter(String),
+    /// Inclination in radians.
+    Inclination,
+}
+
+/// The model at one value of the varied parameter.
+struct Model<'a> {
+    request: &'a BoundRequest,
+    x: f64,
+    dims: &'a [Dimension],
+    fixed_inclination: f64,
+    want_circularity: bool,
+}
+
+impl Model<'_> {
+    fn build(&self, n: &[f64]) -> Result<(Box<dyn Spacetime>, f64), MetricError> {
+        let mut assignments = self.request.fixed.clone();
+        assignments.push((self.request.vary.name.clone(), self.x));
+        let mut inclination = self.fixed_inclination;
+        for (d, &v) in self.dims.iter().zip(n) {
+            match d {
+                Dimension::Parameter(name) => assignments.push((name.clone(), v)),
+                Dimension::Inclination => inclination = v,
+            }
+        }
+        Ok((
+            build_metric(&self.request.metric, &assignments)?,
+            inclination,
+        ))
+    }
+}
+
+/// The size measure (and ΔC) of a critical curve. A curve with equal radii about the screen
+/// origin is a circle: R̄ = √(Area/π) = R and ΔC = 0 exactly.
+fn measure_curve(
+    result: &shadow::ShadowResult,
+    spacetime: &dyn Spacetime,
+    measure: SizeMeasure,
+    want_circularity: bool,
+) -> Result<(f64, f64), String> {
+    let curve = result
+        .curve
+        .as_ref()
+        .ok_or_else(|| "the solver reported a shadow without a curve".to_string())?;
+    let (lo, hi) = curve
+        .radii
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), &r| {
+            (a.min(r), b.max(r))
+        });
+    if curve.origin == [0.0, 0.0] && lo == hi && lo.is_finite() && lo > 0.0 {
+        return Ok((lo, 0.0));
+    }
+    if measure == SizeMeasure::Area && !want_circularity {
+        // Area = ½∮R(ψ)² dψ by the periodic trapezoid rule, as in `Observables`.
+        let n = curve.radii.len() as f64;
+        let area = 0.5 * std::f64::consts::TAU / n * curve.radii.iter().map(|r| r * r).sum::<f64>();
+        return Ok(((area / std::f64::consts::PI).sqrt(), f64::NAN));
+    }
+    let o = Observables::from_curve(
+        curve,
+        CentreChoice::Centroid,
+        spacetime.outer_horizon(),
+        result.photon_orbit_radii,
+    )
+    .map_err(|e| e.to_string())?;
+    let size = match measure {
+        SizeMeasure::Mean => o.mean_radius,
+        SizeMeasure::Area => o.area_radius,
+    };
+    Ok((size, o.circularity_deviation))
+}
+
+impl PointModel for Model<'_> {
+    fn value(&self, n: &[f64]) -> PointValue {
+        let (spacetime, inclination) = match self.build(n) {
+            Ok(s) => s,
+            Err(e) => return PointValue::Failed(e.to_string()),
+        };
+        if let Classification::Horizonless = spacetime.classify() {
+            return PointValue::NoHorizon;
+        }
+        let observer = Observer::distant(inclination);
+        match shadow::solve(spacetime.as_ref(), &observer, &self.request.settings.shadow) {
+            Err(e) => PointValue::Failed(e.to_string()),
+            Ok(r) => match &r.status {
+                ShadowStatus::NoShadow { reason } => PointValue::NoShadow(reason.clone()),
+                ShadowStatus::Shadow => match measure_curve(
+                    &r,
+                    spacetime.as_ref(),
+                    self.request.size_measure,
+                    self.want_circularity,
+                ) {
+                    Ok((size, circularity)) => PointValue::Valid { size, circularity },
+                    Err(m) => PointValue::Failed(m),
+                },
+            },
+        }
+    }
+
+    fn has_horizon(&self, n: &[f64]) -> bool {
+        self.build(n)
+            .map(|(s, _)| matches!(s.classify(), Classification::BlackHole { .. }))
+            .unwrap_or(false)
+    }
+}
+
+/// Everything fixed about a request once it is checked.
+struct Prepared<'a> {
+    request: &'a BoundRequest,
+    dims: Vec<Dimension>,
+    ranges: Vec<(f64, f64)>,
+    fixed_inclination: f64,
+    spherical: bool,
+}
+
+impl Prepared<'_> {
+    fn evaluate(&self, x: f64) -> Aggregate {
+        let model = Model {
+            request: self.request,
+            x,
+            dims: &self.dims,
+            fixed_inclination: self.fixed_inclination,
+            want_circularity: self.request.circularity_max.is_some(),
+        };
+        extremes(
+            &model,
+            &self.ranges,
+            self.request.circularity_max,
+            &self.request.settings.nuisance,
+        )
+    }
+}
+
+fn check_range(what: &str, lo: f64, hi: f64) -> Result<(), BoundError> {
+    if !(lo.is_finite() && hi.is_finite()) {
+        return Err(BoundError::BadRequest(format!(
+            "{what}: the range must be finite, got {lo}:{hi}"
+        )));
+    }
+    if lo >= hi {
+        return Err(BoundError::BadRequest(format!(
+            "{what}: need LO < HI, got {lo}:{hi}"
+        )));
+    }
+    Ok(())
+}
+
+fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
+    let s = &request.settings;
+    let positive_tolerance = s.parameter_tolerance.is_finite() && s.parameter_tolerance > 0.0;
+    if s.initial_grid < 3 || !positive_tolerance || s.nuisance.grid < 2 {
+        return Err(BoundError::BadRequest(
+            "need an initial grid of at least 3 points, 2 nuisance grid points and a positive \
+             tolerance"
+                .into(),
+        ));
+    }
+    check_range(
+        &format!("--vary {}", request.vary.name),
+        request.vary.low,
+        request.vary.high,
+    )?;
+    let mut names = vec![request.vary.name.clone()];
+    for (n, v) in &request.fixed {
+        if !v.is_finite() {
+            return Err(BoundError::BadRequest(format!(
+                "parameter '{n}' must be finite, got {v}"
+            )));
+        }
+        names.push(n.clone());
+    }
+    for p in &request.nuisance {
+        if p.name == "inclination" {
+            return Err(BoundError::BadRequest(
+                "give the inclination range as an inclination range, not a nuisance parameter"
+                    .into(),
+            ));
+        }
+        check_range(&format!("--nuisance {}", p.name), p.low, p.high)?;
+        names.push(p.name.clone());
+    }
+    for (i, n) in names.iter().enumerate() {
+        if names[..i].contains(n) {
+            return Err(BoundError::BadRequest(format!(
+                "parameter '{n}' is given more than once"
+            )));
+        }
+    }
+    if request.radii.intervals.is_empty() {
+        return Err(BoundError::BadRequest(
+            "no radius intervals to bound with".into(),
+        ));
+    }
+    // Domains are intervals: building at the corners checks every name and value.
+    let corner = |pick_high: bool| -> Vec<(String, f64)> {
+        let mut a = request.fixed.clone();
+        a.push((
+            request.vary.name.clone(),
+            if pick_high {
+                request.vary.high
+            } else {
+                request.vary.low
+            },
+        ));
+        for p in &request.nuisance {
+            a.push((p.name.clone(), if pick_high { p.high } else { p.low }));
+        }
+        a
+    };
+    let low_metric = build_metric(&request.metric, &corner(false))?;
+    build_metric(&request.metric, &corner(true))?;
+    let spherical = low_metric.symmetry() == Symmetry::Spherical;
+    let degrees_ok = |d: f64| d.is_finite() && (0.0..=180.0).contains(&d);
+    let mut dims: Vec<Dimension> = request
+        .nuisance
+        .iter()
+        .map(|p| Dimension::Parameter(p.name.clone()))
+        .collect();
+    let mut ranges: Vec<(f64, f64)> = request.nuisance.iter().map(|p| (p.low, p.high)).collect();
+    let fixed_inclination = match request.inclination {
+        Inclination::Fixed { degrees } => {
+            if !degrees_ok(degrees) {
+                return Err(BoundError::BadRequest(format!(
+                    "the inclination must lie between 0 and 180 degrees, got {degrees}"
+                )));
+            }
+            degrees.to_radians()
+        }
+        Inclination::Range {
+            low_degrees,
+            high_degrees,
+        } => {
+            if !(degrees_ok(low_degrees) && degrees_ok(high_degrees)) {
+                return Err(BoundError::BadRequest(format!(
+                    "the inclination range must lie within 0 to 180 degrees, got \
+                     {low_degrees}:{high_degrees}"
+                )));
+            }
+            check_range("--inclination-range", low_degrees, high_degrees)?;
+            if !spherical {
+                dims.push(Dimension::Inclination);
+                ranges.push((low_degrees.to_radians(), high_degrees.to_radians()));
+            }
+            (0.5 * (low_degrees + high_degrees)).to_radians()
+        }
+    };
+    if dims.len() > 3 {
+        return Err(BoundError::BadRequest(format!(
+            "at most 3 nuisance dimensions are supported, got {}",
+            dims.len()
+        )));
+    }
+    Ok(Prepared {
+        request,
+        dims,
+        ranges,
+        fixed_inclination,
+        spherical,
+    })
+}
+
+/// A grid node of the varied parameter.
+#[derive(Debug, Clone)]
+struct Node {
+    x: f64,
+    value: Aggregate,
+}
+
+fn category(a: &Aggregate) -> u8 {
+    match a {
+        Aggregate::Ok(_) => 0,
+        Aggregate::NoHorizon => 1,
+        Aggregate::NoShadow(_) => 2,
+        Aggregate::Failed(_) => 3,
+    }
+}
+
+/// The margins whose signs decide allowedness: per level (H − s₋, s₊ − L), then the
+/// circularity margin (limit − min ΔC) if a limit is set. Non-negative means "passes".
+fn margins(e: &Extremes, levels: &[[f64; 2]], circularity_max: Option<f64>) -> Vec<f64> {
+    let mut m = Vec::with_capacity(2 * levels.len() + 1);
+    for [lo, hi] in levels {
+        m.push(hi - e.size_min);
+        m.push(e.size_max - lo);
+    }
+    if let Some(c) = circularity_max {
+        m.push(c - e.circularity_min);
+    }
+    m
+}
+
+/// Which margins belong to level `l`.
+fn level_margins(l: usize, count: usize, has_circularity: bool) -> Vec<usize> {
+    let mut v = vec![2 * l, 2 * l + 1];
+    if has_circularity {
+        v.push(count - 1);
+    }
+    v
+}
+
+fn passes(m: f64) -> bool {
+    m >= 0.0
+}
+
+/// Compute the allowed ranges of the varied parameter at each level.
+pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
+    let prep = prepare(request)?;
+    let s = &request.settings;
+    let tol = s.parameter_tolerance;
+    let (lo, hi) = (request.vary.low, request.vary.high);
+    let n0 = s.initial_grid;
+    let xs: Vec<f64> = (0..n0)
+        .map(|i| {
+            if i == n0 - 1 {
+                hi
+            } else {
+                lo + (hi - lo) * i as f64 / (n0 - 1) as f64
+            }
+        })
+        .collect();
+    let mut nodes: Vec<Node> = xs
+        .par_iter()
+        .map(|&x| Node {
+            x,
+            value: prep.evaluate(x),
+        })
+        .collect();
+    let levels: Vec<[f64; 2]> = request
+        .radii
+        .intervals
+        .iter()
+        .map(|iv| [iv.low, iv.high])
+        .collect();
+    let cmax = request.circularity_max;
+
+    locate_category_boundaries(&prep, &mut nodes, tol);
+    for _ in 0..s.refinement_rounds {
+        let extra = hidden_crossing_candidates(&nodes, &levels, cmax);
+        if extra.is_empty() {
+            break;
+        }
+        let mut new: Vec<Node> = extra
+            .par_iter()
+            .map(|&x| Node {
+                x,
+                value: prep.evaluate(x),
+            })
+            .collect();
+        nodes.append(&mut new);
+        nodes.sort_by(|a, b| a.x.total_cmp(&b.x));
+        nodes.dedup_by(|a, b| a.x == b.x);
+        locate_category_boundaries(&prep, &mut nodes, tol);
+    }
+
+    // Roots of every margin that changes sign between adjacent Ok nodes.
+    let count = margins(
+        &Extremes {
+            size_min: 0.0,
+            size_max: 0.0,
+            circularity_min: 0.0,
+            partial: false,
+            wall_backoff: 0.0,
+        },
+        &levels,
+        cmax,
+    )
+    .len();
+    let mut failures: Vec<Failure> = Vec::new();
+    // cells[i] = roots found in (nodes[i], nodes[i+1]) per margin.
+    let mut cell_roots: Vec<Vec<Option<f64>>> =
+        vec![vec![None; count]; nodes.len().saturating_sub(1)];
+    for i in 0..nodes.len().saturating_sub(1) {
+        let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value) else {
+            continue;
+        };
+        let (ma, mb) = (margins(ea, &levels, cmax), margins(eb, &levels, cmax));
+        for j in 0..count {
+            if !(ma[j].is_finite() && mb[j].is_finite()) || passes(ma[j]) == passes(mb[j]) {
+                continue;
+            }
+            let mut inner_failure = None;
+            let root = brent_root(
+                |x| match prep.evaluate(x) {
+                    Aggregate::Ok(e) => margins(&e, &levels, cmax)[j],
+                    other => {
+                        inner_failure.get_or_insert(other);
+                        f64::NAN
+                    }
+                },
+                nodes[i].x,
+                nodes[i + 1].x,
+                0.25 * tol,
+            );
+            match (root, inner_failure) {
+                (Ok(r), None) => cell_roots[i][j] = Some(r),
+                (_, Some(other)) => failures.push(Failure {
+                    low: nodes[i].x,
+                    high: nodes[i + 1].x,
+                    error: format!(
+                        "the prediction changed to '{}' between grid points while refining a \
+                         bound end",
+                        match other {
+                            Aggregate::Failed(m) => m,
+                            Aggregate::NoShadow(r) => format!("no shadow: {r}"),
+                            Aggregate::NoHorizon => "no horizon".into(),
+                            Aggregate::Ok(_) => unreachable!(),
+                        }
+                    ),
+                }),
+                (Err(e), None) => {
+                    return Err(BoundError::NotConverged(format!(
+                        "refining a bound end of '{}' failed: {e}",
+                        request.vary.name
+                    )))
+                }
+            }
+        }
+    }
+
+    let failed_cells: Vec<bool> = (0..cell_roots.len())
+        .map(|i| {
+            failures
+                .iter()
+                .any(|f| f.low == nodes[i].x && f.high == nodes[i + 1].x)
+        })
+        .collect();
+    let mut level_bounds = Vec::new();
+    for (l, iv) in request.radii.intervals.iter().enumerate() {
+        let ids = level_margins(l, count, cmax.is_some());
+        let mut segments: Vec<[f64; 2]> = Vec::new();
+        for i in 0..cell_roots.len() {
+            let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
+            else {
+                continue;
+            };
+            if failed_cells[i] {
+                continue;
+            }
+            let (ma, mb) = (margins(ea, &levels, cmax), margins(eb, &levels, cmax));
+            let mut cuts: Vec<f64> = ids.iter().filter_map(|&j| cell_roots[i][j]).collect();
+            cuts.push(nodes[i].x);
+            cuts.push(nodes[i + 1].x);
+            cuts.sort_by(f64::total_cmp);
+            cuts.dedup();
+            for w in cuts.windows(2) {
+                let mid = 0.5 * (w[0] + w[1]);
+                let ok = ids.iter().all(|&j| {
+                    let status = |m: f64| m.is_finite() && passes(m);
+                    match cell_roots[i][j] {
+                        Some(r) => {
+                            if mid < r {
+                                status(ma[j])
+                            } else {
+                                status(mb[j])
+                            }
+                        }
+                        None => {
+                            if ma[j].is_finite() {
+                                status(ma[j])
+                            } else {
+                                status(mb[j])
+                            }
+                        }
+                    }
+                });
+                if ok {
+                    match segments.last_mut() {
+                        Some(last) if last[1] == w[0] => last[1] = w[1],
+                        _ => segments.push([w[0], w[1]]),
+                    }
+                }
+            }
+        }
+        // An allowed Ok node isolated between other categories.
+        for (i, n) in nodes.iter().enumerate() {
+            if let Aggregate::Ok(e) = &n.value {
+                let isolated = (i == 0 || category(&nodes[i - 1].value) != 0)
+                    && (i + 1 == nodes.len() || category(&nodes[i + 1].value) != 0);
+                let m = margins(e, &levels, cmax);
+                if isolated && ids.iter().all(|&j| passes(m[j])) {
+                    segments.push([n.x, n.x]);
+                }
+            }
+        }
+        segments.sort_by(|a, b| a[0].total_cmp(&b[0]));
+        level_bounds.push(LevelBound {
+            confidence: iv.confidence,
+            radius_interval: [iv.low, iv.high],
+            allowed: segments,
+        });
+    }
+
+    let runs = |cat: u8| -> Vec<[f64; 2]> {
+        let mut out: Vec<[f64; 2]> = Vec::new();
+        let mut prev = false;
+        for n in &nodes {
+            let this = category(&n.value) == cat;
+            if this {
+                if prev {
+                    if let Some(last) = out.last_mut() {
+                        last[1] = n.x;
+                    }
+                } else {
+                    out.push([n.x, n.x]);
+                }
+            }
+            prev = this;
+        }
+        out
+    };
+    let mut prev_failed = false;
+    for n in &nodes {
+        if let Aggregate::Failed(m) = &n.value {
+            match failures.last_mut() {
+                Some(f) if prev_failed && f.error == *m => f.high = n.x,
+                _ => failures.push(Failure {
+                    low: n.x,
+                    high: n.x,
+                    error: m.clone(),
+                }),
+            }
+            prev_failed = true;
+        } else {
+            prev_failed = false;
+        }
+    }
+    failures.sort_by(|a, b| a.low.total_cmp(&b.low));
+
+    let partial = nodes
+        .iter()
+        .any(|n| matches!(&n.value, Aggregate::Ok(e) if e.partial));
+    let backoff = nodes
+        .iter()
+        .map(|n| match &n.value {
+            Aggregate::Ok(e) => e.wall_backoff,
+            _ => 0.0,
+        })
+        .fold(0.0, f64::max);
+    let mut assumptions = describe(&prep, partial, nodes.len());
+    if backoff > 0.0 {
+        assumptions.push(format!(
+            "the shadow solver failed right at a horizon boundary inside the nuisance box; the \
+             closest successful point was used, at most {backoff:.3e} inside"
+        ));
+    }
+    let predicted = nodes
+        .iter()
+        .map(|n| {
+            let (status, e) = match &n.value {
+                Aggregate::Ok(e) => ("ok", Some(e)),
+                Aggregate::NoHorizon => ("no_horizon", None),
+                Aggregate::NoShadow(_) => ("no_shadow", None),
+                Aggregate::Failed(_) => ("failed", None),
+            };
+            let finite = |v: f64| v.is_finite().then_some(v);
+            PredictedPoint {
+                value: n.x,
+                status,
+                size_min: e.and_then(|e| finite(e.size_min)),
+                size_max: e.and_then(|e| finite(e.size_max)),
+                circularity_min: e.and_then(|e| finite(e.circularity_min)),
+            }
+        })
+        .collect();
+    Ok(BoundResult {
+        metric: request.metric.clone(),
+        vary: request.vary.clone(),
+        fixed: request.fixed.iter().cloned().collect(),
+        nuisance: request.nuisance.clone(),
+        inclination: request.inclination,
+        size_measure: request.size_measure,
+        levels: level_bounds,
+        circularity_max: cmax,
+        no_horizon: runs(1),
+        no_shadow: runs(2),
+        failures,
+        assumptions,
+        predicted,
+    })
+}
+
+/// Bisect every pair of adjacent nodes of different categories down to `tol`, inserting the
+/// evaluated midpoints.
+fn locate_category_boundaries(prep: &Prepared, nodes: &mut Vec<Node>, tol: f64) {
+    loop {
+        let pair = (0..nodes.len().saturating_sub(1)).find(|&i| {
+            category(&nodes[i].value) != category(&nodes[i + 1].value)
+                && nodes[i + 1].x - nodes[i].x > tol
+                && 0.5 * (nodes[i].x + nodes[i + 1].x) != nodes[i].x
+        });
+        let Some(i) = pair else { break };
+        let x = 0.5 * (nodes[i].x + nodes[i + 1].x);
+        let value = prep.evaluate(x);
+        nodes.insert(i + 1, Node { x, value });
+    }
+}
+
+/// Points to add where a parabola through three adjacent Ok nodes suggests a margin crosses
+/// zero and back between them.
+fn hidden_crossing_candidates(nodes: &[Node], levels: &[[f64; 2]], cmax: Option<f64>) -> Vec<f64> {
+    let mut out = Vec::new();
+    for w in nodes.windows(3) {
+        let (Aggregate::Ok(a), Aggregate::Ok(b), Aggregate::Ok(c)) =
+            (&w[0].value, &w[1].value, &w[2].value)
+        else {
+            continue;
+        };
+        let (ma, mb, mc) = (
+            margins(a, levels, cmax),
+            margins(b, levels, cmax),
+            margins(c, levels, cmax),
+        );
+        let (x0, x1, x2) = (w[0].x, w[1].x, w[2].x);
+        for j in 0..ma.len() {
+            let (y0, y1, y2) = (ma[j], mb[j], mc[j]);
+            if !(y0.is_finite() && y1.is_finite() && y2.is_finite()) {
+                continue;
+            }
+            if !(passes(y0) == passes(y1) && passes(y1) == passes(y2)) {
+                continue;
+            }
+            // Divided differences of the interpolating parabola.
+            let d01 = (y1 - y0) / (x1 - x0);
+            let d12 = (y2 - y1) / (x2 - x1);
+            let curvature = (d12 - d01) / (x2 - x0);
+            if curvature == 0.0 {
+                continue;
+            }
+            let slope_at_x1 = d01 + curvature * (x1 - x0);
+            let xv = x1 - slope_at_x1 / (2.0 * curvature);
+            if !(xv > x0 && xv < x2) {
+                continue;
+            }
+            let yv = y1 - slope_at_x1 * slope_at_x1 / (4.0 * curvature);
+            if passes(yv) != passes(y1) {
+                out.push(xv);
+                out.push(0.5 * (x0 + x1));
+                out.push(0.5 * (x1 + x2));
+            }
+        }
+    }
+    out.sort_by(f64::total_cmp);
+    out.dedup();
+    out.retain(|x| !nodes.iter().any(|n| n.x == *x));
+    out
+}
+
+fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
+    let r = prep.request;
+    let s = &r.settings;
+    let mut a = r.radii.assumptions.clone();
+    for iv in &r.radii.intervals {
+        a.push(format!(
+            "r_sh/M interval at confidence {}: [{:.6}, {:.6}]",
+            iv.confidence, iv.low, iv.high
+        ));
+    }
+    a.push(match r.size_measure {
+        SizeMeasure::Mean => "size measure: mean radius of the critical curve about its area \
+                              centroid"
+            .to_string(),
+        SizeMeasure::Area => {
+            "size measure: area radius sqrt(Area/pi) of the critical curve".to_string()
+        }
+    });
+    a.push(match (r.inclination, prep.spherical) {
+        (_, true) => "inclination: irrelevant for a spherically symmetric metric".to_string(),
+        (Inclination::Fixed { degrees }, false) => format!("inclination: fixed at {degrees} deg"),
+        (
+            Inclination::Range {
+                low_degrees,
+                high_degrees,
+            },
+            false,
+        ) => format!("inclination: nuisance over [{low_degrees}, {high_degrees}] deg"),
+    });
+    for p in &r.nuisance {
+        a.push(format!("nuisance: {} over [{}, {}]", p.name, p.low, p.high));
+    }
+    if !prep.dims.is_empty() {
+        a.push(format!(
+            "nuisance extremes: a grid of {} points per dimension, refined by Brent \
+             minimisation (coordinate sweeps) to {:e} of each range; horizon boundaries inside \
+             the box located by bisection; an extreme at a box edge or horizon boundary is \
+             accepted when the adjacent grid value is less extreme",
+            s.nuisance.grid, s.nuisance.relative_tolerance
+        ));
+        a.push(
+            "allowed at a level: some nuisance point has its predicted size inside the interval \
+             (the size is assumed to take every value between its min and max over the \
+             feasible nuisance points)"
+                .to_string(),
+        );
+    }
+    if partial {
+        a.push(
+            "some nuisance points had no horizon or no shadow; they are left out of the \
+             extremes"
+                .to_string(),
+        );
+    }
+    if let Some(c) = r.circularity_max {
+        a.push(format!(
+            "circularity: a nuisance point counts only if its circularity deviation (about the \
+             area centroid) is at most {c}"
+        ));
+    }
+    a.push(format!(
+        "varied parameter: {} over [{}, {}], uniform starting grid of {} points ({} nodes \
+         after refinement), category changes (no horizon, no shadow, failure) located by \
+         bisection and bound ends by Brent's method to {:e}; values with no horizon or no \
+         shadow are reported as such, never as allowed or excluded",
+        r.vary.name, r.vary.low, r.vary.high, s.initial_grid, node_count, s.parameter_tolerance
+    ));
+    let solver = match s.shadow.solver {
+        SolverChoice::Auto => "auto (spherical, separable or raytrace by the metric's symmetry)",
+        SolverChoice::Spherical => "spherical",
+        SolverChoice::Separable => "separable",
+        SolverChoice::Raytrace => "raytrace",
+    };
+    a.push(format!(
+        "solver: {solver} shadow solver, {} curve points, boundary tolerance {:e} M",
+        s.shadow.points, s.shadow.tolerance
+    ));
+    a
+}

@@ -1,0 +1,391 @@
+//! Extremes of the predicted size over a box of nuisance parameters.
+//!
+//! A coarse grid over the box (evaluated in parallel, results in grid order), then, for each
+//! extreme, cyclic line refinements through the best point: an interior extreme is refined by
+//! Brent minimisation between its grid neighbours; a horizon boundary inside the box is
+//! located by bisection on the horizon test and its value taken as a candidate (if the solver
+//! fails right at the boundary, at the closest point inside where it succeeds); an extreme at
+//! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
+//! less extreme.
+
+use super::minimise::{bisect_predicate, brent_minimise};
+use rayon::prelude::*;
+use std::sync::Mutex;
+
+/// The prediction at one point of parameter space.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PointValue {
+    /// Predicted size (r_sh/M) and circularity deviation ΔC.
+    Valid {
+        size: f64,
+        circularity: f64,
+    },
+    NoHorizon,
+    NoShadow(String),
+    /// A solver error (never turned into allowed or excluded).
+    Failed(String),
+}
+
+/// The model being bounded, as seen by the nuisance search.
+pub trait PointModel: Sync {
+    /// Full prediction at nuisance point `n` (the varied parameter is fixed by the model).
+    fn value(&self, n: &[f64]) -> PointValue;
+    /// Cheap horizon test at `n`.
+    fn has_horizon(&self, n: &[f64]) -> bool;
+}
+
+/// Extremes of the prediction over the feasible part of the box.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Extremes {
+    /// Min and max of the size over points with ΔC ≤ the limit (NaN if there are none).
+    pub size_min: f64,
+    pub size_max: f64,
+    /// Min of ΔC over the box.
+    pub circularity_min: f64,
+    /// Whether some grid points had no horizon or no shadow (skipped).
+    pub partial: bool,
+    /// The largest step back from a horizon boundary inside the box needed for the solver
+    /// to succeed (0 if none).
+    pub wall_backoff: f64,
+}
+
+/// The prediction at one value of the varied parameter.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Aggregate {
+    /// No nuisance point has a horizon.
+    NoHorizon,
+    /// Some have a horizon, none a shadow.
+    NoShadow(String),
+    /// A solver error somewhere in the box.
+    Failed(String),
+    Ok(Extremes),
+}
+
+/// Search settings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct NuisanceSearch {
+    /// Grid points per nuisance dimension.
+    pub grid: usize,
+    /// Absolute tolerance of refinements, as a fraction of each dimension's range.
+    pub relative_tolerance: f64,
+}
+
+fn linspace(lo: f64, hi: f64, n: usize) -> Vec<f64> {
+    if n <= 1 || lo == hi {
+        return vec![lo];
+    }
+    (0..n)
+        .map(|i| {
+            if i == n - 1 {
+                hi
+            } else {
+                lo + (hi - lo) * i as f64 / (n - 1) as f64
+            }
+        })
+        .collect()
+}
+
+/// Which extreme to refine.
+#[derive(Clone, Copy)]
+enum Goal {
+    SizeMin,
+    SizeMax,
+    CircularityMin,
+}
+
+impl Goal {
+    /// The objective to minimise (+inf where undefined or infeasible).
+    fn objective(self, v: &PointValue, limit: Option<f64>) -> f64 {
+        match (self, v) {
+            (Goal::SizeMin | Goal::SizeMax, PointValue::Valid { size, circularity }) => {
+                if limit.is_some_and(|c| *circularity > c) {
+                    f64::INFINITY
+                } else if matches!(self, Goal::SizeMin) {
+                    *size
+                } else {
+                    -*size
+                }
+            }
+            (Goal::CircularityMin, PointValue::Valid { circularity, .. }) => *circularity,
+            _ => f64::INFINITY,
+        }
+    }
+}
+
+/// Min and max of the size, and min of ΔC, over the box `dims` (may be empty).
+pub fn extremes(
+    model: &dyn PointModel,
+    dims: &[(f64, f64)],
+    circularity_limit: Option<f64>,
+    search: &NuisanceSearch,
+) -> Aggregate {
+    let axes: Vec<Vec<f64>> = dims
+        .iter()
+        .map(|&(lo, hi)| linspace(lo, hi, search.grid))
+        .collect();
+    let mut points: Vec<Vec<f64>> = vec![Vec::new()];
+    for axis in &axes {
+        points = points
+            .into_iter()
+            .flat_map(|p| {
+                axis.iter().map(move |&t| {
+                    let mut q = p.clone();
+                    q.push(t);
+                    q
+                })
+            })
+            .collect();
+    }
+    let values: Vec<PointValue> = points.par_iter().map(|p| model.value(p)).collect();
+    if let Some(PointValue::Failed(m)) = values.iter().find(|v| matches!(v, PointValue::Failed(_)))
+    {
+        return Aggregate::Failed(m.clone());
+    }
+    if values.iter().all(|v| matches!(v, PointValue::NoHorizon)) {
+        return Aggregate::NoHorizon;
+    }
+    if !values.iter().any(|v| matches!(v, PointValue::Valid { .. })) {
+        let reason = values
+            .iter()
+            .find_map(|v| match v {
+                PointValue::NoShadow(r) => Some(r.clone()),
+                _ => None,
+            })
+            .unwrap_or_default();
+        return Aggregate::NoShadow(reason);
+    }
+    let partial = values
+        .iter()
+        .any(|v| !matches!(v, PointValue::Valid { .. }));
+    let backoff = Mutex::new(0.0f64);
+    let refine = |goal: Goal| -> Result<f64, String> {
+        refine_goal(
+            model,
+            dims,
+            &axes,
+            &points,
+            &values,
+            goal,
+            circularity_limit,
+            search,
+            &backoff,
+        )
+    };
+    let size_min = match refine(Goal::SizeMin) {
+        Ok(v) => v,
+        Err(m) => return Aggregate::Failed(m),
+    };
+    let size_max = match refine(Goal::SizeMax) {
+        Ok(v) => -v,
+        Err(m) => return Aggregate::Failed(m),
+    };
+    let circularity_min = if circularity_limit.is_some() {
+        match refine(Goal::CircularityMin) {
+            Ok(v) => v,
+            Err(m) => return Aggregate::Failed(m),
+        }
+    } else {
+        values
+            .iter()
+            .map(|v| Goal::CircularityMin.objective(v, None))
+            .fold(f64::INFINITY, f64::min)
+    };
+    let (size_min, size_max) = if size_min.is_finite() {
+        (size_min, size_max)
+    } else {
+        (f64::NAN, f64::NAN)
+    };
+    let wall_backoff = backoff.into_inner().unwrap_or_else(|e| e.into_inner());
+    Aggregate::Ok(Extremes {
+        size_min,
+        size_max,
+        circularity_min,
+        partial,
+        wall_backoff,
+    })
+}
+
+#[allow(clippy::too_many_arguments)]
+fn refine_goal(
+    model: &dyn PointModel,
+    dims: &[(f64, f64)],
+    axes: &[Vec<f64>],
+    points: &[Vec<f64>],
+    values: &[PointValue],
+    goal: Goal,
+    limit: Option<f64>,
+    search: &NuisanceSearch,
+    backoff: &Mutex<f64>,
+) -> Result<f64, String> {
+    let objective: Vec<f64> = values.iter().map(|v| goal.objective(v, limit)).collect();
+    let k = (0..objective.len())
+        .min_by(|&i, &j| objective[i].total_cmp(&objective[j]))
+        .unwrap_or(0);
+    let mut best = points[k].clone();
+    let mut best_value = objective[k];
+    if dims.is_empty() || !best_value.is_finite() {
+        return Ok(best_value);
+    }
+    let sweeps = if dims.len() == 1 { 1 } else { 2 };
+    let failure = std::sync::Mutex::new(None::<String>);
+    for sweep in 0..sweeps {
+        for j in 0..dims.len() {
+            let nodes = &axes[j];
+            // The line through `best` along dimension j: reuse the grid on the first sweep
+            // when `best` is a grid point, else evaluate it.
+            let line_values: Vec<f64> = nodes
+                .par_iter()
+                .map(|&t| {
+                    let mut p = best.clone();
+                    p[j] = t;
+                    if sweep == 0 {
+                        if let Some(i) = points.iter().position(|q| *q == p) {
+                            return objective[i];
+                        }
+                    }
+                    match model.value(&p) {
+                        PointValue::Failed(m) => {
+                            *failure.lock().unwrap_or_else(|e| e.into_inner()) = Some(m);
+                            f64::INFINITY
+                        }
+                        v => goal.objective(&v, limit),
+                    }
+                })
+                .collect();
+            if let Some(m) = failure.lock().unwrap_or_else(|e| e.into_inner()).take() {
+                return Err(m);
+            }
+            let tol = search.relative_tolerance * (dims[j].1 - dims[j].0).abs();
+            let mut eval = |t: f64| -> Result<f64, String> {
+                let mut p = best.clone();
+                p[j] = t;
+                match model.value(&p) {
+                    PointValue::Failed(m) => Err(m),
+                    v => Ok(goal.objective(&v, limit)),
+                }
+            };
+            let horizon = |t: f64| {
+                let mut p = best.clone();
+                p[j] = t;
+                model.has_horizon(&p)
+            };
+            let (t, v) = refine_line(nodes, &line_values, &mut eval, &horizon, tol, backoff)?;
+            if v < best_value {
+                best_value = v;
+                best[j] = t;
+            }
+        }
+    }
+    Ok(best_value)
+}
+
+/// Refine the minimum of a function sampled at `nodes` with values `f` (+inf = undefined).
+fn refine_line(
+    nodes: &[f64],
+    f: &[f64],
+    eval: &mut dyn FnMut(f64) -> Result<f64, String>,
+    horizon: &dyn Fn(f64) -> bool,
+    tol: f64,
+    backoff: &Mutex<f64>,
+) -> Result<(f64, f64), String> {
+    let n = nodes.len();
+    let k = (0..n).min_by(|&i, &j| f[i].total_cmp(&f[j])).unwrap_or(0);
+    if !f[k].is_finite() {
+        return Ok((nodes[k], f[k]));
+    }
+    let mut best = (nodes[k], f[k]);
+    // A neighbour where the function is undefined: find the boundary of definition.
+    let mut wall = |inside: f64, outside: f64| -> Result<Option<(f64, f64)>, String> {
+        let (good, _) = if !horizon(outside) && horizon(inside) {
+            bisect_predicate(horizon, inside, outside, tol)
+        } else {
+            let mut err = None;
+            let r = bisect_predicate(
+                |t| match eval(t) {
+                    Ok(v) => v.is_finite(),
+                    Err(m) => {
+                        err = Some(m);
+                        false
+                    }
+                },
+                inside,
+                outside,
+                tol,
+            );
+            if let Some(m) = err {
+                return Err(m);
+            }
+            r
+        };
+        // Solvers may fail very close to an extremal horizon: step back inside, by
+        // distances growing fourfold from the tolerance, to the closest point that succeeds.
+        let mut step = tol;
+        let mut t = good;
+        loop {
+            match eval(t) {
+                Ok(v) => {
+                    let back = (t - good).abs();
+                    let mut worst = backoff.lock().unwrap_or_else(|e| e.into_inner());
+                    *worst = worst.max(back);
+                    return Ok(v.is_finite().then_some((t, v)));
+                }
+                Err(m) => {
+                    t = good + step * (inside - good).signum();
+                    step *= 4.0;
+                    if (t - good).abs() >= 0.5 * (inside - good).abs() {
+                        return Err(m);
+                    }
+                }
+            }
+        }
+    };
+    let mut lo = if k > 0 { Some(nodes[k - 1]) } else { None };
+    let mut hi = if k + 1 < n { Some(nodes[k + 1]) } else { None };
+    let mut interior = lo.is_some() && hi.is_some();
+    if k > 0 && !f[k - 1].is_finite() {
+        if let Some((t, v)) = wall(nodes[k], nodes[k - 1])? {
+            lo = Some(t);
+            if v < best.1 {
+                best = (t, v);
+                interior = false;
+            }
+        }
+    }
+    if k + 1 < n && !f[k + 1].is_finite() {
+        if let Some((t, v)) = wall(nodes[k], nodes[k + 1])? {
+            hi = Some(t);
+            if v < best.1 {
+                best = (t, v);
+                interior = false;
+            }
+        }
+    }
+    if interior {
+        if let (Some(a), Some(b)) = (lo, hi) {
+            // A failure inside the bracket must be reported, not skipped.
+            let mut err = None;
+            let (t, v) = brent_minimise(
+                |t| match eval(t) {
+                    Ok(v) => v,
+                    Err(m) => {
+                        err.get_or_insert(m);
+                        f64::INFINITY
+                    }
+                },
+                a,
+                b,
+                nodes[k],
+                f[k],
+                tol,
+            )
+            .map_err(|e| e.to_string())?;
+            if let Some(m) = err {
+                return Err(m);
+            }
+            if v < best.1 {
+                best = (t, v);
+            }
+        }
+    }
+    Ok(best)
+}

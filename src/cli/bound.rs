@@ -1,0 +1,209 @@
+//! `umbral bound`: allowed ranges of a metric parameter from a measured shadow or ring.
+
+use super::args::{parse_assignments, parse_finite};
+use super::plot_bounds::bound_plot;
+use super::CliError;
+use clap::{Args, ValueEnum};
+use std::path::Path;
+use umbral::bounds::{
+    bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+};
+use umbral::measurement::Measurement;
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum SizeMeasureArg {
+    Mean,
+    Area,
+}
+
+#[derive(Debug, Args)]
+pub struct BoundArgs {
+    /// Metric name (see `umbral metrics`).
+    #[arg(long)]
+    metric: String,
+    /// The parameter to bound and its range, PARAM=LO:HI.
+    #[arg(long, value_name = "PARAM=LO:HI", allow_hyphen_values = true)]
+    vary: String,
+    /// Fixed parameter NAME=VALUE (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE", allow_hyphen_values = true)]
+    set: Vec<String>,
+    /// Observer inclination in degrees (0 to 180).
+    #[arg(long, allow_hyphen_values = true, conflicts_with = "inclination_range")]
+    inclination: Option<String>,
+    /// Inclination as a nuisance range in degrees, LO:HI.
+    #[arg(
+        long = "inclination-range",
+        value_name = "LO:HI",
+        allow_hyphen_values = true
+    )]
+    inclination_range: Option<String>,
+    /// Nuisance parameter range PARAM=LO:HI (repeatable).
+    #[arg(long, value_name = "PARAM=LO:HI", allow_hyphen_values = true)]
+    nuisance: Vec<String>,
+    /// Size of the critical curve compared with the measured radius.
+    #[arg(long = "size-measure", value_enum, default_value = "mean")]
+    size_measure: SizeMeasureArg,
+    /// Measurement file (TOML).
+    #[arg(long, value_name = "FILE")]
+    measurement: String,
+    /// Confidence levels, comma-separated (default: the file's, or 0.68,0.95).
+    #[arg(long, value_name = "P,P,...")]
+    levels: Option<String>,
+    /// Print JSON instead of a table.
+    #[arg(long)]
+    json: bool,
+    /// Write an SVG figure.
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<String>,
+}
+
+/// Read `LO:HI` with LO < HI, both finite.
+pub fn parse_range(text: &str, what: &str) -> Result<(f64, f64), CliError> {
+    let (lo, hi) = text
+        .split_once(':')
+        .ok_or_else(|| CliError::usage(format!("{what}: expected LO:HI, got '{text}'")))?;
+    let (lo, hi) = (parse_finite(lo, what)?, parse_finite(hi, what)?);
+    if lo >= hi {
+        return Err(CliError::usage(format!(
+            "{what}: need LO < HI, got {lo}:{hi}"
+        )));
+    }
+    Ok((lo, hi))
+}
+
+/// Read `PARAM=LO:HI`.
+pub fn parse_named_range(text: &str, flag: &str) -> Result<ParameterRange, CliError> {
+    let (name, range) = text.split_once('=').ok_or_else(|| {
+        CliError::usage(format!("cannot read '{flag} {text}': expected PARAM=LO:HI"))
+    })?;
+    let name = name.trim();
+    let (low, high) = parse_range(range, &format!("{flag} {name}"))?;
+    Ok(ParameterRange {
+        name: name.to_string(),
+        low,
+        high,
+    })
+}
+
+/// Read a comma list of confidence levels.
+pub fn parse_levels(text: &str) -> Result<Vec<f64>, CliError> {
+    text.split(',')
+        .map(|t| {
+            let p = parse_finite(t, "--levels")?;
+            if p > 0.0 && p < 1.0 {
+                Ok(p)
+            } else {
+                Err(CliError::usage(format!(
+                    "--levels: each level must lie strictly between 0 and 1, got {p}"
+                )))
+            }
+        })
+        .collect()
+}
+
+fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
+    let vary = parse_named_range(&args.vary, "--vary")?;
+    let fixed = parse_assignments(&args.set)?;
+    let nuisance = args
+        .nuisance
+        .iter()
+        .map(|n| parse_named_range(n, "--nuisance"))
+        .collect::<Result<Vec<_>, _>>()?;
+    let inclination = match (&args.inclination, &args.inclination_range) {
+        (Some(i), None) => Inclination::Fixed {
+            degrees: parse_finite(i, "--inclination")?,
+        },
+        (None, Some(r)) => {
+            let (low_degrees, high_degrees) = parse_range(r, "--inclination-range")?;
+            Inclination::Range {
+                low_degrees,
+                high_degrees,
+            }
+        }
+        (None, None) => {
+            return Err(CliError::usage(
+                "give --inclination DEG or --inclination-range LO:HI",
+            ))
+        }
+        (Some(_), Some(_)) => {
+            return Err(CliError::usage(
+                "give either --inclination or --inclination-range, not both",
+            ))
+        }
+    };
+    let levels = args.levels.as_deref().map(parse_levels).transpose()?;
+    let measurement = Measurement::from_path(Path::new(&args.measurement))
+        .map_err(|e| CliError::usage(e.to_string()))?;
+    let radii = measurement
+        .derive(levels.as_deref())
+        .map_err(|e| CliError::usage(e.to_string()))?;
+    Ok(BoundRequest {
+        metric: args.metric.clone(),
+        vary,
+        fixed,
+        inclination,
+        nuisance,
+        size_measure: match args.size_measure {
+            SizeMeasureArg::Mean => SizeMeasure::Mean,
+            SizeMeasureArg::Area => SizeMeasure::Area,
+        },
+        radii,
+        circularity_max: measurement.circularity_max,
+        settings: BoundSettings::default(),
+    })
+}
+
+fn ranges(r: &[[f64; 2]]) -> String {
+    if r.is_empty() {
+        "none".into()
+    } else {
+        r.iter()
+            .map(|[a, b]| format!("[{a:.9}, {b:.9}]"))
+            .collect::<Vec<_>>()
+            .join(" U ")
+    }
+}
+
+pub fn run(args: &BoundArgs) -> Result<(), CliError> {
+    let request = request_from(args)?;
+    let result = bound(&request).map_err(|e| CliError::usage(e.to_string()))?;
+    if let Some(path) = &args.plot {
+        bound_plot(path, &result)?;
+    }
+    if args.json {
+        let text = serde_json::to_string_pretty(&result)
+            .map_err(|e| CliError::usage(format!("cannot serialise the result: {e}")))?;
+        println!("{text}");
+        return Ok(());
+    }
+    println!(
+        "bound on {} for metric {} over [{}, {}]",
+        result.vary.name, result.metric, result.vary.low, result.vary.high
+    );
+    for l in &result.levels {
+        println!(
+            "  confidence {}: r_sh/M in [{:.6}, {:.6}] -> allowed {}",
+            l.confidence,
+            l.radius_interval[0],
+            l.radius_interval[1],
+            ranges(&l.allowed)
+        );
+    }
+    println!("  no horizon: {}", ranges(&result.no_horizon));
+    println!("  no shadow:  {}", ranges(&result.no_shadow));
+    if result.failures.is_empty() {
+        println!("  solver failures: none");
+    } else {
+        for f in &result.failures {
+            println!(
+                "  solver failure on [{:.9}, {:.9}] (neither allowed nor excluded): {}",
+                f.low, f.high, f.error
+            );
+        }
+    }
+    println!("assumptions:");
+    for a in &result.assumptions {
+        println!("  - {a}");
+    }
+    Ok(())
+}

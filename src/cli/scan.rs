@@ -1,0 +1,218 @@
+//! `umbral scan`: observables on a parameter grid, streamed to JSON lines and resumable.
+
+use super::args::{parse_assignments, parse_finite};
+use super::bound::parse_levels;
+use super::plot_bounds::{allowed_polygons, exclusion_map, AllowedRegion};
+use super::CliError;
+use clap::{Args, ValueEnum};
+use std::io::IsTerminal;
+use std::path::Path;
+use umbral::measurement::Measurement;
+use umbral::scan::{run_scan, GridAxis, ScanPoint, ScanRequest};
+use umbral::shadow::ShadowSettings;
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum SizeMeasureArg {
+    Mean,
+    Area,
+}
+
+#[derive(Debug, Args)]
+pub struct ScanArgs {
+    /// Metric name (see `umbral metrics`).
+    #[arg(long)]
+    metric: String,
+    /// Grid axis PARAM=LO:HI:N (once or twice).
+    #[arg(long, value_name = "PARAM=LO:HI:N", allow_hyphen_values = true)]
+    grid: Vec<String>,
+    /// Fixed parameter NAME=VALUE (repeatable).
+    #[arg(long = "set", value_name = "NAME=VALUE", allow_hyphen_values = true)]
+    set: Vec<String>,
+    /// Observer inclination in degrees (0 to 180).
+    #[arg(long, allow_hyphen_values = true)]
+    inclination: String,
+    /// Output file, one JSON line per grid point (resumed if it exists).
+    #[arg(long, value_name = "FILE.jsonl")]
+    out: String,
+    /// Measurement file (TOML), for the exclusion map.
+    #[arg(long, value_name = "FILE")]
+    measurement: Option<String>,
+    /// Confidence levels of the exclusion map (default: the file's, or 0.68,0.95).
+    #[arg(long, value_name = "P,P,...")]
+    levels: Option<String>,
+    /// Size of the critical curve compared with the measured radius.
+    #[arg(long = "size-measure", value_enum, default_value = "mean")]
+    size_measure: SizeMeasureArg,
+    /// Exclusion map SVG (needs --measurement and two grid axes).
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<String>,
+}
+
+fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
+    let bad = || {
+        CliError::usage(format!(
+            "cannot read '--grid {text}': expected PARAM=LO:HI:N"
+        ))
+    };
+    let (name, rest) = text.split_once('=').ok_or_else(bad)?;
+    let parts: Vec<&str> = rest.split(':').collect();
+    if parts.len() != 3 {
+        return Err(bad());
+    }
+    let name = name.trim().to_string();
+    let what = format!("--grid {name}");
+    let (low, high) = (
+        parse_finite(parts[0], &what)?,
+        parse_finite(parts[1], &what)?,
+    );
+    let count: usize = parts[2].trim().parse().map_err(|_| {
+        CliError::usage(format!(
+            "{what}: N must be a whole number, got '{}'",
+            parts[2]
+        ))
+    })?;
+    if low >= high || count < 2 {
+        return Err(CliError::usage(format!(
+            "{what}: need LO < HI and N >= 2, got {low}:{high}:{count}"
+        )));
+    }
+    Ok(GridAxis {
+        name,
+        low,
+        high,
+        count,
+    })
+}
+
+pub fn run(args: &ScanArgs) -> Result<(), CliError> {
+    let axes = args
+        .grid
+        .iter()
+        .map(|g| parse_axis(g))
+        .collect::<Result<Vec<_>, _>>()?;
+    if axes.is_empty() || axes.len() > 2 {
+        return Err(CliError::usage("give --grid once or twice"));
+    }
+    let measurement = args
+        .measurement
+        .as_deref()
+        .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
+        .transpose()?;
+    if args.plot.is_some() && (measurement.is_none() || axes.len() != 2) {
+        return Err(CliError::usage(
+            "--plot draws an exclusion map: it needs --measurement and two --grid axes",
+        ));
+    }
+    let levels = args.levels.as_deref().map(parse_levels).transpose()?;
+    let radii = measurement
+        .as_ref()
+        .map(|m| {
+            m.derive(levels.as_deref())
+                .map_err(|e| CliError::usage(e.to_string()))
+        })
+        .transpose()?;
+    let request = ScanRequest {
+        metric: args.metric.clone(),
+        axes,
+        fixed: parse_assignments(&args.set)?,
+        inclination_deg: parse_finite(&args.inclination, "--inclination")?,
+        settings: ShadowSettings::default(),
+    };
+    let total: u64 = request.axes.iter().map(|a| a.count as u64).product();
+    let bar = if std::io::stderr().is_terminal() {
+        let bar = indicatif::ProgressBar::new(total);
+        if let Ok(style) = indicatif::ProgressStyle::with_template(
+            "{bar:40} {pos}/{len} points, {per_sec}, {eta} left",
+        ) {
+            bar.set_style(style);
+        }
+        bar
+    } else {
+        indicatif::ProgressBar::hidden()
+    };
+    let summary = run_scan(&request, Path::new(&args.out), &|done, _| {
+        bar.set_position(done as u64)
+    })
+    .map_err(|e| CliError::usage(e.to_string()))?;
+    bar.finish_and_clear();
+    println!(
+        "scan of {}: {} points in '{}' ({} computed, {} kept from an earlier run)",
+        request.metric,
+        summary.points.len(),
+        args.out,
+        summary.computed,
+        summary.reused
+    );
+    let count = |s: &str| summary.points.iter().filter(|p| p.status == s).count();
+    println!(
+        "  shadow {}, no shadow {}, no horizon {}, failed {}",
+        count("shadow"),
+        count("no_shadow"),
+        count("no_horizon"),
+        count("failed")
+    );
+    if let (Some(path), Some(radii), Some(m)) = (&args.plot, &radii, &measurement) {
+        let key = match args.size_measure {
+            SizeMeasureArg::Mean => "mean_radius",
+            SizeMeasureArg::Area => "area_radius",
+        };
+        let (ax, ay) = (&request.axes[0], &request.axes[1]);
+        // Points are in grid order with the second axis fastest; the contour grid wants x
+        // (first axis) fastest.
+        let at = |i: usize, j: usize| -> &ScanPoint { &summary.points[i * ay.count + j] };
+        let mut regions = Vec::new();
+        for iv in &radii.intervals {
+            let mut values = vec![0.0; ax.count * ay.count];
+            for j in 0..ay.count {
+                for i in 0..ax.count {
+                    let p = at(i, j);
+                    // Positive inside the allowed region: the distance of the size from the
+                    // interval's nearer end, and of ΔC from its limit.
+                    let v = match p.observable(key) {
+                        Some(s) if p.status == "shadow" => {
+                            let mut v = (iv.high - s).min(s - iv.low);
+                            if let (Some(c), Some(dc)) =
+                                (m.circularity_max, p.observable("circularity_deviation"))
+                            {
+                                v = v.min(c - dc);
+                            }
+                            v
+                        }
+                        _ => -1.0,
+                    };
+                    values[j * ax.count + i] = v;
+                }
+            }
+            regions.push(AllowedRegion {
+                confidence: iv.confidence,
+                polygons: allowed_polygons(
+                    &values,
+                    ax.count,
+                    ay.count,
+                    ax.low,
+                    (ax.high - ax.low) / (ax.count - 1) as f64,
+                    ay.low,
+                    (ay.high - ay.low) / (ay.count - 1) as f64,
+                )?,
+            });
+        }
+        let no_horizon: Vec<(f64, f64)> = summary
+            .points
+            .iter()
+            .filter(|p| p.status == "no_horizon")
+            .map(|p| (ax.value(p.index[0]), ay.value(p.index[1])))
+            .collect();
+        exclusion_map(
+            path,
+            &format!("{}: allowed regions ({})", request.metric, m.label),
+            [
+                (ax.name.as_str(), ax.low, ax.high),
+                (ay.name.as_str(), ay.low, ay.high),
+            ],
+            &regions,
+            &no_horizon,
+        )?;
+        println!("  exclusion map written to '{path}'");
+    }
+    Ok(())
+}

@@ -1,0 +1,529 @@
+//! From the text of a metric file to a checked [`FileMetricSpec`]: TOML schema, names,
+//! domains, helper order, symmetry and contexts, each error placed in the file.
+
+use super::error::{closest, Location, MetricFileError};
+use super::metric::{CheckValue, FileMetricSpec, HorizonRule};
+use super::parser::{is_identifier, parse_expression, Expr, ParseError, FUNCTION_NAMES};
+use super::resolve::{is_reserved, names_in, Context, Node, ResolveError, Scope};
+use super::schema::{FileSchema, LineElementSchema};
+use super::strings::offset_map;
+use crate::metric::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
+use std::ops::Range;
+use toml::Spanned;
+
+/// The file's text and the label errors show for it.
+struct Source<'a> {
+    label: &'a str,
+    text: &'a str,
+}
+
+impl Source<'_> {
+    fn at(&self, span: Range<usize>, field: &str) -> Box<Location> {
+        Box::new(Location::at(
+            self.label, self.text, span.start, span.end, field,
+        ))
+    }
+
+    /// The location of bytes `sub` of the decoded value of a string field.
+    fn in_string(&self, value: &Spanned<String>, sub: Range<usize>, field: &str) -> Box<Location> {
+        let span = value.span();
+        let map = self
+            .text
+            .get(span.clone())
+            .and_then(|raw| offset_map(raw, value.get_ref()));
+        match map {
+            Some(map) => {
+                let last = map.len() - 1;
+                let start = span.start + map[sub.start.min(last)];
+                let end = span.start + map[sub.end.min(last)];
+                self.at(start..end.max(start + 1), field)
+            }
+            None => self.at(span.start..span.start + 1, field),
+        }
+    }
+
+    fn parse_error(
+        &self,
+        value: &Spanned<String>,
+        offset: usize,
+        e: ParseError,
+        field: &str,
+    ) -> MetricFileError {
+        let shift = |s: Range<usize>| s.start + offset..s.end + offset;
+        match e {
+            ParseError::Syntax {
+                span,
+                found,
+                expected,
+            } => MetricFileError::Syntax {
+                at: self.in_string(value, shift(span), field),
+                found,
+                expected,
+            },
+            ParseError::UnknownFunction { span, name } => MetricFileError::UnknownFunction {
+                at: self.in_string(value, shift(span), field),
+                suggestion: closest(&name, FUNCTION_NAMES),
+                name,
+            },
+            ParseError::ArgumentCount {
+                span,
+                function,
+                expected,
+                found,
+            } => MetricFileError::ArgumentCount {
+                at: self.in_string(value, shift(span), field),
+                function,
+                expected,
+                found,
+            },
+        }
+    }
+}
+
+/// A parsed expression field: the TOML value, where the expression starts in it, the tree.
+struct Field<'s> {
+    value: &'s Spanned<String>,
+    offset: usize,
+    expr: Expr,
+    name: String,
+}
+
+fn parse_field<'s>(
+    src: &Source,
+    value: &'s Spanned<String>,
+    offset: usize,
+    name: &str,
+) -> Result<Field<'s>, MetricFileError> {
+    let text = value.get_ref().get(offset..).unwrap_or("");
+    let expr = parse_expression(text).map_err(|e| src.parse_error(value, offset, e, name))?;
+    Ok(Field {
+        value,
+        offset,
+        expr,
+        name: name.to_string(),
+    })
+}
+
+/// Parse and check a metric file's text. `label` names the file in error messages.
+pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, MetricFileError> {
+    let src = Source { label, text };
+    let file: FileSchema = toml::from_str(text).map_err(|e| MetricFileError::Toml {
+        at: {
+            let span = e.span().unwrap_or(0..0);
+            src.at(span, "")
+        },
+        message: e.message().to_string(),
+    })?;
+
+    let name = file.name.get_ref();
+    if name.is_empty()
+        || !name
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
+    {
+        return Err(MetricFileError::Invalid {
+            at: src.at(file.name.span(), "name"),
+            problem: format!(
+                "bad metric name '{name}': expected letters, digits, '-' or '_' (it is typed on \
+                 the command line)"
+            ),
+        });
+    }
+
+    let symmetry = match file.symmetry.get_ref().as_str() {
+        "spherical" => Symmetry::Spherical,
+        "axisymmetric" => Symmetry::StationaryAxisymmetric,
+        other => {
+            let hint = closest(other, ["spherical", "axisymmetric"])
+                .map(|s| format!("; did you mean '{s}'?"))
+                .unwrap_or_default();
+            return Err(MetricFileError::Invalid {
+                at: src.at(file.symmetry.span(), "symmetry"),
+                problem: format!(
+                    "unknown symmetry '{other}': expected 'spherical' or 'axisymmetric'{hint}"
+                ),
+            });
+        }
+    };
+    let equatorial = match (&symmetry, &file.equatorial_symmetry) {
+        (Symmetry::Spherical, Some(flag)) if !flag.get_ref() => {
+            return Err(MetricFileError::Invalid {
+                at: src.at(flag.span(), "equatorial_symmetry"),
+                problem: "a spherical metric is always equatorially symmetric: expected true \
+                          or no equatorial_symmetry key"
+                    .into(),
+            })
+        }
+        (Symmetry::Spherical, _) => true,
+        (_, flag) => flag.as_ref().is_some_and(|f| *f.get_ref()),
+    };
+
+    // Parameters: names, domains, defaults.
+    let mut parameters = Vec::new();
+    for (i, p) in file.parameters.iter().enumerate() {
+        let field = format!("parameters[{i}].name");
+        let pname = p.name.get_ref();
+        check_new_name(&src, &p.name, &field, &parameters)?;
+        let domain = match &p.domain {
+            None => Domain::REAL,
+            Some(d) => parse_domain(d.get_ref()).ok_or_else(|| MetricFileError::BadDomain {
+                at: src.at(d.span(), &format!("parameters[{i}].domain")),
+                expected: "an interval such as \"[0, 1]\", \"(0, inf)\" or \"(-inf, inf)\", \
+                           with lower end <= upper end"
+                    .into(),
+            })?,
+        };
+        let default = *p.default.get_ref();
+        if !domain.contains(default) {
+            return Err(MetricFileError::DefaultOutsideDomain {
+                at: src.at(p.default.span(), &format!("parameters[{i}].default")),
+                name: pname.clone(),
+                default,
+                domain: domain.to_string(),
+            });
+        }
+        parameters.push(ParameterSpec::new(pname, default, domain, &p.meaning));
+    }
+    let param_names: Vec<String> = parameters.iter().map(|p| p.name.clone()).collect();
+
+    // Helpers: "NAME = expression", parsed first so that cycles can be named.
+    let mut helper_fields = Vec::new();
+    let mut helper_names: Vec<String> = Vec::new();
+    let mut helper_lines = Vec::new();
+    for (i, h) in file.helpers.iter().enumerate() {
+        let field = format!("helpers[{i}]");
+        let text = h.get_ref();
+        let Some(eq) = text.find('=') else {
+            return Err(MetricFileError::Syntax {
+                at: src.in_string(h, 0..text.len(), &field),
+                found: format!("'{text}'"),
+                expected: "a helper definition NAME = expression, as in \"Sigma = r^2 + 1\"".into(),
+            });
+        };
+        let raw_name = &text[..eq];
+        let lead = raw_name.len() - raw_name.trim_start().len();
+        let hname = raw_name.trim();
+        let name_span = lead..lead + hname.len();
+        if !is_identifier(hname) {
+            return Err(MetricFileError::BadName {
+                at: src.in_string(h, name_span.start..name_span.end.max(eq), &field),
+                problem: format!(
+                    "bad helper name '{hname}': expected letters, digits and '_', not starting \
+                     with a digit"
+                ),
+            });
+        }
+        check_helper_name(
+            &src,
+            h,
+            name_span.clone(),
+            &field,
+            &param_names,
+            &helper_names,
+        )?;
+        helper_names.push(hname.to_string());
+        helper_lines.push(src.in_string(h, name_span, &field).line);
+        helper_fields.push(parse_field(&src, h, eq + 1, &field)?);
+    }
+    let mut scope = Scope {
+        params: param_names.clone(),
+        helpers: helper_names.clone(),
+        helper_refs: helper_fields
+            .iter()
+            .map(|f| {
+                let mut names = Vec::new();
+                names_in(&f.expr, &mut names);
+                names
+            })
+            .collect(),
+        helper_vars: Vec::new(),
+    };
+    let mut helpers = Vec::new();
+    for (i, f) in helper_fields.iter().enumerate() {
+        let (node, vars) = resolve(&src, &scope, f, Context::HELPER, Some(i), &helper_lines)?;
+        helpers.push(node);
+        scope.helper_vars.push(vars);
+    }
+
+    let line_element = line_element(&src, &file.line_element, symmetry, &scope, &helper_lines)?;
+
+    let horizon = match &file.horizon {
+        None => HorizonRule::Numerical,
+        Some(h) => {
+            let f = parse_field(&src, h, 0, "horizon")?;
+            HorizonRule::ClosedForm(
+                resolve(&src, &scope, &f, Context::HORIZON, None, &helper_lines)?.0,
+            )
+        }
+    };
+
+    let separation = match &file.separation {
+        None => None,
+        Some(s) => {
+            let radial = parse_field(&src, &s.radial, 0, "separation.radial")?;
+            let polar = parse_field(&src, &s.polar, 0, "separation.polar")?;
+            Some([
+                resolve(&src, &scope, &radial, Context::RADIAL, None, &helper_lines)?.0,
+                resolve(&src, &scope, &polar, Context::POLAR, None, &helper_lines)?.0,
+            ])
+        }
+    };
+
+    let mut checks = Vec::new();
+    for (i, c) in file.checks.iter().enumerate() {
+        let mut assigned = Vec::new();
+        for (pname, value) in &c.parameters {
+            if !param_names.contains(pname) {
+                return Err(MetricFileError::UnknownName {
+                    at: src.at(value.span(), &format!("checks[{i}].parameters.{pname}")),
+                    name: pname.clone(),
+                    suggestion: closest(pname, param_names.iter().map(String::as_str)),
+                });
+            }
+            assigned.push((pname.clone(), *value.get_ref()));
+        }
+        checks.push(CheckValue {
+            quantity: c.quantity.clone(),
+            parameters: assigned,
+            inclination: c.inclination,
+            value: c.value,
+            tolerance: c.tolerance,
+            source: c.source.clone(),
+        });
+    }
+
+    Ok(FileMetricSpec {
+        info: MetricInfo {
+            name: name.clone(),
+            title: file.title.clone(),
+            reference: file.reference.clone(),
+            parameters,
+        },
+        path: None,
+        symmetry,
+        equatorial,
+        helper_names,
+        helpers,
+        line_element,
+        horizon,
+        separation,
+        checks,
+    })
+}
+
+/// Resolve a field, turning resolution errors into located file errors.
+fn resolve(
+    src: &Source,
+    scope: &Scope,
+    f: &Field,
+    context: Context,
+    current: Option<usize>,
+    helper_lines: &[usize],
+) -> Result<(Node, u8), MetricFileError> {
+    let at = |span: Range<usize>| {
+        src.in_string(f.value, span.start + f.offset..span.end + f.offset, &f.name)
+    };
+    scope
+        .resolve(&f.expr, context, current)
+        .map_err(|e| match e {
+            ResolveError::UnknownName {
+                span,
+                name,
+                suggestion,
+            } => MetricFileError::UnknownName {
+                at: at(span),
+                name,
+                suggestion,
+            },
+            ResolveError::UsedBeforeDefined { span, name, helper } => {
+                MetricFileError::UsedBeforeDefined {
+                    at: at(span),
+                    name,
+                    defined_at: helper_lines.get(helper).copied().unwrap_or(0),
+                }
+            }
+            ResolveError::Cycle { span, cycle } => MetricFileError::Cycle {
+                at: at(span),
+                cycle,
+            },
+            ResolveError::NotAvailable {
+                span,
+                name,
+                variable,
+            } => MetricFileError::NotAvailable {
+                at: at(span),
+                name,
+                variable: variable.name().to_string(),
+                context: context.label.to_string(),
+                allowed: context.allowed_text.to_string(),
+            },
+        })
+}
+
+/// The line-element trees, checked against the symmetry.
+fn line_element(
+    src: &Source,
+    le: &Spanned<LineElementSchema>,
+    symmetry: Symmetry,
+    scope: &Scope,
+    helper_lines: &[usize],
+) -> Result<Vec<Node>, MetricFileError> {
+    let s = le.get_ref();
+    let spherical = [("A", &s.a), ("B", &s.b), ("C", &s.c)];
+    let axisymmetric = [
+        ("g_tt", &s.g_tt),
+        ("g_tphi", &s.g_tphi),
+        ("g_rr", &s.g_rr),
+        ("g_thth", &s.g_thth),
+        ("g_phph", &s.g_phph),
+    ];
+    let (wanted, foreign, symmetry_name, needed, context): (&[_], &[_], _, _, _) = match symmetry {
+        Symmetry::Spherical => (
+            &spherical[..],
+            &axisymmetric[..],
+            "spherical",
+            "A, B and C (ds^2 = -A dt^2 + B dr^2 + C dOmega^2)",
+            Context::SPHERICAL,
+        ),
+        Symmetry::StationaryAxisymmetric => (
+            &axisymmetric[..],
+            &spherical[..],
+            "axisymmetric",
+            "g_tt, g_tphi, g_rr, g_thth and g_phph",
+            Context::AXISYMMETRIC,
+        ),
+    };
+    if let Some((key, Some(value))) = foreign.iter().find(|(_, v)| v.is_some()) {
+        return Err(MetricFileError::ForeignComponent {
+            at: src.at(value.span(), &format!("line_element.{key}")),
+            component: key.to_string(),
+            symmetry: symmetry_name.into(),
+            needed: needed.into(),
+        });
+    }
+    let mut nodes = Vec::new();
+    for (key, value) in wanted {
+        let Some(value) = value else {
+            let span = le.span();
+            return Err(MetricFileError::MissingComponent {
+                at: src.at(span.start..span.start + 1, "line_element"),
+                component: key.to_string(),
+                symmetry: symmetry_name.into(),
+                needed: needed.into(),
+            });
+        };
+        let f = parse_field(src, value, 0, &format!("line_element.{key}"))?;
+        nodes.push(resolve(src, scope, &f, context, None, helper_lines)?.0);
+    }
+    Ok(nodes)
+}
+
+/// A parameter name must be a name of the language, not reserved and not repeated.
+fn check_new_name(
+    src: &Source,
+    name: &Spanned<String>,
+    field: &str,
+    parameters: &[ParameterSpec],
+) -> Result<(), MetricFileError> {
+    let n = name.get_ref();
+    let problem = if !is_identifier(n) {
+        format!(
+            "bad parameter name '{n}': expected letters, digits and '_', not starting with a digit"
+        )
+    } else if is_reserved(n) {
+        format!("'{n}' is reserved (a coordinate, pi or a function): choose another name")
+    } else if parameters.iter().any(|p| &p.name == n) {
+        format!("parameter '{n}' is defined twice")
+    } else {
+        return Ok(());
+    };
+    Err(MetricFileError::BadName {
+        at: src.at(name.span(), field),
+        problem,
+    })
+}
+
+fn check_helper_name(
+    src: &Source,
+    value: &Spanned<String>,
+    span: Range<usize>,
+    field: &str,
+    params: &[String],
+    helpers: &[String],
+) -> Result<(), MetricFileError> {
+    let n = &value.get_ref()[span.clone()];
+    let problem = if is_reserved(n) {
+        format!("'{n}' is reserved (a coordinate, pi or a function): choose another helper name")
+    } else if params.iter().any(|p| p == n) {
+        format!("helper '{n}' has the name of a parameter")
+    } else if helpers.iter().any(|h| h == n) {
+        format!("helper '{n}' is defined twice")
+    } else {
+        return Ok(());
+    };
+    Err(MetricFileError::BadName {
+        at: src.in_string(value, span, field),
+        problem,
+    })
+}
+
+/// An interval `[lo, hi]`, `(lo, hi)` or mixed; `-inf` and `inf` for unbounded ends.
+fn parse_domain(text: &str) -> Option<Domain> {
+    let t = text.trim();
+    let open = t.chars().next()?;
+    let close = t.chars().last()?;
+    if t.chars().count() < 2 {
+        return None;
+    }
+    let inner = &t[open.len_utf8()..t.len() - close.len_utf8()];
+    let (lo, hi) = inner.split_once(',')?;
+    let end = |s: &str, inclusive: bool, infinite: &[&str]| -> Option<Bound> {
+        let s = s.trim();
+        if infinite.contains(&s) {
+            return Some(Bound::Unbounded);
+        }
+        let x: f64 = s.parse().ok()?;
+        if !x.is_finite() {
+            return None;
+        }
+        Some(if inclusive {
+            Bound::Inclusive(x)
+        } else {
+            Bound::Exclusive(x)
+        })
+    };
+    let lower = match open {
+        '[' => end(lo, true, &["-inf"])?,
+        '(' => end(lo, false, &["-inf"])?,
+        _ => return None,
+    };
+    let upper = match close {
+        ']' => end(hi, true, &["inf", "+inf"])?,
+        ')' => end(hi, false, &["inf", "+inf"])?,
+        _ => return None,
+    };
+    let value = |b: Bound, inf: f64| match b {
+        Bound::Unbounded => inf,
+        Bound::Inclusive(x) | Bound::Exclusive(x) => x,
+    };
+    if value(lower, f64::NEG_INFINITY) > value(upper, f64::INFINITY) {
+        return None;
+    }
+    Some(Domain { lower, upper })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn domains_in_interval_notation() {
+        assert_eq!(parse_domain("[0, 1]"), Some(Domain::closed(0.0, 1.0)));
+        assert_eq!(parse_domain("(0, inf)"), Some(Domain::greater_than(0.0)));
+        assert_eq!(parse_domain(" (-inf, inf) "), Some(Domain::REAL));
+        assert_eq!(parse_domain("[1e-3, inf)"), Some(Domain::at_least(1e-3)));
+        assert_eq!(parse_domain("[2, 1]"), None);
+        assert_eq!(parse_domain("0..1"), None);
+        assert_eq!(parse_domain("[inf, 1]"), None);
+    }
+}

@@ -1,0 +1,282 @@
+//! Bound cases (`[[bound]]`): the ends of the allowed range of a deviation parameter from a
+//! measured shadow-radius interval ([`crate::bounds::bound`]), pinned like any other number.
+//!
+//! Quantities: `lower_end` (low end of the first allowed range), `upper_end` (high end of the
+//! last allowed range) and `allowed_ranges` (how many disjoint ranges), each at the
+//! `confidence` level the expectation names, which must be a level of the measurement.
+
+use super::report::CheckRow;
+use super::schema::{expectation, Expectation, RawExpectation};
+use crate::bounds::{
+    bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+};
+use crate::measurement::{DerivedRadii, Measurement};
+use crate::metrics::build_metric;
+use serde::Deserialize;
+use std::collections::BTreeMap;
+use std::path::Path;
+
+/// Quantities a bound expectation can pin.
+pub const BOUND_QUANTITIES: &[&str] = &["lower_end", "upper_end", "allowed_ranges"];
+
+/// Two confidence levels closer than this are the same level.
+const LEVEL_MATCH: f64 = 1e-9;
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawRange {
+    name: String,
+    low: f64,
+    high: f64,
+}
+
+#[derive(Debug, Clone, Copy, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum SizeName {
+    Mean,
+    Area,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawBound {
+    name: String,
+    metric: String,
+    #[serde(default)]
+    parameters: BTreeMap<String, f64>,
+    vary: RawRange,
+    #[serde(default)]
+    nuisance: Vec<RawRange>,
+    #[serde(default)]
+    inclination: Option<f64>,
+    #[serde(default)]
+    inclination_range: Option<[f64; 2]>,
+    measurement: toml::Value,
+    #[serde(default)]
+    size_measure: Option<SizeName>,
+    #[serde(default)]
+    circularity_max: Option<f64>,
+    #[serde(default)]
+    points: Option<usize>,
+    #[serde(default)]
+    boundary_tolerance: Option<f64>,
+    #[serde(default)]
+    initial_grid: Option<usize>,
+    #[serde(default)]
+    parameter_tolerance: Option<f64>,
+    #[serde(default)]
+    expect: Vec<RawExpectation>,
+}
+
+/// One validated bound case.
+pub struct BoundCase {
+    pub name: String,
+    pub request: BoundRequest,
+    pub expectations: Vec<Expectation>,
+}
+
+fn range(r: RawRange, what: &str) -> Result<ParameterRange, String> {
+    if !(r.low.is_finite() && r.high.is_finite() && r.low < r.high) {
+        return Err(format!(
+            "{what} '{}' needs finite low < high, got [{}, {}]",
+            r.name, r.low, r.high
+        ));
+    }
+    Ok(ParameterRange {
+        name: r.name.trim().to_string(),
+        low: r.low,
+        high: r.high,
+    })
+}
+
+fn measurement(value: toml::Value, base_dir: &Path) -> Result<DerivedRadii, String> {
+    let m = match value {
+        toml::Value::String(p) => {
+            let path = base_dir.join(p.trim());
+            Measurement::from_path(&path)
+                .map_err(|e| format!("measurement {}: {e}", path.display()))?
+        }
+        toml::Value::Table(t) => {
+            let text = toml::to_string(&t).map_err(|e| format!("measurement: {e}"))?;
+            Measurement::from_toml_str(&text).map_err(|e| format!("measurement: {e}"))?
+        }
+        other => {
+            return Err(format!(
+                "measurement must be a file path or an inline table, got a {}",
+                other.type_str()
+            ))
+        }
+    };
+    m.derive(None).map_err(|e| format!("measurement: {e}"))
+}
+
+impl BoundCase {
+    /// Validate a raw `[[bound]]` table; paths are relative to `base_dir`.
+    pub(super) fn from_raw(raw: RawBound, base_dir: &Path) -> Result<BoundCase, String> {
+        let name = raw.name.trim().to_string();
+        if name.is_empty() {
+            return Err("a bound has an empty name".into());
+        }
+        let label = |m: String| format!("bound '{name}': {m}");
+        let fixed: Vec<(String, f64)> = raw.parameters.into_iter().collect();
+        let vary = range(raw.vary, "vary").map_err(label)?;
+        let nuisance = raw
+            .nuisance
+            .into_iter()
+            .map(|r| range(r, "nuisance"))
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(label)?;
+        // Names and domains are checked now, at the low end of every range.
+        let mut probe = fixed.clone();
+        probe.push((vary.name.clone(), vary.low));
+        probe.extend(nuisance.iter().map(|r| (r.name.clone(), r.low)));
+        build_metric(raw.metric.trim(), &probe).map_err(|e| label(e.to_string()))?;
+        let inclination = match (raw.inclination, raw.inclination_range) {
+            (Some(d), None) if (0.0..=180.0).contains(&d) => Inclination::Fixed { degrees: d },
+            (None, Some([lo, hi])) if 0.0 <= lo && lo < hi && hi <= 180.0 => Inclination::Range {
+                low_degrees: lo,
+                high_degrees: hi,
+            },
+            _ => {
+                return Err(label(
+                    "give inclination (degrees, 0 to 180) or inclination_range = [low, high]"
+                        .into(),
+                ))
+            }
+        };
+        let radii = measurement(raw.measurement, base_dir).map_err(label)?;
+        let mut settings = BoundSettings::default();
+        if let Some(p) = raw.points {
+            settings.shadow.points = p;
+        }
+        if let Some(t) = raw.boundary_tolerance {
+            settings.shadow.tolerance = t;
+        }
+        if let Some(g) = raw.initial_grid {
+            settings.initial_grid = g;
+        }
+        if let Some(t) = raw.parameter_tolerance {
+            settings.parameter_tolerance = t;
+        }
+        if settings.shadow.points < 8
+            || !(settings.shadow.tolerance > 0.0 && settings.shadow.tolerance.is_finite())
+            || settings.initial_grid < 3
+            || !(settings.parameter_tolerance > 0.0 && settings.parameter_tolerance.is_finite())
+        {
+            return Err(label(
+                "need points >= 8, initial_grid >= 3 and positive finite tolerances".into(),
+            ));
+        }
+        if let Some(c) = raw.circularity_max {
+            if !(c.is_finite() && c > 0.0) {
+                return Err(label(format!("circularity_max must be positive, got {c}")));
+            }
+        }
+        if raw.expect.is_empty() {
+            return Err(label("no expectations ([[bound.expect]])".into()));
+        }
+        let mut expectations = Vec::new();
+        for e in raw.expect {
+            let e = expectation(e, BOUND_QUANTITIES).map_err(label)?;
+            let c = e.confidence.ok_or_else(|| {
+                label(format!(
+                    "expectation '{}' needs a confidence level",
+                    e.quantity
+                ))
+            })?;
+            if !radii
+                .intervals
+                .iter()
+                .any(|i| (i.confidence - c).abs() <= LEVEL_MATCH)
+            {
+                let levels: Vec<String> = radii
+                    .intervals
+                    .iter()
+                    .map(|i| i.confidence.to_string())
+                    .collect();
+                return Err(label(format!(
+                    "confidence {c} is not a level of the measurement (levels: {})",
+                    levels.join(", ")
+                )));
+            }
+            expectations.push(e);
+        }
+        Ok(BoundCase {
+            name,
+            request: BoundRequest {
+                metric: raw.metric.trim().to_string(),
+                vary,
+                fixed,
+                inclination,
+                nuisance,
+                size_measure: match raw.size_measure.unwrap_or(SizeName::Mean) {
+                    SizeName::Mean => SizeMeasure::Mean,
+                    SizeName::Area => SizeMeasure::Area,
+                },
+                radii,
+                circularity_max: raw.circularity_max,
+                settings,
+            },
+            expectations,
+        })
+    }
+
+    /// Compute the bound and judge each expectation; failures become rows with the reason.
+    pub fn run(&self, file: &str, index: usize) -> Vec<CheckRow> {
+        let result = bound(&self.request).map_err(|e| format!("the bound failed: {e}"));
+        self.expectations
+            .iter()
+            .enumerate()
+            .map(|(j, e)| {
+                let got = result
+                    .as_ref()
+                    .map_err(Clone::clone)
+                    .and_then(|r| bound_quantity(r, &e.quantity, e.confidence.unwrap_or(f64::NAN)));
+                let mut row = CheckRow::judge(
+                    file.to_string(),
+                    (index, &self.name),
+                    j,
+                    &e.quantity,
+                    e.expected,
+                    &e.source,
+                    got,
+                );
+                row.section = "bound";
+                row.confidence = e.confidence;
+                row
+            })
+            .collect()
+    }
+}
+
+/// A bound end (or count) at one confidence level, refusing results with solver failures.
+fn bound_quantity(r: &BoundResult, name: &str, confidence: f64) -> Result<f64, String> {
+    if !r.failures.is_empty() {
+        let ranges: Vec<String> = r
+            .failures
+            .iter()
+            .map(|f| format!("[{}, {}]: {}", f.low, f.high, f.error))
+            .collect();
+        return Err(format!("the solver failed on {}", ranges.join("; ")));
+    }
+    let level = r
+        .levels
+        .iter()
+        .find(|l| (l.confidence - confidence).abs() <= LEVEL_MATCH)
+        .ok_or_else(|| format!("no level at confidence {confidence}"))?;
+    match name {
+        "allowed_ranges" => Ok(level.allowed.len() as f64),
+        "lower_end" | "upper_end" => {
+            let (first, last) = match (level.allowed.first(), level.allowed.last()) {
+                (Some(f), Some(l)) => (f, l),
+                _ => return Err(format!("nothing is allowed at confidence {confidence}")),
+            };
+            Ok(if name == "lower_end" {
+                first[0]
+            } else {
+                last[1]
+            })
+        }
+        _ => Err(format!("unknown bound quantity '{name}'")),
+    }
+}

@@ -1,0 +1,136 @@
+//! Regression checks for published numbers: a TOML checks file pins shadow sizes, photon-orbit
+//! radii, ring exponents and other quantities of given metrics, each with a tolerance (or a
+//! `min`/`max` range) and a source, and [`run_checks_file`] recomputes them.
+//!
+//! The same file runs from the command line (`umbral verify FILE...`) and inside a user's
+//! `cargo test` through [`assert_checks_pass`]. The format is documented in
+//! `docs/regression-checks.md`.
+//!
+//! ```
+//! let dir = std::env::temp_dir().join(format!("umbral-verify-doc-{}", std::process::id()));
+//! std::fs::create_dir_all(&dir).unwrap();
+//! let path = dir.join("schwarzschild.toml");
+//! std::fs::write(&path, r#"
+//! [[case]]
+//! name = "schwarzschild"
+//! metric = "schwarzschild"
+//! inclination = 60.0
+//! points = 16
+//!
+//! [[case.expect]]
+//! quantity = "mean_radius"
+//! value = 5.196152422706632  # 3√3
+//! rel = 1e-12
+//! source = "Synge 1966, MNRAS 131, 463"
+//! "#).unwrap();
+//! let report = umbral::verify::run_checks_file(&path).unwrap();
+//! assert!(report.all_passed());
+//! println!("{}", report.render_table());
+//! umbral::verify::assert_checks_pass(&path);
+//! ```
+
+pub mod bound_case;
+pub mod quantity;
+pub mod report;
+pub mod schema;
+pub mod update;
+
+pub use bound_case::{BoundCase, BOUND_QUANTITIES};
+pub use quantity::QUANTITIES;
+pub use report::{CheckRow, VerifyReport};
+pub use schema::{Case, ChecksFile, Expectation, Expected, MetricSource, Tolerance};
+pub use update::{default_update_path, update_checks_file, UpdateOutcome};
+
+use crate::shadow::solve;
+use quantity::Solved;
+use std::path::{Path, PathBuf};
+
+/// A checks file that cannot be used (as opposed to a failing check, which is a report row).
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum VerifyError {
+    /// Unreadable, not TOML, or not a valid checks file.
+    #[error("{}: {message}", path.display())]
+    Invalid { path: PathBuf, message: String },
+    /// An output file could not be written.
+    #[error("{}: cannot write: {message}", path.display())]
+    Write { path: PathBuf, message: String },
+}
+
+impl Case {
+    /// Solve this case and judge each of its expectations. Never fails: a solver error or a
+    /// missing shadow becomes failing rows carrying the reason.
+    pub fn run(&self, file: &str, case_index: usize) -> Vec<CheckRow> {
+        let result =
+            solve(self.metric.as_ref(), &self.observer, &self.settings).map_err(|e| e.to_string());
+        let solved = Solved::new(self.metric.as_ref(), result, self.centre);
+        self.expectations
+            .iter()
+            .enumerate()
+            .map(|(j, e)| {
+                CheckRow::judge(
+                    file.to_string(),
+                    (case_index, &self.name),
+                    j,
+                    &e.quantity,
+                    e.expected,
+                    &e.source,
+                    solved.quantity(&e.quantity),
+                )
+            })
+            .collect()
+    }
+}
+
+impl ChecksFile {
+    /// Run every case, one row per expectation.
+    pub fn run(&self) -> VerifyReport {
+        let file = self.path.display().to_string();
+        VerifyReport {
+            rows: self
+                .cases
+                .iter()
+                .enumerate()
+                .flat_map(|(i, c)| c.run(&file, i))
+                .chain(
+                    self.bounds
+                        .iter()
+                        .enumerate()
+                        .flat_map(|(i, b)| b.run(&file, i)),
+                )
+                .collect(),
+        }
+    }
+}
+
+/// Load a checks file and run it. `Err` only when the file itself is unusable; failing
+/// expectations are rows of the report.
+pub fn run_checks_file(path: impl AsRef<Path>) -> Result<VerifyReport, VerifyError> {
+    Ok(ChecksFile::load(path)?.run())
+}
+
+/// For tests: run a checks file and panic, printing the whole table, if the file is unusable
+/// or any expectation fails.
+///
+/// ```no_run
+/// #[test]
+/// fn published_numbers() {
+///     umbral::verify::assert_checks_pass("checks/my-paper.toml");
+/// }
+/// ```
+#[track_caller]
+pub fn assert_checks_pass(path: impl AsRef<Path>) {
+    let path = path.as_ref();
+    let report = match run_checks_file(path) {
+        Ok(r) => r,
+        Err(e) => panic!("checks file unusable: {e}"),
+    };
+    if !report.all_passed() {
+        panic!(
+            "{} of {} expectations in {} failed:\n{}",
+            report.failed(),
+            report.rows.len(),
+            path.display(),
+            report.render_table()
+        );
+    }
+}

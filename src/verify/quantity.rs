@@ -1,0 +1,266 @@
+//! The quantities a check can pin, and how each is read from a solved case.
+//!
+//! Observables (the numeric fields of [`Observables`], by their field names) need a critical
+//! curve. The others come from the solver or the metric:
+//!
+//! * `horizon_radius`: [`Spacetime::outer_horizon`];
+//! * `photon_sphere_radius`, `critical_impact_parameter`: the photon sphere that bounds capture
+//!   and b_c = √(C/A) there (spherical solver; Synge 1966);
+//! * `photon_orbit_radius_min`, `photon_orbit_radius_max`: the range of spherical photon orbits
+//!   that form the curve (Bardeen 1973);
+//! * `gamma` (one value along the whole curve), `gamma_min`, `gamma_max`, `lyapunov`: the
+//!   photon-ring exponents (Johnson et al. 2020; Cardoso et al. 2009).
+
+use crate::metric::Spacetime;
+use crate::observables::Observables;
+use crate::shadow::{ShadowResult, ShadowStatus, SolverKind};
+
+/// Numeric fields of [`Observables`] a check can pin, by field name.
+pub const OBSERVABLE_QUANTITIES: &[&str] = &[
+    "centre_alpha",
+    "centre_beta",
+    "centroid_offset",
+    "centroid_offset_beta",
+    "midpoint_offset",
+    "midpoint_offset_beta",
+    "mean_radius",
+    "area",
+    "area_radius",
+    "circularity_deviation",
+    "width",
+    "height",
+    "axis_ratio",
+    "alpha_min",
+    "alpha_max",
+    "beta_min",
+    "beta_max",
+    "hioki_maeda_radius",
+    "hioki_maeda_distortion",
+    "fractional_deviation_mean",
+    "fractional_deviation_area",
+];
+
+/// Quantities that come from the solver or the metric rather than from the curve.
+pub const SOLVER_QUANTITIES: &[&str] = &[
+    "horizon_radius",
+    "photon_sphere_radius",
+    "critical_impact_parameter",
+    "photon_orbit_radius_min",
+    "photon_orbit_radius_max",
+    "gamma",
+    "gamma_min",
+    "gamma_max",
+    "lyapunov",
+];
+
+/// Every quantity name, observables first.
+pub const QUANTITIES: &[&str] = &[
+    "centre_alpha",
+    "centre_beta",
+    "centroid_offset",
+    "centroid_offset_beta",
+    "midpoint_offset",
+    "midpoint_offset_beta",
+    "mean_radius",
+    "area",
+    "area_radius",
+    "circularity_deviation",
+    "width",
+    "height",
+    "axis_ratio",
+    "alpha_min",
+    "alpha_max",
+    "beta_min",
+    "beta_max",
+    "hioki_maeda_radius",
+    "hioki_maeda_distortion",
+    "fractional_deviation_mean",
+    "fractional_deviation_area",
+    "horizon_radius",
+    "photon_sphere_radius",
+    "critical_impact_parameter",
+    "photon_orbit_radius_min",
+    "photon_orbit_radius_max",
+    "gamma",
+    "gamma_min",
+    "gamma_max",
+    "lyapunov",
+];
+
+/// Whether `name` is a quantity a check can pin.
+pub fn is_known_quantity(name: &str) -> bool {
+    QUANTITIES.contains(&name)
+}
+
+/// Relative spread below which γ_min and γ_max count as one `gamma`.
+const GAMMA_SPREAD: f64 = 1e-12;
+
+/// What solving one case produced.
+pub struct Solved {
+    /// The outer horizon, if the metric has one.
+    pub horizon: Option<f64>,
+    /// The solver's result, or why it failed.
+    pub result: Result<ShadowResult, String>,
+    /// The observables of the curve, or why there are none.
+    pub observables: Result<serde_json::Value, String>,
+}
+
+impl Solved {
+    /// Solve the case's shadow and reduce it to observables; failures are kept as reasons.
+    pub fn new(
+        metric: &dyn Spacetime,
+        result: Result<ShadowResult, String>,
+        centre: crate::observables::CentreChoice,
+    ) -> Solved {
+        let horizon = metric.outer_horizon();
+        let observables = match &result {
+            Err(e) => Err(format!("the solver failed: {e}")),
+            Ok(r) => match (&r.status, &r.curve) {
+                (ShadowStatus::NoShadow { reason }, _) => Err(format!("no shadow: {reason}")),
+                (ShadowStatus::Shadow, None) => Err("no shadow: no critical curve".into()),
+                (ShadowStatus::Shadow, Some(curve)) => {
+                    Observables::from_curve(curve, centre, horizon, r.photon_orbit_radii)
+                        .map_err(|e| format!("observables failed: {e}"))
+                        .and_then(|o| {
+                            serde_json::to_value(o).map_err(|e| format!("observables failed: {e}"))
+                        })
+                }
+            },
+        };
+        Solved {
+            horizon,
+            result,
+            observables,
+        }
+    }
+
+    fn solver_result(&self) -> Result<&ShadowResult, String> {
+        self.result
+            .as_ref()
+            .map_err(|e| format!("the solver failed: {e}"))
+    }
+
+    /// The value of a quantity, or why it is not available.
+    pub fn quantity(&self, name: &str) -> Result<f64, String> {
+        if OBSERVABLE_QUANTITIES.contains(&name) {
+            let obs = self.observables.as_ref().map_err(Clone::clone)?;
+            return obs
+                .get(name)
+                .and_then(serde_json::Value::as_f64)
+                .ok_or_else(|| format!("the observables have no number '{name}'"));
+        }
+        match name {
+            "horizon_radius" => self
+                .horizon
+                .ok_or_else(|| "the metric has no horizon".to_string()),
+            "photon_sphere_radius" | "critical_impact_parameter" => {
+                let r = self.solver_result()?;
+                if r.solver != SolverKind::Spherical {
+                    return Err(format!(
+                        "{name} needs the spherical solver (this case used {})",
+                        r.solver.name()
+                    ));
+                }
+                let radius = match (&r.status, r.photon_orbit_radii) {
+                    (ShadowStatus::Shadow, Some([radius, _])) => radius,
+                    (ShadowStatus::NoShadow { reason }, _) => {
+                        return Err(format!("no shadow: {reason}"))
+                    }
+                    _ => return Err("no capturing photon sphere".into()),
+                };
+                if name == "photon_sphere_radius" {
+                    return Ok(radius);
+                }
+                r.photon_spheres
+                    .iter()
+                    .find(|s| s.radius == radius)
+                    .map(|s| s.impact_parameter)
+                    .ok_or_else(|| "no capturing photon sphere".to_string())
+            }
+            "photon_orbit_radius_min" | "photon_orbit_radius_max" => {
+                let r = self.solver_result()?;
+                let radii = r.photon_orbit_radii.ok_or_else(|| match &r.status {
+                    ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
+                    ShadowStatus::Shadow => format!(
+                        "the {} solver does not report photon-orbit radii",
+                        r.solver.name()
+                    ),
+                })?;
+                Ok(if name == "photon_orbit_radius_min" {
+                    radii[0]
+                } else {
+                    radii[1]
+                })
+            }
+            "gamma" | "gamma_min" | "gamma_max" | "lyapunov" => {
+                let r = self.solver_result()?;
+                let e = r.exponents.as_ref().ok_or_else(|| match &r.status {
+                    ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
+                    ShadowStatus::Shadow => format!(
+                        "the {} solver does not report photon-ring exponents",
+                        r.solver.name()
+                    ),
+                })?;
+                match name {
+                    "gamma_min" => Ok(e.gamma_min),
+                    "gamma_max" => Ok(e.gamma_max),
+                    "lyapunov" => e.lyapunov.ok_or_else(|| {
+                        format!(
+                            "the {} solver does not report a Lyapunov exponent",
+                            r.solver.name()
+                        )
+                    }),
+                    _ => {
+                        let spread = (e.gamma_max - e.gamma_min).abs();
+                        if spread <= GAMMA_SPREAD * e.gamma_max.abs() {
+                            Ok(0.5 * (e.gamma_min + e.gamma_max))
+                        } else {
+                            Err(format!(
+                                "gamma varies along the curve ({} to {}): pin gamma_min and gamma_max",
+                                e.gamma_min, e.gamma_max
+                            ))
+                        }
+                    }
+                }
+            }
+            _ => Err(format!("unknown quantity '{name}'")),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::metrics::Kerr;
+    use crate::observables::CentreChoice;
+    use crate::shadow::{solve, Observer, ShadowSettings};
+
+    /// The list of observable names must match the numeric fields `Observables` serialises,
+    /// so a new observable cannot be silently unreachable from checks files.
+    #[test]
+    fn observable_names_match_the_struct() {
+        let kerr = Kerr::new(0.5).unwrap();
+        let settings = ShadowSettings {
+            points: 32,
+            ..ShadowSettings::default()
+        };
+        let result = solve(&kerr, &Observer::distant(1.0), &settings).map_err(|e| e.to_string());
+        let solved = Solved::new(&kerr, result, CentreChoice::Centroid);
+        let obs = solved.observables.as_ref().unwrap().as_object().unwrap();
+        let mut numeric: Vec<&str> = obs
+            .iter()
+            .filter(|(k, v)| v.is_number() && k.as_str() != "horizon_radius")
+            .map(|(k, _)| k.as_str())
+            .collect();
+        numeric.sort_unstable();
+        let mut listed = OBSERVABLE_QUANTITIES.to_vec();
+        listed.sort_unstable();
+        assert_eq!(numeric, listed);
+        let all: Vec<&str> = OBSERVABLE_QUANTITIES
+            .iter()
+            .chain(SOLVER_QUANTITIES)
+            .copied()
+            .collect();
+        assert_eq!(all, QUANTITIES);
+    }
+}

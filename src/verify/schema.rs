@@ -1,0 +1,407 @@
+//! The checks file: its TOML schema, and loading it into validated [`Case`]s.
+//!
+//! The format is documented in `docs/regression-checks.md`. Every key is checked: unknown
+//! keys, missing keys and out-of-range settings are errors naming the file and the problem.
+
+use super::bound_case::{BoundCase, RawBound};
+use super::VerifyError;
+use crate::metric::Spacetime;
+use crate::metric_file::load_metric_file;
+use crate::metrics::build_metric;
+use crate::observables::CentreChoice;
+use crate::shadow::{Observer, ShadowSettings, SolverChoice};
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawFile {
+    #[serde(default)]
+    description: Option<String>,
+    #[serde(default)]
+    case: Vec<RawCase>,
+    #[serde(default)]
+    bound: Vec<RawBound>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawCase {
+    name: String,
+    #[serde(default)]
+    metric: Option<String>,
+    #[serde(default)]
+    metric_file: Option<String>,
+    #[serde(default)]
+    parameters: BTreeMap<String, f64>,
+    inclination: f64,
+    #[serde(default)]
+    observer_radius: Option<f64>,
+    #[serde(default)]
+    solver: Option<SolverName>,
+    #[serde(default)]
+    points: Option<usize>,
+    #[serde(default)]
+    boundary_tolerance: Option<f64>,
+    #[serde(default)]
+    centre: Option<CentreName>,
+    #[serde(default)]
+    expect: Vec<RawExpectation>,
+}
+
+#[derive(Debug, Clone, Copy, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum SolverName {
+    Auto,
+    Spherical,
+    Separable,
+    Raytrace,
+}
+
+#[derive(Debug, Clone, Copy, Deserialize)]
+#[serde(rename_all = "snake_case")]
+enum CentreName {
+    Centroid,
+    Midpoint,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub(super) struct RawExpectation {
+    quantity: String,
+    #[serde(default)]
+    confidence: Option<f64>,
+    #[serde(default)]
+    value: Option<f64>,
+    #[serde(default)]
+    abs: Option<f64>,
+    #[serde(default)]
+    rel: Option<f64>,
+    #[serde(default)]
+    min: Option<f64>,
+    #[serde(default)]
+    max: Option<f64>,
+    source: String,
+}
+
+/// How far a computed value may lie from the expected one.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Tolerance {
+    /// |got − expected| ≤ abs.
+    Absolute(f64),
+    /// |got − expected| ≤ rel · |expected|.
+    Relative(f64),
+}
+
+impl Tolerance {
+    /// The tolerance in the quantity's own units for this expected value.
+    pub fn absolute_for(&self, expected: f64) -> f64 {
+        match *self {
+            Tolerance::Absolute(t) => t,
+            Tolerance::Relative(t) => t * expected.abs(),
+        }
+    }
+}
+
+/// What a quantity is expected to be.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(tag = "kind", rename_all = "snake_case")]
+pub enum Expected {
+    /// A value with a tolerance.
+    Value { value: f64, tolerance: Tolerance },
+    /// A range: `min ≤ got ≤ max`, either end optional (an upper or lower bound).
+    Range { min: Option<f64>, max: Option<f64> },
+}
+
+/// One expectation of a case.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Expectation {
+    /// The quantity's name (see [`super::quantity::QUANTITIES`]).
+    pub quantity: String,
+    pub expected: Expected,
+    /// Where the expected number comes from (paper, generator script, or
+    /// "common practice, no source").
+    pub source: String,
+    /// The confidence level (bound expectations only).
+    pub confidence: Option<f64>,
+}
+
+/// Where a case's metric comes from.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum MetricSource {
+    /// A built-in metric, by its command-line name.
+    Builtin(String),
+    /// A declarative metric file (`metric_file = "path"`, relative to the checks file).
+    File(PathBuf),
+}
+
+/// One validated case: a metric, an observer, solver settings and its expectations.
+pub struct Case {
+    pub name: String,
+    pub metric_source: MetricSource,
+    pub parameters: Vec<(String, f64)>,
+    /// The metric, built when the file was loaded.
+    pub metric: Box<dyn Spacetime>,
+    /// Inclination in degrees, as written.
+    pub inclination_deg: f64,
+    pub observer: Observer,
+    pub settings: ShadowSettings,
+    pub centre: CentreChoice,
+    pub expectations: Vec<Expectation>,
+}
+
+/// A loaded and validated checks file.
+pub struct ChecksFile {
+    pub path: PathBuf,
+    pub description: Option<String>,
+    pub cases: Vec<Case>,
+    /// `[[bound]]` cases.
+    pub bounds: Vec<BoundCase>,
+}
+
+/// The 1-based line of a byte offset.
+fn line_of(text: &str, offset: usize) -> usize {
+    text[..offset.min(text.len())].matches('\n').count() + 1
+}
+
+fn finite(x: f64, what: &str) -> Result<f64, String> {
+    if x.is_finite() {
+        Ok(x)
+    } else {
+        Err(format!("{what} must be a finite number, got {x}"))
+    }
+}
+
+/// Validate one expectation whose quantity must be one of `known`.
+pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expectation, String> {
+    let q = raw.quantity.trim().to_string();
+    if !known.contains(&q.as_str()) {
+        return Err(format!(
+            "unknown quantity '{q}' (known: {})",
+            known.join(", ")
+        ));
+    }
+    if let Some(c) = raw.confidence {
+        if !(c > 0.0 && c < 1.0) {
+            return Err(format!(
+                "expectation '{q}': confidence must lie strictly between 0 and 1, got {c}"
+            ));
+        }
+    }
+    let source = raw.source.trim().to_string();
+    if source.is_empty() {
+        return Err(format!(
+            "expectation '{q}': source is empty (name a paper, a script, or write \"common practice, no source\")"
+        ));
+    }
+    let label = |m: String| format!("expectation '{q}': {m}");
+    let expected = match (raw.value, raw.abs, raw.rel, raw.min, raw.max) {
+        (Some(value), abs, rel, None, None) => {
+            let value = finite(value, "value").map_err(label)?;
+            let tolerance = match (abs, rel) {
+                (Some(t), None) => Tolerance::Absolute(t),
+                (None, Some(t)) => Tolerance::Relative(t),
+                (Some(_), Some(_)) => return Err(label("give one of abs or rel, not both".into())),
+                (None, None) => return Err(label("a value needs a tolerance: abs or rel".into())),
+            };
+            let t = match tolerance {
+                Tolerance::Absolute(t) | Tolerance::Relative(t) => t,
+            };
+            if !(t.is_finite() && t >= 0.0) {
+                return Err(label(format!(
+                    "tolerance must be a finite number >= 0, got {t}"
+                )));
+            }
+            Expected::Value { value, tolerance }
+        }
+        (None, None, None, min, max) if min.is_some() || max.is_some() => {
+            if let Some(m) = min {
+                finite(m, "min").map_err(label)?;
+            }
+            if let Some(m) = max {
+                finite(m, "max").map_err(label)?;
+            }
+            if let (Some(lo), Some(hi)) = (min, max) {
+                if lo > hi {
+                    return Err(label(format!("min {lo} is greater than max {hi}")));
+                }
+            }
+            Expected::Range { min, max }
+        }
+        (None, _, _, None, None) => {
+            return Err(label(
+                "give value with abs or rel, or min and/or max".into(),
+            ))
+        }
+        _ => {
+            return Err(label(
+                "value (with abs or rel) and min/max cannot be mixed".into(),
+            ))
+        }
+    };
+    Ok(Expectation {
+        quantity: q,
+        expected,
+        source,
+        confidence: raw.confidence,
+    })
+}
+
+fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
+    let name = raw.name.trim().to_string();
+    if name.is_empty() {
+        return Err("a case has an empty name".into());
+    }
+    let label = |m: String| format!("case '{name}': {m}");
+    let parameters: Vec<(String, f64)> = raw.parameters.into_iter().collect();
+    for (p, v) in &parameters {
+        finite(*v, &format!("parameter '{p}'")).map_err(label)?;
+    }
+    let (metric_source, metric) = match (raw.metric, raw.metric_file) {
+        (Some(m), None) => {
+            let metric = build_metric(m.trim(), &parameters).map_err(|e| label(e.to_string()))?;
+            (MetricSource::Builtin(m.trim().to_string()), metric)
+        }
+        (None, Some(file)) => {
+            let path = base_dir.join(file.trim());
+            let spec = load_metric_file(&path)
+                .map_err(|e| label(format!("metric file {}: {}", path.display(), e.summary())))?;
+            let metric = spec
+                .instantiate(&parameters)
+                .map_err(|e| label(format!("metric file {}: {e}", path.display())))?;
+            (
+                MetricSource::File(path),
+                Box::new(metric) as Box<dyn Spacetime>,
+            )
+        }
+        (Some(_), Some(_)) => return Err(label("give metric or metric_file, not both".into())),
+        (None, None) => return Err(label("missing metric (a built-in metric name)".into())),
+    };
+    let inclination = finite(raw.inclination, "inclination").map_err(label)?;
+    if !(0.0..=180.0).contains(&inclination) {
+        return Err(label(format!(
+            "inclination must lie between 0 and 180 degrees, got {inclination}"
+        )));
+    }
+    let observer = match raw.observer_radius {
+        None => Observer::distant(inclination.to_radians()),
+        Some(r) => {
+            if !(r.is_finite() && r > 0.0) {
+                return Err(label(format!(
+                    "observer_radius must be a positive finite number, got {r}"
+                )));
+            }
+            Observer::at_radius(inclination.to_radians(), r)
+        }
+    };
+    let defaults = ShadowSettings::default();
+    let points = raw.points.unwrap_or(defaults.points);
+    if points < 8 {
+        return Err(label(format!("points must be at least 8, got {points}")));
+    }
+    let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
+    if !(tolerance.is_finite() && tolerance > 0.0) {
+        return Err(label(format!(
+            "boundary_tolerance must be a positive finite number, got {tolerance}"
+        )));
+    }
+    let solver = match raw.solver.unwrap_or(SolverName::Auto) {
+        SolverName::Auto => SolverChoice::Auto,
+        SolverName::Spherical => SolverChoice::Spherical,
+        SolverName::Separable => SolverChoice::Separable,
+        SolverName::Raytrace => SolverChoice::Raytrace,
+    };
+    let centre = match raw.centre.unwrap_or(CentreName::Centroid) {
+        CentreName::Centroid => CentreChoice::Centroid,
+        CentreName::Midpoint => CentreChoice::Midpoint,
+    };
+    if raw.expect.is_empty() {
+        return Err(label("no expectations ([[case.expect]])".into()));
+    }
+    let expectations = raw
+        .expect
+        .into_iter()
+        .map(|e| expectation(e, super::quantity::QUANTITIES))
+        .collect::<Result<Vec<_>, _>>()
+        .map_err(label)?;
+    if let Some(e) = expectations.iter().find(|e| e.confidence.is_some()) {
+        return Err(label(format!(
+            "expectation '{}': confidence belongs to [[bound]] expectations only",
+            e.quantity
+        )));
+    }
+    Ok(Case {
+        name,
+        metric_source,
+        parameters,
+        metric,
+        inclination_deg: inclination,
+        observer,
+        settings: ShadowSettings {
+            points,
+            tolerance,
+            solver,
+        },
+        centre,
+        expectations,
+    })
+}
+
+impl ChecksFile {
+    /// Read and validate a checks file from TOML text; `path` is used in messages.
+    pub fn parse(text: &str, path: &Path) -> Result<ChecksFile, VerifyError> {
+        let invalid = |message: String| VerifyError::Invalid {
+            path: path.to_path_buf(),
+            message,
+        };
+        let raw: RawFile = toml::from_str(text).map_err(|e| {
+            let line = e
+                .span()
+                .map(|s| format!("line {}: ", line_of(text, s.start)))
+                .unwrap_or_default();
+            invalid(format!("{line}{}", e.message().trim()))
+        })?;
+        // Metric files are named relative to the checks file.
+        let base_dir = path.parent().unwrap_or(Path::new("."));
+        if raw.case.is_empty() && raw.bound.is_empty() {
+            return Err(invalid("no cases ([[case]] or [[bound]])".into()));
+        }
+        let mut cases: Vec<Case> = Vec::with_capacity(raw.case.len());
+        for raw_case in raw.case {
+            let c = case(raw_case, base_dir).map_err(&invalid)?;
+            if cases.iter().any(|other| other.name == c.name) {
+                return Err(invalid(format!("two cases are named '{}'", c.name)));
+            }
+            cases.push(c);
+        }
+        let mut bounds: Vec<BoundCase> = Vec::with_capacity(raw.bound.len());
+        for raw_bound in raw.bound {
+            let b = BoundCase::from_raw(raw_bound, base_dir).map_err(&invalid)?;
+            let taken = cases.iter().any(|c| c.name == b.name)
+                || bounds.iter().any(|other| other.name == b.name);
+            if taken {
+                return Err(invalid(format!("two cases are named '{}'", b.name)));
+            }
+            bounds.push(b);
+        }
+        Ok(ChecksFile {
+            path: path.to_path_buf(),
+            description: raw.description,
+            cases,
+            bounds,
+        })
+    }
+
+    /// Read and validate a checks file.
+    pub fn load(path: impl AsRef<Path>) -> Result<ChecksFile, VerifyError> {
+        let path = path.as_ref();
+        let text = std::fs::read_to_string(path).map_err(|e| VerifyError::Invalid {
+            path: path.to_path_buf(),
+            message: format!("cannot read: {e}"),
+        })?;
+        ChecksFile::parse(&text, path)
+    }
+}

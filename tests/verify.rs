@@ -1,0 +1,352 @@
+//! `umbral verify` and the `umbral::verify` API: the project's own published-value checks
+//! (tests/checks/*.toml, each expectation with its source in the file), the example CI
+//! checks file, and the behaviour of failing, broken and updated files.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+use umbral::verify::{assert_checks_pass, run_checks_file, update_checks_file, VerifyError};
+
+fn repo(path: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join(path)
+}
+
+/// A fresh scratch directory for one test.
+fn scratch(name: &str) -> PathBuf {
+    let dir = Path::new(env!("CARGO_TARGET_TMPDIR")).join(format!("verify-{name}"));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+fn umbral(args: &[&str]) -> (i32, String, String) {
+    let out = Command::new(env!("CARGO_BIN_EXE_umbral"))
+        .args(args)
+        .output()
+        .expect("run umbral");
+    (
+        out.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&out.stdout).into_owned(),
+        String::from_utf8_lossy(&out.stderr).into_owned(),
+    )
+}
+
+/// Every published value in tests/checks/*.toml (sources beside each expectation there:
+/// Synge 1966, Bardeen 1973, Bardeen, Press & Teukolsky 1972, Cardoso et al. 2009,
+/// Johnson et al. 2020, ...).
+#[test]
+fn published_values_hold() {
+    let mut files: Vec<PathBuf> = std::fs::read_dir(repo("tests/checks"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.extension().is_some_and(|e| e == "toml"))
+        .collect();
+    files.sort();
+    assert!(
+        files.len() >= 3,
+        "expected the checks files, found {files:?}"
+    );
+    for f in &files {
+        assert_checks_pass(f);
+    }
+}
+
+#[test]
+fn example_ci_checks_file_passes() {
+    assert_checks_pass(repo("examples/ci-checks.toml"));
+}
+
+const GOOD_CASE: &str = r#"
+# a comment that --update must keep
+[[case]]
+name = "schw"
+metric = "schwarzschild"
+inclination = 30.0
+points = 16
+
+[[case.expect]]
+quantity = "mean_radius"
+value = 5.2   # deliberately off: 3√3 = 5.19615...
+abs = 1e-6
+source = "deliberately wrong, for the test"
+
+[[case.expect]]
+quantity = "photon_sphere_radius"
+value = 3.0   # right (Synge 1966)
+rel = 1e-12
+source = "Synge 1966, MNRAS 131, 463"
+
+[[case.expect]]
+quantity = "circularity_deviation"
+max = 0.1
+source = "common practice, no source"
+"#;
+
+#[test]
+fn wrong_expectation_is_a_fail_row_and_exit_1() {
+    let dir = scratch("wrong");
+    let path = dir.join("wrong.toml");
+    std::fs::write(&path, GOOD_CASE).unwrap();
+    let report = run_checks_file(&path).unwrap();
+    assert_eq!(report.rows.len(), 3);
+    assert!(!report.rows[0].passed);
+    assert!(report.rows[0].reason.is_none());
+    assert!((report.rows[0].got.unwrap() - 27f64.sqrt()).abs() < 1e-12);
+    assert!(report.rows[1].passed && report.rows[2].passed);
+
+    let (code, out, _) = umbral(&["verify", path.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}");
+    let fail_line = out.lines().find(|l| l.contains("mean_radius")).unwrap();
+    assert!(fail_line.contains("FAIL"), "{fail_line}");
+    assert!(
+        out.contains("summary: 3 expectations, 2 pass, 1 fail"),
+        "{out}"
+    );
+
+    let (code, out, _) = umbral(&["verify", "--json", path.to_str().unwrap()]);
+    assert_eq!(code, 1);
+    let json: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(json["failed"], 1);
+    assert_eq!(json["rows"][0]["quantity"], "mean_radius");
+    assert_eq!(json["rows"][0]["passed"], false);
+}
+
+#[test]
+fn passing_files_exit_0_together() {
+    let (code, out, err) = umbral(&[
+        "verify",
+        repo("tests/checks/schwarzschild.toml").to_str().unwrap(),
+        repo("tests/checks/reissner_nordstrom.toml")
+            .to_str()
+            .unwrap(),
+    ]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(out.contains("rn-extremal") && out.contains("schwarzschild-distant"));
+    assert!(!out.contains("FAIL"));
+}
+
+#[test]
+fn failed_computation_is_a_fail_row_not_a_crash() {
+    let dir = scratch("computation");
+    let path = dir.join("c.toml");
+    // The spherical solver does not apply to Kerr with a != 0; Kerr's separable solver has
+    // no Lyapunov exponent; JNW with nu = 0.4 has no photon sphere, hence no shadow
+    // (Virbhadra 1997: a photon sphere only for nu > 1/2).
+    std::fs::write(
+        &path,
+        r#"
+[[case]]
+name = "kerr-spherical"
+metric = "kerr"
+parameters = { a = 0.5 }
+inclination = 45.0
+solver = "spherical"
+points = 16
+[[case.expect]]
+quantity = "mean_radius"
+value = 5.0
+rel = 0.1
+source = "test"
+[[case.expect]]
+quantity = "horizon_radius"
+value = 1.8660254037844386
+rel = 1e-12
+source = "Kerr 1963: r_+ = 1 + sqrt(1 - a^2)"
+
+[[case]]
+name = "kerr-lyapunov"
+metric = "kerr"
+parameters = { a = 0.5 }
+inclination = 45.0
+points = 16
+[[case.expect]]
+quantity = "lyapunov"
+value = 0.2
+rel = 0.5
+source = "test"
+
+[[case]]
+name = "jnw-naked"
+metric = "jnw"
+parameters = { nu = 0.4 }
+inclination = 45.0
+points = 16
+[[case.expect]]
+quantity = "mean_radius"
+min = 0.0
+source = "test"
+"#,
+    )
+    .unwrap();
+    let report = run_checks_file(&path).unwrap();
+    let rows = &report.rows;
+    assert_eq!(rows.len(), 4);
+    assert!(!rows[0].passed);
+    assert!(
+        rows[0].reason.as_deref().unwrap().contains("solver"),
+        "{rows:?}"
+    );
+    // The horizon does not depend on the solver, so it is still checked.
+    assert!(rows[1].passed, "{rows:?}");
+    assert!(!rows[2].passed);
+    assert!(rows[2].reason.as_deref().unwrap().contains("Lyapunov"));
+    assert!(!rows[3].passed);
+    assert!(
+        rows[3].reason.as_deref().unwrap().contains("no shadow"),
+        "{rows:?}"
+    );
+    let (code, out, _) = umbral(&["verify", path.to_str().unwrap()]);
+    assert_eq!(code, 1);
+    assert!(out.contains("FAIL (no shadow"), "{out}");
+}
+
+fn bad_file_message(tag: &str, text: &str) -> String {
+    // One directory per calling test (`tag`); calls within a test run one after another.
+    let path = scratch(&format!("bad-{tag}")).join("bad.toml");
+    std::fs::write(&path, text).unwrap();
+    let err = run_checks_file(&path).expect_err("a bad file");
+    let VerifyError::Invalid { .. } = &err else {
+        panic!("{err:?}")
+    };
+    let (code, out, stderr) = umbral(&["verify", path.to_str().unwrap()]);
+    assert_eq!(code, 2, "{out}{stderr}");
+    assert!(out.is_empty(), "no table for a bad file: {out}");
+    assert_eq!(stderr.trim().lines().count(), 1, "{stderr}");
+    assert!(stderr.contains("bad.toml"), "{stderr}");
+    stderr
+}
+
+#[test]
+fn broken_files_exit_2_with_one_line() {
+    let unknown_key = GOOD_CASE.replace("points = 16", "points = 16\ncolour = \"red\"");
+    let e = bad_file_message("broken", &unknown_key);
+    assert!(e.contains("colour") && e.contains("line 8"), "{e}");
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace("\"photon_sphere_radius\"", "\"radius\""),
+    );
+    assert!(e.contains("unknown quantity 'radius'"), "{e}");
+
+    let e = bad_file_message("broken", &GOOD_CASE.replace("abs = 1e-6\n", ""));
+    assert!(e.contains("needs a tolerance"), "{e}");
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace("source = \"Synge 1966, MNRAS 131, 463\"", ""),
+    );
+    assert!(e.contains("source"), "{e}");
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace("\"schwarzschild\"", "\"no-such-metric\""),
+    );
+    assert!(e.contains("no-such-metric"), "{e}");
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace("inclination = 30.0", "inclination = 200.0"),
+    );
+    assert!(e.contains("inclination"), "{e}");
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace(
+            "metric = \"schwarzschild\"",
+            "metric_file = \"no-such-metric.toml\"",
+        ),
+    );
+    assert!(
+        e.contains("metric file") && e.contains("no-such-metric.toml"),
+        "{e}"
+    );
+
+    let e = bad_file_message(
+        "broken",
+        &GOOD_CASE.replace("max = 0.1\n", "max = 0.1\nconfidence = 0.68\n"),
+    );
+    assert!(e.contains("confidence belongs to [[bound]]"), "{e}");
+
+    let e = bad_file_message("broken", "[[case]\nname = ");
+    assert!(e.contains("line 1"), "{e}");
+
+    let e = bad_file_message("broken", "description = \"nothing\"\n");
+    assert!(e.contains("no cases"), "{e}");
+
+    let (code, _, stderr) = umbral(&["verify", "/nonexistent/checks.toml"]);
+    assert_eq!(code, 2);
+    assert!(stderr.contains("cannot read"), "{stderr}");
+}
+
+#[test]
+fn update_writes_a_copy_keeping_comments() {
+    let dir = scratch("update");
+    let path = dir.join("pinned.toml");
+    std::fs::write(&path, GOOD_CASE).unwrap();
+    let (code, out, err) = umbral(&["verify", "--update", path.to_str().unwrap()]);
+    // The run against the old baseline had a failure, so the exit code says so.
+    assert_eq!(code, 1, "{out}{err}");
+    assert_eq!(std::fs::read_to_string(&path).unwrap(), GOOD_CASE);
+    let copy = dir.join("pinned.updated.toml");
+    let text = std::fs::read_to_string(&copy).unwrap();
+    assert!(
+        text.contains("# a comment that --update must keep"),
+        "{text}"
+    );
+    assert!(text.contains("# deliberately off"), "{text}");
+    assert!(text.contains("max = 0.1"), "{text}");
+    assert!(!text.contains("value = 5.2 "), "{text}");
+    // The updated copy is a passing baseline.
+    assert_checks_pass(&copy);
+    let (code, _, _) = umbral(&["verify", copy.to_str().unwrap()]);
+    assert_eq!(code, 0);
+
+    // --output names the copy explicitly.
+    let chosen = dir.join("chosen.toml");
+    let outcome = update_checks_file(&path, Some(&chosen)).unwrap();
+    assert_eq!(outcome.updated, 2);
+    assert_eq!(outcome.kept.len(), 1);
+    assert_eq!(std::fs::read_to_string(&chosen).unwrap(), text);
+}
+
+#[test]
+fn assertion_helper_panics_with_the_table() {
+    let dir = scratch("assert");
+    let path = dir.join("wrong.toml");
+    std::fs::write(&path, GOOD_CASE).unwrap();
+    let panic = std::panic::catch_unwind(|| assert_checks_pass(&path)).unwrap_err();
+    let message = panic.downcast_ref::<String>().cloned().unwrap_or_default();
+    assert!(message.contains("1 of 3 expectations"), "{message}");
+    assert!(
+        message.contains("mean_radius") && message.contains("FAIL"),
+        "{message}"
+    );
+}
+
+#[test]
+fn bound_cases_update_and_reject_unknown_levels() {
+    let dir = scratch("bound");
+    let original = std::fs::read_to_string(repo("tests/checks/bounds.toml")).unwrap();
+    let drifted = original.replace("value = 0.5\n", "value = 0.45\n");
+    assert_ne!(drifted, original);
+    let path = dir.join("bounds.toml");
+    std::fs::write(&path, &drifted).unwrap();
+    let report = run_checks_file(&path).unwrap();
+    assert_eq!(report.failed(), 1, "{}", report.render_table());
+    let outcome = update_checks_file(&path, None).unwrap();
+    assert_eq!(outcome.updated, 3);
+    assert_checks_pass(&outcome.output);
+    let text = std::fs::read_to_string(&outcome.output).unwrap();
+    assert!(
+        text.contains("# Bound ends pinned by closed forms."),
+        "{text}"
+    );
+
+    let e = bad_file_message(
+        "bound",
+        &original.replace(
+            "confidence = 0.68\nvalue = 0.5",
+            "confidence = 0.95\nvalue = 0.5",
+        ),
+    );
+    assert!(e.contains("confidence 0.95 is not a level"), "{e}");
+}
