@@ -3,6 +3,9 @@
 //! inputs.
 //!
 //! Goal (see docs/performance.md): the file metric within 4x of the built-in one.
+//!
+//! Also a whole ray-traced critical curve (Kerr a = 0.9 seen at 60 degrees, 16 angles) from
+//! the file-defined and the built-in Kerr, with the same goal: within 4x.
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
@@ -10,6 +13,7 @@ use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::metric_file::load_metric_file;
 use umbral::metrics::Kerr;
+use umbral::shadow::{raytrace, Observer, ShadowSettings, SolverChoice};
 
 /// A fixed set of phase-space points (r, θ, p) spread over a typical ray.
 fn inputs() -> Vec<(f64, f64, [f64; 4])> {
@@ -59,11 +63,69 @@ fn bench_gradient(c: &mut Criterion) {
     group.finish();
 }
 
+/// The ray-traced case: 16 screen angles, boundary tolerance 1e-8 M.
+fn raytrace_case() -> (Observer, ShadowSettings) {
+    let observer = Observer::distant(60f64.to_radians());
+    let settings = ShadowSettings {
+        points: 16,
+        tolerance: 1e-8,
+        solver: SolverChoice::Raytrace,
+    };
+    (observer, settings)
+}
+
+/// Best of three wall-clock times of one ray-traced curve, in seconds, and the curve's radii.
+fn best_raytrace_time(m: &dyn Spacetime) -> (f64, Vec<f64>) {
+    let (observer, settings) = raytrace_case();
+    let mut best = f64::INFINITY;
+    let mut radii = Vec::new();
+    for _ in 0..3 {
+        let start = std::time::Instant::now();
+        let result = raytrace::solve(m, &observer, &settings).expect("the Kerr curve converges");
+        best = best.min(start.elapsed().as_secs_f64());
+        radii = result.curve.expect("Kerr a = 0.9 has a shadow").radii;
+    }
+    (best, radii)
+}
+
+fn bench_raytrace(c: &mut Criterion) {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("metrics/kerr.toml");
+    let file_kerr = load_metric_file(&path)
+        .unwrap_or_else(|e| panic!("{e}"))
+        .instantiate(&[("a".to_string(), 0.9)])
+        .expect("a = 0.9 is a valid spin");
+    let kerr = Kerr::new(0.9).expect("a = 0.9 is a valid spin");
+
+    let (t_builtin, r_builtin) = best_raytrace_time(&kerr);
+    let (t_file, r_file) = best_raytrace_time(&file_kerr);
+    let deviation = r_builtin
+        .iter()
+        .zip(&r_file)
+        .fold(0.0f64, |m, (x, y)| m.max((x - y).abs()));
+    println!(
+        "raytrace kerr a=0.9 60deg 16 angles: built-in {t_builtin:.3} s, file {t_file:.3} s \
+         (ratio {:.2}, goal <= 4); largest radius difference {deviation:.1e} M",
+        t_file / t_builtin
+    );
+
+    let (observer, settings) = raytrace_case();
+    let mut group = c.benchmark_group("raytrace_kerr_a0.9_60deg_16");
+    group.sample_size(10);
+    group.measurement_time(std::time::Duration::from_secs(4));
+    group.bench_function("builtin", |b| {
+        b.iter(|| raytrace::solve(black_box(&kerr), &observer, &settings).expect("converges"))
+    });
+    group.bench_function("file", |b| {
+        b.iter(|| raytrace::solve(black_box(&file_kerr), &observer, &settings).expect("converges"))
+    });
+    group.finish();
+}
+
 criterion_group! {
     name = benches;
     config = Criterion::default()
         .warm_up_time(std::time::Duration::from_millis(500))
         .measurement_time(std::time::Duration::from_secs(2));
-    targets = bench_gradient
+    targets = bench_gradient, bench_raytrace
 }
 criterion_main!(benches);

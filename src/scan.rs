@@ -26,7 +26,7 @@
 
 use crate::error::MetricError;
 use crate::metric::Classification;
-use crate::metrics::build_metric;
+use crate::metrics::MetricSource;
 use crate::observables::{CentreChoice, Observables};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus};
 use rayon::prelude::*;
@@ -61,7 +61,8 @@ impl GridAxis {
 /// What to scan.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ScanRequest {
-    pub metric: String,
+    /// The metric: a built-in name or a metric file.
+    pub metric: MetricSource,
     /// One or two axes.
     pub axes: Vec<GridAxis>,
     pub fixed: Vec<(String, f64)>,
@@ -140,7 +141,7 @@ fn io(path: &Path, e: impl std::fmt::Display) -> ScanError {
 fn header(request: &ScanRequest) -> Header {
     Header {
         umbral_scan: 1,
-        metric: request.metric.clone(),
+        metric: request.metric.label(),
         axes: request.axes.clone(),
         fixed: request.fixed.iter().cloned().collect(),
         inclination_deg: request.inclination_deg,
@@ -185,7 +186,7 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
             }
             a.push((axis.name.clone(), if pick { axis.high } else { axis.low }));
         }
-        build_metric(&request.metric, &a)?;
+        request.metric.build(&a)?;
     }
     Ok(())
 }
@@ -222,7 +223,7 @@ pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
         solver: None,
         observables: None,
     };
-    let spacetime = match build_metric(&request.metric, &assignments) {
+    let spacetime = match request.metric.build(&assignments) {
         Ok(s) => s,
         Err(e) => {
             point.reason = Some(e.to_string());

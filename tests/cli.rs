@@ -428,7 +428,7 @@ fn metric_files_work_wherever_a_metric_name_does() {
 }
 
 fn numbers(text: &str) -> Vec<f64> {
-    text.split(|c: char| c == '[' || c == ']' || c == ',')
+    text.split(['[', ']', ','])
         .filter(|t| !t.is_empty())
         .map(|t| t.parse().unwrap())
         .collect()

@@ -40,7 +40,7 @@ pub mod nuisance;
 use crate::error::MetricError;
 use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
-use crate::metrics::build_metric;
+use crate::metrics::MetricSource;
 use crate::numerics::brent_root;
 use crate::observables::{CentreChoice, Observables};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice};
@@ -122,8 +122,8 @@ impl Default for BoundSettings {
 /// What to bound.
 #[derive(Debug, Clone, PartialEq)]
 pub struct BoundRequest {
-    /// Built-in metric name.
-    pub metric: String,
+    /// The metric: a built-in name or a metric file.
+    pub metric: MetricSource,
     /// The varied (deviation) parameter and its range.
     pub vary: ParameterRange,
     /// Other parameters held fixed.
@@ -230,10 +230,7 @@ impl Model<'_> {
                 Dimension::Inclination => inclination = v,
             }
         }
-        Ok((
-            build_metric(&self.request.metric, &assignments)?,
-            inclination,
-        ))
+        Ok((self.request.metric.build(&assignments)?, inclination))
     }
 }
 
@@ -415,8 +412,8 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
         }
         a
     };
-    let low_metric = build_metric(&request.metric, &corner(false))?;
-    build_metric(&request.metric, &corner(true))?;
+    let low_metric = request.metric.build(&corner(false))?;
+    request.metric.build(&corner(true))?;
     let spherical = low_metric.symmetry() == Symmetry::Spherical;
     let degrees_ok = |d: f64| d.is_finite() && (0.0..=180.0).contains(&d);
     let mut dims: Vec<Dimension> = request
@@ -568,6 +565,7 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
             circularity_min: 0.0,
             partial: false,
             wall_backoff: 0.0,
+            refinement_cut: None,
         },
         &levels,
         cmax,
@@ -745,6 +743,22 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
         })
         .fold(0.0, f64::max);
     let mut assumptions = describe(&prep, partial, nodes.len());
+    let cut: Vec<(f64, &str)> = nodes
+        .iter()
+        .filter_map(|n| match &n.value {
+            Aggregate::Ok(e) => e.refinement_cut.as_deref().map(|m| (n.x, m)),
+            _ => None,
+        })
+        .collect();
+    if let Some(&(x, m)) = cut.first() {
+        assumptions.push(format!(
+            "the shadow solver failed at off-grid nuisance refinement points for {} grid \
+             value(s) of {} (first at {x}: {m}); there the extremes are the best found before \
+             the failure, so those bound ends are less precise",
+            cut.len(),
+            request.vary.name
+        ));
+    }
     if backoff > 0.0 {
         assumptions.push(format!(
             "the shadow solver failed right at a horizon boundary inside the nuisance box; the \
@@ -771,7 +785,7 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
         })
         .collect();
     Ok(BoundResult {
-        metric: request.metric.clone(),
+        metric: request.metric.name(),
         vary: request.vary.clone(),
         fixed: request.fixed.iter().cloned().collect(),
         nuisance: request.nuisance.clone(),

@@ -35,7 +35,7 @@ pub trait PointModel: Sync {
 }
 
 /// Extremes of the prediction over the feasible part of the box.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Extremes {
     /// Min and max of the size over points with ΔC ≤ the limit (NaN if there are none).
     pub size_min: f64,
@@ -47,6 +47,9 @@ pub struct Extremes {
     /// The largest step back from a horizon boundary inside the box needed for the solver
     /// to succeed (0 if none).
     pub wall_backoff: f64,
+    /// A solver failure at an off-grid refinement point that stopped the refinement (the
+    /// extreme is then the best value found before it; grid-point failures are fatal).
+    pub refinement_cut: Option<String>,
 }
 
 /// The prediction at one value of the varied parameter.
@@ -158,6 +161,7 @@ pub fn extremes(
         .iter()
         .any(|v| !matches!(v, PointValue::Valid { .. }));
     let backoff = Mutex::new(0.0f64);
+    let cut = Mutex::new(None::<String>);
     let refine = |goal: Goal| -> Result<f64, String> {
         refine_goal(
             model,
@@ -169,6 +173,7 @@ pub fn extremes(
             circularity_limit,
             search,
             &backoff,
+            &cut,
         )
     };
     let size_min = match refine(Goal::SizeMin) {
@@ -196,12 +201,14 @@ pub fn extremes(
         (f64::NAN, f64::NAN)
     };
     let wall_backoff = backoff.into_inner().unwrap_or_else(|e| e.into_inner());
+    let refinement_cut = cut.into_inner().unwrap_or_else(|e| e.into_inner());
     Aggregate::Ok(Extremes {
         size_min,
         size_max,
         circularity_min,
         partial,
         wall_backoff,
+        refinement_cut,
     })
 }
 
@@ -216,6 +223,7 @@ fn refine_goal(
     limit: Option<f64>,
     search: &NuisanceSearch,
     backoff: &Mutex<f64>,
+    cut: &Mutex<Option<String>>,
 ) -> Result<f64, String> {
     let objective: Vec<f64> = values.iter().map(|v| goal.objective(v, limit)).collect();
     let k = (0..objective.len())
@@ -253,7 +261,11 @@ fn refine_goal(
                 })
                 .collect();
             if let Some(m) = failure.lock().unwrap_or_else(|e| e.into_inner()).take() {
-                return Err(m);
+                // Off-grid refinement points only: keep the best value so far, and say so.
+                cut.lock()
+                    .unwrap_or_else(|e| e.into_inner())
+                    .get_or_insert(m);
+                return Ok(best_value);
             }
             let tol = search.relative_tolerance * (dims[j].1 - dims[j].0).abs();
             let mut eval = |t: f64| -> Result<f64, String> {
@@ -269,7 +281,15 @@ fn refine_goal(
                 p[j] = t;
                 model.has_horizon(&p)
             };
-            let (t, v) = refine_line(nodes, &line_values, &mut eval, &horizon, tol, backoff)?;
+            let (t, v) = match refine_line(nodes, &line_values, &mut eval, &horizon, tol, backoff) {
+                Ok(r) => r,
+                Err(m) => {
+                    cut.lock()
+                        .unwrap_or_else(|e| e.into_inner())
+                        .get_or_insert(m);
+                    return Ok(best_value);
+                }
+            };
             if v < best_value {
                 best_value = v;
                 best[j] = t;

@@ -3,10 +3,11 @@
 use clap::Args;
 use std::fmt;
 use std::path::PathBuf;
+use std::sync::Arc;
 use umbral::error::MetricError;
 use umbral::metric::Spacetime;
-use umbral::metric_file::{load_metric_file, FileMetricSpec};
-use umbral::metrics::build_metric;
+use umbral::metric_file::load_metric_file;
+use umbral::metrics::MetricSource;
 
 /// An error to print on one line, with its exit code.
 #[derive(Debug)]
@@ -88,39 +89,15 @@ pub struct MetricChoice {
     pub metric_file: Option<PathBuf>,
 }
 
-/// A metric source resolved once, from which family members are built.
-pub enum MetricSource {
-    Builtin(String),
-    File(Box<FileMetricSpec>),
-}
-
 impl MetricChoice {
     /// Load the file (if any): its errors point at the place, over several lines.
     pub fn resolve(&self) -> Result<MetricSource, CliError> {
         match (&self.metric, &self.metric_file) {
             (Some(name), _) => Ok(MetricSource::Builtin(name.clone())),
             (None, Some(path)) => load_metric_file(path)
-                .map(|spec| MetricSource::File(Box::new(spec)))
+                .map(|spec| MetricSource::File(Arc::new(spec)))
                 .map_err(|e| CliError::detailed(e.to_string().trim_end().to_string())),
             (None, None) => Err(CliError::usage("give --metric NAME or --metric-file PATH")),
-        }
-    }
-}
-
-impl MetricSource {
-    /// The metric with these parameter assignments.
-    pub fn build(&self, assignments: &[(String, f64)]) -> Result<Box<dyn Spacetime>, CliError> {
-        Ok(match self {
-            MetricSource::Builtin(name) => build_metric(name, assignments)?,
-            MetricSource::File(spec) => Box::new(spec.instantiate(assignments)?),
-        })
-    }
-
-    /// The metric's name, for titles.
-    pub fn name(&self) -> String {
-        match self {
-            MetricSource::Builtin(name) => name.clone(),
-            MetricSource::File(spec) => spec.info().name.clone(),
         }
     }
 }
@@ -131,7 +108,7 @@ pub fn metric_from_args(
     sets: &[String],
 ) -> Result<Box<dyn Spacetime>, CliError> {
     let assignments = parse_assignments(sets)?;
-    choice.resolve()?.build(&assignments)
+    Ok(choice.resolve()?.build(&assignments)?)
 }
 
 /// Read `--set` items where at most one parameter carries a comma list of values, giving one

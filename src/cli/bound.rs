@@ -18,9 +18,8 @@ enum SizeMeasureArg {
 
 #[derive(Debug, Args)]
 pub struct BoundArgs {
-    /// Metric name (see `umbral metrics`).
-    #[arg(long)]
-    metric: String,
+    #[command(flatten)]
+    metric: super::args::MetricChoice,
     /// The parameter to bound and its range, PARAM=LO:HI.
     #[arg(long, value_name = "PARAM=LO:HI", allow_hyphen_values = true)]
     vary: String,
@@ -138,7 +137,7 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         .derive(levels.as_deref())
         .map_err(|e| CliError::usage(e.to_string()))?;
     Ok(BoundRequest {
-        metric: args.metric.clone(),
+        metric: args.metric.resolve()?,
         vary,
         fixed,
         inclination,

@@ -9,10 +9,21 @@ use super::CliError;
 use clap::Args;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
+use umbral::bounds::{
+    bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+};
+use umbral::measurement::constants::theta_g_uas;
+use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
 use umbral::metrics::build_metric;
 use umbral::observables::CentreChoice;
 use umbral::shadow::{Observer, ShadowSettings};
+use umbral::verify::{run_checks_file, VerifyReport};
+
+/// The scenario's measurement, shipped as examples/measurement_ring.toml.
+const MEASUREMENT: &str = include_str!("../../examples/measurement_ring.toml");
+/// The checks file the demo runs, shipped as examples/ci-checks.toml.
+const CHECKS: &str = include_str!("../../examples/ci-checks.toml");
 
 #[derive(Debug, Args)]
 pub struct DemoArgs {
@@ -30,19 +41,6 @@ struct Scenario {
     inclination_deg: f64,
     theta_g_uas: f64,
     note: &'static str,
-}
-
-/// GM☉/c² in metres from the IAU 2015 nominal solar mass parameter GM☉ = 1.3271244e20 m³ s⁻²
-/// (IAU 2015 Resolution B3) and the exact c = 299 792 458 m s⁻¹ (SI).
-const GM_SUN_OVER_C2_M: f64 = 1.327_124_4e20 / (299_792_458.0 * 299_792_458.0);
-/// One megaparsec in metres (IAU 2012 Resolution B2: 1 au = 149 597 870 700 m; pc = au/tan(1″)).
-const MPC_M: f64 = 3.085_677_581_491_367e22;
-/// One micro-arcsecond in radians.
-const UAS_RAD: f64 = std::f64::consts::PI / (180.0 * 3600.0 * 1e6);
-
-/// θ_g = GM/(c²D) in micro-arcseconds.
-fn theta_g_uas(mass_msun: f64, distance_mpc: f64) -> f64 {
-    mass_msun * GM_SUN_OVER_C2_M / (distance_mpc * MPC_M) / UAS_RAD
 }
 
 fn scenario() -> Scenario {
@@ -130,6 +128,7 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
     std::fs::create_dir_all(&out)
         .map_err(|e| CliError::usage(format!("cannot create '{}': {e}", out.display())))?;
     let sc = scenario();
+    let mut stage = Stages::new(7);
     println!("umbral demo: {}", sc.name);
     println!(
         "  invented mass {:.2e} Msun, distance {} Mpc, inclination {} deg -> theta_g = {:.4} uas",
@@ -151,6 +150,7 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
     // 2. Shadows: the Kerr family and a charged spherical alternative.
     let observer = Observer::distant(sc.inclination_deg.to_radians());
     let settings = ShadowSettings::default();
+    stage.finish_stage("Kerr horizon");
     let kerr_family = family(
         sc.inclination_deg,
         "kerr",
@@ -180,34 +180,232 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         &curves(&rn_family, "q"),
     )?;
 
+    stage.finish_stage("shadows");
+
+    // 3. The measurement: the invented ring, pushed through the calibration chain.
+    let measurement_path = out.join("measurement.toml");
+    write(&measurement_path, MEASUREMENT)?;
+    let measurement = Measurement::from_toml_str(MEASUREMENT)
+        .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
+    let radii = measurement
+        .derive(None)
+        .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
+    stage.finish_stage("measurement chain");
+
+    // 4. Bounds: a spherical alternative, and a parametrized Kerr deviation with spin as
+    //    nuisance.
+    let rn_bound = demo_bound(
+        &radii,
+        &measurement,
+        "reissner-nordstrom",
+        ("q", 0.0, 1.2),
+        &[],
+        sc.inclination_deg,
+    )?;
+    stage.finish_stage("Reissner-Nordstrom bound");
+    let jo_bound = demo_bound(
+        &radii,
+        &measurement,
+        "johannsen",
+        ("alpha13", -2.0, 4.0),
+        &[("a", 0.0, 0.95)],
+        sc.inclination_deg,
+    )?;
+    stage.finish_stage("Johannsen bound");
+    let rn_plot = out.join("bound-reissner-nordstrom.svg");
+    super::plot_bounds::bound_plot(&rn_plot.to_string_lossy(), &rn_bound)?;
+    let jo_plot = out.join("bound-johannsen.svg");
+    super::plot_bounds::bound_plot(&jo_plot.to_string_lossy(), &jo_bound)?;
+
+    // 5. A 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself.
+    let scan_path = out.join("scan-kerr-newman.jsonl");
+    let map_path = out.join("exclusion-kerr-newman.svg");
+    let scan_args: Vec<std::ffi::OsString> = [
+        "umbral",
+        "scan",
+        "--metric",
+        "kerr-newman",
+        "--grid",
+        "a=0:0.98:15",
+        "--grid",
+        "q=0:1:15",
+        "--inclination",
+    ]
+    .iter()
+    .map(|s| s.into())
+    .chain([
+        sc.inclination_deg.to_string().into(),
+        "--measurement".into(),
+        measurement_path.clone().into_os_string(),
+        "--out".into(),
+        scan_path.clone().into_os_string(),
+        "--plot".into(),
+        map_path.clone().into_os_string(),
+    ])
+    .collect();
+    super::run(scan_args)?;
+    stage.finish_stage("exclusion map");
+
+    // 6. Regression checks: the example checks file a user would put in CI.
+    let checks_path = out.join("ci-checks.toml");
+    write(&checks_path, CHECKS)?;
+    let verify = run_checks_file(&checks_path).map_err(|e| CliError::usage(e.to_string()))?;
+    stage.finish_stage("regression checks");
+    stage.done();
+
     #[derive(Serialize)]
     struct DemoJson<'a> {
         scenario: &'a Scenario,
         kerr_family: &'a [ShadowReport],
         reissner_nordstrom_family: &'a [ShadowReport],
+        measured_radius: &'a DerivedRadii,
+        bounds: [&'a BoundResult; 2],
+        checks_passed: usize,
+        checks_failed: usize,
     }
     let json = serde_json::to_string_pretty(&DemoJson {
         scenario: &sc,
         kerr_family: &kerr_family,
         reissner_nordstrom_family: &rn_family,
+        measured_radius: &radii,
+        bounds: [&rn_bound, &jo_bound],
+        checks_passed: verify.passed(),
+        checks_failed: verify.failed(),
     })
     .expect("serialisable");
     let json_path = out.join("results.json");
     write(&json_path, &json)?;
 
-    let report = format!(
+    let report = report_text(
+        &sc,
+        &settings,
+        &kerr_family,
+        &rn_family,
+        &radii,
+        &[&rn_bound, &jo_bound],
+        &verify,
+    );
+    let report_path = out.join("report.md");
+    write(&report_path, &report)?;
+    println!("{}", table(&kerr_family, "a", sc.theta_g_uas));
+    for b in [&rn_bound, &jo_bound] {
+        println!("{}", bound_summary(b));
+    }
+    println!(
+        "regression checks: {} pass, {} fail",
+        verify.passed(),
+        verify.failed()
+    );
+    println!("wrote:");
+    for p in [
+        &kerr_svg,
+        &rn_svg,
+        &rn_plot,
+        &jo_plot,
+        &map_path,
+        &scan_path,
+        &measurement_path,
+        &checks_path,
+        &json_path,
+        &report_path,
+    ] {
+        println!("  {}", p.display());
+    }
+    if !verify.all_passed() {
+        return Err(CliError::usage(format!(
+            "demo: {} regression check(s) failed; see {}",
+            verify.failed(),
+            report_path.display()
+        )));
+    }
+    Ok(())
+}
+
+/// Bound one parameter of `metric` from the scenario's measurement.
+fn demo_bound(
+    radii: &DerivedRadii,
+    measurement: &Measurement,
+    metric: &str,
+    vary: (&str, f64, f64),
+    nuisance: &[(&str, f64, f64)],
+    inclination_deg: f64,
+) -> Result<BoundResult, CliError> {
+    let range = |(name, low, high): (&str, f64, f64)| ParameterRange {
+        name: name.to_string(),
+        low,
+        high,
+    };
+    bound(&BoundRequest {
+        metric: metric.into(),
+        vary: range(vary),
+        fixed: Vec::new(),
+        inclination: Inclination::Fixed {
+            degrees: inclination_deg,
+        },
+        nuisance: nuisance.iter().copied().map(range).collect(),
+        size_measure: SizeMeasure::Mean,
+        radii: radii.clone(),
+        circularity_max: measurement.circularity_max,
+        settings: BoundSettings::default(),
+    })
+    .map_err(|e| CliError::usage(format!("demo bound on {metric}: {e}")))
+}
+
+fn intervals(v: &[[f64; 2]]) -> String {
+    if v.is_empty() {
+        "none".into()
+    } else {
+        v.iter()
+            .map(|[a, b]| format!("[{a:.4}, {b:.4}]"))
+            .collect::<Vec<_>>()
+            .join(" U ")
+    }
+}
+
+fn bound_summary(b: &BoundResult) -> String {
+    let mut s = format!("bound on {} of {}:", b.vary.name, b.metric);
+    for l in &b.levels {
+        s.push_str(&format!(
+            " {:.0}%: {} (r_sh/M in [{:.4}, {:.4}]);",
+            100.0 * l.confidence,
+            intervals(&l.allowed),
+            l.radius_interval[0],
+            l.radius_interval[1]
+        ));
+    }
+    if !b.no_horizon.is_empty() {
+        s.push_str(&format!(" no horizon: {};", intervals(&b.no_horizon)));
+    }
+    if !b.failures.is_empty() {
+        s.push_str(&format!(
+            " solver failures in {} range(s);",
+            b.failures.len()
+        ));
+    }
+    s
+}
+
+fn report_text(
+    sc: &Scenario,
+    settings: &ShadowSettings,
+    kerr_family: &[ShadowReport],
+    rn_family: &[ShadowReport],
+    radii: &DerivedRadii,
+    bounds: &[&BoundResult],
+    verify: &VerifyReport,
+) -> String {
+    let mut r = format!(
         "# umbral demo: {name}\n\n\
-         The job: predict the shadow (critical curve) of a black-hole metric as a distant observer sees it, and reduce \
-         it to the numbers an image constrains. Everything here is set in an invented scenario: {note}.\n\n\
+         The job: predict the shadow (critical curve) of a black-hole metric as a distant observer sees it, reduce \
+         it to the numbers an image constrains, and turn a measured ring into allowed ranges of the metric's deviation \
+         parameters. Everything here is set in an invented scenario: {note}.\n\n\
          * mass {mass:.2e} Msun, distance {dist} Mpc, so theta_g = GM/(c^2 D) = {tg:.4} uas \
          (IAU 2015 nominal GM_sun, IAU 2012 astronomical unit);\n\
          * inclination {inc} deg, distant observer; observables about the area centroid; \
          curves with {points} points, boundary tolerance {tol:e} M.\n\n\
          ## Kerr family\n\n![Kerr shadows](kerr-family.svg)\n\n{kt}\n\
          General relativity predicts a diameter near 2*3*sqrt(3) M = {gr:.4} M for any spin, and a nearly circular curve.\n\n\
-         ## Reissner-Nordstrom family\n\n![Reissner-Nordstrom shadows](reissner-nordstrom-family.svg)\n\n{rt}\n\
-         ## Caution\n\nA measured ring constrains the shadow only through the ring-to-shadow calibration (from emission \
-         modelling) and the mass-to-distance prior, both from outside this tool: any bound is only as good as those.\n",
+         ## Reissner-Nordstrom family\n\n![Reissner-Nordstrom shadows](reissner-nordstrom-family.svg)\n\n{rt}\n",
         name = sc.name,
         note = sc.note,
         mass = sc.mass_msun,
@@ -216,16 +414,97 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         inc = sc.inclination_deg,
         points = settings.points,
         tol = settings.tolerance,
-        kt = table(&kerr_family, "a", sc.theta_g_uas),
-        rt = table(&rn_family, "q", sc.theta_g_uas),
+        kt = table(kerr_family, "a", sc.theta_g_uas),
+        rt = table(rn_family, "q", sc.theta_g_uas),
         gr = 6.0 * 3f64.sqrt(),
     );
-    let report_path = out.join("report.md");
-    write(&report_path, &report)?;
-    println!("{}", table(&kerr_family, "a", sc.theta_g_uas));
-    println!("wrote:");
-    for p in [&kerr_svg, &rn_svg, &json_path, &report_path] {
-        println!("  {}", p.display());
+    r.push_str("## The measurement\n\nThe invented ring (measurement.toml) gives these shadow-radius intervals:\n\n");
+    for iv in &radii.intervals {
+        r.push_str(&format!(
+            "* {:.0}%: r_sh/M in [{:.4}, {:.4}]\n",
+            100.0 * iv.confidence,
+            iv.low,
+            iv.high
+        ));
     }
-    Ok(())
+    r.push_str("\n## Bounds\n\n");
+    for (b, figure) in bounds
+        .iter()
+        .zip(["bound-reissner-nordstrom.svg", "bound-johannsen.svg"])
+    {
+        r.push_str(&format!(
+            "### {} of {}\n\n![bound]({figure})\n\n",
+            b.vary.name, b.metric
+        ));
+        for l in &b.levels {
+            r.push_str(&format!(
+                "* {:.0}%: allowed {}\n",
+                100.0 * l.confidence,
+                intervals(&l.allowed)
+            ));
+        }
+        if !b.no_horizon.is_empty() {
+            r.push_str(&format!(
+                "* no horizon (neither allowed nor excluded): {}\n",
+                intervals(&b.no_horizon)
+            ));
+        }
+        if !b.failures.is_empty() {
+            r.push_str(&format!(
+                "* solver failures (neither allowed nor excluded): {} range(s)\n",
+                b.failures.len()
+            ));
+        }
+        r.push_str("\nAssumptions:\n\n");
+        for a in &b.assumptions {
+            r.push_str(&format!("* {a}\n"));
+        }
+        r.push('\n');
+    }
+    r.push_str(
+        "## Exclusion map\n\nKerr-Newman over spin and charge (scan-kerr-newman.jsonl), allowed regions at each level:\n\n\
+         ![exclusion map](exclusion-kerr-newman.svg)\n\n",
+    );
+    r.push_str(&format!(
+        "## Regression checks\n\nci-checks.toml, the example a user copies into CI: {} pass, {} fail.\n\n```\n{}```\n\n",
+        verify.passed(),
+        verify.failed(),
+        verify.render_table()
+    ));
+    r.push_str(
+        "## Caution\n\nA measured ring constrains the shadow only through the ring-to-shadow calibration (from emission \
+         modelling) and the mass-to-distance prior, both from outside this tool: the bounds are only as good as those.\n",
+    );
+    r
+}
+
+/// Progress over the demo's stages on a terminal (indicatif), nothing otherwise.
+struct Stages {
+    bar: indicatif::ProgressBar,
+}
+
+impl Stages {
+    fn new(count: u64) -> Self {
+        use std::io::IsTerminal;
+        let bar = if std::io::stderr().is_terminal() {
+            let bar = indicatif::ProgressBar::new(count);
+            if let Ok(style) = indicatif::ProgressStyle::with_template("{bar:30} {pos}/{len} {msg}")
+            {
+                bar.set_style(style);
+            }
+            bar
+        } else {
+            indicatif::ProgressBar::hidden()
+        };
+        Stages { bar }
+    }
+
+    fn finish_stage(&mut self, name: &str) {
+        self.bar.set_message(format!("done: {name}"));
+        self.bar.inc(1);
+    }
+
+    fn done(&self) {
+        self.bar.finish_and_clear();
+    }
 }

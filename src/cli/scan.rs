@@ -19,9 +19,8 @@ enum SizeMeasureArg {
 
 #[derive(Debug, Args)]
 pub struct ScanArgs {
-    /// Metric name (see `umbral metrics`).
-    #[arg(long)]
-    metric: String,
+    #[command(flatten)]
+    metric: super::args::MetricChoice,
     /// Grid axis PARAM=LO:HI:N (once or twice).
     #[arg(long, value_name = "PARAM=LO:HI:N", allow_hyphen_values = true)]
     grid: Vec<String>,
@@ -112,7 +111,7 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
         })
         .transpose()?;
     let request = ScanRequest {
-        metric: args.metric.clone(),
+        metric: args.metric.resolve()?,
         axes,
         fixed: parse_assignments(&args.set)?,
         inclination_deg: parse_finite(&args.inclination, "--inclination")?,
@@ -137,7 +136,7 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
     bar.finish_and_clear();
     println!(
         "scan of {}: {} points in '{}' ({} computed, {} kept from an earlier run)",
-        request.metric,
+        request.metric.name(),
         summary.points.len(),
         args.out,
         summary.computed,
@@ -204,7 +203,7 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
             .collect();
         exclusion_map(
             path,
-            &format!("{}: allowed regions ({})", request.metric, m.label),
+            &format!("{}: allowed regions ({})", request.metric.name(), m.label),
             [
                 (ax.name.as_str(), ax.low, ax.high),
                 (ay.name.as_str(), ay.low, ay.high),

@@ -37,6 +37,65 @@ pub use tidal_charge::TidalCharge;
 
 use crate::error::MetricError;
 use crate::metric::{MetricInfo, Spacetime};
+use crate::metric_file::FileMetricSpec;
+use std::sync::Arc;
+
+/// Where a metric comes from: a built-in name, or a loaded declarative metric file.
+///
+/// ```
+/// use umbral::metrics::MetricSource;
+/// let source: MetricSource = "kerr".into();
+/// let m = source.build(&[("a".to_string(), 0.3)]).unwrap();
+/// assert_eq!(m.parameter_values(), vec![0.3]);
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub enum MetricSource {
+    /// A built-in metric by name (see [`builtin_metrics`]).
+    Builtin(String),
+    /// A metric file (see docs/metric-files.md).
+    File(Arc<FileMetricSpec>),
+}
+
+impl MetricSource {
+    /// The metric at these `name=value` assignments, defaults for the rest.
+    pub fn build(&self, assignments: &[(String, f64)]) -> Result<Box<dyn Spacetime>, MetricError> {
+        match self {
+            MetricSource::Builtin(name) => build_metric(name, assignments),
+            MetricSource::File(spec) => Ok(Box::new(spec.instantiate(assignments)?)),
+        }
+    }
+
+    /// The metric's name (a file's declared name).
+    pub fn name(&self) -> String {
+        match self {
+            MetricSource::Builtin(name) => name.clone(),
+            MetricSource::File(spec) => spec.info().name.clone(),
+        }
+    }
+
+    /// A label that tells built-in and file metrics apart: `kerr` or `file:PATH`.
+    pub fn label(&self) -> String {
+        match self {
+            MetricSource::Builtin(name) => name.clone(),
+            MetricSource::File(spec) => match spec.path() {
+                Some(path) => format!("file:{}", path.display()),
+                None => format!("file:{}", spec.info().name),
+            },
+        }
+    }
+}
+
+impl From<&str> for MetricSource {
+    fn from(name: &str) -> Self {
+        MetricSource::Builtin(name.to_string())
+    }
+}
+
+impl From<String> for MetricSource {
+    fn from(name: String) -> Self {
+        MetricSource::Builtin(name)
+    }
+}
 
 /// A constructor from parameter values in order.
 type Builder = fn(&[f64]) -> Result<Box<dyn Spacetime>, MetricError>;

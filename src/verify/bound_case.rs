@@ -204,7 +204,7 @@ impl BoundCase {
         Ok(BoundCase {
             name,
             request: BoundRequest {
-                metric: raw.metric.trim().to_string(),
+                metric: raw.metric.trim().into(),
                 vary,
                 fixed,
                 inclination,
