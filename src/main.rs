@@ -5,11 +5,22 @@ mod cli;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
+    restore_default_sigpipe();
     match cli::run(std::env::args_os()) {
         Ok(code) => code,
         Err(err) => {
             eprintln!("error: {err}");
             ExitCode::from(err.exit_code())
         }
+    }
+}
+
+/// Let a closed pipe (`umbral metrics | head`) end the process quietly, as command-line tools
+/// do, instead of a failed write panicking inside `println!`.
+fn restore_default_sigpipe() {
+    #[cfg(unix)]
+    // SAFETY: setting a signal's disposition to its default at start-up, before any thread.
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
 }

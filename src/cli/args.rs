@@ -154,3 +154,15 @@ pub fn parse_set_family(items: &[String]) -> Result<Vec<Vec<(String, f64)>>, Cli
             .collect(),
     })
 }
+
+/// `a = 0.9, q = 0.1`, or `no parameters`.
+pub fn parameter_summary(parameters: &std::collections::BTreeMap<String, f64>) -> String {
+    if parameters.is_empty() {
+        return "no parameters".to_string();
+    }
+    parameters
+        .iter()
+        .map(|(k, v)| format!("{k} = {v}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}

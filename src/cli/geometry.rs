@@ -118,19 +118,10 @@ pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
         );
         return Ok(());
     }
-    let params: Vec<String> = rep
-        .parameters
-        .iter()
-        .map(|(k, v)| format!("{k} = {v}"))
-        .collect();
     println!(
         "metric {} ({}) at r = {r} M, theta = {theta} rad",
         rep.metric,
-        if params.is_empty() {
-            "no parameters".to_string()
-        } else {
-            params.join(", ")
-        }
+        super::args::parameter_summary(&rep.parameters)
     );
     match rep.horizon_radius {
         Some(h) => println!("outer horizon: r = {h:.15} M"),

@@ -187,19 +187,10 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
 }
 
 fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
-    let params: Vec<String> = rep
-        .parameters
-        .iter()
-        .map(|(k, v)| format!("{k} = {v}"))
-        .collect();
     println!(
         "{} ({}), inclination {} deg, {} observer, solver {}",
         rep.metric,
-        if params.is_empty() {
-            "no parameters".into()
-        } else {
-            params.join(", ")
-        },
+        super::args::parameter_summary(&rep.parameters),
         rep.inclination_deg,
         match rep.observer_radius {
             Some(r) => format!("r_o = {r} M"),

@@ -324,7 +324,7 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     let expectations = raw
         .expect
         .into_iter()
-        .map(|e| expectation(e, super::quantity::QUANTITIES))
+        .map(|e| expectation(e, &super::quantity::QUANTITIES))
         .collect::<Result<Vec<_>, _>>()
         .map_err(label)?;
     if let Some(e) = expectations.iter().find(|e| e.confidence.is_some()) {
