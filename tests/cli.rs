@@ -215,6 +215,35 @@ fn shadow_json_has_the_documented_keys() {
     // Extremal Reissner–Nordström: b_c = 4 exactly (r_ph = 2; e.g. Perlick & Tsupko 2022).
     assert!((v["observables"]["mean_radius"].as_f64().unwrap() - 4.0).abs() < 1e-12);
     assert_eq!(v["curve"]["alpha"].as_array().unwrap().len(), 64);
+    // Extremal Reissner–Nordström photon ring: γ = π/√2 from Cardoso et al. 2009's formula with
+    // f = (1 − 1/r)², r_c = 2 (worked by hand: f″ = −1/8, λ = 1/(4√2), Ω = 1/4, so πλ/Ω = π/√2).
+    let gamma = v["exponents"]["gamma_min"].as_f64().unwrap();
+    assert!(
+        (gamma - std::f64::consts::PI / 2f64.sqrt()).abs() < 1e-10,
+        "{gamma}"
+    );
+    assert!(v.get("celestial").is_none());
+    // A static observer at r_o = 10: sin Θ = b_c √(A/C) (Synge 1966), here 4 · √(0.81)/10.
+    let out = umbral(&[
+        "shadow",
+        "--metric",
+        "reissner-nordstrom",
+        "--set",
+        "q=1",
+        "--inclination",
+        "45",
+        "--points",
+        "16",
+        "--observer-radius",
+        "10",
+        "--json",
+    ]);
+    let w: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let theta = w["celestial"]["theta"][0].as_f64().unwrap();
+    assert!(
+        (theta - (4.0f64 * 0.9 / 10.0).asin()).abs() < 1e-12,
+        "{theta}"
+    );
     for key in ["rays_traced", "failed_rays", "star_shaped", "wall_seconds"] {
         assert!(
             v["diagnostics"].get(key).is_some(),

@@ -9,7 +9,10 @@ use std::collections::BTreeMap;
 use std::io::Write;
 use umbral::metric::Spacetime;
 use umbral::observables::{CentreChoice, Observables};
-use umbral::shadow::{self, Diagnostics, Observer, ShadowSettings, ShadowStatus, SolverChoice};
+use umbral::shadow::{
+    self, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowSettings, ShadowStatus,
+    SolverChoice,
+};
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum SolverArg {
@@ -72,6 +75,14 @@ pub struct CurveJson {
     pub beta: Vec<f64>,
 }
 
+/// Celestial coordinates of the curve for an observer at finite radius: the angle Θ from
+/// the direction to the centre and the azimuth Ψ from +α towards +β, in radians.
+#[derive(Debug, Serialize)]
+pub struct CelestialJson {
+    pub theta: Vec<f64>,
+    pub psi: Vec<f64>,
+}
+
 /// One shadow, as printed in JSON.
 #[derive(Debug, Serialize)]
 pub struct ShadowReport {
@@ -84,7 +95,15 @@ pub struct ShadowReport {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub reason: Option<String>,
     pub observables: Option<Observables>,
+    /// Photon-ring exponents (Lyapunov exponent, demagnification γ per half orbit).
+    pub exponents: Option<RingExponents>,
+    /// Every photon sphere found (spherical solver).
+    pub photon_spheres: Vec<PhotonSphere>,
     pub curve: Option<CurveJson>,
+    /// For an observer at finite radius: the curve in celestial angles (screen coordinates
+    /// are √g_θθ(r_o, θ_o) sin Θ along the direction Ψ).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub celestial: Option<CelestialJson>,
     pub diagnostics: Diagnostics,
 }
 
@@ -133,6 +152,24 @@ pub fn shadow_report(
         status,
         reason,
         observables,
+        exponents: result.exponents.clone(),
+        photon_spheres: result.photon_spheres.clone(),
+        celestial: match (observer.radius, &curve) {
+            (Some(r_o), Some(c)) => {
+                let scale = metric
+                    .components_at(r_o, observer.inclination)
+                    .g_thth
+                    .sqrt();
+                let (theta, psi) = c
+                    .alpha
+                    .iter()
+                    .zip(&c.beta)
+                    .map(|(a, b)| ((a.hypot(*b) / scale).min(1.0).asin(), b.atan2(*a)))
+                    .unzip();
+                Some(CelestialJson { theta, psi })
+            }
+            _ => None,
+        },
         curve,
         diagnostics: result.diagnostics,
     })
@@ -246,6 +283,19 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
     );
     if let Some(h) = o.horizon_radius {
         row("horizon radius", h, "M", false);
+    }
+    if let Some(e) = &rep.exponents {
+        if let Some(l) = e.lyapunov {
+            row("Lyapunov exponent", l, "1/M", false);
+        }
+        if e.gamma_min == e.gamma_max {
+            row("ring exponent gamma", e.gamma_min, "", false);
+        } else {
+            println!(
+                "  {:<28}{:>20.12} .. {:.12}",
+                "ring exponent gamma", e.gamma_min, e.gamma_max
+            );
+        }
     }
     if let Some([lo, hi]) = o.photon_orbit_radii {
         println!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii");
