@@ -1,5 +1,5 @@
 //! Declarative metric files: each shipped file equals its built-in Rust twin, and a metric
-//! that exists only as a file (Bardeen) reproduces an independent mpmath computation.
+//! that exists only as a file (Ayon-Beato-Garcia) reproduces an independent mpmath computation.
 
 use proptest::prelude::*;
 use std::path::{Path, PathBuf};
@@ -609,45 +609,61 @@ fn stated_check_values_are_parsed_and_hold() {
     );
 }
 
-/// Reads tests/data/file_metric_reference.json (tests/generate_file_metric_reference.py,
-/// mpmath) into (g, horizon, photon sphere, b_c).
-fn bardeen_reference() -> Vec<[f64; 4]> {
+/// The mpmath table tests/data/file_metric_reference.json
+/// (tests/generate_file_metric_reference.py).
+struct FileMetricReference {
+    /// The charge at which the two horizons merge.
+    extremal_charge: f64,
+    /// (q, outer horizon, photon sphere, b_c) per charge.
+    entries: Vec<[f64; 4]>,
+}
+
+fn ayon_beato_garcia_reference() -> FileMetricReference {
     let text = std::fs::read_to_string(crate_path("tests/data/file_metric_reference.json"))
         .expect("the committed reference table");
     let json: serde_json::Value = serde_json::from_str(&text).unwrap();
-    json["entries"]
+    let number = |v: &serde_json::Value| v.as_str().unwrap().parse::<f64>().unwrap();
+    let entries = json["entries"]
         .as_array()
         .unwrap()
         .iter()
         .map(|e| {
-            let f = |k: &str| e[k].as_str().unwrap().parse::<f64>().unwrap();
             [
-                f("g"),
-                f("outer_horizon"),
-                f("photon_sphere_radius"),
-                f("critical_impact_parameter"),
+                number(&e["q"]),
+                number(&e["outer_horizon"]),
+                number(&e["photon_sphere_radius"]),
+                number(&e["critical_impact_parameter"]),
             ]
         })
-        .collect()
+        .collect();
+    FileMetricReference {
+        extremal_charge: number(&json["extremal_charge"]),
+        entries,
+    }
 }
 
-/// The Bardeen regular black hole exists only as tests/data/bardeen.toml. Its horizon (the
-/// default numerical finder), photon sphere and b_c = √(C/A) at the minimum of C/A (Synge
-/// 1966) match mpmath to 1e-12 (A = 1 − 2r²/(r² + g²)^{3/2}, Ayon-Beato & Garcia 2000,
-/// Phys. Lett. B 493, 149).
+/// The Ayon-Beato-Garcia regular black hole (Ayon-Beato & Garcia 1998, Phys. Rev. Lett. 80,
+/// 5056; A = 1/B = 1 − 2r²/(r² + q²)^{3/2} + q²r²/(r² + q²)², C = r², form from memory) is not
+/// built in: it exists only as tests/data/ayon-beato-garcia.toml. Its horizon (the default
+/// numerical finder), photon sphere and b_c = √(C/A) at the minimum of C/A (Synge 1966,
+/// Mon. Not. R. Astron. Soc. 131, 463) match mpmath to 1e-12.
 #[test]
-fn bardeen_file_metric_matches_mpmath() {
-    let spec = spec("tests/data/bardeen.toml");
+fn ayon_beato_garcia_file_metric_matches_mpmath() {
+    assert!(
+        build_metric("ayon-beato-garcia", &[]).is_err(),
+        "the file-only test metric must not be built in"
+    );
+    let spec = spec("tests/data/ayon-beato-garcia.toml");
     assert!(!spec.has_closed_form_horizon());
-    let reference = bardeen_reference();
-    assert_eq!(reference.len(), 2);
-    for [g, horizon, photon, b_c] in reference {
-        let m = spec.instantiate(&[("g".to_string(), g)]).unwrap();
+    let reference = ayon_beato_garcia_reference();
+    assert_eq!(reference.entries.len(), 2);
+    for [q, horizon, photon, b_c] in reference.entries {
+        let m = spec.instantiate(&[("q".to_string(), q)]).unwrap();
         assert_eq!(m.symmetry(), Symmetry::Spherical);
         let h = m.outer_horizon().unwrap();
         assert!(
             (h - horizon).abs() < 1e-12 * horizon,
-            "g={g}: {h} vs {horizon}"
+            "q={q}: {h} vs {horizon}"
         );
         // (C/A)' = (C'A − CA')/A² from the file metric's exact jet.
         let slope = |r: f64| {
@@ -657,11 +673,11 @@ fn bardeen_file_metric_matches_mpmath() {
         let r_ph = brent_root(slope, h + 0.05, 6.0, 0.0).unwrap();
         assert!(
             (r_ph - photon).abs() < 1e-12 * photon,
-            "g={g}: {r_ph} vs {photon}"
+            "q={q}: {r_ph} vs {photon}"
         );
         let j = m.spherical_jet(r_ph).unwrap();
         let b = (j.c[0] / j.a[0]).sqrt();
-        assert!((b - b_c).abs() < 1e-12 * b_c, "g={g}: {b} vs {b_c}");
+        assert!((b - b_c).abs() < 1e-12 * b_c, "q={q}: {b} vs {b_c}");
         // The spherical shadow solver on the file metric: the same photon sphere and b_c.
         let result =
             spherical::solve(&m, &Observer::distant(0.3), &ShadowSettings::default()).unwrap();
@@ -673,15 +689,25 @@ fn bardeen_file_metric_matches_mpmath() {
             .unwrap();
         assert!((capture.radius - photon).abs() < 1e-12 * photon);
     }
+    // Either side of the extremal charge (mpmath, same script): a horizon, then none.
+    let q_ext = reference.extremal_charge;
+    let below = spec
+        .instantiate(&[("q".to_string(), q_ext - 1e-3)])
+        .unwrap();
+    assert!(below.outer_horizon().is_some(), "q = {}", q_ext - 1e-3);
+    let above = spec
+        .instantiate(&[("q".to_string(), q_ext + 1e-3)])
+        .unwrap();
+    assert!(above.outer_horizon().is_none(), "q = {}", q_ext + 1e-3);
 }
 
 #[test]
 fn parameters_are_checked_against_the_file_domains() {
-    let spec = spec("tests/data/bardeen.toml");
-    let err = spec.instantiate(&[("g".to_string(), 0.9)]).unwrap_err();
+    let spec = spec("tests/data/ayon-beato-garcia.toml");
+    let err = spec.instantiate(&[("q".to_string(), -0.1)]).unwrap_err();
     assert_eq!(
         err.to_string(),
-        "parameter 'g' = 0.9 is outside its domain [0, 0.7698]"
+        "parameter 'q' = -0.1 is outside its domain [0, inf)"
     );
     let err = spec
         .instantiate(&[("charge".to_string(), 0.1)])
