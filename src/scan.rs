@@ -151,6 +151,9 @@ fn header(request: &ScanRequest) -> Header {
     }
 }
 
+/// Most grid points a scan may have.
+pub const MAX_SCAN_POINTS: usize = 1_000_000;
+
 fn validate(request: &ScanRequest) -> Result<(), ScanError> {
     if request.axes.is_empty() || request.axes.len() > 2 {
         return Err(ScanError::BadRequest("give one or two grid axes".into()));
@@ -162,6 +165,12 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
                 a.name, a.low, a.high, a.count
             )));
         }
+    }
+    let total: f64 = request.axes.iter().map(|a| a.count as f64).product();
+    if total > MAX_SCAN_POINTS as f64 {
+        return Err(ScanError::BadRequest(format!(
+            "the grid has {total} points; at most {MAX_SCAN_POINTS} are allowed"
+        )));
     }
     if request.axes.len() == 2 && request.axes[0].name == request.axes[1].name {
         return Err(ScanError::BadRequest(

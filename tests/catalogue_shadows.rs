@@ -51,7 +51,7 @@ fn separable_catalogue_curves_match_the_ray_tracer() {
                     "johannsen",
                     vec![("a", a), ("alpha13", 0.5), ("alpha22", 0.3)],
                 ),
-                ("kerr-sen", vec![("a", a * 0.9), ("b", 0.05)]),
+                ("kerr-sen", vec![("a", a), ("b", 0.05)]),
                 ("rotating-bardeen", vec![("a", a), ("g", 0.1)]),
                 ("rotating-hayward", vec![("a", a), ("l", 0.2)]),
             ]

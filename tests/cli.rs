@@ -510,3 +510,78 @@ fn metric_choice_errors() {
     assert!(out.stdout.is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+#[test]
+fn sizes_and_paths_are_checked_before_work() {
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--points",
+            "100000000000",
+        ],
+        "--points must lie between 8 and",
+    );
+    assert_one_line_error(
+        &[
+            "scan",
+            "--metric",
+            "kerr",
+            "--grid",
+            "a=0:0.99:99999999999",
+            "--grid",
+            "q=0:1:99999999999",
+            "--inclination",
+            "30",
+            "--out",
+            "/tmp/never.jsonl",
+        ],
+        "at most",
+    );
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--mass-distance-uas",
+            "-5",
+        ],
+        "must be positive",
+    );
+    assert_one_line_error(&["demo", "--out", ""], "empty");
+    // A metric file whose closed-form horizon is not a zero of g^rr is refused.
+    let dir = std::env::temp_dir().join(format!("umbral-hz-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("bad-horizon.toml");
+    let text = std::fs::read_to_string(concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/metrics/schwarzschild.toml"
+    ))
+    .unwrap();
+    let text = match text.find("horizon = ") {
+        Some(i) => {
+            let end = i + text[i..].find('\n').unwrap();
+            format!("{}horizon = \"-1\"{}", &text[..i], &text[end..])
+        }
+        None => text.replacen("symmetry", "horizon = \"-1\"\nsymmetry", 1),
+    };
+    std::fs::write(&path, text).unwrap();
+    assert_one_line_error(
+        &[
+            "geometry",
+            "--metric-file",
+            path.to_str().unwrap(),
+            "--r",
+            "6",
+            "--theta",
+            "1",
+        ],
+        "horizon expression gives r = -1",
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -175,3 +175,34 @@ fn example_measurement_files_parse() {
         assert_eq!(m.derive(None).unwrap().intervals.len(), 2, "{f}");
     }
 }
+
+#[test]
+fn derived_intervals_must_be_finite_and_nested() {
+    // Intervals that do not nest (the 0.95 one inside the 0.68 one) are refused.
+    let text = r#"
+label = "non-nested"
+[size.shadow_radius]
+intervals = [ { confidence = 0.68, low = 4.6, high = 5.2 }, { confidence = 0.95, low = 4.8, high = 5.0 } ]
+"#;
+    let err = Measurement::from_toml_str(text)
+        .unwrap()
+        .derive(None)
+        .unwrap_err();
+    assert!(err.to_string().contains("does not contain"), "{err}");
+    // A ring whose numbers overflow gives no interval, not [inf, inf].
+    let text = r#"
+label = "overflow"
+[size.ring]
+diameter_uas = { value = 1e308, sigma = 1.0 }
+ring_to_shadow = { value = 1e-308, sigma = 0.0 }
+theta_g_uas = { value = 1.0, sigma = 0.0 }
+"#;
+    let err = Measurement::from_toml_str(text)
+        .unwrap()
+        .derive(None)
+        .unwrap_err();
+    assert!(
+        err.to_string().contains("not a finite positive interval"),
+        "{err}"
+    );
+}

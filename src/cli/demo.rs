@@ -124,6 +124,11 @@ fn table(reports: &[ShadowReport], parameter: &str, theta_g: f64) -> String {
 }
 
 pub fn run(args: &DemoArgs) -> Result<(), CliError> {
+    if args.out.trim().is_empty() {
+        return Err(CliError::usage(
+            "--out must name a folder, got an empty string",
+        ));
+    }
     let out = PathBuf::from(&args.out);
     std::fs::create_dir_all(&out)
         .map_err(|e| CliError::usage(format!("cannot create '{}': {e}", out.display())))?;

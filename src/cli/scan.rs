@@ -117,7 +117,10 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
         inclination_deg: parse_finite(&args.inclination, "--inclination")?,
         settings: ShadowSettings::default(),
     };
-    let total: u64 = request.axes.iter().map(|a| a.count as u64).product();
+    let total: u64 = request
+        .axes
+        .iter()
+        .fold(1u64, |p, a| p.saturating_mul(a.count as u64));
     let bar = if std::io::stderr().is_terminal() {
         let bar = indicatif::ProgressBar::new(total);
         if let Ok(style) = indicatif::ProgressStyle::with_template(

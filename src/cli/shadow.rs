@@ -200,9 +200,10 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
             "--tolerance must be positive, got {tolerance}"
         )));
     }
-    if args.points < 8 {
+    if !(8..=shadow::MAX_POINTS).contains(&args.points) {
         return Err(CliError::usage(format!(
-            "--points must be at least 8, got {}",
+            "--points must lie between 8 and {}, got {}",
+            shadow::MAX_POINTS,
             args.points
         )));
     }
@@ -319,7 +320,15 @@ fn write_csv(path: &str, reports: &[ShadowReport]) -> Result<(), CliError> {
 pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
     let (inclination_deg, observer, settings) = settings_from(args)?;
     let theta_g = match &args.mass_distance_uas {
-        Some(t) => Some(parse_finite(t, "--mass-distance-uas")?),
+        Some(t) => {
+            let theta_g = parse_finite(t, "--mass-distance-uas")?;
+            if theta_g <= 0.0 {
+                return Err(CliError::usage(format!(
+                    "--mass-distance-uas must be positive, got {theta_g}"
+                )));
+            }
+            Some(theta_g)
+        }
         None => None,
     };
     let centre = match args.centre {

@@ -289,7 +289,46 @@ impl Measurement {
 
     /// The r_sh/M intervals at `levels` (default: the file's levels for the shadow-radius
     /// form, [`DEFAULT_LEVELS`] otherwise).
+    ///
+    /// Every derived interval must be finite with 0 < low ≤ high (the ring chain's linear
+    /// cross-check too), and intervals at higher confidence must contain those at lower
+    /// confidence; anything else is an error, not a bound.
     pub fn derive(&self, levels: Option<&[f64]>) -> Result<DerivedRadii, MeasurementError> {
+        let derived = self.derive_intervals(levels)?;
+        let linear = derived
+            .ring
+            .iter()
+            .flat_map(|r| r.linear.iter().chain(&r.monte_carlo));
+        for iv in derived.intervals.iter().chain(linear) {
+            if !(iv.low.is_finite() && iv.high.is_finite() && iv.low > 0.0 && iv.low <= iv.high) {
+                return Err(MeasurementError::Invalid(format!(
+                    "the derived r_sh/M interval at confidence {} is [{}, {}]: not a finite \
+                     positive interval (check the measurement's values and errors)",
+                    iv.confidence, iv.low, iv.high
+                )));
+            }
+        }
+        let mut by_level: Vec<&RadiusInterval> = derived.intervals.iter().collect();
+        by_level.sort_by(|a, b| a.confidence.total_cmp(&b.confidence));
+        for pair in by_level.windows(2) {
+            let (inner, outer) = (pair[0], pair[1]);
+            if outer.low > inner.low || outer.high < inner.high {
+                return Err(MeasurementError::Invalid(format!(
+                    "the r_sh/M interval at confidence {} [{}, {}] does not contain the one at \
+                     confidence {} [{}, {}]",
+                    outer.confidence,
+                    outer.low,
+                    outer.high,
+                    inner.confidence,
+                    inner.low,
+                    inner.high
+                )));
+            }
+        }
+        Ok(derived)
+    }
+
+    fn derive_intervals(&self, levels: Option<&[f64]>) -> Result<DerivedRadii, MeasurementError> {
         if let Some(ls) = levels {
             if ls.is_empty() {
                 return Err(MeasurementError::Invalid(

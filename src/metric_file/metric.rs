@@ -98,7 +98,22 @@ impl FileMetricSpec {
     /// [`MetricInfo::resolve`] (names, repeats, finiteness, domains).
     pub fn instantiate(&self, assignments: &[(String, f64)]) -> Result<FileMetric, MetricError> {
         let values = self.info.resolve(assignments)?;
-        Ok(self.build(values))
+        let metric = self.build(values);
+        if let (HorizonRule::ClosedForm(_), Some(r)) = (&self.horizon, metric.horizon) {
+            // A closed-form horizon must be a positive radius where g^rr vanishes (checked
+            // on the equator, where the default finder looks too).
+            let g_rr_inverse = 1.0 / metric.components(r, std::f64::consts::FRAC_PI_2).g_rr;
+            if !(r > 0.0 && g_rr_inverse.is_finite() && g_rr_inverse.abs() <= 1e-8) {
+                return Err(MetricError::BadPoint {
+                    what: format!(
+                        "metric file '{}': its horizon expression gives r = {r}, where g^rr = \
+                         {g_rr_inverse:e} instead of 0",
+                        self.info.name
+                    ),
+                });
+            }
+        }
+        Ok(metric)
     }
 
     /// The metric at the defaults.

@@ -65,7 +65,8 @@ impl Metric for KerrSen {
         vec![self.a, self.b]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        if self.b > 1.0 {
+        // b ≥ 1: the formula gives r₊ ≤ 0, on or inside the singular surface r(r + 2b) = 0.
+        if self.b >= 1.0 {
             return None;
         }
         super::horizon_root((1.0 - self.b).powi(2), self.a * self.a).map(|s| 1.0 - self.b + s)

@@ -22,6 +22,9 @@ pub use observer::Observer;
 use crate::metric::{Spacetime, Symmetry};
 use serde::Serialize;
 
+/// Most curve points a request may ask for (about 8 MB of radii per curve).
+pub const MAX_POINTS: usize = 1 << 20;
+
 /// Which solver to use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -195,9 +198,11 @@ pub fn solve(
             )));
         }
     }
-    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0) || settings.points < 8 {
+    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0)
+        || !(8..=MAX_POINTS).contains(&settings.points)
+    {
         return Err(ShadowError::BadRequest(format!(
-            "need tolerance > 0 and at least 8 points, got tolerance {} and {} points",
+            "need tolerance > 0 and between 8 and {MAX_POINTS} points, got tolerance {} and {} points",
             settings.tolerance, settings.points
         )));
     }

@@ -299,8 +299,11 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     };
     let defaults = ShadowSettings::default();
     let points = raw.points.unwrap_or(defaults.points);
-    if points < 8 {
-        return Err(label(format!("points must be at least 8, got {points}")));
+    if !(8..=crate::shadow::MAX_POINTS).contains(&points) {
+        return Err(label(format!(
+            "points must lie between 8 and {}, got {points}",
+            crate::shadow::MAX_POINTS
+        )));
     }
     let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
     if !(tolerance.is_finite() && tolerance > 0.0) {
