@@ -198,9 +198,9 @@ pub fn solve(
             )));
         }
     }
-    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0)
-        || !(8..=MAX_POINTS).contains(&settings.points)
-    {
+    let tolerance_ok = settings.tolerance.is_finite() && settings.tolerance > 0.0;
+    let points_ok = (8..=MAX_POINTS).contains(&settings.points);
+    if !(tolerance_ok && points_ok) {
         return Err(ShadowError::BadRequest(format!(
             "need tolerance > 0 and between 8 and {MAX_POINTS} points, got tolerance {} and {} points",
             settings.tolerance, settings.points
