@@ -116,6 +116,25 @@ fn simpson_visser_keeps_the_schwarzschild_shadow() {
     }
 }
 
+/// Simpson–Visser wormholes with l ≥ 3: C/A = ρ³/(ρ − 2), ρ = √(r² + l²), is smallest at the
+/// throat r = 0, so b_c = √(l³/(l − 2)) (from the line element of Simpson & Visser 2019).
+#[test]
+fn simpson_visser_wormholes_have_their_photon_sphere_at_the_throat() {
+    // (At l = 3 exactly the throat is a degenerate minimum, λ = 0: no photon-ring exponent.)
+    for l in [3.2, 3.5, 5.0] {
+        let c = curve(
+            build("simpson-visser", &[("l", l)]).as_ref(),
+            40.0,
+            SolverChoice::Auto,
+            16,
+        );
+        let b_c = (l * l * l / (l - 2.0)).sqrt();
+        for r in &c.radii {
+            assert!((r - b_c).abs() < 1e-12 * b_c, "l = {l}: {r} vs {b_c}");
+        }
+    }
+}
+
 /// KRZ with every δ zero is Kerr (Konoplya, Rezzolla & Zhidenko 2016): the ray-traced curve
 /// equals Kerr's separable one (Bardeen 1973).
 #[test]

@@ -92,9 +92,10 @@ pub fn spherical_lyapunov_frequency(
     spacetime: &dyn Spacetime,
     r_c: f64,
 ) -> Result<(f64, f64), ShadowError> {
-    if !(r_c.is_finite() && r_c > 0.0) {
+    // r_c = 0 is allowed: the regular throat of a wormhole even in r (see spherical.rs).
+    if !(r_c.is_finite() && r_c >= 0.0) {
         return Err(ShadowError::BadRequest(format!(
-            "photon-orbit radius must be a positive finite number, got {r_c}"
+            "photon-orbit radius must be a non-negative finite number, got {r_c}"
         )));
     }
     let jet = spacetime.spherical_jet(r_c).ok_or_else(|| {
@@ -114,7 +115,7 @@ pub fn spherical_lyapunov_frequency(
         )));
     }
     let log_slope = c1 / c - a1 / a; // (ln C/A)′
-    if (log_slope * r_c).abs() > CIRCULAR_TOLERANCE {
+    if (log_slope * r_c.max(c.sqrt())).abs() > CIRCULAR_TOLERANCE {
         return Err(ShadowError::BadRequest(format!(
             "r = {r_c} is not a circular photon orbit: r (ln C/A)' = {:e}",
             log_slope * r_c

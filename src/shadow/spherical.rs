@@ -152,6 +152,20 @@ pub fn photon_sphere_analysis(
         g_prev = g;
     }
     let (inner_boundary, boundary_value, boundary_slope) = boundary;
+    // A regular throat at r = 0 of a metric even in r (a wormhole such as Simpson–Visser with
+    // l > 2): (C/A)′(0) = 0 exactly, so when C/A still falls towards it the throat is the
+    // minimum of C/A, and rays that pass it go through to the other side and do not return.
+    if horizon.is_none() && inner_boundary == r_stop && boundary_slope > 0.0 {
+        if let Some((throat_value, throat_slope)) = potential(spacetime, 0.0) {
+            if throat_slope == 0.0 && throat_value < boundary_value {
+                spheres.push(PhotonSphere {
+                    radius: 0.0,
+                    impact_parameter: throat_value.sqrt(),
+                    unstable: true,
+                });
+            }
+        }
+    }
     let lowest = spheres
         .iter()
         .filter(|s| s.unstable)
