@@ -186,6 +186,9 @@ pub struct BoundResult {
     pub no_shadow: Vec<[f64; 2]>,
     /// Ranges where the solver failed (neither allowed nor excluded).
     pub failures: Vec<Failure>,
+    /// Values of the varied parameter where a solver failure stopped the nuisance refinement:
+    /// the size extremes there (and bound ends near them) are less precise.
+    pub refinement_cut: Vec<f64>,
     pub assumptions: Vec<String>,
     /// Every evaluated node, in increasing order of the varied parameter.
     pub predicted: Vec<PredictedPoint>,
@@ -796,6 +799,7 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
         no_horizon: runs(1),
         no_shadow: runs(2),
         failures,
+        refinement_cut: cut.iter().map(|(x, _)| *x).collect(),
         assumptions,
         predicted,
     })

@@ -190,6 +190,14 @@ pub fn run(args: &BoundArgs) -> Result<(), CliError> {
     }
     println!("  no horizon: {}", ranges(&result.no_horizon));
     println!("  no shadow:  {}", ranges(&result.no_shadow));
+    if !result.refinement_cut.is_empty() {
+        println!(
+            "  less precise: at {} value(s) of {} (first {}) a solver failure stopped the nuisance refinement; bound ends near them are less precise",
+            result.refinement_cut.len(),
+            result.vary.name,
+            result.refinement_cut[0]
+        );
+    }
     if result.failures.is_empty() {
         println!("  solver failures: none");
     } else {

@@ -460,6 +460,12 @@ fn report_text(
                 b.failures.len()
             ));
         }
+        if !b.refinement_cut.is_empty() {
+            r.push_str(&format!(
+                "* less precise near {} value(s) where a solver failure stopped the nuisance refinement\n",
+                b.refinement_cut.len()
+            ));
+        }
         r.push_str("\nAssumptions:\n\n");
         for a in &b.assumptions {
             r.push_str(&format!("* {a}\n"));
