@@ -166,3 +166,14 @@ pub fn parameter_summary(parameters: &std::collections::BTreeMap<String, f64>) -
         .collect::<Vec<_>>()
         .join(", ")
 }
+
+/// A figure path must end in `.svg` (the only format written).
+pub fn check_svg_path(path: &str) -> Result<(), CliError> {
+    if path.to_ascii_lowercase().ends_with(".svg") {
+        Ok(())
+    } else {
+        Err(CliError::usage(format!(
+            "--plot writes SVG: give a file name ending in .svg, got '{path}'"
+        )))
+    }
+}

@@ -120,9 +120,15 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
             }
         }
         (None, None) => {
-            return Err(CliError::usage(
-                "give --inclination DEG or --inclination-range LO:HI",
-            ))
+            // Only a spherically symmetric metric may leave the inclination out: its shadow
+            // does not depend on it (the assumptions say so).
+            let probe = args.metric.resolve()?.build(&fixed)?;
+            if probe.symmetry() != umbral::metric::Symmetry::Spherical {
+                return Err(CliError::usage(
+                    "give --inclination DEG or --inclination-range LO:HI (the metric is not spherically symmetric)",
+                ));
+            }
+            Inclination::Fixed { degrees: 90.0 }
         }
         (Some(_), Some(_)) => {
             return Err(CliError::usage(
@@ -164,6 +170,9 @@ fn ranges(r: &[[f64; 2]]) -> String {
 }
 
 pub fn run(args: &BoundArgs) -> Result<(), CliError> {
+    if let Some(path) = &args.plot {
+        super::args::check_svg_path(path)?;
+    }
     let request = request_from(args)?;
     let result = bound(&request).map_err(|e| CliError::usage(e.to_string()))?;
     if let Some(path) = &args.plot {

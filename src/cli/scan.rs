@@ -84,6 +84,9 @@ fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
 }
 
 pub fn run(args: &ScanArgs) -> Result<(), CliError> {
+    if let Some(path) = &args.plot {
+        super::args::check_svg_path(path)?;
+    }
     let axes = args
         .grid
         .iter()

@@ -318,6 +318,9 @@ fn write_csv(path: &str, reports: &[ShadowReport]) -> Result<(), CliError> {
 }
 
 pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
+    if let Some(path) = &args.plot {
+        super::args::check_svg_path(path)?;
+    }
     let (inclination_deg, observer, settings) = settings_from(args)?;
     let theta_g = match &args.mass_distance_uas {
         Some(t) => {
