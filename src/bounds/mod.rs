@@ -194,6 +194,40 @@ pub struct BoundResult {
     pub predicted: Vec<PredictedPoint>,
 }
 
+impl BoundResult {
+    /// What an end `x` of an allowed range stands on, when it is not a crossing of the measured
+    /// interval: `range edge` (the end of the varied range: the bound may go further),
+    /// `horizon edge` or `no-shadow edge` (where the black hole or its shadow stops existing).
+    pub fn end_kind(&self, x: f64) -> Option<&'static str> {
+        let near = |y: f64| (x - y).abs() <= 1e-6 * (1.0 + y.abs());
+        if near(self.vary.low) || near(self.vary.high) {
+            Some("range edge")
+        } else if self.no_horizon.iter().flatten().any(|&y| near(y)) {
+            Some("horizon edge")
+        } else if self.no_shadow.iter().flatten().any(|&y| near(y)) {
+            Some("no-shadow edge")
+        } else {
+            None
+        }
+    }
+
+    /// The allowed ranges at one level as text, each end marked with [`Self::end_kind`].
+    pub fn describe_allowed(&self, allowed: &[[f64; 2]], digits: usize) -> String {
+        if allowed.is_empty() {
+            return "none".into();
+        }
+        let end = |x: f64| match self.end_kind(x) {
+            Some(kind) => format!("{x:.digits$} ({kind})"),
+            None => format!("{x:.digits$}"),
+        };
+        allowed
+            .iter()
+            .map(|[a, b]| format!("[{}, {}]", end(*a), end(*b)))
+            .collect::<Vec<_>>()
+            .join(" U ")
+    }
+}
+
 /// Why a bound could not be computed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum BoundError {

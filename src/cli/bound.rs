@@ -194,7 +194,7 @@ pub fn run(args: &BoundArgs) -> Result<(), CliError> {
             l.confidence,
             l.radius_interval[0],
             l.radius_interval[1],
-            ranges(&l.allowed)
+            result.describe_allowed(&l.allowed, 9)
         );
     }
     println!("  no horizon: {}", ranges(&result.no_horizon));

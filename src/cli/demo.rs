@@ -373,7 +373,7 @@ fn bound_summary(b: &BoundResult) -> String {
         s.push_str(&format!(
             " {:.0}%: {} (r_sh/M in [{:.4}, {:.4}]);",
             100.0 * l.confidence,
-            intervals(&l.allowed),
+            b.describe_allowed(&l.allowed, 4),
             l.radius_interval[0],
             l.radius_interval[1]
         ));
@@ -445,7 +445,7 @@ fn report_text(
             r.push_str(&format!(
                 "* {:.0}%: allowed {}\n",
                 100.0 * l.confidence,
-                intervals(&l.allowed)
+                b.describe_allowed(&l.allowed, 4)
             ));
         }
         if !b.no_horizon.is_empty() {
