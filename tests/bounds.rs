@@ -444,3 +444,32 @@ fn cli_bound_from_a_ring_prints_the_chain() {
         "{out}"
     );
 }
+
+/// Ends of allowed ranges that are not crossings of the measured interval are labelled: the
+/// varied range's own edge, and the horizon edge of Reissner–Nordström at |q| = 1 (r± merge,
+/// Reissner 1916; Nordström 1918), where b_c = 4 lies inside a wide interval.
+#[test]
+fn allowed_range_ends_say_what_they_stand_on() {
+    let result = bound(&request(
+        "reissner-nordstrom",
+        ("q", 0.0, 1.2),
+        &[(0.95, 3.5, 6.0)],
+    ))
+    .unwrap();
+    let allowed = &result.levels[0].allowed;
+    assert_eq!(allowed.len(), 1);
+    assert_eq!(result.end_kind(allowed[0][0]), Some("range edge"));
+    assert_eq!(result.end_kind(allowed[0][1]), Some("horizon edge"));
+    // A crossing of the measured interval is not labelled.
+    let result = bound(&request(
+        "reissner-nordstrom",
+        ("q", 0.0, 1.2),
+        &[(0.68, 4.6, 5.2)],
+    ))
+    .unwrap();
+    let end = result.levels[0].allowed[0][1];
+    assert_eq!(result.end_kind(end), None, "{end}");
+    assert!(result
+        .describe_allowed(&result.levels[0].allowed, 4)
+        .contains("(range edge)"));
+}
