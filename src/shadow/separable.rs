@@ -651,8 +651,12 @@ impl<'a> Problem<'a> {
             .find(|&i| values[i] < 0.0 && grid[i] < r_peak);
         let right = (i_max..grid.len()).find(|&i| values[i] < 0.0 && grid[i] > r_peak);
         let (Some(left), Some(right)) = (left, right) else {
-            return Ok(no_shadow(format!(
-                "the admissible photon orbits reach the edge of the scanned range [{}, {}]: the critical curve does not close",
+            // Not a physical "no shadow": at extremal spin the prograde photon orbits reach
+            // the horizon and the curve gains a straight segment this solver does not follow.
+            return Err(not_converged(format!(
+                "the admissible photon orbits reach the edge of the scanned range [{}, {}] \
+                 (e.g. at extremal spin, where they touch the horizon): not supported by the \
+                 separable solver; try --solver raytrace or a spin just below extremal",
                 grid[0],
                 grid[grid.len() - 1]
             )));
