@@ -273,7 +273,11 @@ fn polar_mino_half_period(
         grid[j_peak.saturating_sub(1)],
     );
     let u_peak = if lo < hi && slope(lo) * slope(hi) < 0.0 {
-        brent_root(slope, lo, hi, 0.0).unwrap_or(grid[j_peak])
+        brent_root(slope, lo, hi, 0.0).map_err(|e| {
+            ShadowError::NotConverged(format!(
+                "the peak of the polar potential for lambda = {lambda}, eta = {eta}: {e}"
+            ))
+        })?
     } else {
         grid[j_peak]
     };
