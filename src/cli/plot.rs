@@ -19,7 +19,7 @@ const PALETTE: [RGBColor; 6] = [
     RGBColor(0, 131, 143),
 ];
 
-fn plot_error(path: &str, e: impl std::fmt::Display) -> CliError {
+pub fn plot_error(path: &str, e: impl std::fmt::Display) -> CliError {
     CliError::usage(format!("cannot write plot '{path}': {e}"))
 }
 
@@ -77,6 +77,15 @@ pub fn screen_curves(path: &str, title: &str, curves: &[ScreenCurve]) -> Result<
                 PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
             });
     }
+    finish(&mut chart, &root, path)
+}
+
+/// Draw the legend in the upper right corner and write the file.
+pub fn finish<'a, X: Ranged, Y: Ranged>(
+    chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
+    root: &DrawingArea<SVGBackend<'a>, plotters::coord::Shift>,
+    path: &str,
+) -> Result<(), CliError> {
     chart
         .configure_series_labels()
         .background_style(WHITE.mix(0.85))

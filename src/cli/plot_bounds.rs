@@ -1,5 +1,6 @@
 //! SVG figures of bounds: predicted size against the varied parameter, and exclusion maps.
 
+use super::plot::{finish, plot_error};
 use super::CliError;
 use plotters::prelude::*;
 use umbral::bounds::BoundResult;
@@ -11,10 +12,6 @@ const LEVEL_COLOURS: [RGBColor; 4] = [
     RGBColor(123, 31, 162),
     RGBColor(0, 131, 143),
 ];
-
-fn plot_error(path: &str, e: impl std::fmt::Display) -> CliError {
-    CliError::usage(format!("cannot write plot '{path}': {e}"))
-}
 
 /// Predicted r_sh/M (band over the nuisance box) against the varied parameter, the measured
 /// intervals as shaded horizontal bands and the allowed ranges as bars along the bottom.
@@ -144,15 +141,7 @@ pub fn bound_plot(path: &str, result: &BoundResult) -> Result<(), CliError> {
             )))
             .map_err(|e| plot_error(path, e))?;
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()
-        .map_err(|e| plot_error(path, e))?;
-    root.present().map_err(|e| plot_error(path, e))?;
-    Ok(())
+    finish(&mut chart, &root, path)
 }
 
 /// One level of an exclusion map: the allowed region as polygons in parameter space.
@@ -257,13 +246,5 @@ pub fn exclusion_map(
             .label("no horizon")
             .legend(|(x, y)| Circle::new((x + 9, y), 3, BLACK.mix(0.35).filled()));
     }
-    chart
-        .configure_series_labels()
-        .background_style(WHITE.mix(0.85))
-        .border_style(BLACK)
-        .position(SeriesLabelPosition::UpperRight)
-        .draw()
-        .map_err(|e| plot_error(path, e))?;
-    root.present().map_err(|e| plot_error(path, e))?;
-    Ok(())
+    finish(&mut chart, &root, path)
 }
