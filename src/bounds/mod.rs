@@ -85,10 +85,14 @@ pub enum Inclination {
     Range { low_degrees: f64, high_degrees: f64 },
 }
 
+/// Largest starting grid over the varied range (each node is a full nuisance search; the
+/// default is 21).
+pub const MAX_INITIAL_GRID: usize = 1000;
+
 /// Numerical settings of a bound.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoundSettings {
-    /// Uniform starting grid over the varied range (at least 3 points).
+    /// Uniform starting grid over the varied range (3 to [`MAX_INITIAL_GRID`] points).
     pub initial_grid: usize,
     /// Tolerance on the ends of the allowed ranges, in the varied parameter.
     pub parameter_tolerance: f64,
@@ -390,12 +394,15 @@ fn check_range(what: &str, lo: f64, hi: f64) -> Result<(), BoundError> {
 fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     let s = &request.settings;
     let positive_tolerance = s.parameter_tolerance.is_finite() && s.parameter_tolerance > 0.0;
-    if s.initial_grid < 3 || !positive_tolerance || s.nuisance.grid < 2 {
-        return Err(BoundError::BadRequest(
-            "need an initial grid of at least 3 points, 2 nuisance grid points and a positive \
-             tolerance"
-                .into(),
-        ));
+    if !(3..=MAX_INITIAL_GRID).contains(&s.initial_grid)
+        || !positive_tolerance
+        || s.nuisance.grid < 2
+    {
+        return Err(BoundError::BadRequest(format!(
+            "need an initial grid of 3 to {MAX_INITIAL_GRID} points (got {}), 2 nuisance grid \
+             points and a positive tolerance",
+            s.initial_grid
+        )));
     }
     check_range(
         &format!("--vary {}", request.vary.name),
