@@ -6,7 +6,9 @@ use clap::Args;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
-use umbral::verify::{update_checks_file, ChecksFile, VerifyError, VerifyReport};
+use umbral::verify::{
+    update_checks_file_forcing, ChecksFile, RowSelector, VerifyError, VerifyReport,
+};
 
 #[derive(Debug, Args)]
 pub struct VerifyArgs {
@@ -17,12 +19,19 @@ pub struct VerifyArgs {
     #[arg(long)]
     json: bool,
     /// Write the computed values into a copy of each file (FILE.updated.toml) as a new
-    /// baseline, keeping comments and layout; the original is left alone.
+    /// baseline, keeping comments and layout; the original is left alone. Only values whose
+    /// source is umbral itself (source = "umbral" or "umbral: ...") are rewritten; drifted
+    /// values with an outside source are reported and kept.
     #[arg(long)]
     update: bool,
     /// With --update and one FILE: where to write the updated copy.
     #[arg(long, value_name = "PATH", requires = "update")]
     output: Option<PathBuf>,
+    /// With --update: also replace this row although its source is not umbral
+    /// (CASE, CASE:QUANTITY or CASE:QUANTITY@CONFIDENCE; repeatable). Its source then says
+    /// that umbral replaced it.
+    #[arg(long = "force-row", value_name = "NAME", requires = "update")]
+    force_row: Vec<String>,
 }
 
 #[derive(Serialize)]
@@ -52,12 +61,27 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         .map(ChecksFile::load)
         .collect::<Result<_, _>>()
         .map_err(usage)?;
+    let force = args
+        .force_row
+        .iter()
+        .map(|t| RowSelector::parse(t).map_err(CliError::usage))
+        .collect::<Result<Vec<_>, _>>()?;
+    if let Some(s) = force
+        .iter()
+        .find(|s| !checks.iter().any(|c| s.names_a_row_of(c)))
+    {
+        return Err(CliError::usage(format!(
+            "--force-row {}: no such row in the checks files given",
+            s.text
+        )));
+    }
     let mut report = VerifyReport::default();
     let mut updated_files = Vec::new();
     let mut notes = Vec::new();
     if args.update {
         for path in &args.files {
-            let outcome = update_checks_file(path, args.output.as_deref()).map_err(usage)?;
+            let outcome =
+                update_checks_file_forcing(path, args.output.as_deref(), &force).map_err(usage)?;
             notes.push(format!(
                 "wrote {} ({} values updated{})",
                 outcome.output.display(),
@@ -68,6 +92,16 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
                     format!("; kept as written: {}", outcome.kept.join("; "))
                 }
             ));
+            for d in &outcome.outside_drifted {
+                notes.push(format!(
+                    "drifted, left as written (outside source; replace with --force-row): {d}"
+                ));
+            }
+            for f in &outcome.forced {
+                notes.push(format!(
+                    "replaced although its source was not umbral (--force-row): {f}"
+                ));
+            }
             if same_file(path, &outcome.output) {
                 notes.push(format!(
                     "note: {} was overwritten (--output)",
