@@ -1029,13 +1029,16 @@ impl<'a> Problem<'a> {
     }
 
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
-        // The curve does not depend on γ: `None` if any evaluation fails.
-        let exponents = if !self.with_exponents {
-            None
+        // The curve does not depend on γ: `None`, with the reason, if any evaluation fails.
+        let (range, undefined) = if !self.with_exponents {
+            (None, None)
         } else {
-            self.gamma_range(&sampled.gamma_source).ok()
-        }
-        .map(|(lo, hi)| RingExponents {
+            match self.gamma_range(&sampled.gamma_source) {
+                Ok(r) => (Some(r), None),
+                Err(e) => (None, Some(format!("photon-ring exponent undefined: {e}"))),
+            }
+        };
+        let exponents = range.map(|(lo, hi)| RingExponents {
             lyapunov: None,
             gamma_min: lo,
             gamma_max: hi,
@@ -1053,6 +1056,7 @@ impl<'a> Problem<'a> {
             diagnostics: Diagnostics {
                 star_shaped: sampled.star_shaped,
                 extra_crossings: sampled.extra_crossings,
+                exponents_undefined: undefined,
                 ..Diagnostics::default()
             },
         })
