@@ -57,9 +57,10 @@ fn many_points(c: &mut Criterion) {
         .sample_size(10)
         .measurement_time(Duration::from_secs(10));
     for points in [10_000, 100_000] {
-        group.bench_function(format!("separable kerr a=0.9 i=60deg {points} points"), |b| {
-            b.iter(|| curve_and_observables(black_box(&kerr), &observer, points))
-        });
+        group.bench_function(
+            format!("separable kerr a=0.9 i=60deg {points} points"),
+            |b| b.iter(|| curve_and_observables(black_box(&kerr), &observer, points)),
+        );
         group.bench_function(
             format!("spherical reissner-nordstrom q=0.5 circle {points} points"),
             |b| b.iter(|| curve_and_observables(black_box(&rn), &observer, points)),

@@ -36,14 +36,15 @@ than 1e-13 relative:
     python3 tests/generate_jnw_bound.py --check tests/data/jnw_bound.json
 """
 
-import argparse
 import json
 import sys
 
 import mpmath as mp
 
+# The --out/--check command line and its tolerant comparison (1e-13 relative), shared.
+from generate_photon_spheres import run_cli
+
 mp.mp.dps = 40
-CHECK_RELATIVE = 1e-13
 HALF = mp.mpf(1) / 2
 
 
@@ -140,50 +141,10 @@ def build_table():
     }
 
 
-def compare(committed, fresh, where="table"):
-    """None if the structures agree within tolerance, else a one-line description."""
-    if isinstance(fresh, dict):
-        if not isinstance(committed, dict) or set(committed) != set(fresh):
-            return f"{where}: keys differ"
-        for k in fresh:
-            problem = compare(committed[k], fresh[k], f"{where}.{k}")
-            if problem:
-                return problem
-        return None
-    if isinstance(fresh, list):
-        if not isinstance(committed, list) or len(committed) != len(fresh):
-            return f"{where}: length differs"
-        for i, (c, f) in enumerate(zip(committed, fresh)):
-            problem = compare(c, f, f"{where}[{i}]")
-            if problem:
-                return problem
-        return None
-    if isinstance(fresh, float):
-        ok = isinstance(committed, (int, float)) and not isinstance(committed, bool)
-        ok = ok and abs(committed - fresh) <= CHECK_RELATIVE * max(abs(fresh), 1e-300)
-        return None if ok else f"{where}: committed {committed!r}, regenerated {fresh!r}"
-    return None if committed == fresh else f"{where}: committed {committed!r}, regenerated {fresh!r}"
-
-
 def main():
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    mode = parser.add_mutually_exclusive_group(required=True)
-    mode.add_argument("--out", help="write the table to this path")
-    mode.add_argument("--check", help="compare this committed table with a fresh computation")
-    args = parser.parse_args()
-    table = build_table()
-    if args.out:
-        with open(args.out, "w", encoding="utf-8", newline="\n") as f:
-            f.write(json.dumps(table, indent=1) + "\n")
-        return 0
-    with open(args.check, encoding="utf-8") as f:
-        committed = json.load(f)
-    problem = compare(committed, json.loads(json.dumps(table)))
-    if problem:
-        print(f"JNW bound table mismatch: {problem}", file=sys.stderr)
-        return 1
-    print(f"JNW bound table {args.check} matches the mpmath computation")
-    return 0
+    return run_cli(
+        __doc__.splitlines()[0], lambda: json.dumps(build_table(), indent=1) + "\n", "JNW bound"
+    )
 
 
 if __name__ == "__main__":

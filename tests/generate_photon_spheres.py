@@ -356,13 +356,15 @@ def compare(committed, fresh, where="table"):
     return None
 
 
-def main():
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+def run_cli(description, text_of_table, what):
+    """The --out / --check command line of a reference-table generator: write the text made
+    by `text_of_table()`, or compare a committed table with it (exit 1 naming the entry)."""
+    parser = argparse.ArgumentParser(description=description)
     mode = parser.add_mutually_exclusive_group(required=True)
     mode.add_argument("--out", help="write the table to this path")
     mode.add_argument("--check", help="compare this committed table with a fresh computation")
     args = parser.parse_args()
-    text = table_text()
+    text = text_of_table()
     if args.out:
         with open(args.out, "w", encoding="utf-8", newline="\n") as f:
             f.write(text)
@@ -371,10 +373,14 @@ def main():
         committed = json.load(f)
     problem = compare(committed, json.loads(text))
     if problem:
-        print(f"photon-sphere table mismatch: {problem}", file=sys.stderr)
+        print(f"{what} table mismatch: {problem}", file=sys.stderr)
         return 1
-    print(f"photon-sphere table {args.check} matches the mpmath computation")
+    print(f"{what} table {args.check} matches the mpmath computation")
     return 0
+
+
+def main():
+    return run_cli(__doc__.splitlines()[0], table_text, "photon-sphere")
 
 
 if __name__ == "__main__":

@@ -359,26 +359,23 @@ proptest! {
     }
 }
 
-/// Spectral convergence on a real critical curve: Kerr a = 0.9 seen at 60° (Bardeen 1973
-/// curve from the separable solver). The 64-point observables match the 4096-point ones to
-/// 1e-9 relative, as the trapezoid rule on a smooth periodic R(φ) promises.
-#[test]
-fn kerr_curve_observables_converge_spectrally() {
+/// Observables of the Kerr a = 0.9 curve at 60° (separable solver, curve only).
+fn kerr_observables(points: usize, tolerance: f64) -> Observables {
     use umbral::metrics::Kerr;
-    use umbral::observables::{CentreChoice, Observables};
     use umbral::shadow::{separable, Observer, ShadowSettings};
-    let kerr = Kerr::new(0.9).unwrap();
-    let observe = |points: usize| {
-        let settings = ShadowSettings {
-            points,
-            tolerance: 1e-11,
-            ..ShadowSettings::default()
-        };
-        let r = separable::solve_curve(&kerr, &Observer::distant(60f64.to_radians()), &settings)
-            .unwrap();
-        Observables::from_curve(&r.curve.unwrap(), CentreChoice::Centroid, None, None).unwrap()
+    let settings = ShadowSettings {
+        points,
+        tolerance,
+        ..ShadowSettings::default()
     };
-    let (coarse, fine) = (observe(64), observe(4096));
+    let kerr = Kerr::new(0.9).unwrap();
+    let r =
+        separable::solve_curve(&kerr, &Observer::distant(60f64.to_radians()), &settings).unwrap();
+    Observables::from_curve(&r.curve.unwrap(), CentreChoice::Centroid, None, None).unwrap()
+}
+
+/// The main observables of a coarse and a fine sampling of one curve agree to 1e-9 relative.
+fn assert_converged(coarse: &Observables, fine: &Observables) {
     for (name, c, f) in [
         ("mean_radius", coarse.mean_radius, fine.mean_radius),
         ("area_radius", coarse.area_radius, fine.area_radius),
@@ -397,6 +394,15 @@ fn kerr_curve_observables_converge_spectrally() {
     ] {
         assert!((c - f).abs() <= 1e-9 * f.abs(), "{name}: {c} vs {f}");
     }
+}
+
+/// Spectral convergence on a real critical curve: Kerr a = 0.9 seen at 60° (Bardeen 1973
+/// curve from the separable solver). The 64-point observables match the 4096-point ones to
+/// 1e-9 relative, as the trapezoid rule on a smooth periodic R(φ) promises.
+#[test]
+fn kerr_curve_observables_converge_spectrally() {
+    let (coarse, fine) = (kerr_observables(64, 1e-11), kerr_observables(4096, 1e-11));
+    assert_converged(&coarse, &fine);
 }
 
 /// The real DFT of the samples, summed directly from its definition:
@@ -493,19 +499,11 @@ fn interpolant_table_matches_the_direct_series() {
 /// not an outside source). The speed itself is a benchmark (benches/separable.rs).
 #[test]
 fn kerr_a09_i60_100000_points() {
-    use umbral::metrics::Kerr;
-    use umbral::shadow::{separable, Observer, ShadowSettings};
-    let kerr = Kerr::new(0.9).unwrap();
-    let observe = |points: usize| {
-        let settings = ShadowSettings {
-            points,
-            ..ShadowSettings::default()
-        };
-        let r = separable::solve_curve(&kerr, &Observer::distant(60f64.to_radians()), &settings)
-            .unwrap();
-        Observables::from_curve(&r.curve.unwrap(), CentreChoice::Centroid, None, None).unwrap()
-    };
-    let (coarse, fine) = (observe(256), observe(100_000));
+    let tolerance = umbral::shadow::ShadowSettings::default().tolerance;
+    let (coarse, fine) = (
+        kerr_observables(256, tolerance),
+        kerr_observables(100_000, tolerance),
+    );
     // Baseline of the quadratic implementation (umbral before this change, 256 points).
     let before = [
         ("mean_radius", coarse.mean_radius, 4.99945366048934),
@@ -527,24 +525,7 @@ fn kerr_a09_i60_100000_points() {
             "{name}: {now} vs {then}"
         );
     }
-    for (name, c, f) in [
-        ("mean_radius", coarse.mean_radius, fine.mean_radius),
-        ("area_radius", coarse.area_radius, fine.area_radius),
-        (
-            "circularity",
-            coarse.circularity_deviation,
-            fine.circularity_deviation,
-        ),
-        (
-            "centroid_offset",
-            coarse.centroid_offset,
-            fine.centroid_offset,
-        ),
-        ("width", coarse.width, fine.width),
-        ("height", coarse.height, fine.height),
-    ] {
-        assert!((c - f).abs() <= 1e-9 * f.abs(), "{name}: {c} vs {f}");
-    }
+    assert_converged(&coarse, &fine);
 }
 
 /// Issue 10 item 13: a circle of 100 000 samples keeps every digit (compensated sums; the

@@ -508,7 +508,7 @@ fn kerr_face_on_radius_at_tiny_inclinations() {
     use umbral::observables::{CentreChoice, Observables};
     assert!((kerr_face_on_radius(0.0) - 27f64.sqrt()).abs() < 1e-14);
     assert!((kerr_face_on_radius(1.0) - 2.0 * (1.0 + 2f64.sqrt())).abs() < 1e-14);
-    let degrees = [
+    let degrees: [f64; 11] = [
         0.0,
         1e-12,
         1e-9,
@@ -526,7 +526,7 @@ fn kerr_face_on_radius_at_tiny_inclinations() {
         let rho = kerr_face_on_radius(a.abs());
         let mut offsets = Vec::new();
         for deg in degrees {
-            let theta = (deg as f64).to_radians();
+            let theta = deg.to_radians();
             let result =
                 separable::solve(&kerr, &Observer::distant(theta), &ShadowSettings::default())
                     .unwrap_or_else(|e| panic!("a = {a}, {deg} deg: {e}"));

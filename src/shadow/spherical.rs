@@ -170,10 +170,10 @@ fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> 
 /// boundary r_s (the horizon, or the singular surface located by bisection) is then scanned on
 /// a grid uniform in ln(r − r_s), down to r_s + 10⁻¹⁴ r_s, so that a photon sphere right next
 /// to a singularity (JNW with ν just above 1/2) or to a horizon is not missed. Every sign
-/// change is refined by Brent's method to full double precision. A change from − (inside) to
-/// + (outside) is a minimum of C/A: an unstable photon sphere. Two extrema closer together
-/// than one grid cell (0.3% in r, or 1/40 of a decade in r − r_s near the boundary) are not
-/// resolved.
+/// change is refined by Brent's method to full double precision. A change from negative
+/// (inside) to positive (outside) is a minimum of C/A: an unstable photon sphere. Two extrema
+/// closer together than one grid cell (0.3% in r, or 1/40 of a decade in r − r_s near the
+/// boundary) are not resolved.
 ///
 /// ```
 /// use umbral::prelude::*;

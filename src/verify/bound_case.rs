@@ -162,11 +162,10 @@ impl BoundCase {
         }
         let points_ok = (8..=MAX_POINTS).contains(&settings.shadow.points);
         let grid_ok = (3..=MAX_INITIAL_GRID).contains(&settings.initial_grid);
-        if !points_ok
-            || !grid_ok
-            || !(settings.shadow.tolerance > 0.0 && settings.shadow.tolerance.is_finite())
-            || !(settings.parameter_tolerance > 0.0 && settings.parameter_tolerance.is_finite())
-        {
+        let positive = |t: f64| t > 0.0 && t.is_finite();
+        let tolerances_ok =
+            positive(settings.shadow.tolerance) && positive(settings.parameter_tolerance);
+        if !(points_ok && grid_ok && tolerances_ok) {
             return Err(label(format!(
                 "need points from 8 to {MAX_POINTS}, initial_grid from 3 to {MAX_INITIAL_GRID} \
                  and positive finite tolerances (got points = {}, initial_grid = {})",
