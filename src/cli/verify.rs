@@ -4,9 +4,13 @@
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
-use umbral::verify::{update_checks_file, ChecksFile, VerifyError, VerifyReport};
+use umbral::output::OutputTransaction;
+use umbral::verify::{
+    default_update_path, update_checks_file, ChecksFile, VerifyError, VerifyReport,
+};
 
 #[derive(Debug, Args)]
 pub struct VerifyArgs {
@@ -55,12 +59,27 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
     let mut report = VerifyReport::default();
     let mut updated_files = Vec::new();
     let mut notes = Vec::new();
+    // Updated copies appear only when the whole command succeeds.
+    let mut outputs = OutputTransaction::new();
     if args.update {
-        for path in &args.files {
-            let outcome = update_checks_file(path, args.output.as_deref()).map_err(usage)?;
+        let destinations: Vec<PathBuf> = args
+            .files
+            .iter()
+            .map(|path| {
+                args.output
+                    .clone()
+                    .unwrap_or_else(|| default_update_path(path))
+            })
+            .collect();
+        let staged = destinations
+            .iter()
+            .map(|dest| outputs.stage(dest))
+            .collect::<Result<Vec<_>, _>>()?;
+        for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
+            let outcome = update_checks_file(path, Some(temp)).map_err(usage)?;
             notes.push(format!(
                 "wrote {} ({} values updated{})",
-                outcome.output.display(),
+                dest.display(),
                 outcome.updated,
                 if outcome.kept.is_empty() {
                     String::new()
@@ -68,13 +87,13 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
                     format!("; kept as written: {}", outcome.kept.join("; "))
                 }
             ));
-            if same_file(path, &outcome.output) {
+            if same_file(path, dest) {
                 notes.push(format!(
                     "note: {} was overwritten (--output)",
                     path.display()
                 ));
             }
-            updated_files.push(outcome.output.display().to_string());
+            updated_files.push(dest.display().to_string());
             report.extend(outcome.report);
         }
     } else {
@@ -93,16 +112,18 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         };
         let text = serde_json::to_string_pretty(&json)
             .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
-        println!("{text}");
+        outln!("{text}")?;
         for n in &notes {
-            eprintln!("{n}");
+            // Notes beside JSON go to standard error; nothing is left to report to if it fails.
+            let _ = writeln!(std::io::stderr(), "{n}");
         }
     } else {
-        print!("{}", report.render_table());
+        super::out::write_text(&report.render_table())?;
         for n in &notes {
-            println!("{n}");
+            outln!("{n}")?;
         }
     }
+    outputs.commit()?;
     Ok(if report.all_passed() {
         ExitCode::SUCCESS
     } else {
