@@ -42,6 +42,20 @@ fn command(args: &[&str]) -> Command {
     c
 }
 
+/// `words` split at spaces, then `extra` as they are (paths may hold spaces).
+fn args(words: &str, extra: &[&str]) -> Vec<String> {
+    words
+        .split_whitespace()
+        .chain(extra.iter().copied())
+        .map(String::from)
+        .collect()
+}
+
+/// `&[String]` as `Vec<&str>`.
+fn strs(v: &[String]) -> Vec<&str> {
+    v.iter().map(String::as_str).collect()
+}
+
 fn run(args: &[&str]) -> Output {
     command(args).output().expect("run umbral")
 }
@@ -90,100 +104,42 @@ fn big_file(path: &Path, bytes: u64) {
 fn dev_zero_and_oversized_inputs_are_refused_with_the_cap() {
     let dir = scratch("inputs");
     let d = |name: &str| dir.join(name).display().to_string();
+    let (big, big_scan) = (d("big.toml"), d("big.jsonl"));
+    let (folder, pipe) = (d("folder.toml"), d("pipe.toml"));
     let not_regular = "not a regular file (it is a character device)";
-    let cases: Vec<(Vec<String>, &str)> = vec![
+    let cap = "larger than 4 MiB, the limit for an input file";
+    let shadow = "shadow --inclination 30 --metric-file";
+    let bound = "bound --metric reissner-nordstrom --vary q=0:1 --measurement";
+    let scan = "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out";
+    let cases = [
+        (args(shadow, &["/dev/zero"]), not_regular),
+        (args("verify /dev/zero", &[]), not_regular),
+        (args(bound, &["/dev/zero"]), not_regular),
+        (args(scan, &["/dev/full"]), not_regular),
+        (args(shadow, &[&big]), cap),
+        (args("verify", &[&big]), cap),
+        (args(bound, &[&big]), cap),
         (
-            vec![
-                "shadow",
-                "--metric-file",
-                "/dev/zero",
-                "--inclination",
-                "30",
-            ],
-            not_regular,
-        ),
-        (vec!["verify", "/dev/zero"], not_regular),
-        (
-            vec!["bound", "--metric", "kerr", "--vary", "a=0:0.9"]
-                .into_iter()
-                .chain(["--inclination", "30", "--measurement", "/dev/zero"])
-                .collect::<Vec<_>>(),
-            not_regular,
-        ),
-        (
-            vec!["scan", "--metric", "kerr", "--grid", "a=0:0.5:3"]
-                .into_iter()
-                .chain(["--inclination", "30", "--out", "/dev/full"])
-                .collect::<Vec<_>>(),
-            not_regular,
-        ),
-        (
-            vec![
-                "shadow",
-                "--metric-file",
-                &d("big.toml"),
-                "--inclination",
-                "30",
-            ],
-            "larger than 4 MiB, the limit for an input file",
-        ),
-        (
-            vec!["verify", &d("big.toml")],
-            "larger than 4 MiB, the limit for an input file",
-        ),
-        (
-            vec![
-                "shadow",
-                "--metric-file",
-                &d("folder.toml"),
-                "--inclination",
-                "30",
-            ],
+            args(shadow, &[&folder]),
             "not a regular file (it is a folder)",
         ),
+        (args(shadow, &[&pipe]), "not a regular file (it is a pipe)"),
         (
-            vec![
-                "shadow",
-                "--metric-file",
-                &d("pipe.toml"),
-                "--inclination",
-                "30",
-            ],
-            "not a regular file (it is a pipe)",
+            args(scan, &[&big_scan]),
+            "the most a scan file of this grid holds",
         ),
-        (
-            vec!["bound", "--metric", "reissner-nordstrom", "--vary", "q=0:1"]
-                .into_iter()
-                .chain(["--measurement", &d("big.toml")])
-                .collect::<Vec<_>>(),
-            "larger than 4 MiB",
-        ),
-        (
-            vec!["scan", "--metric", "kerr", "--grid", "a=0:0.5:3"]
-                .into_iter()
-                .chain(["--inclination", "30", "--out", &d("big.jsonl")])
-                .collect::<Vec<_>>(),
-            "larger than",
-        ),
-    ]
-    .into_iter()
-    .map(|(args, needle)| (args.into_iter().map(String::from).collect(), needle))
-    .collect();
-    big_file(&dir.join("big.toml"), 5 << 20);
-    big_file(&dir.join("big.jsonl"), 5 << 20);
-    std::fs::create_dir_all(dir.join("folder.toml")).unwrap();
-    let fifo = std::ffi::CString::new(d("pipe.toml")).unwrap();
+    ];
+    big_file(Path::new(&big), 5 << 20);
+    big_file(Path::new(&big_scan), 5 << 20);
+    std::fs::create_dir_all(&folder).unwrap();
+    let fifo = std::ffi::CString::new(pipe.clone()).unwrap();
     // SAFETY: a valid NUL-terminated path.
     assert_eq!(unsafe { libc::mkfifo(fifo.as_ptr(), 0o600) }, 0);
-    for (args, needle) in &cases {
-        let args: Vec<&str> = args.iter().map(String::as_str).collect();
-        assert_error(&run(&args), &[needle], &format!("{args:?}"));
+    for (a, needle) in &cases {
+        assert_error(&run(&strs(a)), &[needle], &format!("{a:?}"));
     }
     // The scan file over the cap is left alone.
-    assert_eq!(
-        std::fs::metadata(dir.join("big.jsonl")).unwrap().len(),
-        5 << 20
-    );
+    assert_eq!(std::fs::metadata(&big_scan).unwrap().len(), 5 << 20);
     // A metrics folder lists an oversized file as unreadable, and is not read in full.
     let listing_dir = scratch("inputs-listing");
     big_file(&listing_dir.join("huge.toml"), 5 << 20);
@@ -206,70 +162,34 @@ fn writing_to_a_full_disk_is_an_error_not_a_panic() {
     let out_file = dir.join("s.jsonl").display().to_string();
     let checks = repo("tests/checks/schwarzschild.toml");
     let radius = repo("examples/measurement_radius.toml");
-    let cases: Vec<Vec<&str>> = vec![
-        vec![
-            "shadow",
-            "--metric",
-            "kerr",
-            "--set",
-            "a=0.5",
-            "--inclination",
-            "30",
-        ],
-        vec![
-            "shadow",
-            "--metric",
-            "kerr",
-            "--inclination",
-            "30",
-            "--json",
-        ],
-        vec!["verify", &checks],
-        vec!["verify", &checks, "--json"],
-        vec!["metrics"],
-        vec!["metrics", "--json"],
-        vec!["geometry", "--metric", "kerr", "--r", "5", "--theta", "1"],
-        vec![
-            "bound",
-            "--metric",
-            "reissner-nordstrom",
-            "--vary",
-            "q=0:1.2",
-            "--measurement",
-            &radius,
-        ],
-        vec![
-            "scan",
-            "--metric",
-            "kerr",
-            "--grid",
-            "a=0:0.5:3",
-            "--inclination",
-            "30",
-            "--out",
-            &out_file,
-        ],
-        vec!["--help"],
+    let scan = args(
+        "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out",
+        &[&out_file],
+    );
+    let cases = [
+        args("shadow --metric kerr --set a=0.5 --inclination 30", &[]),
+        args("shadow --metric kerr --inclination 30 --json", &[]),
+        args("verify", &[&checks]),
+        args("verify --json", &[&checks]),
+        args("metrics", &[]),
+        args("metrics --json", &[]),
+        args("geometry --metric kerr --r 5 --theta 1", &[]),
+        args(
+            "bound --metric reissner-nordstrom --vary q=0:1.2 --measurement",
+            &[&radius],
+        ),
+        scan.clone(),
+        args("--help", &[]),
     ];
-    for args in &cases {
+    for a in &cases {
         assert_error(
-            &run_to_full_disk(args),
+            &run_to_full_disk(&strs(a)),
             &["cannot write to standard output", "No space left on device"],
-            &format!("{args:?}"),
+            &format!("{a:?}"),
         );
     }
     // The scan's points are its checkpoint: kept, and a rerun resumes them.
-    let out = run(&[
-        "scan",
-        "--metric",
-        "kerr",
-        "--grid",
-        "a=0:0.5:3",
-        "--inclination",
-        "30",
-        "--out",
-        &out_file,
-    ]);
+    let out = run(&strs(&scan));
     assert!(
         String::from_utf8_lossy(&out.stdout).contains("0 computed, 3 kept"),
         "{out:?}"
@@ -281,28 +201,14 @@ fn ctrl_c_says_how_far_the_scan_got_and_how_to_resume() {
     let dir = scratch("ctrl-c");
     let out_file = dir.join("s.jsonl");
     let reference = dir.join("reference.jsonl");
-    let args = |out: &Path| -> Vec<String> {
-        [
-            "scan",
-            "--metric",
-            "kerr-newman",
-            "--grid",
-            "a=0:0.9:30",
-            "--grid",
-            "q=0:0.4:30",
-            "--inclination",
-            "50",
-            "--out",
-        ]
-        .iter()
-        .map(|s| s.to_string())
-        .chain([out.display().to_string()])
-        .collect()
+    let scan = |out: &Path| {
+        args(
+            "scan --metric kerr-newman --grid a=0:0.9:30 --grid q=0:0.4:30 --inclination 50 --out",
+            &[&out.display().to_string()],
+        )
     };
-    let strs = |v: &[String]| v.iter().map(String::clone).collect::<Vec<_>>();
-    let a = strs(&args(&out_file));
-    let a: Vec<&str> = a.iter().map(String::as_str).collect();
-    let child = command(&a)
+    let a = scan(&out_file);
+    let child = command(&strs(&a))
         .stdout(Stdio::piped())
         .stderr(Stdio::piped())
         .spawn()
@@ -342,15 +248,13 @@ fn ctrl_c_says_how_far_the_scan_got_and_how_to_resume() {
     assert_eq!(lines(), done + 1, "every finished point is on disk");
     assert!(listing(&dir) == ["s.jsonl"], "{:?}", listing(&dir));
     // The same command resumes, and the result equals an uninterrupted run.
-    let resumed = run(&a);
+    let resumed = run(&strs(&a));
     let stdout = String::from_utf8_lossy(&resumed.stdout);
     assert!(
         stdout.contains(&format!("{} computed, {done} kept", 900 - done)),
         "{stdout}"
     );
-    let r = strs(&args(&reference));
-    let r: Vec<&str> = r.iter().map(String::as_str).collect();
-    assert_eq!(run(&r).status.code(), Some(0));
+    assert_eq!(run(&strs(&scan(&reference))).status.code(), Some(0));
     assert!(std::fs::read(&out_file).unwrap() == std::fs::read(&reference).unwrap());
 }
 
@@ -364,65 +268,46 @@ fn extreme_numbers_in_messages_are_short() {
     )
     .unwrap();
     let m = measurement.display().to_string();
-    let cases: Vec<(Vec<&str>, &str)> = vec![
+    let shadow = "shadow --metric schwarzschild --inclination 30";
+    let bound = "bound --metric reissner-nordstrom --measurement";
+    let cases = [
         (
-            vec!["shadow", "--metric", "kerr", "--inclination", "1e300"],
+            args("shadow --metric kerr --inclination 1e300", &[]),
             "got 1e300",
         ),
         (
-            vec!["shadow", "--metric", "schwarzschild", "--inclination", "30"]
-                .into_iter()
-                .chain(["--observer-radius", "-1e-300"])
-                .collect(),
+            args(shadow, &["--observer-radius", "-1e-300"]),
             "got -1e-300",
         ),
         (
-            vec!["shadow", "--metric", "schwarzschild", "--inclination", "30"]
-                .into_iter()
-                .chain(["--observer-radius", "-0"])
-                .collect(),
+            args(shadow, &["--observer-radius", "-0"]),
             "must be positive, got 0",
         ),
         (
-            vec!["shadow", "--metric", "jnw", "--set", "nu=1e308"]
-                .into_iter()
-                .chain(["--inclination", "30"])
-                .collect(),
+            args("shadow --metric jnw --set nu=1e308 --inclination 30", &[]),
             "parameter 'nu' = 1e308 is outside its domain (0, 1]",
         ),
         (
-            vec!["bound", "--metric", "reissner-nordstrom", "--vary", "q=0:1"]
-                .into_iter()
-                .chain(["--measurement", &m])
-                .collect(),
+            args(bound, &[&m, "--vary", "q=0:1"]),
             "circularity.max must be positive, got -1e-300",
         ),
         (
-            vec![
-                "bound",
-                "--metric",
-                "reissner-nordstrom",
-                "--vary",
-                "q=1e300:1",
-            ]
-            .into_iter()
-            .chain(["--measurement", &m])
-            .collect(),
+            args(bound, &[&m, "--vary", "q=1e300:1"]),
             "need LO < HI, got 1e300:1",
         ),
         (
-            vec!["scan", "--metric", "kerr", "--grid", "a=1e-300:-1e300:3"]
-                .into_iter()
-                .chain(["--inclination", "30", "--out", "x.jsonl"])
-                .collect(),
+            args(
+                "scan --metric kerr --inclination 30 --out x.jsonl --grid",
+                &["a=1e-300:-1e300:3"],
+            ),
             "got 1e-300:-1e300:3",
         ),
     ];
-    for (args, needle) in &cases {
-        let stderr = assert_error(&run(args), &[needle], &format!("{args:?}"));
+    for (a, needle) in &cases {
+        let stderr = assert_error(&run(&strs(a)), &[needle], &format!("{a:?}"));
         assert!(
             stderr.len() < 200,
-            "{args:?}: {} bytes: {stderr}",
+            "{a:?}: {} bytes: {stderr}",
             stderr.len()
         );
         assert!(
@@ -435,21 +320,13 @@ fn extreme_numbers_in_messages_are_short() {
 #[test]
 fn csv_is_not_left_half_written_when_plot_fails() {
     let dir = scratch("csv-plot");
-    let csv = dir.join("curve.csv");
+    let csv = dir.join("curve.csv").display().to_string();
     std::fs::write(&csv, "an earlier file\n").unwrap();
-    let out = run(&[
-        "shadow",
-        "--metric",
-        "kerr",
-        "--set",
-        "a=0.5,0.9",
-        "--inclination",
-        "30",
-        "--csv",
-        &csv.display().to_string(),
-        "--plot",
-        "/nonexistent-dir/x.svg",
-    ]);
+    let family = "shadow --metric kerr --set a=0.5,0.9 --inclination 30 --csv";
+    let out = run(&strs(&args(
+        family,
+        &[&csv, "--plot", "/nonexistent-dir/x.svg"],
+    )));
     assert_error(
         &out,
         &["cannot write plot '/nonexistent-dir/x.svg'"],
@@ -462,86 +339,75 @@ fn csv_is_not_left_half_written_when_plot_fails() {
     );
     assert_eq!(listing(&dir), ["curve.csv"]);
     // A failure after the CSV and figure were made (the table cannot be printed): neither
-    // file appears.
+    // file appears; on success both appear, with nothing else beside them.
     let fresh = scratch("csv-plot-late");
-    let out = run_to_full_disk(&[
-        "shadow",
-        "--metric",
-        "kerr",
-        "--inclination",
-        "30",
-        "--csv",
-        &fresh.join("c.csv").display().to_string(),
-        "--plot",
-        &fresh.join("c.svg").display().to_string(),
-    ]);
+    let (c, p) = (
+        fresh.join("c.csv").display().to_string(),
+        fresh.join("c.svg").display().to_string(),
+    );
+    let one = args(
+        "shadow --metric kerr --inclination 30 --csv",
+        &[&c, "--plot", &p],
+    );
+    let out = run_to_full_disk(&strs(&one));
     assert_error(&out, &["cannot write to standard output"], "late failure");
     assert!(listing(&fresh).is_empty(), "{:?}", listing(&fresh));
-    // And on success both appear, with nothing else beside them.
-    let out = run(&[
-        "shadow",
-        "--metric",
-        "kerr",
-        "--inclination",
-        "30",
-        "--csv",
-        &fresh.join("c.csv").display().to_string(),
-        "--plot",
-        &fresh.join("c.svg").display().to_string(),
-    ]);
-    assert_eq!(out.status.code(), Some(0));
+    assert_eq!(run(&strs(&one)).status.code(), Some(0));
     assert_eq!(listing(&fresh), ["c.csv", "c.svg"]);
 }
 
 #[test]
 fn no_command_leaves_a_temporary_behind_on_failure() {
     let radius = repo("examples/measurement_radius.toml");
-    // (command, files it would write in its folder, what survives the failure)
-    type Case = (Vec<String>, Vec<&'static str>);
     let dir = scratch("no-temporaries");
     let at = |name: &str| dir.join(name).display().to_string();
-    let checks = dir.join("checks.toml");
+    let checks = at("checks.toml");
     std::fs::copy(repo("tests/checks/schwarzschild.toml"), &checks).unwrap();
-    let s = |v: &[&str]| v.iter().map(|x| x.to_string()).collect::<Vec<_>>();
-    let cases: Vec<Case> = vec![
+    let (a_csv, a_svg, b_svg, c_jsonl, c_svg) = (
+        at("a.csv"),
+        at("a.svg"),
+        at("b.svg"),
+        at("c.jsonl"),
+        at("c.svg"),
+    );
+    // (command, what is in its folder after it failed late)
+    let cases = [
         (
-            s(&["shadow", "--metric", "kerr", "--inclination", "30"])
-                .into_iter()
-                .chain(s(&["--csv", &at("a.csv"), "--plot", &at("a.svg")]))
-                .collect(),
+            args(
+                "shadow --metric kerr --inclination 30 --csv",
+                &[&a_csv, "--plot", &a_svg],
+            ),
             vec!["checks.toml"],
         ),
         (
-            s(&[
-                "bound",
-                "--metric",
-                "reissner-nordstrom",
-                "--vary",
-                "q=0:1.2",
-            ])
-            .into_iter()
-            .chain(s(&["--measurement", &radius, "--plot", &at("b.svg")]))
-            .collect(),
+            args(
+                "bound --metric reissner-nordstrom --vary q=0:1.2 --measurement",
+                &[&radius, "--plot", &b_svg],
+            ),
             vec!["checks.toml"],
         ),
         (
-            s(&["scan", "--metric", "kerr-newman", "--grid", "a=0:0.5:3"])
-                .into_iter()
-                .chain(s(&["--grid", "q=0:0.5:3", "--inclination", "30"]))
-                .chain(s(&["--measurement", &radius, "--out", &at("c.jsonl")]))
-                .chain(s(&["--plot", &at("c.svg")]))
-                .collect(),
+            args(
+                "scan --metric kerr-newman --grid a=0:0.5:3 --grid q=0:0.5:3 --inclination 30",
+                &[
+                    "--measurement",
+                    &radius,
+                    "--out",
+                    &c_jsonl,
+                    "--plot",
+                    &c_svg,
+                ],
+            ),
             // The points file is the scan's checkpoint (kept to resume); the map is not.
             vec!["c.jsonl", "checks.toml"],
         ),
         (
-            s(&["verify", &checks.display().to_string(), "--update"]),
+            args("verify --update", &[&checks]),
             vec!["c.jsonl", "checks.toml"],
         ),
     ];
-    for (args, survivors) in &cases {
-        let a: Vec<&str> = args.iter().map(String::as_str).collect();
-        let out = run_to_full_disk(&a);
+    for (a, survivors) in &cases {
+        let out = run_to_full_disk(&strs(a));
         assert_error(
             &out,
             &["cannot write to standard output"],
@@ -552,13 +418,13 @@ fn no_command_leaves_a_temporary_behind_on_failure() {
     // The demo fails late when one of its files cannot be written: none of the others
     // appears, and the folder it created is removed again.
     let demo = scratch("no-temporaries-demo").join("out");
+    let demo_args = args("demo --out", &[&demo.display().to_string()]);
     std::fs::create_dir_all(demo.join("report.md")).unwrap();
-    let out = run(&["demo", "--out", &demo.display().to_string()]);
-    assert_error(&out, &["report.md", "a folder"], "demo");
+    assert_error(&run(&strs(&demo_args)), &["report.md", "a folder"], "demo");
     assert_eq!(listing(&demo), ["report.md"]);
     std::fs::remove_dir(demo.join("report.md")).unwrap();
     std::fs::remove_dir(&demo).unwrap();
-    let out = run_to_full_disk(&["demo", "--out", &demo.display().to_string()]);
+    let out = run_to_full_disk(&strs(&demo_args));
     assert_error(&out, &["cannot write to standard output"], "demo");
     assert!(!demo.exists(), "{:?}", listing(&demo));
 }

@@ -187,6 +187,14 @@ fn cli_scan_bad_input_is_one_line_exit_2() {
 // Resumed scans trust nothing on disk: every kept line is checked, and the header carries a
 // hash of the metric.
 
+/// A fresh empty folder.
+fn temp_dir(name: &str) -> PathBuf {
+    let dir = temp(name);
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
 /// A finished scan of `request()` in a fresh file, as its lines (header first).
 fn finished(name: &str) -> (PathBuf, Vec<String>) {
     let path = temp(name);
@@ -221,9 +229,7 @@ fn edit(line: &str, from: &str, to: &str) -> String {
 
 #[test]
 fn edited_metric_file_is_refused_on_resume() {
-    let dir = temp("metric-file-dir");
-    let _ = std::fs::remove_file(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("metric-file-dir");
     let file = dir.join("tidal.toml");
     let text = r#"
 name = "tidal"
@@ -463,9 +469,7 @@ fn temporaries(dir: &std::path::Path) -> Vec<String> {
 
 #[test]
 fn second_scan_on_the_same_output_is_refused_while_the_first_runs() {
-    let dir = temp("lock-dir");
-    let _ = std::fs::remove_file(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("lock-dir");
     let path = dir.join("shared.jsonl");
     let (started_tx, started_rx) = std::sync::mpsc::channel::<()>();
     let (release_tx, release_rx) = std::sync::mpsc::channel::<()>();
@@ -498,9 +502,7 @@ fn second_scan_on_the_same_output_is_refused_while_the_first_runs() {
 
 #[test]
 fn concurrent_scans_to_c_txt_and_c_jsonl_do_not_share_a_temporary() {
-    let dir = temp("clash-dir");
-    let _ = std::fs::remove_file(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("clash-dir");
     let (a, b) = (dir.join("c.txt"), dir.join("c.jsonl"));
     let (ra, rb) = std::thread::scope(|s| {
         let ta = s.spawn(|| run_scan(&request(), &a, &|_, _| {}));
@@ -515,9 +517,7 @@ fn concurrent_scans_to_c_txt_and_c_jsonl_do_not_share_a_temporary() {
 
 #[test]
 fn scan_into_a_folder_or_device_is_refused_without_leftovers() {
-    let dir = temp("folder-out");
-    let _ = std::fs::remove_file(&dir);
-    std::fs::create_dir_all(&dir).unwrap();
+    let dir = temp_dir("folder-out");
     let e = run_scan(&request(), &dir, &|_, _| {}).unwrap_err();
     assert!(e.to_string().contains("a folder"), "{e}");
     assert!(temporaries(&dir).is_empty());

@@ -100,11 +100,17 @@ impl ScanFile {
         ))
     }
 
-    /// The whole file, refusing more than `cap` bytes.
+    /// The whole file, refusing more than `cap` bytes (the most a scan of its grid holds).
     pub(crate) fn read(&mut self, cap: u64) -> Result<Vec<u8>, ScanError> {
         crate::input::read_capped(&mut self.handle, cap).map_err(|e| ScanError::Read {
             path: self.path.display().to_string(),
-            message: e.to_string(),
+            message: match e {
+                crate::input::InputError::TooLarge(cap) => format!(
+                    "larger than {cap} bytes, the most a scan file of this grid holds \
+                     (64 KiB + 16 KiB per point)"
+                ),
+                other => other.to_string(),
+            },
         })
     }
 

@@ -390,7 +390,10 @@ fn read_existing(
                 return if head_text.starts_with(text) {
                     Ok(found)
                 } else {
-                    Err(bad(1, "is an incomplete header of another scan".into()))
+                    Err(bad(
+                        1,
+                        "is cut off (no newline) and does not begin this scan's header".into(),
+                    ))
                 };
             }
             if let Some(e) = header::compare(text, head, &shown) {
