@@ -56,51 +56,17 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         .map(ChecksFile::load)
         .collect::<Result<_, _>>()
         .map_err(usage)?;
-    let mut report = VerifyReport::default();
-    let mut updated_files = Vec::new();
-    let mut notes = Vec::new();
     // Updated copies appear only when the whole command succeeds.
     let mut outputs = OutputTransaction::new();
-    if args.update {
-        let destinations: Vec<PathBuf> = args
-            .files
-            .iter()
-            .map(|path| {
-                args.output
-                    .clone()
-                    .unwrap_or_else(|| default_update_path(path))
-            })
-            .collect();
-        let staged = destinations
-            .iter()
-            .map(|dest| outputs.stage(dest))
-            .collect::<Result<Vec<_>, _>>()?;
-        for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
-            let outcome = update_checks_file(path, Some(temp)).map_err(usage)?;
-            notes.push(format!(
-                "wrote {} ({} values updated{})",
-                dest.display(),
-                outcome.updated,
-                if outcome.kept.is_empty() {
-                    String::new()
-                } else {
-                    format!("; kept as written: {}", outcome.kept.join("; "))
-                }
-            ));
-            if same_file(path, dest) {
-                notes.push(format!(
-                    "note: {} was overwritten (--output)",
-                    path.display()
-                ));
-            }
-            updated_files.push(dest.display().to_string());
-            report.extend(outcome.report);
-        }
+    let (report, updated_files, notes) = if args.update {
+        update_all(args, &mut outputs)?
     } else {
+        let mut report = VerifyReport::default();
         for c in &checks {
             report.extend(c.run());
         }
-    }
+        (report, Vec::new(), Vec::new())
+    };
     if args.json {
         let json = JsonReport {
             files: args.files.iter().map(|p| p.display().to_string()).collect(),
@@ -129,6 +95,52 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
     } else {
         ExitCode::from(1)
     })
+}
+
+/// `--update`: run every file, writing each updated copy to a temporary staged in `outputs`;
+/// the rows, the files written and notes for the user.
+fn update_all(
+    args: &VerifyArgs,
+    outputs: &mut OutputTransaction,
+) -> Result<(VerifyReport, Vec<String>, Vec<String>), CliError> {
+    let mut report = VerifyReport::default();
+    let mut updated_files = Vec::new();
+    let mut notes = Vec::new();
+    let destinations: Vec<PathBuf> = args
+        .files
+        .iter()
+        .map(|path| {
+            args.output
+                .clone()
+                .unwrap_or_else(|| default_update_path(path))
+        })
+        .collect();
+    let staged = destinations
+        .iter()
+        .map(|dest| outputs.stage(dest))
+        .collect::<Result<Vec<_>, _>>()?;
+    for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
+        let outcome = update_checks_file(path, Some(temp)).map_err(usage)?;
+        notes.push(format!(
+            "wrote {} ({} values updated{})",
+            dest.display(),
+            outcome.updated,
+            if outcome.kept.is_empty() {
+                String::new()
+            } else {
+                format!("; kept as written: {}", outcome.kept.join("; "))
+            }
+        ));
+        if same_file(path, dest) {
+            notes.push(format!(
+                "note: {} was overwritten (--output)",
+                path.display()
+            ));
+        }
+        updated_files.push(dest.display().to_string());
+        report.extend(outcome.report);
+    }
+    Ok((report, updated_files, notes))
 }
 
 fn same_file(a: &Path, b: &Path) -> bool {
