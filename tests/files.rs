@@ -2,6 +2,8 @@
 //! output, Ctrl-C during a scan, short numbers in messages, and outputs that appear only when
 //! the whole command succeeds (never a half-written file or a temporary left behind).
 
+#![cfg(unix)]
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
 
