@@ -47,7 +47,8 @@ struct GeometryReport {
 fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, CliError> {
     if !(theta > 0.0 && theta < PI) {
         return Err(CliError::usage(format!(
-            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {theta}"
+            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {}",
+            umbral::numfmt::Num(theta)
         )));
     }
     let info = metric.info();
@@ -88,22 +89,23 @@ fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, 
 
 const NAMES: [&str; 4] = ["t", "r", "theta", "phi"];
 
-fn print_matrix(title: &str, m: &[Vec<f64>]) {
-    println!("{title}");
-    println!(
+fn print_matrix(title: &str, m: &[Vec<f64>]) -> Result<(), CliError> {
+    outln!("{title}")?;
+    outln!(
         "{:>8}{}",
         "",
         NAMES.iter().map(|n| format!("{n:>24}")).collect::<String>()
-    );
+    )?;
     for (i, row) in m.iter().enumerate() {
-        println!(
+        outln!(
             "{:>8}{}",
             NAMES[i],
             row.iter()
                 .map(|x| format!("{x:>24.16e}"))
                 .collect::<String>()
-        );
+        )?;
     }
+    Ok(())
 }
 
 pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
@@ -112,32 +114,34 @@ pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
     let metric = metric_from_args(&args.metric, &args.set)?;
     let rep = report(metric.as_ref(), r, theta)?;
     if args.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&rep).expect("serialisable")
-        );
+        )?;
         return Ok(());
     }
-    println!(
+    outln!(
         "metric {} ({}) at r = {r} M, theta = {theta} rad",
         rep.metric,
         super::args::parameter_summary(&rep.parameters)
-    );
+    )?;
     match rep.horizon_radius {
-        Some(h) => println!("outer horizon: r = {h:.15} M"),
-        None => println!("outer horizon: none (horizonless)"),
-    }
-    print_matrix("g_{mu nu}", &rep.g);
-    print_matrix("g^{mu nu}", &rep.g_inverse);
-    println!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)");
+        Some(h) => outln!("outer horizon: r = {h:.15} M"),
+        None => outln!("outer horizon: none (horizonless)"),
+    }?;
+    print_matrix("g_{mu nu}", &rep.g)?;
+    print_matrix("g^{mu nu}", &rep.g_inverse)?;
+    outln!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)")?;
     for (mu, m) in rep.christoffel.iter().enumerate() {
         for (alpha, row) in m.iter().enumerate() {
             for (beta, x) in row.iter().enumerate().skip(alpha) {
                 if *x != 0.0 {
-                    println!(
+                    outln!(
                         "  Gamma^{}_{{{} {}}} = {x:.16e}",
-                        NAMES[mu], NAMES[alpha], NAMES[beta]
-                    );
+                        NAMES[mu],
+                        NAMES[alpha],
+                        NAMES[beta]
+                    )?;
                 }
             }
         }
