@@ -30,6 +30,8 @@ pub const OUTPUT_CAP: usize = 16 << 20;
 /// How to run one child.
 #[derive(Debug, Clone)]
 pub struct Invocation {
+    /// The program: the built `umbral` unless set otherwise.
+    pub program: PathBuf,
     pub args: Vec<String>,
     /// Working directory (relative paths in `args` are relative to it).
     pub dir: PathBuf,
@@ -42,6 +44,7 @@ pub struct Invocation {
 impl Invocation {
     pub fn new<S: AsRef<str>>(dir: &Path, args: impl IntoIterator<Item = S>) -> Self {
         Invocation {
+            program: PathBuf::from(env!("CARGO_BIN_EXE_umbral")),
             args: args.into_iter().map(|s| s.as_ref().to_string()).collect(),
             dir: dir.to_path_buf(),
             env: Vec::new(),
@@ -57,7 +60,7 @@ impl Invocation {
 
     /// The command, with the resource limits installed in the child before `exec`.
     pub fn command(&self) -> Command {
-        let mut cmd = Command::new(env!("CARGO_BIN_EXE_umbral"));
+        let mut cmd = Command::new(&self.program);
         cmd.args(&self.args)
             .current_dir(&self.dir)
             .stdin(Stdio::null())
