@@ -19,7 +19,9 @@
 //! requires that `x` does not appear.
 //!
 //! Rows marked with an item number describe the behaviour the issue asks for; on a branch where
-//! that item is not fixed yet they fail, and the failure message names the item.
+//! that item is not fixed yet they fail, and the failure message names the item. A row that
+//! exercises one item but fails on another's behaviour carries the item it fails on (deep
+//! nesting is already refused, but its caret excerpt repeats the whole 100 kB line: item 18).
 
 mod common;
 
@@ -39,7 +41,7 @@ enum Expect {
     /// Exit 2 and a metric-file error in caret format containing the needle; stdout empty.
     Caret(&'static str),
     /// Exit 0 and stdout containing the needle (a handled input: a labelled status).
-    Ok(&'static str),
+    Success(&'static str),
     /// Exit 1 (`verify`: an expectation drifted) and stdout containing the needle.
     Drift(&'static str),
     /// Either exit 0, or a clean error (one line or caret) containing the needle: for inputs
@@ -113,7 +115,7 @@ impl ScanBase {
                 repo_file("metrics/reissner-nordstrom.toml"),
             )
             .unwrap();
-            let out = Invocation::new(&dir, &split_args(self.args())).run();
+            let out = Invocation::new(&dir, split_args(self.args())).run();
             assert_eq!(out.code, Some(0), "fixture scan: {}", out.describe());
             std::fs::read_to_string(dir.join("s.jsonl")).unwrap()
         })
@@ -175,7 +177,7 @@ impl Case {
 
 use Content::{Dir, Fifo, Gen, Repo, Scan, Text};
 use Expect::{
-    Caret, Drift, Error, Interrupted, MatchesExact, Ok, OkOrError, RefuseLineOrRecompute,
+    Caret, Drift, Error, Interrupted, MatchesExact, OkOrError, RefuseLineOrRecompute, Success,
 };
 
 /// A checks file with one passing Schwarzschild case (b_c = 3√3, Synge 1966, MNRAS 131, 463).
@@ -225,9 +227,9 @@ fn table() -> Vec<Case> {
         c("metrics: --metrics-dir is a file", 0, "metrics --metrics-dir f.toml", &[("f.toml", Repo(SCHW, &[]))], Error("f.toml")),
         c("metrics: --json to a full disk", 14, "metrics --json >/dev/full", &[], Error("write|space")),
         c("metrics: table to a full disk", 14, "metrics >/dev/full", &[], Error("write|space")),
-        c("metrics: ./metrics holds a 15 000-operator chain", 11, "metrics", &[("metrics", Dir), ("metrics/deep.toml", Gen(chain_15k))], Ok("deep")),
-        c("metrics: --metrics-dir holds a 64 MB file", 12, "metrics --metrics-dir d", &[("d", Dir), ("d/big.toml", Gen(big_metric_file))], Ok("big.toml")),
-        c("metrics: --metrics-dir file with a raw NUL", 18, "metrics --metrics-dir d", &[("d", Dir), ("d/nul.toml", Gen(nul_metric_file))], Ok("nul.toml")),
+        c("metrics: ./metrics holds a 15 000-operator chain", 11, "metrics", &[("metrics", Dir), ("metrics/deep.toml", Gen(chain_15k))], Success("deep")),
+        c("metrics: --metrics-dir holds a 64 MB file", 12, "metrics --metrics-dir d", &[("d", Dir), ("d/big.toml", Gen(big_metric_file))], Success("big.toml")),
+        c("metrics: --metrics-dir file with a raw NUL", 18, "metrics --metrics-dir d", &[("d", Dir), ("d/nul.toml", Gen(nul_metric_file))], Success("nul.toml")),
         // ---- geometry -----------------------------------------------------------------------
         c("geometry: no metric", 0, "geometry --r 6 --theta 1", &[], Error("--metric")),
         c("geometry: unknown metric", 0, "geometry --metric kerrr --r 6 --theta 1", &[], Error("unknown metric 'kerrr'")),
@@ -250,7 +252,7 @@ fn table() -> Vec<Case> {
         c("geometry: Schwarzschild on the horizon", 0, "geometry --metric schwarzschild --r 2 --theta 1", &[], Error("singular")),
         c("geometry: Schwarzschild at r < 0", 20, "geometry --metric schwarzschild --r -1 --theta 1", &[], Error("r = -1|r > 0|negative|singular")),
         c("geometry: Kerr ring singularity in floating point", 20, "geometry --metric kerr --set a=0.9 --r 0 --theta 1.5707963267948966", &[], Error("singular")),
-        c("geometry: Schwarzschild at a subnormal r", 20, "geometry --metric schwarzschild --r 1e-320 --theta 1", &[], Error("singular")),
+        c("geometry: Schwarzschild at a subnormal r", 18, "geometry --metric schwarzschild --r 1e-320 --theta 1", &[], Error("singular")),
         c("geometry: Kerr at r = 1e-300 (message length)", 18, "geometry --metric kerr --r 1e-300 --theta 1", &[], Error("e-300")),
         c("geometry: both --metric and --metric-file", 0, "geometry --metric kerr --metric-file m.toml --r 6 --theta 1", &[("m.toml", Repo(KERR, &[]))], Error("cannot be used with")),
         c("geometry: metric file missing", 0, "geometry --metric-file none.toml --r 6 --theta 1", &[], Error("none.toml")),
@@ -280,9 +282,9 @@ fn table() -> Vec<Case> {
         c("metric file: 2 MB line with an error", 18, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(long_line_metric_file))], Caret("m.toml")),
         c("metric file: 15 000-operator chain (shadow)", 11, "shadow --metric-file m.toml --inclination 30 --points 16", &[("m.toml", Gen(chain_15k))], OkOrError("long|deep|depth|nest|complex|operators")),
         c("metric file: 200 000-operator chain", 11, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(chain_200k))], OkOrError("long|deep|depth|nest|complex|operators")),
-        c("metric file: 100 000 nested parentheses", 11, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(nested_parentheses))], Caret("nest|deep|depth")),
-        c("metric file: 100 000 unary minus signs", 11, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(unary_chain))], OkOrError("long|deep|depth|nest|complex|operators")),
-        c("metric file: 50 000-level power tower", 11, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(power_tower))], OkOrError("long|deep|depth|nest|complex|operators")),
+        c("metric file: 100 000 nested parentheses", 18, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(nested_parentheses))], Caret("nest|deep|depth")),
+        c("metric file: 100 000 unary minus signs", 18, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(unary_chain))], OkOrError("long|deep|depth|nest|complex|operators")),
+        c("metric file: 50 000-level power tower", 18, "geometry --metric-file m.toml --r 6 --theta 1", &[("m.toml", Gen(power_tower))], OkOrError("long|deep|depth|nest|complex|operators")),
         c("metric file: separation with g_tt = 0", 2, SHADOW_MF, &[("m.toml", Repo(KERR, &[(G_TT, "g_tt = \"0\"")]))], Caret("separation|radial|polar|hamiltonian")),
         c("metric file: separation with g_tt = +1/0", 2, SHADOW_MF, &[("m.toml", Repo(KERR, &[(G_TT, "g_tt = \"+1/0\"")]))], Caret("separation|radial|polar|hamiltonian")),
         c("metric file: separation with g_tt = +sqrt(-1)", 2, SHADOW_MF, &[("m.toml", Repo(KERR, &[(G_TT, "g_tt = \"+sqrt(-1)\"")]))], Caret("separation|radial|polar|hamiltonian")),
@@ -299,7 +301,7 @@ fn table() -> Vec<Case> {
         c("shadow: 7 points", 0, "shadow --metric kerr --inclination 30 --points 7", &[], Error("--points")),
         c("shadow: points beyond the cap", 0, "shadow --metric kerr --inclination 30 --points 100000000000", &[], Error("--points")),
         c("shadow: points not a number", 0, "shadow --metric kerr --inclination 30 --points x", &[], Error("x")),
-        c("shadow: 40 000 points in bounded time", 13, "shadow --metric schwarzschild --inclination 30 --points 40000", &[], Ok("mean radius")),
+        c("shadow: 40 000 points in bounded time", 13, "shadow --metric schwarzschild --inclination 30 --points 40000", &[], Success("mean radius")),
         c("shadow: unknown solver", 0, "shadow --metric kerr --inclination 30 --solver magic", &[], Error("magic")),
         c("shadow: spherical solver on Kerr", 0, "shadow --metric kerr --set a=0.5 --inclination 30 --solver spherical", &[], Error("does not apply")),
         c("shadow: separable solver on Johannsen-Psaltis", 0, "shadow --metric johannsen-psaltis --set a=0.5 --set eps3=1 --inclination 30 --solver separable", &[], Error("does not apply")),
@@ -326,20 +328,20 @@ fn table() -> Vec<Case> {
         c("shadow: csv written, plot path is a folder", 19, "shadow --metric kerr --inclination 30 --points 16 --csv c.csv --plot d.svg", &[("d.svg", Dir)], Error("d.svg")),
         c("shadow: table to a full disk", 14, "shadow --metric kerr --inclination 30 --points 16 >/dev/full", &[], Error("write|space")),
         c("shadow: --json to a full disk", 14, "shadow --metric kerr --inclination 30 --points 16 --json >/dev/full", &[], Error("write|space")),
-        c("shadow: raytrace, RN q = 1.06 has no shadow", 3, "shadow --metric reissner-nordstrom --set q=1.06 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Ok("\"status\": \"no_shadow\"")),
-        c("shadow: raytrace, horizonless rotating Hayward", 3, "shadow --metric rotating-hayward --set a=0.9 --set l=0.3 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Ok("\"status\": \"no_shadow\"")),
-        c("shadow: raytrace, horizonless rotating metric file", 3, "shadow --metric-file m.toml --set a=1.2 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[("m.toml", Repo(KERR, &[]))], Ok("\"status\": \"no_shadow\"")),
-        c("shadow: raytrace, Johannsen curve off the screen centre", 4, "shadow --metric johannsen --set a=0.9 --set alpha13=-2.95 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Ok("\"status\": \"shadow\"")),
-        c("shadow: raytrace, Johannsen alpha13 = -3", 4, "shadow --metric johannsen --set a=0.9 --set alpha13=-3 --inclination 90 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Ok("\"status\": \"shadow\"")),
+        c("shadow: raytrace, RN q = 1.06 has no shadow", 3, "shadow --metric reissner-nordstrom --set q=1.06 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Success("\"status\": \"no_shadow\"")),
+        c("shadow: raytrace, horizonless rotating Hayward", 3, "shadow --metric rotating-hayward --set a=0.9 --set l=0.3 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Success("\"status\": \"no_shadow\"")),
+        c("shadow: raytrace, horizonless rotating metric file", 3, "shadow --metric-file m.toml --set a=1.2 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[("m.toml", Repo(KERR, &[]))], Success("\"status\": \"no_shadow\"")),
+        c("shadow: raytrace, Johannsen curve off the screen centre", 4, "shadow --metric johannsen --set a=0.9 --set alpha13=-2.95 --inclination 60 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Success("\"status\": \"shadow\"")),
+        c("shadow: raytrace, Johannsen alpha13 = -3", 4, "shadow --metric johannsen --set a=0.9 --set alpha13=-3 --inclination 90 --solver raytrace --points 16 --tolerance 1e-6 --json", &[], Success("\"status\": \"shadow\"")),
         c("shadow: raytrace, near-extremal Kerr-Newman edge-on", 5, "shadow --metric kerr-newman --set a=0.6 --set q=0.7999999 --inclination 90 --solver raytrace --points 32 --json", &[], MatchesExact("shadow --metric kerr-newman --set a=0.6 --set q=0.7999999 --inclination 90 --points 32 --json", 2e-8)),
         c("shadow: raytrace, near-extremal dilaton", 5, "shadow --metric dilaton --set q=1.41421356 --inclination 60 --solver raytrace --points 32 --json", &[], MatchesExact("shadow --metric dilaton --set q=1.41421356 --inclination 60 --points 32 --json", 2e-8)),
         c("shadow: raytrace, Schwarzschild at 0.01 deg", 6, "shadow --metric schwarzschild --inclination 0.01 --solver raytrace --points 32 --json", &[], MatchesExact("shadow --metric schwarzschild --inclination 0.01 --points 32 --json", 2e-8)),
-        c("shadow: JNW nu = 0.501 has a photon sphere", 8, "shadow --metric jnw --set nu=0.501 --inclination 30 --json", &[], Ok("\"status\": \"shadow\"")),
-        c("shadow: JNW nu = 0.5014 has a photon sphere", 8, "shadow --metric jnw --set nu=0.5014 --inclination 30 --json", &[], Ok("\"status\": \"shadow\"")),
-        c("shadow: Kerr a = 0.3 at 0.001 deg", 9, "shadow --metric kerr --set a=0.3 --inclination 0.001", &[], Ok("mean radius")),
-        c("shadow: Kerr a = 0.9 at 0.0001 deg", 9, "shadow --metric kerr --set a=0.9 --inclination 0.0001", &[], Ok("mean radius")),
-        c("shadow: Simpson-Visser l = 3", 9, "shadow --metric simpson-visser --set l=3 --inclination 30 --json", &[], Ok("\"status\": \"shadow\"")),
-        c("shadow: Kerr-Sen a = 0, b = 1", 9, "shadow --metric kerr-sen --set a=0 --set b=1 --inclination 30", &[], Ok("kerr-sen")),
+        c("shadow: JNW nu = 0.501 has a photon sphere", 8, "shadow --metric jnw --set nu=0.501 --inclination 30 --json", &[], Success("\"status\": \"shadow\"")),
+        c("shadow: JNW nu = 0.5014 has a photon sphere", 8, "shadow --metric jnw --set nu=0.5014 --inclination 30 --json", &[], Success("\"status\": \"shadow\"")),
+        c("shadow: Kerr a = 0.3 at 0.001 deg", 9, "shadow --metric kerr --set a=0.3 --inclination 0.001", &[], Success("mean radius")),
+        c("shadow: Kerr a = 0.9 at 0.0001 deg", 9, "shadow --metric kerr --set a=0.9 --inclination 0.0001", &[], Success("mean radius")),
+        c("shadow: Simpson-Visser l = 3", 9, "shadow --metric simpson-visser --set l=3 --inclination 30 --json", &[], Success("\"status\": \"shadow\"")),
+        c("shadow: Kerr-Sen a = 0, b = 1", 9, "shadow --metric kerr-sen --set a=0 --set b=1 --inclination 30", &[], Success("kerr-sen")),
         c("shadow: metric file with a broken expression", 0, "shadow --metric-file m.toml --inclination 30", &[("m.toml", Repo(SCHW, &[("2/r", "2/(r")]))], Caret("m.toml")),
         // ---- bound and measurement files ----------------------------------------------------
         c("bound: measurement missing", 0, "bound --metric reissner-nordstrom --vary q=0:1", &[], Error("--measurement")),
@@ -358,9 +360,9 @@ fn table() -> Vec<Case> {
         c("bound: rotating metric without inclination", 0, "bound --metric kerr --vary a=0:0.9 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("--inclination")),
         c("bound: plot not SVG", 0, "bound --metric reissner-nordstrom --vary q=0:1 --measurement m.toml --plot b.png", &[("m.toml", Repo(MEAS_FILE, &[]))], Error(".svg")),
         c("bound: --json to a full disk", 14, "bound --metric reissner-nordstrom --vary q=0:1 --measurement m.toml --json >/dev/full", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("write|space")),
-        c("bound: JNW horizonless values are evaluated", 7, "bound --metric jnw --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Ok("horizonless")),
-        c("bound: JNW metric file, horizonless values evaluated", 7, "bound --metric-file j.toml --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[])), ("j.toml", Repo("metrics/jnw.toml", &[]))], Ok("horizonless")),
-        c("bound: --require-horizon keeps the old policy", 7, "bound --metric jnw --vary nu=0.3:1 --require-horizon --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Ok("no horizon")),
+        c("bound: JNW horizonless values are evaluated", 7, "bound --metric jnw --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Success("horizonless")),
+        c("bound: JNW metric file, horizonless values evaluated", 7, "bound --metric-file j.toml --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[])), ("j.toml", Repo("metrics/jnw.toml", &[]))], Success("horizonless")),
+        c("bound: --require-horizon keeps the old policy", 7, "bound --metric jnw --vary nu=0.3:1 --require-horizon --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Success("no horizon")),
         c("measurement: file missing", 0, "bound --metric reissner-nordstrom --vary q=0:1 --measurement none.toml", &[], Error("none.toml")),
         c("measurement: /dev/zero", 12, "bound --metric reissner-nordstrom --vary q=0:1 --measurement /dev/zero", &[], Error("regular file")),
         c("measurement: a FIFO", 12, "bound --metric reissner-nordstrom --vary q=0:1 --measurement p.toml", &[("p.toml", Fifo)], Error("regular file")),
@@ -410,7 +412,7 @@ fn table() -> Vec<Case> {
         c("scan file: status banana", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, status_banana))], RefuseLineOrRecompute(3)),
         c("scan file: shadow without observables", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, drop_observables))], RefuseLineOrRecompute(3)),
         c("scan file: an extra field", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, extra_field))], RefuseLineOrRecompute(3)),
-        c("scan file: index of the wrong length", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, long_index))], RefuseLineOrRecompute(3)),
+        c("scan file: index of the wrong length", 16, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, long_index))], RefuseLineOrRecompute(3)),
         c("scan file: duplicated index, other numbers", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, duplicate_index))], RefuseLineOrRecompute(6)),
         c("scan file: malformed line", 16, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, malformed_line))], Error("line 3")),
         c("scan file: blank line", 16, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, blank_line))], Error("line 3")),
@@ -418,7 +420,7 @@ fn table() -> Vec<Case> {
         c("scan file: off-grid index", 16, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, off_grid_index))], Error("line 3")),
         c("scan file: out-of-range number", 16, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, huge_number))], Error("line 3")),
         c("scan file: binary", 16, SCAN_RN, &[("s.jsonl", Gen(binary_bytes))], Error("line|binary|UTF-8|text !cannot write")),
-        c("scan: a stale temporary name is in the way", 15, SCAN_RN, &[("s.jsonl.partial", Dir)], Ok("4 points")),
+        c("scan: a stale temporary name is in the way", 15, SCAN_RN, &[("s.jsonl.partial", Dir)], Success("4 points")),
         c("scan: a second scan on an output in use", 15, SCAN_LONG, &[], Error("in use")).background(SCAN_LONG),
         c("scan: Ctrl-C says how far it got and how to resume", 17, SCAN_LONG, &[], Interrupted(3, "resume|rerun|run again")),
         c("scan: summary to a full disk", 14, "scan --metric reissner-nordstrom --grid q=0:0.9:4 --inclination 30 --out s.jsonl >/dev/full", &[("s.jsonl", Scan(ScanBase::Rn, unchanged))], Error("write|space")),
@@ -842,7 +844,7 @@ fn run_case(index: usize, case: &Case) -> Vec<String> {
     let expect_problems = match case.expect {
         Error(needle) => one_line_error(&out, needle),
         Caret(needle) => caret_error(&out, needle),
-        Ok(needle) | Drift(needle) => {
+        Success(needle) | Drift(needle) => {
             let code = if matches!(case.expect, Drift(_)) {
                 1
             } else {
@@ -876,7 +878,7 @@ fn run_case(index: usize, case: &Case) -> Vec<String> {
         }
         MatchesExact(exact, tol) => match out.code {
             Some(0) => {
-                let reference = Invocation::new(&dir, &split_args(exact)).run();
+                let reference = Invocation::new(&dir, split_args(exact)).run();
                 match (mean_radius(&out.stdout), mean_radius(&reference.stdout)) {
                     (Some(x), Some(y)) if (x - y).abs() <= tol => Vec::new(),
                     (Some(x), Some(y)) => vec![format!(
@@ -914,7 +916,7 @@ fn run_case(index: usize, case: &Case) -> Vec<String> {
         ));
     }
     if let Some((file, text)) = case.keeps {
-        if let Some(written) = std::fs::read_to_string(dir.join(file)).ok() {
+        if let Ok(written) = std::fs::read_to_string(dir.join(file)) {
             if !written.contains(text) {
                 problems.push(format!("{file} was written without '{text}'"));
             }

@@ -205,8 +205,17 @@ fn inclination_strategy() -> impl Strategy<Value = f64> {
     ]
 }
 
+/// The number of proptest cases: `default`, or `PROPTEST_CASES` from the environment for a
+/// longer run (proptest's own variable is ignored once a test sets its count).
+fn cases(default: u32) -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(default)
+}
+
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(96))]
+    #![proptest_config(ProptestConfig::with_cases(cases(96)))]
 
     #[test]
     fn auto_solver_is_honest_over_every_declared_domain(

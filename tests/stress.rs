@@ -191,7 +191,7 @@ fn run_probe(p: &Probe) -> (Option<Value>, Vec<String>) {
                 problems.push(format!("expected a shadow, got {status}: {}", v["reason"]));
             } else if let Some(exact) = closed {
                 let got = v["observables"]["mean_radius"].as_f64().unwrap_or(f64::NAN);
-                if !((got - exact).abs() <= tol * exact) {
+                if got.is_nan() || (got - exact).abs() > tol * exact {
                     problems.push(format!(
                         "mean radius {got} vs closed form {exact} (rel. diff {:.2e}, allowed {tol:.0e})",
                         (got - exact) / exact
@@ -359,6 +359,11 @@ fn photon_sphere_edge(a: impl Fn(f64, f64) -> f64, lo: f64, hi: f64) -> f64 {
     }
     0.5 * (lo + hi)
 }
+
+/// The near-extremal dilaton charge of the reliability issue (item 5): eight digits of √2, on
+/// purpose, so that the photon sphere lies 5e-5 M outside the horizon.
+#[allow(clippy::approx_constant)]
+const DILATON_Q: f64 = 1.414_213_56;
 
 /// Just inside / just outside an edge: a relative step for closed-form edges.
 const EPS: f64 = 1e-9;
@@ -608,8 +613,8 @@ fn spherical_metrics_at_their_edges() {
         probe(
             "dilaton q=1.41421356",
             "dilaton",
-            &[("q", 1.41421356)],
-            Shadow(Some(dilaton_shadow(1.41421356)), 1e-8),
+            &[("q", DILATON_Q)],
+            Shadow(Some(dilaton_shadow(DILATON_Q)), 1e-8),
         ),
         probe(
             "dilaton q=sqrt2+",
@@ -940,8 +945,8 @@ fn raytracer_against_exact_solvers() {
         (
             "dilaton q=1.41421356",
             5,
-            ("dilaton", &[("q", 1.41421356)]),
-            ("dilaton", &[("q", 1.41421356)]),
+            ("dilaton", &[("q", DILATON_Q)]),
+            ("dilaton", &[("q", DILATON_Q)]),
             60.0,
         ),
         (
@@ -1032,7 +1037,7 @@ fn raytracer_against_exact_solvers() {
         };
         if let Some(d) = diff {
             worst = worst.max(d);
-            if !(d <= 4.0 * tol) {
+            if d.is_nan() || d > 4.0 * tol {
                 problems.push(format!(
                     "max observable difference {d:.3e} exceeds 4 x tolerance {tol:.0e}"
                 ));
