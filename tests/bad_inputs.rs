@@ -405,7 +405,7 @@ fn table() -> Vec<Case> {
         c("scan: plot not SVG", 0, "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out s.jsonl --plot m.png", &[], Error(".svg")),
         c("scan file: written with other arguments", 0, "scan --metric reissner-nordstrom --grid q=0:0.9:4 --inclination 45 --out s.jsonl", &[("s.jsonl", Scan(ScanBase::Rn, unchanged))], Error("different arguments")),
         c("scan file: not a scan file", 0, SCAN_RN, &[("s.jsonl", Text("not a scan\n", &[]))], Error("s.jsonl")),
-        c("scan file: metric file edited since", 1, SCAN_RN_FILE, &[("m.toml", Repo("metrics/reissner-nordstrom.toml", &[("C = \"r^2\"", "C = \"r^2 + q^2\"")])), ("s.jsonl", Scan(ScanBase::RnFile, unchanged))], Error("s.jsonl")),
+        c("scan file: metric file edited since", 1, SCAN_RN_FILE, &[("m.toml", Repo("metrics/reissner-nordstrom.toml", &[("C = \"r^2\"", "C = \"r^2 + q^2\"")])), ("s.jsonl", Scan(ScanBase::RnFile, unchanged))], Error("s.jsonl|m.toml")),
         c("scan file: hand-edited mean_radius", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, edit_mean_radius))], RefuseLineOrRecompute(3)),
         c("scan file: parameters disagree with the index", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, edit_parameters))], RefuseLineOrRecompute(3)),
         c("scan file: parameters missing", 1, SCAN_RN, &[("s.jsonl", Scan(ScanBase::Rn, empty_parameters))], RefuseLineOrRecompute(3)),
@@ -773,14 +773,21 @@ fn clean_error(out: &Outcome, needle: &str) -> Vec<String> {
     }
 }
 
-/// Files the arguments name (a successful run may create these, and `X.updated.toml` for
-/// `verify --update`).
+/// The output files the arguments name: the value of `--out`, `--csv`, `--plot`, `--output`,
+/// and for `verify --update` each checks file's `X.updated.toml`. A successful run may create or
+/// rewrite these and nothing else.
 fn named_outputs(args: &[String]) -> BTreeSet<PathBuf> {
     let mut out = BTreeSet::new();
-    for a in args {
-        out.insert(PathBuf::from(a));
-        if let Some(stem) = a.strip_suffix(".toml") {
-            out.insert(PathBuf::from(format!("{stem}.updated.toml")));
+    for pair in args.windows(2) {
+        if ["--out", "--csv", "--plot", "--output"].contains(&pair[0].as_str()) {
+            out.insert(PathBuf::from(&pair[1]));
+        }
+    }
+    if args.first().map(String::as_str) == Some("verify") && args.iter().any(|a| a == "--update") {
+        for a in args {
+            if let Some(stem) = a.strip_suffix(".toml") {
+                out.insert(PathBuf::from(format!("{stem}.updated.toml")));
+            }
         }
     }
     out
