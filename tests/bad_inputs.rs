@@ -117,7 +117,9 @@ impl ScanBase {
             .unwrap();
             let out = Invocation::new(&dir, split_args(self.args())).run();
             assert_eq!(out.code, Some(0), "fixture scan: {}", out.describe());
-            std::fs::read_to_string(dir.join("s.jsonl")).unwrap()
+            let text = std::fs::read_to_string(dir.join("s.jsonl")).unwrap();
+            let _ = std::fs::remove_dir_all(&dir);
+            text
         })
     }
 }

@@ -8,6 +8,8 @@
 //! Curves use 16 points (8 for the ray-traced edges) and a 1e-6 M tolerance: the property is
 //! about outcomes, not accuracy.
 
+mod common;
+
 use proptest::prelude::*;
 use umbral::metric::{Bound, Domain, Spacetime};
 use umbral::metrics::{builtin_metrics, MetricEntry};
@@ -207,17 +209,8 @@ fn inclination_strategy() -> impl Strategy<Value = f64> {
     ]
 }
 
-/// The number of proptest cases: `default`, or `PROPTEST_CASES` from the environment for a
-/// longer run (proptest's own variable is ignored once a test sets its count).
-fn cases(default: u32) -> u32 {
-    std::env::var("PROPTEST_CASES")
-        .ok()
-        .and_then(|v| v.parse().ok())
-        .unwrap_or(default)
-}
-
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(cases(96)))]
+    #![proptest_config(ProptestConfig::with_cases(common::proptest_cases(96)))]
 
     #[test]
     fn auto_solver_is_honest_over_every_declared_domain(

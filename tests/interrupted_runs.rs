@@ -52,6 +52,7 @@ fn reference() -> &'static [u8] {
         let bytes = std::fs::read(dir.join("s.jsonl")).unwrap();
         let lines = bytes.iter().filter(|&&b| b == b'\n').count();
         assert_eq!(lines, POINTS + 1, "header plus one line per point");
+        let _ = std::fs::remove_dir_all(&dir);
         bytes
     })
 }

@@ -219,17 +219,8 @@ fn arbitrary_bytes() -> impl Strategy<Value = Vec<u8>> {
     proptest::collection::vec(any::<u8>(), 0..512)
 }
 
-/// The number of proptest cases: `default`, or `PROPTEST_CASES` from the environment for a
-/// longer run (proptest's own variable is ignored once a test sets its count).
-fn cases(default: u32) -> u32 {
-    std::env::var("PROPTEST_CASES")
-        .ok()
-        .and_then(|v| v.parse().ok())
-        .unwrap_or(default)
-}
-
 proptest! {
-    #![proptest_config(ProptestConfig::with_cases(cases(512)))]
+    #![proptest_config(ProptestConfig::with_cases(common::proptest_cases(512)))]
 
     #[test]
     fn metric_file_reader_never_panics(bytes in prop_oneof![arbitrary_bytes(), mutated(metric_seeds)]) {

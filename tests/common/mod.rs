@@ -410,3 +410,12 @@ pub fn point_lines_on_disk(dir: &Path) -> usize {
         .max()
         .unwrap_or(0)
 }
+
+/// The number of proptest cases: `default`, or `PROPTEST_CASES` from the environment for a
+/// longer run (proptest's own reading of that variable is overridden once a test sets a count).
+pub fn proptest_cases(default: u32) -> u32 {
+    std::env::var("PROPTEST_CASES")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(default)
+}
