@@ -511,3 +511,13 @@ pub fn run_scan_until(
         reused,
     })
 }
+
+/// Read and check the points an earlier run of `request` left in `path`, computing nothing:
+/// the scan-file reader on its own, for tests and fuzzing. `Ok` holds the kept points in grid
+/// order (none when the file does not exist); `Err` is what [`run_scan`] would refuse the file
+/// with.
+pub fn read_scan_file(request: &ScanRequest, path: &Path) -> Result<Vec<ScanPoint>, ScanError> {
+    validate(request)?;
+    let kept = read_existing(path, &header(request), &indices(&request.axes))?;
+    Ok(kept.into_values().map(|(_, p)| p).collect())
+}
