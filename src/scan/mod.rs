@@ -518,6 +518,16 @@ pub fn run_scan_until(
 /// with.
 pub fn read_scan_file(request: &ScanRequest, path: &Path) -> Result<Vec<ScanPoint>, ScanError> {
     validate(request)?;
-    let kept = read_existing(path, &header(request), &indices(&request.axes))?;
+    let head = header::header(request)?;
+    let head_text = header::text(&head)?;
+    if !path.exists() {
+        return Ok(Vec::new());
+    }
+    let cap = file_cap(indices(&request.axes).len());
+    let data = crate::input::read_bytes_capped(path, cap).map_err(|e| ScanError::Read {
+        path: path.display().to_string(),
+        message: e.to_string(),
+    })?;
+    let kept = read_existing(&data, path, &head, &head_text, request)?;
     Ok(kept.into_values().map(|(_, p)| p).collect())
 }
