@@ -7,7 +7,7 @@
 use std::f64::consts::{FRAC_PI_2, PI};
 use std::process::{Command, Output};
 use umbral::metric::{check_point, PointProblem, Spacetime};
-use umbral::metrics::{builtin_metrics, build_metric, Kerr, Schwarzschild};
+use umbral::metrics::{build_metric, builtin_metrics, Kerr, Schwarzschild};
 
 fn umbral(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_umbral"))
@@ -178,6 +178,9 @@ fn a_metric_that_is_not_real_at_a_point_is_refused() {
     let b = 2.0 / 0.6;
     let problem = check_point(jnw.as_ref(), 0.9 * b, 1.0).unwrap_err();
     assert!(problem.is_singular(), "{problem}");
-    assert!(problem.to_string().contains("not a finite number"), "{problem}");
+    assert!(
+        problem.to_string().contains("not a finite number"),
+        "{problem}"
+    );
     assert!(check_point(jnw.as_ref(), 1.5 * b, 1.0).is_ok());
 }

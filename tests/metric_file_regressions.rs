@@ -55,6 +55,22 @@ fn umbral(args: &[&str]) -> Output {
         .expect("the binary runs")
 }
 
+/// `umbral COMMAND --metric-file CASE.toml ARGS...` with `text` written to CASE.toml in a
+/// scratch folder (removed afterwards).
+fn umbral_on_file(case: &str, text: &str, command: &str, args: &[&str]) -> Output {
+    let dir = scratch(case);
+    let path = dir.join(format!("{case}.toml"));
+    std::fs::write(&path, text).unwrap();
+    let mut all = vec![command, "--metric-file", path.to_str().unwrap()];
+    all.extend_from_slice(args);
+    let out = umbral(&all);
+    std::fs::remove_dir_all(&dir).ok();
+    out
+}
+
+/// At a unit point, the geometry command (which loads the file first).
+const GEOMETRY_AT: [&str; 4] = ["--r", "3", "--theta", "1"];
+
 // ---- item 2: separation data against the line element -------------------------------------
 
 /// A separation error placed at the `[separation]` table, with the given text in its message.
@@ -147,54 +163,37 @@ fn a_mismatch_at_other_parameters_is_refused_on_instantiation() {
         "{message}"
     );
     // The same through the command line: one line, exit code 2, no shadow printed.
-    let dir = scratch("instantiate");
-    let path = dir.join("kerr-bad.toml");
-    std::fs::write(&path, &text).unwrap();
-    let out = umbral(&[
+    let out = umbral_on_file(
+        "kerr-bad",
+        &text,
         "shadow",
-        "--metric-file",
-        path.to_str().unwrap(),
-        "--set",
-        "a=0.9",
-        "--inclination",
-        "60",
-    ]);
+        &["--set", "a=0.9", "--inclination", "60"],
+    );
     let stderr = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{stderr}");
     assert_eq!(stderr.lines().count(), 1, "{stderr}");
     assert!(stderr.contains("do not match the line element"), "{stderr}");
     assert!(out.stdout.is_empty());
-    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]
 fn separation_mismatch_is_refused_by_the_command_line_with_the_caret_format() {
-    let dir = scratch("cli-separation");
-    let path = dir.join("kerr-11.toml");
-    std::fs::write(
-        &path,
-        kerr_with(
-            "radial",
-            "(r^2 + a^2 - a*lambda)^2 - 1.1*Delta*(eta + (lambda - a)^2)",
-        ),
-    )
-    .unwrap();
-    let out = umbral(&[
+    let text = kerr_with(
+        "radial",
+        "(r^2 + a^2 - a*lambda)^2 - 1.1*Delta*(eta + (lambda - a)^2)",
+    );
+    let out = umbral_on_file(
+        "kerr-11",
+        &text,
         "shadow",
-        "--metric-file",
-        path.to_str().unwrap(),
-        "--set",
-        "a=0.5",
-        "--inclination",
-        "60",
-    ]);
+        &["--set", "a=0.5", "--inclination", "60"],
+    );
     let stderr = String::from_utf8_lossy(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{stderr}");
     assert!(stderr.contains("kerr-11.toml, line "), "{stderr}");
     assert!(stderr.contains("| [separation]\n"), "{stderr}");
     assert!(stderr.contains("     | ^\n"), "{stderr}");
     assert!(out.stdout.is_empty());
-    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]
@@ -347,29 +346,14 @@ fn two_megabyte_line_error_shows_a_window_around_the_caret() {
     let marked: String = at.source_line.chars().skip(61).take(at.width).collect();
     assert_eq!(marked, "rr");
     // Every error of a 900 KB line stays short through the command line too.
-    let dir = scratch("long-line");
-    let path = dir.join("long.toml");
-    std::fs::write(
-        &path,
-        schwarzschild_with_c(&format!("r^2 + {}", "x".repeat(900_000))),
-    )
-    .unwrap();
-    let out = umbral(&[
-        "geometry",
-        "--metric-file",
-        path.to_str().unwrap(),
-        "--r",
-        "3",
-        "--theta",
-        "1",
-    ]);
+    let text = schwarzschild_with_c(&format!("r^2 + {}", "x".repeat(900_000)));
+    let out = umbral_on_file("long-line", &text, "geometry", &GEOMETRY_AT);
     assert_eq!(out.status.code(), Some(2));
     assert!(
         out.stderr.len() < 1_000,
         "{} bytes of stderr",
         out.stderr.len()
     );
-    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]
@@ -394,20 +378,10 @@ fn nul_in_a_metric_file_is_escaped_in_the_error() {
     let e = error_of(&schwarzschild_with_c("r^2 + \u{7}\u{1b}\u{202e}"));
     assert!(e.to_string().contains("\\u{7}"), "{e}");
     assert!(!e.to_string().contains('\u{7}'), "{e}");
+    assert!(e.to_string().contains("\\u{202e}"), "{e}");
     // Through the command line: no raw NUL on stderr.
-    let dir = scratch("nul");
-    let path = dir.join("nul.toml");
-    std::fs::write(&path, schwarzschild_with_c("r^2 + \u{0}")).unwrap();
-    let out = umbral(&[
-        "geometry",
-        "--metric-file",
-        path.to_str().unwrap(),
-        "--r",
-        "3",
-        "--theta",
-        "1",
-    ]);
+    let text = schwarzschild_with_c("r^2 + \u{0}");
+    let out = umbral_on_file("nul", &text, "geometry", &GEOMETRY_AT);
     assert_eq!(out.status.code(), Some(2));
     assert!(!out.stderr.contains(&0u8), "raw NUL on stderr");
-    std::fs::remove_dir_all(&dir).ok();
 }
