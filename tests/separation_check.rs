@@ -9,7 +9,7 @@ use umbral::metric::{
     check_separation, separation_residual, Metric, MetricComponents, SeparationError,
     SEPARATION_TOLERANCE,
 };
-use umbral::metrics::{builtin_metrics, Kerr};
+use umbral::metrics::{build_metric, builtin_metrics, Kerr};
 use umbral::scalar::DualScalar;
 
 /// The built-ins that provide separation data (Carter 1968; Johannsen 2013; Sen 1992;
@@ -78,6 +78,44 @@ fn every_builtin_separable_metric_passes_the_separation_check() {
     // Rounding only: far below the tolerance the loader applies.
     assert!(worst < 1e-13, "worst relative residual {worst:e}");
     assert!(worst < SEPARATION_TOLERANCE);
+}
+
+/// Large Johannsen deviations put check points where the (t, φ) block of the metric cancels
+/// to 1 part in 1e7 to 1e11: the inverse then carries a relative error of about ε κ, and the
+/// relative residual of these legitimate separation data exceeds 1e-9 (up to 1.8e-6). The
+/// allowance 100 ε κ keeps them passing. (Points from a random search over deviations in
+/// ±100, rounded to two decimals.)
+#[test]
+fn johannsen_with_large_deviations_passes_where_the_t_phi_block_is_ill_conditioned() {
+    let points = [
+        [0.95, 14.21, 99.57, -59.08, -95.77],
+        [-0.81, -6.49, 77.23, 61.73, 7.7],
+        [-0.95, 24.3, 85.46, -18.41, 27.72],
+        [-0.69, -2.34, 61.21, 47.7, -96.84],
+        [-0.83, 15.67, 98.28, 74.22, -81.2],
+        [0.59, -10.32, 67.59, -68.85, -35.12],
+        [0.99, -21.2, -81.13, -10.26, 12.59],
+    ];
+    let names = ["a", "alpha13", "alpha22", "alpha52", "eps3"];
+    let mut largest_relative: f64 = 0.0;
+    for values in points {
+        let set: Vec<(String, f64)> = names
+            .iter()
+            .zip(values)
+            .map(|(n, v)| (n.to_string(), v))
+            .collect();
+        let m = build_metric("johannsen", &set).unwrap();
+        let report =
+            check_separation(m.as_ref()).unwrap_or_else(|e| panic!("johannsen {set:?}: {e}"));
+        let w = report.worst;
+        assert!(
+            w.relative() <= 100.0 * f64::EPSILON * w.conditioning,
+            "{w:?}"
+        );
+        assert!(w.excess() < 0.1, "{w:?}");
+        largest_relative = largest_relative.max(w.relative());
+    }
+    assert!(largest_relative > 1e-7, "{largest_relative:e}");
 }
 
 /// Kerr with Carter's radial potential but Δ replaced by 1.1 Δ: the metric-file case of
