@@ -457,14 +457,21 @@ pub(crate) fn edit_distance(a: &str, b: &str) -> usize {
 
 /// The closest candidate to `name`, if it is close enough to be a plausible typo: at most a
 /// third of the longer name's length in edits (at least one edit), ties to the earlier one.
-/// Case-only differences always qualify.
+/// Case-only differences always qualify. Names over 64 characters get no suggestion.
 pub(crate) fn closest<'a>(
     name: &str,
     candidates: impl IntoIterator<Item = &'a str>,
 ) -> Option<String> {
+    let length = name.chars().count();
+    if length > 64 {
+        // Not a plausible typo of any name, and edit distances would cost O(length) each.
+        return None;
+    }
     let mut best: Option<(usize, &str)> = None;
     for c in candidates {
-        if c == name {
+        let other = c.chars().count();
+        // The distance is at least the difference in length: skip hopeless candidates early.
+        if c == name || length.abs_diff(other) > (length.max(other) / 3).max(1) {
             continue;
         }
         let d = if c.eq_ignore_ascii_case(name) {
@@ -472,7 +479,7 @@ pub(crate) fn closest<'a>(
         } else {
             edit_distance(name, c)
         };
-        let limit = (name.chars().count().max(c.chars().count()) / 3).max(1);
+        let limit = (length.max(other) / 3).max(1);
         if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
             best = Some((d, c));
         }

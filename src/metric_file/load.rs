@@ -1,7 +1,7 @@
 //! From the text of a metric file to a checked [`FileMetricSpec`]: TOML schema, names,
 //! domains, helper order, symmetry and contexts, each error placed in the file.
 
-use super::error::{closest, Location, MetricFileError};
+use super::error::{closest, shown, Location, MetricFileError};
 use super::metric::{CheckValue, FileMetricSpec, HorizonRule};
 use super::parser::{is_identifier, parse_expression, Expr, ParseError, FUNCTION_NAMES};
 use super::resolve::{is_reserved, names_in, Context, Node, ResolveError, Scope};
@@ -152,8 +152,9 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         return Err(MetricFileError::Invalid {
             at: src.at(file.name.span(), "name"),
             problem: format!(
-                "bad metric name '{name}': expected letters, digits, '-' or '_' (it is typed on \
-                 the command line)"
+                "bad metric name '{}': expected letters, digits, '-' or '_' (it is typed on \
+                 the command line)",
+                shown(name)
             ),
         });
     }
@@ -168,7 +169,8 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             return Err(MetricFileError::Invalid {
                 at: src.at(file.symmetry.span(), "symmetry"),
                 problem: format!(
-                    "unknown symmetry '{other}': expected 'spherical' or 'axisymmetric'{hint}"
+                    "unknown symmetry '{}': expected 'spherical' or 'axisymmetric'{hint}",
+                    shown(other)
                 ),
             });
         }
@@ -227,7 +229,7 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         let Some(eq) = text.find('=') else {
             return Err(MetricFileError::Syntax {
                 at: src.in_string(h, 0..text.len(), &field),
-                found: format!("'{text}'"),
+                found: format!("'{}'", shown(text)),
                 expected: "a helper definition NAME = expression, as in \"Sigma = r^2 + 1\"".into(),
             });
         };
@@ -239,8 +241,9 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             return Err(MetricFileError::BadName {
                 at: src.in_string(h, name_span.start..name_span.end.max(eq), &field),
                 problem: format!(
-                    "bad helper name '{hname}': expected letters, digits and '_', not starting \
-                     with a digit"
+                    "bad helper name '{}': expected letters, digits and '_', not starting \
+                     with a digit",
+                    shown(hname)
                 ),
             });
         }
@@ -535,7 +538,8 @@ fn check_new_name(
     let n = name.get_ref();
     let problem = if !is_identifier(n) {
         format!(
-            "bad parameter name '{n}': expected letters, digits and '_', not starting with a digit"
+            "bad parameter name '{}': expected letters, digits and '_', not starting with a digit",
+            shown(n)
         )
     } else if is_reserved(n) {
         format!("'{n}' is reserved (a coordinate, pi or a function): choose another name")
