@@ -5,8 +5,10 @@
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-use umbral::metric::{check_separation, Spacetime};
+use umbral::metric::{check_separation, Metric, MetricComponents, Spacetime};
 use umbral::metric_file::{parse_metric_file, MetricFileError};
+use umbral::metrics::Kerr;
+use umbral::scalar::DualScalar;
 
 fn crate_path(relative: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join(relative)
@@ -86,30 +88,79 @@ fn assert_separation_error(text: &str, needle: &str) -> MetricFileError {
     e
 }
 
+/// A file refused because its line element is not a metric far from the centre (checked for
+/// every file, before the separation data), with the given text in its message.
+fn assert_far_field_error(text: &str, needle: &str) {
+    let e = error_of(text);
+    assert!(
+        matches!(e, MetricFileError::Invalid { .. }),
+        "{e:?} is not a line-element error"
+    );
+    let full = e.to_string();
+    assert!(full.contains("| [line_element]\n"), "{full}");
+    assert!(
+        full.contains("the line element is not a regular metric at r = 1000"),
+        "{full}"
+    );
+    assert!(full.contains(needle), "{full}");
+}
+
 #[test]
 fn separation_with_g_tt_zero_is_refused() {
     // At the default a = 0, g_tt = 0 makes the (t, phi) block singular: g^tt is infinite.
-    assert_separation_error(
-        &kerr_with("g_tt", "0"),
-        "the line element is not regular at r = 2.74, theta = 0.43, where the separation data \
-         are checked: g^tt = inf",
-    );
-    // Where the block stays invertible (a != 0 at the moved check point), the data cannot match.
-    let e = assert_separation_error(
-        &kerr_with("g_tt", "0*a + 0*r"),
-        "(parameters at their defaults: a = 0)",
-    );
-    assert!(e.to_string().contains("g^tt = inf"), "{e}");
+    assert_far_field_error(&kerr_with("g_tt", "0"), "g^tt = inf is not a finite number");
+    // Where the block is invertible (default a = 0.5, g_tphi != 0) the separation data cannot
+    // match the line element any more: refused with the worst point (the separable solver
+    // used to return the Kerr shadow, mean radius 5.148 at 60 deg).
+    let text = kerr_with("g_tt", "0").replacen("default = 0.0", "default = 0.5", 1);
+    assert_separation_error(&text, "the separation data do not match the line element");
+    // The separation check itself refuses the non-finite line element too.
+    let e = check_separation(&KerrWithConstantGtt(f64::INFINITY)).unwrap_err();
+    assert!(e.to_string().contains("g_tt = inf"), "{e}");
 }
 
 #[test]
 fn separation_with_g_tt_plus_one_over_zero_is_refused() {
-    assert_separation_error(&kerr_with("g_tt", "+1/0"), "g_tt = inf");
+    assert_far_field_error(&kerr_with("g_tt", "+1/0"), "g_tt = inf");
 }
 
 #[test]
 fn separation_with_g_tt_sqrt_minus_one_is_refused() {
-    assert_separation_error(&kerr_with("g_tt", "+sqrt(-1)"), "g_tt = NaN");
+    assert_far_field_error(&kerr_with("g_tt", "+sqrt(-1)"), "g_tt = NaN");
+    let e = check_separation(&KerrWithConstantGtt(f64::NAN)).unwrap_err();
+    assert!(e.to_string().contains("g_tt = NaN"), "{e}");
+}
+
+#[test]
+fn file_without_separation_with_g_tt_plus_one_over_zero_is_refused() {
+    // The ray tracer would be the solver here; the line element is refused all the same.
+    let text = shipped("johannsen-psaltis");
+    let start = text.find("\ng_tt = ").unwrap() + 1;
+    let end = start + text[start..].find('\n').unwrap();
+    let text = format!("{}g_tt = \"+1/0\"{}", &text[..start], &text[end..]);
+    assert_far_field_error(&text, "g_tt = inf");
+}
+
+/// Kerr (a = 0.5) with its separation data but g_tt replaced by a constant: the same case
+/// as a Rust metric, to run the library check on it directly.
+struct KerrWithConstantGtt(f64);
+
+impl Metric for KerrWithConstantGtt {
+    fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
+        MetricComponents {
+            g_tt: D::from(self.0),
+            ..Kerr::new(0.5).unwrap().components(r, theta)
+        }
+    }
+    fn outer_horizon(&self) -> Option<f64> {
+        Metric::outer_horizon(&Kerr::new(0.5).unwrap())
+    }
+    fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
+        Kerr::new(0.5).unwrap().radial_potential(r, lambda, eta)
+    }
+    fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
+        Kerr::new(0.5).unwrap().polar_potential(theta, lambda, eta)
+    }
 }
 
 #[test]

@@ -8,8 +8,8 @@ use super::resolve::{is_reserved, names_in, Context, Node, ResolveError, Scope};
 use super::schema::{FileSchema, LineElementSchema};
 use super::strings::offset_map;
 use crate::metric::{
-    check_separation, short_number, Bound, Domain, MetricInfo, ParameterSpec, SeparationError,
-    Symmetry,
+    check_point, check_separation, short_number, Bound, Domain, MetricInfo, ParameterSpec,
+    SeparationError, Symmetry,
 };
 use std::collections::HashMap;
 use std::ops::Range;
@@ -347,10 +347,38 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         separation,
         checks,
     };
+    check_far_field(&src, file.line_element.span(), &spec)?;
     if let Some(table) = &file.separation {
         check_separation_data(&src, table.span(), &spec)?;
     }
     Ok(spec)
+}
+
+/// Far from the centre (r = 10³, three polar angles) the line element at the defaults must be
+/// a regular metric ([`check_point`]): finite components, inverse and Christoffel symbols and a
+/// nondegenerate (t, φ) block. This refuses, whatever solver would be used, formulas such as
+/// g_tt = 1/0 or sqrt(-1) that are not a metric anywhere.
+fn check_far_field(
+    src: &Source,
+    table: Range<usize>,
+    spec: &FileMetricSpec,
+) -> Result<(), MetricFileError> {
+    const R_FAR: f64 = 1.0e3;
+    let defaults: Vec<f64> = spec.info.parameters.iter().map(|p| p.default).collect();
+    let metric = spec.build(defaults.clone());
+    for theta in [0.43, 1.21, 2.36] {
+        if let Err(problem) = check_point(&metric, R_FAR, theta) {
+            return Err(MetricFileError::Invalid {
+                at: src.at(table.start..table.start + 1, "line_element"),
+                problem: format!(
+                    "the line element is not a regular metric at r = {R_FAR}, theta = {theta}, \
+                     far from the centre: {problem}{}",
+                    at_defaults(&spec.info, &defaults)
+                ),
+            });
+        }
+    }
+    Ok(())
 }
 
 /// The separation data must reproduce the line element's null Hamiltonian
@@ -370,10 +398,7 @@ fn check_separation_data(
     if let Err(e) = check_separation(&spec.build(defaults.clone())) {
         return Err(MetricFileError::Separation {
             at: at(),
-            problem: format!(
-                "{e} (parameters at their defaults{})",
-                parameter_list(&spec.info, &defaults, ": ")
-            ),
+            problem: format!("{e}{}", at_defaults(&spec.info, &defaults)),
         });
     }
     let moved: Vec<f64> = spec.info.parameters.iter().map(off_default).collect();
@@ -392,7 +417,19 @@ fn check_separation_data(
     Ok(())
 }
 
-/// `", a = 0.5, q = 0.1"`-style list after `lead`, or nothing without parameters.
+/// `" (parameters at their defaults: a = 0)"`, or nothing without parameters.
+fn at_defaults(info: &MetricInfo, values: &[f64]) -> String {
+    if info.parameters.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " (parameters at their defaults{})",
+            parameter_list(info, values, ": ")
+        )
+    }
+}
+
+/// `"a = 0.5, q = 0.1"`-style list after `lead`, or nothing without parameters.
 pub(crate) fn parameter_list(info: &MetricInfo, values: &[f64], lead: &str) -> String {
     if info.parameters.is_empty() {
         return String::new();
