@@ -124,7 +124,8 @@ pub struct SeparationReport {
 pub enum SeparationError {
     /// The metric gives no separation data.
     NotSeparable,
-    /// The line element is not finite or not regular (g_rr, g_θθ, g_φφ > 0) at a check point.
+    /// The line element or its inverse is not finite at a check point, or (for a horizonless
+    /// metric) not regular already at r = 10³, where the scan for its regular edge starts.
     Irregular { r: f64, theta: f64, problem: String },
     /// A potential is not a finite number at a check point.
     NonFinitePotential {
@@ -209,7 +210,8 @@ pub fn separation_residual<S: Spacetime + ?Sized>(
 ) -> Option<SeparationResidual> {
     match evaluate(m, r, theta, lambda, eta) {
         Err(SeparationError::NotSeparable) => None,
-        Ok(res) | Err(SeparationError::Mismatch(res)) => Some(res),
+        Ok(res) => Some(res),
+        // A potential that is not finite: F is not a number.
         Err(_) => Some(SeparationResidual {
             r,
             theta,
@@ -289,9 +291,10 @@ fn inner_radius<S: Spacetime + ?Sized>(m: &S) -> Result<f64, SeparationError> {
 }
 
 /// Check that the metric's separation data reproduce the null Hamiltonian of its line
-/// element (see the module documentation): F = 0 to [`SeparationResidual::allowed`] relative to the
-/// size of its terms at every check point, with the line element regular and both potentials
-/// finite there. Returns the worst point; errors name the failing point and by how much.
+/// element (see the module documentation): F = 0 to [`SeparationResidual::allowed`] relative
+/// to the size of its terms at every check point, with the line element, its inverse and both
+/// potentials finite there. Returns the worst point (largest [`SeparationResidual::excess`]);
+/// errors name the failing point and by how much.
 pub fn check_separation<S: Spacetime + ?Sized>(m: &S) -> Result<SeparationReport, SeparationError> {
     if !m.is_separable() {
         return Err(SeparationError::NotSeparable);
