@@ -7,6 +7,7 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 use std::f64::consts::PI;
 use umbral::metric::{check_point, Classification, Spacetime};
+use umbral::numfmt::Num;
 
 #[derive(Debug, Args)]
 pub struct GeometryArgs {
@@ -46,7 +47,7 @@ struct GeometryReport {
 
 /// Evaluate everything at the point, refusing points outside the chart (θ in (0, π), r > 0)
 /// and points where the metric is singular to within rounding ([`check_point`]).
-/// `place` names the point in messages (as the user typed it).
+/// `place` names the point in messages.
 fn report(
     metric: &dyn Spacetime,
     r: f64,
@@ -55,7 +56,8 @@ fn report(
 ) -> Result<GeometryReport, CliError> {
     if !(theta > 0.0 && theta < PI) {
         return Err(CliError::usage(format!(
-            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {theta}"
+            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {}",
+            Num(theta)
         )));
     }
     check_point(metric, r, theta).map_err(|problem| {
@@ -98,70 +100,65 @@ fn report(
 
 const NAMES: [&str; 4] = ["t", "r", "theta", "phi"];
 
-fn print_matrix(title: &str, m: &[Vec<f64>]) {
-    println!("{title}");
-    println!(
+fn print_matrix(title: &str, m: &[Vec<f64>]) -> Result<(), CliError> {
+    outln!("{title}")?;
+    outln!(
         "{:>8}{}",
         "",
         NAMES.iter().map(|n| format!("{n:>24}")).collect::<String>()
-    );
+    )?;
     for (i, row) in m.iter().enumerate() {
-        println!(
+        outln!(
             "{:>8}{}",
             NAMES[i],
             row.iter()
                 .map(|x| format!("{x:>24.16e}"))
                 .collect::<String>()
-        );
+        )?;
     }
+    Ok(())
 }
 
 pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
     let r = parse_finite(&args.r, "--r")?;
     let theta = parse_finite(&args.theta, "--theta")?;
     let metric = metric_from_args(&args.metric, &args.set)?;
-    let degrees = theta.to_degrees();
-    let degrees = if degrees >= 1e-3 {
-        format!("{degrees:.6}")
-            .trim_end_matches('0')
-            .trim_end_matches('.')
-            .to_string()
-    } else {
-        format!("{degrees:.3e}")
-    };
     let place = format!(
-        "r = {}, theta = {} rad ({degrees} deg)",
-        args.r.trim(),
-        args.theta.trim()
+        "r = {}, theta = {} rad ({} deg)",
+        Num(r),
+        Num(theta),
+        Num(theta.to_degrees())
     );
     let rep = report(metric.as_ref(), r, theta, &place)?;
     if args.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&rep).expect("serialisable")
-        );
+        )?;
         return Ok(());
     }
-    println!(
+    outln!(
         "metric {} ({}) at r = {r} M, theta = {theta} rad",
         rep.metric,
         super::args::parameter_summary(&rep.parameters)
-    );
+    )?;
     match rep.horizon_radius {
-        Some(h) => println!("outer horizon: r = {h:.15} M"),
-        None => println!("outer horizon: none (horizonless)"),
-    }
-    print_matrix("g_{mu nu}", &rep.g);
-    print_matrix("g^{mu nu}", &rep.g_inverse);
-    println!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)");
+        Some(h) => outln!("outer horizon: r = {h:.15} M"),
+        None => outln!("outer horizon: none (horizonless)"),
+    }?;
+    print_matrix("g_{mu nu}", &rep.g)?;
+    print_matrix("g^{mu nu}", &rep.g_inverse)?;
+    outln!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)")?;
     for (mu, m) in rep.christoffel.iter().enumerate() {
         for (alpha, row) in m.iter().enumerate() {
             for (beta, x) in row.iter().enumerate().skip(alpha) {
                 if *x != 0.0 {
-                    println!(
+                    outln!(
                         "  Gamma^{}_{{{} {}}} = {x:.16e}",
-                        NAMES[mu], NAMES[alpha], NAMES[beta]
-                    );
+                        NAMES[mu],
+                        NAMES[alpha],
+                        NAMES[beta]
+                    )?;
                 }
             }
         }

@@ -19,7 +19,6 @@ mod spherical;
 pub use components::{InverseComponents, MetricComponents};
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
-pub(crate) use regularity::short_number;
 pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};
 pub use separation::{
     check_separation, separation_residual, SeparationError, SeparationReport, SeparationResidual,

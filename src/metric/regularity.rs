@@ -34,6 +34,7 @@
 //! ```
 
 use super::Spacetime;
+use crate::numfmt::Num;
 use nalgebra::Matrix4;
 use std::fmt;
 
@@ -75,7 +76,7 @@ impl fmt::Display for PointProblem {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             PointProblem::OutsideChart { coordinate, value } => {
-                let value = short_number(*value);
+                let value = Num(*value);
                 let range = if *coordinate == "r" {
                     "r > 0 (metrics declare no range of their own; umbral's horizon finder and \
                      solvers work at r > 0)"
@@ -115,16 +116,6 @@ impl fmt::Display for PointProblem {
 }
 
 impl std::error::Error for PointProblem {}
-
-/// A number for a message: the shortest form that reads back to it, in scientific notation
-/// outside 1e-5 ≤ |x| < 1e15 (so 1e-300 is not printed with 300 digits).
-pub(crate) fn short_number(x: f64) -> String {
-    if x == 0.0 || !x.is_finite() || (1e-5..1e15).contains(&x.abs()) {
-        format!("{}", if x == 0.0 { 0.0 } else { x })
-    } else {
-        format!("{x:e}")
-    }
-}
 
 /// Whether (r, θ) is a regular point of the metric's chart to within rounding (see the
 /// module documentation); the first problem found otherwise. The singularity tests come

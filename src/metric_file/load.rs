@@ -8,9 +8,10 @@ use super::resolve::{is_reserved, names_in, Context, Node, ResolveError, Scope};
 use super::schema::{FileSchema, LineElementSchema};
 use super::strings::offset_map;
 use crate::metric::{
-    check_point, check_separation, short_number, Bound, Domain, MetricInfo, ParameterSpec,
-    SeparationError, Symmetry,
+    check_point, check_separation, Bound, Domain, MetricInfo, ParameterSpec, SeparationError,
+    Symmetry,
 };
+use crate::numfmt::Num;
 use std::collections::HashMap;
 use std::ops::Range;
 use toml::Spanned;
@@ -438,7 +439,7 @@ pub(crate) fn parameter_list(info: &MetricInfo, values: &[f64], lead: &str) -> S
         .parameters
         .iter()
         .zip(values)
-        .map(|(p, v)| format!("{} = {}", p.name, short_number(*v)))
+        .map(|(p, v)| format!("{} = {}", p.name, Num(*v)))
         .collect();
     format!("{lead}{}", list.join(", "))
 }

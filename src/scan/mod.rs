@@ -1,11 +1,15 @@
 //! Grid scans: the observables at every point of a 1-D or 2-D parameter grid, streamed to a
 //! JSON-lines file that survives interruption.
 //!
-//! The file's first line is a header recording the arguments; every other line is one grid
-//! point. Points are computed in parallel and appended (and flushed) as each finishes. Rerun
-//! with the same arguments, a scan keeps every complete line, drops a half-written last line,
+//! The file's first line is a header recording the arguments, the umbral version and a SHA-256
+//! hash of the metric; every other line is one grid point with a checksum. Points are computed
+//! in parallel and appended as each finishes. Rerun with the same arguments, a scan keeps every
+//! complete line that passes every check (see [`lines`]), drops a half-written last line,
 //! computes only the missing points and finally rewrites the file in grid order, so the result
-//! equals an uninterrupted run's. A file from different arguments is refused.
+//! equals an uninterrupted run's. A file from other arguments, another metric or another
+//! version is refused, naming what differs; a damaged or edited line is refused, naming the
+//! line and the problem. The output is locked for the whole run: a second scan on the same
+//! file is refused while the first runs.
 //!
 //! ```
 //! use umbral::scan::{run_scan, GridAxis, ScanRequest};
@@ -24,16 +28,25 @@
 //! std::fs::remove_file(&path).unwrap();
 //! ```
 
+mod file;
+mod header;
+pub mod lines;
+
+pub use header::FORMAT;
+
 use crate::error::MetricError;
 use crate::metric::Classification;
 use crate::metrics::MetricSource;
+use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus};
+use file::ScanFile;
+use header::Header;
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
-use std::io::Write;
 use std::path::Path;
+use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::Mutex;
 
 /// One grid axis: `count` points from `low` to `high` inclusive.
@@ -68,19 +81,6 @@ pub struct ScanRequest {
     pub fixed: Vec<(String, f64)>,
     pub inclination_deg: f64,
     pub settings: ShadowSettings,
-}
-
-/// The header line: everything that determines the points.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-struct Header {
-    umbral_scan: u32,
-    metric: String,
-    axes: Vec<GridAxis>,
-    fixed: BTreeMap<String, f64>,
-    inclination_deg: f64,
-    points: usize,
-    tolerance: f64,
-    solver: String,
 }
 
 /// One grid point.
@@ -127,27 +127,32 @@ pub enum ScanError {
     BadRequest(String),
     #[error("cannot write '{path}': {message}")]
     Io { path: String, message: String },
-    #[error("'{path}' was written by a scan with different arguments; refusing to mix them (use another --out or delete the file)")]
-    Mismatch { path: String },
+    #[error("cannot read '{path}': {message}")]
+    Read { path: String, message: String },
+    #[error("'{path}' was written by a scan with different arguments ({why}); refusing to mix them (use another --out or delete the file)")]
+    Mismatch { path: String, why: String },
+    #[error("'{path}' line {line} {problem}; refusing to resume from it ({})", remedy(*.line))]
+    BadLine {
+        path: String,
+        line: usize,
+        problem: String,
+    },
+    #[error("'{path}' is in use by another scan (it is locked); wait for that scan to finish or use another --out")]
+    InUse { path: String },
+    #[error("interrupted after {done} of {total} points; the finished points are kept in '{path}': rerun the same command to resume")]
+    Interrupted {
+        path: String,
+        done: usize,
+        total: usize,
+    },
 }
 
-fn io(path: &Path, e: impl std::fmt::Display) -> ScanError {
-    ScanError::Io {
-        path: path.display().to_string(),
-        message: e.to_string(),
-    }
-}
-
-fn header(request: &ScanRequest) -> Header {
-    Header {
-        umbral_scan: 1,
-        metric: request.metric.label(),
-        axes: request.axes.clone(),
-        fixed: request.fixed.iter().cloned().collect(),
-        inclination_deg: request.inclination_deg,
-        points: request.settings.points,
-        tolerance: request.settings.tolerance,
-        solver: format!("{:?}", request.settings.solver).to_lowercase(),
+/// What to do about a bad line.
+fn remedy(line: usize) -> &'static str {
+    if line == 1 {
+        "delete the file or use another --out"
+    } else {
+        "delete that line to have its point computed again, or use another --out"
     }
 }
 
@@ -162,14 +167,18 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
         if !(a.low.is_finite() && a.high.is_finite()) || a.low >= a.high || a.count < 2 {
             return Err(ScanError::BadRequest(format!(
                 "--grid {}: need finite LO < HI and N >= 2, got {}:{}:{}",
-                a.name, a.low, a.high, a.count
+                a.name,
+                Num(a.low),
+                Num(a.high),
+                a.count
             )));
         }
     }
     let total: f64 = request.axes.iter().map(|a| a.count as f64).product();
     if total > MAX_SCAN_POINTS as f64 {
         return Err(ScanError::BadRequest(format!(
-            "the grid has {total} points; at most {MAX_SCAN_POINTS} are allowed"
+            "the grid has {} points; at most {MAX_SCAN_POINTS} are allowed",
+            Num(total)
         )));
     }
     if request.axes.len() == 2 && request.axes[0].name == request.axes[1].name {
@@ -180,7 +189,7 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
     if !(0.0..=180.0).contains(&request.inclination_deg) {
         return Err(ScanError::BadRequest(format!(
             "the inclination must lie between 0 and 180 degrees, got {}",
-            request.inclination_deg
+            Num(request.inclination_deg)
         )));
     }
     // Domains are intervals: building at both corners checks names and values.
@@ -218,34 +227,65 @@ fn indices(axes: &[GridAxis]) -> Vec<Vec<usize>> {
     out
 }
 
-/// Compute one grid point.
-pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
+/// A grid point's metric and its parameters as [`compute_point`] records them (every metric
+/// parameter when the metric builds, else the assignments).
+type GridPoint = (
+    BTreeMap<String, f64>,
+    Result<Box<dyn crate::metric::Spacetime>, MetricError>,
+);
+
+fn grid_point(request: &ScanRequest, index: &[usize]) -> GridPoint {
     let mut assignments = request.fixed.clone();
     for (a, &i) in request.axes.iter().zip(index) {
         assignments.push((a.name.clone(), a.value(i)));
     }
+    let built = request.metric.build(&assignments);
+    let parameters = match &built {
+        Ok(spacetime) => spacetime
+            .info()
+            .parameters
+            .iter()
+            .map(|p| p.name.clone())
+            .zip(spacetime.parameter_values())
+            .collect(),
+        Err(_) => assignments.iter().cloned().collect(),
+    };
+    (parameters, built)
+}
+
+/// The parameters a point line at `index` must carry.
+pub(crate) fn expected_parameters(request: &ScanRequest, index: &[usize]) -> BTreeMap<String, f64> {
+    grid_point(request, index).0
+}
+
+/// Compute one grid point.
+pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
+    let mut point = solve_point(request, index);
+    if let Some(r) = &mut point.reason {
+        if r.chars().count() > lines::MAX_REASON_CHARS {
+            *r = r.chars().take(lines::MAX_REASON_CHARS).collect::<String>() + "...";
+        }
+    }
+    point
+}
+
+fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
+    let (parameters, built) = grid_point(request, index);
     let mut point = ScanPoint {
         index: index.to_vec(),
-        parameters: assignments.iter().cloned().collect(),
+        parameters,
         status: "failed".into(),
         reason: None,
         solver: None,
         observables: None,
     };
-    let spacetime = match request.metric.build(&assignments) {
+    let spacetime = match built {
         Ok(s) => s,
         Err(e) => {
             point.reason = Some(e.to_string());
             return point;
         }
     };
-    let info = spacetime.info();
-    point.parameters = info
-        .parameters
-        .iter()
-        .map(|p| p.name.clone())
-        .zip(spacetime.parameter_values())
-        .collect();
     if let Classification::Horizonless = spacetime.classify() {
         point.status = "no_horizon".into();
         return point;
@@ -281,80 +321,109 @@ pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
     point
 }
 
-/// Read the points an earlier run of the same request left in `path` (none if the file does
-/// not exist or holds no complete header).
+/// Most bytes a scan file of `total` points may have.
+fn file_cap(total: usize) -> u64 {
+    64 * 1024 + total as u64 * lines::MAX_LINE_BYTES as u64
+}
+
+/// Kept lines by grid index: the line's text and its point.
+type Kept = BTreeMap<Vec<usize>, (String, ScanPoint)>;
+
+/// The points an earlier run of the same request left in the file (none if it is empty or
+/// holds no complete header), every line checked.
 fn read_existing(
+    data: &[u8],
     path: &Path,
     head: &Header,
-    all: &[Vec<usize>],
-) -> Result<BTreeMap<Vec<usize>, (String, ScanPoint)>, ScanError> {
-    let text = match std::fs::read_to_string(path) {
-        Ok(t) => t,
-        Err(e) if e.kind() == std::io::ErrorKind::NotFound => return Ok(BTreeMap::new()),
-        Err(e) => return Err(io(path, e)),
+    head_text: &str,
+    request: &ScanRequest,
+) -> Result<Kept, ScanError> {
+    let shown = path.display().to_string();
+    let bad = |line: usize, problem: String| ScanError::BadLine {
+        path: shown.clone(),
+        line,
+        problem,
     };
-    let mut lines = text.split_inclusive('\n');
-    let Some(first) = lines.next() else {
-        return Ok(BTreeMap::new());
-    };
-    if !first.ends_with('\n') {
-        // A header cut off mid-write: nothing was computed yet. Anything else is refused.
-        return if head_text(head)?.starts_with(first) {
-            Ok(BTreeMap::new())
-        } else {
-            Err(ScanError::Mismatch {
-                path: path.display().to_string(),
-            })
-        };
-    }
-    match serde_json::from_str::<Header>(first.trim_end()) {
-        Ok(h) if h == *head => {}
-        _ => {
-            return Err(ScanError::Mismatch {
-                path: path.display().to_string(),
-            })
-        }
-    }
     let mut found = BTreeMap::new();
-    for line in lines {
-        if !line.ends_with('\n') {
-            break; // half-written last line
-        }
-        match serde_json::from_str::<ScanPoint>(line.trim_end()) {
-            Ok(p) if all.binary_search(&p.index).is_ok() => {
-                // Kept verbatim: re-serialising parsed floats need not reproduce the text.
-                found.insert(p.index.clone(), (line.trim_end().to_string(), p));
+    if data.is_empty() {
+        return Ok(found);
+    }
+    if data.starts_with(b"\xEF\xBB\xBF") {
+        return Err(bad(
+            1,
+            "starts with a byte-order mark (U+FEFF), which umbral never writes".into(),
+        ));
+    }
+    let mut rest = data;
+    let mut number = 0;
+    while !rest.is_empty() {
+        number += 1;
+        let (raw, complete) = match rest.iter().position(|&b| b == b'\n') {
+            Some(i) => {
+                let raw = &rest[..i];
+                rest = &rest[i + 1..];
+                (raw, true)
             }
-            _ => {
-                return Err(ScanError::Mismatch {
-                    path: path.display().to_string(),
-                })
-            }
+            None => (std::mem::take(&mut rest), false),
+        };
+        if let Some(at) = raw.iter().position(|&b| b < 0x20 && b != b'\t') {
+            return Err(bad(
+                number,
+                format!(
+                    "holds binary data (byte {} is a control character; is this a scan file?)",
+                    at + 1
+                ),
+            ));
         }
+        let text = std::str::from_utf8(raw).map_err(|e| {
+            bad(
+                number,
+                format!(
+                    "is not UTF-8 text (byte {} of the line; is this a scan file?)",
+                    e.valid_up_to() + 1
+                ),
+            )
+        })?;
+        if number == 1 {
+            if !complete {
+                // A header cut off mid-write: nothing was computed yet.
+                return if head_text.starts_with(text) {
+                    Ok(found)
+                } else {
+                    Err(bad(
+                        1,
+                        "is cut off (no newline) and does not begin this scan's header".into(),
+                    ))
+                };
+            }
+            if let Some(e) = header::compare(text, head, &shown) {
+                return Err(e);
+            }
+            continue;
+        }
+        if !complete {
+            break; // a half-written last line: its point is computed again
+        }
+        let p = lines::decode(text, head_text, request, &found)
+            .map_err(|problem| bad(number, problem))?;
+        // Kept verbatim: the checks above made sure it is the canonical text.
+        found.insert(p.index.clone(), (text.to_string(), p));
     }
     Ok(found)
 }
 
-fn head_text(head: &Header) -> Result<String, ScanError> {
-    serde_json::to_string(head).map_err(|e| ScanError::BadRequest(e.to_string()))
-}
-
-fn point_text(p: &ScanPoint) -> Result<String, ScanError> {
-    serde_json::to_string(p).map_err(|e| ScanError::BadRequest(e.to_string()))
-}
-
-/// Write header and point lines (in grid order) to `path` through a temporary file and a
-/// rename.
-fn write_sorted(path: &Path, head: &Header, lines: &[&str]) -> Result<(), ScanError> {
-    let mut text = head_text(head)?;
+/// Header and point lines (in grid order) as the file's text.
+fn sorted_text(head_text: &str, lines: &[&str]) -> String {
+    let mut text = String::with_capacity(
+        head_text.len() + 1 + lines.iter().map(|l| l.len() + 1).sum::<usize>(),
+    );
+    text.push_str(head_text);
     text.push('\n');
     for line in lines {
         text.push_str(line);
         text.push('\n');
     }
-    let tmp = path.with_extension("jsonl.partial");
-    std::fs::write(&tmp, text).map_err(|e| io(&tmp, e))?;
-    std::fs::rename(&tmp, path).map_err(|e| io(path, e))
+    text
 }
 
 /// Run (or resume) a scan writing to `path`; `progress(done, total)` is called after every
@@ -364,48 +433,77 @@ pub fn run_scan(
     path: &Path,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<ScanSummary, ScanError> {
+    run_scan_until(request, path, progress, &AtomicBool::new(false))
+}
+
+/// [`run_scan`] that stops when `stop` is set: the points being computed are finished and
+/// written, no new one is started, and the result is [`ScanError::Interrupted`] with the
+/// count kept in the file. Rerunning the same request resumes.
+pub fn run_scan_until(
+    request: &ScanRequest,
+    path: &Path,
+    progress: &(dyn Fn(usize, usize) + Sync),
+    stop: &AtomicBool,
+) -> Result<ScanSummary, ScanError> {
     validate(request)?;
-    let head = header(request);
+    let head = header::header(request)?;
+    let head_text = header::text(&head)?;
     let all = indices(&request.axes);
-    let existing = read_existing(path, &head, &all)?;
+    let mut file = ScanFile::open(path)?;
+    let start = file
+        .read(file_cap(all.len()))
+        .and_then(|data| read_existing(&data, path, &head, &head_text, request))
+        .and_then(|existing| {
+            // Rewrite what was kept (drops a half-written line), then append as points finish.
+            let kept: Vec<&str> = existing.values().map(|(l, _)| l.as_str()).collect();
+            file.replace(&sorted_text(&head_text, &kept))?;
+            Ok(existing)
+        });
+    let existing = match start {
+        Ok(e) => e,
+        Err(e) => {
+            file.abandon();
+            return Err(e);
+        }
+    };
     let reused = existing.len();
-    // Rewrite what was kept (drops a half-written line), then append as points finish.
-    let kept: Vec<&str> = existing.values().map(|(l, _)| l.as_str()).collect();
-    write_sorted(path, &head, &kept)?;
-    let file = std::fs::OpenOptions::new()
-        .append(true)
-        .open(path)
-        .map_err(|e| io(path, e))?;
-    let file = Mutex::new(file);
     let missing: Vec<&Vec<usize>> = all.iter().filter(|i| !existing.contains_key(*i)).collect();
-    let done = std::sync::atomic::AtomicUsize::new(reused);
+    let done = AtomicUsize::new(reused);
     let total = all.len();
     progress(reused, total);
-    let computed: Vec<(String, ScanPoint)> = missing
+    let shared = Mutex::new(&mut file);
+    let computed: Vec<Option<(String, ScanPoint)>> = missing
         .par_iter()
-        .map(|index| -> Result<(String, ScanPoint), ScanError> {
-            let p = compute_point(request, index);
-            let line = point_text(&p)?;
-            {
-                let mut f = file.lock().unwrap_or_else(|e| e.into_inner());
-                f.write_all(format!("{line}\n").as_bytes())
-                    .map_err(|e| io(path, e))?;
-                f.flush().map_err(|e| io(path, e))?;
+        .map(|index| -> Result<Option<(String, ScanPoint)>, ScanError> {
+            if stop.load(Ordering::Relaxed) {
+                return Ok(None);
             }
-            let n = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed) + 1;
+            let p = compute_point(request, index);
+            let line = lines::encode(&head_text, &p)?;
+            shared
+                .lock()
+                .unwrap_or_else(|e| e.into_inner())
+                .append(&line)?;
+            let n = done.fetch_add(1, Ordering::Relaxed) + 1;
             progress(n, total);
-            Ok((line, p))
+            Ok(Some((line, p)))
         })
         .collect::<Result<_, _>>()?;
-    drop(file);
+    if computed.iter().any(Option::is_none) {
+        return Err(ScanError::Interrupted {
+            path: path.display().to_string(),
+            done: done.load(Ordering::Relaxed),
+            total,
+        });
+    }
     let count = computed.len();
     let mut points = existing;
-    for (line, p) in computed {
+    for (line, p) in computed.into_iter().flatten() {
         points.insert(p.index.clone(), (line, p));
     }
     let ordered: Vec<(String, ScanPoint)> = all.iter().filter_map(|i| points.remove(i)).collect();
     let lines: Vec<&str> = ordered.iter().map(|(l, _)| l.as_str()).collect();
-    write_sorted(path, &head, &lines)?;
+    file.replace(&sorted_text(&head_text, &lines))?;
     let points: Vec<ScanPoint> = ordered.into_iter().map(|(_, p)| p).collect();
     Ok(ScanSummary {
         points,
