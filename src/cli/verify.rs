@@ -4,10 +4,13 @@
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
+use umbral::output::OutputTransaction;
 use umbral::verify::{
-    update_checks_file_forcing, ChecksFile, RowSelector, VerifyError, VerifyReport,
+    default_update_path, update_checks_file_forcing, ChecksFile, RowSelector, VerifyError,
+    VerifyReport,
 };
 
 #[derive(Debug, Args)]
@@ -75,47 +78,17 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
             s.text
         )));
     }
-    let mut report = VerifyReport::default();
-    let mut updated_files = Vec::new();
-    let mut notes = Vec::new();
-    if args.update {
-        for path in &args.files {
-            let outcome =
-                update_checks_file_forcing(path, args.output.as_deref(), &force).map_err(usage)?;
-            notes.push(format!(
-                "wrote {} ({} values updated{})",
-                outcome.output.display(),
-                outcome.updated,
-                if outcome.kept.is_empty() {
-                    String::new()
-                } else {
-                    format!("; kept as written: {}", outcome.kept.join("; "))
-                }
-            ));
-            for d in &outcome.outside_drifted {
-                notes.push(format!(
-                    "drifted, left as written (outside source; replace with --force-row): {d}"
-                ));
-            }
-            for f in &outcome.forced {
-                notes.push(format!(
-                    "replaced although its source was not umbral (--force-row): {f}"
-                ));
-            }
-            if same_file(path, &outcome.output) {
-                notes.push(format!(
-                    "note: {} was overwritten (--output)",
-                    path.display()
-                ));
-            }
-            updated_files.push(outcome.output.display().to_string());
-            report.extend(outcome.report);
-        }
+    // Updated copies appear only when the whole command succeeds.
+    let mut outputs = OutputTransaction::new();
+    let (report, updated_files, notes) = if args.update {
+        update_all(args, &force, &mut outputs)?
     } else {
+        let mut report = VerifyReport::default();
         for c in &checks {
             report.extend(c.run());
         }
-    }
+        (report, Vec::new(), Vec::new())
+    };
     if args.json {
         let json = JsonReport {
             files: args.files.iter().map(|p| p.display().to_string()).collect(),
@@ -127,21 +100,80 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         };
         let text = serde_json::to_string_pretty(&json)
             .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
-        println!("{text}");
+        outln!("{text}")?;
         for n in &notes {
-            eprintln!("{n}");
+            // Notes beside JSON go to standard error; nothing is left to report to if it fails.
+            let _ = writeln!(std::io::stderr(), "{n}");
         }
     } else {
-        print!("{}", report.render_table());
+        super::out::write_text(&report.render_table())?;
         for n in &notes {
-            println!("{n}");
+            outln!("{n}")?;
         }
     }
+    outputs.commit()?;
     Ok(if report.all_passed() {
         ExitCode::SUCCESS
     } else {
         ExitCode::from(1)
     })
+}
+
+/// `--update`: run every file, writing each updated copy to a temporary staged in `outputs`;
+/// the rows, the files written and notes for the user.
+fn update_all(
+    args: &VerifyArgs,
+    force: &[RowSelector],
+    outputs: &mut OutputTransaction,
+) -> Result<(VerifyReport, Vec<String>, Vec<String>), CliError> {
+    let mut report = VerifyReport::default();
+    let mut updated_files = Vec::new();
+    let mut notes = Vec::new();
+    let destinations: Vec<PathBuf> = args
+        .files
+        .iter()
+        .map(|path| {
+            args.output
+                .clone()
+                .unwrap_or_else(|| default_update_path(path))
+        })
+        .collect();
+    let staged = destinations
+        .iter()
+        .map(|dest| outputs.stage(dest))
+        .collect::<Result<Vec<_>, _>>()?;
+    for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
+        let outcome = update_checks_file_forcing(path, Some(temp), force).map_err(usage)?;
+        notes.push(format!(
+            "wrote {} ({} values updated{})",
+            dest.display(),
+            outcome.updated,
+            if outcome.kept.is_empty() {
+                String::new()
+            } else {
+                format!("; kept as written: {}", outcome.kept.join("; "))
+            }
+        ));
+        for d in &outcome.outside_drifted {
+            notes.push(format!(
+                "drifted, left as written (outside source; replace with --force-row): {d}"
+            ));
+        }
+        for f in &outcome.forced {
+            notes.push(format!(
+                "replaced although its source was not umbral (--force-row): {f}"
+            ));
+        }
+        if same_file(path, dest) {
+            notes.push(format!(
+                "note: {} was overwritten (--output)",
+                path.display()
+            ));
+        }
+        updated_files.push(dest.display().to_string());
+        report.extend(outcome.report);
+    }
+    Ok((report, updated_files, notes))
 }
 
 fn same_file(a: &Path, b: &Path) -> bool {

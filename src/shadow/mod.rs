@@ -20,6 +20,7 @@ pub use curve::CriticalCurve;
 pub use observer::Observer;
 
 use crate::metric::{Spacetime, Symmetry};
+use crate::numfmt::Num;
 use serde::Serialize;
 
 /// Most curve points a request may ask for (about 8 MB of radii per curve).
@@ -197,13 +198,14 @@ pub fn solve(
     {
         return Err(ShadowError::BadRequest(format!(
             "inclination must lie in [0, pi] radians, got {}",
-            observer.inclination
+            Num(observer.inclination)
         )));
     }
     if let Some(r) = observer.radius {
         if !(r.is_finite() && r > 0.0) {
             return Err(ShadowError::BadRequest(format!(
-                "observer radius must be a positive finite number, got {r}"
+                "observer radius must be a positive finite number, got {}",
+                Num(r)
             )));
         }
     }
@@ -212,7 +214,8 @@ pub fn solve(
     if !(tolerance_ok && points_ok) {
         return Err(ShadowError::BadRequest(format!(
             "need tolerance > 0 and between 8 and {MAX_POINTS} points, got tolerance {} and {} points",
-            settings.tolerance, settings.points
+            Num(settings.tolerance),
+            settings.points
         )));
     }
     let kind = match settings.solver {

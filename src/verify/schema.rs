@@ -401,7 +401,7 @@ impl ChecksFile {
     /// Read and validate a checks file.
     pub fn load(path: impl AsRef<Path>) -> Result<ChecksFile, VerifyError> {
         let path = path.as_ref();
-        let text = std::fs::read_to_string(path).map_err(|e| VerifyError::Invalid {
+        let text = crate::input::read_text(path).map_err(|e| VerifyError::Invalid {
             path: path.to_path_buf(),
             message: format!("cannot read: {e}"),
         })?;

@@ -296,7 +296,7 @@ pub fn update_checks_file_forcing(
     force: &[RowSelector],
 ) -> Result<UpdateOutcome, VerifyError> {
     let path = path.as_ref();
-    let original = std::fs::read_to_string(path).map_err(|e| VerifyError::Invalid {
+    let original = crate::input::read_text(path).map_err(|e| VerifyError::Invalid {
         path: path.to_path_buf(),
         message: format!("cannot read: {e}"),
     })?;
