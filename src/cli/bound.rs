@@ -57,6 +57,10 @@ pub struct BoundArgs {
     /// Write an SVG figure.
     #[arg(long, value_name = "FILE.svg")]
     plot: Option<String>,
+    /// Evaluate only values with a horizon (by default a horizonless object counts when a
+    /// photon sphere bounds capture by its centre, and is labelled horizonless).
+    #[arg(long = "require-horizon")]
+    require_horizon: bool,
 }
 
 /// Read `LO:HI` with LO < HI, both finite.
@@ -160,7 +164,10 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         },
         radii,
         circularity_max: measurement.circularity_max,
-        settings: BoundSettings::default(),
+        settings: BoundSettings {
+            require_horizon: args.require_horizon,
+            ..BoundSettings::default()
+        },
     })
 }
 
@@ -215,6 +222,12 @@ fn print_result(result: &BoundResult) -> Result<(), CliError> {
             l.radius_interval[0],
             l.radius_interval[1],
             result.describe_allowed(&l.allowed, 9)
+        )?;
+    }
+    if !result.horizonless.is_empty() {
+        outln!(
+            "  horizonless (no horizon; a photon sphere bounds capture, evaluated): {}",
+            ranges(&result.horizonless)
         )?;
     }
     outln!("  no horizon: {}", ranges(&result.no_horizon))?;

@@ -99,6 +99,9 @@ pub struct ShadowReport {
     pub observables: Option<Observables>,
     /// Photon-ring exponents (Lyapunov exponent, demagnification γ per half orbit).
     pub exponents: Option<RingExponents>,
+    /// Why the exponents are undefined for this shadow, when they are.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub exponents_undefined: Option<String>,
     /// Every photon sphere found (spherical solver).
     pub photon_spheres: Vec<PhotonSphere>,
     pub curve: Option<CurveJson>,
@@ -155,6 +158,7 @@ pub fn shadow_report(
         reason,
         observables,
         exponents: result.exponents.clone(),
+        exponents_undefined: result.diagnostics.exponents_undefined.clone(),
         photon_spheres: result.photon_spheres.clone(),
         celestial: match (observer.radius, &curve) {
             (Some(r_o), Some(c)) => {
@@ -304,6 +308,9 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
                 e.gamma_max
             )?;
         }
+    }
+    if let Some(why) = &rep.exponents_undefined {
+        println!("  {:<28}{:>20} ({why})", "ring exponent gamma", "undefined");
     }
     if let Some([lo, hi]) = o.photon_orbit_radii {
         outln!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii")?;

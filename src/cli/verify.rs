@@ -9,7 +9,8 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use umbral::output::OutputTransaction;
 use umbral::verify::{
-    default_update_path, update_checks_file, ChecksFile, VerifyError, VerifyReport,
+    default_update_path, update_checks_file_forcing, ChecksFile, RowSelector, VerifyError,
+    VerifyReport,
 };
 
 #[derive(Debug, Args)]
@@ -21,12 +22,19 @@ pub struct VerifyArgs {
     #[arg(long)]
     json: bool,
     /// Write the computed values into a copy of each file (FILE.updated.toml) as a new
-    /// baseline, keeping comments and layout; the original is left alone.
+    /// baseline, keeping comments and layout; the original is left alone. Only values whose
+    /// source is umbral itself (source = "umbral" or "umbral: ...") are rewritten; drifted
+    /// values with an outside source are reported and kept.
     #[arg(long)]
     update: bool,
     /// With --update and one FILE: where to write the updated copy.
     #[arg(long, value_name = "PATH", requires = "update")]
     output: Option<PathBuf>,
+    /// With --update: also replace this row although its source is not umbral
+    /// (CASE, CASE:QUANTITY or CASE:QUANTITY@CONFIDENCE; repeatable). Its source then says
+    /// that umbral replaced it.
+    #[arg(long = "force-row", value_name = "NAME", requires = "update")]
+    force_row: Vec<String>,
 }
 
 #[derive(Serialize)]
@@ -56,10 +64,24 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         .map(ChecksFile::load)
         .collect::<Result<_, _>>()
         .map_err(usage)?;
+    let force = args
+        .force_row
+        .iter()
+        .map(|t| RowSelector::parse(t).map_err(CliError::usage))
+        .collect::<Result<Vec<_>, _>>()?;
+    if let Some(s) = force
+        .iter()
+        .find(|s| !checks.iter().any(|c| s.names_a_row_of(c)))
+    {
+        return Err(CliError::usage(format!(
+            "--force-row {}: no such row in the checks files given",
+            s.text
+        )));
+    }
     // Updated copies appear only when the whole command succeeds.
     let mut outputs = OutputTransaction::new();
     let (report, updated_files, notes) = if args.update {
-        update_all(args, &mut outputs)?
+        update_all(args, &force, &mut outputs)?
     } else {
         let mut report = VerifyReport::default();
         for c in &checks {
@@ -101,6 +123,7 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
 /// the rows, the files written and notes for the user.
 fn update_all(
     args: &VerifyArgs,
+    force: &[RowSelector],
     outputs: &mut OutputTransaction,
 ) -> Result<(VerifyReport, Vec<String>, Vec<String>), CliError> {
     let mut report = VerifyReport::default();
@@ -120,7 +143,7 @@ fn update_all(
         .map(|dest| outputs.stage(dest))
         .collect::<Result<Vec<_>, _>>()?;
     for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
-        let outcome = update_checks_file(path, Some(temp)).map_err(usage)?;
+        let outcome = update_checks_file_forcing(path, Some(temp), force).map_err(usage)?;
         notes.push(format!(
             "wrote {} ({} values updated{})",
             dest.display(),
@@ -131,6 +154,16 @@ fn update_all(
                 format!("; kept as written: {}", outcome.kept.join("; "))
             }
         ));
+        for d in &outcome.outside_drifted {
+            notes.push(format!(
+                "drifted, left as written (outside source; replace with --force-row): {d}"
+            ));
+        }
+        for f in &outcome.forced {
+            notes.push(format!(
+                "replaced although its source was not umbral (--force-row): {f}"
+            ));
+        }
         if same_file(path, dest) {
             notes.push(format!(
                 "note: {} was overwritten (--output)",

@@ -154,6 +154,13 @@ pub struct Diagnostics {
     pub integrator_steps: usize,
     /// Wall-clock seconds.
     pub wall_seconds: f64,
+    /// Why `ShadowResult::exponents` is `None` although the solver computes photon-ring
+    /// exponents: the curve is well defined but its orbit has no exponent (e.g. a marginally
+    /// stable photon orbit, λ² = 0) or its evaluation failed. `None` when exponents are given
+    /// or the solver does not compute them. Not serialised here: front ends print it beside the
+    /// exponents.
+    #[serde(skip)]
+    pub exponents_undefined: Option<String>,
 }
 
 /// What a solver returns.
@@ -167,6 +174,8 @@ pub struct ShadowResult {
     pub photon_orbit_radii: Option<[f64; 2]>,
     /// Every photon sphere found (spherical solver only).
     pub photon_spheres: Vec<PhotonSphere>,
+    /// Photon-ring exponents; `None` when the solver does not compute them or they are
+    /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
     pub diagnostics: Diagnostics,
 }
