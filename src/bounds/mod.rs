@@ -50,6 +50,7 @@ use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numerics::brent_root;
+use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice, SolverKind};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
@@ -467,12 +468,16 @@ impl Prepared<'_> {
 fn check_range(what: &str, lo: f64, hi: f64) -> Result<(), BoundError> {
     if !(lo.is_finite() && hi.is_finite()) {
         return Err(BoundError::BadRequest(format!(
-            "{what}: the range must be finite, got {lo}:{hi}"
+            "{what}: the range must be finite, got {}:{}",
+            Num(lo),
+            Num(hi)
         )));
     }
     if lo >= hi {
         return Err(BoundError::BadRequest(format!(
-            "{what}: need LO < HI, got {lo}:{hi}"
+            "{what}: need LO < HI, got {}:{}",
+            Num(lo),
+            Num(hi)
         )));
     }
     Ok(())
@@ -500,7 +505,8 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     for (n, v) in &request.fixed {
         if !v.is_finite() {
             return Err(BoundError::BadRequest(format!(
-                "parameter '{n}' must be finite, got {v}"
+                "parameter '{n}' must be finite, got {}",
+                Num(*v)
             )));
         }
         names.push(n.clone());
@@ -557,7 +563,8 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
         Inclination::Fixed { degrees } => {
             if !degrees_ok(degrees) {
                 return Err(BoundError::BadRequest(format!(
-                    "the inclination must lie between 0 and 180 degrees, got {degrees}"
+                    "the inclination must lie between 0 and 180 degrees, got {}",
+                    Num(degrees)
                 )));
             }
             degrees.to_radians()

@@ -13,6 +13,7 @@ use crate::bounds::{
 };
 use crate::measurement::{DerivedRadii, Measurement};
 use crate::metrics::build_metric;
+use crate::numfmt::Num;
 use crate::shadow::MAX_POINTS;
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -174,7 +175,10 @@ impl BoundCase {
         }
         if let Some(c) = raw.circularity_max {
             if !(c.is_finite() && c > 0.0) {
-                return Err(label(format!("circularity_max must be positive, got {c}")));
+                return Err(label(format!(
+                    "circularity_max must be positive, got {}",
+                    Num(c)
+                )));
             }
         }
         if raw.expect.is_empty() {

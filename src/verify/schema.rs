@@ -8,6 +8,7 @@ use super::VerifyError;
 use crate::metric::Spacetime;
 use crate::metric_file::load_metric_file;
 use crate::metrics::build_metric;
+use crate::numfmt::Num;
 use crate::observables::CentreChoice;
 use crate::shadow::{Observer, ShadowSettings, SolverChoice};
 use serde::{Deserialize, Serialize};
@@ -171,7 +172,7 @@ fn finite(x: f64, what: &str) -> Result<f64, String> {
     if x.is_finite() {
         Ok(x)
     } else {
-        Err(format!("{what} must be a finite number, got {x}"))
+        Err(format!("{what} must be a finite number, got {}", Num(x)))
     }
 }
 
@@ -187,7 +188,8 @@ pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expecta
     if let Some(c) = raw.confidence {
         if !(c > 0.0 && c < 1.0) {
             return Err(format!(
-                "expectation '{q}': confidence must lie strictly between 0 and 1, got {c}"
+                "expectation '{q}': confidence must lie strictly between 0 and 1, got {}",
+                Num(c)
             ));
         }
     }
@@ -212,7 +214,8 @@ pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expecta
             };
             if !(t.is_finite() && t >= 0.0) {
                 return Err(label(format!(
-                    "tolerance must be a finite number >= 0, got {t}"
+                    "tolerance must be a finite number >= 0, got {}",
+                    Num(t)
                 )));
             }
             Expected::Value { value, tolerance }
@@ -283,7 +286,8 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     let inclination = finite(raw.inclination, "inclination").map_err(label)?;
     if !(0.0..=180.0).contains(&inclination) {
         return Err(label(format!(
-            "inclination must lie between 0 and 180 degrees, got {inclination}"
+            "inclination must lie between 0 and 180 degrees, got {}",
+            Num(inclination)
         )));
     }
     let observer = match raw.observer_radius {
@@ -291,7 +295,8 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
         Some(r) => {
             if !(r.is_finite() && r > 0.0) {
                 return Err(label(format!(
-                    "observer_radius must be a positive finite number, got {r}"
+                    "observer_radius must be a positive finite number, got {}",
+                    Num(r)
                 )));
             }
             Observer::at_radius(inclination.to_radians(), r)
@@ -308,7 +313,8 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
     if !(tolerance.is_finite() && tolerance > 0.0) {
         return Err(label(format!(
-            "boundary_tolerance must be a positive finite number, got {tolerance}"
+            "boundary_tolerance must be a positive finite number, got {}",
+            Num(tolerance)
         )));
     }
     let solver = match raw.solver.unwrap_or(SolverName::Auto) {
