@@ -27,17 +27,33 @@ pub struct InverseComponents<D> {
 impl<D: DualScalar> MetricComponents<D> {
     /// The inverse: the (t, φ) block inverted in closed form, g^rr = 1/g_rr, g^θθ = 1/g_θθ.
     ///
-    /// With Δ₂ = g_tt g_φφ − g_tφ²: g^tt = g_φφ/Δ₂, g^tφ = −g_tφ/Δ₂, g^φφ = g_tt/Δ₂.
+    /// With Δ₂ = g_tt g_φφ − g_tφ²: g^tt = g_φφ/Δ₂, g^tφ = −g_tφ/Δ₂, g^φφ = g_tt/Δ₂. Written
+    /// with k = g_tφ/g_φφ as g^tt = 1/(g_tt − k g_tφ), g^tφ = −k g^tt,
+    /// g^φφ = (1 + k g_tφ g^tt)/g_φφ (the same algebra), so that the sin²θ of g_φφ never
+    /// cancels between two large terms: near the axis the old form's θ-derivative of g^tt was
+    /// a difference of two terms ~ 2 cot θ g^tt, which left a spurious force ~ 1e-16 cot θ
+    /// on rays passing close to the axis. Where g_φφ = 0 off the axis the plain form is used.
     #[inline]
     pub fn inverse(&self) -> InverseComponents<D> {
-        let det = self.g_tt * self.g_phph - self.g_tphi * self.g_tphi;
-        let inv_det = det.recip();
+        let (g_tt, g_tphi, g_phph) = if self.g_phph.re() != 0.0 {
+            let k = self.g_tphi / self.g_phph;
+            let g_tt = (self.g_tt - k * self.g_tphi).recip();
+            let g_phph = (k * self.g_tphi * g_tt + 1.0) / self.g_phph;
+            (g_tt, -k * g_tt, g_phph)
+        } else {
+            let inv_det = (self.g_tt * self.g_phph - self.g_tphi * self.g_tphi).recip();
+            (
+                self.g_phph * inv_det,
+                -self.g_tphi * inv_det,
+                self.g_tt * inv_det,
+            )
+        };
         InverseComponents {
-            g_tt: self.g_phph * inv_det,
-            g_tphi: -self.g_tphi * inv_det,
+            g_tt,
+            g_tphi,
             g_rr: self.g_rr.recip(),
             g_thth: self.g_thth.recip(),
-            g_phph: self.g_tt * inv_det,
+            g_phph,
         }
     }
 
