@@ -253,6 +253,15 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
             if scaled { uas(x) } else { String::new() }
         );
     };
+    if let Some(checks) = rep
+        .diagnostics
+        .raytrace
+        .as_ref()
+        .filter(|c| !c.tolerance_met)
+    {
+        let why = checks.accuracy_note.as_deref().unwrap_or("no estimate");
+        println!("  TOLERANCE NOT MET: {why}");
+    }
     println!("  centre: {}", o.centre.name());
     row("mean radius", o.mean_radius, "M", true);
     row("area radius", o.area_radius, "M", true);
