@@ -285,7 +285,8 @@ pub struct LineCheck {
     /// numerics: the refined rays at crossing ∓ this distance are captured and escape.
     /// `None` if not within the largest distance tried or if a refined ray failed (`note`).
     pub validated_within: Option<f64>,
-    /// Distances (far, mid, near) from the crossing of the rays whose winding is compared.
+    /// Distances (far, mid, near) from the crossing of the rays whose winding is compared;
+    /// this and the windings and growths below are NaN where not measured (`winding_note`).
     pub distances: [f64; 3],
     /// Their winding ([`RayOutcome::winding`]) on the captured side of the crossing.
     pub winding_inside: [f64; 3],
@@ -666,8 +667,7 @@ impl<'a> Tracer<'a> {
                 }
             }
         };
-        let (capture, escape) = (self.capture_radius, self.escape_radius);
-        let relax = self.options.relaxed_radius;
+        let capture = self.capture_radius;
         let strict_settings = IntegratorSettings {
             rtol,
             ..self.options.integrator
@@ -708,22 +708,7 @@ impl<'a> Tracer<'a> {
                         0.0
                     };
                     path.step(old, new, omega);
-                    let outward = new[1] > old[1];
-                    if new[1] <= capture {
-                        event = Some(Some(RayFate::Captured));
-                    } else if new[1] > escape && outward {
-                        event = Some(Some(RayFate::Escaped));
-                    } else if self.horizonless
-                        && old[1] - new[1] < self.options.domain_edge * new[1]
-                        && new[1] < old[1]
-                        && self.at_domain_edge(new)
-                    {
-                        // Small inward steps: the domain edge may be near.
-                        event = Some(Some(RayFate::Captured));
-                    } else if strict == (new[1] > relax && outward) {
-                        // Switch between strict and relaxed control.
-                        event = Some(None);
-                    }
+                    event = self.step_event(old, new, strict);
                     if event.is_some() {
                         Control::Stop
                     } else {
@@ -759,6 +744,31 @@ impl<'a> Tracer<'a> {
             steps: path.steps,
             winding: path.winding,
             min_radius: path.min_radius,
+        }
+    }
+
+    /// What an accepted step from `old` to `new` ends in: `Some(Some(fate))` for capture or
+    /// escape, `Some(None)` for a switch between strict and relaxed error control (strict
+    /// except while moving outward beyond `relaxed_radius`), `None` to go on.
+    fn step_event(
+        &self,
+        old: &PhaseState,
+        new: &PhaseState,
+        strict: bool,
+    ) -> Option<Option<RayFate>> {
+        let outward = new[1] > old[1];
+        let small_inward_step = !outward && old[1] - new[1] < self.options.domain_edge * new[1];
+        if new[1] <= self.capture_radius {
+            Some(Some(RayFate::Captured))
+        } else if new[1] > self.escape_radius && outward {
+            Some(Some(RayFate::Escaped))
+        } else if self.horizonless && small_inward_step && self.at_domain_edge(new) {
+            // Small inward steps: the domain edge may be near.
+            Some(Some(RayFate::Captured))
+        } else if strict == (new[1] > self.options.relaxed_radius && outward) {
+            Some(None)
+        } else {
+            None
         }
     }
 
