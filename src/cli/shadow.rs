@@ -48,7 +48,7 @@ pub struct ShadowArgs {
     /// Solver.
     #[arg(long, value_enum, default_value = "auto")]
     solver: SolverArg,
-    /// Boundary tolerance in M.
+    /// Boundary tolerance in M, from 1e-12 to 1e-3.
     #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
     tolerance: String,
     /// Centre the radius observables are measured about.
