@@ -214,6 +214,23 @@ fn raytrace_jnw_nu_0_6_keeps_its_shadow() {
     }
 }
 
+/// A wormhole whose photon sphere is its throat keeps its shadow: Simpson–Visser (2019, JCAP
+/// 02, 042) with l > 3 has C/A = ρ³/(ρ − 2), ρ = √(r² + l²), smallest at the throat r = 0, so
+/// b_c = √(l³/(l − 2)) (derived here from the line element). Rays that cross the throat pass
+/// to the other side and do not return; an absorbing core around r = 0 would hide the orbit.
+#[test]
+fn raytrace_simpson_visser_throat_photon_sphere_is_a_shadow() {
+    let l: f64 = 3.5;
+    let b_c = (l * l * l / (l - 2.0)).sqrt();
+    let sv = build("simpson-visser", &[("l", l)]);
+    let observer = Observer::distant(60f64.to_radians());
+    let traced = solve(sv.as_ref(), &observer, &settings(8, SolverChoice::Raytrace)).unwrap();
+    assert_eq!(traced.status, ShadowStatus::Shadow);
+    for r in &traced.curve.unwrap().radii {
+        assert!((r - b_c).abs() < 1.2e-8, "{r} vs {b_c}");
+    }
+}
+
 /// Issue 10, item 4: Johannsen (2013) a = 0.9, α13 = −2.95 seen at 60°: the separable solver's
 /// curve has its left edge at α = +0.017, so the ray through the screen centre escapes, and
 /// the tracer used to answer "no shadow". It now searches for a captured point and starts the

@@ -6,7 +6,8 @@
 //! (Hamilton's equations with the exact dual-number gradient, adaptive Dormand–Prince 5(4),
 //! [`crate::geodesic`]): it is **captured** if it comes within r ≤ r₊(1 + `capture_margin`) of
 //! the outer horizon; without a horizon, if it reaches the absorbing core
-//! r ≤ `horizonless_capture_radius` or the inner edge of the metric's domain (it moves
+//! r ≤ `horizonless_capture_radius` (r ≤ 0, the other side, when the metric is regular at
+//! r = 0 with a throat or a Kerr-like disk there) or the inner edge of the metric's domain (it moves
 //! inward to a point beyond which, at r(1 − `domain_edge`), the metric is no longer a
 //! regular Lorentzian metric: a singular surface such as r = 2/ν of Janis–Newman–Winicour).
 //! It **escapes** if it moves outward beyond the escape radius (the start radius D for a
@@ -19,7 +20,7 @@
 //! screen centre is still found; [`RaytraceChecks::search_start`] says which. The boundary
 //! along each radial screen line ψ_k = 2πk/N about the origin is bracketed by a
 //! coarse scan (every transition between captured and escaping samples is kept) and refined
-//! by bisection to min(`settings.tolerance`, `check_width`). The scan and the first bisection
+//! by bisection to half of min(`settings.tolerance`, `check_width`). The scan and the first bisection
 //! stage use a loose relative tolerance (`coarse_rtol`, whose classification noise is ~1e-6
 //! M) down to a bracket of `coarse_width`; that bracket, widened by `coarse_width` on both
 //! sides, is confirmed with the strict tolerance (else the scan bracket is, else the line
@@ -53,7 +54,7 @@
 //!
 //! Each crossing is also re-traced with refined numerics (`validation_rtol`, capture margin
 //! `validation_capture_margin`, start radius `validation_start_radius`): the refined rays at
-//! crossing ∓ δ, δ = w · 10^{k/2} from the bisection width w, must be captured and escape.
+//! crossing ∓ δ, δ = min(tolerance, `check_width`) · 10^{k/2}, must be captured and escape.
 //! The largest over the curve of each crossing's smallest such δ is the estimated error;
 //! [`RaytraceChecks`] says whether it meets the requested tolerance, and why not when it does
 //! not (a refined ray failed, for example at a degenerate horizon).
@@ -127,6 +128,9 @@ pub struct RaytraceOptions {
     /// For a horizonless metric, a ray is captured at r ≤ this radius (in M). A convention
     /// (common practice, no source): it treats the central region as absorbing. A boundary
     /// drawn by this core, and not by photon orbits, is rejected by the photon-orbit check.
+    /// A metric that is regular at r = 0 with g_θθ > 0 there (a throat, such as a
+    /// Simpson–Visser wormhole, or the disk of a Kerr-like metric) captures at r ≤ 0 instead:
+    /// rays that cross r = 0 pass to the other side and do not return.
     pub horizonless_capture_radius: f64,
     /// For a horizonless metric, a ray that cannot be continued while moving inward, at a
     /// point where the metric is regular but stops being a regular Lorentzian metric at
@@ -147,8 +151,8 @@ pub struct RaytraceOptions {
     pub coarse_rtol: f64,
     /// See `coarse_rtol`.
     pub coarse_width: f64,
-    /// Curve crossings are bisected to min(tolerance, check_width) (in M), so that the
-    /// photon-orbit check has rays close enough to the boundary.
+    /// Curve crossings are bisected to half of min(tolerance, check_width) (in M), so that
+    /// the photon-orbit check has rays close enough to the boundary.
     pub check_width: f64,
     /// Re-tracing of every crossing (the accuracy estimate): relative tolerance, capture
     /// margin and start radius of the refined rays.
@@ -412,6 +416,16 @@ impl PathRecord {
     }
 }
 
+/// Whether the metric is a regular Lorentzian metric at (r, θ): finite components,
+/// g_rr, g_θθ > 0 and a (t, φ) block of negative determinant.
+fn regular_at(spacetime: &dyn Spacetime, r: f64, theta: f64) -> bool {
+    let g = spacetime.components_at(r, theta);
+    let finite = [g.g_tt, g.g_tphi, g.g_rr, g.g_thth, g.g_phph]
+        .iter()
+        .all(|x| x.is_finite());
+    finite && g.g_rr > 0.0 && g.g_thth > 0.0 && g.g_tt * g.g_phph - g.g_tphi * g.g_tphi < 0.0
+}
+
 /// The unit vector (sin θ cos φ, sin θ sin φ, cos θ) of a phase point.
 fn direction(y: &PhaseState) -> [f64; 3] {
     let (st, ct) = y[2].sin_cos();
@@ -474,8 +488,12 @@ impl<'a> Tracer<'a> {
             ));
         }
         let horizon = spacetime.outer_horizon();
+        // Without a horizon: a metric regular at r = 0 with g_θθ > 0 there has a throat (or,
+        // Kerr-like, a disk) at r = 0, through which rays pass to r < 0 and do not return:
+        // they are captured once r ≤ 0, so that a photon orbit at the throat stays visible.
         let capture_radius = match horizon {
             Some(r_plus) => r_plus * (1.0 + options.capture_margin),
+            None if regular_at(spacetime, 0.0, 1.0) => 0.0,
             None => options.horizonless_capture_radius,
         };
         let escape_radius = match observer.radius {
@@ -789,23 +807,15 @@ impl<'a> Tracer<'a> {
     /// steps in r shrink below that distance.
     fn at_domain_edge(&self, y: &PhaseState) -> bool {
         let [_, r, theta, ..] = *y;
-        let regular = |r: f64| {
-            let g = self.spacetime.components_at(r, theta);
-            let finite = [g.g_tt, g.g_tphi, g.g_rr, g.g_thth, g.g_phph]
-                .iter()
-                .all(|x| x.is_finite());
-            finite
-                && g.g_rr > 0.0
-                && g.g_thth > 0.0
-                && g.g_tt * g.g_phph - g.g_tphi * g.g_tphi < 0.0
-        };
+        let regular = |r: f64| regular_at(self.spacetime, r, theta);
         self.horizonless && regular(r) && !regular(r * (1.0 - self.options.domain_edge))
     }
 
     /// Check the outermost crossing of a converged `line` about `origin` and store the result
     /// in `line.check` (module docs, "Checks"): re-trace it with `validator` at distances
     /// δ = `width` · 10^{k/2} until the refined rays bracket it, then compare the winding of
-    /// strict rays at three distances (far, mid, near) on both sides.
+    /// strict rays at three distances (far, mid, near) on both sides. The crossing should be
+    /// bisected to well below `width` (the ray tracer uses half).
     pub fn check_crossing(
         &self,
         validator: &Tracer,
@@ -1246,10 +1256,14 @@ impl RaytraceReport {
             first.distances[2],
         );
         if self.horizonless {
+            let core = if self.capture_radius == 0.0 {
+                "rays crossing the disk or throat r = 0".to_string()
+            } else {
+                format!("the absorbing core r <= {} M", self.capture_radius)
+            };
             Ok(Some(format!(
-                "{what}; it is the outline of the central singularity (the absorbing core \
-                 r <= {} M or the inner edge of the metric's domain), not a photon orbit",
-                self.capture_radius
+                "{what}; it is the outline of the central singularity ({core}, or the inner \
+                 edge of the metric's domain), not a photon orbit"
             )))
         } else {
             Err(ShadowError::NotConverged(format!(
@@ -1372,13 +1386,15 @@ pub fn trace_curve(
     };
     report.origin = Some(origin);
 
-    // Every angle, each on its own, bisected to the check width and checked.
+    // Every angle, each on its own, bisected and checked.
     let n = settings.points;
-    let width = settings.tolerance.min(options.check_width);
+    // Crossings are bisected to half the target, so that the re-traced rays at the target
+    // distance have room for the strict rays' own ~1e-9 M.
+    let target = settings.tolerance.min(options.check_width);
     let scan = LineScan {
         spacing: scale / options.scan_samples as f64,
         scan_to: 0.0,
-        tolerance: width,
+        tolerance: 0.5 * target,
         max_radius: 0.25 * tracer.escape_radius,
     };
     let traced = if mirror { n / 2 + 1 } else { n };
@@ -1387,7 +1403,7 @@ pub fn trace_curve(
         .map(|k| {
             let psi = TAU * k as f64 / n as f64;
             let mut line = tracer.boundary_along_line(origin, true, psi, &scan);
-            tracer.check_crossing(&validator, origin, &mut line, width);
+            tracer.check_crossing(&validator, origin, &mut line, target);
             line
         })
         .collect();
