@@ -1,5 +1,6 @@
 //! Typed errors of the metric layer.
 
+use crate::numfmt::Num;
 use thiserror::Error;
 
 /// What can go wrong when a metric is chosen, built or evaluated.
@@ -19,10 +20,10 @@ pub enum MetricError {
     #[error("parameter '{name}' of metric '{metric}' is given more than once")]
     RepeatedParameter { metric: String, name: String },
     /// A value is NaN or infinite.
-    #[error("parameter '{name}' must be a finite number, got {value}")]
+    #[error("parameter '{name}' must be a finite number, got {}", Num(*.value))]
     NonFinite { name: String, value: f64 },
     /// A value lies outside the parameter's declared domain.
-    #[error("parameter '{name}' = {value} is outside its domain {domain}")]
+    #[error("parameter '{name}' = {} is outside its domain {domain}", Num(*.value))]
     OutOfDomain {
         name: String,
         value: f64,
@@ -32,7 +33,7 @@ pub enum MetricError {
     #[error("cannot read '{text}' as {expected}")]
     BadNumber { text: String, expected: String },
     /// The metric is singular or not finite at the requested point.
-    #[error("the metric is singular or not finite at r = {r}, theta = {theta}")]
+    #[error("the metric is singular or not finite at r = {}, theta = {}", Num(*.r), Num(*.theta))]
     SingularPoint { r: f64, theta: f64 },
     /// A point outside the coordinate range.
     #[error("{what}")]

@@ -24,12 +24,15 @@
 pub mod bounds;
 pub mod error;
 pub mod geodesic;
+pub mod input;
 pub mod measurement;
 pub mod metric;
 pub mod metric_file;
 pub mod metrics;
 pub mod numerics;
+pub mod numfmt;
 pub mod observables;
+pub mod output;
 pub mod scalar;
 pub mod scan;
 pub mod shadow;

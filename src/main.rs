@@ -2,6 +2,7 @@
 
 mod cli;
 
+use std::io::Write;
 use std::process::ExitCode;
 
 fn main() -> ExitCode {
@@ -9,7 +10,12 @@ fn main() -> ExitCode {
     match cli::run(std::env::args_os()) {
         Ok(code) => code,
         Err(err) => {
-            eprintln!("error: {err}");
+            // Nothing is left to report a failure to if standard error fails too.
+            let _ = if err.exit_code() == cli::INTERRUPTED {
+                writeln!(std::io::stderr(), "{err}")
+            } else {
+                writeln!(std::io::stderr(), "error: {err}")
+            };
             ExitCode::from(err.exit_code())
         }
     }

@@ -3,10 +3,13 @@
 //! The curve is star-shaped and sampled uniformly, R_k = R(ψ_k), ψ_k = 2πk/N about its
 //! `origin`. Everything here converges spectrally in N for a smooth curve:
 //!
-//! * integrals of smooth periodic integrands use the periodic trapezoid rule;
+//! * integrals of smooth periodic integrands use the periodic trapezoid rule, summed with
+//!   compensation (Kahan–Babuška–Neumaier), so large N loses no digits to rounding;
 //! * points between samples (extremes in α and β, the curve's distance from a new centre) come
 //!   from the trigonometric interpolant of R(ψ) ([`TrigInterpolant`]), refined by Newton's
-//!   method on the interpolant.
+//!   method on the interpolant; the many evaluations of the distances from a new centre use its
+//!   tabulated form ([`crate::shadow::curve::InterpolantTable`], O(1) per point), so the work
+//!   grows as N log N in the number of samples.
 //!
 //! About a centre c, R_c(φ) is the distance from c to the curve at polar angle φ about c.
 //! Two centres are in use (physics notes §3): the area centroid of the region inside the
@@ -16,8 +19,10 @@
 // `!(x > 0.0)` is used on purpose: it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-use crate::shadow::curve::TrigInterpolant;
+use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
+// Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
 use crate::shadow::CriticalCurve;
+use compensated_summation::KahanBabuskaNeumaier as Compensated;
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
 
@@ -194,7 +199,8 @@ fn extreme(
 }
 
 /// The distance R_c(φ_j) from `centre` to the curve at the polar angles φ_j = 2πj/`samples`
-/// about `centre`, from the trigonometric interpolant of the curve.
+/// about `centre`, from the trigonometric interpolant of the curve (evaluated through its
+/// table, [`crate::shadow::curve::InterpolantTable`]: O(N log N + samples) in all).
 ///
 /// The ray-curve intersection solves F(ψ) = (P(ψ) − c) × e_φ = 0, i.e.
 /// (o − c)_α sin φ − (o − c)_β cos φ + R(ψ) sin(φ − ψ) = 0, by safeguarded Newton iteration
@@ -217,12 +223,22 @@ pub fn radii_about(
     curve
         .validate(MIN_POINTS)
         .map_err(ObservablesError::BadCurve)?;
+    // R and R′ between samples in O(1) each, so the whole is O(N log N + samples).
+    radii_about_with(curve, &curve.interpolant().table(), centre, samples)
+}
+
+/// [`radii_about`] with the curve's interpolant table already built (a validated curve).
+fn radii_about_with(
+    curve: &CriticalCurve,
+    table: &InterpolantTable,
+    centre: [f64; 2],
+    samples: usize,
+) -> Result<Vec<f64>, ObservablesError> {
     if samples == 0 || !centre.iter().all(|x| x.is_finite()) {
         return Err(ObservablesError::BadCurve(format!(
             "need a finite centre and at least one angle, got {centre:?} and {samples}"
         )));
     }
-    let interp = curve.interpolant();
     let n = curve.len();
     let (alphas, betas) = curve.alpha_beta();
     let not_star = || ObservablesError::NotStarShaped {
@@ -298,7 +314,7 @@ pub fn radii_about(
         let (sp, cp) = phi.sin_cos();
         let offset = d[0] * sp - d[1] * cp;
         let f = |psi: f64| -> (f64, f64, f64) {
-            let [r, r1, _] = interp.radius_derivatives(psi);
+            let [r, r1] = table.radius_slope(psi);
             let (s, c) = (phi - psi).sin_cos();
             (offset + r * s, r1 * s - r * c, r)
         };
@@ -306,8 +322,9 @@ pub fn radii_about(
             lo + h * (phi - angles[k_bracket]) / (angles[k_bracket + 1] - angles[k_bracket]);
         let mut converged = false;
         for _ in 0..100 {
-            let (value, slope, _) = f(psi);
-            if value == 0.0 {
+            let (value, slope, r) = f(psi);
+            // At the rounding level of F the root is placed to a few ulps: stop.
+            if value.abs() <= 2.0 * f64::EPSILON * (offset.abs() + r) {
                 converged = true;
                 break;
             }
@@ -335,7 +352,7 @@ pub fn radii_about(
                 "ray from {centre:?} at angle {phi} did not meet the curve"
             )));
         }
-        let r = interp.radius(psi);
+        let r = table.radius(psi);
         let (s, c) = psi.sin_cos();
         let distance = (d[0] + r * c) * cp + (d[1] + r * s) * sp;
         if !(distance > 0.0 && distance.is_finite()) {
@@ -351,19 +368,19 @@ pub fn radii_about(
 fn area_and_centroid(curve: &CriticalCurve) -> (f64, [f64; 2]) {
     let n = curve.len();
     let h = TAU / n as f64;
-    let (mut area, mut mx, mut my) = (0.0, 0.0, 0.0);
+    let (mut area, mut mx, mut my) = (Compensated::new(), Compensated::new(), Compensated::new());
     for (k, r) in curve.radii.iter().enumerate() {
         let (s, c) = curve.angle(k).sin_cos();
         area += 0.5 * r * r;
         mx += r * r * r * c / 3.0;
         my += r * r * r * s / 3.0;
     }
-    let area = area * h;
+    let area = area.total() * h;
     (
         area,
         [
-            curve.origin[0] + mx * h / area,
-            curve.origin[1] + my * h / area,
+            curve.origin[0] + mx.total() * h / area,
+            curve.origin[1] + my.total() * h / area,
         ],
     )
 }
@@ -442,10 +459,20 @@ impl Observables {
             CentreChoice::Centroid => centroid,
             CentreChoice::Midpoint => midpoint,
         };
-        let radii = radii_about(curve, centre_point, curve.len().max(MIN_CENTRE_SAMPLES))?;
+        let radii = radii_about_with(
+            curve,
+            &interp.table(),
+            centre_point,
+            curve.len().max(MIN_CENTRE_SAMPLES),
+        )?;
         let m = radii.len() as f64;
-        let mean_radius = radii.iter().sum::<f64>() / m;
-        let variance = radii.iter().map(|r| (r - mean_radius).powi(2)).sum::<f64>() / m;
+        let mean_radius = radii.iter().sum::<Compensated<f64>>().total() / m;
+        let variance = radii
+            .iter()
+            .map(|r| (r - mean_radius).powi(2))
+            .sum::<Compensated<f64>>()
+            .total()
+            / m;
         let circularity_deviation = variance.sqrt() / mean_radius;
         let width = alpha_max - alpha_min;
         let height = beta_max - beta_min;

@@ -473,3 +473,129 @@ fn allowed_range_ends_say_what_they_stand_on() {
         .describe_allowed(&result.levels[0].allowed, 4)
         .contains("(range edge)"));
 }
+
+/// Issue 10 item 7: the Janis–Newman–Winicour bound on ν gave `allowed [[1.0, 1.0]]` because
+/// every ν < 1 (no horizon) was left out, though a photon sphere bounds capture by the naked
+/// singularity for ν > 1/2. Values are now classified by whether a shadow exists: the allowed
+/// ranges match the mpmath inversion of b_c(ν) = r_ph x^((1 − 2ν)/2) (Virbhadra, Narasimha &
+/// Chitre 1998; tests/generate_jnw_bound.py) to 1e-7, the horizonless part is labelled, ν ≤ 1/2
+/// (no photon sphere, no shadow) stays unclassified, and a range reaching ν = 1/2 ends at the
+/// no-shadow edge. `require_horizon` keeps the old policy, whose answer is then said to be
+/// only the end of the range.
+#[test]
+fn jnw_bound_counts_horizonless_shadows() {
+    let data: Value =
+        serde_json::from_str(include_str!("data/jnw_bound.json")).expect("reference table");
+    for case in data["cases"].as_array().unwrap() {
+        let vary = case["vary"].as_array().unwrap();
+        let (lo, hi) = (vary[0].as_f64().unwrap(), vary[1].as_f64().unwrap());
+        let levels = case["levels"].as_array().unwrap();
+        let intervals: Vec<(f64, f64, f64)> = levels
+            .iter()
+            .map(|l| {
+                let f = |k: &str| l[k].as_f64().unwrap();
+                (f("confidence"), f("low"), f("high"))
+            })
+            .collect();
+        let result = bound(&request("jnw", ("nu", lo, hi), &intervals)).unwrap();
+        assert!(result.failures.is_empty(), "{:?}", result.failures);
+        assert!(!result.require_horizon);
+        for (level, want) in result.levels.iter().zip(levels) {
+            let want = want["allowed"].as_array().unwrap();
+            assert_eq!(level.allowed.len(), want.len(), "{:?}", level.allowed);
+            for (got, want) in level.allowed.iter().zip(want) {
+                let w: Vec<f64> = want
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|x| x.as_f64().unwrap())
+                    .collect();
+                assert!(
+                    (got[0] - w[0]).abs() < 1e-7 && (got[1] - w[1]).abs() < 1e-7,
+                    "{got:?} vs {w:?}"
+                );
+                if w[0] == 0.5 {
+                    assert_eq!(result.end_kind(got[0]), Some("no-shadow edge"));
+                }
+                let text = result.describe_allowed(&level.allowed, 6);
+                assert!(text.contains("horizonless on"), "{text}");
+            }
+            assert!(!level.only_range_ends);
+        }
+        // Horizonless from just above 1/2 (or the range's start) to just below 1; nothing
+        // below 1/2 is evaluated.
+        let [h0, h1] = result.horizonless[0];
+        assert!((h0 - lo.max(0.5)).abs() < 1e-7 && (h1 - hi.min(1.0)).abs() < 1e-7);
+        for p in &result.predicted {
+            assert_eq!(p.status == "ok", p.value > 0.5, "{p:?}");
+            assert_eq!(p.horizonless, p.status == "ok" && p.value < 1.0, "{p:?}");
+        }
+        assert!(result
+            .assumptions
+            .iter()
+            .any(|a| a.starts_with("horizonless objects")));
+    }
+
+    // The old policy, on request: only ν = 1 has a horizon, so the answer is the range end.
+    let mut strict = request("jnw", ("nu", 0.3, 1.0), &[(0.68, 4.6, 5.2)]);
+    strict.settings.require_horizon = true;
+    let result = bound(&strict).unwrap();
+    assert_eq!(result.levels[0].allowed, vec![[1.0, 1.0]]);
+    assert!(result.levels[0].only_range_ends);
+    assert!(result.horizonless.is_empty());
+    let text = result.describe_allowed(&result.levels[0].allowed, 6);
+    assert!(text.contains("only the end of the varied range"), "{text}");
+    assert!(result
+        .assumptions
+        .iter()
+        .any(|a| a.starts_with("horizon required")));
+
+    // Reissner–Nordström beyond |q| = 1 has no shadow (C/A falls to zero at the centre: rays
+    // are turned back), so nothing changes there: still no horizon, unclassified.
+    let rn = bound(&request(
+        "reissner-nordstrom",
+        ("q", 0.0, 1.2),
+        &[(0.68, 3.0, 5.3)],
+    ))
+    .unwrap();
+    assert!(rn.horizonless.is_empty() && !rn.no_horizon.is_empty());
+
+    // The command line: labels in the table, fields in the JSON, the flag.
+    let dir = std::env::temp_dir().join(format!("umbral-jnw-bound-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let m = dir.join("m.toml");
+    std::fs::write(
+        &m,
+        "[size.shadow_radius]\nintervals = [ { confidence = 0.68, low = 4.6, high = 5.2 } ]\n",
+    )
+    .unwrap();
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "bound",
+            "--metric",
+            "jnw",
+            "--vary",
+            "nu=0.3:1",
+            "--measurement",
+        ];
+        args.push(m.to_str().unwrap());
+        args.extend(extra);
+        Command::new(env!("CARGO_BIN_EXE_umbral"))
+            .args(&args)
+            .output()
+            .unwrap()
+    };
+    let table = String::from_utf8(run(&[]).stdout).unwrap();
+    assert!(
+        table.contains("allowed [0.583479") && table.contains("horizonless"),
+        "{table}"
+    );
+    let json: Value = serde_json::from_slice(&run(&["--json"]).stdout).unwrap();
+    assert_eq!(json["horizonless"].as_array().unwrap().len(), 1);
+    assert_eq!(json["levels"][0]["only_range_ends"], false);
+    let strict = String::from_utf8(run(&["--require-horizon"]).stdout).unwrap();
+    assert!(
+        strict.contains("only the end of the varied range"),
+        "{strict}"
+    );
+}

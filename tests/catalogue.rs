@@ -217,3 +217,54 @@ fn out_of_domain_parameters_are_typed_errors() {
         assert!(err.to_string().contains(p), "{name}: {err}");
     }
 }
+
+/// Issue 10 item 9: Kerr–Sen a = 0, b = 1 said "no horizon" while `umbral metrics` declared
+/// one for |a| <= 1 − b. Sen 1992 (Phys. Rev. Lett. 69, 1006) gives r₊ = 1 − b + √((1 − b)² − a²)
+/// = 0 there: on the singular surface r(r + 2b) = 0, with area 4π(r₊² + 2br₊ + a²) = 0. With
+/// a = 0, Kerr–Sen is the dilaton black hole (Garfinkle, Horowitz & Strominger 1991, Phys.
+/// Rev. D 43, 3140) with q² = 2b in the radius ρ = r + 2b (C = r(r + 2b) = ρ(ρ − q²),
+/// A = 1 − 2/ρ), whose horizon likewise degenerates into the singularity at q² = 2. So b = 1
+/// has no horizon, the domain text says so, and both solvers agree on either side: the
+/// shadow shrinks to b_c = 2 as b → 1⁻ (photon sphere of the dilaton metric,
+/// ρ = [(6 + q²) + √((6 + q²)² − 32q²)]/4, derived by hand from (C/A)′ = 0; b_c = √(C/A) there)
+/// and there is none at b = 1.
+#[test]
+fn kerr_sen_a0_b1_has_no_horizon_and_no_shadow() {
+    use umbral::shadow::{solve, Observer, ShadowSettings, ShadowStatus};
+    let at_one = KerrSen::new(0.0, 1.0).unwrap();
+    assert_eq!(horizon(&at_one), None);
+    let meaning = &KerrSen::describe().parameters[1].meaning;
+    assert!(
+        meaning.contains("b < 1") && meaning.contains("zero area"),
+        "{meaning}"
+    );
+    let observer = Observer::distant(0.5);
+    let settings = ShadowSettings {
+        points: 16,
+        ..ShadowSettings::default()
+    };
+    let result = solve(&at_one, &observer, &settings).unwrap();
+    assert!(matches!(result.status, ShadowStatus::NoShadow { .. }));
+    let q = 2f64.sqrt() * (1.0 + f64::EPSILON); // q² just above 2: no horizon
+    let dilaton = solve(&Dilaton::new(q).unwrap(), &observer, &settings).unwrap();
+    assert!(matches!(dilaton.status, ShadowStatus::NoShadow { .. }));
+    for b in [0.5, 0.9, 0.999, 0.99999999, 1.0 - 1e-12] {
+        let q2: f64 = 2.0 * b;
+        let rho = ((6.0 + q2) + ((6.0 + q2).powi(2) - 32.0 * q2).sqrt()) / 4.0;
+        let b_c = (rho * (rho - q2) / (1.0 - 2.0 / rho)).sqrt();
+        let sen = solve(&KerrSen::new(0.0, b).unwrap(), &observer, &settings).unwrap();
+        let radius = sen.curve.as_ref().map(|c| c.radii[0]);
+        let radius = radius.unwrap_or_else(|| panic!("b = {b}: {:?}", sen.status));
+        // The closed form loses digits to the cancellation in ρ − 2 ~ √(2 − q²) as b → 1.
+        let tol = 1e-12 / (1.0 - b).sqrt();
+        assert!((radius - b_c).abs() < tol, "b = {b}: {radius} vs {b_c}");
+        if b == 1.0 - 1e-12 {
+            // ρ ≈ 2 + √(2 − q²), so b_c ≈ 2 + 2√(2 − q²) ≈ 2 + 2.8e-6 (expanding the closed
+            // form; 2 − q² = 2 − 2b is exact in floating point here; mpmath at 40 digits puts
+            // the expansion 5e-13 from the closed form). The solver's boundary tolerance is
+            // 1e-8 M.
+            let expansion = 2.0 + 2.0 * (2.0 - 2.0 * b).sqrt();
+            assert!((radius - expansion).abs() < 1e-9, "{radius} vs {expansion}");
+        }
+    }
+}

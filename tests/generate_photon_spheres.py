@@ -15,7 +15,8 @@ Closed forms are asserted where they exist (tidal charge: r = (3 + sqrt(9 - 8 q2
 Reissner-Nordstrom; JNW: r = (1 + 2 nu)/nu, Virbhadra, Narasimha & Chitre 1998; Simpson-Visser:
 r^2 + l^2 = 9, b_c = 3 sqrt 3). For jnw with nu <= 1/2 it confirms that (C/A)' keeps one sign
 outside r = 2/nu (analytically (C/A)' = r (1 - b/r)^(-2 nu) [2 - (1 + 2 nu) b/r], whose root
-(1 + 2 nu) b/2 lies at or inside b for nu <= 1/2).
+(1 + 2 nu) b/2 lies at or inside b for nu <= 1/2), and gives the photon spheres of JNW with nu
+just above 1/2, within 1e-7 of the singular surface, with their Lyapunov exponents.
 
 Values are written rounded to 17 significant digits, so the output is deterministic.
 
@@ -131,6 +132,12 @@ METRICS = [
 ]
 # Metrics with no photon sphere outside their singular surface.
 NO_PHOTON_SPHERE = [("jnw", jnw, ["nu"], [["1/2"], ["2/5"]])]
+# Photon spheres right next to the singular surface r = b = 2/nu of JNW with nu just above
+# 1/2: (r_ph - b)/b = (2 nu - 1)/2 = 1.4e-3, 1e-5 and 1e-7 (issue 10 item 8). Besides the
+# sphere, the Lyapunov exponent of Cardoso et al. 2009 (Phys. Rev. D 79, 064016) in the form
+# lambda^2 = (A^2/2B) [(1/A)'' - (C/A) (1/C)''], Omega = sqrt(A/C), gamma = pi lambda/Omega,
+# with the derivatives by mpmath.
+NEAR_SINGULARITY = [("jnw", jnw, ["nu"], [["2507/5000"], ["50001/100000"], ["5000001/10000000"]])]
 
 
 def ratio_slope(big_a, big_c, r):
@@ -263,12 +270,39 @@ def build_table():
                     "inner_boundary": format_value(inner),
                 }
             )
+    near = []
+    for name, builder, names, points in NEAR_SINGULARITY:
+        for values in points:
+            params = {k: q(v) for k, v in zip(names, values)}
+            spheres, inner = photon_spheres(builder, params)
+            closed_form_checks(name, params, spheres)
+            (sphere,) = spheres
+            big_a, big_c, _ = builder(params)
+            r = sphere["radius"]
+            inv_a2 = mp.diff(lambda s: 1 / big_a(s), r, 2)
+            inv_c2 = mp.diff(lambda s: 1 / big_c(s), r, 2)
+            # B = 1/A for JNW.
+            lyapunov = mp.sqrt(big_a(r) ** 3 / 2 * (inv_a2 - big_c(r) / big_a(r) * inv_c2))
+            gamma = mp.pi * lyapunov / mp.sqrt(big_a(r) / big_c(r))
+            near.append(
+                {
+                    "metric": name,
+                    "exact": ", ".join(f"{k}={v}" for k, v in zip(names, values)),
+                    "parameters": {k: format_value(v) for k, v in params.items()},
+                    "inner_boundary": format_value(inner),
+                    "radius": format_value(r),
+                    "impact_parameter": format_value(sphere["impact_parameter"]),
+                    "lyapunov": format_value(lyapunov),
+                    "gamma": format_value(gamma),
+                }
+            )
     return {
         "description": "Photon spheres (extrema of C/A outside the horizon or singular surface, "
         "outermost first; unstable = minimum) and b_c = sqrt(min C/A) of static spherical "
         "metrics, from mpmath at 40 digits (tests/generate_photon_spheres.py); G = c = M = 1",
         "entries": entries,
         "no_photon_sphere": none,
+        "near_singularity": near,
     }
 
 
@@ -322,13 +356,15 @@ def compare(committed, fresh, where="table"):
     return None
 
 
-def main():
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+def run_cli(description, text_of_table, what):
+    """The --out / --check command line of a reference-table generator: write the text made
+    by `text_of_table()`, or compare a committed table with it (exit 1 naming the entry)."""
+    parser = argparse.ArgumentParser(description=description)
     mode = parser.add_mutually_exclusive_group(required=True)
     mode.add_argument("--out", help="write the table to this path")
     mode.add_argument("--check", help="compare this committed table with a fresh computation")
     args = parser.parse_args()
-    text = table_text()
+    text = text_of_table()
     if args.out:
         with open(args.out, "w", encoding="utf-8", newline="\n") as f:
             f.write(text)
@@ -337,10 +373,14 @@ def main():
         committed = json.load(f)
     problem = compare(committed, json.loads(text))
     if problem:
-        print(f"photon-sphere table mismatch: {problem}", file=sys.stderr)
+        print(f"{what} table mismatch: {problem}", file=sys.stderr)
         return 1
-    print(f"photon-sphere table {args.check} matches the mpmath computation")
+    print(f"{what} table {args.check} matches the mpmath computation")
     return 0
+
+
+def main():
+    return run_cli(__doc__.splitlines()[0], table_text, "photon-sphere")
 
 
 if __name__ == "__main__":

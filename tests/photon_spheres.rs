@@ -158,3 +158,62 @@ fn jnw_without_photon_sphere_has_no_shadow() {
         );
     }
 }
+
+/// Issue 10 item 8: the spherical solver said "no photon sphere" for JNW with ν in
+/// (0.5, 0.5014] although b_c ≈ 4.00–4.02: the photon sphere fell in the last cell of its
+/// radial grid, next to the singular surface r = 2/ν. It now scans that cell in ln(r − r_s).
+/// Source: mpmath, tests/generate_photon_spheres.py (`near_singularity`), with the closed form
+/// r = (1 + 2ν)/ν asserted (Virbhadra, Narasimha & Chitre 1998, Astron. Astrophys. 337, 1) and
+/// the Lyapunov exponent of Cardoso et al. 2009 (Phys. Rev. D 79, 064016).
+#[test]
+fn jnw_photon_sphere_next_to_the_singularity() {
+    let table = table();
+    let entries = table["near_singularity"]
+        .as_array()
+        .expect("near_singularity list");
+    assert_eq!(entries.len(), 3);
+    for entry in entries {
+        let label = label(entry);
+        let metric = build_metric("jnw", &assignments(entry)).unwrap();
+        let result = spherical::solve(
+            metric.as_ref(),
+            &Observer::distant(1.0),
+            &ShadowSettings::default(),
+        )
+        .unwrap_or_else(|e| panic!("{label}: {e}"));
+        assert_eq!(result.status, ShadowStatus::Shadow, "{label}");
+        let [sphere] = result.photon_spheres[..] else {
+            panic!("{label}: {:?}", result.photon_spheres)
+        };
+        for (got, key) in [
+            (sphere.radius, "radius"),
+            (sphere.impact_parameter, "impact_parameter"),
+            (result.curve.as_ref().unwrap().radii[0], "impact_parameter"),
+        ] {
+            let want = number(entry, key);
+            let error = relative_error(got, want);
+            assert!(
+                error <= RELATIVE_TOLERANCE,
+                "{label} {key}: {got} vs {want} ({error:.1e})"
+            );
+        }
+        // The exponents, where rounding lets them be computed to 1e-9; closer to the
+        // singularity they are reported as undefined, with the reason.
+        let nu = assignments(entry)[0].1;
+        match (&result.exponents, &result.diagnostics.exponents_undefined) {
+            (Some(e), None) => {
+                assert!(nu > 0.50001 - 1e-12, "{label}");
+                for (got, key) in [(e.lyapunov.unwrap(), "lyapunov"), (e.gamma_min, "gamma")] {
+                    let want = number(entry, key);
+                    let error = relative_error(got, want);
+                    assert!(error <= 1e-9, "{label} {key}: {got} vs {want}");
+                }
+            }
+            (None, Some(why)) => {
+                assert!(nu < 0.50001, "{label}: {why}");
+                assert!(why.contains("ill-conditioned"), "{label}: {why}");
+            }
+            other => panic!("{label}: {other:?}"),
+        }
+    }
+}

@@ -182,3 +182,382 @@ fn cli_scan_bad_input_is_one_line_exit_2() {
     assert_eq!(code, 2);
     assert!(err.contains("cannot write"), "{err}");
 }
+
+// ---------------------------------------------------------------------------------------------
+// Resumed scans trust nothing on disk: every kept line is checked, and the header carries a
+// hash of the metric.
+
+/// A fresh empty folder.
+fn temp_dir(name: &str) -> PathBuf {
+    let dir = temp(name);
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// A finished scan of `request()` in a fresh file, as its lines (header first).
+fn finished(name: &str) -> (PathBuf, Vec<String>) {
+    let path = temp(name);
+    run_scan(&request(), &path, &|_, _| {}).unwrap();
+    let lines = std::fs::read_to_string(&path)
+        .unwrap()
+        .lines()
+        .map(str::to_string)
+        .collect();
+    (path, lines)
+}
+
+/// Write `lines` (each with its newline) and resume: the error, which must leave the file
+/// as it was.
+fn resume_refused(path: &PathBuf, lines: &[String]) -> String {
+    let text: String = lines.iter().map(|l| format!("{l}\n")).collect();
+    std::fs::write(path, &text).unwrap();
+    let e = run_scan(&request(), path, &|_, _| {}).unwrap_err();
+    assert_eq!(
+        std::fs::read_to_string(path).unwrap(),
+        text,
+        "a refused file is left alone"
+    );
+    e.to_string()
+}
+
+/// Replace the first match of `from` in `line` by `to` (which must occur).
+fn edit(line: &str, from: &str, to: &str) -> String {
+    assert!(line.contains(from), "'{from}' not in {line}");
+    line.replacen(from, to, 1)
+}
+
+#[test]
+fn edited_metric_file_is_refused_on_resume() {
+    let dir = temp_dir("metric-file-dir");
+    let file = dir.join("tidal.toml");
+    let text = r#"
+name = "tidal"
+title = "Braneworld tidal charge"
+reference = "Dadhich, Maartens, Papadopoulos & Rezania 2000, Phys. Lett. B 487, 1"
+symmetry = "spherical"
+helpers = ["f = 1 - 2/r + q2/r^2"]
+
+[[parameters]]
+name = "q2"
+default = 0.0
+domain = "(-inf, 1]"
+meaning = "tidal charge"
+
+[line_element]
+A = "f"
+B = "1/f"
+C = "r^2"
+"#;
+    std::fs::write(&file, text).unwrap();
+    let scan_of = |file: &std::path::Path| ScanRequest {
+        metric: umbral::metrics::MetricSource::File(std::sync::Arc::new(
+            umbral::metric_file::load_metric_file(file).unwrap(),
+        )),
+        axes: vec![GridAxis {
+            name: "q2".into(),
+            low: -0.5,
+            high: 0.5,
+            count: 3,
+        }],
+        fixed: vec![],
+        inclination_deg: 30.0,
+        settings: Default::default(),
+    };
+    let out = temp("metric-file.jsonl");
+    run_scan(&scan_of(&file), &out, &|_, _| {}).unwrap();
+    let before = std::fs::read(&out).unwrap();
+    // Same name, same path, other formulas: the stale points must not be kept.
+    std::fs::write(&file, text.replace("q2/r^2", "1.1*q2/r^2")).unwrap();
+    let e = run_scan(&scan_of(&file), &out, &|_, _| {}).unwrap_err();
+    assert!(e.to_string().contains("metric_sha256"), "{e}");
+    assert!(e.to_string().contains("metric's content changed"), "{e}");
+    assert_eq!(std::fs::read(&out).unwrap(), before);
+    // The original file again: resumed in full.
+    std::fs::write(&file, text).unwrap();
+    let s = run_scan(&scan_of(&file), &out, &|_, _| {}).unwrap();
+    assert_eq!((s.reused, s.computed), (3, 0));
+}
+
+#[test]
+fn builtin_metric_hash_and_version_are_checked() {
+    let (path, lines) = finished("hash.jsonl");
+    let mut bad = lines.clone();
+    let at = bad[0].find("\"metric_sha256\":\"").unwrap() + "\"metric_sha256\":\"".len();
+    bad[0].replace_range(at..at + 4, "0000");
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("metric_sha256"), "{e}");
+    let mut bad = lines.clone();
+    bad[0] = edit(
+        &bad[0],
+        "\"umbral_version\":\"",
+        "\"umbral_version\":\"0.0.0-",
+    );
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("umbral_version"), "{e}");
+    // A file from the first scan format (no hash) is refused, naming the format.
+    let mut bad = lines;
+    bad[0] = edit(&bad[0], "\"umbral_scan\":2", "\"umbral_scan\":1");
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("scan format 1"), "{e}");
+}
+
+#[test]
+fn hand_edited_mean_radius_is_refused() {
+    let (path, lines) = finished("edited-mean.jsonl");
+    let mut bad = lines;
+    let line = &bad[2];
+    let at = line.find("\"mean_radius\":").unwrap() + "\"mean_radius\":".len();
+    bad[2] = format!("{}4.954{}", &line[..at], &line[at + 5..]);
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("line 3") && e.contains("checksum"), "{e}");
+}
+
+#[test]
+fn parameters_that_disagree_with_the_index_are_refused() {
+    let (path, lines) = finished("params.jsonl");
+    // Line 2 is index [0, 0] with a = 0; claim a = 0.3 there.
+    let mut bad = lines;
+    bad[1] = edit(&bad[1], "\"a\":0.0", "\"a\":0.3");
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 2") && e.contains("parameter 'a'") && e.contains("grid point"),
+        "{e}"
+    );
+}
+
+#[test]
+fn parameter_off_by_one_bit_is_refused() {
+    let (path, lines) = finished("bits.jsonl");
+    // Index [1, 0]: a = 0.3 on the grid 0..0.9 in 4 steps; one unit in the last place off.
+    let mut bad = lines;
+    let a = 0.9f64 / 3.0;
+    let next = f64::from_bits(a.to_bits() + 1);
+    assert!(bad[4].contains(&format!("\"a\":{a}")), "{}", bad[4]);
+    bad[4] = edit(&bad[4], &format!("\"a\":{a}"), &format!("\"a\":{next}"));
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("line 5") && e.contains("parameter 'a'"), "{e}");
+}
+
+#[test]
+fn unknown_status_banana_is_refused() {
+    let (path, lines) = finished("banana.jsonl");
+    let mut bad = lines;
+    bad[3] = edit(&bad[3], "\"status\":\"shadow\"", "\"status\":\"banana\"");
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 4") && e.contains("unknown status 'banana'"),
+        "{e}"
+    );
+}
+
+#[test]
+fn shadow_status_without_observables_is_refused() {
+    let (path, lines) = finished("no-observables.jsonl");
+    let mut bad = lines;
+    let line = &bad[2];
+    let start = line.find(",\"observables\":").unwrap();
+    let end = line.find(",\"checksum\"").unwrap();
+    bad[2] = format!("{}{}", &line[..start], &line[end..]);
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 3") && e.contains("needs a observables"),
+        "{e}"
+    );
+}
+
+#[test]
+fn extra_field_is_refused() {
+    let (path, lines) = finished("extra.jsonl");
+    let mut bad = lines;
+    bad[2] = edit(&bad[2], "{\"index\"", "{\"note\":\"hand-made\",\"index\"");
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 3") && e.contains("unknown field `note`"),
+        "{e}"
+    );
+}
+
+#[test]
+fn duplicated_index_with_other_numbers_is_refused() {
+    let (path, lines) = finished("duplicate.jsonl");
+    // Line 3 (index [0, 1]) again with the index of line 2.
+    let mut bad = lines;
+    let copy = edit(&bad[2], "\"index\":[0,1]", "\"index\":[0,0]");
+    bad.insert(2, copy);
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 3") && e.contains("appears a second time"),
+        "{e}"
+    );
+}
+
+// Damaged files name the line and the problem instead of "different arguments".
+
+#[test]
+fn malformed_line_in_scan_file_is_named() {
+    let (path, lines) = finished("malformed.jsonl");
+    let mut bad = lines;
+    bad[5] = bad[5][..40].to_string();
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 6") && e.contains("not a scan point"),
+        "{e}"
+    );
+    assert!(!e.contains("different arguments"), "{e}");
+}
+
+#[test]
+fn blank_line_in_scan_file_is_named() {
+    let (path, lines) = finished("blank.jsonl");
+    let mut bad = lines;
+    bad.insert(4, String::new());
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("line 5 is blank"), "{e}");
+}
+
+#[test]
+fn byte_order_mark_in_scan_file_is_named() {
+    let (path, lines) = finished("bom.jsonl");
+    let mut bad = lines;
+    bad[0].insert(0, '\u{feff}');
+    let e = resume_refused(&path, &bad);
+    assert!(e.contains("line 1") && e.contains("byte-order mark"), "{e}");
+}
+
+#[test]
+fn off_grid_index_in_scan_file_is_named() {
+    let (path, lines) = finished("off-grid.jsonl");
+    let mut bad = lines;
+    bad[1] = edit(&bad[1], "\"index\":[0,0]", "\"index\":[9,0]");
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 2") && e.contains("[9, 0] is off the grid") && e.contains("axis 'a'"),
+        "{e}"
+    );
+}
+
+#[test]
+fn binary_scan_file_is_named_not_a_write_error() {
+    let path = temp("binary.jsonl");
+    let bytes: Vec<u8> = (0..=255u8).cycle().take(4096).collect();
+    std::fs::write(&path, &bytes).unwrap();
+    let e = run_scan(&request(), &path, &|_, _| {})
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("line 1") && e.contains("binary data"), "{e}");
+    assert!(!e.contains("cannot write"), "{e}");
+    assert_eq!(std::fs::read(&path).unwrap(), bytes);
+    // Bytes that are not UTF-8 at all.
+    std::fs::write(&path, b"\xff\xfe scan?\n").unwrap();
+    let e = run_scan(&request(), &path, &|_, _| {})
+        .unwrap_err()
+        .to_string();
+    assert!(e.contains("line 1") && e.contains("not UTF-8"), "{e}");
+}
+
+// One output, one scan at a time; temporaries are unique and never left behind.
+
+/// Files in `dir` that look like temporaries.
+fn temporaries(dir: &std::path::Path) -> Vec<String> {
+    std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .filter(|n| n.starts_with('.') || n.ends_with(".tmp") || n.ends_with(".partial"))
+        .collect()
+}
+
+#[test]
+fn second_scan_on_the_same_output_is_refused_while_the_first_runs() {
+    let dir = temp_dir("lock-dir");
+    let path = dir.join("shared.jsonl");
+    let (started_tx, started_rx) = std::sync::mpsc::channel::<()>();
+    let (release_tx, release_rx) = std::sync::mpsc::channel::<()>();
+    let started_tx = std::sync::Mutex::new(Some(started_tx));
+    let release_rx = std::sync::Mutex::new(release_rx);
+    std::thread::scope(|s| {
+        let first = s.spawn(|| {
+            run_scan(&request(), &path, &|done, _| {
+                // Hold the first scan at its start, holding the output.
+                if done == 0 {
+                    if let Some(tx) = started_tx.lock().unwrap().take() {
+                        tx.send(()).unwrap();
+                        release_rx.lock().unwrap().recv().unwrap();
+                    }
+                }
+            })
+        });
+        started_rx.recv().unwrap();
+        let e = run_scan(&request(), &path, &|_, _| {}).unwrap_err();
+        assert!(e.to_string().contains("is in use by another scan"), "{e}");
+        release_tx.send(()).unwrap();
+        let s = first.join().unwrap().unwrap();
+        assert_eq!(s.computed, 12);
+    });
+    // Free again once the first has finished.
+    let s = run_scan(&request(), &path, &|_, _| {}).unwrap();
+    assert_eq!(s.reused, 12);
+    assert!(temporaries(&dir).is_empty(), "{:?}", temporaries(&dir));
+}
+
+#[test]
+fn concurrent_scans_to_c_txt_and_c_jsonl_do_not_share_a_temporary() {
+    let dir = temp_dir("clash-dir");
+    let (a, b) = (dir.join("c.txt"), dir.join("c.jsonl"));
+    let (ra, rb) = std::thread::scope(|s| {
+        let ta = s.spawn(|| run_scan(&request(), &a, &|_, _| {}));
+        let tb = s.spawn(|| run_scan(&request(), &b, &|_, _| {}));
+        (ta.join().unwrap(), tb.join().unwrap())
+    });
+    ra.unwrap();
+    rb.unwrap();
+    assert_eq!(std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap());
+    assert!(temporaries(&dir).is_empty(), "{:?}", temporaries(&dir));
+}
+
+#[test]
+fn scan_into_a_folder_or_device_is_refused_without_leftovers() {
+    let dir = temp_dir("folder-out");
+    let e = run_scan(&request(), &dir, &|_, _| {}).unwrap_err();
+    assert!(e.to_string().contains("a folder"), "{e}");
+    assert!(temporaries(&dir).is_empty());
+    let e = run_scan(&request(), std::path::Path::new("/dev/full"), &|_, _| {}).unwrap_err();
+    assert!(e.to_string().contains("character device"), "{e}");
+}
+
+#[test]
+fn stop_flag_interrupts_and_the_rerun_resumes_byte_identical() {
+    let (_, complete) = finished("stop-reference.jsonl");
+    let path = temp("stop.jsonl");
+    let stop = std::sync::atomic::AtomicBool::new(false);
+    let e = umbral::scan::run_scan_until(
+        &request(),
+        &path,
+        &|done, _| {
+            if done >= 4 {
+                stop.store(true, std::sync::atomic::Ordering::Relaxed);
+            }
+        },
+        &stop,
+    )
+    .unwrap_err();
+    let text = e.to_string();
+    assert!(
+        text.contains("interrupted after") && text.contains("of 12 points"),
+        "{e}"
+    );
+    assert!(text.contains("rerun the same command to resume"), "{e}");
+    let umbral::scan::ScanError::Interrupted { done, .. } = e else {
+        panic!("{e}")
+    };
+    let kept = std::fs::read_to_string(&path).unwrap().lines().count();
+    assert_eq!(kept, done + 1, "every finished point is on disk");
+    let s = run_scan(&request(), &path, &|_, _| {}).unwrap();
+    assert_eq!((s.reused, s.computed), (done, 12 - done));
+    let lines: Vec<String> = std::fs::read_to_string(&path)
+        .unwrap()
+        .lines()
+        .map(str::to_string)
+        .collect();
+    assert_eq!(lines, complete);
+}

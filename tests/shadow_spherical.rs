@@ -424,3 +424,63 @@ fn separable_gamma_schwarzschild_limits() {
         Err(ShadowError::SolverNotApplicable { .. })
     ));
 }
+
+/// Issue 10 item 9: Simpson–Visser l = 3 exited 2 because its exponent is undefined, though
+/// the shadow is well defined. The photon sphere r² + l² = 9 sits on the throat r = 0 there, so
+/// b_c = 3√3 still (Simpson & Visser 2019, JCAP 02, 042), but the orbit is marginally stable
+/// (C/A has a quartic minimum at r = 0: λ² = 0, no exponential departure). The shadow is
+/// reported and the exponent marked undefined with the reason, in the library and in the
+/// command's table and JSON.
+#[test]
+fn simpson_visser_l3_shadow_with_undefined_exponent() {
+    let sv = umbral::metrics::SimpsonVisser::new(3.0).unwrap();
+    let result = solve(&sv, &Observer::distant(0.5), &settings(64)).unwrap();
+    assert_eq!(result.status, ShadowStatus::Shadow);
+    let b_c = 27f64.sqrt();
+    assert!(result
+        .curve
+        .unwrap()
+        .radii
+        .iter()
+        .all(|r| close(*r, b_c, 1e-13)));
+    assert!(result.exponents.is_none());
+    let why = result.diagnostics.exponents_undefined.expect("a reason");
+    assert!(why.contains("marginally stable"), "{why}");
+    // Either side of l = 3 the exponent exists (l = 2.9: the sphere outside the throat;
+    // l = 3.1: the throat itself is the unstable orbit).
+    for l in [2.9, 3.1] {
+        let r = solve(
+            &umbral::metrics::SimpsonVisser::new(l).unwrap(),
+            &Observer::distant(0.5),
+            &settings(8),
+        );
+        assert!(r.unwrap().exponents.is_some(), "l = {l}");
+    }
+
+    let run = |json: bool| {
+        let mut args = vec!["shadow", "--metric", "simpson-visser", "--set", "l=3"];
+        args.extend(["--inclination", "30"]);
+        if json {
+            args.push("--json");
+        }
+        std::process::Command::new(env!("CARGO_BIN_EXE_umbral"))
+            .args(&args)
+            .output()
+            .unwrap()
+    };
+    let table = run(false);
+    assert_eq!(table.status.code(), Some(0));
+    let text = String::from_utf8_lossy(&table.stdout);
+    assert!(text.contains("5.196152422707 M"), "{text}");
+    assert!(
+        text.contains("undefined (") && text.contains("marginally stable"),
+        "{text}"
+    );
+    let json = run(true);
+    assert_eq!(json.status.code(), Some(0));
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert!(v["exponents"].is_null());
+    assert!(v["exponents_undefined"]
+        .as_str()
+        .is_some_and(|s| s.contains("marginally stable")));
+}

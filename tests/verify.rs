@@ -277,15 +277,27 @@ fn broken_files_exit_2_with_one_line() {
     assert!(stderr.contains("cannot read"), "{stderr}");
 }
 
+/// GOOD_CASE with its deliberately-off row marked as a baseline from umbral itself, the only
+/// kind of value `--update` rewrites on its own (docs/regression-checks.md).
+fn good_case_with_umbral_baseline() -> String {
+    let text = GOOD_CASE.replace(
+        "source = \"deliberately wrong, for the test\"",
+        "source = \"umbral: a baseline, deliberately off for the test\"",
+    );
+    assert_ne!(text, GOOD_CASE);
+    text
+}
+
 #[test]
 fn update_writes_a_copy_keeping_comments() {
     let dir = scratch("update");
     let path = dir.join("pinned.toml");
-    std::fs::write(&path, GOOD_CASE).unwrap();
+    let original = good_case_with_umbral_baseline();
+    std::fs::write(&path, &original).unwrap();
     let (code, out, err) = umbral(&["verify", "--update", path.to_str().unwrap()]);
     // The run against the old baseline had a failure, so the exit code says so.
     assert_eq!(code, 1, "{out}{err}");
-    assert_eq!(std::fs::read_to_string(&path).unwrap(), GOOD_CASE);
+    assert_eq!(std::fs::read_to_string(&path).unwrap(), original);
     let copy = dir.join("pinned.updated.toml");
     let text = std::fs::read_to_string(&copy).unwrap();
     assert!(
@@ -295,6 +307,11 @@ fn update_writes_a_copy_keeping_comments() {
     assert!(text.contains("# deliberately off"), "{text}");
     assert!(text.contains("max = 0.1"), "{text}");
     assert!(!text.contains("value = 5.2 "), "{text}");
+    // The Synge 1966 value has an outside source: written as it was.
+    assert!(
+        text.contains("value = 3.0   # right (Synge 1966)"),
+        "{text}"
+    );
     // The updated copy is a passing baseline.
     assert_checks_pass(&copy);
     let (code, _, _) = umbral(&["verify", copy.to_str().unwrap()]);
@@ -303,9 +320,88 @@ fn update_writes_a_copy_keeping_comments() {
     // --output names the copy explicitly.
     let chosen = dir.join("chosen.toml");
     let outcome = update_checks_file(&path, Some(&chosen)).unwrap();
-    assert_eq!(outcome.updated, 2);
+    assert_eq!(outcome.updated, 1);
+    assert_eq!(outcome.outside_unchanged, 1);
+    assert!(outcome.outside_drifted.is_empty() && outcome.forced.is_empty());
     assert_eq!(outcome.kept.len(), 1);
     assert_eq!(std::fs::read_to_string(&chosen).unwrap(), text);
+}
+
+/// An update that rewrote nothing and reported exactly these drifted rows (in order).
+fn assert_nothing_updated(outcome: &umbral::verify::UpdateOutcome, drifted: &[&str]) {
+    assert_eq!(outcome.updated, 0);
+    let got = &outcome.outside_drifted;
+    assert_eq!(got.len(), drifted.len(), "{got:?}");
+    for (line, want) in got.iter().zip(drifted) {
+        assert!(line.contains(want), "{line} lacks {want}");
+    }
+}
+
+/// Issue 10 item 10: `verify --update` rewrote independently sourced values with umbral's
+/// own numbers while keeping `source = "..."`, so the provenance became false. Now a value
+/// with an outside source that drifted is reported and left as written; only naming its row
+/// replaces it, and then its source says umbral replaced it.
+#[test]
+fn verify_update_keeps_outside_sources() {
+    let dir = scratch("update-outside");
+    let path = dir.join("outside.toml");
+    // Both values are off and both name an outside source.
+    let original = GOOD_CASE.replace("value = 3.0   # right", "value = 3.1   # drifted");
+    std::fs::write(&path, &original).unwrap();
+    let outcome = update_checks_file(&path, None).unwrap();
+    assert_nothing_updated(
+        &outcome,
+        &["schw: mean_radius", "schw: photon_sphere_radius"],
+    );
+    assert!(outcome.outside_drifted[1].contains("Synge 1966"));
+    let text = std::fs::read_to_string(&outcome.output).unwrap();
+    assert_eq!(
+        text, original,
+        "nothing with an outside source is rewritten"
+    );
+
+    let (code, out, err) = umbral(&["verify", "--update", path.to_str().unwrap()]);
+    assert_eq!(code, 1, "{out}{err}");
+    assert!(
+        out.contains("drifted, left as written")
+            && out.contains("schw: photon_sphere_radius (written 3.1, computed 3"),
+        "{out}"
+    );
+
+    // Named, the row is replaced and its source now says where the number came from.
+    let (code, out, err) = umbral(&[
+        "verify",
+        "--update",
+        "--force-row",
+        "schw:photon_sphere_radius",
+        path.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 1, "{out}{err}");
+    let text = std::fs::read_to_string(dir.join("outside.updated.toml")).unwrap();
+    assert!(!text.contains("value = 3.1 "), "{text}");
+    let parsed: toml::Value = toml::from_str(&text).unwrap();
+    let source = parsed["case"][0]["expect"][1]["source"].as_str().unwrap();
+    assert_eq!(
+        source,
+        "umbral: forced update, replacing a value from \"Synge 1966, MNRAS 131, 463\""
+    );
+    // The other drifted row was not named: still as written.
+    assert!(text.contains("value = 5.2 "), "{text}");
+    assert!(
+        out.contains("replaced although its source was not umbral"),
+        "{out}"
+    );
+
+    // A name that is no row of the file is refused before anything runs.
+    let (code, _, err) = umbral(&[
+        "verify",
+        "--update",
+        "--force-row",
+        "schw:no_such_quantity",
+        path.to_str().unwrap(),
+    ]);
+    assert_eq!(code, 2);
+    assert!(err.contains("no such row"), "{err}");
 }
 
 #[test]
@@ -332,8 +428,15 @@ fn bound_cases_update_and_reject_unknown_levels() {
     std::fs::write(&path, &drifted).unwrap();
     let report = run_checks_file(&path).unwrap();
     assert_eq!(report.failed(), 1, "{}", report.render_table());
+    // Every value there has an outside source (closed forms): the drift is reported and
+    // nothing is rewritten unless the row is named (issue 10 item 10).
     let outcome = update_checks_file(&path, None).unwrap();
-    assert_eq!(outcome.updated, 3);
+    assert_nothing_updated(&outcome, &["upper_end @ 0.68"]);
+    let force =
+        [umbral::verify::RowSelector::parse("rn-charge-from-radius:upper_end@0.68").unwrap()];
+    let outcome = umbral::verify::update_checks_file_forcing(&path, None, &force).unwrap();
+    assert_eq!(outcome.updated, 1);
+    assert_eq!(outcome.forced.len(), 1);
     assert_checks_pass(&outcome.output);
     let text = std::fs::read_to_string(&outcome.output).unwrap();
     assert!(
@@ -349,4 +452,24 @@ fn bound_cases_update_and_reject_unknown_levels() {
         ),
     );
     assert!(e.contains("confidence 0.95 is not a level"), "{e}");
+}
+
+/// Issue 10 item 13: a `[[bound]]`'s `initial_grid` (and `points`) have upper limits like the
+/// command line's, so a checks file cannot ask for 10⁸ grid nodes.
+#[test]
+fn checks_file_initial_grid_has_an_upper_limit() {
+    let original = std::fs::read_to_string(repo("tests/checks/bounds.toml")).unwrap();
+    let huge = original.replace("points = 16\n", "points = 16\ninitial_grid = 100000000\n");
+    assert_ne!(huge, original);
+    let e = bad_file_message("grid", &huge);
+    assert!(e.contains("initial_grid from 3 to 1000"), "{e}");
+    let e = bad_file_message(
+        "grid",
+        &original.replace("points = 16\n", "points = 2000000\n"),
+    );
+    assert!(e.contains("points from 8 to 1048576"), "{e}");
+    let ok = original.replace("points = 16\n", "points = 16\ninitial_grid = 1000\n");
+    let path = scratch("grid-ok").join("ok.toml");
+    std::fs::write(&path, ok).unwrap();
+    assert!(umbral::verify::ChecksFile::load(&path).is_ok());
 }

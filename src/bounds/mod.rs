@@ -9,6 +9,14 @@
 //! ends are sign changes of these margins, bracketed on an adaptive grid and refined by
 //! Brent's method ([`crate::numerics::brent_root`]).
 //!
+//! Values are classified by whether a shadow exists. A horizonless object is evaluated like a
+//! black hole when the spherical solver finds a photon sphere that bounds capture (a JNW naked
+//! singularity with ν > 1/2, a Simpson–Visser wormhole): rays inside it end at the central
+//! singularity or pass a throat and do not return. Such values are labelled `horizonless`.
+//! Values without a shadow are never allowed or excluded: `no_horizon` (no horizon, no
+//! shadow), `no_shadow` (a horizon, no shadow). [`BoundSettings::require_horizon`] restores
+//! the stricter policy of evaluating black holes only.
+//!
 //! ```
 //! use umbral::bounds::{bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure};
 //! use umbral::measurement::Measurement;
@@ -43,7 +51,7 @@ use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numerics::brent_root;
 use crate::observables::{CentreChoice, Observables};
-use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice};
+use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice, SolverKind};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -85,10 +93,14 @@ pub enum Inclination {
     Range { low_degrees: f64, high_degrees: f64 },
 }
 
+/// Largest starting grid over the varied range (each node is a full nuisance search; the
+/// default is 21).
+pub const MAX_INITIAL_GRID: usize = 1000;
+
 /// Numerical settings of a bound.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoundSettings {
-    /// Uniform starting grid over the varied range (at least 3 points).
+    /// Uniform starting grid over the varied range (3 to [`MAX_INITIAL_GRID`] points).
     pub initial_grid: usize,
     /// Tolerance on the ends of the allowed ranges, in the varied parameter.
     pub parameter_tolerance: f64,
@@ -98,6 +110,9 @@ pub struct BoundSettings {
     pub nuisance: NuisanceSearch,
     /// Shadow solver settings.
     pub shadow: ShadowSettings,
+    /// Evaluate only values with a horizon. By default a horizonless object is evaluated when
+    /// the spherical solver finds a photon sphere that bounds capture (module docs).
+    pub require_horizon: bool,
 }
 
 impl Default for BoundSettings {
@@ -115,6 +130,7 @@ impl Default for BoundSettings {
                 tolerance: 1e-8,
                 solver: SolverChoice::Auto,
             },
+            require_horizon: false,
         }
     }
 }
@@ -147,6 +163,9 @@ pub struct LevelBound {
     pub radius_interval: [f64; 2],
     /// Allowed ranges of the varied parameter, in increasing order.
     pub allowed: Vec<[f64; 2]>,
+    /// True when the allowed set is nothing but ends of the varied range (single points): no
+    /// value inside the range is allowed, and the set may continue beyond it.
+    pub only_range_ends: bool,
 }
 
 /// A range of the varied parameter where the solver failed.
@@ -163,6 +182,8 @@ pub struct PredictedPoint {
     pub value: f64,
     /// `ok`, `no_horizon`, `no_shadow` or `failed`.
     pub status: &'static str,
+    /// Whether an `ok` node's prediction includes horizonless objects.
+    pub horizonless: bool,
     /// Min and max of the predicted size over the (feasible) nuisance box.
     pub size_min: Option<f64>,
     pub size_max: Option<f64>,
@@ -180,8 +201,14 @@ pub struct BoundResult {
     pub size_measure: SizeMeasure,
     pub levels: Vec<LevelBound>,
     pub circularity_max: Option<f64>,
-    /// Ranges of the varied parameter where no nuisance point has a horizon.
+    /// Whether only values with a horizon were evaluated.
+    pub require_horizon: bool,
+    /// Ranges of the varied parameter where no nuisance point has a horizon and none was
+    /// evaluated (no shadow either, or a horizon was required).
     pub no_horizon: Vec<[f64; 2]>,
+    /// Ranges evaluated although (some of) their nuisance points have no horizon: horizonless
+    /// objects whose photon sphere bounds capture by the centre. They may be allowed.
+    pub horizonless: Vec<[f64; 2]>,
     /// Ranges where there is a horizon but no shadow.
     pub no_shadow: Vec<[f64; 2]>,
     /// Ranges where the solver failed (neither allowed nor excluded).
@@ -197,11 +224,16 @@ pub struct BoundResult {
 impl BoundResult {
     /// What an end `x` of an allowed range stands on, when it is not a crossing of the measured
     /// interval: `range edge` (the end of the varied range: the bound may go further),
-    /// `horizon edge` or `no-shadow edge` (where the black hole or its shadow stops existing).
+    /// `horizon edge` or `no-shadow edge` (where the black hole or its shadow stops existing;
+    /// the edge between an evaluated horizonless object and one without a shadow is a
+    /// no-shadow edge).
     pub fn end_kind(&self, x: f64) -> Option<&'static str> {
         let near = |y: f64| (x - y).abs() <= 1e-6 * (1.0 + y.abs());
+        let horizonless_end = self.horizonless.iter().flatten().any(|&y| near(y));
         if near(self.vary.low) || near(self.vary.high) {
             Some("range edge")
+        } else if self.no_horizon.iter().flatten().any(|&y| near(y)) && horizonless_end {
+            Some("no-shadow edge")
         } else if self.no_horizon.iter().flatten().any(|&y| near(y)) {
             Some("horizon edge")
         } else if self.no_shadow.iter().flatten().any(|&y| near(y)) {
@@ -211,7 +243,9 @@ impl BoundResult {
         }
     }
 
-    /// The allowed ranges at one level as text, each end marked with [`Self::end_kind`].
+    /// The allowed ranges at one level as text, each end marked with [`Self::end_kind`], each
+    /// range that contains horizonless objects marked so, and a set made only of range ends
+    /// said to be one.
     pub fn describe_allowed(&self, allowed: &[[f64; 2]], digits: usize) -> String {
         if allowed.is_empty() {
             return "none".into();
@@ -220,11 +254,47 @@ impl BoundResult {
             Some(kind) => format!("{x:.digits$} ({kind})"),
             None => format!("{x:.digits$}"),
         };
-        allowed
+        let text = allowed
             .iter()
-            .map(|[a, b]| format!("[{}, {}]", end(*a), end(*b)))
+            .map(|&[a, b]| {
+                let range = format!("[{}, {}]", end(a), end(b));
+                match self.horizonless_part(a, b) {
+                    Some([c, d]) => {
+                        format!("{range} (horizonless on [{c:.digits$}, {d:.digits$}])")
+                    }
+                    None => range,
+                }
+            })
             .collect::<Vec<_>>()
-            .join(" U ")
+            .join(" U ");
+        if self.only_range_ends(allowed) {
+            format!(
+                "{text}: only the end of the varied range, no value inside it is allowed \
+                 (the allowed set may continue beyond the range)"
+            )
+        } else {
+            text
+        }
+    }
+
+    /// Whether `allowed` is non-empty and made only of single points at the ends of the
+    /// varied range.
+    pub fn only_range_ends(&self, allowed: &[[f64; 2]]) -> bool {
+        !allowed.is_empty()
+            && allowed
+                .iter()
+                .all(|&[a, b]| a == b && self.end_kind(a) == Some("range edge"))
+    }
+
+    /// The part of [a, b] covered by horizonless ranges (their hull), if any of positive
+    /// length or a single evaluated point.
+    fn horizonless_part(&self, a: f64, b: f64) -> Option<[f64; 2]> {
+        let parts: Vec<[f64; 2]> = self
+            .horizonless
+            .iter()
+            .filter_map(|&[c, d]| (c.max(a) <= d.min(b)).then_some([c.max(a), d.min(b)]))
+            .collect();
+        Some([parts.first()?[0], parts.last()?[1]])
     }
 }
 
@@ -318,31 +388,52 @@ impl PointModel for Model<'_> {
             Ok(s) => s,
             Err(e) => return PointValue::Failed(e.to_string()),
         };
-        if let Classification::Horizonless = spacetime.classify() {
+        let horizon = matches!(spacetime.classify(), Classification::BlackHole { .. });
+        if !horizon && self.request.settings.require_horizon {
             return PointValue::NoHorizon;
         }
         let observer = Observer::distant(inclination);
         match shadow::solve(spacetime.as_ref(), &observer, &self.request.settings.shadow) {
             Err(e) => PointValue::Failed(e.to_string()),
             Ok(r) => match &r.status {
+                ShadowStatus::NoShadow { .. } if !horizon => PointValue::NoHorizon,
                 ShadowStatus::NoShadow { reason } => PointValue::NoShadow(reason.clone()),
+                // Without a horizon only the spherical solver establishes that the curve is
+                // the edge of capture (a photon sphere around an absorbing centre); the ray
+                // tracer's boundary is not counted then.
+                ShadowStatus::Shadow if !horizon && r.solver != SolverKind::Spherical => {
+                    PointValue::NoHorizon
+                }
                 ShadowStatus::Shadow => match measure_curve(
                     &r,
                     spacetime.as_ref(),
                     self.request.size_measure,
                     self.want_circularity,
                 ) {
-                    Ok((size, circularity)) => PointValue::Valid { size, circularity },
+                    Ok((size, circularity)) => PointValue::Valid {
+                        size,
+                        circularity,
+                        horizon,
+                    },
                     Err(m) => PointValue::Failed(m),
                 },
             },
         }
     }
 
-    fn has_horizon(&self, n: &[f64]) -> bool {
-        self.build(n)
-            .map(|(s, _)| matches!(s.classify(), Classification::BlackHole { .. }))
-            .unwrap_or(false)
+    fn passes_horizon_test(&self, n: &[f64]) -> bool {
+        let Ok((spacetime, _)) = self.build(n) else {
+            return false;
+        };
+        // Horizonless values count only through the spherical solver: elsewhere the horizon
+        // still bounds what can be evaluated.
+        let spherical = match self.request.settings.shadow.solver {
+            SolverChoice::Auto => shadow::auto_solver(spacetime.as_ref()) == SolverKind::Spherical,
+            SolverChoice::Spherical => true,
+            SolverChoice::Separable | SolverChoice::Raytrace => false,
+        };
+        (spherical && !self.request.settings.require_horizon)
+            || matches!(spacetime.classify(), Classification::BlackHole { .. })
     }
 }
 
@@ -390,12 +481,15 @@ fn check_range(what: &str, lo: f64, hi: f64) -> Result<(), BoundError> {
 fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     let s = &request.settings;
     let positive_tolerance = s.parameter_tolerance.is_finite() && s.parameter_tolerance > 0.0;
-    if s.initial_grid < 3 || !positive_tolerance || s.nuisance.grid < 2 {
-        return Err(BoundError::BadRequest(
-            "need an initial grid of at least 3 points, 2 nuisance grid points and a positive \
-             tolerance"
-                .into(),
-        ));
+    if !(3..=MAX_INITIAL_GRID).contains(&s.initial_grid)
+        || !positive_tolerance
+        || s.nuisance.grid < 2
+    {
+        return Err(BoundError::BadRequest(format!(
+            "need an initial grid of 3 to {MAX_INITIAL_GRID} points (got {}), 2 nuisance grid \
+             points and a positive tolerance",
+            s.initial_grid
+        )));
     }
     check_range(
         &format!("--vary {}", request.vary.name),
@@ -508,6 +602,11 @@ struct Node {
     value: Aggregate,
 }
 
+/// Whether a node's prediction includes horizonless objects.
+fn horizonless(a: &Aggregate) -> bool {
+    matches!(a, Aggregate::Ok(e) if e.horizonless)
+}
+
 fn category(a: &Aggregate) -> u8 {
     match a {
         Aggregate::Ok(_) => 0,
@@ -601,6 +700,7 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
             size_max: 0.0,
             circularity_min: 0.0,
             partial: false,
+            horizonless: false,
             wall_backoff: 0.0,
             refinement_cut: None,
         },
@@ -730,14 +830,15 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
             confidence: iv.confidence,
             radius_interval: [iv.low, iv.high],
             allowed: segments,
+            only_range_ends: false, // set below, once the range edges are known
         });
     }
 
-    let runs = |cat: u8| -> Vec<[f64; 2]> {
+    let runs_of = |pick: &dyn Fn(&Aggregate) -> bool| -> Vec<[f64; 2]> {
         let mut out: Vec<[f64; 2]> = Vec::new();
         let mut prev = false;
         for n in &nodes {
-            let this = category(&n.value) == cat;
+            let this = pick(&n.value);
             if this {
                 if prev {
                     if let Some(last) = out.last_mut() {
@@ -751,6 +852,7 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
         }
         out
     };
+    let runs = |cat: u8| runs_of(&|a| category(a) == cat);
     let mut prev_failed = false;
     for n in &nodes {
         if let Aggregate::Failed(m) = &n.value {
@@ -815,13 +917,14 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
             PredictedPoint {
                 value: n.x,
                 status,
+                horizonless: horizonless(&n.value),
                 size_min: e.and_then(|e| finite(e.size_min)),
                 size_max: e.and_then(|e| finite(e.size_max)),
                 circularity_min: e.and_then(|e| finite(e.circularity_min)),
             }
         })
         .collect();
-    Ok(BoundResult {
+    let mut result = BoundResult {
         metric: request.metric.name(),
         vary: request.vary.clone(),
         fixed: request.fixed.iter().cloned().collect(),
@@ -830,13 +933,24 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
         size_measure: request.size_measure,
         levels: level_bounds,
         circularity_max: cmax,
+        require_horizon: s.require_horizon,
+        horizonless: runs_of(&horizonless),
         no_horizon: runs(1),
         no_shadow: runs(2),
         failures,
         refinement_cut: cut.iter().map(|(x, _)| *x).collect(),
         assumptions,
         predicted,
-    })
+    };
+    let ends: Vec<bool> = result
+        .levels
+        .iter()
+        .map(|l| result.only_range_ends(&l.allowed))
+        .collect();
+    for (level, only) in result.levels.iter_mut().zip(ends) {
+        level.only_range_ends = only;
+    }
+    Ok(result)
 }
 
 /// Bisect every pair of adjacent nodes of different categories down to `tol`, inserting the
@@ -844,7 +958,8 @@ pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
 fn locate_category_boundaries(prep: &Prepared, nodes: &mut Vec<Node>, tol: f64) {
     loop {
         let pair = (0..nodes.len().saturating_sub(1)).find(|&i| {
-            category(&nodes[i].value) != category(&nodes[i + 1].value)
+            (category(&nodes[i].value) != category(&nodes[i + 1].value)
+                || horizonless(&nodes[i].value) != horizonless(&nodes[i + 1].value))
                 && nodes[i + 1].x - nodes[i].x > tol
                 && 0.5 * (nodes[i].x + nodes[i + 1].x) != nodes[i].x
         });
@@ -968,10 +1083,22 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
     a.push(format!(
         "varied parameter: {} over [{}, {}], uniform starting grid of {} points ({} nodes \
          after refinement), category changes (no horizon, no shadow, failure) located by \
-         bisection and bound ends by Brent's method to {:e}; values with no horizon or no \
-         shadow are reported as such, never as allowed or excluded",
+         bisection and bound ends by Brent's method to {:e}; values with no shadow (or, when \
+         a horizon is required, no horizon) are reported as such, never as allowed or excluded",
         r.vary.name, r.vary.low, r.vary.high, s.initial_grid, node_count, s.parameter_tolerance
     ));
+    a.push(if s.require_horizon {
+        "horizon required: only values with a horizon are evaluated; horizonless objects are \
+         listed as no horizon, whatever their shadow"
+            .to_string()
+    } else {
+        "horizonless objects: evaluated like black holes where the spherical solver finds a \
+         photon sphere that bounds capture (rays inside it end at the central singularity or \
+         pass a wormhole throat) and listed as horizonless; without a horizon and without such \
+         a shadow a value is listed as no horizon (the separable solver and the ray tracer do \
+         not count a horizonless shadow)"
+            .to_string()
+    });
     let solver = match s.shadow.solver {
         SolverChoice::Auto => "auto (spherical, separable or raytrace by the metric's symmetry)",
         SolverChoice::Spherical => "spherical",

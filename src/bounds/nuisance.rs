@@ -15,11 +15,15 @@ use std::sync::Mutex;
 /// The prediction at one point of parameter space.
 #[derive(Debug, Clone, PartialEq)]
 pub enum PointValue {
-    /// Predicted size (r_sh/M) and circularity deviation ΔC.
+    /// Predicted size (r_sh/M) and circularity deviation ΔC; `horizon` is false for a
+    /// horizonless object whose shadow is bounded by a photon sphere around an absorbing
+    /// centre.
     Valid {
         size: f64,
         circularity: f64,
+        horizon: bool,
     },
+    /// No horizon, and not evaluated: no shadow either, or a horizon is required.
     NoHorizon,
     NoShadow(String),
     /// A solver error (never turned into allowed or excluded).
@@ -30,8 +34,10 @@ pub enum PointValue {
 pub trait PointModel: Sync {
     /// Full prediction at nuisance point `n` (the varied parameter is fixed by the model).
     fn value(&self, n: &[f64]) -> PointValue;
-    /// Cheap horizon test at `n`.
-    fn has_horizon(&self, n: &[f64]) -> bool;
+    /// Cheap test at `n` of a horizon requirement that decides, alone, whether `n` can be
+    /// evaluated; a model that also evaluates horizonless objects returns `true` everywhere
+    /// (the edge of what it can evaluate is then found by evaluating).
+    fn passes_horizon_test(&self, n: &[f64]) -> bool;
 }
 
 /// Extremes of the prediction over the feasible part of the box.
@@ -44,6 +50,8 @@ pub struct Extremes {
     pub circularity_min: f64,
     /// Whether some grid points had no horizon or no shadow (skipped).
     pub partial: bool,
+    /// Whether some grid point that counts is a horizonless object (with a shadow).
+    pub horizonless: bool,
     /// The largest step back from a horizon boundary inside the box needed for the solver
     /// to succeed (0 if none).
     pub wall_backoff: f64,
@@ -100,7 +108,12 @@ impl Goal {
     /// The objective to minimise (+inf where undefined or infeasible).
     fn objective(self, v: &PointValue, limit: Option<f64>) -> f64 {
         match (self, v) {
-            (Goal::SizeMin | Goal::SizeMax, PointValue::Valid { size, circularity }) => {
+            (
+                Goal::SizeMin | Goal::SizeMax,
+                PointValue::Valid {
+                    size, circularity, ..
+                },
+            ) => {
                 if limit.is_some_and(|c| *circularity > c) {
                     f64::INFINITY
                 } else if matches!(self, Goal::SizeMin) {
@@ -160,6 +173,9 @@ pub fn extremes(
     let partial = values
         .iter()
         .any(|v| !matches!(v, PointValue::Valid { .. }));
+    let horizonless = values
+        .iter()
+        .any(|v| matches!(v, PointValue::Valid { horizon: false, .. }));
     let backoff = Mutex::new(0.0f64);
     let cut = Mutex::new(None::<String>);
     let refine = |goal: Goal| -> Result<f64, String> {
@@ -207,6 +223,7 @@ pub fn extremes(
         size_max,
         circularity_min,
         partial,
+        horizonless,
         wall_backoff,
         refinement_cut,
     })
@@ -279,7 +296,7 @@ fn refine_goal(
             let horizon = |t: f64| {
                 let mut p = best.clone();
                 p[j] = t;
-                model.has_horizon(&p)
+                model.passes_horizon_test(&p)
             };
             let (t, v) = match refine_line(nodes, &line_values, &mut eval, &horizon, tol, backoff) {
                 Ok(r) => r,

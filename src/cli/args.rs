@@ -9,6 +9,9 @@ use umbral::metric::Spacetime;
 use umbral::metric_file::load_metric_file;
 use umbral::metrics::MetricSource;
 
+/// Exit code of a run stopped by Ctrl-C (128 + SIGINT, as shells report it).
+pub const INTERRUPTED: u8 = 130;
+
 /// An error to print on one line, with its exit code.
 #[derive(Debug)]
 pub struct CliError {
@@ -22,6 +25,14 @@ impl CliError {
         CliError {
             message: message.into().replace('\n', " "),
             code: 2,
+        }
+    }
+
+    /// A run stopped by Ctrl-C: exit code [`INTERRUPTED`], printed without `error:`.
+    pub fn interrupted(message: impl Into<String>) -> Self {
+        CliError {
+            message: message.into(),
+            code: INTERRUPTED,
         }
     }
 
@@ -43,6 +54,12 @@ impl CliError {
 impl fmt::Display for CliError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         f.write_str(&self.message)
+    }
+}
+
+impl From<umbral::output::OutputError> for CliError {
+    fn from(e: umbral::output::OutputError) -> Self {
+        CliError::usage(e.to_string())
     }
 }
 

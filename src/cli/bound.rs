@@ -1,14 +1,17 @@
 //! `umbral bound`: allowed ranges of a metric parameter from a measured shadow or ring.
 
 use super::args::{parse_assignments, parse_finite};
+use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::bound_plot;
 use super::CliError;
 use clap::{Args, ValueEnum};
 use std::path::Path;
 use umbral::bounds::{
-    bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::Measurement;
+use umbral::numfmt::Num;
+use umbral::output::OutputTransaction;
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum SizeMeasureArg {
@@ -54,6 +57,10 @@ pub struct BoundArgs {
     /// Write an SVG figure.
     #[arg(long, value_name = "FILE.svg")]
     plot: Option<String>,
+    /// Evaluate only values with a horizon (by default a horizonless object counts when a
+    /// photon sphere bounds capture by its centre, and is labelled horizonless).
+    #[arg(long = "require-horizon")]
+    require_horizon: bool,
 }
 
 /// Read `LO:HI` with LO < HI, both finite.
@@ -64,7 +71,9 @@ pub fn parse_range(text: &str, what: &str) -> Result<(f64, f64), CliError> {
     let (lo, hi) = (parse_finite(lo, what)?, parse_finite(hi, what)?);
     if lo >= hi {
         return Err(CliError::usage(format!(
-            "{what}: need LO < HI, got {lo}:{hi}"
+            "{what}: need LO < HI, got {}:{}",
+            Num(lo),
+            Num(hi)
         )));
     }
     Ok((lo, hi))
@@ -93,7 +102,8 @@ pub fn parse_levels(text: &str) -> Result<Vec<f64>, CliError> {
                 Ok(p)
             } else {
                 Err(CliError::usage(format!(
-                    "--levels: each level must lie strictly between 0 and 1, got {p}"
+                    "--levels: each level must lie strictly between 0 and 1, got {}",
+                    Num(p)
                 )))
             }
         })
@@ -154,7 +164,10 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         },
         radii,
         circularity_max: measurement.circularity_max,
-        settings: BoundSettings::default(),
+        settings: BoundSettings {
+            require_horizon: args.require_horizon,
+            ..BoundSettings::default()
+        },
     })
 }
 
@@ -174,52 +187,74 @@ pub fn run(args: &BoundArgs) -> Result<(), CliError> {
         super::args::check_svg_path(path)?;
     }
     let request = request_from(args)?;
+    // The figure appears only when the whole command succeeds; a bad path fails before work.
+    let mut outputs = OutputTransaction::new();
+    if let Some(path) = &args.plot {
+        stage_plot(&mut outputs, path)?;
+    }
     let result = bound(&request).map_err(|e| CliError::usage(e.to_string()))?;
     if let Some(path) = &args.plot {
-        bound_plot(path, &result)?;
+        write_plot(&mut outputs, path, &bound_plot(path, &result)?)?;
     }
     if args.json {
         let text = serde_json::to_string_pretty(&result)
             .map_err(|e| CliError::usage(format!("cannot serialise the result: {e}")))?;
-        println!("{text}");
-        return Ok(());
+        outln!("{text}")?;
+    } else {
+        print_result(&result)?;
     }
-    println!(
+    outputs.commit()?;
+    Ok(())
+}
+
+fn print_result(result: &BoundResult) -> Result<(), CliError> {
+    outln!(
         "bound on {} for metric {} over [{}, {}]",
-        result.vary.name, result.metric, result.vary.low, result.vary.high
-    );
+        result.vary.name,
+        result.metric,
+        result.vary.low,
+        result.vary.high
+    )?;
     for l in &result.levels {
-        println!(
+        outln!(
             "  confidence {}: r_sh/M in [{:.6}, {:.6}] -> allowed {}",
             l.confidence,
             l.radius_interval[0],
             l.radius_interval[1],
             result.describe_allowed(&l.allowed, 9)
-        );
+        )?;
     }
-    println!("  no horizon: {}", ranges(&result.no_horizon));
-    println!("  no shadow:  {}", ranges(&result.no_shadow));
+    if !result.horizonless.is_empty() {
+        outln!(
+            "  horizonless (no horizon; a photon sphere bounds capture, evaluated): {}",
+            ranges(&result.horizonless)
+        )?;
+    }
+    outln!("  no horizon: {}", ranges(&result.no_horizon))?;
+    outln!("  no shadow:  {}", ranges(&result.no_shadow))?;
     if !result.refinement_cut.is_empty() {
-        println!(
+        outln!(
             "  less precise: at {} value(s) of {} (first {}) a solver failure stopped the nuisance refinement; bound ends near them are less precise",
             result.refinement_cut.len(),
             result.vary.name,
             result.refinement_cut[0]
-        );
+        )?;
     }
     if result.failures.is_empty() {
-        println!("  solver failures: none");
+        outln!("  solver failures: none")?;
     } else {
         for f in &result.failures {
-            println!(
+            outln!(
                 "  solver failure on [{:.9}, {:.9}] (neither allowed nor excluded): {}",
-                f.low, f.high, f.error
-            );
+                f.low,
+                f.high,
+                f.error
+            )?;
         }
     }
-    println!("assumptions:");
+    outln!("assumptions:")?;
     for a in &result.assumptions {
-        println!("  - {a}");
+        outln!("  - {a}")?;
     }
     Ok(())
 }

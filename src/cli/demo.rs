@@ -17,8 +17,9 @@ use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
 use umbral::metrics::build_metric;
 use umbral::observables::CentreChoice;
+use umbral::output::OutputTransaction;
 use umbral::shadow::{Observer, ShadowSettings};
-use umbral::verify::{run_checks_file, VerifyReport};
+use umbral::verify::{ChecksFile, VerifyReport};
 
 /// The scenario's measurement, shipped as examples/measurement_ring.toml.
 const MEASUREMENT: &str = include_str!("../../examples/measurement_ring.toml");
@@ -53,11 +54,6 @@ fn scenario() -> Scenario {
         theta_g_uas: theta_g_uas(mass_msun, distance_mpc),
         note: "all numbers are invented for this demonstration",
     }
-}
-
-fn write(path: &Path, text: &str) -> Result<(), CliError> {
-    std::fs::write(path, text)
-        .map_err(|e| CliError::usage(format!("cannot write '{}': {e}", path.display())))
 }
 
 fn family(
@@ -130,15 +126,51 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         ));
     }
     let out = PathBuf::from(&args.out);
+    let created = !out.exists();
     std::fs::create_dir_all(&out)
         .map_err(|e| CliError::usage(format!("cannot create '{}': {e}", out.display())))?;
+    // Every file appears only when the whole demo succeeds.
+    let mut outputs = OutputTransaction::new();
+    match produce(&out, &mut outputs) {
+        Ok(verify) => {
+            outputs.commit()?;
+            if !verify.all_passed() {
+                // A verdict, not a failure to produce: the report it points to is written.
+                return Err(CliError::usage(format!(
+                    "demo: {} regression check(s) failed; see {}",
+                    verify.failed(),
+                    out.join("report.md").display()
+                )));
+            }
+            Ok(())
+        }
+        Err(e) => {
+            drop(outputs);
+            if created {
+                let _ = std::fs::remove_dir(&out); // only if still empty
+            }
+            Err(if e.exit_code() == super::INTERRUPTED {
+                CliError::interrupted("demo interrupted; nothing was written")
+            } else {
+                e
+            })
+        }
+    }
+}
+
+/// Compute and print everything, staging the files in `outputs`; returns the regression
+/// checks' report. Long on purpose: the demo's stages read top to bottom.
+fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, CliError> {
     let sc = scenario();
     let mut stage = Stages::new(7);
-    println!("umbral demo: {}", sc.name);
-    println!(
+    outln!("umbral demo: {}", sc.name)?;
+    outln!(
         "  invented mass {:.2e} Msun, distance {} Mpc, inclination {} deg -> theta_g = {:.4} uas",
-        sc.mass_msun, sc.distance_mpc, sc.inclination_deg, sc.theta_g_uas
-    );
+        sc.mass_msun,
+        sc.distance_mpc,
+        sc.inclination_deg,
+        sc.theta_g_uas
+    )?;
 
     // 1. The scenario's reference metric: Kerr at a moderate spin.
     let kerr = build_metric("kerr", &[("a".to_string(), 0.6)])?;
@@ -150,7 +182,7 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
             ))
         }
     };
-    println!("  Kerr a = 0.6: outer horizon r+ = {horizon:.12} M");
+    outln!("  Kerr a = 0.6: outer horizon r+ = {horizon:.12} M")?;
 
     // 2. Shadows: the Kerr family and a charged spherical alternative.
     let observer = Observer::distant(sc.inclination_deg.to_radians());
@@ -173,23 +205,27 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         &settings,
     )?;
     let kerr_svg = out.join("kerr-family.svg");
-    screen_curves(
+    let svg = screen_curves(
         &kerr_svg.to_string_lossy(),
         &format!("Kerr shadows at {} deg", sc.inclination_deg),
         &curves(&kerr_family, "a"),
     )?;
+    outputs.write(&kerr_svg, svg.as_bytes())?;
     let rn_svg = out.join("reissner-nordstrom-family.svg");
-    screen_curves(
+    let svg = screen_curves(
         &rn_svg.to_string_lossy(),
         "Reissner-Nordstrom shadows",
         &curves(&rn_family, "q"),
     )?;
+    outputs.write(&rn_svg, svg.as_bytes())?;
 
     stage.finish_stage("shadows");
 
     // 3. The measurement: the invented ring, pushed through the calibration chain.
     let measurement_path = out.join("measurement.toml");
-    write(&measurement_path, MEASUREMENT)?;
+    // The scan below reads the staged copy.
+    let measurement_staged = outputs.stage(&measurement_path)?;
+    outputs.write(&measurement_path, MEASUREMENT.as_bytes())?;
     let measurement = Measurement::from_toml_str(MEASUREMENT)
         .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
     let radii = measurement
@@ -218,9 +254,11 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
     )?;
     stage.finish_stage("Johannsen bound");
     let rn_plot = out.join("bound-reissner-nordstrom.svg");
-    super::plot_bounds::bound_plot(&rn_plot.to_string_lossy(), &rn_bound)?;
+    let svg = super::plot_bounds::bound_plot(&rn_plot.to_string_lossy(), &rn_bound)?;
+    outputs.write(&rn_plot, svg.as_bytes())?;
     let jo_plot = out.join("bound-johannsen.svg");
-    super::plot_bounds::bound_plot(&jo_plot.to_string_lossy(), &jo_bound)?;
+    let svg = super::plot_bounds::bound_plot(&jo_plot.to_string_lossy(), &jo_bound)?;
+    outputs.write(&jo_plot, svg.as_bytes())?;
 
     // 5. A 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself.
     let scan_path = out.join("scan-kerr-newman.jsonl");
@@ -241,20 +279,25 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
     .chain([
         sc.inclination_deg.to_string().into(),
         "--measurement".into(),
-        measurement_path.clone().into_os_string(),
+        measurement_staged.into_os_string(),
         "--out".into(),
         scan_path.clone().into_os_string(),
         "--plot".into(),
         map_path.clone().into_os_string(),
     ])
     .collect();
-    super::run(scan_args)?;
+    // The points go to a staged file (a fresh scan each time); the map is staged by the scan.
+    let scan_staged = outputs.stage(&scan_path)?;
+    let scan_args = super::scan::parse_args(&scan_args[1..])?;
+    super::scan::run_in(&scan_args, &scan_staged, outputs)?;
     stage.finish_stage("exclusion map");
 
     // 6. Regression checks: the example checks file a user would put in CI.
     let checks_path = out.join("ci-checks.toml");
-    write(&checks_path, CHECKS)?;
-    let verify = run_checks_file(&checks_path).map_err(|e| CliError::usage(e.to_string()))?;
+    outputs.write(&checks_path, CHECKS.as_bytes())?;
+    let verify = ChecksFile::parse(CHECKS, &checks_path)
+        .map_err(|e| CliError::usage(e.to_string()))?
+        .run();
     stage.finish_stage("regression checks");
     stage.done();
 
@@ -279,7 +322,7 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
     })
     .expect("serialisable");
     let json_path = out.join("results.json");
-    write(&json_path, &json)?;
+    outputs.write(&json_path, json.as_bytes())?;
 
     let report = report_text(
         &sc,
@@ -291,17 +334,17 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         &verify,
     );
     let report_path = out.join("report.md");
-    write(&report_path, &report)?;
-    println!("{}", table(&kerr_family, "a", sc.theta_g_uas));
+    outputs.write(&report_path, report.as_bytes())?;
+    outln!("{}", table(&kerr_family, "a", sc.theta_g_uas))?;
     for b in [&rn_bound, &jo_bound] {
-        println!("{}", bound_summary(b));
+        outln!("{}", bound_summary(b))?;
     }
-    println!(
+    outln!(
         "regression checks: {} pass, {} fail",
         verify.passed(),
         verify.failed()
-    );
-    println!("wrote:");
+    )?;
+    outln!("wrote:")?;
     for p in [
         &kerr_svg,
         &rn_svg,
@@ -314,16 +357,9 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         &json_path,
         &report_path,
     ] {
-        println!("  {}", p.display());
+        outln!("  {}", p.display())?;
     }
-    if !verify.all_passed() {
-        return Err(CliError::usage(format!(
-            "demo: {} regression check(s) failed; see {}",
-            verify.failed(),
-            report_path.display()
-        )));
-    }
-    Ok(())
+    Ok(verify)
 }
 
 /// Bound one parameter of `metric` from the scenario's measurement.
@@ -491,7 +527,7 @@ fn report_text(
 
 /// Progress over the demo's stages on a terminal (indicatif), nothing otherwise.
 struct Stages {
-    bar: indicatif::ProgressBar,
+    bar: super::interrupt::Bar,
 }
 
 impl Stages {
@@ -507,15 +543,17 @@ impl Stages {
         } else {
             indicatif::ProgressBar::hidden()
         };
-        Stages { bar }
+        Stages {
+            bar: super::interrupt::Bar::new(bar),
+        }
     }
 
     fn finish_stage(&mut self, name: &str) {
-        self.bar.set_message(format!("done: {name}"));
-        self.bar.inc(1);
+        self.bar.0.set_message(format!("done: {name}"));
+        self.bar.0.inc(1);
     }
 
     fn done(&self) {
-        self.bar.finish_and_clear();
+        self.bar.0.finish_and_clear();
     }
 }

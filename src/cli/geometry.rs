@@ -6,7 +6,8 @@ use clap::Args;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::f64::consts::PI;
-use umbral::metric::{Classification, Spacetime};
+use umbral::metric::{check_point, Classification, Spacetime};
+use umbral::numfmt::Num;
 
 #[derive(Debug, Args)]
 pub struct GeometryArgs {
@@ -15,7 +16,8 @@ pub struct GeometryArgs {
     /// Parameter assignment NAME=VALUE (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE")]
     set: Vec<String>,
-    /// Radius r in units of M.
+    /// Radius r in units of M (r > 0: every metric's chart; points where the metric is
+    /// singular to within rounding are refused).
     #[arg(long, allow_hyphen_values = true)]
     r: String,
     /// Polar angle theta in radians (strictly between 0 and pi).
@@ -43,22 +45,32 @@ struct GeometryReport {
     horizon_radius: Option<f64>,
 }
 
-/// Evaluate everything at the point, refusing points where the metric is singular.
-fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, CliError> {
+/// Evaluate everything at the point, refusing points outside the chart (θ in (0, π), r > 0)
+/// and points where the metric is singular to within rounding ([`check_point`]).
+/// `place` names the point in messages.
+fn report(
+    metric: &dyn Spacetime,
+    r: f64,
+    theta: f64,
+    place: &str,
+) -> Result<GeometryReport, CliError> {
     if !(theta > 0.0 && theta < PI) {
         return Err(CliError::usage(format!(
-            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {theta}"
+            "--theta must lie strictly between 0 and pi (the axis is a coordinate singularity), got {}",
+            Num(theta)
         )));
     }
+    check_point(metric, r, theta).map_err(|problem| {
+        CliError::usage(if problem.is_singular() {
+            format!("the metric is singular at {place}: {problem}")
+        } else {
+            format!("the point {place} is not in the metric's chart: {problem}")
+        })
+    })?;
     let info = metric.info();
     let g = metric.metric(r, theta);
     let g_inv = metric.inverse_metric(r, theta);
     let gamma = metric.christoffel(r, theta);
-    let finite = g.iter().chain(g_inv.iter()).all(|x| x.is_finite())
-        && gamma.iter().flatten().flatten().all(|x| x.is_finite());
-    if !finite {
-        return Err(umbral::error::MetricError::SingularPoint { r, theta }.into());
-    }
     let rows = |m: &nalgebra::Matrix4<f64>| -> Vec<Vec<f64>> {
         (0..4)
             .map(|i| (0..4).map(|j| m[(i, j)]).collect())
@@ -88,56 +100,65 @@ fn report(metric: &dyn Spacetime, r: f64, theta: f64) -> Result<GeometryReport, 
 
 const NAMES: [&str; 4] = ["t", "r", "theta", "phi"];
 
-fn print_matrix(title: &str, m: &[Vec<f64>]) {
-    println!("{title}");
-    println!(
+fn print_matrix(title: &str, m: &[Vec<f64>]) -> Result<(), CliError> {
+    outln!("{title}")?;
+    outln!(
         "{:>8}{}",
         "",
         NAMES.iter().map(|n| format!("{n:>24}")).collect::<String>()
-    );
+    )?;
     for (i, row) in m.iter().enumerate() {
-        println!(
+        outln!(
             "{:>8}{}",
             NAMES[i],
             row.iter()
                 .map(|x| format!("{x:>24.16e}"))
                 .collect::<String>()
-        );
+        )?;
     }
+    Ok(())
 }
 
 pub fn run(args: &GeometryArgs) -> Result<(), CliError> {
     let r = parse_finite(&args.r, "--r")?;
     let theta = parse_finite(&args.theta, "--theta")?;
     let metric = metric_from_args(&args.metric, &args.set)?;
-    let rep = report(metric.as_ref(), r, theta)?;
+    let place = format!(
+        "r = {}, theta = {} rad ({} deg)",
+        Num(r),
+        Num(theta),
+        Num(theta.to_degrees())
+    );
+    let rep = report(metric.as_ref(), r, theta, &place)?;
     if args.json {
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&rep).expect("serialisable")
-        );
+        )?;
         return Ok(());
     }
-    println!(
+    outln!(
         "metric {} ({}) at r = {r} M, theta = {theta} rad",
         rep.metric,
         super::args::parameter_summary(&rep.parameters)
-    );
+    )?;
     match rep.horizon_radius {
-        Some(h) => println!("outer horizon: r = {h:.15} M"),
-        None => println!("outer horizon: none (horizonless)"),
-    }
-    print_matrix("g_{mu nu}", &rep.g);
-    print_matrix("g^{mu nu}", &rep.g_inverse);
-    println!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)");
+        Some(h) => outln!("outer horizon: r = {h:.15} M"),
+        None => outln!("outer horizon: none (horizonless)"),
+    }?;
+    print_matrix("g_{mu nu}", &rep.g)?;
+    print_matrix("g^{mu nu}", &rep.g_inverse)?;
+    outln!("nonzero Christoffel symbols Gamma^mu_{{alpha beta}} (alpha <= beta)")?;
     for (mu, m) in rep.christoffel.iter().enumerate() {
         for (alpha, row) in m.iter().enumerate() {
             for (beta, x) in row.iter().enumerate().skip(alpha) {
                 if *x != 0.0 {
-                    println!(
+                    outln!(
                         "  Gamma^{}_{{{} {}}} = {x:.16e}",
-                        NAMES[mu], NAMES[alpha], NAMES[beta]
-                    );
+                        NAMES[mu],
+                        NAMES[alpha],
+                        NAMES[beta]
+                    )?;
                 }
             }
         }

@@ -126,37 +126,40 @@ pub fn run(args: &MetricsArgs) -> Result<(), CliError> {
             metrics: &rows,
             unreadable_files: &broken,
         };
-        println!(
+        outln!(
             "{}",
             serde_json::to_string_pretty(&listing).expect("serialisable")
-        );
+        )?;
         return Ok(());
     }
     for m in &rows {
         if m.source == "builtin" {
-            println!("{} ({})", m.name, m.title);
+            outln!("{} ({})", m.name, m.title)?;
         } else {
-            println!("{} ({}) from file {}", m.name, m.title, m.source);
+            outln!("{} ({}) from file {}", m.name, m.title, m.source)?;
         }
-        println!(
+        outln!(
             "  symmetry: {}; separable: {}; auto solver: {}",
             m.symmetry,
             if m.separable { "yes" } else { "no" },
             m.auto_solver
-        );
-        println!("  reference: {}", m.reference);
+        )?;
+        outln!("  reference: {}", m.reference)?;
         if m.parameters.is_empty() {
-            println!("  parameters: none");
+            outln!("  parameters: none")?;
         }
         for p in &m.parameters {
-            println!(
+            outln!(
                 "  --set {}=VALUE  default {}, domain {}: {}",
-                p.name, p.default, p.domain, p.meaning
-            );
+                p.name,
+                p.default,
+                p.domain,
+                p.meaning
+            )?;
         }
     }
     for b in &broken {
-        println!("unreadable metric file {}: {}", b.source, b.error);
+        outln!("unreadable metric file {}: {}", b.source, b.error)?;
     }
     Ok(())
 }

@@ -1,9 +1,12 @@
 //! Command-line front end: argument parsing (clap) and the subcommands.
 
+#[macro_use]
+mod out;
 mod args;
 mod bound;
 mod demo;
 mod geometry;
+mod interrupt;
 mod metrics;
 mod plot;
 mod plot_bounds;
@@ -15,7 +18,7 @@ use clap::{Parser, Subcommand};
 use std::ffi::OsString;
 use std::process::ExitCode;
 
-pub use args::CliError;
+pub use args::{CliError, INTERRUPTED};
 
 /// Black-hole shadows for tests of general relativity.
 #[derive(Debug, Parser)]
@@ -45,12 +48,19 @@ enum Command {
 
 /// Parse the arguments and run a subcommand.
 pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliError> {
+    interrupt::install();
+    let code = dispatch(args)?;
+    out::flush()?;
+    Ok(code)
+}
+
+fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliError> {
     let cli = match Cli::try_parse_from(args) {
         Ok(cli) => cli,
         Err(e) => {
             use clap::error::ErrorKind;
             if matches!(e.kind(), ErrorKind::DisplayHelp | ErrorKind::DisplayVersion) {
-                print!("{e}");
+                out::write_text(&e.to_string())?;
                 return Ok(ExitCode::SUCCESS);
             }
             if e.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand {

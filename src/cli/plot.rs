@@ -2,6 +2,8 @@
 
 use super::CliError;
 use plotters::prelude::*;
+use std::path::Path;
+use umbral::output::OutputTransaction;
 
 /// One labelled closed curve on the screen.
 pub struct ScreenCurve {
@@ -23,16 +25,42 @@ pub fn plot_error(path: &str, e: impl std::fmt::Display) -> CliError {
     CliError::usage(format!("cannot write plot '{path}': {e}"))
 }
 
+/// Stage a figure's file in `outputs` (see [`OutputTransaction::stage`]).
+pub fn stage_plot(outputs: &mut OutputTransaction, path: &str) -> Result<(), CliError> {
+    outputs
+        .stage(Path::new(path))
+        .map(|_| ())
+        .map_err(|e| plot_error(path, e.message))
+}
+
+/// Write a figure's SVG text to its staged file.
+pub fn write_plot(outputs: &mut OutputTransaction, path: &str, svg: &str) -> Result<(), CliError> {
+    outputs
+        .write(Path::new(path), svg.as_bytes())
+        .map_err(|e| plot_error(path, e.message))
+}
+
 /// Draw curves on the (α, β) screen with equal aspect, plus the Schwarzschild circle of
-/// radius 3√3 M for comparison.
-pub fn screen_curves(path: &str, title: &str, curves: &[ScreenCurve]) -> Result<(), CliError> {
+/// radius 3√3 M for comparison; returns the SVG text (`path` names it in errors).
+pub fn screen_curves(path: &str, title: &str, curves: &[ScreenCurve]) -> Result<String, CliError> {
+    let mut svg = String::new();
+    draw_screen_curves(&mut svg, path, title, curves)?;
+    Ok(svg)
+}
+
+fn draw_screen_curves(
+    svg: &mut String,
+    path: &str,
+    title: &str,
+    curves: &[ScreenCurve],
+) -> Result<(), CliError> {
     let schwarzschild = 27f64.sqrt();
     let extent = curves
         .iter()
         .flat_map(|c| c.alpha.iter().chain(c.beta.iter()))
         .fold(schwarzschild, |m, x| m.max(x.abs()))
         * 1.15;
-    let root = SVGBackend::new(path, (720, 720)).into_drawing_area();
+    let root = SVGBackend::with_string(svg, (720, 720)).into_drawing_area();
     root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
     let mut chart = ChartBuilder::on(&root)
         .caption(title, ("sans-serif", 20))
@@ -80,7 +108,7 @@ pub fn screen_curves(path: &str, title: &str, curves: &[ScreenCurve]) -> Result<
     finish(&mut chart, &root, path)
 }
 
-/// Draw the legend in the upper right corner and write the file.
+/// Draw the legend in the upper right corner and finish the drawing.
 pub fn finish<'a, X: Ranged, Y: Ranged>(
     chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<X, Y>>,
     root: &DrawingArea<SVGBackend<'a>, plotters::coord::Shift>,

@@ -14,8 +14,15 @@ const LEVEL_COLOURS: [RGBColor; 4] = [
 ];
 
 /// Predicted r_sh/M (band over the nuisance box) against the varied parameter, the measured
-/// intervals as shaded horizontal bands and the allowed ranges as bars along the bottom.
-pub fn bound_plot(path: &str, result: &BoundResult) -> Result<(), CliError> {
+/// intervals as shaded horizontal bands and the allowed ranges as bars along the bottom;
+/// returns the SVG text (`path` names it in errors).
+pub fn bound_plot(path: &str, result: &BoundResult) -> Result<String, CliError> {
+    let mut svg = String::new();
+    draw_bound_plot(&mut svg, path, result)?;
+    Ok(svg)
+}
+
+fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result<(), CliError> {
     let ok: Vec<(f64, f64, f64)> = result
         .predicted
         .iter()
@@ -34,7 +41,7 @@ pub fn bound_plot(path: &str, result: &BoundResult) -> Result<(), CliError> {
     let pad = 0.08 * (y_hi - y_lo).max(1e-3);
     let (y_lo, y_hi) = (y_lo - 2.0 * pad, y_hi + pad);
     let (x_lo, x_hi) = (result.vary.low, result.vary.high);
-    let root = SVGBackend::new(path, (820, 560)).into_drawing_area();
+    let root = SVGBackend::with_string(svg, (820, 560)).into_drawing_area();
     root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
     let mut chart = ChartBuilder::on(&root)
         .caption(
@@ -185,15 +192,28 @@ pub fn allowed_polygons(
 }
 
 /// An exclusion map: allowed regions at each level as filled contours, no-horizon grid
-/// points as grey dots.
+/// points as grey dots; returns the SVG text (`path` names it in errors).
 pub fn exclusion_map(
     path: &str,
     title: &str,
     axes: [(&str, f64, f64); 2],
     regions: &[AllowedRegion],
     no_horizon: &[(f64, f64)],
+) -> Result<String, CliError> {
+    let mut svg = String::new();
+    draw_exclusion_map(&mut svg, path, title, axes, regions, no_horizon)?;
+    Ok(svg)
+}
+
+fn draw_exclusion_map(
+    svg: &mut String,
+    path: &str,
+    title: &str,
+    axes: [(&str, f64, f64); 2],
+    regions: &[AllowedRegion],
+    no_horizon: &[(f64, f64)],
 ) -> Result<(), CliError> {
-    let root = SVGBackend::new(path, (760, 680)).into_drawing_area();
+    let root = SVGBackend::with_string(svg, (760, 680)).into_drawing_area();
     root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
     let mut chart = ChartBuilder::on(&root)
         .caption(title, ("sans-serif", 20))

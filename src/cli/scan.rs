@@ -2,13 +2,17 @@
 
 use super::args::{parse_assignments, parse_finite};
 use super::bound::parse_levels;
+use super::interrupt;
+use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::{allowed_polygons, exclusion_map, AllowedRegion};
 use super::CliError;
 use clap::{Args, ValueEnum};
 use std::io::IsTerminal;
 use std::path::Path;
-use umbral::measurement::Measurement;
-use umbral::scan::{run_scan, GridAxis, ScanPoint, ScanRequest};
+use umbral::measurement::{DerivedRadii, Measurement};
+use umbral::numfmt::Num;
+use umbral::output::OutputTransaction;
+use umbral::scan::{run_scan_until, GridAxis, ScanError, ScanPoint, ScanRequest, ScanSummary};
 use umbral::shadow::ShadowSettings;
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -72,7 +76,9 @@ fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
     })?;
     if low >= high || count < 2 {
         return Err(CliError::usage(format!(
-            "{what}: need LO < HI and N >= 2, got {low}:{high}:{count}"
+            "{what}: need LO < HI and N >= 2, got {}:{}:{count}",
+            Num(low),
+            Num(high)
         )));
     }
     Ok(GridAxis {
@@ -83,7 +89,31 @@ fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
     })
 }
 
+/// Parse `umbral scan` arguments given as words (for the demo, which runs a scan itself).
+pub fn parse_args(words: &[std::ffi::OsString]) -> Result<ScanArgs, CliError> {
+    use clap::FromArgMatches;
+    let command = ScanArgs::augment_args(clap::Command::new("scan"));
+    let matches = command
+        .try_get_matches_from(words)
+        .map_err(|e| CliError::usage(e.to_string()))?;
+    ScanArgs::from_arg_matches(&matches).map_err(|e| CliError::usage(e.to_string()))
+}
+
 pub fn run(args: &ScanArgs) -> Result<(), CliError> {
+    let mut outputs = OutputTransaction::new();
+    run_in(args, Path::new(&args.out), &mut outputs)?;
+    outputs.commit()?;
+    Ok(())
+}
+
+/// The scan, writing its points to `points_file` (named `--out` in messages) and its figure
+/// into `outputs`. The points file is the scan's checkpoint, kept even if a later step
+/// fails; the figure appears only with the caller's commit.
+pub fn run_in(
+    args: &ScanArgs,
+    points_file: &Path,
+    outputs: &mut OutputTransaction,
+) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         super::args::check_svg_path(path)?;
     }
@@ -120,6 +150,41 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
         inclination_deg: parse_finite(&args.inclination, "--inclination")?,
         settings: ShadowSettings::default(),
     };
+    if let Some(path) = &args.plot {
+        stage_plot(outputs, path)?;
+    }
+    let summary = scan_with_progress(&request, points_file, &args.out)?;
+    outln!(
+        "scan of {}: {} points in '{}' ({} computed, {} kept from an earlier run)",
+        request.metric.name(),
+        summary.points.len(),
+        args.out,
+        summary.computed,
+        summary.reused
+    )?;
+    let count = |s: &str| summary.points.iter().filter(|p| p.status == s).count();
+    outln!(
+        "  shadow {}, no shadow {}, no horizon {}, failed {}",
+        count("shadow"),
+        count("no_shadow"),
+        count("no_horizon"),
+        count("failed")
+    )?;
+    if let (Some(path), Some(radii), Some(m)) = (&args.plot, &radii, &measurement) {
+        let svg = exclusion_plot(path, args.size_measure, &request, &summary, radii, m)?;
+        write_plot(outputs, path, &svg)?;
+        outln!("  exclusion map written to '{path}'")?;
+    }
+    Ok(())
+}
+
+/// Run the scan with a progress bar on a terminal; the first Ctrl-C stops it after the points
+/// in progress and says how far it got (`shown` names the output).
+fn scan_with_progress(
+    request: &ScanRequest,
+    points_file: &Path,
+    shown: &str,
+) -> Result<ScanSummary, CliError> {
     let total: u64 = request
         .axes
         .iter()
@@ -135,89 +200,97 @@ pub fn run(args: &ScanArgs) -> Result<(), CliError> {
     } else {
         indicatif::ProgressBar::hidden()
     };
-    let summary = run_scan(&request, Path::new(&args.out), &|done, _| {
-        bar.set_position(done as u64)
-    })
-    .map_err(|e| CliError::usage(e.to_string()))?;
-    bar.finish_and_clear();
-    println!(
-        "scan of {}: {} points in '{}' ({} computed, {} kept from an earlier run)",
-        request.metric.name(),
-        summary.points.len(),
-        args.out,
-        summary.computed,
-        summary.reused
-    );
-    let count = |s: &str| summary.points.iter().filter(|p| p.status == s).count();
-    println!(
-        "  shadow {}, no shadow {}, no horizon {}, failed {}",
-        count("shadow"),
-        count("no_shadow"),
-        count("no_horizon"),
-        count("failed")
-    );
-    if let (Some(path), Some(radii), Some(m)) = (&args.plot, &radii, &measurement) {
-        let key = match args.size_measure {
-            SizeMeasureArg::Mean => "mean_radius",
-            SizeMeasureArg::Area => "area_radius",
-        };
-        let (ax, ay) = (&request.axes[0], &request.axes[1]);
-        // Points are in grid order with the second axis fastest; the contour grid wants x
-        // (first axis) fastest.
-        let at = |i: usize, j: usize| -> &ScanPoint { &summary.points[i * ay.count + j] };
-        let mut regions = Vec::new();
-        for iv in &radii.intervals {
-            let mut values = vec![0.0; ax.count * ay.count];
-            for j in 0..ay.count {
-                for i in 0..ax.count {
-                    let p = at(i, j);
-                    // Positive inside the allowed region: the distance of the size from the
-                    // interval's nearer end, and of ΔC from its limit.
-                    let v = match p.observable(key) {
-                        Some(s) if p.status == "shadow" => {
-                            let mut v = (iv.high - s).min(s - iv.low);
-                            if let (Some(c), Some(dc)) =
-                                (m.circularity_max, p.observable("circularity_deviation"))
-                            {
-                                v = v.min(c - dc);
-                            }
-                            v
-                        }
-                        _ => -1.0,
-                    };
-                    values[j * ax.count + i] = v;
-                }
+    let result = {
+        let _graceful = interrupt::Graceful::enter();
+        // Cleared from the screen when dropped, before any message is printed.
+        let bar = interrupt::Bar::new(bar);
+        run_scan_until(
+            request,
+            points_file,
+            &|done, _| bar.0.set_position(done as u64),
+            interrupt::stop_flag(),
+        )
+    };
+    result.map_err(|e| match e {
+        ScanError::Interrupted { done, total, .. } => CliError::interrupted(
+            ScanError::Interrupted {
+                path: shown.to_string(),
+                done,
+                total,
             }
-            regions.push(AllowedRegion {
-                confidence: iv.confidence,
-                polygons: allowed_polygons(
-                    &values,
-                    ax.count,
-                    ay.count,
-                    ax.low,
-                    (ax.high - ax.low) / (ax.count - 1) as f64,
-                    ay.low,
-                    (ay.high - ay.low) / (ay.count - 1) as f64,
-                )?,
-            });
+            .to_string(),
+        ),
+        other => CliError::usage(other.to_string()),
+    })
+}
+
+/// The exclusion map of a finished two-axis scan, as SVG text.
+fn exclusion_plot(
+    path: &str,
+    size_measure: SizeMeasureArg,
+    request: &ScanRequest,
+    summary: &ScanSummary,
+    radii: &DerivedRadii,
+    m: &Measurement,
+) -> Result<String, CliError> {
+    let key = match size_measure {
+        SizeMeasureArg::Mean => "mean_radius",
+        SizeMeasureArg::Area => "area_radius",
+    };
+    let (ax, ay) = (&request.axes[0], &request.axes[1]);
+    // Points are in grid order with the second axis fastest; the contour grid wants x
+    // (first axis) fastest.
+    let at = |i: usize, j: usize| -> &ScanPoint { &summary.points[i * ay.count + j] };
+    let mut regions = Vec::new();
+    for iv in &radii.intervals {
+        let mut values = vec![0.0; ax.count * ay.count];
+        for j in 0..ay.count {
+            for i in 0..ax.count {
+                let p = at(i, j);
+                // Positive inside the allowed region: the distance of the size from the
+                // interval's nearer end, and of ΔC from its limit.
+                let v = match p.observable(key) {
+                    Some(s) if p.status == "shadow" => {
+                        let mut v = (iv.high - s).min(s - iv.low);
+                        if let (Some(c), Some(dc)) =
+                            (m.circularity_max, p.observable("circularity_deviation"))
+                        {
+                            v = v.min(c - dc);
+                        }
+                        v
+                    }
+                    _ => -1.0,
+                };
+                values[j * ax.count + i] = v;
+            }
         }
-        let no_horizon: Vec<(f64, f64)> = summary
-            .points
-            .iter()
-            .filter(|p| p.status == "no_horizon")
-            .map(|p| (ax.value(p.index[0]), ay.value(p.index[1])))
-            .collect();
-        exclusion_map(
-            path,
-            &format!("{}: allowed regions ({})", request.metric.name(), m.label),
-            [
-                (ax.name.as_str(), ax.low, ax.high),
-                (ay.name.as_str(), ay.low, ay.high),
-            ],
-            &regions,
-            &no_horizon,
-        )?;
-        println!("  exclusion map written to '{path}'");
+        regions.push(AllowedRegion {
+            confidence: iv.confidence,
+            polygons: allowed_polygons(
+                &values,
+                ax.count,
+                ay.count,
+                ax.low,
+                (ax.high - ax.low) / (ax.count - 1) as f64,
+                ay.low,
+                (ay.high - ay.low) / (ay.count - 1) as f64,
+            )?,
+        });
     }
-    Ok(())
+    let no_horizon: Vec<(f64, f64)> = summary
+        .points
+        .iter()
+        .filter(|p| p.status == "no_horizon")
+        .map(|p| (ax.value(p.index[0]), ay.value(p.index[1])))
+        .collect();
+    exclusion_map(
+        path,
+        &format!("{}: allowed regions ({})", request.metric.name(), m.label),
+        [
+            (ax.name.as_str(), ax.low, ax.high),
+            (ay.name.as_str(), ay.low, ay.high),
+        ],
+        &regions,
+        &no_horizon,
+    )
 }

@@ -1,14 +1,16 @@
 //! `umbral shadow`: the critical curve and its observables for one metric and observer.
 
 use super::args::{parse_finite, parse_set_family, MetricChoice};
-use super::plot::{screen_curves, ScreenCurve};
+use super::plot::{screen_curves, stage_plot, write_plot, ScreenCurve};
 use super::CliError;
 use clap::{Args, ValueEnum};
 use serde::Serialize;
 use std::collections::BTreeMap;
-use std::io::Write;
+use std::path::Path;
 use umbral::metric::Spacetime;
+use umbral::numfmt::Num;
 use umbral::observables::{CentreChoice, Observables};
+use umbral::output::OutputTransaction;
 use umbral::shadow::{
     self, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowSettings, ShadowStatus,
     SolverChoice,
@@ -97,6 +99,9 @@ pub struct ShadowReport {
     pub observables: Option<Observables>,
     /// Photon-ring exponents (Lyapunov exponent, demagnification γ per half orbit).
     pub exponents: Option<RingExponents>,
+    /// Why the exponents are undefined for this shadow, when they are.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub exponents_undefined: Option<String>,
     /// Every photon sphere found (spherical solver).
     pub photon_spheres: Vec<PhotonSphere>,
     pub curve: Option<CurveJson>,
@@ -153,6 +158,7 @@ pub fn shadow_report(
         reason,
         observables,
         exponents: result.exponents.clone(),
+        exponents_undefined: result.diagnostics.exponents_undefined.clone(),
         photon_spheres: result.photon_spheres.clone(),
         celestial: match (observer.radius, &curve) {
             (Some(r_o), Some(c)) => {
@@ -179,7 +185,8 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
     let inclination = parse_finite(&args.inclination, "--inclination")?;
     if !(0.0..=180.0).contains(&inclination) {
         return Err(CliError::usage(format!(
-            "--inclination must lie between 0 and 180 degrees, got {inclination}"
+            "--inclination must lie between 0 and 180 degrees, got {}",
+            Num(inclination)
         )));
     }
     let observer = match &args.observer_radius {
@@ -188,7 +195,8 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
             let r = parse_finite(text, "--observer-radius")?;
             if r <= 0.0 {
                 return Err(CliError::usage(format!(
-                    "--observer-radius must be positive, got {r}"
+                    "--observer-radius must be positive, got {}",
+                    Num(r)
                 )));
             }
             Observer::at_radius(inclination.to_radians(), r)
@@ -197,7 +205,8 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
     let tolerance = parse_finite(&args.tolerance, "--tolerance")?;
     if tolerance <= 0.0 {
         return Err(CliError::usage(format!(
-            "--tolerance must be positive, got {tolerance}"
+            "--tolerance must be positive, got {}",
+            Num(tolerance)
         )));
     }
     if !(8..=shadow::MAX_POINTS).contains(&args.points) {
@@ -224,8 +233,8 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
     ))
 }
 
-fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
-    println!(
+fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError> {
+    outln!(
         "{} ({}), inclination {} deg, {} observer, solver {}",
         rep.metric,
         super::args::parameter_summary(&rep.parameters),
@@ -235,23 +244,23 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
             None => "distant".into(),
         },
         rep.solver
-    );
+    )?;
     let Some(o) = &rep.observables else {
-        println!(
+        outln!(
             "  no shadow: {}",
             rep.reason.as_deref().unwrap_or("no critical curve")
-        );
-        return;
+        )?;
+        return Ok(());
     };
     let uas = |x: f64| match theta_g {
         Some(t) => format!("  ({:.4} uas)", x * t),
         None => String::new(),
     };
     let row = |name: &str, x: f64, unit: &str, scaled: bool| {
-        println!(
+        outln!(
             "  {name:<28}{x:>20.12} {unit}{}",
             if scaled { uas(x) } else { String::new() }
-        );
+        )
     };
     if let Some(checks) = rep
         .diagnostics
@@ -260,60 +269,66 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) {
         .filter(|c| !c.tolerance_met)
     {
         let why = checks.accuracy_note.as_deref().unwrap_or("no estimate");
-        println!("  TOLERANCE NOT MET: {why}");
+        outln!("  TOLERANCE NOT MET: {why}")?;
     }
-    println!("  centre: {}", o.centre.name());
-    row("mean radius", o.mean_radius, "M", true);
-    row("area radius", o.area_radius, "M", true);
-    row("mean diameter", 2.0 * o.mean_radius, "M", true);
-    row("circularity deviation", o.circularity_deviation, "", false);
-    row("centroid offset (alpha)", o.centroid_offset, "M", true);
-    row("midpoint offset (alpha)", o.midpoint_offset, "M", true);
-    row("width", o.width, "M", true);
-    row("height", o.height, "M", true);
-    row("axis ratio", o.axis_ratio, "", false);
-    row("Hioki-Maeda radius", o.hioki_maeda_radius, "M", true);
+    outln!("  centre: {}", o.centre.name())?;
+    row("mean radius", o.mean_radius, "M", true)?;
+    row("area radius", o.area_radius, "M", true)?;
+    row("mean diameter", 2.0 * o.mean_radius, "M", true)?;
+    row("circularity deviation", o.circularity_deviation, "", false)?;
+    row("centroid offset (alpha)", o.centroid_offset, "M", true)?;
+    row("midpoint offset (alpha)", o.midpoint_offset, "M", true)?;
+    row("width", o.width, "M", true)?;
+    row("height", o.height, "M", true)?;
+    row("axis ratio", o.axis_ratio, "", false)?;
+    row("Hioki-Maeda radius", o.hioki_maeda_radius, "M", true)?;
     row(
         "Hioki-Maeda distortion",
         o.hioki_maeda_distortion,
         "",
         false,
-    );
+    )?;
     row(
         "fractional deviation (mean)",
         o.fractional_deviation_mean,
         "",
         false,
-    );
+    )?;
     row(
         "fractional deviation (area)",
         o.fractional_deviation_area,
         "",
         false,
-    );
+    )?;
     if let Some(h) = o.horizon_radius {
-        row("horizon radius", h, "M", false);
+        row("horizon radius", h, "M", false)?;
     }
     if let Some(e) = &rep.exponents {
         if let Some(l) = e.lyapunov {
-            row("Lyapunov exponent", l, "1/M", false);
+            row("Lyapunov exponent", l, "1/M", false)?;
         }
         if e.gamma_min == e.gamma_max {
-            row("ring exponent gamma", e.gamma_min, "", false);
+            row("ring exponent gamma", e.gamma_min, "", false)?;
         } else {
-            println!(
+            outln!(
                 "  {:<28}{:>20.12} .. {:.12}",
-                "ring exponent gamma", e.gamma_min, e.gamma_max
-            );
+                "ring exponent gamma",
+                e.gamma_min,
+                e.gamma_max
+            )?;
         }
     }
-    if let Some([lo, hi]) = o.photon_orbit_radii {
-        println!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii");
+    if let Some(why) = &rep.exponents_undefined {
+        println!("  {:<28}{:>20} ({why})", "ring exponent gamma", "undefined");
     }
+    if let Some([lo, hi]) = o.photon_orbit_radii {
+        outln!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii")?;
+    }
+    Ok(())
 }
 
-fn write_csv(path: &str, reports: &[ShadowReport]) -> Result<(), CliError> {
-    let fail = |e: std::io::Error| CliError::usage(format!("cannot write '{path}': {e}"));
+/// The curves as CSV text.
+fn csv_text(reports: &[ShadowReport]) -> String {
     let mut text = String::from("curve,alpha,beta\n");
     for (i, rep) in reports.iter().enumerate() {
         if let Some(c) = &rep.curve {
@@ -322,8 +337,7 @@ fn write_csv(path: &str, reports: &[ShadowReport]) -> Result<(), CliError> {
             }
         }
     }
-    let mut file = std::fs::File::create(path).map_err(fail)?;
-    file.write_all(text.as_bytes()).map_err(fail)
+    text
 }
 
 pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
@@ -336,7 +350,8 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
             let theta_g = parse_finite(t, "--mass-distance-uas")?;
             if theta_g <= 0.0 {
                 return Err(CliError::usage(format!(
-                    "--mass-distance-uas must be positive, got {theta_g}"
+                    "--mass-distance-uas must be positive, got {}",
+                    Num(theta_g)
                 )));
             }
             Some(theta_g)
@@ -354,12 +369,20 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         .iter()
         .map(|assignments| source.build(assignments))
         .collect::<Result<_, _>>()?;
+    // Files appear only when the whole command succeeds; a bad path fails before any work.
+    let mut outputs = OutputTransaction::new();
+    if let Some(path) = &args.csv {
+        outputs.stage(Path::new(path))?;
+    }
+    if let Some(path) = &args.plot {
+        stage_plot(&mut outputs, path)?;
+    }
     let reports: Vec<ShadowReport> = metrics
         .iter()
         .map(|m| shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre))
         .collect::<Result<_, _>>()?;
     if let Some(path) = &args.csv {
-        write_csv(path, &reports)?;
+        outputs.write(Path::new(path), csv_text(&reports).as_bytes())?;
     }
     if let Some(path) = &args.plot {
         let curves: Vec<ScreenCurve> = reports
@@ -381,7 +404,7 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
             "{} shadow, inclination {inclination_deg} deg",
             source.name()
         );
-        screen_curves(path, &title, &curves)?;
+        write_plot(&mut outputs, path, &screen_curves(path, &title, &curves)?)?;
     }
     if args.json {
         let text = if reports.len() == 1 {
@@ -389,11 +412,12 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         } else {
             serde_json::to_string_pretty(&reports)
         };
-        println!("{}", text.expect("serialisable"));
+        outln!("{}", text.expect("serialisable"))?;
     } else {
         for rep in &reports {
-            print_table(rep, theta_g);
+            print_table(rep, theta_g)?;
         }
     }
+    outputs.commit()?;
     Ok(())
 }

@@ -4,9 +4,14 @@
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
-use umbral::verify::{update_checks_file, ChecksFile, VerifyError, VerifyReport};
+use umbral::output::OutputTransaction;
+use umbral::verify::{
+    default_update_path, update_checks_file_forcing, ChecksFile, RowSelector, VerifyError,
+    VerifyReport,
+};
 
 #[derive(Debug, Args)]
 pub struct VerifyArgs {
@@ -17,12 +22,19 @@ pub struct VerifyArgs {
     #[arg(long)]
     json: bool,
     /// Write the computed values into a copy of each file (FILE.updated.toml) as a new
-    /// baseline, keeping comments and layout; the original is left alone.
+    /// baseline, keeping comments and layout; the original is left alone. Only values whose
+    /// source is umbral itself (source = "umbral" or "umbral: ...") are rewritten; drifted
+    /// values with an outside source are reported and kept.
     #[arg(long)]
     update: bool,
     /// With --update and one FILE: where to write the updated copy.
     #[arg(long, value_name = "PATH", requires = "update")]
     output: Option<PathBuf>,
+    /// With --update: also replace this row although its source is not umbral
+    /// (CASE, CASE:QUANTITY or CASE:QUANTITY@CONFIDENCE; repeatable). Its source then says
+    /// that umbral replaced it.
+    #[arg(long = "force-row", value_name = "NAME", requires = "update")]
+    force_row: Vec<String>,
 }
 
 #[derive(Serialize)]
@@ -52,36 +64,31 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         .map(ChecksFile::load)
         .collect::<Result<_, _>>()
         .map_err(usage)?;
-    let mut report = VerifyReport::default();
-    let mut updated_files = Vec::new();
-    let mut notes = Vec::new();
-    if args.update {
-        for path in &args.files {
-            let outcome = update_checks_file(path, args.output.as_deref()).map_err(usage)?;
-            notes.push(format!(
-                "wrote {} ({} values updated{})",
-                outcome.output.display(),
-                outcome.updated,
-                if outcome.kept.is_empty() {
-                    String::new()
-                } else {
-                    format!("; kept as written: {}", outcome.kept.join("; "))
-                }
-            ));
-            if same_file(path, &outcome.output) {
-                notes.push(format!(
-                    "note: {} was overwritten (--output)",
-                    path.display()
-                ));
-            }
-            updated_files.push(outcome.output.display().to_string());
-            report.extend(outcome.report);
-        }
+    let force = args
+        .force_row
+        .iter()
+        .map(|t| RowSelector::parse(t).map_err(CliError::usage))
+        .collect::<Result<Vec<_>, _>>()?;
+    if let Some(s) = force
+        .iter()
+        .find(|s| !checks.iter().any(|c| s.names_a_row_of(c)))
+    {
+        return Err(CliError::usage(format!(
+            "--force-row {}: no such row in the checks files given",
+            s.text
+        )));
+    }
+    // Updated copies appear only when the whole command succeeds.
+    let mut outputs = OutputTransaction::new();
+    let (report, updated_files, notes) = if args.update {
+        update_all(args, &force, &mut outputs)?
     } else {
+        let mut report = VerifyReport::default();
         for c in &checks {
             report.extend(c.run());
         }
-    }
+        (report, Vec::new(), Vec::new())
+    };
     if args.json {
         let json = JsonReport {
             files: args.files.iter().map(|p| p.display().to_string()).collect(),
@@ -93,21 +100,80 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
         };
         let text = serde_json::to_string_pretty(&json)
             .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
-        println!("{text}");
+        outln!("{text}")?;
         for n in &notes {
-            eprintln!("{n}");
+            // Notes beside JSON go to standard error; nothing is left to report to if it fails.
+            let _ = writeln!(std::io::stderr(), "{n}");
         }
     } else {
-        print!("{}", report.render_table());
+        super::out::write_text(&report.render_table())?;
         for n in &notes {
-            println!("{n}");
+            outln!("{n}")?;
         }
     }
+    outputs.commit()?;
     Ok(if report.all_passed() {
         ExitCode::SUCCESS
     } else {
         ExitCode::from(1)
     })
+}
+
+/// `--update`: run every file, writing each updated copy to a temporary staged in `outputs`;
+/// the rows, the files written and notes for the user.
+fn update_all(
+    args: &VerifyArgs,
+    force: &[RowSelector],
+    outputs: &mut OutputTransaction,
+) -> Result<(VerifyReport, Vec<String>, Vec<String>), CliError> {
+    let mut report = VerifyReport::default();
+    let mut updated_files = Vec::new();
+    let mut notes = Vec::new();
+    let destinations: Vec<PathBuf> = args
+        .files
+        .iter()
+        .map(|path| {
+            args.output
+                .clone()
+                .unwrap_or_else(|| default_update_path(path))
+        })
+        .collect();
+    let staged = destinations
+        .iter()
+        .map(|dest| outputs.stage(dest))
+        .collect::<Result<Vec<_>, _>>()?;
+    for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
+        let outcome = update_checks_file_forcing(path, Some(temp), force).map_err(usage)?;
+        notes.push(format!(
+            "wrote {} ({} values updated{})",
+            dest.display(),
+            outcome.updated,
+            if outcome.kept.is_empty() {
+                String::new()
+            } else {
+                format!("; kept as written: {}", outcome.kept.join("; "))
+            }
+        ));
+        for d in &outcome.outside_drifted {
+            notes.push(format!(
+                "drifted, left as written (outside source; replace with --force-row): {d}"
+            ));
+        }
+        for f in &outcome.forced {
+            notes.push(format!(
+                "replaced although its source was not umbral (--force-row): {f}"
+            ));
+        }
+        if same_file(path, dest) {
+            notes.push(format!(
+                "note: {} was overwritten (--output)",
+                path.display()
+            ));
+        }
+        updated_files.push(dest.display().to_string());
+        report.extend(outcome.report);
+    }
+    Ok((report, updated_files, notes))
 }
 
 fn same_file(a: &Path, b: &Path) -> bool {

@@ -29,6 +29,7 @@ pub mod constants;
 pub mod gaussian;
 pub mod ring;
 
+use crate::numfmt::Num;
 use crate::observables::SCHWARZSCHILD_SHADOW_RADIUS;
 use gaussian::two_sided_z;
 use ring::{AngularScale, RingChain, RingPropagation};
@@ -151,7 +152,8 @@ fn check_level(confidence: f64) -> Result<(), MeasurementError> {
         Ok(())
     } else {
         Err(MeasurementError::Invalid(format!(
-            "confidence levels must lie strictly between 0 and 1, got {confidence}"
+            "confidence levels must lie strictly between 0 and 1, got {}",
+            Num(confidence)
         )))
     }
 }
@@ -161,7 +163,8 @@ fn finite(what: &str, x: f64) -> Result<f64, MeasurementError> {
         Ok(x)
     } else {
         Err(MeasurementError::Invalid(format!(
-            "{what} must be a finite number, got {x}"
+            "{what} must be a finite number, got {}",
+            Num(x)
         )))
     }
 }
@@ -174,7 +177,7 @@ fn line_of(text: &str, offset: usize) -> usize {
 impl Measurement {
     /// Read and validate a measurement file.
     pub fn from_path(path: &Path) -> Result<Self, MeasurementError> {
-        let text = std::fs::read_to_string(path).map_err(|e| MeasurementError::Io {
+        let text = crate::input::read_text(path).map_err(|e| MeasurementError::Io {
             path: path.display().to_string(),
             message: e.to_string(),
         })?;
@@ -218,8 +221,10 @@ impl Measurement {
                 let (lo, hi) = (finite("low", iv.low)?, finite("high", iv.high)?);
                 if !(lo > 0.0 && lo < hi) {
                     return Err(MeasurementError::Invalid(format!(
-                        "size.shadow_radius interval {}: need 0 < low < high, got [{lo}, {hi}]",
-                        k + 1
+                        "size.shadow_radius interval {}: need 0 < low < high, got [{}, {}]",
+                        k + 1,
+                        Num(lo),
+                        Num(hi)
                     )));
                 }
                 if s.intervals[..k]
@@ -238,7 +243,8 @@ impl Measurement {
             for (what, x) in [("minus", f.minus), ("plus", f.plus)] {
                 if finite(&format!("size.fractional_deviation.{what}"), x)? < 0.0 {
                     return Err(MeasurementError::Invalid(format!(
-                        "size.fractional_deviation.{what} must not be negative, got {x}"
+                        "size.fractional_deviation.{what} must not be negative, got {}",
+                        Num(x)
                     )));
                 }
             }
@@ -273,7 +279,8 @@ impl Measurement {
                 let max = finite("circularity.max", c.max)?;
                 if max <= 0.0 {
                     return Err(MeasurementError::Invalid(format!(
-                        "circularity.max must be positive, got {max}"
+                        "circularity.max must be positive, got {}",
+                        Num(max)
                     )));
                 }
                 Some(max)

@@ -8,6 +8,7 @@
 use super::constants::theta_g_uas;
 use super::gaussian::two_sided_z;
 use super::{Gaussian, MeasurementError, RadiusInterval};
+use crate::numfmt::Num;
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -94,13 +95,13 @@ impl RingChain {
             if !(g.value.is_finite() && g.value > 0.0) {
                 return Err(MeasurementError::Invalid(format!(
                     "size.ring.{name}.value must be a positive finite number, got {}",
-                    g.value
+                    Num(g.value)
                 )));
             }
             if !(g.sigma.is_finite() && g.sigma >= 0.0) {
                 return Err(MeasurementError::Invalid(format!(
                     "size.ring.{name}.sigma must be a non-negative finite number, got {}",
-                    g.sigma
+                    Num(g.sigma)
                 )));
             }
         }
@@ -157,7 +158,8 @@ impl RingChain {
         for &confidence in levels {
             let z = two_sided_z(confidence).ok_or_else(|| {
                 MeasurementError::Invalid(format!(
-                    "confidence levels must lie strictly between 0 and 1, got {confidence}"
+                    "confidence levels must lie strictly between 0 and 1, got {}",
+                    Num(confidence)
                 ))
             })?;
             monte_carlo.push(RadiusInterval {

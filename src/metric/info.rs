@@ -1,6 +1,7 @@
 //! Plain metadata of a metric: its name, literature reference and parameters.
 
 use crate::error::MetricError;
+use crate::numfmt::Num;
 use serde::Serialize;
 use std::fmt;
 
@@ -78,13 +79,13 @@ impl fmt::Display for Domain {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self.lower {
             Bound::Unbounded => write!(f, "(-inf, ")?,
-            Bound::Inclusive(lo) => write!(f, "[{lo}, ")?,
-            Bound::Exclusive(lo) => write!(f, "({lo}, ")?,
+            Bound::Inclusive(lo) => write!(f, "[{}, ", Num(lo))?,
+            Bound::Exclusive(lo) => write!(f, "({}, ", Num(lo))?,
         }
         match self.upper {
             Bound::Unbounded => write!(f, "inf)"),
-            Bound::Inclusive(hi) => write!(f, "{hi}]"),
-            Bound::Exclusive(hi) => write!(f, "{hi})"),
+            Bound::Inclusive(hi) => write!(f, "{}]", Num(hi)),
+            Bound::Exclusive(hi) => write!(f, "{})", Num(hi)),
         }
     }
 }

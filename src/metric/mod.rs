@@ -11,12 +11,19 @@
 mod components;
 mod horizon;
 mod info;
+mod regularity;
+mod separation;
 mod spacetime;
 mod spherical;
 
 pub use components::{InverseComponents, MetricComponents};
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
+pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};
+pub use separation::{
+    check_separation, separation_residual, SeparationError, SeparationReport, SeparationResidual,
+    SEPARATION_TOLERANCE,
+};
 pub use spacetime::{
     Christoffel, Classification, PhaseGradient, PotentialJet, Spacetime, SphericalJet,
 };

@@ -3,7 +3,7 @@
 
 use std::fmt;
 
-/// A place in a metric file: position, the source line and the width of the marked text.
+/// A place in a metric file: position, an excerpt of the source line and the marked text.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Location {
     /// The file as given by the caller (or a label such as `<string>`).
@@ -12,13 +12,20 @@ pub struct Location {
     pub line: usize,
     /// 1-based column, counted in characters.
     pub column: usize,
-    /// The full source line (tabs shown as spaces).
+    /// The source line as shown: at most [`EXCERPT_WINDOW`] characters on either side of the
+    /// marked text (and at most twice that of marked text), with `…` where it is cut; tabs
+    /// shown as spaces, control and invisible formatting characters escaped (`\u{0}`).
     pub source_line: String,
-    /// Number of characters to mark (at least 1).
+    /// 1-based column of the caret in `source_line`.
+    pub caret_column: usize,
+    /// Number of characters of `source_line` to mark (at least 1).
     pub width: usize,
     /// The field of the file the text belongs to, e.g. `line_element.g_tt` (may be empty).
     pub field: String,
 }
+
+/// Characters of context shown on either side of an error's marked text.
+pub const EXCERPT_WINDOW: usize = 60;
 
 impl Location {
     /// The location of bytes `start..end` of `text` (clamped to the text; `end` may equal
@@ -36,16 +43,16 @@ impl Location {
         let column = text[line_start..start].chars().count() + 1;
         let marked_end = end.min(line_end);
         let width = text[start..marked_end].chars().count().max(1);
-        let source_line = text[line_start..line_end]
-            .trim_end_matches('\r')
-            .replace('\t', " ");
+        let source = text[line_start..line_end].trim_end_matches('\r');
+        let (source_line, caret_column, width) = excerpt_window(source, column - 1, width);
         Location {
             file: file.to_string(),
             line,
             column,
             source_line,
+            caret_column,
             width,
-            field: field.to_string(),
+            field: shown(field),
         }
     }
 
@@ -58,13 +65,95 @@ impl Location {
     fn excerpt(&self) -> String {
         let number = self.line.to_string();
         let pad = " ".repeat(number.len());
-        let lead = " ".repeat(self.column.saturating_sub(1));
+        let lead = " ".repeat(self.caret_column.saturating_sub(1));
         format!(
             "  {number} | {}\n  {pad} | {lead}{}",
             self.source_line,
             "^".repeat(self.width)
         )
     }
+}
+
+/// The part of `line` shown around characters `mark..mark + width`: the excerpt, the 1-based
+/// caret column in it and the marked width, both counted in shown characters.
+fn excerpt_window(line: &str, mark: usize, width: usize) -> (String, usize, usize) {
+    let chars: Vec<char> = line.chars().collect();
+    let mark_end = (mark + width).min(mark + 2 * EXCERPT_WINDOW);
+    let lo = mark.saturating_sub(EXCERPT_WINDOW);
+    let hi = if mark + width > mark_end {
+        mark_end
+    } else {
+        mark_end + EXCERPT_WINDOW
+    }
+    .min(chars.len());
+    let mut shown_line = String::new();
+    let mut count = 0;
+    if lo > 0 {
+        shown_line.push('…');
+        count += 1;
+    }
+    let (mut caret, mut caret_end) = (None, None);
+    for (i, c) in chars.iter().enumerate().take(hi).skip(lo) {
+        if i == mark {
+            caret = Some(count);
+        }
+        if i == mark_end {
+            caret_end = Some(count);
+        }
+        let piece = escaped(*c);
+        count += piece.chars().count();
+        shown_line.push_str(&piece);
+    }
+    // The mark may start or end at (or past) the end of the shown text.
+    let caret = caret.unwrap_or(count);
+    let caret_end = caret_end.unwrap_or(count).max(caret + 1);
+    if hi < chars.len() {
+        shown_line.push('…');
+    }
+    (shown_line, caret + 1, caret_end - caret)
+}
+
+/// A character as shown in an error: tabs as a space, control characters and invisible
+/// formatting characters (zero-width, bidirectional overrides, byte-order mark) escaped.
+fn escaped(c: char) -> String {
+    let invisible = matches!(c, '\u{200B}'..='\u{200F}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' | '\u{FEFF}');
+    if c == '\t' {
+        " ".into()
+    } else if c.is_control() || invisible {
+        c.escape_default().to_string()
+    } else {
+        c.to_string()
+    }
+}
+
+/// User text as it appears inside a message: escaped like the excerpt, and when longer than
+/// 60 characters cut to its first 40 and last 15 with `…` between.
+pub(crate) fn shown(text: &str) -> String {
+    let chars: Vec<char> = text.chars().collect();
+    let pick: String = if chars.len() > 60 {
+        let head: String = chars[..40].iter().collect();
+        let tail: String = chars[chars.len() - 15..].iter().collect();
+        format!("{head}…{tail}")
+    } else {
+        text.to_string()
+    };
+    pick.chars().map(escaped).collect()
+}
+
+/// A whole message made safe to print: control characters escaped and every run of more than
+/// 80 characters without a space (a pasted name, a long number) cut by [`shown`].
+fn tidy(message: &str) -> String {
+    message
+        .split(' ')
+        .map(|word| {
+            if word.chars().count() > 80 {
+                shown(word)
+            } else {
+                word.chars().map(escaped).collect()
+            }
+        })
+        .collect::<Vec<_>>()
+        .join(" ")
 }
 
 fn floor_char_boundary(text: &str, mut i: usize) -> usize {
@@ -169,6 +258,10 @@ pub enum MetricFileError {
     /// A value of the file that is allowed by TOML but not by the schema.
     #[error("{}", self.full_message())]
     Invalid { at: Box<Location>, problem: String },
+    /// Separation data that do not reproduce the null Hamiltonian of the line element, or a
+    /// line element that is not finite where they are checked.
+    #[error("{}", self.full_message())]
+    Separation { at: Box<Location>, problem: String },
 }
 
 impl MetricFileError {
@@ -189,12 +282,18 @@ impl MetricFileError {
             | MetricFileError::MissingComponent { at, .. }
             | MetricFileError::ForeignComponent { at, .. }
             | MetricFileError::BadName { at, .. }
-            | MetricFileError::Invalid { at, .. } => Some(at.as_ref()),
+            | MetricFileError::Invalid { at, .. }
+            | MetricFileError::Separation { at, .. } => Some(at.as_ref()),
         }
     }
 
-    /// What is wrong and what was expected, in one sentence, without the place.
+    /// What is wrong and what was expected, in one sentence, without the place. User text in
+    /// it is escaped and long runs are cut (see [`Location::source_line`]).
     pub fn message(&self) -> String {
+        tidy(&self.raw_message())
+    }
+
+    fn raw_message(&self) -> String {
         match self {
             MetricFileError::Read { path, reason } => {
                 format!("cannot read metric file {path}: {reason}")
@@ -297,9 +396,9 @@ impl MetricFileError {
                 "component '{component}' does not belong to the {symmetry} line element, \
                  which is given by {needed}"
             ),
-            MetricFileError::BadName { problem, .. } | MetricFileError::Invalid { problem, .. } => {
-                problem.clone()
-            }
+            MetricFileError::BadName { problem, .. }
+            | MetricFileError::Invalid { problem, .. }
+            | MetricFileError::Separation { problem, .. } => problem.clone(),
         }
     }
 
@@ -358,14 +457,21 @@ pub(crate) fn edit_distance(a: &str, b: &str) -> usize {
 
 /// The closest candidate to `name`, if it is close enough to be a plausible typo: at most a
 /// third of the longer name's length in edits (at least one edit), ties to the earlier one.
-/// Case-only differences always qualify.
+/// Case-only differences always qualify. Names over 64 characters get no suggestion.
 pub(crate) fn closest<'a>(
     name: &str,
     candidates: impl IntoIterator<Item = &'a str>,
 ) -> Option<String> {
+    let length = name.chars().count();
+    if length > 64 {
+        // Not a plausible typo of any name, and edit distances would cost O(length) each.
+        return None;
+    }
     let mut best: Option<(usize, &str)> = None;
     for c in candidates {
-        if c == name {
+        let other = c.chars().count();
+        // The distance is at least the difference in length: skip hopeless candidates early.
+        if c == name || length.abs_diff(other) > (length.max(other) / 3).max(1) {
             continue;
         }
         let d = if c.eq_ignore_ascii_case(name) {
@@ -373,7 +479,7 @@ pub(crate) fn closest<'a>(
         } else {
             edit_distance(name, c)
         };
-        let limit = (name.chars().count().max(c.chars().count()) / 3).max(1);
+        let limit = (length.max(other) / 3).max(1);
         if d <= limit && best.is_none_or(|(bd, _)| d < bd) {
             best = Some((d, c));
         }

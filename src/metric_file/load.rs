@@ -1,13 +1,18 @@
 //! From the text of a metric file to a checked [`FileMetricSpec`]: TOML schema, names,
 //! domains, helper order, symmetry and contexts, each error placed in the file.
 
-use super::error::{closest, Location, MetricFileError};
+use super::error::{closest, shown, Location, MetricFileError};
 use super::metric::{CheckValue, FileMetricSpec, HorizonRule};
 use super::parser::{is_identifier, parse_expression, Expr, ParseError, FUNCTION_NAMES};
 use super::resolve::{is_reserved, names_in, Context, Node, ResolveError, Scope};
 use super::schema::{FileSchema, LineElementSchema};
 use super::strings::offset_map;
-use crate::metric::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
+use crate::metric::{
+    check_point, check_separation, Bound, Domain, MetricInfo, ParameterSpec, SeparationError,
+    Symmetry,
+};
+use crate::numfmt::Num;
+use std::collections::HashMap;
 use std::ops::Range;
 use toml::Spanned;
 
@@ -15,17 +20,36 @@ use toml::Spanned;
 struct Source<'a> {
     label: &'a str,
     text: &'a str,
+    /// Byte offset of the start of every line, for line numbers in O(log n).
+    line_starts: Vec<usize>,
 }
 
-impl Source<'_> {
+impl<'a> Source<'a> {
+    fn new(label: &'a str, text: &'a str) -> Self {
+        let line_starts = std::iter::once(0)
+            .chain(text.match_indices('\n').map(|(i, _)| i + 1))
+            .collect();
+        Source {
+            label,
+            text,
+            line_starts,
+        }
+    }
+
     fn at(&self, span: Range<usize>, field: &str) -> Box<Location> {
         Box::new(Location::at(
             self.label, self.text, span.start, span.end, field,
         ))
     }
 
-    /// The location of bytes `sub` of the decoded value of a string field.
-    fn in_string(&self, value: &Spanned<String>, sub: Range<usize>, field: &str) -> Box<Location> {
+    /// The 1-based line of a byte offset.
+    fn line_of(&self, offset: usize) -> usize {
+        self.line_starts.partition_point(|&start| start <= offset)
+    }
+
+    /// The bytes of the file that bytes `sub` of the decoded value of a string field came
+    /// from (the start of the value if the decoding cannot be followed).
+    fn string_span(&self, value: &Spanned<String>, sub: Range<usize>) -> Range<usize> {
         let span = value.span();
         let map = self
             .text
@@ -36,10 +60,15 @@ impl Source<'_> {
                 let last = map.len() - 1;
                 let start = span.start + map[sub.start.min(last)];
                 let end = span.start + map[sub.end.min(last)];
-                self.at(start..end.max(start + 1), field)
+                start..end.max(start + 1)
             }
-            None => self.at(span.start..span.start + 1, field),
+            None => span.start..span.start + 1,
         }
+    }
+
+    /// The location of bytes `sub` of the decoded value of a string field.
+    fn in_string(&self, value: &Spanned<String>, sub: Range<usize>, field: &str) -> Box<Location> {
+        self.at(self.string_span(value, sub), field)
     }
 
     fn parse_error(
@@ -106,7 +135,7 @@ fn parse_field<'s>(
 
 /// Parse and check a metric file's text. `label` names the file in error messages.
 pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, MetricFileError> {
-    let src = Source { label, text };
+    let src = Source::new(label, text);
     let file: FileSchema = toml::from_str(text).map_err(|e| MetricFileError::Toml {
         at: {
             let span = e.span().unwrap_or(0..0);
@@ -124,8 +153,9 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         return Err(MetricFileError::Invalid {
             at: src.at(file.name.span(), "name"),
             problem: format!(
-                "bad metric name '{name}': expected letters, digits, '-' or '_' (it is typed on \
-                 the command line)"
+                "bad metric name '{}': expected letters, digits, '-' or '_' (it is typed on \
+                 the command line)",
+                shown(name)
             ),
         });
     }
@@ -140,7 +170,8 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             return Err(MetricFileError::Invalid {
                 at: src.at(file.symmetry.span(), "symmetry"),
                 problem: format!(
-                    "unknown symmetry '{other}': expected 'spherical' or 'axisymmetric'{hint}"
+                    "unknown symmetry '{}': expected 'spherical' or 'axisymmetric'{hint}",
+                    shown(other)
                 ),
             });
         }
@@ -160,10 +191,12 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
 
     // Parameters: names, domains, defaults.
     let mut parameters = Vec::new();
+    let mut param_index = HashMap::new();
     for (i, p) in file.parameters.iter().enumerate() {
         let field = format!("parameters[{i}].name");
         let pname = p.name.get_ref();
-        check_new_name(&src, &p.name, &field, &parameters)?;
+        check_new_name(&src, &p.name, &field, &param_index)?;
+        param_index.insert(pname.clone(), parameters.len());
         let domain = match &p.domain {
             None => Domain::REAL,
             Some(d) => parse_domain(d.get_ref()).ok_or_else(|| MetricFileError::BadDomain {
@@ -190,13 +223,14 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
     let mut helper_fields = Vec::new();
     let mut helper_names: Vec<String> = Vec::new();
     let mut helper_lines = Vec::new();
+    let mut helper_index = HashMap::new();
     for (i, h) in file.helpers.iter().enumerate() {
         let field = format!("helpers[{i}]");
         let text = h.get_ref();
         let Some(eq) = text.find('=') else {
             return Err(MetricFileError::Syntax {
                 at: src.in_string(h, 0..text.len(), &field),
-                found: format!("'{text}'"),
+                found: format!("'{}'", shown(text)),
                 expected: "a helper definition NAME = expression, as in \"Sigma = r^2 + 1\"".into(),
             });
         };
@@ -208,8 +242,9 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             return Err(MetricFileError::BadName {
                 at: src.in_string(h, name_span.start..name_span.end.max(eq), &field),
                 problem: format!(
-                    "bad helper name '{hname}': expected letters, digits and '_', not starting \
-                     with a digit"
+                    "bad helper name '{}': expected letters, digits and '_', not starting \
+                     with a digit",
+                    shown(hname)
                 ),
             });
         }
@@ -218,16 +253,19 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             h,
             name_span.clone(),
             &field,
-            &param_names,
-            &helper_names,
+            &param_index,
+            &helper_index,
         )?;
+        helper_index.insert(hname.to_string(), helper_names.len());
         helper_names.push(hname.to_string());
-        helper_lines.push(src.in_string(h, name_span, &field).line);
+        helper_lines.push(src.line_of(src.string_span(h, name_span).start));
         helper_fields.push(parse_field(&src, h, eq + 1, &field)?);
     }
     let mut scope = Scope {
         params: param_names.clone(),
+        param_index: param_index.clone(),
         helpers: helper_names.clone(),
+        helper_index,
         helper_refs: helper_fields
             .iter()
             .map(|f| {
@@ -260,6 +298,7 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
     let separation = match &file.separation {
         None => None,
         Some(s) => {
+            let s = s.get_ref();
             let radial = parse_field(&src, &s.radial, 0, "separation.radial")?;
             let polar = parse_field(&src, &s.polar, 0, "separation.polar")?;
             Some([
@@ -273,7 +312,7 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
     for (i, c) in file.checks.iter().enumerate() {
         let mut assigned = Vec::new();
         for (pname, value) in &c.parameters {
-            if !param_names.contains(pname) {
+            if !param_index.contains_key(pname) {
                 return Err(MetricFileError::UnknownName {
                     at: src.at(value.span(), &format!("checks[{i}].parameters.{pname}")),
                     name: pname.clone(),
@@ -292,7 +331,7 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         });
     }
 
-    Ok(FileMetricSpec {
+    let spec = FileMetricSpec {
         info: MetricInfo {
             name: name.clone(),
             title: file.title.clone(),
@@ -308,7 +347,116 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         horizon,
         separation,
         checks,
-    })
+    };
+    check_far_field(&src, file.line_element.span(), &spec)?;
+    if let Some(table) = &file.separation {
+        check_separation_data(&src, table.span(), &spec)?;
+    }
+    Ok(spec)
+}
+
+/// Far from the centre (r = 10³, three polar angles) the line element at the defaults must be
+/// a regular metric ([`check_point`]): finite components, inverse and Christoffel symbols and a
+/// nondegenerate (t, φ) block. This refuses, whatever solver would be used, formulas such as
+/// g_tt = 1/0 or sqrt(-1) that are not a metric anywhere.
+fn check_far_field(
+    src: &Source,
+    table: Range<usize>,
+    spec: &FileMetricSpec,
+) -> Result<(), MetricFileError> {
+    const R_FAR: f64 = 1.0e3;
+    let defaults: Vec<f64> = spec.info.parameters.iter().map(|p| p.default).collect();
+    let metric = spec.build(defaults.clone());
+    for theta in [0.43, 1.21, 2.36] {
+        if let Err(problem) = check_point(&metric, R_FAR, theta) {
+            return Err(MetricFileError::Invalid {
+                at: src.at(table.start..table.start + 1, "line_element"),
+                problem: format!(
+                    "the line element is not a regular metric at r = {R_FAR}, theta = {theta}, \
+                     far from the centre: {problem}{}",
+                    at_defaults(&spec.info, &defaults)
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// The separation data must reproduce the line element's null Hamiltonian
+/// ([`check_separation`]): at the defaults (any failure, including a line element that is
+/// not finite at the check points, refuses the file) and at a second point with every
+/// parameter moved off its default inside its domain, so that terms vanishing at the
+/// defaults (such as a = 0) are checked too (there only a mismatch refuses the file: the
+/// moved point may legitimately be irregular). Every instantiation checks again
+/// ([`FileMetricSpec::instantiate`]).
+fn check_separation_data(
+    src: &Source,
+    table: Range<usize>,
+    spec: &FileMetricSpec,
+) -> Result<(), MetricFileError> {
+    let at = || src.at(table.start..table.start + 1, "separation");
+    let defaults: Vec<f64> = spec.info.parameters.iter().map(|p| p.default).collect();
+    if let Err(e) = check_separation(&spec.build(defaults.clone())) {
+        return Err(MetricFileError::Separation {
+            at: at(),
+            problem: format!("{e}{}", at_defaults(&spec.info, &defaults)),
+        });
+    }
+    let moved: Vec<f64> = spec.info.parameters.iter().map(off_default).collect();
+    if moved != defaults {
+        if let Err(e @ SeparationError::Mismatch(_)) = check_separation(&spec.build(moved.clone()))
+        {
+            return Err(MetricFileError::Separation {
+                at: at(),
+                problem: format!(
+                    "{e} (parameters{})",
+                    parameter_list(&spec.info, &moved, ": ")
+                ),
+            });
+        }
+    }
+    Ok(())
+}
+
+/// `" (parameters at their defaults: a = 0)"`, or nothing without parameters.
+fn at_defaults(info: &MetricInfo, values: &[f64]) -> String {
+    if info.parameters.is_empty() {
+        String::new()
+    } else {
+        format!(
+            " (parameters at their defaults{})",
+            parameter_list(info, values, ": ")
+        )
+    }
+}
+
+/// `"a = 0.5, q = 0.1"`-style list after `lead`, or nothing without parameters.
+pub(crate) fn parameter_list(info: &MetricInfo, values: &[f64], lead: &str) -> String {
+    if info.parameters.is_empty() {
+        return String::new();
+    }
+    let list: Vec<String> = info
+        .parameters
+        .iter()
+        .zip(values)
+        .map(|(p, v)| format!("{} = {}", p.name, Num(*v)))
+        .collect();
+    format!("{lead}{}", list.join(", "))
+}
+
+/// A value inside the parameter's domain, moved off the default by 0.1234·max(|default|, 1)
+/// (halved until it fits a narrow domain); the default if nothing fits.
+fn off_default(p: &ParameterSpec) -> f64 {
+    let mut step = 0.1234 * p.default.abs().max(1.0);
+    for _ in 0..40 {
+        for x in [p.default + step, p.default - step] {
+            if p.domain.contains(x) {
+                return x;
+            }
+        }
+        step /= 2.0;
+    }
+    p.default
 }
 
 /// Resolve a field, turning resolution errors into located file errors.
@@ -423,16 +571,17 @@ fn check_new_name(
     src: &Source,
     name: &Spanned<String>,
     field: &str,
-    parameters: &[ParameterSpec],
+    parameters: &HashMap<String, usize>,
 ) -> Result<(), MetricFileError> {
     let n = name.get_ref();
     let problem = if !is_identifier(n) {
         format!(
-            "bad parameter name '{n}': expected letters, digits and '_', not starting with a digit"
+            "bad parameter name '{}': expected letters, digits and '_', not starting with a digit",
+            shown(n)
         )
     } else if is_reserved(n) {
         format!("'{n}' is reserved (a coordinate, pi or a function): choose another name")
-    } else if parameters.iter().any(|p| &p.name == n) {
+    } else if parameters.contains_key(n) {
         format!("parameter '{n}' is defined twice")
     } else {
         return Ok(());
@@ -448,15 +597,15 @@ fn check_helper_name(
     value: &Spanned<String>,
     span: Range<usize>,
     field: &str,
-    params: &[String],
-    helpers: &[String],
+    params: &HashMap<String, usize>,
+    helpers: &HashMap<String, usize>,
 ) -> Result<(), MetricFileError> {
     let n = &value.get_ref()[span.clone()];
     let problem = if is_reserved(n) {
         format!("'{n}' is reserved (a coordinate, pi or a function): choose another helper name")
-    } else if params.iter().any(|p| p == n) {
+    } else if params.contains_key(n) {
         format!("helper '{n}' has the name of a parameter")
-    } else if helpers.iter().any(|h| h == n) {
+    } else if helpers.contains_key(n) {
         format!("helper '{n}' is defined twice")
     } else {
         return Ok(());

@@ -5,7 +5,8 @@ use super::program::Program;
 use super::resolve::{Node, Var};
 use crate::error::MetricError;
 use crate::metric::{
-    numerical_outer_horizon, Metric, MetricComponents, MetricInfo, SphericalFunctions, Symmetry,
+    check_separation, numerical_outer_horizon, Metric, MetricComponents, MetricInfo,
+    SphericalFunctions, Symmetry,
 };
 use crate::scalar::DualScalar;
 use std::path::{Path, PathBuf};
@@ -113,6 +114,17 @@ impl FileMetricSpec {
                 });
             }
         }
+        if self.separation.is_some() {
+            // Separation data that do not belong to the line element would give the
+            // separable solver a shadow of another spacetime (docs/metric-files.md).
+            check_separation(&metric).map_err(|e| MetricError::BadPoint {
+                what: format!(
+                    "metric file '{}'{}: {e}",
+                    self.info.name,
+                    super::load::parameter_list(&self.info, &metric.values, " at ")
+                ),
+            })?;
+        }
         Ok(metric)
     }
 
@@ -122,7 +134,7 @@ impl FileMetricSpec {
     }
 
     /// Compile every expression at `values` (already checked).
-    fn build(&self, values: Vec<f64>) -> FileMetric {
+    pub(crate) fn build(&self, values: Vec<f64>) -> FileMetric {
         let line_inputs: &[Var] = match self.symmetry {
             Symmetry::Spherical => &[Var::R],
             Symmetry::StationaryAxisymmetric => &[Var::R, Var::Theta],

@@ -61,7 +61,7 @@ use std::path::{Path, PathBuf};
 /// expected ([`MetricFileError`]'s `Display`); [`MetricFileError::summary`] gives one line.
 pub fn load_metric_file(path: &Path) -> Result<FileMetricSpec, MetricFileError> {
     let label = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| MetricFileError::Read {
+    let text = crate::input::read_text(path).map_err(|e| MetricFileError::Read {
         path: label.clone(),
         reason: e.to_string(),
     })?;
@@ -78,8 +78,8 @@ pub fn parse_metric_file(text: &str, label: &str) -> Result<FileMetricSpec, Metr
 /// Every `*.toml` file of a directory, sorted by path, each loaded (or its error). A
 /// directory that cannot be read gives one entry with the read error.
 pub fn list_metric_dir(dir: &Path) -> Vec<(PathBuf, Result<FileMetricSpec, MetricFileError>)> {
-    let entries = match std::fs::read_dir(dir) {
-        Ok(entries) => entries,
+    let paths = match crate::input::list_files(dir, "toml") {
+        Ok(paths) => paths,
         Err(e) => {
             return vec![(
                 dir.to_path_buf(),
@@ -90,11 +90,6 @@ pub fn list_metric_dir(dir: &Path) -> Vec<(PathBuf, Result<FileMetricSpec, Metri
             )]
         }
     };
-    let mut paths: Vec<PathBuf> = entries
-        .filter_map(|e| e.ok().map(|e| e.path()))
-        .filter(|p| p.is_file() && p.extension().is_some_and(|x| x == "toml"))
-        .collect();
-    paths.sort();
     paths
         .into_iter()
         .map(|p| {

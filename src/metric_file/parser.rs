@@ -73,6 +73,9 @@ impl Func {
 pub(crate) struct Expr {
     pub kind: ExprKind,
     pub span: Range<usize>,
+    /// Levels of the tree below and including this node (a leaf has depth 1); at most
+    /// [`MAX_DEPTH`], so that every recursive walk over a tree is bounded.
+    pub depth: usize,
 }
 
 /// The kinds of expression nodes.
@@ -118,8 +121,18 @@ impl From<LexError> for ParseError {
 
 /// Binding power of unary minus/plus: looser than `^`, tighter than `*` and `/`.
 const UNARY: u8 = 30;
-/// Deepest nesting accepted, so that no input can exhaust the stack.
-const MAX_DEPTH: usize = 200;
+/// Deepest nesting accepted, so that no input can exhaust the stack: both the parser's own
+/// recursion (parentheses, unary signs, `^` chains, calls) and the depth of the tree it builds
+/// (where each operator of a left-associative chain such as `a + b + c` adds a level). Name
+/// resolution, compilation and dropping a tree all recurse over it, to this depth at most.
+pub(crate) const MAX_DEPTH: usize = 200;
+/// Longest expression accepted, in bytes (the shipped files' longest is under 100).
+pub(crate) const MAX_LENGTH: usize = 10_000;
+
+/// What a too deeply nested expression is told to do.
+const TOO_DEEP: &str = "an expression nested at most 200 levels deep (parentheses, calls and \
+                        operators, each operator of a chain such as a + b + c counting as one \
+                        level): split long chains into helpers";
 
 /// Left and right binding powers of an infix operator.
 fn infix_power(tok: &Tok) -> Option<(BinOp, u8, u8)> {
@@ -136,6 +149,17 @@ fn infix_power(tok: &Tok) -> Option<(BinOp, u8, u8)> {
 
 /// Parse a whole expression.
 pub(crate) fn parse_expression(text: &str) -> Result<Expr, ParseError> {
+    if text.len() > MAX_LENGTH {
+        let mut at = MAX_LENGTH;
+        while !text.is_char_boundary(at) {
+            at -= 1;
+        }
+        return Err(ParseError::Syntax {
+            span: at..at + 1,
+            found: format!("an expression of {} bytes", text.len()),
+            expected: format!("an expression of at most {MAX_LENGTH} bytes: split it into helpers"),
+        });
+    }
     let tokens = tokenize(text)?;
     let mut parser = Parser {
         tokens,
@@ -201,19 +225,24 @@ impl Parser {
         self.depth += 1;
         if self.depth > MAX_DEPTH {
             let t = self.peek().clone();
-            return Err(self.syntax(&t, "a less deeply nested expression"));
+            return Err(self.syntax(&t, TOO_DEEP));
         }
         let mut lhs = self.prefix()?;
         while let Some((op, left, right)) = infix_power(&self.peek().tok) {
             if left < min_power {
                 break;
             }
-            self.advance();
+            let operator = self.advance();
             let rhs = self.expression(right)?;
             let span = lhs.span.start..rhs.span.end;
+            let depth = lhs.depth.max(rhs.depth) + 1;
+            if depth > MAX_DEPTH {
+                return Err(self.syntax(&operator, TOO_DEEP));
+            }
             lhs = Expr {
                 kind: ExprKind::Binary(op, Box::new(lhs), Box::new(rhs)),
                 span,
+                depth,
             };
         }
         self.depth -= 1;
@@ -226,27 +255,30 @@ impl Parser {
             Tok::Number(x) => Ok(Expr {
                 kind: ExprKind::Number(x),
                 span: t.span,
+                depth: 1,
             }),
             Tok::Minus | Tok::Plus => {
                 let operand = self.expression(UNARY)?;
                 let span = t.span.start..operand.span.end;
                 if t.tok == Tok::Plus {
-                    return Ok(Expr {
-                        kind: operand.kind,
-                        span,
-                    });
+                    return Ok(Expr { span, ..operand });
+                }
+                let depth = operand.depth + 1;
+                if depth > MAX_DEPTH {
+                    return Err(self.syntax(&t, TOO_DEEP));
                 }
                 Ok(Expr {
                     kind: ExprKind::Neg(Box::new(operand)),
                     span,
+                    depth,
                 })
             }
             Tok::LParen => {
                 let inner = self.expression(0)?;
                 let close = self.expect(Tok::RParen, "')' to close the '('")?;
                 Ok(Expr {
-                    kind: inner.kind,
                     span: t.span.start..close.span.end,
+                    ..inner
                 })
             }
             Tok::Name(name) => {
@@ -262,6 +294,7 @@ impl Parser {
                     Ok(Expr {
                         kind: ExprKind::Name(name),
                         span: t.span,
+                        depth: 1,
                     })
                 }
             }
@@ -301,9 +334,18 @@ impl Parser {
                 found: args.len(),
             });
         }
+        let depth = args.iter().map(|a| a.depth).max().unwrap_or(0) + 1;
+        if depth > MAX_DEPTH {
+            return Err(ParseError::Syntax {
+                span: name_span,
+                found: format!("a call of '{name}'"),
+                expected: TOO_DEEP.into(),
+            });
+        }
         Ok(Expr {
             kind: ExprKind::Call(func, name_span.clone(), args),
             span: name_span.start..end,
+            depth,
         })
     }
 }

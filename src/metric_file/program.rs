@@ -296,6 +296,24 @@ impl Program {
             ops: Vec::new(),
             numbering: HashMap::new(),
         };
+        // Helpers the outputs need (transitively), compiled in file order: each refers only to
+        // earlier ones, already compiled, so `emit` never recurses from one helper's tree into
+        // another's and its depth is that of a single tree (bounded by the parser).
+        let mut needed = vec![false; helpers.len()];
+        let mut pending = Vec::new();
+        outputs.iter().for_each(|n| helper_refs(n, &mut pending));
+        while let Some(i) = pending.pop() {
+            if let Some(false) = needed.get(i) {
+                needed[i] = true;
+                helper_refs(&helpers[i], &mut pending);
+            }
+        }
+        for (i, tree) in helpers.iter().enumerate() {
+            if needed[i] {
+                let v = e.emit(tree);
+                e.helper_values[i] = Some(v);
+            }
+        }
         let values: Vec<Value> = outputs.iter().map(|n| e.emit(n)).collect();
         allocate(inputs.len(), &e.ops, &values)
     }
@@ -398,6 +416,20 @@ fn step<D: DualScalar>(regs: &[D], op: Op) -> D {
     }
 }
 
+/// The helpers a tree refers to directly.
+fn helper_refs(node: &Node, out: &mut Vec<usize>) {
+    match node {
+        Node::Helper(i) => out.push(*i),
+        Node::Neg(x) => helper_refs(x, out),
+        Node::Bin(_, a, b) => {
+            helper_refs(a, out);
+            helper_refs(b, out);
+        }
+        Node::Call(_, args) => args.iter().for_each(|a| helper_refs(a, out)),
+        Node::Const(_) | Node::Var(_) | Node::Param(_) => {}
+    }
+}
+
 /// Register allocation over the SSA program: each value lives from its definition to its
 /// last use; a register is reused as soon as its value is dead (lowest free number first).
 fn allocate(n_inputs: usize, ops: &[Op], values: &[Value]) -> Program {
@@ -472,7 +504,9 @@ mod tests {
     fn compile_one(text: &str) -> Program {
         let scope = Scope {
             params: vec!["a".into()],
+            param_index: [("a".to_string(), 0)].into(),
             helpers: vec![],
+            helper_index: Default::default(),
             helper_refs: vec![],
             helper_vars: vec![],
         };

@@ -3,6 +3,7 @@
 
 use super::error::closest;
 use super::parser::{BinOp, Expr, ExprKind, Func, FUNCTION_NAMES};
+use std::collections::HashMap;
 use std::ops::Range;
 
 /// A coordinate or separation variable.
@@ -123,7 +124,11 @@ pub(crate) enum ResolveError {
 /// The names in scope and what is known about the helpers.
 pub(crate) struct Scope {
     pub params: Vec<String>,
+    /// Index of each parameter by name.
+    pub param_index: HashMap<String, usize>,
     pub helpers: Vec<String>,
+    /// Index of each helper by name (lookups stay O(1) for files with many helpers).
+    pub helper_index: HashMap<String, usize>,
     /// Names each helper's expression refers to (for cycle detection).
     pub helper_refs: Vec<Vec<String>>,
     /// Variables each resolved helper depends on, directly or through other helpers.
@@ -205,11 +210,11 @@ impl Scope {
             *vars |= v.bit();
             return Ok(Node::Var(v));
         }
-        if let Some(i) = self.params.iter().position(|p| p == name) {
+        if let Some(&i) = self.param_index.get(name) {
             return Ok(Node::Param(i));
         }
         let visible = current.unwrap_or(self.helpers.len());
-        if let Some(i) = self.helpers.iter().position(|h| h == name) {
+        if let Some(&i) = self.helper_index.get(name) {
             if i >= visible {
                 let me = current.unwrap_or(0);
                 if let Some(cycle) = self.cycle_through(i, me) {
@@ -255,7 +260,7 @@ impl Scope {
     /// The chain `me -> from -> ... -> me` if helper `from` reaches helper `me` through the
     /// names the helpers mention (breadth-first, shortest chain).
     fn cycle_through(&self, from: usize, me: usize) -> Option<Vec<String>> {
-        let index = |n: &str| self.helpers.iter().position(|h| h == n);
+        let index = |n: &str| self.helper_index.get(n).copied();
         let mut previous: Vec<Option<usize>> = vec![None; self.helpers.len()];
         let mut seen = vec![false; self.helpers.len()];
         let mut queue = std::collections::VecDeque::from([from]);

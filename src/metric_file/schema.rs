@@ -33,7 +33,7 @@ pub(crate) struct FileSchema {
     pub horizon: Option<Spanned<String>>,
     /// Separation data.
     #[serde(default)]
-    pub separation: Option<SeparationSchema>,
+    pub separation: Option<Spanned<SeparationSchema>>,
     /// Published check values.
     #[serde(default)]
     pub checks: Vec<CheckSchema>,

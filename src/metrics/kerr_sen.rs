@@ -5,7 +5,12 @@
 //! g_tt = −(1 − 2r/ρ²), g_tφ = −2ar sin²θ/ρ², g_rr = ρ²/Δ, g_θθ = ρ²,
 //! g_φφ = [r(r + 2b) + a² + 2ra² sin²θ/ρ²] sin²θ,
 //!
-//! with `b = Q²/(2M) ≥ 0`. Horizons r± = 1 − b ± √((1 − b)² − a²). Separable (Kerr-like
+//! with `b = Q²/(2M) ≥ 0`. Horizons r± = 1 − b ± √((1 − b)² − a²) for |a| ≤ 1 − b. At
+//! b = 1 (then a = 0) the formula gives r₊ = 0, which lies on the singular surface
+//! r(r + 2b) = 0 and has zero area, 4π(r₊² + 2br₊ + a²) = 0: the extremal limit, in which the
+//! horizon degenerates into the singularity (as for the dilaton black hole at q² = 2,
+//! Garfinkle, Horowitz & Strominger 1991, of which a = 0 is a coordinate change,
+//! r(r + 2b) = ρ(ρ − 2b)). It is not a horizon here, so b ≥ 1 has none. Separable (Kerr-like
 //! with r² → r(r + 2b)).
 
 use super::kerr_like;
@@ -42,7 +47,7 @@ impl KerrSen {
                     "b",
                     0.0,
                     Domain::at_least(0.0),
-                    "dilaton charge b = Q^2/(2M) (horizon only for |a| <= 1 - b)",
+                    "dilaton charge b = Q^2/(2M) (horizon only for |a| <= 1 - b and b < 1; at b = 1 it has zero area on the singularity)",
                 ),
             ],
         }
@@ -65,7 +70,8 @@ impl Metric for KerrSen {
         vec![self.a, self.b]
     }
     fn outer_horizon(&self) -> Option<f64> {
-        // b ≥ 1: the formula gives r₊ ≤ 0, on or inside the singular surface r(r + 2b) = 0.
+        // b ≥ 1: the formula gives r₊ ≤ 0, on or inside the singular surface r(r + 2b) = 0
+        // (b = 1, a = 0: r₊ = 0, a zero-area horizon on the singularity; module docs).
         if self.b >= 1.0 {
             return None;
         }

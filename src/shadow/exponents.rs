@@ -19,8 +19,13 @@ use crate::numerics::brent_root;
 use std::f64::consts::PI;
 
 /// Relative tolerance for "this radius is a circular photon orbit" (common practice, no
-/// source): |d ln(C/A)/dr| · r must be below it.
+/// source): |C′/C − A′/A| must be below it times |C′/C| + |A′/A|.
 const CIRCULAR_TOLERANCE: f64 = 1e-7;
+/// Largest estimated relative rounding error of a reported spherical Lyapunov exponent.
+const EXPONENT_ACCURACY: f64 = 1e-9;
+/// λ² counts as zero (a marginally stable orbit) below this times the size of its terms
+/// (common practice, no source).
+const MARGINAL_TOLERANCE: f64 = 1e-12;
 /// Relative tolerance for "R = R′ = 0 at this (r, λ, η)" (common practice, no source).
 const SPHERICAL_ORBIT_TOLERANCE: f64 = 1e-7;
 /// Cells of the coarse polar grid used to bracket the turning points of Θ.
@@ -62,7 +67,8 @@ fn not_applicable(spacetime: &dyn Spacetime, solver: &'static str, why: &str) ->
 /// of Cardoso et al. 2009 (Phys. Rev. D 79, 064016); Schwarzschild gives λ = 1/(3√3) and
 /// γ = π.
 ///
-/// Returns `BadRequest` if `r_c` is not a circular photon orbit (|r (ln C/A)′| > 1e-7) or the
+/// Returns `BadRequest` if `r_c` is not a circular photon orbit (|C′/C − A′/A| > 1e-7
+/// (|C′/C| + |A′/A|)) or the
 /// orbit is stable (λ² ≤ 0); `SolverNotApplicable` if the metric is not spherical.
 ///
 /// ```
@@ -114,22 +120,63 @@ pub fn spherical_lyapunov_frequency(
             "A, B, C must be positive and finite at r = {r_c} (A = {a}, B = {b}, C = {c})"
         )));
     }
-    let log_slope = c1 / c - a1 / a; // (ln C/A)′
-    if (log_slope * r_c.max(c.sqrt())).abs() > CIRCULAR_TOLERANCE {
+    // (ln C/A)′ = C′/C − A′/A vanishes on a circular orbit: relative to the size of its two
+    // terms, so that an orbit next to a singularity, where both are large and the rounding of
+    // their difference grows with them (JNW with ν near 1/2), is still recognised.
+    let log_slope = c1 / c - a1 / a;
+    let terms = (c1 / c).abs() + (a1 / a).abs();
+    if log_slope.abs() > CIRCULAR_TOLERANCE * terms {
         return Err(ShadowError::BadRequest(format!(
-            "r = {r_c} is not a circular photon orbit: r (ln C/A)' = {:e}",
-            log_slope * r_c
+            "r = {r_c} is not a circular photon orbit: (ln C/A)' = {log_slope:e}, relative \
+             to its terms {:e}",
+            log_slope / terms
         )));
     }
     let inv_a2 = 2.0 * a1 * a1 / (a * a * a) - a2 / (a * a);
     let inv_c2 = 2.0 * c1 * c1 / (c * c * c) - c2 / (c * c);
     let lyapunov_sq = a * a / (2.0 * b) * (inv_a2 - c / a * inv_c2);
+    // λ² = 0 to rounding (its two terms cancel): a marginally stable orbit, such as the
+    // throat of Simpson–Visser at l = 3 where the photon sphere r² + l² = 9 meets r = 0.
+    let marginal = a * a / (2.0 * b) * (inv_a2.abs() + (c / a * inv_c2).abs()) * MARGINAL_TOLERANCE;
+    if lyapunov_sq.abs() <= marginal {
+        return Err(ShadowError::BadRequest(format!(
+            "the photon orbit at r = {r_c} is marginally stable (lambda^2 = {lyapunov_sq:e}, \
+             zero to rounding): nearby rays depart from it as a power of time, not \
+             exponentially, so the Lyapunov and photon-ring exponents are undefined"
+        )));
+    }
     if !(lyapunov_sq > 0.0) {
         return Err(ShadowError::BadRequest(format!(
             "the photon orbit at r = {r_c} is stable (lambda^2 = {lyapunov_sq:e}): no photon-ring exponent"
         )));
     }
+    // Sensitivity to the last bits of r_c (which is located only to a few units in the last
+    // place, and next to a singular surface much less well): the spread of λ² over the
+    // neighbouring radii r_c(1 ± 8kε), k = 1, 2, must stay below the accuracy promised. Away
+    // from singularities it is ~1e-14; it grows like ε/(1 − b/r) next to one (JNW, ν → 1/2).
+    let spread = [-2.0, -1.0, 1.0, 2.0]
+        .iter()
+        .filter_map(|k| lyapunov_squared(spacetime, r_c * (1.0 + 8.0 * k * f64::EPSILON)))
+        .map(|l2| (l2 - lyapunov_sq).abs() / lyapunov_sq)
+        .fold(0.0, f64::max);
+    if spread > EXPONENT_ACCURACY {
+        return Err(ShadowError::NotConverged(format!(
+            "the Lyapunov exponent at r = {r_c} is ill-conditioned: it changes by {spread:.1e} \
+             (relative, in lambda^2) between neighbouring doubles of the orbit radius, more \
+             than {EXPONENT_ACCURACY:e} (the orbit lies next to a singular surface)"
+        )));
+    }
     Ok((lyapunov_sq.sqrt(), (a / c).sqrt()))
+}
+
+/// λ² of the formula of [`spherical_exponents`] at r, when A, B, C are regular there.
+fn lyapunov_squared(spacetime: &dyn Spacetime, r: f64) -> Option<f64> {
+    let jet = spacetime.spherical_jet(r)?;
+    let ([a, a1, a2], [b, _, _], [c, c1, c2]) = (jet.a, jet.b, jet.c);
+    let ok = [a, a1, a2, b, c, c1, c2].iter().all(|x| x.is_finite()) && a > 0.0 && c > 0.0;
+    let inv_a2 = 2.0 * a1 * a1 / (a * a * a) - a2 / (a * a);
+    let inv_c2 = 2.0 * c1 * c1 / (c * c * c) - c2 / (c * c);
+    ok.then(|| a * a / (2.0 * b) * (inv_a2 - c / a * inv_c2))
 }
 
 /// Demagnification exponent γ of the spherical photon orbit (r, λ, η) of a separable metric.

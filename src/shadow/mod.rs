@@ -20,6 +20,7 @@ pub use curve::CriticalCurve;
 pub use observer::Observer;
 
 use crate::metric::{Spacetime, Symmetry};
+use crate::numfmt::Num;
 use serde::Serialize;
 
 /// Most curve points a request may ask for (about 8 MB of radii per curve).
@@ -40,7 +41,10 @@ pub fn check_tolerance(tolerance: f64) -> Result<(), ShadowError> {
         Ok(())
     } else {
         Err(ShadowError::BadRequest(format!(
-            "the boundary tolerance must lie between {lo:e} and {hi:e} M, got {tolerance:e}"
+            "the boundary tolerance must lie between {} and {} M, got {}",
+            Num(lo),
+            Num(hi),
+            Num(tolerance)
         )))
     }
 }
@@ -173,6 +177,13 @@ pub struct Diagnostics {
     pub integrator_steps: usize,
     /// Wall-clock seconds.
     pub wall_seconds: f64,
+    /// Why `ShadowResult::exponents` is `None` although the solver computes photon-ring
+    /// exponents: the curve is well defined but its orbit has no exponent (e.g. a marginally
+    /// stable photon orbit, λ² = 0) or its evaluation failed. `None` when exponents are given
+    /// or the solver does not compute them. Not serialised here: front ends print it beside the
+    /// exponents.
+    #[serde(skip)]
+    pub exponents_undefined: Option<String>,
     /// What the ray tracer's checks found: where its search started, whether the tolerance
     /// is met (with an error estimate) and the winding growth beside the boundary (raytrace
     /// only, for a shadow).
@@ -190,6 +201,8 @@ pub struct ShadowResult {
     pub photon_orbit_radii: Option<[f64; 2]>,
     /// Every photon sphere found (spherical solver only).
     pub photon_spheres: Vec<PhotonSphere>,
+    /// Photon-ring exponents; `None` when the solver does not compute them or they are
+    /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
     pub diagnostics: Diagnostics,
 }
@@ -212,13 +225,14 @@ pub fn solve(
     {
         return Err(ShadowError::BadRequest(format!(
             "inclination must lie in [0, pi] radians, got {}",
-            observer.inclination
+            Num(observer.inclination)
         )));
     }
     if let Some(r) = observer.radius {
         if !(r.is_finite() && r > 0.0) {
             return Err(ShadowError::BadRequest(format!(
-                "observer radius must be a positive finite number, got {r}"
+                "observer radius must be a positive finite number, got {}",
+                Num(r)
             )));
         }
     }

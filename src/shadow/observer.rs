@@ -45,6 +45,7 @@
 
 use super::ShadowError;
 use crate::metric::Spacetime;
+use crate::numfmt::Num;
 use serde::Serialize;
 
 /// The observer: inclination from the spin axis (radians, 0 ≤ θ_o ≤ π) and, for an observer
@@ -77,13 +78,15 @@ impl Observer {
         let i = self.inclination;
         if !(i.is_finite() && (0.0..=std::f64::consts::PI).contains(&i)) {
             return Err(ShadowError::BadRequest(format!(
-                "the inclination must lie in [0, pi] radians, got {i}"
+                "the inclination must lie in [0, pi] radians, got {}",
+                Num(i)
             )));
         }
         if let Some(r) = self.radius {
             if !(r.is_finite() && r > 0.0) {
                 return Err(ShadowError::BadRequest(format!(
-                    "the observer radius must be a positive finite number, got {r}"
+                    "the observer radius must be a positive finite number, got {}",
+                    Num(r)
                 )));
             }
         }
@@ -199,7 +202,9 @@ pub fn momentum_from_celestial(
     let r_o = finite_radius(observer)?;
     if !(theta_c.is_finite() && psi_c.is_finite()) {
         return Err(ShadowError::BadRequest(format!(
-            "celestial angles must be finite, got ({theta_c}, {psi_c})"
+            "celestial angles must be finite, got ({}, {})",
+            Num(theta_c),
+            Num(psi_c)
         )));
     }
     let tetrad = zamo_tetrad(spacetime, r_o, observer.inclination)?;

@@ -38,12 +38,16 @@
 //! **Special cases.** (i) If R depends on λ and η only through η + λ² (a = 0: a spherical
 //! metric written in separable form) the orbits do not fix λ: a single photon sphere r_c at the
 //! minimum of K(r), R(r; 0, K) = 0, and the curve is parametrised by λ at η = K − λ².
-//! (ii) Near the axis (sin θ_o < 3e-8) only λ → 0 orbits reach the observer and the curve is
-//! the limit circle of radius √Θ(θ_o; 0, η*) about the axis, at the polar orbit λ = 0. Its
-//! error is O(θ_o) (the centre moves by ≈ 2θ_o M for Kerr a = 0.9), while the general path loses
-//! digits like ε/sin θ_o; the switch balances the two at ≈ 1e-7 M. Between the switch and
-//! sin θ_o ≈ 1e-6 the general path may therefore miss a tolerance of 1e-8 M and report
-//! `NotConverged`.
+//! (ii) Near the axis (sin θ_o < 10⁻², 0.57°) the admissible orbits have λ in a small
+//! interval about 0 of width ∝ sin θ_o, and r(λ) crowds about the polar orbit; dividing a λ(r)
+//! computed from r by sin θ_o would lose digits like ε/sin θ_o (the tolerance of 1e-8 M was
+//! missed from about 1e-6° to 1e-3°). There the curve is parametrised by λ itself: each orbit
+//! solves R = ∂_r R = 0 for (r, η) at its λ by Newton's method from the polar orbit (λ = 0),
+//! so α = −λ/sin θ_o is exact and β² = Θ(θ_o; λ, η) is accurate to rounding, down to
+//! θ_o = 10⁻¹⁰⁰. The centre moves off the axis by O(θ_o) (≈ 2θ_o M for Kerr a = 0.9), which
+//! this resolves. Exactly on the axis (θ_o = 0 or π) the curve is the circle of radius
+//! √Θ(θ_o; 0, η*) of the polar orbit. For a degenerate metric (i) the curve below
+//! sin θ_o = 3e-8 is the photon sphere's circle, exactly.
 //! (iii) A metric without a horizon gives `NoShadow`: without capture the photon orbits need not
 //! bound a dark region (use the raytracer).
 //! (iv) γ (`exponents`, from [`separable_gamma`]) ranges over the orbits of the curve: nine
@@ -75,10 +79,17 @@ use crate::numerics::brent_root;
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
 
-/// Below this sin θ_o the face-on limit circle is used.
+/// Below this sin θ_o a degenerate (spherically symmetric) metric's curve is the circle of
+/// the photon sphere, exactly.
 const FACE_ON_SIN: f64 = 3e-8;
+/// Below this sin θ_o (0.57°) the curve is parametrised by λ rather than by r (module docs).
+const NEAR_AXIS_SIN: f64 = 1e-2;
 /// Points of the β²(r) scan outside the horizon.
 const SCAN_POINTS: usize = 240;
+/// The scan starts this far outside the horizon (times max(r_h, 1)).
+const HORIZON_OFFSET: f64 = 1e-6;
+/// Points of the rescan of the first cell, uniform in ln(r − r_h) (degenerate metrics).
+const NEAR_HORIZON_POINTS: usize = 240;
 /// Intervals of the Chebyshev table of ψ(s) that brackets each screen angle.
 const TABLE_INTERVALS: usize = 64;
 /// Intervals of the first grid on which the ring exponent γ is evaluated.
@@ -172,6 +183,9 @@ enum Family {
     Radius,
     /// A single photon sphere r_c with η + λ² = K, parametrised by s = λ.
     Degenerate { r_c: f64, k: f64 },
+    /// Near the axis: by s = λ, each orbit solved for (r, η) by Newton's method from the
+    /// polar orbit (r₀, η₀) at λ = 0.
+    Lambda { r0: f64, eta0: f64 },
 }
 
 /// Θ(θ_o; λ, η) as an exact quadratic in (λ, η) when the metric's polar potential is one.
@@ -185,7 +199,12 @@ struct Problem<'a> {
     spacetime: &'a dyn Spacetime,
     polar: PolarAtObserver,
     screen: Screen,
+    /// sin θ_o below [`FACE_ON_SIN`]: a degenerate (spherical) metric's curve is the circle.
     face_on: bool,
+    /// sin θ_o below [`NEAR_AXIS_SIN`]: the curve is parametrised by λ (module docs).
+    near_axis: bool,
+    /// θ_o is 0 or π: the curve is the circle of the polar orbit.
+    on_axis: bool,
     /// Set once the radial potential has been verified to be exactly quadratic in (λ, η).
     exact_quadratic: std::cell::Cell<bool>,
     /// Whether to compute the γ range.
@@ -334,6 +353,10 @@ impl<'a> Problem<'a> {
         let theta_p = theta_o.max(1e-100);
         let sin_o = theta_p.sin();
         let face_on = sin_o < FACE_ON_SIN;
+        let near_axis = sin_o < NEAR_AXIS_SIN;
+        // Exactly on the axis (θ_o = 0 or π as given; sin π rounds to 1.2e-16) the curve is
+        // the circle of the polar orbit.
+        let on_axis = theta_o == 0.0 || theta_o == PI;
         let screen = match observer.radius {
             None => Screen::Distant { sin_o },
             Some(r_o) => {
@@ -352,6 +375,8 @@ impl<'a> Problem<'a> {
             polar: PolarAtObserver::new(spacetime, theta_p)?,
             screen,
             face_on,
+            near_axis,
+            on_axis,
             exact_quadratic: std::cell::Cell::new(false),
             with_exponents,
         })
@@ -523,6 +548,7 @@ impl<'a> Problem<'a> {
                 lambda: s,
                 eta: k - s * s,
             }),
+            Family::Lambda { r0, eta0 } => self.orbit_at_lambda(s, r0, eta0),
         }
     }
 
@@ -578,7 +604,7 @@ impl<'a> Problem<'a> {
 
     /// Scan radii from just outside the outer horizon r_h to max(12, 4 r_h).
     fn scan_grid(r_h: f64) -> (f64, Vec<f64>) {
-        let r_lo = r_h + 1e-6 * r_h.max(1.0);
+        let r_lo = r_h + HORIZON_OFFSET * r_h.max(1.0);
         let r_hi = (4.0 * r_lo).max(12.0);
         let grid = (0..SCAN_POINTS)
             .map(|i| r_lo + (r_hi - r_lo) * i as f64 / (SCAN_POINTS - 1) as f64)
@@ -600,7 +626,7 @@ impl<'a> Problem<'a> {
         let (r_lo, grid) = Self::scan_grid(r_h);
         self.exact_quadratic.set(self.radial_is_quadratic(r_lo)?);
         if self.is_degenerate(r_lo)? {
-            return self.run_degenerate(&grid, settings);
+            return self.run_degenerate(&grid, r_h, settings);
         }
         // β²(r), with −∞ where no spherical orbit exists.
         let beta2_at = |r: f64| -> Result<f64, ShadowError> {
@@ -609,8 +635,8 @@ impl<'a> Problem<'a> {
                 None => Ok(f64::NEG_INFINITY),
             }
         };
-        if self.face_on {
-            return self.run_face_on(&grid, settings);
+        if self.near_axis {
+            return self.run_near_axis(&grid, settings);
         }
         let mut values = Vec::with_capacity(grid.len());
         for &r in &grid {
@@ -681,16 +707,33 @@ impl<'a> Problem<'a> {
     fn run_degenerate(
         &self,
         grid: &[f64],
+        r_h: f64,
         settings: &ShadowSettings,
     ) -> Result<ShadowResult, ShadowError> {
         // The photon sphere is the minimum of K(r) = η + λ² over r (Synge 1966).
-        let mut ks = Vec::with_capacity(grid.len());
-        for &r in grid {
-            ks.push(self.degenerate_k(r)?);
+        let minimum = |grid: &[f64]| -> Result<Option<usize>, ShadowError> {
+            let mut ks = Vec::with_capacity(grid.len());
+            for &r in grid {
+                ks.push(self.degenerate_k(r)?);
+            }
+            Ok((0..grid.len())
+                .filter(|&i| ks[i] > 0.0)
+                .min_by(|&i, &j| ks[i].total_cmp(&ks[j])))
+        };
+        let mut i_min = minimum(grid)?;
+        let fine;
+        let mut grid = grid;
+        if i_min == Some(0) {
+            // The minimum lies in the first cell, next to the horizon (e.g. Kerr–Sen with b
+            // near 1, whose photon sphere approaches the horizon like √(1 − b)): rescan that
+            // cell on a grid uniform in ln(r − r_h), from 1e-12 of the radius.
+            let (near, far) = (1e-12 * r_h.max(1.0), grid[1] - r_h);
+            fine = (0..=NEAR_HORIZON_POINTS)
+                .map(|j| r_h + near * (far / near).powf(j as f64 / NEAR_HORIZON_POINTS as f64))
+                .collect::<Vec<f64>>();
+            grid = &fine;
+            i_min = minimum(grid)?;
         }
-        let i_min = (0..grid.len())
-            .filter(|&i| ks[i] > 0.0)
-            .min_by(|&i, &j| ks[i].total_cmp(&ks[j]));
         let Some(i_min) = i_min.filter(|&i| i > 0 && i + 1 < grid.len()) else {
             return Ok(no_shadow(
                 "K(r) = eta + lambda^2 has no minimum outside the horizon: no photon sphere".into(),
@@ -745,10 +788,15 @@ impl<'a> Problem<'a> {
         self.finish(sampled, [r_c, r_c])
     }
 
-    /// Face-on: the polar orbit (λ = 0) and its limit circle. With λ = 0 a root of the
-    /// quadratic of [`Self::orbit_at_radius`], its constant term d·e0 − f·c0 vanishes at r*:
-    /// a smooth function of r, free of the choice between the two roots.
-    fn run_face_on(
+    /// Near the axis (sin θ_o < 10⁻², including θ_o = 0 and π): the curve parametrised by λ.
+    ///
+    /// The polar orbit r₀ (λ = 0) is a root of the constant term d·e0 − f·c0 of the quadratic
+    /// of [`Self::orbit_at_radius`] (a smooth function of r, free of the choice between its two
+    /// roots). The admissible λ form a small interval about 0 (of width ∝ sin θ_o), found by
+    /// stepping outwards in λ until β² = Θ(θ_o; λ, η(λ)) < 0 and refined by Brent's method;
+    /// each orbit solves R = ∂_r R = 0 for (r, η) at its λ. So α = −λ/sin θ_o carries no
+    /// rounding from λ, where the radius parametrisation loses digits like ε/sin θ_o.
+    fn run_near_axis(
         &self,
         grid: &[f64],
         settings: &ShadowSettings,
@@ -777,37 +825,81 @@ impl<'a> Problem<'a> {
                 }
             }
         }
-        let orbit = match candidates.as_slice() {
-            [] => {
-                return Ok(no_shadow(
-                    "no spherical photon orbit with lambda = 0 reaches the axis".into(),
-                ))
-            }
-            [orbit] => *orbit,
-            _ => {
-                return Err(not_converged(
-                    "several polar photon orbits: not supported by the separable solver".into(),
-                ))
-            }
+        let polar =
+            match candidates.as_slice() {
+                [] => return Ok(no_shadow(
+                    "no spherical photon orbit with lambda = 0 reaches the observer near the axis"
+                        .into(),
+                )),
+                [orbit] => *orbit,
+                _ => {
+                    return Err(not_converged(
+                        "several polar photon orbits: not supported by the separable solver".into(),
+                    ))
+                }
+            };
+        if self.on_axis {
+            self.require_observer_outside(polar.r)?;
+            return self.face_on_circle(polar, [polar.r, polar.r], settings);
+        }
+        let family = Family::Lambda {
+            r0: polar.r,
+            eta0: polar.eta,
         };
-        self.require_observer_outside(orbit.r)?;
-        self.face_on_circle(orbit, [orbit.r, orbit.r], settings)
+        let b2 = |l: f64| -> Result<f64, ShadowError> {
+            let o = self.orbit(family, l)?;
+            self.beta_squared(o.lambda, o.eta)
+        };
+        let centre = b2(0.0)?;
+        // α = −λ/sin θ_o is of the size of the curve: start well inside it.
+        let sin_o = self.polar.theta.sin();
+        let first_step = 1e-3 * centre.sqrt() * sin_o;
+        let mut ends = [0.0; 2];
+        for (end, sign) in ends.iter_mut().zip([-1.0, 1.0]) {
+            let (mut inner, mut step) = (0.0, first_step);
+            while b2(sign * step)? > 0.0 {
+                inner = sign * step;
+                step *= 2.0;
+                if step > 1e3 * (centre.sqrt() + 1.0) {
+                    return Err(not_converged(
+                        "unbounded range of lambda near the axis".into(),
+                    ));
+                }
+            }
+            *end = root(&b2, inner, sign * step, "the end of the lambda range")?;
+        }
+        let (lo, hi) = (self.orbit(family, ends[0])?, self.orbit(family, ends[1])?);
+        let radii = [lo.r.min(hi.r).min(polar.r), lo.r.max(hi.r).max(polar.r)];
+        self.require_observer_outside(radii[1])?;
+        let sampled = self.sample(family, ends[0], ends[1], settings)?;
+        self.finish(sampled, radii)
     }
 
-    /// The λ = 0 spherical orbit near r: Newton's method in (r, η) on R = ∂_r R = 0.
+    /// The λ = 0 spherical orbit near r: see [`Self::orbit_at_lambda`].
     fn polar_orbit(&self, r0: f64) -> Result<SphericalOrbit, ShadowError> {
         let m = self.radial_model(r0)?;
-        let (mut r, mut eta) = (r0, -m.r[0] / m.r[3]);
+        self.orbit_at_lambda(0.0, r0, -m.r[0] / m.r[3])
+    }
+
+    /// The spherical orbit with this λ near (r₀, η₀): Newton's method in (r, η) on
+    /// R = ∂_r R = 0 with the exact Jacobian from the radial potential's jet.
+    fn orbit_at_lambda(
+        &self,
+        lambda: f64,
+        r0: f64,
+        eta0: f64,
+    ) -> Result<SphericalOrbit, ShadowError> {
+        let (mut r, mut eta) = (r0, eta0);
         let mut last_step = f64::INFINITY;
         for _ in 0..MAX_NEWTON {
-            let j = self.radial(r, 0.0, eta)?;
+            let j = self.radial(r, lambda, eta)?;
             let (f0, f1) = (j.value, j.gradient[0]);
             let (a11, a12) = (j.gradient[0], j.gradient[2]);
             let (a21, a22) = (j.hessian[0][0], j.hessian[0][2]);
             let det = a11 * a22 - a12 * a21;
             if det == 0.0 || !det.is_finite() {
                 return Err(not_converged(format!(
-                    "singular Jacobian for the polar photon orbit near r = {r}"
+                    "singular Jacobian for the spherical photon orbit with lambda = {lambda} near r = {r}"
                 )));
             }
             let dr = (f0 * a22 - a12 * f1) / det;
@@ -819,15 +911,11 @@ impl<'a> Problem<'a> {
             let done = step <= 1e-15 || (step < 1e-9 && step >= 0.5 * last_step);
             last_step = step;
             if done {
-                return Ok(SphericalOrbit {
-                    r,
-                    lambda: 0.0,
-                    eta,
-                });
+                return Ok(SphericalOrbit { r, lambda, eta });
             }
         }
         Err(not_converged(format!(
-            "Newton's method for the polar photon orbit near r = {r0} did not converge"
+            "Newton's method for the spherical photon orbit with lambda = {lambda} near r = {r0} did not converge"
         )))
     }
 
@@ -1029,13 +1117,16 @@ impl<'a> Problem<'a> {
     }
 
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
-        // The curve does not depend on γ: `None` if any evaluation fails.
-        let exponents = if !self.with_exponents {
-            None
+        // The curve does not depend on γ: `None`, with the reason, if any evaluation fails.
+        let (range, undefined) = if !self.with_exponents {
+            (None, None)
         } else {
-            self.gamma_range(&sampled.gamma_source).ok()
-        }
-        .map(|(lo, hi)| RingExponents {
+            match self.gamma_range(&sampled.gamma_source) {
+                Ok(r) => (Some(r), None),
+                Err(e) => (None, Some(format!("photon-ring exponent undefined: {e}"))),
+            }
+        };
+        let exponents = range.map(|(lo, hi)| RingExponents {
             lyapunov: None,
             gamma_min: lo,
             gamma_max: hi,
@@ -1053,6 +1144,7 @@ impl<'a> Problem<'a> {
             diagnostics: Diagnostics {
                 star_shaped: sampled.star_shaped,
                 extra_crossings: sampled.extra_crossings,
+                exponents_undefined: undefined,
                 ..Diagnostics::default()
             },
         })

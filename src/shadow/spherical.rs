@@ -35,6 +35,10 @@ const SCAN_POINTS: usize = 8000;
 const HORIZON_MARGIN: f64 = 1.0e-9;
 /// Fewest curve points accepted.
 const MIN_POINTS: usize = 4;
+/// Closest relative approach to the inner boundary, r_s(1 + this).
+const APPROACH_NEAREST: f64 = 1.0e-14;
+/// Grid points per decade of r − r_s when approaching the inner boundary.
+const APPROACH_PER_DECADE: f64 = 40.0;
 
 /// The extrema of C/A and the one that bounds capture.
 #[derive(Debug, Clone, PartialEq)]
@@ -69,15 +73,107 @@ fn not_spherical(spacetime: &dyn Spacetime) -> ShadowError {
     }
 }
 
+/// Walks inward over radii, recording every sign change of (ln C/A)′ as a photon sphere.
+struct Scan<'a> {
+    spacetime: &'a dyn Spacetime,
+    spheres: Vec<PhotonSphere>,
+    /// The last radius examined and (ln C/A)′ there.
+    r_prev: f64,
+    g_prev: f64,
+    /// (r, C/A, (ln C/A)′) at the innermost regular radius examined.
+    boundary: (f64, f64, f64),
+}
+
+impl Scan<'_> {
+    /// Examine `r` (inside the last radius): `Ok(false)` where A, B, C stop being positive
+    /// and finite (nothing recorded), else record a sign change between `r` and the last
+    /// radius, refined by Brent's method.
+    fn step(&mut self, r: f64) -> Result<bool, ShadowError> {
+        let Some((value, g)) = potential(self.spacetime, r) else {
+            return Ok(false);
+        };
+        let (r_prev, g_prev) = (self.r_prev, self.g_prev);
+        if (g_prev > 0.0 && g <= 0.0) || (g_prev < 0.0 && g >= 0.0) {
+            let spacetime = self.spacetime;
+            let slope = |x: f64| potential(spacetime, x).map_or(f64::NAN, |p| p.1);
+            let root = brent_root(slope, r, r_prev, 0.0).map_err(|e| {
+                ShadowError::NotConverged(format!(
+                    "photon sphere between r = {r} and {r_prev}: {e}"
+                ))
+            })?;
+            let (ratio_ca, _) = potential(spacetime, root).ok_or_else(|| {
+                ShadowError::NotConverged(format!(
+                    "metric not regular at the photon sphere r = {root}"
+                ))
+            })?;
+            self.spheres.push(PhotonSphere {
+                radius: root,
+                impact_parameter: ratio_ca.sqrt(),
+                unstable: g_prev > 0.0,
+            });
+        }
+        self.boundary = (r, value, g);
+        self.r_prev = r;
+        self.g_prev = g;
+        Ok(true)
+    }
+
+    /// Scan the gap between the last radius and an inner boundary `r_s` (a horizon or a
+    /// singular surface) on a grid uniform in ln(r − r_s), down to `r_in` (> r_s) or to
+    /// where the metric stops being regular. Resolves extrema of C/A arbitrarily close to
+    /// r_s, which a grid in ln r misses when they fall in its last cell.
+    fn approach(&mut self, r_s: f64, r_in: f64) -> Result<(), ShadowError> {
+        let (far, near) = (self.r_prev - r_s, r_in - r_s);
+        if !(far > near && near > 0.0) {
+            return Ok(());
+        }
+        let decades = (far / near).log10();
+        let steps = ((decades * APPROACH_PER_DECADE).ceil() as usize).max(1);
+        for j in 1..=steps {
+            let d = if j == steps {
+                near
+            } else {
+                far * (near / far).powf(j as f64 / steps as f64)
+            };
+            if !self.step(r_s + d)? {
+                break;
+            }
+        }
+        Ok(())
+    }
+}
+
+/// The boundary between regular radii (`valid`) and irregular ones (`invalid < valid`), by
+/// bisection to adjacent doubles: (last irregular, first regular).
+fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> (f64, f64) {
+    for _ in 0..200 {
+        let mid = 0.5 * (invalid + valid);
+        if mid <= invalid || mid >= valid {
+            break;
+        }
+        if potential(spacetime, mid).is_some() {
+            valid = mid;
+        } else {
+            invalid = mid;
+        }
+    }
+    (invalid, valid)
+}
+
 /// Find every photon sphere (root of (C/A)′ = 0) outside the horizon or inner boundary, and
 /// the one that bounds capture.
 ///
 /// (ln C/A)′ = C′/C − A′/A is evaluated exactly (dual numbers, via
 /// [`Spacetime::spherical_jet`]) on a logarithmic grid of 8000 radii from 10⁴ inward to just
-/// outside the horizon (or, without a horizon, to where A, B, C stop being positive and finite,
-/// at most to 10⁻⁶); every sign change is refined by Brent's method to full double precision.
-/// A change from − (inside) to + (outside) is a minimum of C/A: an unstable photon sphere.
-/// Two extrema closer together than one grid cell (0.3% in r) are not resolved.
+/// outside the horizon, r_h(1 + 10⁻⁹) (or, without a horizon, to where A, B, C stop being
+/// positive and finite, at most to 10⁻⁶). The gap between the last grid radius and the inner
+/// boundary r_s (the horizon, or the singular surface located by bisection) is then scanned on
+/// a grid uniform in ln(r − r_s), down to r_s + 10⁻¹⁴ r_s, so that a photon sphere right next
+/// to a singularity (JNW with ν just above 1/2) or to a horizon is not missed. Every sign
+/// change is refined by Brent's method to full double precision. A change from negative
+/// (inside) to positive (outside) is a minimum of C/A: an unstable photon sphere. Two extrema
+/// closer together than one grid cell (0.3% in r, or 1/40 of a decade in r − r_s near the
+/// boundary) are not resolved.
 ///
 /// ```
 /// use umbral::prelude::*;
@@ -116,46 +212,43 @@ pub fn photon_sphere_analysis(
             "C/A does not grow outward at r = {R_FAR} (C/A = {far_value:e}): not asymptotically flat"
         )));
     }
-    let slope = |r: f64| potential(spacetime, r).map_or(f64::NAN, |p| p.1);
     let ratio = (r_stop / R_FAR).powf(1.0 / (SCAN_POINTS - 1) as f64);
-    let mut spheres = Vec::new();
-    let (mut r_prev, mut g_prev) = (R_FAR, far_slope);
-    let mut boundary = (R_FAR, far_value, far_slope);
+    let mut scan = Scan {
+        spacetime,
+        spheres: Vec::new(),
+        r_prev: R_FAR,
+        g_prev: far_slope,
+        boundary: (R_FAR, far_value, far_slope),
+    };
+    let mut irregular = None;
     for i in 1..SCAN_POINTS {
         let r = if i == SCAN_POINTS - 1 {
             r_stop
         } else {
             R_FAR * ratio.powi(i as i32)
         };
-        let Some((value, g)) = potential(spacetime, r) else {
-            break; // inner boundary of a horizonless metric
-        };
-        if (g_prev > 0.0 && g <= 0.0) || (g_prev < 0.0 && g >= 0.0) {
-            let root = brent_root(slope, r, r_prev, 0.0).map_err(|e| {
-                ShadowError::NotConverged(format!(
-                    "photon sphere between r = {r} and {r_prev}: {e}"
-                ))
-            })?;
-            let (ratio_ca, _) = potential(spacetime, root).ok_or_else(|| {
-                ShadowError::NotConverged(format!(
-                    "metric not regular at the photon sphere r = {root}"
-                ))
-            })?;
-            spheres.push(PhotonSphere {
-                radius: root,
-                impact_parameter: ratio_ca.sqrt(),
-                unstable: g_prev > 0.0,
-            });
+        if !scan.step(r)? {
+            irregular = Some(r); // inner boundary of a horizonless metric
+            break;
         }
-        boundary = (r, value, g);
-        r_prev = r;
-        g_prev = g;
     }
-    let (inner_boundary, boundary_value, boundary_slope) = boundary;
+    // The last cell, down to the horizon or the singular surface.
+    match (horizon, irregular) {
+        (Some(h), _) => scan.approach(h, h * (1.0 + APPROACH_NEAREST))?,
+        (None, Some(r_bad)) => {
+            let (r_s, first_regular) = regular_edge(spacetime, r_bad, scan.r_prev);
+            scan.approach(r_s, first_regular.max(r_s * (1.0 + APPROACH_NEAREST)))?;
+        }
+        (None, None) => {}
+    }
+    let reached_floor = horizon.is_none() && irregular.is_none();
+    let spheres = scan.spheres;
+    let (inner_boundary, boundary_value, boundary_slope) = scan.boundary;
     // A regular throat at r = 0 of a metric even in r (a wormhole such as Simpson–Visser with
     // l > 2): (C/A)′(0) = 0 exactly, so when C/A still falls towards it the throat is the
     // minimum of C/A, and rays that pass it go through to the other side and do not return.
-    if horizon.is_none() && inner_boundary == r_stop && boundary_slope > 0.0 {
+    let mut spheres = spheres;
+    if reached_floor && boundary_slope > 0.0 {
         if let Some((throat_value, throat_slope)) = potential(spacetime, 0.0) {
             if throat_slope == 0.0 && throat_value < boundary_value {
                 spheres.push(PhotonSphere {
@@ -309,12 +402,18 @@ pub fn solve(
         None => b_c,
         Some(r_o) => b_c * observer_view(spacetime, &analysis, b_c, r_o)?.1,
     };
-    let exponents = spherical_exponents(spacetime, capture.radius).map_err(|e| {
-        ShadowError::NotConverged(format!(
-            "photon-ring exponents at r = {}: {e}",
-            capture.radius
-        ))
-    })?;
+    // The curve does not depend on the exponents: an orbit without one (e.g. marginally
+    // stable) still casts this shadow, and the exponent is reported as undefined.
+    let (exponents, undefined) = match spherical_exponents(spacetime, capture.radius) {
+        Ok(e) => (Some(e), None),
+        Err(e) => (
+            None,
+            Some(format!(
+                "photon-ring exponents undefined at r = {}: {e}",
+                capture.radius
+            )),
+        ),
+    };
     Ok(ShadowResult {
         solver: SolverKind::Spherical,
         status: ShadowStatus::Shadow,
@@ -324,7 +423,10 @@ pub fn solve(
         }),
         photon_orbit_radii: Some([capture.radius, capture.radius]),
         photon_spheres: analysis.spheres,
-        exponents: Some(exponents),
-        diagnostics: diagnostics(start),
+        exponents,
+        diagnostics: Diagnostics {
+            exponents_undefined: undefined,
+            ..diagnostics(start)
+        },
     })
 }

@@ -9,9 +9,11 @@ use super::report::CheckRow;
 use super::schema::{expectation, Expectation, RawExpectation};
 use crate::bounds::{
     bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    MAX_INITIAL_GRID,
 };
 use crate::measurement::{DerivedRadii, Measurement};
 use crate::metrics::build_metric;
+use crate::shadow::MAX_POINTS;
 use serde::Deserialize;
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -158,14 +160,18 @@ impl BoundCase {
         if let Some(t) = raw.parameter_tolerance {
             settings.parameter_tolerance = t;
         }
-        if settings.shadow.points < 8
-            || !(settings.shadow.tolerance > 0.0 && settings.shadow.tolerance.is_finite())
-            || settings.initial_grid < 3
-            || !(settings.parameter_tolerance > 0.0 && settings.parameter_tolerance.is_finite())
-        {
-            return Err(label(
-                "need points >= 8, initial_grid >= 3 and positive finite tolerances".into(),
-            ));
+        let points_ok = (8..=MAX_POINTS).contains(&settings.shadow.points);
+        let grid_ok = (3..=MAX_INITIAL_GRID).contains(&settings.initial_grid);
+        crate::shadow::check_tolerance(settings.shadow.tolerance)
+            .map_err(|e| label(format!("{e}")))?;
+        let positive = |t: f64| t > 0.0 && t.is_finite();
+        let tolerances_ok = positive(settings.parameter_tolerance);
+        if !(points_ok && grid_ok && tolerances_ok) {
+            return Err(label(format!(
+                "need points from 8 to {MAX_POINTS}, initial_grid from 3 to {MAX_INITIAL_GRID} \
+                 and positive finite tolerances (got points = {}, initial_grid = {})",
+                settings.shadow.points, settings.initial_grid
+            )));
         }
         if let Some(c) = raw.circularity_max {
             if !(c.is_finite() && c > 0.0) {

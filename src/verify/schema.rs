@@ -306,11 +306,7 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
         )));
     }
     let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
-    if !(tolerance.is_finite() && tolerance > 0.0) {
-        return Err(label(format!(
-            "boundary_tolerance must be a positive finite number, got {tolerance}"
-        )));
-    }
+    crate::shadow::check_tolerance(tolerance).map_err(|e| label(format!("{e}")))?;
     let solver = match raw.solver.unwrap_or(SolverName::Auto) {
         SolverName::Auto => SolverChoice::Auto,
         SolverName::Spherical => SolverChoice::Spherical,
@@ -401,7 +397,7 @@ impl ChecksFile {
     /// Read and validate a checks file.
     pub fn load(path: impl AsRef<Path>) -> Result<ChecksFile, VerifyError> {
         let path = path.as_ref();
-        let text = std::fs::read_to_string(path).map_err(|e| VerifyError::Invalid {
+        let text = crate::input::read_text(path).map_err(|e| VerifyError::Invalid {
             path: path.to_path_buf(),
             message: format!("cannot read: {e}"),
         })?;
