@@ -279,7 +279,11 @@ fn raytrace_johannsen_a0_9_alpha13_m2_95_searches_from_inside_the_shadow() {
     assert_eq!(tracer.trace(start[0], start[1]).fate, RayFate::Captured);
     match report.into_result() {
         Err(ShadowError::NotConverged(message)) => {
-            assert!(message.contains("rays failed"), "{message}")
+            assert!(message.contains("rays failed"), "{message}");
+            assert!(
+                message.contains("the search started from the captured point"),
+                "{message}"
+            );
         }
         other => panic!("expected failed rays at the singular surface, got {other:?}"),
     }

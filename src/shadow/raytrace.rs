@@ -1200,9 +1200,17 @@ impl RaytraceReport {
         };
         if let Some(failure) = self.first_failure() {
             let bad_angles = self.lines.iter().filter(|l| l.failure.is_some()).count();
+            let start = match &self.search_start {
+                Some((p, _)) if *p != [0.0, 0.0] => format!(
+                    " (the screen-centre ray escapes; the search started from the captured \
+                     point ({}, {}))",
+                    p[0], p[1]
+                ),
+                _ => String::new(),
+            };
             return Err(ShadowError::NotConverged(format!(
                 "ray tracing did not converge: {} of {} rays failed, {} of {} curve angles have \
-                 no converged boundary; first failure: {failure}",
+                 no converged boundary; first failure: {failure}{start}",
                 self.diagnostics.failed_rays,
                 self.diagnostics.rays_traced,
                 bad_angles,
