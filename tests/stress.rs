@@ -97,6 +97,11 @@ const MAY_BE_NULL: &[&str] = &[
     "photon_orbit_radii",
     "reason",
     "celestial",
+    // The ray tracer's checks: absent for the exact solvers; the error estimate and its note
+    // are absent when the tolerance is met or no estimate could be made (then labelled).
+    "raytrace",
+    "estimated_error",
+    "accuracy_note",
 ];
 
 fn nulls(v: &Value, path: &str, out: &mut Vec<String>) {
