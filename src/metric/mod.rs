@@ -9,6 +9,7 @@
 //! with all five components functions of `(r, θ)` alone. That is all a user writes.
 
 mod components;
+mod exterior;
 mod horizon;
 mod info;
 mod regularity;
@@ -17,6 +18,7 @@ mod spacetime;
 mod spherical;
 
 pub use components::{InverseComponents, MetricComponents};
+pub use exterior::{exterior_singularity, relative_sensitivity, SingularSurface};
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
 pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};

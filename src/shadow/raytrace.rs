@@ -1363,6 +1363,11 @@ pub fn solve_with(
     settings: &ShadowSettings,
     options: &RaytraceOptions,
 ) -> Result<ShadowResult, ShadowError> {
+    observer.validate()?;
+    check_tolerance(settings.tolerance)?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Raytrace) {
+        return Ok(result);
+    }
     trace_curve(spacetime, observer, settings, options)?.into_result()
 }
 

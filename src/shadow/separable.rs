@@ -157,6 +157,9 @@ fn solve_with(
             settings.tolerance
         )));
     }
+    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Separable) {
+        return Ok(result);
+    }
     let problem = Problem::new(spacetime, observer, with_exponents)?;
     let mut result = problem.run(settings)?;
     result.diagnostics.wall_seconds = start.elapsed().as_secs_f64();

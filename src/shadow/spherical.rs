@@ -378,6 +378,12 @@ pub fn solve(
             settings.points
         )));
     }
+    if spacetime.symmetry() != Symmetry::Spherical {
+        return Err(not_spherical(spacetime));
+    }
+    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Spherical) {
+        return Ok(result);
+    }
     let analysis = photon_sphere_analysis(spacetime)?;
     let diagnostics = |start: Instant| Diagnostics {
         star_shaped: true,
