@@ -37,7 +37,7 @@
 //! assert!(exterior_singularity(&Kerr::new(0.9).unwrap(), 1.0e3).is_none());
 //! ```
 
-use super::{check_point, Spacetime, POINT_SENSITIVITY_LIMIT};
+use super::{check_point, PointProblem, Spacetime, POINT_SENSITIVITY_LIMIT};
 use crate::numfmt::Num;
 use std::f64::consts::PI;
 use std::fmt;
@@ -242,7 +242,7 @@ fn signature_change<S: Spacetime + ?Sized>(
     }
     for s in [lo, hi] {
         if let Err(p) = check_point(m, s.r, theta) {
-            return (s.r, p.to_string());
+            return (s.r, describe(&p));
         }
     }
     (
@@ -317,7 +317,7 @@ fn pole<S: Spacetime + ?Sized>(
     for _ in 0..4 {
         if let Err(p) = check_point(m, r, theta) {
             if p.is_singular() {
-                return Some((r, p.to_string()));
+                return Some((r, describe(&p)));
             }
         }
         r = r.next_up();
@@ -326,10 +326,24 @@ fn pole<S: Spacetime + ?Sized>(
     for _ in 0..3 {
         if let Err(p) = check_point(m, r, theta) {
             if p.is_singular() {
-                return Some((r, p.to_string()));
+                return Some((r, describe(&p)));
             }
         }
         r = r.next_down();
     }
     None
+}
+
+/// What [`check_point`] found, in words that print no non-finite number (an infinite
+/// component "diverges").
+fn describe(p: &PointProblem) -> String {
+    match p {
+        PointProblem::NotFinite { quantity, value } if value.is_nan() => {
+            format!("{quantity} is not a number")
+        }
+        PointProblem::NotFinite { quantity, .. } => {
+            format!("{quantity} diverges (it is not a finite number)")
+        }
+        other => other.to_string(),
+    }
 }
