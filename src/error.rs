@@ -38,4 +38,45 @@ pub enum MetricError {
     /// A point outside the coordinate range.
     #[error("{what}")]
     BadPoint { what: String },
+    /// A metric was given the wrong number of parameter values.
+    #[error("metric '{metric}' takes {expected} parameter values ({names}), got {got}")]
+    ParameterCount {
+        metric: String,
+        expected: usize,
+        names: String,
+        got: usize,
+    },
+    /// A computation needs a structure (spherical symmetry, separation data) that the metric
+    /// does not declare in its [`Capabilities`](crate::metric::Capabilities).
+    #[error("metric '{metric}' does not declare {structure}")]
+    NotDeclared {
+        metric: String,
+        structure: &'static str,
+    },
+    /// The metric declares a structure but the hook that provides it returns nothing: an
+    /// inconsistent metric, never a silent fallback to another solver.
+    #[error("metric '{metric}' declares {structure} but its {hook} returns nothing")]
+    MissingHook {
+        metric: String,
+        structure: &'static str,
+        hook: &'static str,
+    },
+    /// A metric file's closed-form horizon is not a zero of g^rr at these parameters.
+    #[error(
+        "metric file '{metric}': its horizon expression gives r = {radius}, where g^rr = \
+         {g_rr_inverse:e} instead of 0"
+    )]
+    HorizonNotAZero {
+        metric: String,
+        radius: f64,
+        g_rr_inverse: f64,
+    },
+    /// A metric file's separation data do not belong to its line element at these parameters.
+    #[error("metric file '{metric}'{at}: {problem}")]
+    SeparationMismatch {
+        metric: String,
+        /// ` at a = 0.5, …`, or empty at the defaults.
+        at: String,
+        problem: String,
+    },
 }

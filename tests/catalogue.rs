@@ -184,13 +184,13 @@ fn horizons_of_the_spherical_catalogue() {
     let tc = TidalCharge::new(-0.6).unwrap();
     assert!((numerical_outer_horizon(&tc).unwrap() - (1.0 + 1.6f64.sqrt())).abs() < 1e-12);
     // Rezzolla & Zhidenko 2014: the horizon is r0 = 2/(1 + ε) by construction.
-    let rz = RezzollaZhidenko::new([0.1, 0.05, 0.02, 0.3, 0.2, -0.1, 0.4]).unwrap();
+    let rz = RezzollaZhidenko::new(0.1, 0.05, 0.02, 0.3, 0.2, -0.1, 0.4).unwrap();
     assert!((horizon(&rz).unwrap() - 2.0 / 1.1).abs() < 1e-12);
     // GHS dilaton: r = 2 while q² < 2.
     assert_eq!(horizon(build("dilaton", &[("q", 1.0)]).as_ref()), Some(2.0));
     assert_eq!(horizon(build("dilaton", &[("q", 1.5)]).as_ref()), None);
     // KRZ keeps the Kerr horizon r0 = 1 + √(1 − a²) (Konoplya et al. 2016).
-    let krz = Krz::new([0.6, 0.1, 0.05, -0.05, 0.1, 0.02, 0.03]).unwrap();
+    let krz = Krz::new(0.6, 0.1, 0.05, -0.05, 0.1, 0.02, 0.03).unwrap();
     assert!((horizon(&krz).unwrap() - 1.8).abs() < 1e-12);
     // Johannsen–Psaltis at a = 0: Δ = 0 at r = 2 whatever ε3.
     let jp = JohannsenPsaltis::new(0.0, 2.0).unwrap();

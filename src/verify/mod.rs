@@ -38,7 +38,7 @@ pub mod update;
 pub use bound_case::{BoundCase, BOUND_QUANTITIES};
 pub use quantity::QUANTITIES;
 pub use report::{CheckRow, VerifyReport};
-pub use schema::{Case, ChecksFile, Expectation, Expected, MetricSource, Tolerance};
+pub use schema::{Case, ChecksFile, Expectation, Expected, Tolerance};
 pub use update::{
     default_update_path, is_umbral_source, update_checks_file, update_checks_file_forcing,
     RowSelector, UpdateOutcome,
