@@ -268,3 +268,64 @@ fn kerr_sen_a0_b1_has_no_horizon_and_no_shadow() {
         }
     }
 }
+
+/// The registry follows each metric's one declaration: names in listing order (command-line
+/// contract: never renamed), the built metric's metadata and parameter values equal the entry's
+/// declaration at the defaults, and values given in order are counted.
+#[test]
+fn registry_entries_follow_their_declarations() {
+    let names: Vec<String> = builtin_metrics().iter().map(|e| e.name()).collect();
+    assert_eq!(
+        names,
+        [
+            "schwarzschild",
+            "kerr",
+            "reissner-nordstrom",
+            "kerr-newman",
+            "tidal-charge",
+            "bardeen",
+            "hayward",
+            "dilaton",
+            "simpson-visser",
+            "jnw",
+            "rezzolla-zhidenko",
+            "johannsen-psaltis",
+            "johannsen",
+            "krz",
+            "kerr-sen",
+            "rotating-bardeen",
+            "rotating-hayward",
+        ]
+    );
+    for entry in builtin_metrics() {
+        let info = entry.info();
+        let m = entry.build(&[]).unwrap();
+        assert_eq!(m.info(), info);
+        let defaults: Vec<f64> = info.parameters.iter().map(|p| p.default).collect();
+        assert_eq!(m.parameter_values(), defaults, "{}", info.name);
+        // Each parameter moved on its own lands in its own slot.
+        for (i, p) in info.parameters.iter().enumerate() {
+            let v = [0.25, 0.5, 0.75]
+                .into_iter()
+                .find(|v| *v != p.default && p.domain.contains(*v))
+                .unwrap();
+            let moved = entry.build(&[(p.name.clone(), v)]).unwrap();
+            let mut expected = defaults.clone();
+            expected[i] = v;
+            assert_eq!(
+                moved.parameter_values(),
+                expected,
+                "{} {}",
+                info.name,
+                p.name
+            );
+        }
+    }
+    let err = Kerr::from_values(&[0.1, 0.2]).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "metric 'kerr' takes 1 parameter values (a), got 2"
+    );
+    assert!(Schwarzschild::from_values(&[]).is_ok());
+    assert!(KerrNewman::new(0.5, f64::INFINITY).is_err());
+}

@@ -514,7 +514,10 @@ fn bound_cases_accept_metric_files() {
     assert!(e.contains("not both"), "{e}");
     let neither = original.replace(metric, "");
     let e = bad_file_message("bound-file", &neither);
-    assert!(e.contains("missing metric") && e.contains("metric_file"), "{e}");
+    assert!(
+        e.contains("missing metric") && e.contains("metric_file"),
+        "{e}"
+    );
     let missing = original.replace(metric, "metric_file = \"no-such-metric.toml\"");
     let e = bad_file_message("bound-file", &missing);
     assert!(
