@@ -177,7 +177,7 @@ pub struct MetricInfo {
 
 impl MetricInfo {
     /// Metadata for a metric that did not describe itself.
-    pub fn unnamed(type_name: &str) -> Self {
+    pub(crate) fn unnamed(type_name: &str) -> Self {
         let short = type_name.rsplit("::").next().unwrap_or(type_name);
         MetricInfo {
             name: short.to_string(),

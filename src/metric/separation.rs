@@ -59,9 +59,13 @@ const SCAN_POINTS: usize = 241;
 /// F at one point, with the size of its terms.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SeparationResidual {
+    /// Radius of the point.
     pub r: f64,
+    /// Polar angle of the point (radians).
     pub theta: f64,
+    /// λ = L/E.
     pub lambda: f64,
+    /// η = Carter's constant / E².
     pub eta: f64,
     /// F = g_θθ (g^tt − 2λ g^tφ + λ² g^φφ) + R/(g_θθ g^rr) + Θ.
     pub value: f64,
@@ -132,11 +136,21 @@ pub enum SeparationError {
     MissingHook(MetricError),
     /// The line element or its inverse is not finite at a check point, or (for a horizonless
     /// metric) not regular already at r = 10³, where the scan for its regular edge starts.
-    Irregular { r: f64, theta: f64, problem: String },
+    Irregular {
+        /// Radius of the point.
+        r: f64,
+        /// Polar angle of the point.
+        theta: f64,
+        /// What is not regular there.
+        problem: String,
+    },
     /// A potential is not a finite number at a check point.
     NonFinitePotential {
+        /// `radial` or `polar`.
         which: &'static str,
+        /// (r or θ, λ, η).
         at: [f64; 3],
+        /// The potential's value there.
         value: f64,
     },
     /// F does not vanish: the worst point.

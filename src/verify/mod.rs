@@ -53,10 +53,20 @@ use std::path::{Path, PathBuf};
 pub enum VerifyError {
     /// Unreadable, not TOML, or not a valid checks file.
     #[error("{}: {message}", path.display())]
-    Invalid { path: PathBuf, message: String },
+    Invalid {
+        /// The checks file.
+        path: PathBuf,
+        /// What is wrong with it.
+        message: String,
+    },
     /// An output file could not be written.
     #[error("{}: cannot write: {message}", path.display())]
-    Write { path: PathBuf, message: String },
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// Why not.
+        message: String,
+    },
 }
 
 impl Case {

@@ -110,9 +110,19 @@ impl Tolerance {
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Expected {
     /// A value with a tolerance.
-    Value { value: f64, tolerance: Tolerance },
+    Value {
+        /// The expected value.
+        value: f64,
+        /// How far the computed value may lie from it.
+        tolerance: Tolerance,
+    },
     /// A range: `min ≤ got ≤ max`, either end optional (an upper or lower bound).
-    Range { min: Option<f64>, max: Option<f64> },
+    Range {
+        /// The lower end, if any.
+        min: Option<f64>,
+        /// The upper end, if any.
+        max: Option<f64>,
+    },
 }
 
 /// One expectation of a case.
@@ -120,6 +130,7 @@ pub enum Expected {
 pub struct Expectation {
     /// The quantity's name (see [`super::quantity::QUANTITIES`]).
     pub quantity: String,
+    /// The value or range expected.
     pub expected: Expected,
     /// Where the expected number comes from (paper, generator script, or
     /// "common practice, no source").
@@ -140,16 +151,23 @@ pub struct Case {
     pub metric: Box<dyn Spacetime>,
     /// Inclination in degrees, as written.
     pub inclination_deg: f64,
+    /// The observer (distant, or static at `observer_radius`).
     pub observer: Observer,
+    /// Curve points, boundary tolerance and solver.
     pub settings: ShadowSettings,
+    /// The centre of the radius observables.
     pub centre: CentreChoice,
+    /// What the case is expected to give.
     pub expectations: Vec<Expectation>,
 }
 
 /// A loaded and validated checks file.
 pub struct ChecksFile {
+    /// The file, as given.
     pub path: PathBuf,
+    /// Its free-text description, if any.
     pub description: Option<String>,
+    /// `[[case]]` cases.
     pub cases: Vec<Case>,
     /// `[[bound]]` cases.
     pub bounds: Vec<BoundCase>,
