@@ -203,27 +203,13 @@ macro_rules! declare_metric {
         $vis struct $name;
 
         impl $name {
-            /// Name, title, reference and (no) parameters.
-            pub fn describe() -> $crate::metric::MetricInfo {
-                $crate::metric::MetricInfo {
-                    name: $cli.into(),
-                    title: $title.into(),
-                    reference: $reference.into(),
-                    parameters: ::std::vec::Vec::new(),
-                }
-            }
+            $crate::declare_metric!(@describe $cli, $title, $reference, []);
 
             /// The metric from its (no) parameter values.
             pub fn from_values(values: &[f64]) -> ::std::result::Result<Self, $crate::error::MetricError> {
                 Self::describe().check_values(values)?;
                 Ok($name)
             }
-
-            /// The registry entry: builds this metric by name and `name=value` assignments.
-            pub const ENTRY: $crate::metrics::MetricEntry = $crate::metrics::MetricEntry::new(
-                Self::describe,
-                |values| Ok(::std::boxed::Box::new(Self::from_values(values)?)),
-            );
         }
 
         $crate::declare_metric!(@declared $name, [], $(|$m| $horizon)?);
@@ -246,17 +232,10 @@ macro_rules! declare_metric {
         }
 
         impl $name {
-            /// Name, title, reference and parameters (with defaults, domains and meanings).
-            pub fn describe() -> $crate::metric::MetricInfo {
-                $crate::metric::MetricInfo {
-                    name: $cli.into(),
-                    title: $title.into(),
-                    reference: $reference.into(),
-                    parameters: ::std::vec![$(
-                        $crate::metric::ParameterSpec::new(stringify!($field), $default, $domain, $meaning)
-                    ),+],
-                }
-            }
+            $crate::declare_metric!(
+                @describe $cli, $title, $reference,
+                [$(($field, $default, $domain, $meaning)),+]
+            );
 
             /// The metric at these parameter values, in declaration order; each must be finite
             /// and inside its domain.
@@ -275,15 +254,30 @@ macro_rules! declare_metric {
                     _ => Err(info.count_error(values.len())),
                 }
             }
-
-            /// The registry entry: builds this metric by name and `name=value` assignments.
-            pub const ENTRY: $crate::metrics::MetricEntry = $crate::metrics::MetricEntry::new(
-                Self::describe,
-                |values| Ok(::std::boxed::Box::new(Self::from_values(values)?)),
-            );
         }
 
         $crate::declare_metric!(@declared $name, [$($field),+], $(|$m| $horizon)?);
+    };
+    // `describe()` and `ENTRY`, inside the type's `impl` block (`from_values` is the arm's own).
+    (@describe $cli:literal, $title:literal, $reference:expr,
+        [$(($field:ident, $default:expr, $domain:expr, $meaning:expr)),*]) => {
+        /// Name, title, reference and parameters (with defaults, domains and meanings).
+        pub fn describe() -> $crate::metric::MetricInfo {
+            $crate::metric::MetricInfo {
+                name: $cli.into(),
+                title: $title.into(),
+                reference: $reference.into(),
+                parameters: ::std::vec![$(
+                    $crate::metric::ParameterSpec::new(stringify!($field), $default, $domain, $meaning)
+                ),*],
+            }
+        }
+
+        /// The registry entry: builds this metric by name and `name=value` assignments.
+        pub const ENTRY: $crate::metrics::MetricEntry = $crate::metrics::MetricEntry::new(
+            Self::describe,
+            |values| Ok(::std::boxed::Box::new(Self::from_values(values)?)),
+        );
     };
     (@declared $name:ident, [$($field:ident),*], $(|$m:ident| $horizon:expr)?) => {
         impl $crate::metric::Declared for $name {

@@ -85,9 +85,7 @@ impl Metric for Johannsen {
         }
     }
     fn capabilities(&self) -> Capabilities {
-        Capabilities::NONE
-            .with_separation()
-            .with_equatorial_symmetry()
+        kerr_like::CAPABILITIES
     }
     /// (Σ̃ dr/dτ)² = A5 [(P − Qλ)² − Δ(η + (λ − a)²)], P = (r² + a²) A1, Q = a A2.
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {

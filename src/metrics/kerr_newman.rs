@@ -36,9 +36,7 @@ impl Metric for KerrNewman {
         kerr_like::components(self.a, r * r, r * 2.0 - self.q * self.q, theta)
     }
     fn capabilities(&self) -> Capabilities {
-        Capabilities::NONE
-            .with_separation()
-            .with_equatorial_symmetry()
+        kerr_like::CAPABILITIES
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         let mu = r * 2.0 - self.q * self.q;

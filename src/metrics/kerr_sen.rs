@@ -59,9 +59,7 @@ impl Metric for KerrSen {
         kerr_like::components(self.a, self.rho2(r), r * 2.0, theta)
     }
     fn capabilities(&self) -> Capabilities {
-        Capabilities::NONE
-            .with_separation()
-            .with_equatorial_symmetry()
+        kerr_like::CAPABILITIES
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         Some(kerr_like::radial_potential(

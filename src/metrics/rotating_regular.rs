@@ -76,9 +76,7 @@ macro_rules! rotating_regular_metric {
                 kerr_like::components(self.a, r * r, self.mu(r), theta)
             }
             fn capabilities(&self) -> Capabilities {
-                Capabilities::NONE
-                    .with_separation()
-                    .with_equatorial_symmetry()
+                kerr_like::CAPABILITIES
             }
             fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
                 Some(kerr_like::radial_potential(
