@@ -85,7 +85,7 @@ pub enum MetricError {
         got: usize,
     },
     /// A computation needs a structure (spherical symmetry, separation data) that the metric
-    /// does not declare in its [`Capabilities`](crate::metric::Capabilities).
+    /// does not declare in its `Capabilities` (metric layer).
     #[error("metric '{metric}' does not declare {structure}")]
     NotDeclared {
         /// The metric's name.
@@ -101,7 +101,7 @@ pub enum MetricError {
         metric: String,
         /// `spherical symmetry` or `separation data`.
         structure: &'static str,
-        /// The [`Metric`](crate::metric::Metric) method that returned `None`.
+        /// The `Metric` method that returned `None`.
         hook: &'static str,
     },
     /// A metric file's closed-form horizon is not a zero of g^rr at these parameters.

@@ -149,7 +149,7 @@ impl Capabilities {
 /// * [`Declared`] (metadata, parameter values in order, the horizon rule);
 /// * `describe() -> MetricInfo`, the metadata without an instance;
 /// * `new(p1, p2, …)` and `from_values(&[f64])`, which check every value against its domain;
-/// * `ENTRY`, the [`MetricEntry`](crate::metrics::MetricEntry) that builds the metric by name
+/// * `ENTRY`, the [`MetricEntry`](super::MetricEntry) that builds the metric by name
 ///   (register it with one line in `src/metrics/mod.rs`, or use it in a program of your own).
 ///
 /// The metric's formulas then go in an `impl Metric` (or `impl SphericalMetric`) of their own.
@@ -274,7 +274,7 @@ macro_rules! declare_metric {
         }
 
         /// The registry entry: builds this metric by name and `name=value` assignments.
-        pub const ENTRY: $crate::metrics::MetricEntry = $crate::metrics::MetricEntry::new(
+        pub const ENTRY: $crate::metric::MetricEntry = $crate::metric::MetricEntry::new(
             Self::describe,
             |values| Ok(::std::boxed::Box::new(Self::from_values(values)?)),
         );

@@ -28,6 +28,7 @@
 
 mod components;
 mod declared;
+mod entry;
 mod horizon;
 mod info;
 mod regularity;
@@ -37,6 +38,7 @@ mod spherical;
 
 pub use components::{InverseComponents, MetricComponents};
 pub use declared::{Capabilities, Declared, DeclaredHorizon};
+pub use entry::MetricEntry;
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
 pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};
