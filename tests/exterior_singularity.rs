@@ -8,7 +8,7 @@
 //! naming the surface, for the built-in metric and its metric-file twin alike.
 
 use std::path::Path;
-use umbral::metric::{exterior_singularity, Spacetime, SphericalMetric};
+use umbral::metric::{exterior_singularity, Declared, Spacetime, SphericalMetric};
 use umbral::metric_file::load_metric_file;
 use umbral::metrics::{build_metric, Johannsen};
 use umbral::scalar::DualScalar;
@@ -149,7 +149,7 @@ fn johannsen_regularity_edge_closed_form_brute_force_and_general_check_agree() {
             ("alpha52", alpha52),
             ("eps3", eps3),
         ];
-        let closed = Johannsen::new([a, alpha13, alpha22, alpha52, eps3])
+        let closed = Johannsen::new(a, alpha13, alpha22, alpha52, eps3)
             .unwrap()
             .exterior_singularity();
         let general = exterior_singularity(&johannsen_file(&set), 1e3);
@@ -176,7 +176,7 @@ fn johannsen_file_alpha52_m3_changes_signature_outside_the_horizon() {
     let m = johannsen_file(&[("a", 0.9), ("alpha52", -3.0)]);
     let found = exterior_singularity(&m, 1e3).expect("singular");
     assert!((found.r - 3f64.sqrt()).abs() < 1e-8, "{found}");
-    let closed = Johannsen::new([0.9, 0.0, 0.0, -3.0, 0.0])
+    let closed = Johannsen::new(0.9, 0.0, 0.0, -3.0, 0.0)
         .unwrap()
         .exterior_singularity();
     assert_eq!(closed.map(|c| c.0), Some(3f64.sqrt()));
@@ -189,6 +189,8 @@ fn johannsen_file_alpha52_m3_changes_signature_outside_the_horizon() {
 /// A = (1 − 2/r)(1 + 0.01/(r − 4)²), B = 1/(1 − 2/r), C = r². The spherical solver and the ray
 /// tracer say no shadow, naming the pole, instead of using a singular exterior.
 struct PoleOutside;
+
+impl Declared for PoleOutside {}
 
 impl SphericalMetric for PoleOutside {
     fn a<D: DualScalar>(&self, r: D) -> D {

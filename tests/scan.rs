@@ -2,6 +2,7 @@
 
 use std::path::PathBuf;
 use std::process::Command;
+use umbral::metrics::MetricSource;
 use umbral::scan::{run_scan, GridAxis, ScanRequest};
 
 fn temp(name: &str) -> PathBuf {
@@ -14,7 +15,7 @@ fn temp(name: &str) -> PathBuf {
 
 fn request() -> ScanRequest {
     ScanRequest {
-        metric: "kerr-newman".into(),
+        metric: MetricSource::builtin("kerr-newman").unwrap(),
         axes: vec![
             GridAxis {
                 name: "a".into(),
@@ -574,7 +575,7 @@ fn jnw_shadow(nu: f64) -> f64 {
 
 fn jnw_request(require_horizon: bool) -> ScanRequest {
     ScanRequest {
-        metric: "jnw".into(),
+        metric: MetricSource::builtin("jnw").unwrap(),
         axes: vec![GridAxis {
             name: "nu".into(),
             low: 0.3,

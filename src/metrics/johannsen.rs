@@ -30,78 +30,51 @@
 //! "no shadow" instead of failing.
 
 use super::kerr_like;
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::numfmt::Num;
 use crate::scalar::DualScalar;
 use roots::find_roots_quartic;
 
-/// The Johannsen metric with (a, α13, α22, α52, ε3).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Johannsen {
-    a: f64,
-    alpha13: f64,
-    alpha22: f64,
-    alpha52: f64,
-    eps3: f64,
+declare_metric! {
+    /// The Johannsen metric with (a, α13, α22, α52, ε3).
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Johannsen {
+        name: "johannsen",
+        title: "Johannsen",
+        reference: "Johannsen 2013, Phys. Rev. D 88, 044002",
+        horizon: |m| super::horizon_root(1.0, m.a * m.a).map(|s| 1.0 + s),
+        parameters: {
+            a: { default: 0.0, domain: Domain::closed(-1.0, 1.0), meaning: "spin a = J/M^2" },
+            alpha13: {
+                default: 0.0,
+                domain: Domain::greater_than(-8.0),
+                meaning: "deviation in A1 = 1 + alpha13/r^3 (regular outside the horizon only for \
+                          alpha13 > -r+^3 and, at alpha22 = 0, alpha13 > -r+^4/2; beyond: no shadow)",
+            },
+            alpha22: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation in A2 = 1 + alpha22/r^2 (with alpha13: (r^2 + a^2) A1 - a^2 A2 \
+                          > 0 for r >= r+, else no shadow)",
+            },
+            alpha52: {
+                default: 0.0,
+                domain: Domain::greater_than(-4.0),
+                meaning: "deviation in A5 = 1 + alpha52/r^2 (regular outside the horizon only for \
+                          alpha52 > -r+^2; beyond: no shadow)",
+            },
+            eps3: {
+                default: 0.0,
+                domain: Domain::greater_than(-8.0),
+                meaning: "deviation in Sigma~ = Sigma + eps3/r (regular outside the horizon only for \
+                          eps3 > -r+^3; beyond: no shadow)",
+            },
+        },
+    }
 }
 
 impl Johannsen {
-    /// From (a, alpha13, alpha22, alpha52, eps3).
-    pub fn new(values: [f64; 5]) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        for (s, v) in spec.iter().zip(values) {
-            s.check(v)?;
-        }
-        let [a, alpha13, alpha22, alpha52, eps3] = values;
-        Ok(Johannsen {
-            a,
-            alpha13,
-            alpha22,
-            alpha52,
-            eps3,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        let dev = |name: &str, domain: Domain, meaning: &str| {
-            ParameterSpec::new(name, 0.0, domain, meaning)
-        };
-        MetricInfo {
-            name: "johannsen".into(),
-            title: "Johannsen".into(),
-            reference: "Johannsen 2013, Phys. Rev. D 88, 044002".into(),
-            parameters: vec![
-                ParameterSpec::new("a", 0.0, Domain::closed(-1.0, 1.0), "spin a = J/M^2"),
-                dev(
-                    "alpha13",
-                    Domain::greater_than(-8.0),
-                    "deviation in A1 = 1 + alpha13/r^3 (regular outside the horizon only for \
-                     alpha13 > -r+^3 and, at alpha22 = 0, alpha13 > -r+^4/2; beyond: no shadow)",
-                ),
-                dev(
-                    "alpha22",
-                    Domain::REAL,
-                    "deviation in A2 = 1 + alpha22/r^2 (with alpha13: (r^2 + a^2) A1 - a^2 A2 \
-                     > 0 for r >= r+, else no shadow)",
-                ),
-                dev(
-                    "alpha52",
-                    Domain::greater_than(-4.0),
-                    "deviation in A5 = 1 + alpha52/r^2 (regular outside the horizon only for \
-                     alpha52 > -r+^2; beyond: no shadow)",
-                ),
-                dev(
-                    "eps3",
-                    Domain::greater_than(-8.0),
-                    "deviation in Sigma~ = Sigma + eps3/r (regular outside the horizon only for \
-                     eps3 > -r+^3; beyond: no shadow)",
-                ),
-            ],
-        }
-    }
-
     /// Where the metric is singular outside the horizon, from the closed-form conditions of
     /// the module documentation: `None` when Σ̃, A5 and √D stay positive for every r ≥ r₊
     /// and θ, else a point (r, θ) where one of them vanishes and which condition fails.
@@ -109,10 +82,10 @@ impl Johannsen {
     /// ```
     /// use umbral::metrics::Johannsen;
     /// // a = 0.9, α13 = −2.95 (issue 10, item 4): √D = 0 on the equator at r = 1.5757.
-    /// let (r, theta, _) = Johannsen::new([0.9, -2.95, 0.0, 0.0, 0.0]).unwrap()
+    /// let (r, theta, _) = Johannsen::new(0.9, -2.95, 0.0, 0.0, 0.0).unwrap()
     ///     .exterior_singularity().unwrap();
     /// assert!((r - 1.575724640616243).abs() < 1e-12 && theta == std::f64::consts::FRAC_PI_2);
-    /// assert!(Johannsen::new([0.9, -2.12, 0.0, 0.0, 0.0]).unwrap().exterior_singularity().is_none());
+    /// assert!(Johannsen::new(0.9, -2.12, 0.0, 0.0, 0.0).unwrap().exterior_singularity().is_none());
     /// ```
     pub fn exterior_singularity(&self) -> Option<(f64, f64, String)> {
         let a2 = self.a * self.a;
@@ -195,17 +168,8 @@ impl Metric for Johannsen {
             g_phph: sigma_t * s2 * (r2a2 * r2a2 * a1 * a1 - delta * s2 * (a * a)) / big_d,
         }
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a, self.alpha13, self.alpha22, self.alpha52, self.eps3]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        super::horizon_root(1.0, self.a * self.a).map(|s| 1.0 + s)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        kerr_like::CAPABILITIES
     }
     /// (Σ̃ dr/dτ)² = A5 [(P − Qλ)² − Δ(η + (λ − a)²)], P = (r² + a²) A1, Q = a A2.
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
