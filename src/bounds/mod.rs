@@ -42,7 +42,6 @@
 //! assert!(!result.no_horizon.is_empty()); // q > 1 has no horizon
 //! ```
 
-pub mod minimise;
 pub mod nuisance;
 
 use crate::error::MetricError;

@@ -8,7 +8,7 @@
 //! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
 //! less extreme.
 
-use super::minimise::{bisect_predicate, brent_minimise};
+use crate::numerics::{bisect_predicate, brent_minimise};
 use rayon::prelude::*;
 use std::sync::Mutex;
 

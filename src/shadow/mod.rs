@@ -96,6 +96,12 @@ pub enum ShadowError {
     NotConverged(String),
 }
 
+impl From<crate::numerics::SearchFailure> for ShadowError {
+    fn from(e: crate::numerics::SearchFailure) -> Self {
+        ShadowError::NotConverged(e.to_string())
+    }
+}
+
 /// Pick the solver `auto` would use for this metric.
 pub fn auto_solver(spacetime: &dyn Spacetime) -> SolverKind {
     if spacetime.symmetry() == Symmetry::Spherical {
