@@ -252,38 +252,39 @@ fn refine_goal(
         return Ok(best_value);
     }
     let sweeps = if dims.len() == 1 { 1 } else { 2 };
-    let failure = std::sync::Mutex::new(None::<String>);
     for sweep in 0..sweeps {
         for j in 0..dims.len() {
             let nodes = &axes[j];
             // The line through `best` along dimension j: reuse the grid on the first sweep
-            // when `best` is a grid point, else evaluate it.
-            let line_values: Vec<f64> = nodes
+            // when `best` is a grid point, else evaluate it. Results in node order, so the
+            // failure reported is the same at any thread count.
+            let line: Vec<Result<f64, String>> = nodes
                 .par_iter()
                 .map(|&t| {
                     let mut p = best.clone();
                     p[j] = t;
                     if sweep == 0 {
                         if let Some(i) = points.iter().position(|q| *q == p) {
-                            return objective[i];
+                            return Ok(objective[i]);
                         }
                     }
                     match model.value(&p) {
-                        PointValue::Failed(m) => {
-                            *failure.lock().unwrap_or_else(|e| e.into_inner()) = Some(m);
-                            f64::INFINITY
-                        }
-                        v => goal.objective(&v, limit),
+                        PointValue::Failed(m) => Err(m),
+                        v => Ok(goal.objective(&v, limit)),
                     }
                 })
                 .collect();
-            if let Some(m) = failure.lock().unwrap_or_else(|e| e.into_inner()).take() {
+            if let Some(m) = line.iter().find_map(|r| r.as_ref().err()) {
                 // Off-grid refinement points only: keep the best value so far, and say so.
                 cut.lock()
                     .unwrap_or_else(|e| e.into_inner())
-                    .get_or_insert(m);
+                    .get_or_insert_with(|| m.clone());
                 return Ok(best_value);
             }
+            let line_values: Vec<f64> = line
+                .into_iter()
+                .map(|r| r.unwrap_or(f64::INFINITY))
+                .collect();
             let tol = search.relative_tolerance * (dims[j].1 - dims[j].0).abs();
             let mut eval = |t: f64| -> Result<f64, String> {
                 let mut p = best.clone();

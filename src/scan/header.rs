@@ -3,10 +3,8 @@
 //! another version of umbral or other arguments.
 
 use super::{GridAxis, ScanError, ScanRequest};
-use crate::metrics::MetricSource;
+use crate::run::metric_sha256;
 use serde::{Deserialize, Serialize};
-use serde_json::Value;
-use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
 
 /// The scan-file format written by this version.
@@ -20,7 +18,7 @@ pub(crate) struct Header {
     umbral_version: String,
     metric: String,
     /// SHA-256 of the metric: a metric file's bytes, or a built-in metric's name and
-    /// parameter specifications (see [`metric_sha256`]).
+    /// parameter specifications (see [`crate::run::metric_sha256`]).
     metric_sha256: String,
     axes: Vec<GridAxis>,
     fixed: BTreeMap<String, f64>,
@@ -28,59 +26,6 @@ pub(crate) struct Header {
     points: usize,
     tolerance: f64,
     solver: String,
-}
-
-/// Lower-case hexadecimal SHA-256 of `bytes`.
-pub(crate) fn sha256_hex(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
-}
-
-/// The metric's content hash. A metric file read from disk is hashed by its bytes, read again
-/// here and checked to compile to the metric the scan uses (so the hash belongs to the
-/// formulas that computed the points); a metric file given as text is hashed by its compiled
-/// form; a built-in metric by its name and parameter specifications (the umbral version is a
-/// field of its own in the header).
-pub(crate) fn metric_sha256(source: &MetricSource) -> Result<String, ScanError> {
-    match source {
-        MetricSource::Builtin(name) => {
-            let info = source.build(&[])?.info().clone();
-            let text = serde_json::to_string(&info).map_err(|e| {
-                ScanError::BadRequest(format!("cannot describe metric '{name}': {e}"))
-            })?;
-            Ok(sha256_hex(format!("builtin\n{text}").as_bytes()))
-        }
-        MetricSource::File(spec) => match spec.path() {
-            None => Ok(sha256_hex(format!("compiled\n{spec:?}").as_bytes())),
-            Some(path) => {
-                let read = |e: crate::input::InputError| ScanError::Read {
-                    path: path.display().to_string(),
-                    message: e.to_string(),
-                };
-                let bytes = crate::input::read_bytes_capped(path, crate::input::MAX_INPUT_BYTES)
-                    .map_err(read)?;
-                let text = crate::input::utf8(bytes.clone()).map_err(read)?;
-                let changed =
-                    match crate::metric_file::parse_metric_file(&text, &path.display().to_string())
-                    {
-                        Ok(mut again) => {
-                            again.path = Some(path.to_path_buf());
-                            again != **spec
-                        }
-                        Err(_) => true,
-                    };
-                if changed {
-                    return Err(ScanError::BadRequest(format!(
-                        "metric file '{}' changed while the scan was starting; run it again",
-                        path.display()
-                    )));
-                }
-                Ok(sha256_hex(&bytes))
-            }
-        },
-    }
 }
 
 /// The header of a request.
@@ -96,88 +41,5 @@ pub(crate) fn header(request: &ScanRequest) -> Result<Header, ScanError> {
         points: request.settings.points,
         tolerance: request.settings.tolerance,
         solver: format!("{:?}", request.settings.solver).to_lowercase(),
-    })
-}
-
-/// The header as its line (without the newline).
-pub(crate) fn text(head: &Header) -> Result<String, ScanError> {
-    serde_json::to_string(head).map_err(|e| ScanError::BadRequest(e.to_string()))
-}
-
-/// A JSON value for a message: compact, and cut short when long.
-fn brief(v: Option<&Value>) -> String {
-    let Some(v) = v else {
-        return "absent".into();
-    };
-    let s = v.to_string();
-    if s.chars().count() > 60 {
-        format!("{}...", s.chars().take(57).collect::<String>())
-    } else {
-        s
-    }
-}
-
-/// Why the header line `line` of the file at `path` does not belong to `head`, or `None`
-/// when it does.
-pub(crate) fn compare(line: &str, head: &Header, path: &str) -> Option<ScanError> {
-    let bad = |problem: String| {
-        Some(ScanError::BadLine {
-            path: path.to_string(),
-            line: 1,
-            problem,
-        })
-    };
-    let found: Value = match serde_json::from_str(line) {
-        Ok(v @ Value::Object(_)) => v,
-        Ok(_) => return bad("is not a scan header (not a JSON object)".into()),
-        Err(e) => return bad(format!("is not a scan header: {e}")),
-    };
-    let Some(format) = found.get("umbral_scan") else {
-        return bad("is not a scan header (no 'umbral_scan' field)".into());
-    };
-    if format.as_u64() != Some(u64::from(FORMAT)) {
-        return Some(ScanError::Mismatch {
-            path: path.to_string(),
-            why: format!(
-                "scan format {} in the file, {FORMAT} now (written by another version of umbral)",
-                brief(Some(format))
-            ),
-        });
-    }
-    let want = serde_json::to_value(head).ok()?;
-    let (Value::Object(f), Value::Object(w)) = (&found, &want) else {
-        return None;
-    };
-    let mut why = Vec::new();
-    for key in f.keys().filter(|k| !w.contains_key(*k)) {
-        why.push(format!("unknown field '{key}'"));
-    }
-    for (key, now) in w {
-        if f.get(key) == Some(now) {
-            continue;
-        }
-        if key == "metric_sha256" && f.get("metric") != w.get("metric") {
-            continue; // another metric altogether: its hash differs of course
-        }
-        why.push(match key.as_str() {
-            "metric_sha256" => {
-                "metric_sha256 (the metric's content changed: an edited metric file or another \
-                 definition of the built-in metric)"
-                    .to_string()
-            }
-            _ => format!(
-                "{key}: {} in the file, {} now",
-                brief(f.get(key)),
-                brief(Some(now))
-            ),
-        });
-    }
-    // Values that compare unequal as JSON but equal as a header (1 and 1.0) are the same.
-    if why.is_empty() || serde_json::from_value::<Header>(found).ok().as_ref() == Some(head) {
-        return None;
-    }
-    Some(ScanError::Mismatch {
-        path: path.to_string(),
-        why: why.join("; "),
     })
 }
