@@ -165,7 +165,11 @@ fn node(s: StoredNode) -> Result<Node, String> {
             let sizes =
                 (e.size_min.is_finite() && e.size_max.is_finite() && e.size_min <= e.size_max)
                     || (e.size_min.is_nan() && e.size_max.is_nan());
-            if !sizes || e.circularity_min.is_nan() || !(e.wall_backoff >= 0.0) {
+            if !sizes
+                || e.circularity_min.is_nan()
+                || e.wall_backoff.is_nan()
+                || e.wall_backoff < 0.0
+            {
                 return Err("holds extremes no evaluation gives (sizes, circularity or back-off out of order)".into());
             }
             Aggregate::Ok(Extremes {
