@@ -27,6 +27,12 @@ enum Want {
     Any,
     /// A value outside the declared domain: exit 2 naming the domain.
     OutOfDomain,
+    /// A shadow, or a clean refusal saying the curve could not be placed to the tolerance.
+    /// For spins within 1e-9 of extremality the spherical-orbit conditions R = R' = 0 have
+    /// numerator and denominator both O(δ²) near the horizon (δ = r − M, δ² ~ 1e-9), so double
+    /// rounding alone moves the curve points by ~1e-8 to 1e-6 M: the self-check must be allowed
+    /// to say so instead of returning a curve that misses its tolerance.
+    ShadowOrPrecisionRefusal,
 }
 
 /// One stress run.
@@ -97,6 +103,11 @@ const MAY_BE_NULL: &[&str] = &[
     "photon_orbit_radii",
     "reason",
     "celestial",
+    // The ray tracer's checks: absent for the exact solvers; the error estimate and its note
+    // are absent when the tolerance is met or no estimate could be made (then labelled).
+    "raytrace",
+    "estimated_error",
+    "accuracy_note",
 ];
 
 fn nulls(v: &Value, path: &str, out: &mut Vec<String>) {
@@ -164,6 +175,16 @@ fn run_probe(p: &Probe) -> (Option<Value>, Vec<String>) {
             return (None, problems);
         }
         (Some(2), Want::NotShadow | Want::Any) if clean_error(&json) => return (None, problems),
+        (Some(2), Want::ShadowOrPrecisionRefusal) if clean_error(&json) => {
+            let text = json.stderr_text();
+            if !(text.contains("is off by") && text.contains("tolerance")) {
+                problems.push(format!(
+                    "expected a shadow or a refusal naming the missed tolerance: {}",
+                    json.describe()
+                ));
+            }
+            return (None, problems);
+        }
         (Some(0), _) => {}
         _ => {
             problems.push(format!("expected exit 0: {}", json.describe()));
@@ -198,6 +219,9 @@ fn run_probe(p: &Probe) -> (Option<Value>, Vec<String>) {
                     ));
                 }
             }
+        }
+        Want::ShadowOrPrecisionRefusal if status != "shadow" => {
+            problems.push(format!("expected a shadow, got {status}: {}", v["reason"]));
         }
         Want::NotShadow if status != "no_shadow" => {
             problems.push(format!("expected no shadow, got {status}"))
@@ -727,10 +751,10 @@ fn rotating_metrics_at_their_edges() {
     let probes = vec![
         // Kerr: r₊ = 1 + √(1 − a²). Beyond |a| = 1 there is no closed curve.
         probe(
-            "kerr a=1- (self-check as in item 9)",
+            "kerr a=1- (shadow or precision refusal)",
             "kerr",
             &[("a", 1.0 - EPS)],
-            Shadow(None, 0.0),
+            ShadowOrPrecisionRefusal,
         )
         .at(60.0),
         probe(
@@ -766,10 +790,10 @@ fn rotating_metrics_at_their_edges() {
         .at(0.0),
         // Kerr-Sen: r₊ = 1 − b + √((1 − b)² − a²).
         probe(
-            "kerr-sen (1-b)^2=a^2- (self-check as in item 9)",
+            "kerr-sen (1-b)^2=a^2- (shadow or precision refusal)",
             "kerr-sen",
             &[("a", 0.5), ("b", 0.5 - EPS)],
-            Shadow(None, 0.0),
+            ShadowOrPrecisionRefusal,
         )
         .at(60.0),
         probe(

@@ -50,7 +50,7 @@ pub struct ShadowArgs {
     /// Solver.
     #[arg(long, value_enum, default_value = "auto")]
     solver: SolverArg,
-    /// Boundary tolerance in M.
+    /// Boundary tolerance in M, from 1e-12 to 1e-3.
     #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
     tolerance: String,
     /// Centre the radius observables are measured about.
@@ -262,6 +262,15 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
             if scaled { uas(x) } else { String::new() }
         )
     };
+    if let Some(checks) = rep
+        .diagnostics
+        .raytrace
+        .as_ref()
+        .filter(|c| !c.tolerance_met)
+    {
+        let why = checks.accuracy_note.as_deref().unwrap_or("no estimate");
+        outln!("  TOLERANCE NOT MET: {why}")?;
+    }
     outln!("  centre: {}", o.centre.name())?;
     row("mean radius", o.mean_radius, "M", true)?;
     row("area radius", o.area_radius, "M", true)?;

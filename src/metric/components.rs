@@ -27,18 +27,44 @@ pub struct InverseComponents<D> {
 impl<D: DualScalar> MetricComponents<D> {
     /// The inverse: the (t, φ) block inverted in closed form, g^rr = 1/g_rr, g^θθ = 1/g_θθ.
     ///
-    /// With Δ₂ = g_tt g_φφ − g_tφ²: g^tt = g_φφ/Δ₂, g^tφ = −g_tφ/Δ₂, g^φφ = g_tt/Δ₂.
+    /// With Δ₂ = g_tt g_φφ − g_tφ²: g^tt = g_φφ/Δ₂, g^tφ = −g_tφ/Δ₂, g^φφ = g_tt/Δ₂. Near the
+    /// spin axis (g_φφ < 10⁻² g_θθ, i.e. sin²θ ≲ 10⁻² for a Kerr-like metric) the θ-derivative
+    /// of g_φφ/Δ₂ is a difference of two terms ~ 2 cot θ g^tt that cancel, leaving a spurious
+    /// force ~ 1e-16 cot θ on rays passing close to the axis; there the block is written with
+    /// k = g_tφ/g_φφ as g^tt = 1/(g_tt − k g_tφ), g^tφ = −k g^tt, g^φφ = g_tt g^tt/g_φφ (the
+    /// same algebra, one reciprocal more), where the sin²θ of g_φφ never cancels.
     #[inline]
     pub fn inverse(&self) -> InverseComponents<D> {
-        let det = self.g_tt * self.g_phph - self.g_tphi * self.g_tphi;
-        let inv_det = det.recip();
+        let near_axis =
+            self.g_phph.re() != 0.0 && self.g_phph.re().abs() < 1e-2 * self.g_thth.re().abs();
+        let (g_tt, g_tphi, g_phph) = if near_axis {
+            self.axis_block()
+        } else {
+            let inv_det = (self.g_tt * self.g_phph - self.g_tphi * self.g_tphi).recip();
+            (
+                self.g_phph * inv_det,
+                -self.g_tphi * inv_det,
+                self.g_tt * inv_det,
+            )
+        };
         InverseComponents {
-            g_tt: self.g_phph * inv_det,
-            g_tphi: -self.g_tphi * inv_det,
+            g_tt,
+            g_tphi,
             g_rr: self.g_rr.recip(),
             g_thth: self.g_thth.recip(),
-            g_phph: self.g_tt * inv_det,
+            g_phph,
         }
+    }
+
+    /// (g^tt, g^tφ, g^φφ) near the axis (see [`MetricComponents::inverse`]); kept out of line
+    /// so that the common path stays as it was.
+    #[cold]
+    #[inline(never)]
+    fn axis_block(&self) -> (D, D, D) {
+        let inv_phph = self.g_phph.recip();
+        let k = self.g_tphi * inv_phph;
+        let g_tt = (self.g_tt - k * self.g_tphi).recip();
+        (g_tt, -k * g_tt, self.g_tt * g_tt * inv_phph)
     }
 
     /// Apply `f` to every component.

@@ -26,6 +26,29 @@ use serde::Serialize;
 /// Most curve points a request may ask for (about 8 MB of radii per curve).
 pub const MAX_POINTS: usize = 1 << 20;
 
+/// The range of boundary tolerances a request may ask for, in M. Below 1e-12 M the curve
+/// radii (about 5 M) are within a few thousand units in the last place of double precision,
+/// where the separable solver's root finding (placing points to 1% of the tolerance) and the
+/// curve's own arithmetic stop being meaningful; above 1e-3 M the boundary error would reach
+/// a few parts in 10⁴ of the shadow size, the level of the deviations from Kerr the
+/// observables are used to test.
+pub const TOLERANCE_RANGE: [f64; 2] = [1e-12, 1e-3];
+
+/// Check a boundary tolerance against [`TOLERANCE_RANGE`]: the one place it is checked.
+pub fn check_tolerance(tolerance: f64) -> Result<(), ShadowError> {
+    let [lo, hi] = TOLERANCE_RANGE;
+    if (lo..=hi).contains(&tolerance) {
+        Ok(())
+    } else {
+        Err(ShadowError::BadRequest(format!(
+            "the boundary tolerance must lie between {} and {} M, got {}",
+            Num(lo),
+            Num(hi),
+            Num(tolerance)
+        )))
+    }
+}
+
 /// Which solver to use.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
@@ -167,6 +190,10 @@ pub struct Diagnostics {
     /// exponents.
     #[serde(skip)]
     pub exponents_undefined: Option<String>,
+    /// What the ray tracer's checks found: where its search started, whether the tolerance
+    /// is met (with an error estimate) and the winding growth beside the boundary (raytrace
+    /// only, for a shadow).
+    pub raytrace: Option<raytrace::RaytraceChecks>,
 }
 
 /// What a solver returns.
@@ -215,12 +242,10 @@ pub fn solve(
             )));
         }
     }
-    let tolerance_ok = settings.tolerance.is_finite() && settings.tolerance > 0.0;
-    let points_ok = (8..=MAX_POINTS).contains(&settings.points);
-    if !(tolerance_ok && points_ok) {
+    check_tolerance(settings.tolerance)?;
+    if !(8..=MAX_POINTS).contains(&settings.points) {
         return Err(ShadowError::BadRequest(format!(
-            "need tolerance > 0 and between 8 and {MAX_POINTS} points, got tolerance {} and {} points",
-            Num(settings.tolerance),
+            "need between 8 and {MAX_POINTS} points, got {} points",
             settings.points
         )));
     }

@@ -5,25 +5,59 @@
 //! A screen point is classified by following its photon backwards in affine parameter
 //! (Hamilton's equations with the exact dual-number gradient, adaptive Dormand–Prince 5(4),
 //! [`crate::geodesic`]): it is **captured** if it comes within r ≤ r₊(1 + `capture_margin`) of
-//! the outer horizon (for a horizonless metric: r ≤ `horizonless_capture_radius`), it
-//! **escapes** if it moves outward beyond the escape radius (the start radius D for a distant
-//! observer, max(r_o, D) for a finite one), and it **fails** on step-size underflow, a
+//! the outer horizon; without a horizon, if it reaches the absorbing core
+//! r ≤ `horizonless_capture_radius` (r ≤ 0, the other side, when the metric is regular at
+//! r = 0 with a throat or a Kerr-like disk there) or the inner edge of the metric's domain (it moves
+//! inward to a point beyond which, at r(1 − `domain_edge`), the metric is no longer a
+//! regular Lorentzian metric: a singular surface such as r = 2/ν of Janis–Newman–Winicour).
+//! It **escapes** if it moves outward beyond the escape radius (the start radius D for a
+//! distant observer, max(r_o, D) for a finite one), and it **fails** on step-size underflow, a
 //! non-finite state or the step limit. A failure is never counted as capture or escape.
 //!
-//! The boundary along each radial screen line ψ_k = 2πk/N about the origin is bracketed by a
+//! The radial search starts from a captured screen point: the screen centre if its ray is
+//! captured, else the first captured point of a scan outward along the α axis (and, without
+//! equatorial symmetry, over a square grid), so that a shadow that does not contain the
+//! screen centre is still found; [`RaytraceChecks::search_start`] says which. The boundary
+//! along each radial screen line ψ_k = 2πk/N about the origin is bracketed by a
 //! coarse scan (every transition between captured and escaping samples is kept) and refined
-//! by bisection to `settings.tolerance`. The scan and the first bisection stage use a loose
-//! relative tolerance (`coarse_rtol`, whose classification noise is ~1e-6 M) down to a bracket
-//! of `coarse_width`; that bracket, widened by `coarse_width` on both sides, is confirmed with
-//! the strict tolerance (else the scan bracket is, else the line fails) before the strict
-//! bisection. Outgoing rays beyond `relaxed_radius` are followed with a loose tolerance until
-//! they escape or turn inward again. Strict rays (rtol 1e-10) place the boundary to ~1e-9 M. The origin is the midpoint of the boundary along the
-//! α axis (ψ = 0, π from the screen centre) and, unless the curve is symmetric under β → −β,
-//! the midpoint of the boundary along the vertical line through it. The β mirror symmetry is
-//! used when it is exact: for an equatorially symmetric metric seen edge-on, and for a
-//! separable metric at any inclination (capture then depends on λ and η only, and η on β²;
-//! Carter 1968). Angles run in parallel; every angle is computed on its own, so the result
+//! by bisection to half of min(`settings.tolerance`, `check_width`). The scan and the first bisection
+//! stage use a loose relative tolerance (`coarse_rtol`, whose classification noise is ~1e-6
+//! M) down to a bracket of `coarse_width`; that bracket, widened by `coarse_width` on both
+//! sides, is confirmed with the strict tolerance (else the scan bracket is, else the line
+//! fails) before the strict bisection. Outgoing rays beyond `relaxed_radius` are followed with
+//! a loose tolerance until they escape or turn inward again. Strict rays (rtol 1e-10) place
+//! the boundary to ~1e-9 M. The origin is the midpoint of the boundary along the horizontal
+//! line through the search's start point (ψ = 0, π) and, unless the curve is symmetric under
+//! β → −β, the midpoint of the boundary along the vertical line through it. The β mirror
+//! symmetry is used when it is exact: for an equatorially symmetric metric seen edge-on, and
+//! for a separable metric at any inclination (capture then depends on λ and η only, and η on
+//! β²; Carter 1968). Angles run in parallel; every angle is computed on its own, so the result
 //! does not depend on the number of threads.
+//!
+//! # Checks: photon orbits and accuracy
+//!
+//! A captured/escaping boundary is a shadow's edge only if it is formed by photon orbits:
+//! rays just beside it must wind around a photon region, the more the closer they pass. Near
+//! the critical curve the number of half orbits grows like ln(1/|b − b_c|)/γ, with γ the
+//! photon-ring exponent (Johnson et al. 2020, Sci. Adv. 6, eaaz1310); for Schwarzschild the
+//! deflection diverges like −ln(b/b_c − 1) (Darwin 1959, Proc. R. Soc. A 249, 180; Bozza 2002,
+//! Phys. Rev. D 66, 103001). The winding of a ray ([`RayOutcome::winding`]) is the angle
+//! swept by its direction from the centre relative to the locally non-rotating frames, so
+//! that it stays finite as a captured ray approaches a horizon. For each curve crossing,
+//! strict rays at distances far = min(`winding_far`, crossing/2), mid and near (geometric
+//! steps) on both sides must show a winding that keeps growing per e-fold of distance: by at
+//! least `winding_floor`, and near the crossing by at least `winding_ratio` times its growth
+//! farther out. Beside a surface that rays merely graze (the absorbing core, the outline of a
+//! singularity, or the capture radius when photon orbits lie within the capture margin of
+//! the horizon) the winding converges instead. Without a horizon such a boundary means no
+//! shadow; with one, that the ray tracer does not resolve the curve (an error).
+//!
+//! Each crossing is also re-traced with refined numerics (`validation_rtol`, capture margin
+//! `validation_capture_margin`, start radius `validation_start_radius`): the refined rays at
+//! crossing ∓ δ, δ = min(tolerance, `check_width`) · 10^{k/2}, must be captured and escape.
+//! The largest over the curve of each crossing's smallest such δ is the estimated error;
+//! [`RaytraceChecks`] says whether it meets the requested tolerance, and why not when it does
+//! not (a refined ray failed, for example at a degenerate horizon).
 //!
 //! # Distant observer: start data with an asymptotic correction
 //!
@@ -65,14 +99,14 @@
 
 use super::observer::{celestial_from_screen, momentum_from_celestial};
 use super::{
-    CriticalCurve, Diagnostics, Observer, ShadowError, ShadowResult, ShadowSettings, ShadowStatus,
-    SolverKind,
+    check_tolerance, CriticalCurve, Diagnostics, Observer, ShadowError, ShadowResult,
+    ShadowSettings, ShadowStatus, SolverKind,
 };
 use crate::geodesic::{
     hamilton_rhs, integrate_with_norm, null_radial_momentum, Control, ErrorNorm,
     IntegrationFailure, IntegratorSettings, PhaseState,
 };
-use crate::metric::Spacetime;
+use crate::metric::{Spacetime, Symmetry};
 use crate::scalar::DualScalar;
 use num_dual::Dual64;
 use rayon::prelude::*;
@@ -92,8 +126,17 @@ pub struct RaytraceOptions {
     /// A ray is captured at r ≤ r₊ (1 + capture_margin).
     pub capture_margin: f64,
     /// For a horizonless metric, a ray is captured at r ≤ this radius (in M). A convention
-    /// (common practice, no source): it treats the central region as absorbing.
+    /// (common practice, no source): it treats the central region as absorbing. A boundary
+    /// drawn by this core, and not by photon orbits, is rejected by the photon-orbit check.
+    /// A metric that is regular at r = 0 with g_θθ > 0 there (a throat, such as a
+    /// Simpson–Visser wormhole, or the disk of a Kerr-like metric) captures at r ≤ 0 instead:
+    /// rays that cross r = 0 pass to the other side and do not return.
     pub horizonless_capture_radius: f64,
+    /// For a horizonless metric, a ray that cannot be continued while moving inward, at a
+    /// point where the metric is regular but stops being a regular Lorentzian metric at
+    /// r (1 − domain_edge), has reached the inner edge of the metric's domain (a singular
+    /// surface such as r = 2/ν of Janis–Newman–Winicour) and is absorbed there.
+    pub domain_edge: f64,
     /// Pre-scan samples per curve radius along each radial line.
     pub scan_samples: usize,
     /// While a ray moves outward beyond this radius (in M) only its escape is left to detect,
@@ -108,6 +151,36 @@ pub struct RaytraceOptions {
     pub coarse_rtol: f64,
     /// See `coarse_rtol`.
     pub coarse_width: f64,
+    /// Curve crossings are bisected to half of min(tolerance, check_width) (in M), so that
+    /// the photon-orbit check has rays close enough to the boundary.
+    pub check_width: f64,
+    /// Re-tracing of every crossing (the accuracy estimate): relative tolerance, capture
+    /// margin and start radius of the refined rays.
+    pub validation_rtol: f64,
+    /// See `validation_rtol`.
+    pub validation_capture_margin: f64,
+    /// See `validation_rtol`.
+    pub validation_start_radius: f64,
+    /// Farthest distance (in M) from a crossing of the rays whose winding is compared (at
+    /// most half the crossing's distance from the curve origin).
+    pub winding_far: f64,
+    /// Below this growth of the winding per e-fold of distance to the boundary (in radians),
+    /// rays are not winding around a photon region. The default, 0.03 rad over the ~6
+    /// e-folds between the mid and near rays, is a few times the winding's numerical noise
+    /// (~1e-3 rad); the growth measured beside Kerr and KRZ curves is 0.03 to 4 (common
+    /// practice, no source).
+    pub winding_floor: f64,
+    /// The winding's growth near the boundary must be at least this fraction of its growth
+    /// farther out. Beside a photon orbit the two are equal up to the plunge's phase (seen
+    /// from 0.5 to 2); beside a capture surface touched tangentially the growth falls by the
+    /// square root (captured side) or all (escaping side) of the distance ratio, 1/18 and
+    /// 1/316 over the default ladder (common practice, no source).
+    pub winding_ratio: f64,
+    /// When the screen centre escapes: spacing and half-length (in M) of the scan along the
+    /// α axis (and, without equatorial symmetry, of a square grid) for an interior point.
+    pub interior_scan_spacing: f64,
+    /// See `interior_scan_spacing`.
+    pub interior_scan_extent: f64,
     /// Integrator tolerances and limits; the sign and size of `initial_step` are set per ray.
     pub integrator: IntegratorSettings,
 }
@@ -125,6 +198,16 @@ impl Default for RaytraceOptions {
             relaxed_rtol: 1.0e-7,
             coarse_rtol: 1.0e-7,
             coarse_width: 3.0e-5,
+            domain_edge: 1.0e-6,
+            check_width: 1.0e-6,
+            validation_rtol: 1.0e-11,
+            validation_capture_margin: 1.0e-5,
+            validation_start_radius: 1.0e5,
+            winding_far: 1.0e-2,
+            winding_floor: 0.005,
+            winding_ratio: 0.25,
+            interior_scan_spacing: 0.05,
+            interior_scan_extent: 15.0,
             integrator: IntegratorSettings {
                 rtol: 1.0e-10,
                 atol: 1.0e-12,
@@ -159,11 +242,21 @@ pub enum RayFate {
     Failed(RayFailure),
 }
 
-/// One traced ray: its fate and the accepted integrator steps it took.
+/// One traced ray: its fate, the accepted integrator steps it took, how far it wound around
+/// the centre and how close it came.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct RayOutcome {
     pub fate: RayFate,
     pub steps: usize,
+    /// The angle (radians) swept by the ray's direction from the centre, (sin θ cos φ,
+    /// sin θ sin φ, cos θ), relative to the locally non-rotating frames (each step's change
+    /// of φ less ω Δt, ω = −g_tφ/g_φφ), summed while r exceeds the tracer's capture radius;
+    /// 0 unless measured ([`Tracer::trace_measured`]). For a planar orbit of a static metric
+    /// it is the angle swept in the orbital plane. Measured relative to those frames it stays
+    /// finite near a horizon, where φ itself winds without bound.
+    pub winding: f64,
+    /// The smallest radius reached.
+    pub min_radius: f64,
 }
 
 /// The boundary crossings along one radial screen line.
@@ -182,7 +275,44 @@ pub struct LineBoundary {
     pub failed_rays: usize,
     /// Accepted integrator steps on this line.
     pub steps: usize,
+    /// The photon-orbit check and accuracy estimate of the outermost crossing (curve lines
+    /// only, see [`Tracer::check_crossing`]).
+    pub check: Option<LineCheck>,
 }
+
+/// The photon-orbit check and the accuracy estimate of one crossing (module docs).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LineCheck {
+    /// The crossing checked, in M from the line's origin.
+    pub crossing: f64,
+    /// The crossing lies within this distance (in M) of the boundary re-traced with refined
+    /// numerics: the refined rays at crossing ∓ this distance are captured and escape.
+    /// `None` if not within the largest distance tried or if a refined ray failed (`note`).
+    pub validated_within: Option<f64>,
+    /// Distances (far, mid, near) from the crossing of the rays whose winding is compared;
+    /// this and the windings and growths below are NaN where not measured (`winding_note`).
+    pub distances: [f64; 3],
+    /// Their winding ([`RayOutcome::winding`]) on the captured side of the crossing.
+    pub winding_inside: [f64; 3],
+    /// Their winding on the escaping side.
+    pub winding_outside: [f64; 3],
+    /// Growth of the winding per e-fold of distance, [far segment, near segment], inside.
+    pub growth_inside: [f64; 2],
+    /// The same outside.
+    pub growth_outside: [f64; 2],
+    /// `Some(true)`: on both sides the winding keeps growing logarithmically as the distance
+    /// shrinks, as beside a photon orbit; `Some(false)`: it does not; `None`: not checkable
+    /// (`winding_note` says why).
+    pub photon_orbit: Option<bool>,
+    /// Why the crossing could not be validated (`validated_within` is `None`).
+    pub validation_note: Option<String>,
+    /// Why the winding could not be compared (`photon_orbit` is `None`).
+    pub winding_note: Option<String>,
+}
+
+/// Below this distance (in M) from a crossing the strict rays' fates are not trusted for the
+/// winding comparison: they place the boundary to ~1e-9 M (module docs).
+const WINDING_NEAR_MIN: f64 = 1.0e-8;
 
 impl LineBoundary {
     /// The outermost crossing, if the line converged.
@@ -215,7 +345,92 @@ pub struct Tracer<'a> {
     options: RaytraceOptions,
     capture_radius: f64,
     escape_radius: f64,
+    /// No horizon: the absorbing core and the domain edge capture.
+    horizonless: bool,
+    /// The winding is summed only while r exceeds this radius, so that rays traced with
+    /// different capture margins compare.
+    winding_radius: f64,
     quadrature: Vec<(f64, f64)>,
+}
+
+/// What a ray's path left behind: steps, winding, closest approach, last state.
+struct PathRecord {
+    steps: usize,
+    winding: f64,
+    min_radius: f64,
+    last: PhaseState,
+    inward: bool,
+    /// The direction from the centre and the frame-dragging rate ω at the last point, when
+    /// the winding is measured.
+    direction: Option<([f64; 3], f64)>,
+    winding_radius: f64,
+}
+
+impl PathRecord {
+    fn new(y0: &PhaseState, measure: bool, winding_radius: f64) -> Self {
+        PathRecord {
+            steps: 0,
+            winding: 0.0,
+            min_radius: y0[1],
+            last: *y0,
+            inward: false,
+            direction: measure.then(|| (direction(y0), 0.0)),
+            winding_radius,
+        }
+    }
+
+    fn measuring(&self) -> bool {
+        self.direction.is_some()
+    }
+
+    /// Record an accepted step; `omega` is the frame-dragging rate at `new` (used only when
+    /// the winding is measured).
+    fn step(&mut self, old: &PhaseState, new: &PhaseState, omega: f64) {
+        self.steps += 1;
+        self.min_radius = self.min_radius.min(new[1]);
+        self.last = *new;
+        self.inward = new[1] < old[1];
+        if let Some((previous, previous_omega)) = self.direction {
+            // The direction relative to the locally non-rotating frames: rotated back about
+            // the axis by the mean ω times the step in t.
+            let turn = -0.5 * (omega + previous_omega) * (new[0] - old[0]);
+            let (st, ct) = new[2].sin_cos();
+            let (sp, cp) = (new[3] + turn).sin_cos();
+            let current = [st * cp, st * sp, ct];
+            // The part of the step above the winding radius, interpolated linearly in r, so
+            // that the winding does not depend on where the steps happen to fall.
+            let (hi, lo) = (old[1].max(new[1]), old[1].min(new[1]));
+            let above = if lo > self.winding_radius {
+                1.0
+            } else if hi > self.winding_radius {
+                (hi - self.winding_radius) / (hi - lo)
+            } else {
+                0.0
+            };
+            if above > 0.0 {
+                let c = cross(&previous, &current);
+                self.winding += above * dot(&c, &c).sqrt().atan2(dot(&previous, &current));
+            }
+            self.direction = Some((direction(new), omega));
+        }
+    }
+}
+
+/// Whether the metric is a regular Lorentzian metric at (r, θ): finite components,
+/// g_rr, g_θθ > 0 and a (t, φ) block of negative determinant.
+fn regular_at(spacetime: &dyn Spacetime, r: f64, theta: f64) -> bool {
+    let g = spacetime.components_at(r, theta);
+    let finite = [g.g_tt, g.g_tphi, g.g_rr, g.g_thth, g.g_phph]
+        .iter()
+        .all(|x| x.is_finite());
+    finite && g.g_rr > 0.0 && g.g_thth > 0.0 && g.g_tt * g.g_phph - g.g_tphi * g.g_tphi < 0.0
+}
+
+/// The unit vector (sin θ cos φ, sin θ sin φ, cos θ) of a phase point.
+fn direction(y: &PhaseState) -> [f64; 3] {
+    let (st, ct) = y[2].sin_cos();
+    let (sp, cp) = y[3].sin_cos();
+    [st * cp, st * sp, ct]
 }
 
 /// Below this |p_φ|/E a ray is launched with p_φ = 0 exactly, so that it crosses the axis
@@ -246,20 +461,39 @@ impl<'a> Tracer<'a> {
             )));
         }
         let positive = |x: f64| x.is_finite() && x > 0.0;
-        if !positive(options.capture_margin)
-            || !positive(options.horizonless_capture_radius)
-            || !positive(options.coarse_width)
+        let lengths = [
+            options.capture_margin,
+            options.horizonless_capture_radius,
+            options.domain_edge,
+            options.coarse_width,
+            options.check_width,
+            options.validation_rtol,
+            options.validation_capture_margin,
+            options.winding_far,
+            options.winding_floor,
+            options.winding_ratio,
+            options.interior_scan_spacing,
+            options.interior_scan_extent,
+        ];
+        if !lengths.into_iter().all(positive)
+            || options.validation_start_radius < d
             || options.scan_samples < 2
             || options.correction_nodes < 2
         {
             return Err(ShadowError::BadRequest(
-                "capture margin and radius must be positive, scan samples and correction nodes \
-                 at least 2"
+                "capture margins and radii, widths, tolerances and scan lengths must be \
+                 positive, the validation start radius at least the start radius, scan \
+                 samples and correction nodes at least 2"
                     .into(),
             ));
         }
-        let capture_radius = match spacetime.outer_horizon() {
+        let horizon = spacetime.outer_horizon();
+        // Without a horizon: a metric regular at r = 0 with g_θθ > 0 there has a throat (or,
+        // Kerr-like, a disk) at r = 0, through which rays pass to r < 0 and do not return:
+        // they are captured once r ≤ 0, so that a photon orbit at the throat stays visible.
+        let capture_radius = match horizon {
             Some(r_plus) => r_plus * (1.0 + options.capture_margin),
+            None if regular_at(spacetime, 0.0, 1.0) => 0.0,
             None => options.horizonless_capture_radius,
         };
         let escape_radius = match observer.radius {
@@ -279,8 +513,29 @@ impl<'a> Tracer<'a> {
             options: *options,
             capture_radius,
             escape_radius,
+            horizonless: horizon.is_none(),
+            winding_radius: capture_radius,
             quadrature: gauss_legendre_unit(options.correction_nodes),
         })
+    }
+
+    /// The tracer that re-traces crossings with refined numerics (tighter tolerance, smaller
+    /// capture margin, larger start radius); it sums the winding above this tracer's capture
+    /// radius, so that windings compare.
+    pub fn validator(&self) -> Result<Tracer<'a>, ShadowError> {
+        let o = &self.options;
+        let refined = RaytraceOptions {
+            start_radius: o.validation_start_radius,
+            capture_margin: o.validation_capture_margin,
+            integrator: IntegratorSettings {
+                rtol: o.validation_rtol,
+                ..o.integrator
+            },
+            ..*o
+        };
+        let mut validator = Tracer::new(self.spacetime, &self.observer, &refined)?;
+        validator.winding_radius = self.capture_radius;
+        Ok(validator)
     }
 
     /// The radius at which rays count as captured.
@@ -405,22 +660,32 @@ impl<'a> Tracer<'a> {
 
     /// Follow the ray through (α, β) backwards until capture, escape or failure.
     pub fn trace(&self, alpha: f64, beta: f64) -> RayOutcome {
-        self.trace_with(alpha, beta, self.options.integrator.rtol)
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, false)
     }
 
     /// [`Tracer::trace`] with relative tolerance `rtol`.
     pub fn trace_with(&self, alpha: f64, beta: f64, rtol: f64) -> RayOutcome {
+        self.trace_ray(alpha, beta, rtol, false)
+    }
+
+    /// [`Tracer::trace`] with the winding measured (see [`RayOutcome::winding`]).
+    pub fn trace_measured(&self, alpha: f64, beta: f64) -> RayOutcome {
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, true)
+    }
+
+    fn trace_ray(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
         let y0 = match self.start_state(alpha, beta) {
             Ok(y) => y,
             Err(failure) => {
                 return RayOutcome {
                     fate: RayFate::Failed(failure),
                     steps: 0,
+                    winding: 0.0,
+                    min_radius: f64::INFINITY,
                 }
             }
         };
-        let (capture, escape) = (self.capture_radius, self.escape_radius);
-        let relax = self.options.relaxed_radius;
+        let capture = self.capture_radius;
         let strict_settings = IntegratorSettings {
             rtol,
             ..self.options.integrator
@@ -431,7 +696,7 @@ impl<'a> Tracer<'a> {
         };
         let mut y = y0;
         let mut strict = true;
-        let mut steps = 0;
+        let mut path = PathRecord::new(&y0, measure, self.winding_radius);
         // Phases: strict error control, except while moving outward beyond the relaxed radius
         // (then only the escape is left to detect); the ray returns to strict control as soon
         // as it turns inward again.
@@ -444,7 +709,7 @@ impl<'a> Tracer<'a> {
             let first_step = 0.01 * (y[1] - capture).abs().max(0.1);
             let settings = IntegratorSettings {
                 initial_step: -first_step,
-                max_steps: base.max_steps.saturating_sub(steps).max(1),
+                max_steps: base.max_steps.saturating_sub(path.steps).max(1),
                 ..*base
             };
             let mut event = None;
@@ -455,16 +720,13 @@ impl<'a> Tracer<'a> {
                 &settings,
                 ErrorNorm::Dynamical,
                 |old, new, _| {
-                    steps += 1;
-                    let outward = new[1] > old[1];
-                    if new[1] <= capture {
-                        event = Some(Some(RayFate::Captured));
-                    } else if new[1] > escape && outward {
-                        event = Some(Some(RayFate::Escaped));
-                    } else if strict == (new[1] > relax && outward) {
-                        // Switch between strict and relaxed control.
-                        event = Some(None);
-                    }
+                    let omega = if path.measuring() {
+                        self.frame_dragging(new)
+                    } else {
+                        0.0
+                    };
+                    path.step(old, new, omega);
+                    event = self.step_event(old, new, strict);
                     if event.is_some() {
                         Control::Stop
                     } else {
@@ -473,14 +735,17 @@ impl<'a> Tracer<'a> {
                 },
             );
             match (end, event) {
+                (Err(_), _) if path.inward && self.at_domain_edge(&path.last) => {
+                    break RayFate::Captured
+                }
                 (Err(failure), _) => break RayFate::Failed(RayFailure::Integration(failure)),
                 (Ok(_), Some(Some(fate))) => break fate,
                 (Ok(end), Some(None)) => {
                     y = end.state;
                     strict = !strict;
-                    if steps >= strict_settings.max_steps {
+                    if path.steps >= strict_settings.max_steps {
                         break RayFate::Failed(RayFailure::Integration(
-                            IntegrationFailure::TooManySteps { steps },
+                            IntegrationFailure::TooManySteps { steps: path.steps },
                         ));
                     }
                 }
@@ -492,7 +757,212 @@ impl<'a> Tracer<'a> {
                 }
             }
         };
-        RayOutcome { fate, steps }
+        RayOutcome {
+            fate,
+            steps: path.steps,
+            winding: path.winding,
+            min_radius: path.min_radius,
+        }
+    }
+
+    /// What an accepted step from `old` to `new` ends in: `Some(Some(fate))` for capture or
+    /// escape, `Some(None)` for a switch between strict and relaxed error control (strict
+    /// except while moving outward beyond `relaxed_radius`), `None` to go on.
+    fn step_event(
+        &self,
+        old: &PhaseState,
+        new: &PhaseState,
+        strict: bool,
+    ) -> Option<Option<RayFate>> {
+        let outward = new[1] > old[1];
+        let small_inward_step = !outward && old[1] - new[1] < self.options.domain_edge * new[1];
+        if new[1] <= self.capture_radius {
+            Some(Some(RayFate::Captured))
+        } else if new[1] > self.escape_radius && outward {
+            Some(Some(RayFate::Escaped))
+        } else if self.horizonless && small_inward_step && self.at_domain_edge(new) {
+            // Small inward steps: the domain edge may be near.
+            Some(Some(RayFate::Captured))
+        } else if strict == (new[1] > self.options.relaxed_radius && outward) {
+            Some(None)
+        } else {
+            None
+        }
+    }
+
+    /// The angular velocity ω = −g_tφ/g_φφ of the locally non-rotating frames at `y`
+    /// (Bardeen, Press & Teukolsky 1972); 0 where g_φφ vanishes.
+    fn frame_dragging(&self, y: &PhaseState) -> f64 {
+        let g = self.spacetime.components_at(y[1], y[2]);
+        if g.g_phph != 0.0 && g.g_tphi.is_finite() {
+            -g.g_tphi / g.g_phph
+        } else {
+            0.0
+        }
+    }
+
+    /// Whether a ray of a horizonless metric, moving inward, has reached the inner edge of the
+    /// metric's domain at `y`: the metric is regular there and not at r (1 − `domain_edge`)
+    /// (see [`RaytraceOptions::domain_edge`]). Asked when the integration fails or its inward
+    /// steps in r shrink below that distance.
+    fn at_domain_edge(&self, y: &PhaseState) -> bool {
+        let [_, r, theta, ..] = *y;
+        let regular = |r: f64| regular_at(self.spacetime, r, theta);
+        self.horizonless && regular(r) && !regular(r * (1.0 - self.options.domain_edge))
+    }
+
+    /// Check the outermost crossing of a converged `line` about `origin` and store the result
+    /// in `line.check` (module docs, "Checks"): re-trace it with `validator` at distances
+    /// δ = `width` · 10^{k/2} until the refined rays bracket it, then compare the winding of
+    /// strict rays at three distances (far, mid, near) on both sides. The crossing should be
+    /// bisected to well below `width` (the ray tracer uses half).
+    pub fn check_crossing(
+        &self,
+        validator: &Tracer,
+        origin: [f64; 2],
+        line: &mut LineBoundary,
+        width: f64,
+    ) {
+        let Some(crossing) = line.outermost() else {
+            return;
+        };
+        let (sin, cos) = line.psi.sin_cos();
+        let pair = |tracer: &Tracer, d: f64, rtol: f64, line: &mut LineBoundary| {
+            let outcomes = [crossing - d, crossing + d].map(|rho| {
+                tracer.trace_ray(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true)
+            });
+            for out in &outcomes {
+                line.rays += 1;
+                line.steps += out.steps;
+                line.failed_rays += usize::from(matches!(out.fate, RayFate::Failed(_)));
+            }
+            outcomes
+        };
+        let far = self.options.winding_far.min(0.5 * crossing);
+        let mut check = LineCheck {
+            crossing,
+            validated_within: None,
+            distances: [far, f64::NAN, f64::NAN],
+            winding_inside: [f64::NAN; 3],
+            winding_outside: [f64::NAN; 3],
+            growth_inside: [f64::NAN; 2],
+            growth_outside: [f64::NAN; 2],
+            photon_orbit: None,
+            validation_note: None,
+            winding_note: None,
+        };
+        // Accuracy: the refined rays must bracket the crossing.
+        let mut near = None;
+        let mut delta = width;
+        while delta <= 0.01 * far {
+            let [inside, outside] = pair(validator, delta, validator.options.integrator.rtol, line);
+            match (inside.fate, outside.fate) {
+                (RayFate::Captured, RayFate::Escaped) => {
+                    check.validated_within = Some(delta);
+                    near = (delta >= WINDING_NEAR_MIN).then_some((delta, [inside, outside]));
+                    break;
+                }
+                (RayFate::Failed(f), _) | (_, RayFate::Failed(f)) => {
+                    check.validation_note = Some(format!(
+                        "a re-traced ray {delta:.1e} M from the crossing failed: {f}"
+                    ));
+                    break;
+                }
+                _ => delta *= 10f64.sqrt(),
+            }
+        }
+        if check.validated_within.is_none() && check.validation_note.is_none() {
+            check.validation_note = Some(format!(
+                "the boundary re-traced with refined numerics is more than {:.1e} M from the \
+                 crossing",
+                delta / 10f64.sqrt()
+            ));
+        }
+        let ladder = |d: f64, rtol: f64, line: &mut LineBoundary| pair(self, d, rtol, line);
+        self.winding_ladder(&mut check, near, width, ladder, line);
+        line.check = Some(check);
+    }
+
+    /// The winding comparison of [`Tracer::check_crossing`]: rays at the far distance (loose
+    /// tolerance when it is at least 1e-3 M), the mid one and the near one (strict, unless the
+    /// validation supplied it) on both sides; the
+    /// winding must keep growing per e-fold of distance near the crossing, by at least
+    /// `winding_floor` and at least `winding_ratio` times its growth farther out.
+    fn winding_ladder(
+        &self,
+        check: &mut LineCheck,
+        near: Option<(f64, [RayOutcome; 2])>,
+        width: f64,
+        mut pair: impl FnMut(f64, f64, &mut LineBoundary) -> [RayOutcome; 2],
+        line: &mut LineBoundary,
+    ) {
+        let far = check.distances[0];
+        let bracketing = |o: &[RayOutcome; 2]| {
+            matches!(
+                (o[0].fate, o[1].fate),
+                (RayFate::Captured, RayFate::Escaped)
+            )
+        };
+        // Without validated rays to reuse, strict rays as near as WINDING_NEAR_MIN, moved out
+        // tenfold (twice at most) until they bracket the crossing.
+        let near = near.or_else(|| {
+            (0..3).find_map(|k| {
+                let d = width.max(WINDING_NEAR_MIN) * 10f64.powi(k);
+                let rays = pair(d, self.options.integrator.rtol, line);
+                bracketing(&rays).then_some((d, rays))
+            })
+        });
+        let Some(near) = near else {
+            check.winding_note = Some(format!(
+                "the strict rays up to {:.1e} M on either side of the crossing do not bracket it \
+                 (a failed ray, or the boundary is not sharp there)",
+                width.max(WINDING_NEAR_MIN) * 100.0
+            ));
+            return;
+        };
+        if far < 100.0 * near.0 {
+            check.winding_note = Some(format!(
+                "the crossing at {} M is too close to the curve origin for the winding check",
+                check.crossing
+            ));
+            return;
+        }
+        // Rays at least 1e-3 M from the crossing are classified reliably with the loose
+        // tolerance, in about a quarter of the steps. (Its noise is ~1e-6 M for most rays but
+        // more for rays that run close to the axis: at 179.99° rays 1e-5 M from the crossing
+        // were misclassified.)
+        let mid = (far * near.0).sqrt();
+        let strict = self.options.integrator.rtol;
+        let rtol = |d: f64| {
+            if d >= 1e-3 {
+                self.options.coarse_rtol.max(strict)
+            } else {
+                strict
+            }
+        };
+        let rays = [
+            pair(far, rtol(far), line),
+            pair(mid, rtol(mid), line),
+            near.1,
+        ];
+        if let Some(k) = rays.iter().position(|o| !bracketing(o)) {
+            let d = [far, mid, near.0][k];
+            check.winding_note = Some(format!(
+                "the rays {d:.1e} M on either side of the crossing do not bracket it (another \
+                 crossing nearby, or a failed ray)"
+            ));
+            return;
+        }
+        check.distances = [far, mid, near.0];
+        check.winding_inside = rays.map(|o| o[0].winding);
+        check.winding_outside = rays.map(|o| o[1].winding);
+        let step = (far / mid).ln();
+        let growth = |w: [f64; 3]| [(w[1] - w[0]) / step, (w[2] - w[1]) / step];
+        check.growth_inside = growth(check.winding_inside);
+        check.growth_outside = growth(check.winding_outside);
+        let (floor, ratio) = (self.options.winding_floor, self.options.winding_ratio);
+        let winds = |g: [f64; 2]| g[1] >= floor && g[1] >= ratio * g[0];
+        check.photon_orbit = Some(winds(check.growth_inside) && winds(check.growth_outside));
     }
 
     /// All boundary crossings along the line origin + ρ (cos ψ, sin ψ), ρ > 0, given whether
@@ -500,6 +970,10 @@ impl<'a> Tracer<'a> {
     /// [0, `scan_to`] and on to half a curve radius (and at least three samples) beyond the
     /// outermost captured sample, then bisection of every transition to `tolerance`. Gives up
     /// (as a failure) beyond `max_radius`.
+    ///
+    /// If a crossing found with the loose tolerance is not confirmed with the strict one (rays
+    /// that pass close to a singularity can be misclassified by the loose tolerance), the line
+    /// is scanned again with the strict tolerance throughout.
     pub fn boundary_along_line(
         &self,
         origin: [f64; 2],
@@ -507,6 +981,31 @@ impl<'a> Tracer<'a> {
         psi: f64,
         scan: &LineScan,
     ) -> LineBoundary {
+        let strict = self.options.integrator.rtol;
+        let coarse = self.options.coarse_rtol.max(strict);
+        let (line, unconfirmed) = self.scan_line(origin, origin_captured, psi, scan, coarse);
+        if !unconfirmed || coarse == strict {
+            return line;
+        }
+        let (mut again, _) = self.scan_line(origin, origin_captured, psi, scan, strict);
+        again.rays += line.rays;
+        again.failed_rays += line.failed_rays;
+        again.steps += line.steps;
+        again
+    }
+
+    /// [`Tracer::boundary_along_line`] with the scan and first bisection stage at relative
+    /// tolerance `coarse`; also says whether a crossing was not confirmed at the strict one.
+    /// (Over 80 lines: the scan and the three bisection stages share the `classify` closure
+    /// and the line's counters.)
+    fn scan_line(
+        &self,
+        origin: [f64; 2],
+        origin_captured: bool,
+        psi: f64,
+        scan: &LineScan,
+        coarse: f64,
+    ) -> (LineBoundary, bool) {
         let LineScan {
             spacing,
             scan_to,
@@ -521,11 +1020,9 @@ impl<'a> Tracer<'a> {
             rays: 0,
             failed_rays: 0,
             steps: 0,
+            check: None,
         };
-        let (strict, coarse) = (
-            self.options.integrator.rtol,
-            self.options.coarse_rtol.max(self.options.integrator.rtol),
-        );
+        let strict = self.options.integrator.rtol;
         let classify = |rho: f64, rtol: f64, line: &mut LineBoundary| -> Option<bool> {
             let out = self.trace_with(origin[0] + rho * cos, origin[1] + rho * sin, rtol);
             line.rays += 1;
@@ -555,10 +1052,10 @@ impl<'a> Tracer<'a> {
                 line.failure = Some(format!(
                     "no escaping ray found out to screen radius {max_radius} along psi = {psi}"
                 ));
-                return line;
+                return (line, false);
             }
             let Some(captured) = classify(rho, coarse, &mut line) else {
-                return line;
+                return (line, false);
             };
             if captured != previous {
                 brackets.push(((j - 1) as f64 * spacing, rho, previous));
@@ -580,7 +1077,7 @@ impl<'a> Tracer<'a> {
             while hi - lo > width {
                 let mid = 0.5 * (lo + hi);
                 let Some(captured) = classify(mid, coarse, &mut line) else {
-                    return line;
+                    return (line, false);
                 };
                 if captured == captured_lo {
                     lo = mid;
@@ -593,10 +1090,10 @@ impl<'a> Tracer<'a> {
             let mut confirmed = false;
             for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
                 let Some(fate_a) = classify(a, strict, &mut line) else {
-                    return line;
+                    return (line, false);
                 };
                 let Some(fate_b) = classify(b, strict, &mut line) else {
-                    return line;
+                    return (line, false);
                 };
                 if fate_a == captured_lo && fate_b != captured_lo {
                     (lo, hi) = (a, b);
@@ -609,7 +1106,7 @@ impl<'a> Tracer<'a> {
                     "the crossing between screen radii {scan_lo} and {scan_hi} along psi = {psi} \
                      is not confirmed at the strict tolerance"
                 ));
-                return line;
+                return (line, true);
             }
             // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of
             // every point of the bracket.
@@ -619,7 +1116,7 @@ impl<'a> Tracer<'a> {
                     break;
                 }
                 let Some(captured) = classify(mid, strict, &mut line) else {
-                    return line;
+                    return (line, false);
                 };
                 if captured == captured_lo {
                     lo = mid;
@@ -629,8 +1126,31 @@ impl<'a> Tracer<'a> {
             }
             line.crossings.push(0.5 * (lo + hi));
         }
-        line
+        (line, false)
     }
+}
+
+/// What the ray tracer's checks found for a curve (in [`Diagnostics::raytrace`]).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct RaytraceChecks {
+    /// The captured screen point (α, β) the radial search started from.
+    pub search_point: [f64; 2],
+    /// How it was found: the screen centre, or a scan when the centre escapes.
+    pub search_start: String,
+    /// Whether every curve point is known to lie within the requested tolerance of the
+    /// boundary re-traced with refined numerics (tighter integration, smaller capture margin,
+    /// larger start radius).
+    pub tolerance_met: bool,
+    /// The largest distance (in M) between a curve point and that re-traced boundary, as
+    /// bracketed by the refined rays; `None` when a refined ray failed or the distance
+    /// exceeds 1% of the farthest winding distance.
+    pub estimated_error: Option<f64>,
+    /// Why the tolerance is not met (`None` when it is).
+    pub accuracy_note: Option<String>,
+    /// Smallest and largest growth of the winding per e-fold of distance next to the
+    /// boundary, over all curve angles and both sides, in radians (π/γ for a spherical
+    /// photon sphere with ring exponent γ; 1 for Schwarzschild).
+    pub winding_growth: [f64; 2],
 }
 
 /// The full outcome of a ray-traced critical curve, including per-angle failures.
@@ -638,12 +1158,20 @@ impl<'a> Tracer<'a> {
 pub struct RaytraceReport {
     /// The curve's origin (α, β), when the axis boundaries converged.
     pub origin: Option<[f64; 2]>,
-    /// Set when there is no shadow (the ray at the screen centre escapes).
+    /// The captured screen point the radial search started from, and how it was found.
+    pub search_start: Option<([f64; 2], String)>,
+    /// Set when there is no shadow (no captured ray was found).
     pub no_shadow: Option<String>,
     /// The boundary along each ψ_k = 2πk/N about the origin (mirrored ones included).
     pub lines: Vec<LineBoundary>,
     /// Failures before the angles were traced (screen centre, axis lines).
     pub setup_failures: Vec<String>,
+    /// The requested boundary tolerance, in M.
+    pub tolerance: f64,
+    /// The capture radius, in M.
+    pub capture_radius: f64,
+    /// Whether the metric has no horizon (the capture radius is the absorbing core's).
+    pub horizonless: bool,
     /// Counts and timing (every ray traced, including the axis lines).
     pub diagnostics: Diagnostics,
 }
@@ -657,22 +1185,32 @@ impl RaytraceReport {
             .or_else(|| self.lines.iter().find_map(|l| l.failure.clone()))
     }
 
-    /// Convert to a [`ShadowResult`]: `NotConverged` if any needed ray failed.
+    /// Convert to a [`ShadowResult`]: `NotConverged` if any needed ray failed or the
+    /// photon-orbit check could not be made; `NoShadow` if there is no captured region or
+    /// (without a horizon) its boundary is not formed by photon orbits.
     pub fn into_result(self) -> Result<ShadowResult, ShadowError> {
-        let result = |status, curve| ShadowResult {
+        let result = |status, curve, diagnostics| ShadowResult {
             solver: SolverKind::Raytrace,
             status,
             curve,
             photon_orbit_radii: None,
             photon_spheres: Vec::new(),
             exponents: None,
-            diagnostics: self.diagnostics.clone(),
+            diagnostics,
         };
         if let Some(failure) = self.first_failure() {
             let bad_angles = self.lines.iter().filter(|l| l.failure.is_some()).count();
+            let start = match &self.search_start {
+                Some((p, _)) if *p != [0.0, 0.0] => format!(
+                    " (the screen-centre ray escapes; the search started from the captured \
+                     point ({}, {}))",
+                    p[0], p[1]
+                ),
+                _ => String::new(),
+            };
             return Err(ShadowError::NotConverged(format!(
                 "ray tracing did not converge: {} of {} rays failed, {} of {} curve angles have \
-                 no converged boundary; first failure: {failure}",
+                 no converged boundary; first failure: {failure}{start}",
                 self.diagnostics.failed_rays,
                 self.diagnostics.rays_traced,
                 bad_angles,
@@ -680,7 +1218,12 @@ impl RaytraceReport {
             )));
         }
         if let Some(reason) = self.no_shadow.clone() {
-            return Ok(result(ShadowStatus::NoShadow { reason }, None));
+            let status = ShadowStatus::NoShadow { reason };
+            return Ok(result(status, None, self.diagnostics.clone()));
+        }
+        if let Some(reason) = self.not_photon_orbits()? {
+            let status = ShadowStatus::NoShadow { reason };
+            return Ok(result(status, None, self.diagnostics.clone()));
         }
         let origin = self
             .origin
@@ -691,10 +1234,113 @@ impl RaytraceReport {
             .map(|l| l.outermost())
             .collect::<Option<Vec<f64>>>()
             .ok_or_else(|| ShadowError::NotConverged("a curve angle has no crossing".into()))?;
+        let mut diagnostics = self.diagnostics.clone();
+        diagnostics.raytrace = Some(self.checks_summary());
         Ok(result(
             ShadowStatus::Shadow,
             Some(CriticalCurve { origin, radii }),
+            diagnostics,
         ))
+    }
+
+    /// The photon-orbit verdict: `Ok(Some(reason))` when, without a horizon, the boundary is
+    /// not formed by photon orbits (no shadow); an error when it is not so with a horizon (the
+    /// capture margin's outline) or could not be checked; `Ok(None)` when every line passed.
+    fn not_photon_orbits(&self) -> Result<Option<String>, ShadowError> {
+        let n = self.lines.len();
+        let check = |l: &LineBoundary| l.check.as_ref().and_then(|c| c.photon_orbit);
+        let failing: Vec<&LineCheck> = self
+            .lines
+            .iter()
+            .filter(|l| check(l) == Some(false))
+            .filter_map(|l| l.check.as_ref())
+            .collect();
+        // One angle whose boundary is certainly not formed by photon orbits decides; an angle
+        // that could not be checked leaves the curve unconfirmed.
+        let Some(first) = failing.first() else {
+            if let Some(l) = self.lines.iter().find(|l| check(l).is_none()) {
+                let note = l.check.as_ref().and_then(|c| c.winding_note.clone());
+                return Err(ShadowError::NotConverged(format!(
+                    "could not check that the boundary along psi = {} is formed by photon \
+                     orbits: {}",
+                    l.psi,
+                    note.unwrap_or_else(|| "no check was made".into())
+                )));
+            }
+            return Ok(None);
+        };
+        let what = format!(
+            "the boundary is not formed by photon orbits along {} of {n} curve angles: rays \
+             beside it stop winding around the centre as they approach it (e.g. the winding \
+             grows by {:.3} then {:.3} rad per e-fold of distance on the captured side and by \
+             {:.3} then {:.3} on the escaping side, from {:.0e} M to {:.0e} M away)",
+            failing.len(),
+            first.growth_inside[0],
+            first.growth_inside[1],
+            first.growth_outside[0],
+            first.growth_outside[1],
+            first.distances[0],
+            first.distances[2],
+        );
+        if self.horizonless {
+            let core = if self.capture_radius == 0.0 {
+                "rays crossing the disk or throat r = 0".to_string()
+            } else {
+                format!("the absorbing core r <= {} M", self.capture_radius)
+            };
+            Ok(Some(format!(
+                "{what}; it is the outline of the central singularity ({core}, or the inner \
+                 edge of the metric's domain), not a photon orbit"
+            )))
+        } else {
+            Err(ShadowError::NotConverged(format!(
+                "{what}; it is the outline of the capture surface r = {} M just outside the \
+                 horizon: photon orbits lie within the capture margin, and the ray tracer does \
+                 not resolve this curve",
+                self.capture_radius
+            )))
+        }
+    }
+
+    /// Accuracy and winding summary over the curve lines.
+    fn checks_summary(&self) -> RaytraceChecks {
+        let checks: Vec<&LineCheck> = self.lines.iter().filter_map(|l| l.check.as_ref()).collect();
+        let estimated_error = checks
+            .iter()
+            .map(|c| c.validated_within)
+            .try_fold(0.0f64, |worst, v| v.map(|v| worst.max(v)));
+        let tolerance_met = estimated_error.is_some_and(|e| e <= self.tolerance);
+        let accuracy_note = (!tolerance_met).then(|| {
+            checks
+                .iter()
+                .find_map(|c| c.validation_note.clone())
+                .unwrap_or_else(|| {
+                    format!(
+                        "a curve point lies up to {:.1e} M from the boundary re-traced with \
+                         refined numerics (tolerance {:e} M)",
+                        estimated_error.unwrap_or(f64::NAN),
+                        self.tolerance
+                    )
+                })
+        });
+        let growth = checks
+            .iter()
+            .flat_map(|c| [c.growth_inside[1], c.growth_outside[1]]);
+        let winding_growth = growth.fold([f64::INFINITY, f64::NEG_INFINITY], |[lo, hi], g| {
+            [lo.min(g), hi.max(g)]
+        });
+        let (search_point, search_start) = self
+            .search_start
+            .clone()
+            .unwrap_or(([0.0, 0.0], "the screen centre".into()));
+        RaytraceChecks {
+            search_point,
+            search_start,
+            tolerance_met,
+            estimated_error,
+            accuracy_note,
+            winding_growth,
+        }
     }
 }
 
@@ -734,142 +1380,62 @@ pub fn trace_curve(
             settings.points
         )));
     }
-    let tolerance = settings.tolerance;
-    if !(tolerance.is_finite() && tolerance > 0.0) {
-        return Err(ShadowError::BadRequest(format!(
-            "the boundary tolerance must be positive, got {tolerance}"
-        )));
-    }
+    check_tolerance(settings.tolerance)?;
     let tracer = Tracer::new(spacetime, observer, options)?;
+    let validator = tracer.validator()?;
     let mut report = RaytraceReport {
         origin: None,
+        search_start: None,
         no_shadow: None,
         lines: Vec::new(),
         setup_failures: Vec::new(),
+        tolerance: settings.tolerance,
+        capture_radius: tracer.capture_radius,
+        horizonless: tracer.horizonless,
         diagnostics: Diagnostics {
             star_shaped: true,
             ..Default::default()
         },
     };
-    let count = |report: &mut RaytraceReport, line: &LineBoundary| {
-        report.diagnostics.rays_traced += line.rays;
-        report.diagnostics.failed_rays += line.failed_rays;
-        report.diagnostics.integrator_steps += line.steps;
-    };
-    let max_radius = 0.25 * tracer.escape_radius;
     let finish = |mut report: RaytraceReport| {
         report.diagnostics.wall_seconds = start.elapsed().as_secs_f64();
         Ok(report)
     };
-
-    // The screen centre must be inside the shadow.
-    let centre = tracer.trace(0.0, 0.0);
-    report.diagnostics.rays_traced += 1;
-    report.diagnostics.integrator_steps += centre.steps;
-    match centre.fate {
-        RayFate::Captured => {}
-        RayFate::Escaped => {
-            report.no_shadow = Some(
-                "the ray through the screen centre escapes: no shadow around the centre".into(),
-            );
-            return finish(report);
-        }
-        RayFate::Failed(f) => {
-            report.diagnostics.failed_rays += 1;
-            report
-                .setup_failures
-                .push(format!("the ray through the screen centre failed: {f}"));
-            return finish(report);
-        }
-    }
-
-    // Origin: midpoints along the α axis and (without mirror symmetry) the vertical line.
-    let axis_spacing = 0.5;
-    let axis = |origin: [f64; 2], psis: &[f64]| -> Vec<LineBoundary> {
-        psis.par_iter()
-            .map(|&psi| {
-                let scan = LineScan {
-                    spacing: axis_spacing,
-                    scan_to: 0.0,
-                    tolerance,
-                    max_radius,
-                };
-                tracer.boundary_along_line(origin, true, psi, &scan)
-            })
-            .collect()
-    };
-    let mut extent = Vec::new();
-    let horizontal = axis([0.0, 0.0], &[0.0, PI]);
-    for line in &horizontal {
-        count(&mut report, line);
-        if let Some(f) = &line.failure {
-            report.setup_failures.push(f.clone());
-        }
-    }
-    let (Some(right), Some(left)) = (horizontal[0].outermost(), horizontal[1].outermost()) else {
+    let Some(interior) = find_interior(&tracer, &mut report) else {
         return finish(report);
     };
-    extent.extend([right, left]);
-    let alpha_c = 0.5 * (right - left);
     let mirror = spacetime.is_separable()
         || (spacetime.is_equatorially_symmetric()
             && (observer.inclination - FRAC_PI_2).abs() < 1e-12);
-    let mut beta_c = 0.0;
-    if !mirror {
-        let vertical = axis([alpha_c, 0.0], &[FRAC_PI_2, 3.0 * FRAC_PI_2]);
-        for line in &vertical {
-            count(&mut report, line);
-            if let Some(f) = &line.failure {
-                report.setup_failures.push(f.clone());
-            }
-        }
-        let (Some(up), Some(down)) = (vertical[0].outermost(), vertical[1].outermost()) else {
-            return finish(report);
-        };
-        extent.extend([up, down]);
-        beta_c = 0.5 * (up - down);
-    }
-    let origin = [alpha_c, beta_c];
-    let check = tracer.trace(alpha_c, beta_c);
-    report.diagnostics.rays_traced += 1;
-    report.diagnostics.integrator_steps += check.steps;
-    match check.fate {
-        RayFate::Captured => {}
-        RayFate::Escaped => {
-            report.setup_failures.push(format!(
-                "the curve origin ({alpha_c}, {beta_c}) is not inside the shadow"
-            ));
-            return finish(report);
-        }
-        RayFate::Failed(f) => {
-            report.diagnostics.failed_rays += 1;
-            report
-                .setup_failures
-                .push(format!("the ray through the curve origin failed: {f}"));
-            return finish(report);
-        }
-    }
+    let Some((origin, scale)) = find_origin(&tracer, &mut report, interior, mirror, settings)
+    else {
+        return finish(report);
+    };
     report.origin = Some(origin);
 
-    // Every angle, each on its own.
+    // Every angle, each on its own, bisected and checked.
     let n = settings.points;
-    let scale = extent.iter().sum::<f64>() / extent.len() as f64;
+    // Crossings are bisected to half the target, so that the re-traced rays at the target
+    // distance have room for the strict rays' own ~1e-9 M.
+    let target = settings.tolerance.min(options.check_width);
     let scan = LineScan {
         spacing: scale / options.scan_samples as f64,
         scan_to: 0.0,
-        tolerance,
-        max_radius,
+        tolerance: 0.5 * target,
+        max_radius: 0.25 * tracer.escape_radius,
     };
     let traced = if mirror { n / 2 + 1 } else { n };
     let mut lines: Vec<LineBoundary> = (0..traced)
         .into_par_iter()
         .map(|k| {
             let psi = TAU * k as f64 / n as f64;
-            tracer.boundary_along_line(origin, true, psi, &scan)
+            let mut line = tracer.boundary_along_line(origin, true, psi, &scan);
+            tracer.check_crossing(&validator, origin, &mut line, target);
+            line
         })
         .collect();
     for line in &lines {
-        count(&mut report, line);
+        report.count(line);
     }
     if mirror {
         for k in traced..n {
@@ -892,6 +1458,181 @@ pub fn trace_curve(
     }
     report.lines = lines;
     finish(report)
+}
+
+impl RaytraceReport {
+    /// Add a line's rays and steps to the diagnostics.
+    fn count(&mut self, line: &LineBoundary) {
+        self.diagnostics.rays_traced += line.rays;
+        self.diagnostics.failed_rays += line.failed_rays;
+        self.diagnostics.integrator_steps += line.steps;
+    }
+
+    /// Add one ray to the diagnostics.
+    fn count_ray(&mut self, out: &RayOutcome) {
+        self.diagnostics.rays_traced += 1;
+        self.diagnostics.integrator_steps += out.steps;
+        self.diagnostics.failed_rays += usize::from(matches!(out.fate, RayFate::Failed(_)));
+    }
+}
+
+/// A captured screen point to start the radial search from: the screen centre if its ray is
+/// captured, else the first captured point of a scan along the α axis outward from the
+/// centre (and, for a metric without equatorial symmetry, of a square grid ordered by
+/// distance from the centre). Sets `no_shadow` when none is found, a setup failure when a
+/// ray fails before a captured one is found, and `search_start` otherwise.
+fn find_interior(tracer: &Tracer, report: &mut RaytraceReport) -> Option<[f64; 2]> {
+    let centre = tracer.trace(0.0, 0.0);
+    report.count_ray(&centre);
+    match centre.fate {
+        RayFate::Captured => {
+            report.search_start = Some(([0.0, 0.0], "the screen centre (captured)".into()));
+            return Some([0.0, 0.0]);
+        }
+        RayFate::Failed(f) => {
+            report
+                .setup_failures
+                .push(format!("the ray through the screen centre failed: {f}"));
+            return None;
+        }
+        RayFate::Escaped => {}
+    }
+    let spacetime = tracer.spacetime;
+    if spacetime.symmetry() == Symmetry::Spherical {
+        report.no_shadow = Some(
+            "the ray through the screen centre escapes, and the shadow of a spherically \
+             symmetric metric is centred there: no shadow"
+                .into(),
+        );
+        return None;
+    }
+    let (h, extent) = (
+        tracer.options.interior_scan_spacing,
+        tracer.options.interior_scan_extent,
+    );
+    let grid = !spacetime.is_equatorially_symmetric();
+    let candidates = interior_candidates(h, extent, grid);
+    for batch in candidates.chunks(64) {
+        let outcomes: Vec<RayOutcome> =
+            batch.par_iter().map(|p| tracer.trace(p[0], p[1])).collect();
+        for (p, out) in batch.iter().zip(&outcomes) {
+            report.count_ray(out);
+            match out.fate {
+                RayFate::Escaped => {}
+                RayFate::Captured => {
+                    report.search_start = Some((
+                        *p,
+                        format!(
+                            "the first captured point ({}, {}) of a scan outward from the \
+                             screen centre, whose ray escapes",
+                            p[0], p[1]
+                        ),
+                    ));
+                    return Some(*p);
+                }
+                RayFate::Failed(f) => {
+                    report.setup_failures.push(format!(
+                        "the ray at ({}, {}) failed while scanning for an interior point: {f}",
+                        p[0], p[1]
+                    ));
+                    return None;
+                }
+            }
+        }
+    }
+    report.no_shadow = Some(format!(
+        "no captured ray at the screen centre nor along the alpha axis (|alpha| <= {extent} M, \
+         spacing {h} M){}: no shadow found",
+        if grid {
+            format!(" nor on a square grid of spacing {} M", 10.0 * h)
+        } else {
+            String::new()
+        }
+    ));
+    None
+}
+
+/// Screen points for the interior scan: ±kh on the α axis for kh ≤ `extent`, nearest
+/// first (+ before −); with `grid`, then the points of a square grid of spacing 10h in
+/// |α|, |β| ≤ `extent` off the α axis, nearest first.
+fn interior_candidates(h: f64, extent: f64, grid: bool) -> Vec<[f64; 2]> {
+    let n = (extent / h).floor() as i64;
+    let mut points: Vec<[f64; 2]> = (1..=n)
+        .flat_map(|k| [[k as f64 * h, 0.0], [-(k as f64) * h, 0.0]])
+        .collect();
+    if grid {
+        let g = 10.0 * h;
+        let m = (extent / g).floor() as i64;
+        let mut cells: Vec<(i64, i64)> = (-m..=m)
+            .flat_map(|i| (-m..=m).map(move |j| (i, j)))
+            .filter(|&(_, j)| j != 0)
+            .collect();
+        cells.sort_by_key(|&(i, j)| (i * i + j * j, i, j));
+        points.extend(cells.iter().map(|&(i, j)| [i as f64 * g, j as f64 * g]));
+    }
+    points
+}
+
+/// The curve origin: the midpoint of the boundary along the horizontal line through the
+/// interior point and, unless `mirror`, of the vertical line through that midpoint; checked
+/// to be captured. Returns it with the mean of the axis extents (the curve's scale).
+fn find_origin(
+    tracer: &Tracer,
+    report: &mut RaytraceReport,
+    interior: [f64; 2],
+    mirror: bool,
+    settings: &ShadowSettings,
+) -> Option<([f64; 2], f64)> {
+    let axis = |origin: [f64; 2], psis: [f64; 2], report: &mut RaytraceReport| {
+        let scan = LineScan {
+            spacing: 0.5,
+            scan_to: 0.0,
+            tolerance: settings.tolerance,
+            max_radius: 0.25 * tracer.escape_radius,
+        };
+        let lines: Vec<LineBoundary> = psis
+            .par_iter()
+            .map(|&psi| tracer.boundary_along_line(origin, true, psi, &scan))
+            .collect();
+        for line in &lines {
+            report.count(line);
+            if let Some(f) = &line.failure {
+                report.setup_failures.push(f.clone());
+            }
+        }
+        match (lines[0].outermost(), lines[1].outermost()) {
+            (Some(plus), Some(minus)) => Some((plus, minus)),
+            _ => None,
+        }
+    };
+    let (right, left) = axis(interior, [0.0, PI], report)?;
+    let alpha_c = interior[0] + 0.5 * (right - left);
+    let mut extent = vec![right, left];
+    let mut beta_c = interior[1];
+    if !mirror {
+        let (up, down) = axis([alpha_c, interior[1]], [FRAC_PI_2, 3.0 * FRAC_PI_2], report)?;
+        extent.extend([up, down]);
+        beta_c = interior[1] + 0.5 * (up - down);
+    }
+    let check = tracer.trace(alpha_c, beta_c);
+    report.count_ray(&check);
+    match check.fate {
+        RayFate::Captured => {}
+        RayFate::Escaped => {
+            report.setup_failures.push(format!(
+                "the curve origin ({alpha_c}, {beta_c}) is not inside the shadow"
+            ));
+            return None;
+        }
+        RayFate::Failed(f) => {
+            report
+                .setup_failures
+                .push(format!("the ray through the curve origin failed: {f}"));
+            return None;
+        }
+    }
+    let scale = extent.iter().sum::<f64>() / extent.len() as f64;
+    Some(([alpha_c, beta_c], scale))
 }
 
 /// The spherical phase point (p_t = −1) of the flat-space ray at Cartesian `x` with unit

@@ -163,9 +163,10 @@ impl BoundCase {
         }
         let points_ok = (8..=MAX_POINTS).contains(&settings.shadow.points);
         let grid_ok = (3..=MAX_INITIAL_GRID).contains(&settings.initial_grid);
+        crate::shadow::check_tolerance(settings.shadow.tolerance)
+            .map_err(|e| label(format!("{e}")))?;
         let positive = |t: f64| t > 0.0 && t.is_finite();
-        let tolerances_ok =
-            positive(settings.shadow.tolerance) && positive(settings.parameter_tolerance);
+        let tolerances_ok = positive(settings.parameter_tolerance);
         if !(points_ok && grid_ok && tolerances_ok) {
             return Err(label(format!(
                 "need points from 8 to {MAX_POINTS}, initial_grid from 3 to {MAX_INITIAL_GRID} \

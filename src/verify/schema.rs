@@ -311,12 +311,7 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
         )));
     }
     let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
-    if !(tolerance.is_finite() && tolerance > 0.0) {
-        return Err(label(format!(
-            "boundary_tolerance must be a positive finite number, got {}",
-            Num(tolerance)
-        )));
-    }
+    crate::shadow::check_tolerance(tolerance).map_err(|e| label(format!("{e}")))?;
     let solver = match raw.solver.unwrap_or(SolverName::Auto) {
         SolverName::Auto => SolverChoice::Auto,
         SolverName::Spherical => SolverChoice::Spherical,

@@ -330,10 +330,15 @@ pub fn clip(text: &str, max: usize) -> String {
 }
 
 /// An empty scratch folder for one test, under the system temporary folder.
+///
+/// Each call gets a folder of its own (a per-process counter is appended), so that tests running
+/// in parallel in one process never remove each other's folders.
 pub fn scratch(test: &str, name: &str) -> PathBuf {
+    static CALLS: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+    let call = CALLS.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
     let dir = std::env::temp_dir()
         .join(format!("umbral-{test}-{}", std::process::id()))
-        .join(name);
+        .join(format!("{name}-{call}"));
     let _ = std::fs::remove_dir_all(&dir);
     std::fs::create_dir_all(&dir).unwrap_or_else(|e| panic!("{}: {e}", dir.display()));
     dir
