@@ -65,6 +65,7 @@ pub use header::{metric_sha256, sha256_hex, MetricHashError};
 pub use observe::{clock, LineProgress, Observe, Outcome, ProgressFn, Status};
 
 use rayon::prelude::*;
+use std::collections::HashSet;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::Mutex;
 
@@ -165,6 +166,9 @@ pub struct Executor<'a, O> {
     stop: Option<&'a AtomicBool>,
     started: bool,
     interrupted: bool,
+    /// Keys of the items this run has finished, computed or recalled (a later batch that
+    /// recalls one of them does not count it again, nor as kept from an earlier run).
+    finished: HashSet<String>,
 }
 
 /// What the parallel loop shares, behind one lock.
@@ -191,6 +195,7 @@ impl<'a, O: Send> Executor<'a, O> {
             stop: None,
             started: false,
             interrupted: false,
+            finished: HashSet::new(),
         }
     }
 
@@ -261,8 +266,16 @@ impl<'a, O: Send> Executor<'a, O> {
             None => keys.iter().map(|_| None).collect(),
         };
         let kept = slots.iter().filter(|s| s.is_some()).count();
-        self.status.done += kept;
-        self.status.kept += kept;
+        let earlier = keys
+            .iter()
+            .zip(&slots)
+            .filter(|(k, s)| s.is_some() && !self.finished.contains(*k))
+            .count();
+        for (k, _) in keys.iter().zip(&slots).filter(|(_, s)| s.is_some()) {
+            self.finished.insert(k.clone());
+        }
+        self.status.done += earlier;
+        self.status.kept += earlier;
         if !self.started {
             self.started = true;
             for o in self.observers.iter_mut() {
@@ -285,6 +298,7 @@ impl<'a, O: Send> Executor<'a, O> {
             });
         }
         for (p, out) in todo.into_iter().zip(computed) {
+            self.finished.insert(keys[p].clone());
             slots[p] = out;
         }
         Ok(Batch {
@@ -388,6 +402,38 @@ mod tests {
                 total: Some(4)
             }
         );
+    }
+
+    /// A checkpoint in memory.
+    #[derive(Default)]
+    struct Memory(std::collections::HashMap<String, u64>);
+    impl Checkpoint<u64> for Memory {
+        fn recall(&self, key: &str) -> Option<u64> {
+            self.0.get(key).copied()
+        }
+        fn record(&mut self, key: &str, output: &u64) -> Result<(), CheckpointError> {
+            self.0.insert(key.to_string(), *output);
+            Ok(())
+        }
+        fn complete(&mut self) -> Result<(), CheckpointError> {
+            Ok(())
+        }
+    }
+
+    #[test]
+    fn an_item_asked_for_again_is_recalled_and_counted_once() {
+        let mut earlier = Memory::default();
+        earlier.0.insert("0".into(), 0);
+        let mut exec = Executor::new("cubes", "numbers").checkpoint(&mut earlier);
+        let first = exec.batch(&Cubes(3), &Selection::All).unwrap();
+        assert_eq!((first.computed, first.kept), (2, 1));
+        let again = exec
+            .batch(&Cubes(5), &Selection::Indices(vec![2, 3]))
+            .unwrap();
+        assert_eq!(again.outputs, vec![8, 27]);
+        assert_eq!(again.computed, 1);
+        // Four distinct items (0 to 3), one of them kept from the earlier run.
+        assert_eq!((exec.status().done, exec.status().kept), (4, 1));
     }
 
     #[test]

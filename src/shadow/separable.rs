@@ -682,7 +682,7 @@ impl<'a> Problem<'a> {
             return Err(not_converged(format!(
                 "the admissible photon orbits reach the edge of the scanned range [{}, {}] \
                  (e.g. at extremal spin, where they touch the horizon): not supported by the \
-                 separable solver; try --solver raytrace or a spin just below extremal",
+                 separable solver; use the ray-tracing solver (raytrace) or a spin just below extremal",
                 grid[0],
                 grid[grid.len() - 1]
             )));
