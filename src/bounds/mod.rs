@@ -673,9 +673,13 @@ pub fn bound_with(
 /// by. Non-negative means allowed.
 ///
 /// ```
-/// let m = umbral::bounds::allowed_margin(5.0, Some(0.02), [4.8, 5.1], Some(0.1));
-/// assert!((m - 0.1).abs() < 1e-12); // 5.1 − 5.0 is the nearest edge
-/// assert!(umbral::bounds::allowed_margin(5.2, None, [4.8, 5.1], None) < 0.0);
+/// use umbral::bounds::allowed_margin;
+/// // The circularity limit (0.1 − 0.02) is nearer than the interval's upper end (5.1 − 5.0).
+/// let m = allowed_margin(5.0, Some(0.02), [4.8, 5.1], Some(0.1));
+/// assert!((m - 0.08).abs() < 1e-12);
+/// // Without a circularity deviation only the size counts.
+/// assert!((allowed_margin(5.0, None, [4.8, 5.1], Some(0.1)) - 0.1).abs() < 1e-12);
+/// assert!(allowed_margin(5.2, None, [4.8, 5.1], None) < 0.0);
 /// ```
 pub fn allowed_margin(
     size: f64,

@@ -85,16 +85,18 @@ impl TerminalProgress {
 
 impl Observe for TerminalProgress {
     fn started(&mut self, status: &Status) {
+        // Drawn only once its style, name, message and position are set (setting any of them
+        // on a visible bar draws a frame).
+        let hidden = indicatif::ProgressDrawTarget::hidden();
         let (bar, template) = match status.total {
             Some(total) => (
-                indicatif::ProgressBar::new(total as u64),
+                indicatif::ProgressBar::with_draw_target(Some(total as u64), hidden),
                 "{prefix}{bar:40} {pos}/{len} {msg}, {per_sec}, {eta} left",
             ),
-            None => {
-                let bar = indicatif::ProgressBar::new_spinner();
-                bar.enable_steady_tick(Duration::from_millis(120));
-                (bar, "{prefix}{spinner} {pos} {msg}, {elapsed} elapsed")
-            }
+            None => (
+                indicatif::ProgressBar::with_draw_target(None, hidden),
+                "{prefix}{spinner} {pos} {msg}, {elapsed} elapsed",
+            ),
         };
         if let Ok(style) = indicatif::ProgressStyle::with_template(template) {
             bar.set_style(style);
@@ -107,6 +109,10 @@ impl Observe for TerminalProgress {
         bar.set_prefix(name);
         bar.set_message(Self::message(status));
         bar.set_position(status.done as u64);
+        bar.set_draw_target(indicatif::ProgressDrawTarget::stderr());
+        if status.total.is_none() {
+            bar.enable_steady_tick(Duration::from_millis(120));
+        }
         self.bar = Some(interrupt::Bar::new(bar));
     }
 
