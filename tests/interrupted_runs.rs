@@ -21,7 +21,7 @@
 
 mod common;
 
-use common::{point_lines_on_disk, scratch, snapshot, wait_for, Invocation, Outcome};
+use common::{point_lines_on_disk, scratch, snapshot, wait_for, Invocation, Outcome, LONG_BOUND};
 use std::sync::OnceLock;
 use std::time::Duration;
 
@@ -41,25 +41,8 @@ const SCAN: &[&str] = &[
     "s.jsonl",
 ];
 
-/// A bound with the inclination as a nuisance range: about 40 nuisance evaluations (about a
-/// second on two cores), each over a grid of inclinations.
-const BOUND: &[&str] = &[
-    "bound",
-    "--metric",
-    "kerr-newman",
-    "--vary",
-    "q=0:1",
-    "--set",
-    "a=0.5",
-    "--inclination-range",
-    "30:80",
-    "--measurement",
-    concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/examples/measurement_ring.toml"
-    ),
-    "--json",
-];
+/// A bound with the inclination as a nuisance range.
+const BOUND: &[&str] = LONG_BOUND;
 
 /// What an uninterrupted run gives.
 struct Reference {

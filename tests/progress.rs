@@ -4,32 +4,18 @@
 
 mod common;
 
-use common::{scratch, Invocation};
+use common::{scratch, Invocation, LONG_BOUND};
 use std::io::Read;
 use std::os::fd::FromRawFd;
 
-/// A bound of about a second: about 40 nuisance evaluations.
-const BOUND: &[&str] = &[
-    "bound",
-    "--metric",
-    "kerr-newman",
-    "--vary",
-    "q=0:1",
-    "--set",
-    "a=0.5",
-    "--inclination-range",
-    "30:80",
-    "--measurement",
-    concat!(
-        env!("CARGO_MANIFEST_DIR"),
-        "/examples/measurement_ring.toml"
-    ),
-    "--json",
-    "--no-checkpoint",
-];
-
+/// The bound, without a checkpoint, and `extra`.
 fn with(extra: &[&'static str]) -> Vec<&'static str> {
-    BOUND.iter().chain(extra).copied().collect()
+    LONG_BOUND
+        .iter()
+        .chain(&["--no-checkpoint"])
+        .chain(extra)
+        .copied()
+        .collect()
 }
 
 /// The count in a progress line `bound on q: N nuisance evaluations (...), MM:SS elapsed`.
@@ -70,7 +56,7 @@ fn off_a_terminal_a_bound_prints_progress_lines_and_the_same_json() {
         "plain lines that say the stage: {err}"
     );
     // The default (a line at most every 5 s) prints none for a run this short... or a few.
-    let default = Invocation::new(&dir, BOUND).run();
+    let default = Invocation::new(&dir, with(&[])).run();
     assert_eq!(default.code, Some(0), "{}", default.describe());
     assert!(
         default.stderr_text().lines().count() <= 1 + (default.seconds / 5.0) as usize,
@@ -103,7 +89,7 @@ fn on_a_terminal_a_bound_draws_a_bar_and_clears_it() {
             std::fs::File::from_raw_fd(slave),
         )
     };
-    let mut cmd = Invocation::new(&dir, BOUND).command();
+    let mut cmd = Invocation::new(&dir, with(&[])).command();
     cmd.stderr(slave);
     let child = cmd.spawn().expect("start umbral");
     drop(cmd); // our copy of the terminal's other end: reading ends when the child's closes

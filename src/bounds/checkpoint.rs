@@ -41,7 +41,7 @@ pub(crate) fn key(x: f64) -> String {
 }
 
 /// A number that may be NaN or infinite: JSON numbers for finite values, strings otherwise.
-mod number {
+pub(super) mod number {
     use serde::{Deserialize, Deserializer, Serialize, Serializer};
 
     #[derive(Serialize, Deserialize)]
@@ -76,24 +76,6 @@ mod number {
     }
 }
 
-/// [`Extremes`] as stored.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-struct StoredExtremes {
-    #[serde(with = "number")]
-    size_min: f64,
-    #[serde(with = "number")]
-    size_max: f64,
-    #[serde(with = "number")]
-    circularity_min: f64,
-    partial: bool,
-    horizonless: bool,
-    #[serde(with = "number")]
-    wall_backoff: f64,
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    refinement_cut: Option<String>,
-}
-
 /// A node line (the checksum is empty while the body is written).
 #[derive(Debug, Clone, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -103,26 +85,14 @@ struct StoredNode {
     #[serde(default, skip_serializing_if = "Option::is_none")]
     reason: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    extremes: Option<StoredExtremes>,
+    extremes: Option<Extremes>,
     #[serde(default, skip_serializing_if = "String::is_empty")]
     checksum: String,
 }
 
 fn stored(node: &Node) -> StoredNode {
     let (status, reason, extremes) = match &node.value {
-        Aggregate::Ok(e) => (
-            "ok",
-            None,
-            Some(StoredExtremes {
-                size_min: e.size_min,
-                size_max: e.size_max,
-                circularity_min: e.circularity_min,
-                partial: e.partial,
-                horizonless: e.horizonless,
-                wall_backoff: e.wall_backoff,
-                refinement_cut: e.refinement_cut.clone(),
-            }),
-        ),
+        Aggregate::Ok(e) => ("ok", None, Some(e.clone())),
         Aggregate::NoHorizon => ("no_horizon", None, None),
         Aggregate::NoShadow(r) => ("no_shadow", Some(r.clone()), None),
         Aggregate::Failed(r) => ("failed", Some(r.clone()), None),
@@ -172,15 +142,7 @@ fn node(s: StoredNode) -> Result<Node, String> {
             {
                 return Err("holds extremes no evaluation gives (sizes, circularity or back-off out of order)".into());
             }
-            Aggregate::Ok(Extremes {
-                size_min: e.size_min,
-                size_max: e.size_max,
-                circularity_min: e.circularity_min,
-                partial: e.partial,
-                horizonless: e.horizonless,
-                wall_backoff: e.wall_backoff,
-                refinement_cut: e.refinement_cut,
-            })
+            Aggregate::Ok(e)
         }
         ("no_shadow", Some(r), _) => Aggregate::NoShadow(r),
         ("failed", Some(r), _) => Aggregate::Failed(r),

@@ -8,8 +8,10 @@
 //! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
 //! less extreme.
 
+use super::checkpoint::number;
 use crate::numerics::{bisect_predicate, brent_minimise};
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 use std::sync::Mutex;
 
 /// The prediction at one point of parameter space.
@@ -40,13 +42,18 @@ pub trait PointModel: Sync {
     fn passes_horizon_test(&self, n: &[f64]) -> bool;
 }
 
-/// Extremes of the prediction over the feasible part of the box.
-#[derive(Debug, Clone, PartialEq)]
+/// Extremes of the prediction over the feasible part of the box (as a bound's checkpoint
+/// stores them: a number that is not finite as the string `nan`, `inf` or `-inf`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Extremes {
     /// Min and max of the size over points with ΔC ≤ the limit (NaN if there are none).
+    #[serde(with = "number")]
     pub size_min: f64,
+    #[serde(with = "number")]
     pub size_max: f64,
     /// Min of ΔC over the box.
+    #[serde(with = "number")]
     pub circularity_min: f64,
     /// Whether some grid points had no horizon or no shadow (skipped).
     pub partial: bool,
@@ -54,9 +61,11 @@ pub struct Extremes {
     pub horizonless: bool,
     /// The largest step back from a horizon boundary inside the box needed for the solver
     /// to succeed (0 if none).
+    #[serde(with = "number")]
     pub wall_backoff: f64,
     /// A solver failure at an off-grid refinement point that stopped the refinement (the
     /// extreme is then the best value found before it; grid-point failures are fatal).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub refinement_cut: Option<String>,
 }
 
