@@ -60,8 +60,9 @@ pub struct Extremes {
     /// Whether some grid point that counts is a horizonless object (with a shadow).
     pub horizonless: bool,
     /// The largest step back from a horizon boundary inside the box needed for the solver
-    /// to succeed (0 if none).
-    #[serde(with = "number")]
+    /// to succeed (0 if none); `horizon_backoff` in a checkpoint (a distance in the
+    /// parameter, not a wall-clock time).
+    #[serde(with = "number", rename = "horizon_backoff")]
     pub wall_backoff: f64,
     /// A solver failure at an off-grid refinement point that stopped the refinement (the
     /// extreme is then the best value found before it; grid-point failures are fatal).
