@@ -146,6 +146,15 @@ fn interrupt_and_resume(run: &Resumable, name: &str, signal: i32, at_lines: usiz
         Some(0),
         "{name}: the run ended normally before the signal"
     );
+    if signal == libc::SIGINT {
+        // Ctrl-C: a clean stop (exit 130, as shells report it) that says how to resume.
+        let err = stopped.stderr_text();
+        assert!(
+            stopped.code == Some(130) && err.contains("interrupted after") && err.contains("resume"),
+            "{name}: Ctrl-C should end with exit 130 and say how far the run got and how to resume: {}",
+            stopped.describe()
+        );
+    }
     let resumed = invocation.run();
     assert_eq!(resumed.code, Some(0), "{name}: {}", resumed.describe());
     let bytes = match run.output {
