@@ -562,7 +562,7 @@ fn report_text(
         tol = settings.tolerance,
         kt = table(kerr_family, "a", sc.theta_g_uas),
         rt = table(rn_family, "q", sc.theta_g_uas),
-        gr = 6.0 * 3f64.sqrt(),
+        gr = 2.0 * umbral::observables::SCHWARZSCHILD_SHADOW_RADIUS,
     );
     r.push_str("## The measurement\n\nThe invented ring (measurement.toml) gives these shadow-radius intervals:\n\n");
     for iv in &radii.intervals {
