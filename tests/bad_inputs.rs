@@ -157,9 +157,19 @@ fn c(
         expect,
         background: None,
         keeps: None,
-        timeout: common::DEFAULT_TIMEOUT,
+        // Ray-traced rows take a few CPU seconds each (5 s for the near-extremal dilaton); on a
+        // loaded 2-core machine their wall time can pass the default. The timeout only catches
+        // hangs, so these rows get more room.
+        timeout: if args.contains("--solver raytrace") {
+            RAYTRACE_TIMEOUT
+        } else {
+            common::DEFAULT_TIMEOUT
+        },
     }
 }
+
+/// Kill-timeout of the rows that run the ray tracer (see `c`).
+const RAYTRACE_TIMEOUT: Duration = Duration::from_secs(60);
 
 impl Case {
     fn background(mut self, args: &'static str) -> Self {

@@ -1021,7 +1021,11 @@ fn raytracer_against_exact_solvers() {
         let common_args = ["--points", "32", "--json"];
         let mut rt_args = common_args.to_vec();
         rt_args.extend(["--solver", "raytrace", "--tolerance", "1e-8"]);
-        let rt = Invocation::new(&dir, shadow_args(rt_metric, rt_sets, incl, &rt_args)).run();
+        // A ray-traced curve takes a few CPU seconds (5 s for the near-extremal dilaton); the
+        // kill-timeout only catches hangs, so it leaves room for a loaded 2-core machine.
+        let mut rt = Invocation::new(&dir, shadow_args(rt_metric, rt_sets, incl, &rt_args));
+        rt.timeout = std::time::Duration::from_secs(60);
+        let rt = rt.run();
         let ex = Invocation::new(&dir, shadow_args(ex_metric, ex_sets, incl, &common_args)).run();
         let mut problems = printed_problems(&rt);
         problems.extend(printed_problems(&ex));

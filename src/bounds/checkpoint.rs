@@ -267,7 +267,7 @@ fn header(request: &BoundRequest) -> Result<Header, BoundError> {
 ///     "[size.shadow_radius]\nintervals = [ { confidence = 0.68, low = 4.9, high = 5.3 } ]",
 /// ).unwrap();
 /// let request = BoundRequest {
-///     metric: "reissner-nordstrom".into(),
+///     metric: umbral::metrics::MetricSource::builtin("reissner-nordstrom").unwrap(),
 ///     vary: ParameterRange { name: "q".into(), low: 0.0, high: 1.2 },
 ///     fixed: vec![],
 ///     inclination: Inclination::Fixed { degrees: 17.0 },

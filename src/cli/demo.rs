@@ -18,7 +18,7 @@ use umbral::bounds::{
 use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
-use umbral::metrics::build_metric;
+use umbral::metrics::{build_metric, MetricSource};
 use umbral::observables::CentreChoice;
 use umbral::output::OutputTransaction;
 use umbral::run::{Controls, Executor, Observe, RunError, Selection, WorkList};
@@ -473,7 +473,7 @@ impl DemoBound<'_> {
             high,
         };
         let request = BoundRequest {
-            metric: self.metric.into(),
+            metric: MetricSource::builtin(self.metric)?,
             vary: range(self.vary),
             fixed: Vec::new(),
             inclination: Inclination::Fixed {

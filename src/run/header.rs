@@ -7,12 +7,10 @@
 //! run depends on, with `metric` and `metric_sha256` among them.
 
 use super::checkpoint::CheckpointError;
-use crate::error::MetricError;
-use crate::metrics::MetricSource;
+use crate::metrics::{MetricSource, SourceError};
 use serde::de::DeserializeOwned;
 use serde::Serialize;
 use serde_json::Value;
-use sha2::{Digest, Sha256};
 
 /// Lower-case hexadecimal SHA-256 of `bytes`.
 ///
@@ -23,21 +21,12 @@ use sha2::{Digest, Sha256};
 /// );
 /// ```
 pub fn sha256_hex(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
+    crate::metrics::sha256_hex(bytes)
 }
 
 /// Why the metric's content hash could not be made.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum MetricHashError {
-    /// The built-in metric does not build.
-    #[error(transparent)]
-    Metric(#[from] MetricError),
-    /// The metric's description does not serialise.
-    #[error("cannot describe metric '{name}': {message}")]
-    Describe { name: String, message: String },
     /// The metric file cannot be read again.
     #[error("cannot read '{path}': {message}")]
     Read { path: String, message: String },
@@ -46,56 +35,23 @@ pub enum MetricHashError {
     Changed { path: String },
 }
 
-/// The metric's content hash. A metric file read from disk is hashed by its bytes, read again
-/// here and checked to compile to the metric the run uses (so the hash belongs to the
-/// formulas that computed the records); a metric file given as text is hashed by its compiled
-/// form; a built-in metric by its name and parameter specifications (the umbral version is a
-/// field of its own in the header).
+/// The metric's content hash ([`MetricSource::content_sha256`]), its errors in run terms.
 ///
 /// ```
 /// use umbral::metrics::MetricSource;
-/// let kerr = umbral::run::metric_sha256(&MetricSource::from("kerr")).unwrap();
+/// let kerr = umbral::run::metric_sha256(&MetricSource::builtin("kerr").unwrap()).unwrap();
 /// assert_eq!(kerr.len(), 64);
-/// assert_ne!(kerr, umbral::run::metric_sha256(&MetricSource::from("kerr-newman")).unwrap());
+/// let kn = MetricSource::builtin("kerr-newman").unwrap();
+/// assert_ne!(kerr, umbral::run::metric_sha256(&kn).unwrap());
 /// ```
 pub fn metric_sha256(source: &MetricSource) -> Result<String, MetricHashError> {
-    match source {
-        MetricSource::Builtin(name) => {
-            let info = source.build(&[])?.info().clone();
-            let text = serde_json::to_string(&info).map_err(|e| MetricHashError::Describe {
-                name: name.clone(),
-                message: e.to_string(),
-            })?;
-            Ok(sha256_hex(format!("builtin\n{text}").as_bytes()))
-        }
-        MetricSource::File(spec) => match spec.path() {
-            None => Ok(sha256_hex(format!("compiled\n{spec:?}").as_bytes())),
-            Some(path) => {
-                let read = |e: crate::input::InputError| MetricHashError::Read {
-                    path: path.display().to_string(),
-                    message: e.to_string(),
-                };
-                let bytes = crate::input::read_bytes_capped(path, crate::input::MAX_INPUT_BYTES)
-                    .map_err(read)?;
-                let text = crate::input::utf8(bytes.clone()).map_err(read)?;
-                let changed =
-                    match crate::metric_file::parse_metric_file(&text, &path.display().to_string())
-                    {
-                        Ok(mut again) => {
-                            again.path = Some(path.to_path_buf());
-                            again != **spec
-                        }
-                        Err(_) => true,
-                    };
-                if changed {
-                    return Err(MetricHashError::Changed {
-                        path: path.display().to_string(),
-                    });
-                }
-                Ok(sha256_hex(&bytes))
-            }
+    source.content_sha256().map_err(|e| match e {
+        SourceError::Read { path, reason } => MetricHashError::Read {
+            path,
+            message: reason,
         },
-    }
+        SourceError::Changed { path } => MetricHashError::Changed { path },
+    })
 }
 
 /// A JSON value for a message: compact, and cut short when long.

@@ -125,6 +125,15 @@ impl From<crate::numerics::SearchFailure> for ShadowError {
     }
 }
 
+/// Why a solver cannot use a metric's declared structure: `undeclared` when the metric does
+/// not declare it, otherwise the metric's own error (a declared hook that returns nothing).
+pub(crate) fn structure_why(e: crate::error::MetricError, undeclared: &str) -> String {
+    match e {
+        crate::error::MetricError::NotDeclared { .. } => undeclared.to_string(),
+        other => other.to_string(),
+    }
+}
+
 /// Pick the solver `auto` would use for this metric.
 pub fn auto_solver(spacetime: &dyn Spacetime) -> SolverKind {
     if spacetime.symmetry() == Symmetry::Spherical {

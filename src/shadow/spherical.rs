@@ -18,10 +18,11 @@
 
 use super::exponents::spherical_exponents;
 use super::{
-    CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult, ShadowSettings,
-    ShadowStatus, SolverKind,
+    structure_why, CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult,
+    ShadowSettings, ShadowStatus, SolverKind,
 };
-use crate::metric::{Spacetime, Symmetry};
+use crate::error::MetricError;
+use crate::metric::Spacetime;
 use crate::numerics::brent_root;
 use std::time::Instant;
 
@@ -57,7 +58,7 @@ pub struct PhotonSphereAnalysis {
 
 /// C/A and (ln C/A)′ = C′/C − A′/A at r, with whether A, B, C are positive and finite there.
 fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
-    let jet = spacetime.spherical_jet(r)?;
+    let jet = spacetime.spherical_jet(r).ok()?;
     let [a, a1, _] = jet.a;
     let [b, _, _] = jet.b;
     let [c, c1, _] = jet.c;
@@ -65,11 +66,11 @@ fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
     ok.then(|| (c / a, c1 / c - a1 / a))
 }
 
-fn not_spherical(spacetime: &dyn Spacetime) -> ShadowError {
+fn not_spherical(spacetime: &dyn Spacetime, e: MetricError) -> ShadowError {
     ShadowError::SolverNotApplicable {
         solver: "spherical",
         metric: spacetime.info().name,
-        why: "the metric is not declared spherically symmetric".to_string(),
+        why: structure_why(e, "the metric is not declared spherically symmetric"),
     }
 }
 
@@ -187,9 +188,11 @@ fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> 
 pub fn photon_sphere_analysis(
     spacetime: &dyn Spacetime,
 ) -> Result<PhotonSphereAnalysis, ShadowError> {
-    if spacetime.symmetry() != Symmetry::Spherical || spacetime.spherical_jet(R_FAR).is_none() {
-        return Err(not_spherical(spacetime));
-    }
+    // Declared spherical, with the hook that gives A, B, C (after this, a radius where the
+    // jet is missing is one where the metric is not regular).
+    spacetime
+        .spherical_jet(R_FAR)
+        .map_err(|e| not_spherical(spacetime, e))?;
     let horizon = spacetime
         .outer_horizon()
         .filter(|h| h.is_finite() && *h > 0.0);
@@ -327,7 +330,7 @@ fn observer_view(
     }
     let jet = spacetime
         .spherical_jet(r_o)
-        .ok_or_else(|| not_spherical(spacetime))?;
+        .map_err(|e| not_spherical(spacetime, e))?;
     let (a, c) = (jet.a[0], jet.c[0]);
     if !(a.is_finite() && c.is_finite() && a > 0.0 && c > 0.0) {
         return Err(ShadowError::BadRequest(format!(
