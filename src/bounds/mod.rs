@@ -43,11 +43,11 @@
 //! assert!(!result.no_horizon.is_empty()); // q > 1 has no horizon
 //! ```
 
-mod checkpoint;
+mod evaluate;
 pub mod nuisance;
 mod refine;
 
-pub use checkpoint::{checkpoint_name, open_checkpoint, BoundCheckpoint, Node, NodeFormat};
+pub use evaluate::{Evaluate, Halted, Node, Parallel};
 
 use crate::error::MetricError;
 use crate::measurement::DerivedRadii;
@@ -55,7 +55,6 @@ use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables};
-use crate::run::{CheckpointError, Controls, Executor, MetricHashError, RunError};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice, SolverKind};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use serde::{Deserialize, Serialize};
@@ -341,15 +340,9 @@ pub enum BoundError {
     /// A bound end that could not be refined.
     #[error("{0}")]
     NotConverged(String),
-    /// The metric's content hash (for the checkpoint) could not be made.
+    /// The evaluator stopped the search (it knows why).
     #[error(transparent)]
-    MetricHash(#[from] MetricHashError),
-    /// The checkpoint could not be used.
-    #[error(transparent)]
-    Checkpoint(#[from] CheckpointError),
-    /// Stopped on request after `done` nuisance evaluations (kept in the checkpoint, if any).
-    #[error("interrupted after {done} nuisance evaluations")]
-    Interrupted { done: usize },
+    Halted(#[from] Halted),
 }
 
 /// One nuisance dimension.
@@ -622,29 +615,28 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     })
 }
 
-/// Compute the allowed ranges of the varied parameter at each level.
+/// Compute the allowed ranges of the varied parameter at each level, the nuisance
+/// evaluations in a parallel loop ([`Parallel`]).
 pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
-    bound_with(request, Controls::default(), None)
+    bound_on(request, &mut Parallel)
 }
 
-/// [`bound`] on a run executor with the observers and stop flag of `controls` attached, and
-/// with `checkpoint` (see [`open_checkpoint`]) keeping every nuisance evaluation as it
-/// finishes and giving back those an earlier run kept. A stop request ends the bound with
-/// [`BoundError::Interrupted`] once the evaluations in progress are kept.
-pub fn bound_with(
+/// Check `request` as [`bound`] does, without evaluating anything.
+pub fn check_request(request: &BoundRequest) -> Result<(), BoundError> {
+    prepare(request).map(|_| ())
+}
+
+/// [`bound`] with the nuisance evaluations done by `evaluator` (the run layer's executor
+/// adds progress, a checkpoint and Ctrl-C); an evaluator that stops ends the bound with
+/// [`BoundError::Halted`].
+pub fn bound_on(
     request: &BoundRequest,
-    controls: Controls<'_>,
-    checkpoint: Option<&mut BoundCheckpoint>,
+    evaluator: &mut dyn Evaluate,
 ) -> Result<BoundResult, BoundError> {
     let prep = prepare(request)?;
-    let name = format!("bound on {}", request.vary.name);
-    let mut exec = Executor::new(&name, "nuisance evaluations").with(controls);
-    if let Some(c) = checkpoint {
-        exec = exec.checkpoint(c);
-    }
     let mut search = refine::Search {
         prep: &prep,
-        exec,
+        evaluator,
         levels: request
             .radii
             .intervals
@@ -655,10 +647,7 @@ pub fn bound_with(
     };
     let nodes = search.refined_nodes()?;
     let cells = search.bound_ends(&nodes)?;
-    search.exec.finish().map_err(|e| match e {
-        RunError::Interrupted { done, .. } => BoundError::Interrupted { done },
-        RunError::Checkpoint(e) => BoundError::Checkpoint(e),
-    })?;
+    search.evaluator.finish()?;
     Ok(refine::result(
         &prep,
         &nodes,

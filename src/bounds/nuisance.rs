@@ -8,7 +8,6 @@
 //! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
 //! less extreme.
 
-use super::checkpoint::number;
 use crate::numerics::{bisect_predicate, brent_minimise};
 use rayon::prelude::*;
 use serde::{Deserialize, Serialize};
@@ -436,4 +435,40 @@ fn refine_line(
         }
     }
     Ok(best)
+}
+
+/// A number that may be NaN or infinite: JSON numbers for finite values, strings otherwise.
+mod number {
+    use serde::{Deserialize, Deserializer, Serialize, Serializer};
+
+    #[derive(Serialize, Deserialize)]
+    #[serde(untagged)]
+    enum Stored {
+        Finite(f64),
+        Other(String),
+    }
+
+    pub fn serialize<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+        match *x {
+            x if x.is_finite() => Stored::Finite(x),
+            x if x.is_nan() => Stored::Other("nan".into()),
+            x if x > 0.0 => Stored::Other("inf".into()),
+            _ => Stored::Other("-inf".into()),
+        }
+        .serialize(s)
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        match Stored::deserialize(d)? {
+            Stored::Finite(x) => Ok(x),
+            Stored::Other(s) => match s.as_str() {
+                "nan" => Ok(f64::NAN),
+                "inf" => Ok(f64::INFINITY),
+                "-inf" => Ok(f64::NEG_INFINITY),
+                _ => Err(serde::de::Error::custom(format!(
+                    "'{s}' is not a number (nan, inf and -inf are the only words)"
+                ))),
+            },
+        }
+    }
 }

@@ -1,15 +1,14 @@
 //! The adaptive search over the varied parameter: a uniform starting grid, category changes
 //! (no horizon, no shadow, failure) located by bisection, crossings hidden between grid
 //! points looked for with parabolas, and the ends of the allowed ranges refined by Brent's
-//! method. Every nuisance evaluation is a work item of the run executor, in batches (the
-//! starting grid, each round of candidates) or one at a time (bisection and Brent steps), so
-//! evaluations are reported, checkpointed and interruptible like any other run's items.
+//! method. The nuisance evaluations are asked of an [`Evaluate`], in batches (the starting
+//! grid, each round of candidates) or one at a time (bisection and Brent steps), so a program
+//! can report, checkpoint and interrupt them like any other run's items.
 
-use super::checkpoint::{key, Node};
 use super::nuisance::{Aggregate, Extremes};
 use super::{describe, BoundError, BoundResult, Failure, LevelBound, PredictedPoint, Prepared};
+use super::{Evaluate, Node};
 use crate::numerics::brent_root;
-use crate::run::{Executor, RunError, Selection, WorkList};
 
 /// Whether a node's prediction includes horizonless objects.
 fn horizonless(a: &Aggregate) -> bool {
@@ -52,43 +51,10 @@ fn passes(m: f64) -> bool {
     m >= 0.0
 }
 
-/// Values of the varied parameter as work items (key: the value's shortest decimal form).
-struct Values<'p> {
-    prep: &'p Prepared<'p>,
-    xs: &'p [f64],
-}
-
-impl WorkList for Values<'_> {
-    type Output = Node;
-
-    fn len(&self) -> usize {
-        self.xs.len()
-    }
-
-    fn key(&self, index: usize) -> String {
-        key(self.xs[index])
-    }
-
-    fn run(&self, index: usize) -> Node {
-        let x = self.xs[index];
-        Node {
-            x,
-            value: self.prep.evaluate(x),
-        }
-    }
-}
-
-fn run_error(e: RunError) -> BoundError {
-    match e {
-        RunError::Interrupted { done, .. } => BoundError::Interrupted { done },
-        RunError::Checkpoint(e) => BoundError::Checkpoint(e),
-    }
-}
-
-/// The search: the prepared request and the executor that evaluates it.
+/// The search: the prepared request and who evaluates it.
 pub(super) struct Search<'p, 'e> {
     pub(super) prep: &'p Prepared<'p>,
-    pub(super) exec: Executor<'e, Node>,
+    pub(super) evaluator: &'e mut dyn Evaluate,
     pub(super) levels: Vec<[f64; 2]>,
     pub(super) cmax: Option<f64>,
 }
@@ -103,16 +69,12 @@ pub(super) struct Cells {
 impl Search<'_, '_> {
     /// Evaluate at every value of `xs` (in parallel), in order.
     fn nodes(&mut self, xs: &[f64], stage: &str) -> Result<Vec<Node>, BoundError> {
-        self.exec.stage(stage);
-        let work = Values {
-            prep: self.prep,
-            xs,
+        let prep = self.prep;
+        let node = |x| Node {
+            x,
+            value: prep.evaluate(x),
         };
-        Ok(self
-            .exec
-            .batch(&work, &Selection::All)
-            .map_err(run_error)?
-            .outputs)
+        Ok(self.evaluator.evaluate(stage, xs, &node)?)
     }
 
     /// Evaluate at `x`.

@@ -10,12 +10,14 @@ use clap::{Args, ValueEnum};
 use std::io::Write;
 use std::path::{Path, PathBuf};
 use umbral::bounds::{
-    bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundError, BoundRequest,
-    BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::Measurement;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
+use umbral::run::bound::{
+    bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundRunError,
+};
 use umbral::run::{CheckpointError, Controls};
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -248,7 +250,7 @@ impl Kept {
         let file = match open_checkpoint(request, &PathBuf::from(&shown)) {
             Ok(f) => Some(f),
             // A folder that cannot be written to (read-only): run without one, and say so.
-            Err(BoundError::Checkpoint(CheckpointError::Io { message, .. })) if removable => {
+            Err(BoundRunError::Checkpoint(CheckpointError::Io { message, .. })) if removable => {
                 let _ = writeln!(
                     std::io::stderr(),
                     "note: no checkpoint ('{shown}': {message}); an interrupted bound will start \
@@ -297,7 +299,7 @@ fn run_bound(
         bound_with(request, controls, kept.file.as_mut())
     };
     match result {
-        Err(BoundError::Interrupted { done }) => Err(CliError::interrupted(match &kept.file {
+        Err(BoundRunError::Interrupted { done }) => Err(CliError::interrupted(match &kept.file {
             Some(_) => format!(
                 "interrupted after {done} nuisance evaluations; they are kept in '{}': rerun \
                  the same command to resume",
@@ -316,9 +318,9 @@ fn run_bound(
 }
 
 /// A bound error as the command line says it.
-fn bound_error(e: BoundError) -> CliError {
+fn bound_error(e: BoundRunError) -> CliError {
     match e {
-        BoundError::Checkpoint(e) => CliError::usage(checkpoint_message(&e, "--checkpoint")),
+        BoundRunError::Checkpoint(e) => CliError::usage(checkpoint_message(&e, "--checkpoint")),
         other => CliError::usage(other.to_string()),
     }
 }

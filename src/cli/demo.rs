@@ -12,8 +12,7 @@ use clap::Args;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
 use umbral::bounds::{
-    bound_with, BoundError, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange,
-    SizeMeasure,
+    BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
@@ -21,6 +20,7 @@ use umbral::metric::Classification;
 use umbral::metrics::{build_metric, MetricSource};
 use umbral::observables::CentreChoice;
 use umbral::output::OutputTransaction;
+use umbral::run::bound::{bound_with, BoundRunError};
 use umbral::run::{Controls, Executor, Observe, RunError, Selection, WorkList};
 use umbral::shadow::{Observer, ShadowSettings};
 use umbral::verify::{ChecksFile, VerifyReport};
@@ -491,7 +491,7 @@ impl DemoBound<'_> {
             stop: Some(interrupt::stop_flag()),
         };
         bound_with(&request, controls, None).map_err(|e| match e {
-            BoundError::Interrupted { .. } => CliError::interrupted("demo interrupted"),
+            BoundRunError::Interrupted { .. } => CliError::interrupted("demo interrupted"),
             e => CliError::usage(format!("demo bound on {}: {e}", self.metric)),
         })
     }

@@ -55,11 +55,15 @@
 //! assert_eq!(part.outputs, vec![1, 9]);
 //! ```
 
+pub mod bound;
 mod checkpoint;
 mod file;
 mod header;
 mod observe;
 
+pub use bound::{
+    bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundRunError, NodeFormat,
+};
 pub use checkpoint::{remedy, Checkpoint, CheckpointError, JsonlCheckpoint, RecordFormat};
 pub use header::{metric_sha256, sha256_hex, MetricHashError};
 pub use observe::{clock, LineProgress, Observe, Outcome, ProgressFn, Status};

@@ -1,3 +1,6 @@
+//! A bound ([`crate::bounds`]) run on the executor: its nuisance evaluations are work items,
+//! reported to observers, stopped by the stop flag and kept in a checkpoint.
+//!
 //! The bound's checkpoint: every finished nuisance evaluation (the extremes over the nuisance
 //! box at one value x of the varied parameter) as one checked JSON line, so an interrupted
 //! bound resumes where it stopped and prints what an uninterrupted one prints.
@@ -12,9 +15,15 @@
 //! not finite (a size with no feasible nuisance point) is written as the string `nan`, `inf`
 //! or `-inf`. The completed file lists the values in increasing order.
 
-use super::nuisance::{Aggregate, Extremes};
-use super::{BoundError, BoundRequest, Inclination, ParameterRange, SizeMeasure};
-use crate::run::{metric_sha256, sha256_hex, JsonlCheckpoint, RecordFormat};
+use super::{
+    metric_sha256, sha256_hex, CheckpointError, Controls, Executor, JsonlCheckpoint,
+    MetricHashError, RecordFormat, RunError, Selection, WorkList,
+};
+use crate::bounds::nuisance::{Aggregate, Extremes};
+use crate::bounds::{
+    bound_on, check_request, BoundError, BoundRequest, Evaluate, Halted, Inclination, Node,
+    ParameterRange, SizeMeasure,
+};
 use serde::{Deserialize, Serialize};
 use std::cmp::Ordering;
 use std::collections::BTreeMap;
@@ -26,54 +35,9 @@ pub const FORMAT: u32 = 1;
 /// A checkpoint of a bound's nuisance evaluations.
 pub type BoundCheckpoint = JsonlCheckpoint<NodeFormat>;
 
-/// The prediction at one value of the varied parameter: one work item of a bound.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Node {
-    /// The value of the varied parameter.
-    pub x: f64,
-    /// The extremes over the nuisance box there, or why there are none.
-    pub value: Aggregate,
-}
-
 /// The work-item key of the value `x` (its shortest round-trip decimal form).
-pub(crate) fn key(x: f64) -> String {
+fn key(x: f64) -> String {
     serde_json::to_string(&x).unwrap_or_else(|_| format!("{x:e}"))
-}
-
-/// A number that may be NaN or infinite: JSON numbers for finite values, strings otherwise.
-pub(super) mod number {
-    use serde::{Deserialize, Deserializer, Serialize, Serializer};
-
-    #[derive(Serialize, Deserialize)]
-    #[serde(untagged)]
-    enum Stored {
-        Finite(f64),
-        Other(String),
-    }
-
-    pub fn serialize<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
-        match *x {
-            x if x.is_finite() => Stored::Finite(x),
-            x if x.is_nan() => Stored::Other("nan".into()),
-            x if x > 0.0 => Stored::Other("inf".into()),
-            _ => Stored::Other("-inf".into()),
-        }
-        .serialize(s)
-    }
-
-    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
-        match Stored::deserialize(d)? {
-            Stored::Finite(x) => Ok(x),
-            Stored::Other(s) => match s.as_str() {
-                "nan" => Ok(f64::NAN),
-                "inf" => Ok(f64::INFINITY),
-                "-inf" => Ok(f64::NEG_INFINITY),
-                _ => Err(serde::de::Error::custom(format!(
-                    "'{s}' is not a number (nan, inf and -inf are the only words)"
-                ))),
-            },
-        }
-    }
 }
 
 /// A node line (the checksum is empty while the body is written).
@@ -214,7 +178,7 @@ const MAX_FILE_BYTES: u64 = 64 << 20;
 /// The header: everything an evaluation depends on (module documentation).
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
-pub(crate) struct Header {
+struct Header {
     umbral_bound: u32,
     umbral_version: String,
     metric: String,
@@ -233,7 +197,7 @@ pub(crate) struct Header {
     solver: String,
 }
 
-fn header(request: &BoundRequest) -> Result<Header, BoundError> {
+fn header(request: &BoundRequest) -> Result<Header, MetricHashError> {
     let s = &request.settings;
     Ok(Header {
         umbral_bound: FORMAT,
@@ -259,8 +223,8 @@ fn header(request: &BoundRequest) -> Result<Header, BoundError> {
 /// earlier run of the same request left there. The request is checked first.
 ///
 /// ```
-/// use umbral::bounds::{bound_with, open_checkpoint, BoundRequest, BoundSettings};
-/// use umbral::bounds::{Inclination, ParameterRange, SizeMeasure};
+/// use umbral::bounds::{BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure};
+/// use umbral::run::bound::{bound_with, open_checkpoint};
 /// use umbral::measurement::Measurement;
 /// use umbral::run::Controls;
 /// let m = Measurement::from_toml_str(
@@ -288,8 +252,11 @@ fn header(request: &BoundRequest) -> Result<Header, BoundError> {
 /// assert_eq!(bound_with(&request, Controls::default(), Some(&mut again)).unwrap(), first);
 /// again.remove().unwrap();
 /// ```
-pub fn open_checkpoint(request: &BoundRequest, path: &Path) -> Result<BoundCheckpoint, BoundError> {
-    super::prepare(request)?;
+pub fn open_checkpoint(
+    request: &BoundRequest,
+    path: &Path,
+) -> Result<BoundCheckpoint, BoundRunError> {
+    check_request(request)?;
     let format = NodeFormat {
         vary: request.vary.name.clone(),
     };
@@ -299,7 +266,7 @@ pub fn open_checkpoint(request: &BoundRequest, path: &Path) -> Result<BoundCheck
 /// A file name for the checkpoint of `request` that no other request shares
 /// (`umbral-bound-` and 12 hexadecimal digits of a hash of everything the bound depends on,
 /// `.jsonl`), for a program that keeps a checkpoint without being told where.
-pub fn checkpoint_name(request: &BoundRequest) -> Result<String, BoundError> {
+pub fn checkpoint_name(request: &BoundRequest) -> Result<String, BoundRunError> {
     let head = serde_json::to_string(&header(request)?).unwrap_or_default();
     let rest = format!(
         "{:?} {:?} {:?}",
@@ -307,4 +274,117 @@ pub fn checkpoint_name(request: &BoundRequest) -> Result<String, BoundError> {
     );
     let hash = sha256_hex(format!("{head}\n{rest}").as_bytes());
     Ok(format!("umbral-bound-{}.jsonl", &hash[..12]))
+}
+
+/// Why a bound run on the executor did not give a result.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum BoundRunError {
+    /// The bound itself failed (a bad request, a bound end that did not converge).
+    #[error(transparent)]
+    Bound(#[from] BoundError),
+    /// The metric's content hash (for the checkpoint) could not be made.
+    #[error(transparent)]
+    MetricHash(#[from] MetricHashError),
+    /// The checkpoint could not be used.
+    #[error(transparent)]
+    Checkpoint(#[from] CheckpointError),
+    /// Stopped on request after `done` nuisance evaluations (kept in the checkpoint, if any).
+    #[error("interrupted after {done} nuisance evaluations")]
+    Interrupted { done: usize },
+}
+
+impl From<RunError> for BoundRunError {
+    fn from(e: RunError) -> Self {
+        match e {
+            RunError::Interrupted { done, .. } => BoundRunError::Interrupted { done },
+            RunError::Checkpoint(e) => BoundRunError::Checkpoint(e),
+        }
+    }
+}
+
+/// [`bound`](crate::bounds::bound) on a run executor with the observers and stop flag of
+/// `controls` attached, and with `checkpoint` (see [`open_checkpoint`]) keeping every nuisance
+/// evaluation as it finishes and giving back those an earlier run kept. A stop request ends
+/// the bound with [`BoundRunError::Interrupted`] once the evaluations in progress are kept.
+pub fn bound_with(
+    request: &BoundRequest,
+    controls: Controls<'_>,
+    checkpoint: Option<&mut BoundCheckpoint>,
+) -> Result<crate::bounds::BoundResult, BoundRunError> {
+    let name = format!("bound on {}", request.vary.name);
+    let mut exec = Executor::new(&name, "nuisance evaluations").with(controls);
+    if let Some(c) = checkpoint {
+        exec = exec.checkpoint(c);
+    }
+    let mut on = OnExecutor {
+        exec,
+        stopped: None,
+    };
+    match bound_on(request, &mut on) {
+        Ok(result) => Ok(result),
+        Err(BoundError::Halted(_)) => Err(match on.stopped.take() {
+            Some(e) => e.into(),
+            // Only this evaluator halts the search, and it always says why first.
+            None => BoundRunError::Interrupted {
+                done: on.exec.status().done,
+            },
+        }),
+        Err(e) => Err(e.into()),
+    }
+}
+
+/// The executor as a bound's evaluator: the first reason it stopped is kept for
+/// [`bound_with`].
+struct OnExecutor<'e> {
+    exec: Executor<'e, Node>,
+    stopped: Option<RunError>,
+}
+
+impl OnExecutor<'_> {
+    fn halted<T>(&mut self, r: Result<T, RunError>) -> Result<T, Halted> {
+        r.map_err(|e| {
+            self.stopped.get_or_insert(e);
+            Halted
+        })
+    }
+}
+
+impl Evaluate for OnExecutor<'_> {
+    fn evaluate(
+        &mut self,
+        stage: &str,
+        xs: &[f64],
+        node: &(dyn Fn(f64) -> Node + Sync),
+    ) -> Result<Vec<Node>, Halted> {
+        self.exec.stage(stage);
+        let batch = self.exec.batch(&Values { xs, node }, &Selection::All);
+        Ok(self.halted(batch)?.outputs)
+    }
+
+    fn finish(&mut self) -> Result<(), Halted> {
+        let finished = self.exec.finish();
+        self.halted(finished)
+    }
+}
+
+/// Values of the varied parameter as work items (key: the value's shortest decimal form).
+struct Values<'a> {
+    xs: &'a [f64],
+    node: &'a (dyn Fn(f64) -> Node + Sync),
+}
+
+impl WorkList for Values<'_> {
+    type Output = Node;
+
+    fn len(&self) -> usize {
+        self.xs.len()
+    }
+
+    fn key(&self, index: usize) -> String {
+        key(self.xs[index])
+    }
+
+    fn run(&self, index: usize) -> Node {
+        (self.node)(self.xs[index])
+    }
 }
