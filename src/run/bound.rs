@@ -245,6 +245,8 @@ fn header(request: &BoundRequest) -> Result<Header, MetricHashError> {
 /// let _ = std::fs::remove_file(&path);
 /// let mut checkpoint = open_checkpoint(&request, &path).unwrap();
 /// let first = bound_with(&request, Controls::default(), Some(&mut checkpoint)).unwrap();
+/// // The executor evaluates what the library's plain parallel loop does.
+/// assert_eq!(first, umbral::bounds::bound(&request).unwrap());
 /// drop(checkpoint);
 /// // A second run recalls every evaluation and gives the same bound.
 /// let mut again = open_checkpoint(&request, &path).unwrap();
