@@ -33,6 +33,7 @@ pub mod numerics;
 pub mod numfmt;
 pub mod observables;
 pub mod output;
+pub mod run;
 pub mod scalar;
 pub mod scan;
 pub mod shadow;

@@ -1,4 +1,14 @@
-//! Thin wrappers over general-purpose numerical crates, with the tolerances umbral uses.
+//! One-dimensional root finding, minimisation and bisection: every 1-D search umbral makes
+//! goes through this module.
+//!
+//! Root finding is Brent's method from the `roots` crate ([`brent_root`], and
+//! [`fallible_root`] for functions that can fail). The minimisers are written here, from
+//! Brent (1973), "Algorithms for Minimization without Derivatives", ch. 5: the crates
+//! considered do not fit. `roots` has no minimiser; argmin's `BrentOpt` (0.11) starts from
+//! the golden-section point of the bracket instead of the best grid point the caller already
+//! evaluated (one more shadow solve per refinement), takes a parabolic step with NaN when the
+//! objective is +∞ (umbral marks an infeasible nuisance point that way), and brings eight
+//! crates (argmin-math, anyhow, rand_xoshiro, web-time, ...) for two short functions.
 
 use roots::{find_root_brent, Convergency};
 
@@ -52,4 +62,321 @@ pub fn brent_root<F: FnMut(f64) -> f64>(
         roots::SearchError::NoBracketing => RootError::NotBracketed { lo, hi },
         _ => RootError::NoConvergence { lo, hi },
     })
+}
+
+/// A root search on a fallible function that failed: what was searched for, and why.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{what}: {error}")]
+pub struct SearchFailure {
+    /// What the root is (for the message).
+    pub what: String,
+    /// Why the search failed.
+    pub error: RootError,
+}
+
+/// Root of a fallible `f` in `[lo, hi]` by Brent's method to full precision: the first error
+/// `f` returns stops the search and is returned; a failed search becomes `E` through
+/// [`SearchFailure`], which names `what`.
+///
+/// ```
+/// use umbral::numerics::{fallible_root, SearchFailure};
+/// #[derive(Debug)]
+/// enum Failure {
+///     Search(SearchFailure),
+/// }
+/// impl From<SearchFailure> for Failure {
+///     fn from(e: SearchFailure) -> Self {
+///         Failure::Search(e)
+///     }
+/// }
+/// let f = |x: f64| -> Result<f64, Failure> { Ok(x * x - 2.0) };
+/// let r = fallible_root(&f, 0.0, 2.0, "the square root of 2").unwrap();
+/// assert!((r - 2f64.sqrt()).abs() < 1e-15);
+/// let e = fallible_root(&f, 2.0, 3.0, "a root above 2").unwrap_err();
+/// assert!(matches!(e, Failure::Search(s) if s.what == "a root above 2"));
+/// ```
+pub fn fallible_root<E: From<SearchFailure>>(
+    f: &dyn Fn(f64) -> Result<f64, E>,
+    lo: f64,
+    hi: f64,
+    what: &str,
+) -> Result<f64, E> {
+    let mut failure = None;
+    let x = brent_root(
+        |x| match f(x) {
+            Ok(v) => v,
+            Err(e) => {
+                failure.get_or_insert(e);
+                0.0
+            }
+        },
+        lo,
+        hi,
+        0.0,
+    )
+    .map_err(|error| {
+        E::from(SearchFailure {
+            what: what.to_string(),
+            error,
+        })
+    })?;
+    match failure {
+        Some(e) => Err(e),
+        None => Ok(x),
+    }
+}
+
+/// Why a minimisation failed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("minimisation on [{lo}, {hi}] did not converge in {iterations} iterations")]
+pub struct MinimiseError {
+    /// Lower end of the bracket.
+    pub lo: f64,
+    /// Upper end of the bracket.
+    pub hi: f64,
+    /// Iterations made.
+    pub iterations: usize,
+}
+
+/// Minimise `f` on `[lo, hi]` starting from `x0` with known value `f0`, by Brent's method
+/// (golden section with parabolic steps; Brent 1973, "Algorithms for Minimization without
+/// Derivatives", ch. 5). `f` may return `+inf` where it is undefined; such points are never
+/// chosen. Stops when the bracket around the best point is below `tol` (absolute) plus
+/// 1e-9 relative.
+///
+/// ```
+/// use umbral::numerics::brent_minimise;
+/// let (x, fx) = brent_minimise(|x| (x - 0.3f64).powi(2) + 1.0, 0.0, 1.0, 0.5, 1.04, 1e-10).unwrap();
+/// assert!((x - 0.3).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
+/// ```
+pub fn brent_minimise<F: FnMut(f64) -> f64>(
+    mut f: F,
+    lo: f64,
+    hi: f64,
+    x0: f64,
+    f0: f64,
+    tol: f64,
+) -> Result<(f64, f64), MinimiseError> {
+    const GOLDEN: f64 = 0.381_966_011_250_105_1; // (3 − √5)/2
+    const MAX_ITER: usize = 200;
+    let (mut a, mut b) = (lo.min(hi), lo.max(hi));
+    let mut best = Triple {
+        x: (x0, f0),
+        w: (x0, f0),
+        v: (x0, f0),
+    };
+    let (mut d, mut e) = (0.0f64, 0.0f64);
+    for _ in 0..MAX_ITER {
+        let x = best.x.0;
+        let m = 0.5 * (a + b);
+        let tol1 = 1e-9 * x.abs() + tol / 3.0;
+        let t2 = 2.0 * tol1;
+        if (x - m).abs() <= t2 - 0.5 * (b - a) {
+            return Ok(best.x);
+        }
+        let mut golden = true;
+        if e.abs() > tol1 {
+            let r = e;
+            e = d;
+            if let Some(step) = best.parabolic_step(r, a, b) {
+                d = step;
+                let u = x + d;
+                if u - a < t2 || b - u < t2 {
+                    d = if x < m { tol1 } else { -tol1 };
+                }
+                golden = false;
+            }
+        }
+        if golden {
+            e = if x < m { b - x } else { a - x };
+            d = GOLDEN * e;
+        }
+        let u = if d.abs() >= tol1 {
+            x + d
+        } else if d > 0.0 {
+            x + tol1
+        } else {
+            x - tol1
+        };
+        let fu = f(u);
+        if fu <= best.x.1 {
+            if u < x {
+                b = x;
+            } else {
+                a = x;
+            }
+        } else if u < x {
+            a = u;
+        } else {
+            b = u;
+        }
+        best.update((u, fu));
+    }
+    Err(MinimiseError {
+        lo,
+        hi,
+        iterations: MAX_ITER,
+    })
+}
+
+/// Brent's three points: the best so far (x), the second best (w) and the previous w (v),
+/// each with its value.
+struct Triple {
+    x: (f64, f64),
+    w: (f64, f64),
+    v: (f64, f64),
+}
+
+impl Triple {
+    /// The step to the vertex of the parabola through x, w and v, if it is finite, inside
+    /// (a, b) and shorter than half the step `r` before last.
+    fn parabolic_step(&self, r_prev: f64, a: f64, b: f64) -> Option<f64> {
+        let ((x, fx), (w, fw), (v, fv)) = (self.x, self.w, self.v);
+        let r = (x - w) * (fx - fv);
+        let mut q = (x - v) * (fx - fw);
+        let mut p = (x - v) * q - (x - w) * r;
+        q = 2.0 * (q - r);
+        if q > 0.0 {
+            p = -p;
+        } else {
+            q = -q;
+        }
+        (p.is_finite()
+            && q.is_finite()
+            && p.abs() < (0.5 * q * r_prev).abs()
+            && p > q * (a - x)
+            && p < q * (b - x))
+            .then(|| p / q)
+    }
+
+    /// Take the new point `(u, fu)` into the three.
+    fn update(&mut self, (u, fu): (f64, f64)) {
+        if fu <= self.x.1 {
+            self.v = self.w;
+            self.w = self.x;
+            self.x = (u, fu);
+        } else if fu <= self.w.1 || self.w.0 == self.x.0 {
+            self.v = self.w;
+            self.w = (u, fu);
+        } else if fu <= self.v.1 || self.v.0 == self.x.0 || self.v.0 == self.w.0 {
+            self.v = (u, fu);
+        }
+    }
+}
+
+/// Bisect between `good` (where `pred` holds) and `bad` (where it does not) until they are
+/// within `tol`; returns the final (good, bad) pair.
+///
+/// ```
+/// let (good, bad) = umbral::numerics::bisect_predicate(|x| x * x < 2.0, 0.0, 2.0, 1e-12);
+/// assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-12);
+/// ```
+pub fn bisect_predicate<P: FnMut(f64) -> bool>(
+    mut pred: P,
+    mut good: f64,
+    mut bad: f64,
+    tol: f64,
+) -> (f64, f64) {
+    while (good - bad).abs() > tol {
+        let mid = 0.5 * (good + bad);
+        if mid == good || mid == bad {
+            break;
+        }
+        if pred(mid) {
+            good = mid;
+        } else {
+            bad = mid;
+        }
+    }
+    (good, bad)
+}
+
+/// The minimum of a fallible `f` in a bracket a < b < c with f(b) ≤ f(a), f(c): successive
+/// parabolic interpolation, with a golden-section step whenever the parabola's vertex leaves
+/// the bracket (Brent 1973, ch. 5), until a step moves less than 1e-7 or the bracket is
+/// narrower than 1e-7 (at most 40 steps). Returns the smallest value evaluated; an error of
+/// `f` stops the search and is returned.
+///
+/// ```
+/// let f = |x: f64| -> Result<f64, ()> { Ok((x - 0.3).powi(2) - 1.0) };
+/// let min = umbral::numerics::parabolic_min(&f, [(0.0, f(0.0)?), (0.4, f(0.4)?), (1.0, f(1.0)?)])?;
+/// assert!((min + 1.0).abs() < 1e-14);
+/// # Ok::<(), ()>(())
+/// ```
+pub fn parabolic_min<E>(
+    f: &dyn Fn(f64) -> Result<f64, E>,
+    bracket: [(f64, f64); 3],
+) -> Result<f64, E> {
+    let [(mut a, mut fa), (mut b, mut fb), (mut c, mut fc)] = bracket;
+    let golden = 0.5 * (3.0 - 5f64.sqrt());
+    for _ in 0..40 {
+        let p = (b - a) * (b - a) * (fb - fc) - (b - c) * (b - c) * (fb - fa);
+        let q = (b - a) * (fb - fc) - (b - c) * (fb - fa);
+        let mut x = if q != 0.0 { b - 0.5 * p / q } else { f64::NAN };
+        if x.is_nan() || x <= a || x >= c || x == b {
+            x = if c - b > b - a {
+                b + golden * (c - b)
+            } else {
+                b - golden * (b - a)
+            };
+        }
+        let fx = f(x)?;
+        let moved = (x - b).abs();
+        if fx < fb {
+            if x < b {
+                (c, fc) = (b, fb);
+            } else {
+                (a, fa) = (b, fb);
+            }
+            (b, fb) = (x, fx);
+        } else if x < b {
+            (a, fa) = (x, fx);
+        } else {
+            (c, fc) = (x, fx);
+        }
+        if moved <= 1e-7 || c - a <= 1e-7 {
+            break;
+        }
+    }
+    Ok(fb)
+}
+
+/// Golden-section search for a maximum of a fallible `f` on [lo, hi], down to a bracket of
+/// 1e-13 (1 + |lo|) (at most 200 steps); returns the best point and its value. An error of
+/// `f` stops the search and is returned.
+///
+/// ```
+/// let f = |x: f64| -> Result<f64, ()> { Ok(1.0 - (x - 0.25).powi(2)) };
+/// let (x, fx) = umbral::numerics::golden_max(&f, 0.0, 1.0)?;
+/// assert!((x - 0.25).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
+/// # Ok::<(), ()>(())
+/// ```
+pub fn golden_max<E>(
+    f: &dyn Fn(f64) -> Result<f64, E>,
+    mut lo: f64,
+    mut hi: f64,
+) -> Result<(f64, f64), E> {
+    let ratio = 0.5 * (5f64.sqrt() - 1.0);
+    let mut x1 = hi - ratio * (hi - lo);
+    let mut x2 = lo + ratio * (hi - lo);
+    let (mut f1, mut f2) = (f(x1)?, f(x2)?);
+    for _ in 0..200 {
+        if hi - lo <= 1e-13 * (1.0 + lo.abs()) {
+            break;
+        }
+        if f1 >= f2 {
+            hi = x2;
+            x2 = x1;
+            f2 = f1;
+            x1 = hi - ratio * (hi - lo);
+            f1 = f(x1)?;
+        } else {
+            lo = x1;
+            x1 = x2;
+            f1 = f2;
+            x2 = lo + ratio * (hi - lo);
+            f2 = f(x2)?;
+        }
+    }
+    Ok(if f1 >= f2 { (x1, f1) } else { (x2, f2) })
 }

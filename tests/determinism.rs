@@ -305,6 +305,19 @@ fn bound_json() {
     );
 }
 
+/// A bound whose nuisance extremes (the inclination over a range) are computed in parallel,
+/// with its checkpoint kept: the JSON and the completed checkpoint (rewritten in order of the
+/// varied parameter) repeat at every thread count.
+#[test]
+fn bound_json_with_nuisance_and_checkpoint() {
+    let args: Vec<&str> = common::LONG_BOUND
+        .iter()
+        .copied()
+        .chain(["--checkpoint", "c.jsonl"])
+        .collect();
+    assert_deterministic("bound-nuisance", &args);
+}
+
 #[test]
 fn scan_file() {
     assert_deterministic(

@@ -43,24 +43,25 @@
 //! assert!(!result.no_horizon.is_empty()); // q > 1 has no horizon
 //! ```
 
-pub mod minimise;
+mod evaluate;
 pub mod nuisance;
+mod refine;
+
+pub use evaluate::{Evaluate, Halted, Node, Parallel};
 
 use crate::error::MetricError;
 use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
-use crate::numerics::brent_root;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables};
 use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice, SolverKind};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
-use rayon::prelude::*;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
 /// Which size of the critical curve is compared with the measured radius.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case")]
 pub enum SizeMeasure {
     /// R̄, the mean distance from the area centroid.
@@ -80,7 +81,7 @@ impl SizeMeasure {
 }
 
 /// A named parameter range `[low, high]`.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ParameterRange {
     pub name: String,
     pub low: f64,
@@ -88,7 +89,7 @@ pub struct ParameterRange {
 }
 
 /// The observer's inclination: fixed or a nuisance range (degrees from the spin axis).
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Inclination {
     Fixed { degrees: f64 },
@@ -303,12 +304,45 @@ impl BoundResult {
 /// Why a bound could not be computed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum BoundError {
+    /// A parameter name or value the metric refuses.
     #[error(transparent)]
     Metric(#[from] MetricError),
-    #[error("{0}")]
-    BadRequest(String),
+    /// Numerical settings out of their ranges.
+    #[error("need an initial grid of 3 to {MAX_INITIAL_GRID} points (got {initial_grid}), 2 nuisance grid points and a positive tolerance")]
+    BadSettings { initial_grid: usize },
+    /// A range whose ends are not finite.
+    #[error("{what}: the range must be finite, got {}:{}", Num(*.low), Num(*.high))]
+    RangeNotFinite { what: String, low: f64, high: f64 },
+    /// A range whose low end is not below its high end.
+    #[error("{what}: the low end must be below the high end, got {}:{}", Num(*.low), Num(*.high))]
+    RangeEmpty { what: String, low: f64, high: f64 },
+    /// A fixed parameter value that is not finite.
+    #[error("parameter '{name}' must be finite, got {}", Num(*.value))]
+    NotFinite { name: String, value: f64 },
+    /// The inclination among the nuisance parameters.
+    #[error("give the inclination range as an inclination range, not a nuisance parameter")]
+    InclinationAsNuisance,
+    /// A parameter named twice.
+    #[error("parameter '{0}' is given more than once")]
+    Repeated(String),
+    /// No measured interval.
+    #[error("no radius intervals to bound with")]
+    NoIntervals,
+    /// A fixed inclination outside [0, 180] degrees.
+    #[error("the inclination must lie between 0 and 180 degrees, got {}", Num(*.0))]
+    Inclination(f64),
+    /// An inclination range outside [0, 180] degrees.
+    #[error("the inclination range must lie within 0 to 180 degrees, got {low}:{high}")]
+    InclinationRange { low: f64, high: f64 },
+    /// More nuisance dimensions than the search supports.
+    #[error("at most 3 nuisance dimensions are supported, got {0}")]
+    TooManyNuisance(usize),
+    /// A bound end that could not be refined.
     #[error("{0}")]
     NotConverged(String),
+    /// The evaluator stopped the search (it knows why).
+    #[error(transparent)]
+    Halted(#[from] Halted),
 }
 
 /// One nuisance dimension.
@@ -463,20 +497,13 @@ impl Prepared<'_> {
     }
 }
 
-fn check_range(what: &str, lo: f64, hi: f64) -> Result<(), BoundError> {
-    if !(lo.is_finite() && hi.is_finite()) {
-        return Err(BoundError::BadRequest(format!(
-            "{what}: the range must be finite, got {}:{}",
-            Num(lo),
-            Num(hi)
-        )));
+fn check_range(what: &str, low: f64, high: f64) -> Result<(), BoundError> {
+    let what = what.to_string();
+    if !(low.is_finite() && high.is_finite()) {
+        return Err(BoundError::RangeNotFinite { what, low, high });
     }
-    if lo >= hi {
-        return Err(BoundError::BadRequest(format!(
-            "{what}: need LO < HI, got {}:{}",
-            Num(lo),
-            Num(hi)
-        )));
+    if low >= high {
+        return Err(BoundError::RangeEmpty { what, low, high });
     }
     Ok(())
 }
@@ -488,48 +515,39 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
         || !positive_tolerance
         || s.nuisance.grid < 2
     {
-        return Err(BoundError::BadRequest(format!(
-            "need an initial grid of 3 to {MAX_INITIAL_GRID} points (got {}), 2 nuisance grid \
-             points and a positive tolerance",
-            s.initial_grid
-        )));
+        return Err(BoundError::BadSettings {
+            initial_grid: s.initial_grid,
+        });
     }
     check_range(
-        &format!("--vary {}", request.vary.name),
+        &format!("the range of {}", request.vary.name),
         request.vary.low,
         request.vary.high,
     )?;
     let mut names = vec![request.vary.name.clone()];
     for (n, v) in &request.fixed {
         if !v.is_finite() {
-            return Err(BoundError::BadRequest(format!(
-                "parameter '{n}' must be finite, got {}",
-                Num(*v)
-            )));
+            return Err(BoundError::NotFinite {
+                name: n.clone(),
+                value: *v,
+            });
         }
         names.push(n.clone());
     }
     for p in &request.nuisance {
         if p.name == "inclination" {
-            return Err(BoundError::BadRequest(
-                "give the inclination range as an inclination range, not a nuisance parameter"
-                    .into(),
-            ));
+            return Err(BoundError::InclinationAsNuisance);
         }
-        check_range(&format!("--nuisance {}", p.name), p.low, p.high)?;
+        check_range(&format!("the nuisance range of {}", p.name), p.low, p.high)?;
         names.push(p.name.clone());
     }
     for (i, n) in names.iter().enumerate() {
         if names[..i].contains(n) {
-            return Err(BoundError::BadRequest(format!(
-                "parameter '{n}' is given more than once"
-            )));
+            return Err(BoundError::Repeated(n.clone()));
         }
     }
     if request.radii.intervals.is_empty() {
-        return Err(BoundError::BadRequest(
-            "no radius intervals to bound with".into(),
-        ));
+        return Err(BoundError::NoIntervals);
     }
     // Domains are intervals: building at the corners checks every name and value.
     let corner = |pick_high: bool| -> Vec<(String, f64)> {
@@ -560,10 +578,7 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     let fixed_inclination = match request.inclination {
         Inclination::Fixed { degrees } => {
             if !degrees_ok(degrees) {
-                return Err(BoundError::BadRequest(format!(
-                    "the inclination must lie between 0 and 180 degrees, got {}",
-                    Num(degrees)
-                )));
+                return Err(BoundError::Inclination(degrees));
             }
             degrees.to_radians()
         }
@@ -572,12 +587,12 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
             high_degrees,
         } => {
             if !(degrees_ok(low_degrees) && degrees_ok(high_degrees)) {
-                return Err(BoundError::BadRequest(format!(
-                    "the inclination range must lie within 0 to 180 degrees, got \
-                     {low_degrees}:{high_degrees}"
-                )));
+                return Err(BoundError::InclinationRange {
+                    low: low_degrees,
+                    high: high_degrees,
+                });
             }
-            check_range("--inclination-range", low_degrees, high_degrees)?;
+            check_range("the inclination range", low_degrees, high_degrees)?;
             if !spherical {
                 dims.push(Dimension::Inclination);
                 ranges.push((low_degrees.to_radians(), high_degrees.to_radians()));
@@ -586,10 +601,7 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
         }
     };
     if dims.len() > 3 {
-        return Err(BoundError::BadRequest(format!(
-            "at most 3 nuisance dimensions are supported, got {}",
-            dims.len()
-        )));
+        return Err(BoundError::TooManyNuisance(dims.len()));
     }
     Ok(Prepared {
         request,
@@ -600,429 +612,84 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     })
 }
 
-/// A grid node of the varied parameter.
-#[derive(Debug, Clone)]
-struct Node {
-    x: f64,
-    value: Aggregate,
-}
-
-/// Whether a node's prediction includes horizonless objects.
-fn horizonless(a: &Aggregate) -> bool {
-    matches!(a, Aggregate::Ok(e) if e.horizonless)
-}
-
-fn category(a: &Aggregate) -> u8 {
-    match a {
-        Aggregate::Ok(_) => 0,
-        Aggregate::NoHorizon => 1,
-        Aggregate::NoShadow(_) => 2,
-        Aggregate::Failed(_) => 3,
-    }
-}
-
-/// The margins whose signs decide allowedness: per level (H − s₋, s₊ − L), then the
-/// circularity margin (limit − min ΔC) if a limit is set. Non-negative means "passes".
-fn margins(e: &Extremes, levels: &[[f64; 2]], circularity_max: Option<f64>) -> Vec<f64> {
-    let mut m = Vec::with_capacity(2 * levels.len() + 1);
-    for [lo, hi] in levels {
-        m.push(hi - e.size_min);
-        m.push(e.size_max - lo);
-    }
-    if let Some(c) = circularity_max {
-        m.push(c - e.circularity_min);
-    }
-    m
-}
-
-/// Which margins belong to level `l`.
-fn level_margins(l: usize, count: usize, has_circularity: bool) -> Vec<usize> {
-    let mut v = vec![2 * l, 2 * l + 1];
-    if has_circularity {
-        v.push(count - 1);
-    }
-    v
-}
-
-fn passes(m: f64) -> bool {
-    m >= 0.0
-}
-
-/// Compute the allowed ranges of the varied parameter at each level.
+/// Compute the allowed ranges of the varied parameter at each level, the nuisance
+/// evaluations in a parallel loop ([`Parallel`]).
 pub fn bound(request: &BoundRequest) -> Result<BoundResult, BoundError> {
+    bound_on(request, &mut Parallel)
+}
+
+/// Check `request` as [`bound`] does, without evaluating anything.
+pub fn check_request(request: &BoundRequest) -> Result<(), BoundError> {
+    prepare(request).map(|_| ())
+}
+
+/// [`bound`] with the nuisance evaluations done by `evaluator` (the run layer's executor
+/// adds progress, a checkpoint and Ctrl-C); an evaluator that stops ends the bound with
+/// [`BoundError::Halted`].
+pub fn bound_on(
+    request: &BoundRequest,
+    evaluator: &mut dyn Evaluate,
+) -> Result<BoundResult, BoundError> {
     let prep = prepare(request)?;
-    let s = &request.settings;
-    let tol = s.parameter_tolerance;
-    let (lo, hi) = (request.vary.low, request.vary.high);
-    let n0 = s.initial_grid;
-    let xs: Vec<f64> = (0..n0)
-        .map(|i| {
-            if i == n0 - 1 {
-                hi
-            } else {
-                lo + (hi - lo) * i as f64 / (n0 - 1) as f64
-            }
-        })
-        .collect();
-    let mut nodes: Vec<Node> = xs
-        .par_iter()
-        .map(|&x| Node {
-            x,
-            value: prep.evaluate(x),
-        })
-        .collect();
-    let levels: Vec<[f64; 2]> = request
-        .radii
-        .intervals
-        .iter()
-        .map(|iv| [iv.low, iv.high])
-        .collect();
-    let cmax = request.circularity_max;
+    let mut search = refine::Search {
+        prep: &prep,
+        evaluator,
+        levels: request
+            .radii
+            .intervals
+            .iter()
+            .map(|iv| [iv.low, iv.high])
+            .collect(),
+        cmax: request.circularity_max,
+    };
+    let nodes = search.refined_nodes()?;
+    let cells = search.bound_ends(&nodes)?;
+    search.evaluator.finish()?;
+    Ok(refine::result(
+        &prep,
+        &nodes,
+        cells,
+        &search.levels,
+        search.cmax,
+    ))
+}
 
-    locate_category_boundaries(&prep, &mut nodes, tol);
-    for _ in 0..s.refinement_rounds {
-        let extra = hidden_crossing_candidates(&nodes, &levels, cmax);
-        if extra.is_empty() {
-            break;
-        }
-        let mut new: Vec<Node> = extra
-            .par_iter()
-            .map(|&x| Node {
-                x,
-                value: prep.evaluate(x),
-            })
-            .collect();
-        nodes.append(&mut new);
-        nodes.sort_by(|a, b| a.x.total_cmp(&b.x));
-        nodes.dedup_by(|a, b| a.x == b.x);
-        locate_category_boundaries(&prep, &mut nodes, tol);
-    }
-
-    // Roots of every margin that changes sign between adjacent Ok nodes.
-    let count = margins(
-        &Extremes {
-            size_min: 0.0,
-            size_max: 0.0,
-            circularity_min: 0.0,
-            partial: false,
-            horizonless: false,
-            wall_backoff: 0.0,
-            refinement_cut: None,
-        },
-        &levels,
-        cmax,
+/// How far one predicted size (and circularity deviation ΔC) lies inside the allowed region
+/// of one level, r_sh/M in `[low, high]` with ΔC at most `circularity_max`: the smallest of
+/// the margins `high − size`, `size − low` and `circularity_max − ΔC` that [`bound`] decides
+/// by. Non-negative means allowed.
+///
+/// ```
+/// use umbral::bounds::allowed_margin;
+/// // The circularity limit (0.1 − 0.02) is nearer than the interval's upper end (5.1 − 5.0).
+/// let m = allowed_margin(5.0, Some(0.02), [4.8, 5.1], Some(0.1));
+/// assert!((m - 0.08).abs() < 1e-12);
+/// // Without a circularity deviation only the size counts.
+/// assert!((allowed_margin(5.0, None, [4.8, 5.1], Some(0.1)) - 0.1).abs() < 1e-12);
+/// assert!(allowed_margin(5.2, None, [4.8, 5.1], None) < 0.0);
+/// ```
+pub fn allowed_margin(
+    size: f64,
+    circularity: Option<f64>,
+    [low, high]: [f64; 2],
+    circularity_max: Option<f64>,
+) -> f64 {
+    let point = Extremes {
+        size_min: size,
+        size_max: size,
+        circularity_min: circularity.unwrap_or(f64::NEG_INFINITY),
+        partial: false,
+        horizonless: false,
+        wall_backoff: 0.0,
+        refinement_cut: None,
+    };
+    refine::margins(
+        &point,
+        &[[low, high]],
+        circularity_max.filter(|_| circularity.is_some()),
     )
-    .len();
-    let mut failures: Vec<Failure> = Vec::new();
-    // cells[i] = roots found in (nodes[i], nodes[i+1]) per margin.
-    let mut cell_roots: Vec<Vec<Option<f64>>> =
-        vec![vec![None; count]; nodes.len().saturating_sub(1)];
-    for i in 0..nodes.len().saturating_sub(1) {
-        let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value) else {
-            continue;
-        };
-        let (ma, mb) = (margins(ea, &levels, cmax), margins(eb, &levels, cmax));
-        for j in 0..count {
-            if !(ma[j].is_finite() && mb[j].is_finite()) || passes(ma[j]) == passes(mb[j]) {
-                continue;
-            }
-            let mut inner_failure = None;
-            let root = brent_root(
-                |x| match prep.evaluate(x) {
-                    Aggregate::Ok(e) => margins(&e, &levels, cmax)[j],
-                    other => {
-                        inner_failure.get_or_insert(other);
-                        f64::NAN
-                    }
-                },
-                nodes[i].x,
-                nodes[i + 1].x,
-                0.25 * tol,
-            );
-            match (root, inner_failure) {
-                (Ok(r), None) => cell_roots[i][j] = Some(r),
-                (_, Some(other)) => failures.push(Failure {
-                    low: nodes[i].x,
-                    high: nodes[i + 1].x,
-                    error: format!(
-                        "the prediction changed to '{}' between grid points while refining a \
-                         bound end",
-                        match other {
-                            Aggregate::Failed(m) => m,
-                            Aggregate::NoShadow(r) => format!("no shadow: {r}"),
-                            Aggregate::NoHorizon => "no horizon".into(),
-                            Aggregate::Ok(_) => unreachable!(),
-                        }
-                    ),
-                }),
-                (Err(e), None) => {
-                    return Err(BoundError::NotConverged(format!(
-                        "refining a bound end of '{}' failed: {e}",
-                        request.vary.name
-                    )))
-                }
-            }
-        }
-    }
-
-    let failed_cells: Vec<bool> = (0..cell_roots.len())
-        .map(|i| {
-            failures
-                .iter()
-                .any(|f| f.low == nodes[i].x && f.high == nodes[i + 1].x)
-        })
-        .collect();
-    let mut level_bounds = Vec::new();
-    for (l, iv) in request.radii.intervals.iter().enumerate() {
-        let ids = level_margins(l, count, cmax.is_some());
-        let mut segments: Vec<[f64; 2]> = Vec::new();
-        for i in 0..cell_roots.len() {
-            let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
-            else {
-                continue;
-            };
-            if failed_cells[i] {
-                continue;
-            }
-            let (ma, mb) = (margins(ea, &levels, cmax), margins(eb, &levels, cmax));
-            let mut cuts: Vec<f64> = ids.iter().filter_map(|&j| cell_roots[i][j]).collect();
-            cuts.push(nodes[i].x);
-            cuts.push(nodes[i + 1].x);
-            cuts.sort_by(f64::total_cmp);
-            cuts.dedup();
-            for w in cuts.windows(2) {
-                let mid = 0.5 * (w[0] + w[1]);
-                let ok = ids.iter().all(|&j| {
-                    let status = |m: f64| m.is_finite() && passes(m);
-                    match cell_roots[i][j] {
-                        Some(r) => {
-                            if mid < r {
-                                status(ma[j])
-                            } else {
-                                status(mb[j])
-                            }
-                        }
-                        None => {
-                            if ma[j].is_finite() {
-                                status(ma[j])
-                            } else {
-                                status(mb[j])
-                            }
-                        }
-                    }
-                });
-                if ok {
-                    match segments.last_mut() {
-                        Some(last) if last[1] == w[0] => last[1] = w[1],
-                        _ => segments.push([w[0], w[1]]),
-                    }
-                }
-            }
-        }
-        // An allowed Ok node isolated between other categories.
-        for (i, n) in nodes.iter().enumerate() {
-            if let Aggregate::Ok(e) = &n.value {
-                let isolated = (i == 0 || category(&nodes[i - 1].value) != 0)
-                    && (i + 1 == nodes.len() || category(&nodes[i + 1].value) != 0);
-                let m = margins(e, &levels, cmax);
-                if isolated && ids.iter().all(|&j| passes(m[j])) {
-                    segments.push([n.x, n.x]);
-                }
-            }
-        }
-        segments.sort_by(|a, b| a[0].total_cmp(&b[0]));
-        level_bounds.push(LevelBound {
-            confidence: iv.confidence,
-            radius_interval: [iv.low, iv.high],
-            allowed: segments,
-            only_range_ends: false, // set below, once the range edges are known
-        });
-    }
-
-    let runs_of = |pick: &dyn Fn(&Aggregate) -> bool| -> Vec<[f64; 2]> {
-        let mut out: Vec<[f64; 2]> = Vec::new();
-        let mut prev = false;
-        for n in &nodes {
-            let this = pick(&n.value);
-            if this {
-                if prev {
-                    if let Some(last) = out.last_mut() {
-                        last[1] = n.x;
-                    }
-                } else {
-                    out.push([n.x, n.x]);
-                }
-            }
-            prev = this;
-        }
-        out
-    };
-    let runs = |cat: u8| runs_of(&|a| category(a) == cat);
-    let mut prev_failed = false;
-    for n in &nodes {
-        if let Aggregate::Failed(m) = &n.value {
-            match failures.last_mut() {
-                Some(f) if prev_failed && f.error == *m => f.high = n.x,
-                _ => failures.push(Failure {
-                    low: n.x,
-                    high: n.x,
-                    error: m.clone(),
-                }),
-            }
-            prev_failed = true;
-        } else {
-            prev_failed = false;
-        }
-    }
-    failures.sort_by(|a, b| a.low.total_cmp(&b.low));
-
-    let partial = nodes
-        .iter()
-        .any(|n| matches!(&n.value, Aggregate::Ok(e) if e.partial));
-    let backoff = nodes
-        .iter()
-        .map(|n| match &n.value {
-            Aggregate::Ok(e) => e.wall_backoff,
-            _ => 0.0,
-        })
-        .fold(0.0, f64::max);
-    let mut assumptions = describe(&prep, partial, nodes.len());
-    let cut: Vec<(f64, &str)> = nodes
-        .iter()
-        .filter_map(|n| match &n.value {
-            Aggregate::Ok(e) => e.refinement_cut.as_deref().map(|m| (n.x, m)),
-            _ => None,
-        })
-        .collect();
-    if let Some(&(x, m)) = cut.first() {
-        assumptions.push(format!(
-            "the shadow solver failed at off-grid nuisance refinement points for {} grid \
-             value(s) of {} (first at {x}: {m}); there the extremes are the best found before \
-             the failure, so those bound ends are less precise",
-            cut.len(),
-            request.vary.name
-        ));
-    }
-    if backoff > 0.0 {
-        assumptions.push(format!(
-            "the shadow solver failed right at a horizon boundary inside the nuisance box; the \
-             closest successful point was used, at most {backoff:.3e} inside"
-        ));
-    }
-    let predicted = nodes
-        .iter()
-        .map(|n| {
-            let (status, e) = match &n.value {
-                Aggregate::Ok(e) => ("ok", Some(e)),
-                Aggregate::NoHorizon => ("no_horizon", None),
-                Aggregate::NoShadow(_) => ("no_shadow", None),
-                Aggregate::Failed(_) => ("failed", None),
-            };
-            let finite = |v: f64| v.is_finite().then_some(v);
-            PredictedPoint {
-                value: n.x,
-                status,
-                horizonless: horizonless(&n.value),
-                size_min: e.and_then(|e| finite(e.size_min)),
-                size_max: e.and_then(|e| finite(e.size_max)),
-                circularity_min: e.and_then(|e| finite(e.circularity_min)),
-            }
-        })
-        .collect();
-    let mut result = BoundResult {
-        metric: request.metric.name(),
-        vary: request.vary.clone(),
-        fixed: request.fixed.iter().cloned().collect(),
-        nuisance: request.nuisance.clone(),
-        inclination: request.inclination,
-        size_measure: request.size_measure,
-        levels: level_bounds,
-        circularity_max: cmax,
-        require_horizon: s.require_horizon,
-        horizonless: runs_of(&horizonless),
-        no_horizon: runs(1),
-        no_shadow: runs(2),
-        failures,
-        refinement_cut: cut.iter().map(|(x, _)| *x).collect(),
-        assumptions,
-        predicted,
-    };
-    let ends: Vec<bool> = result
-        .levels
-        .iter()
-        .map(|l| result.only_range_ends(&l.allowed))
-        .collect();
-    for (level, only) in result.levels.iter_mut().zip(ends) {
-        level.only_range_ends = only;
-    }
-    Ok(result)
-}
-
-/// Bisect every pair of adjacent nodes of different categories down to `tol`, inserting the
-/// evaluated midpoints.
-fn locate_category_boundaries(prep: &Prepared, nodes: &mut Vec<Node>, tol: f64) {
-    loop {
-        let pair = (0..nodes.len().saturating_sub(1)).find(|&i| {
-            (category(&nodes[i].value) != category(&nodes[i + 1].value)
-                || horizonless(&nodes[i].value) != horizonless(&nodes[i + 1].value))
-                && nodes[i + 1].x - nodes[i].x > tol
-                && 0.5 * (nodes[i].x + nodes[i + 1].x) != nodes[i].x
-        });
-        let Some(i) = pair else { break };
-        let x = 0.5 * (nodes[i].x + nodes[i + 1].x);
-        let value = prep.evaluate(x);
-        nodes.insert(i + 1, Node { x, value });
-    }
-}
-
-/// Points to add where a parabola through three adjacent Ok nodes suggests a margin crosses
-/// zero and back between them.
-fn hidden_crossing_candidates(nodes: &[Node], levels: &[[f64; 2]], cmax: Option<f64>) -> Vec<f64> {
-    let mut out = Vec::new();
-    for w in nodes.windows(3) {
-        let (Aggregate::Ok(a), Aggregate::Ok(b), Aggregate::Ok(c)) =
-            (&w[0].value, &w[1].value, &w[2].value)
-        else {
-            continue;
-        };
-        let (ma, mb, mc) = (
-            margins(a, levels, cmax),
-            margins(b, levels, cmax),
-            margins(c, levels, cmax),
-        );
-        let (x0, x1, x2) = (w[0].x, w[1].x, w[2].x);
-        for j in 0..ma.len() {
-            let (y0, y1, y2) = (ma[j], mb[j], mc[j]);
-            if !(y0.is_finite() && y1.is_finite() && y2.is_finite()) {
-                continue;
-            }
-            if !(passes(y0) == passes(y1) && passes(y1) == passes(y2)) {
-                continue;
-            }
-            // Divided differences of the interpolating parabola.
-            let d01 = (y1 - y0) / (x1 - x0);
-            let d12 = (y2 - y1) / (x2 - x1);
-            let curvature = (d12 - d01) / (x2 - x0);
-            if curvature == 0.0 {
-                continue;
-            }
-            let slope_at_x1 = d01 + curvature * (x1 - x0);
-            let xv = x1 - slope_at_x1 / (2.0 * curvature);
-            if !(xv > x0 && xv < x2) {
-                continue;
-            }
-            let yv = y1 - slope_at_x1 * slope_at_x1 / (4.0 * curvature);
-            if passes(yv) != passes(y1) {
-                out.push(xv);
-                out.push(0.5 * (x0 + x1));
-                out.push(0.5 * (x1 + x2));
-            }
-        }
-    }
-    out.sort_by(f64::total_cmp);
-    out.dedup();
-    out.retain(|x| !nodes.iter().any(|n| n.x == *x));
-    out
+    .into_iter()
+    .fold(f64::INFINITY, f64::min)
 }
 
 fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {

@@ -8,8 +8,9 @@
 //! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
 //! less extreme.
 
-use super::minimise::{bisect_predicate, brent_minimise};
+use crate::numerics::{bisect_predicate, brent_minimise};
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 use std::sync::Mutex;
 
 /// The prediction at one point of parameter space.
@@ -40,23 +41,31 @@ pub trait PointModel: Sync {
     fn passes_horizon_test(&self, n: &[f64]) -> bool;
 }
 
-/// Extremes of the prediction over the feasible part of the box.
-#[derive(Debug, Clone, PartialEq)]
+/// Extremes of the prediction over the feasible part of the box (as a bound's checkpoint
+/// stores them: a number that is not finite as the string `nan`, `inf` or `-inf`).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[serde(deny_unknown_fields)]
 pub struct Extremes {
     /// Min and max of the size over points with ΔC ≤ the limit (NaN if there are none).
+    #[serde(with = "number")]
     pub size_min: f64,
+    #[serde(with = "number")]
     pub size_max: f64,
     /// Min of ΔC over the box.
+    #[serde(with = "number")]
     pub circularity_min: f64,
     /// Whether some grid points had no horizon or no shadow (skipped).
     pub partial: bool,
     /// Whether some grid point that counts is a horizonless object (with a shadow).
     pub horizonless: bool,
     /// The largest step back from a horizon boundary inside the box needed for the solver
-    /// to succeed (0 if none).
+    /// to succeed (0 if none); `horizon_backoff` in a checkpoint (a distance in the
+    /// parameter, not a wall-clock time).
+    #[serde(with = "number", rename = "horizon_backoff")]
     pub wall_backoff: f64,
     /// A solver failure at an off-grid refinement point that stopped the refinement (the
     /// extreme is then the best value found before it; grid-point failures are fatal).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
     pub refinement_cut: Option<String>,
 }
 
@@ -252,38 +261,39 @@ fn refine_goal(
         return Ok(best_value);
     }
     let sweeps = if dims.len() == 1 { 1 } else { 2 };
-    let failure = std::sync::Mutex::new(None::<String>);
     for sweep in 0..sweeps {
         for j in 0..dims.len() {
             let nodes = &axes[j];
             // The line through `best` along dimension j: reuse the grid on the first sweep
-            // when `best` is a grid point, else evaluate it.
-            let line_values: Vec<f64> = nodes
+            // when `best` is a grid point, else evaluate it. Results in node order, so the
+            // failure reported is the same at any thread count.
+            let line: Vec<Result<f64, String>> = nodes
                 .par_iter()
                 .map(|&t| {
                     let mut p = best.clone();
                     p[j] = t;
                     if sweep == 0 {
                         if let Some(i) = points.iter().position(|q| *q == p) {
-                            return objective[i];
+                            return Ok(objective[i]);
                         }
                     }
                     match model.value(&p) {
-                        PointValue::Failed(m) => {
-                            *failure.lock().unwrap_or_else(|e| e.into_inner()) = Some(m);
-                            f64::INFINITY
-                        }
-                        v => goal.objective(&v, limit),
+                        PointValue::Failed(m) => Err(m),
+                        v => Ok(goal.objective(&v, limit)),
                     }
                 })
                 .collect();
-            if let Some(m) = failure.lock().unwrap_or_else(|e| e.into_inner()).take() {
+            if let Some(m) = line.iter().find_map(|r| r.as_ref().err()) {
                 // Off-grid refinement points only: keep the best value so far, and say so.
                 cut.lock()
                     .unwrap_or_else(|e| e.into_inner())
-                    .get_or_insert(m);
+                    .get_or_insert_with(|| m.clone());
                 return Ok(best_value);
             }
+            let line_values: Vec<f64> = line
+                .into_iter()
+                .map(|r| r.unwrap_or(f64::INFINITY))
+                .collect();
             let tol = search.relative_tolerance * (dims[j].1 - dims[j].0).abs();
             let mut eval = |t: f64| -> Result<f64, String> {
                 let mut p = best.clone();
@@ -425,4 +435,40 @@ fn refine_line(
         }
     }
     Ok(best)
+}
+
+/// A number that may be NaN or infinite: JSON numbers for finite values, strings otherwise.
+mod number {
+    use serde::{Deserialize, Deserializer, Serialize, Serializer};
+
+    #[derive(Serialize, Deserialize)]
+    #[serde(untagged)]
+    enum Stored {
+        Finite(f64),
+        Other(String),
+    }
+
+    pub fn serialize<S: Serializer>(x: &f64, s: S) -> Result<S::Ok, S::Error> {
+        match *x {
+            x if x.is_finite() => Stored::Finite(x),
+            x if x.is_nan() => Stored::Other("nan".into()),
+            x if x > 0.0 => Stored::Other("inf".into()),
+            _ => Stored::Other("-inf".into()),
+        }
+        .serialize(s)
+    }
+
+    pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<f64, D::Error> {
+        match Stored::deserialize(d)? {
+            Stored::Finite(x) => Ok(x),
+            Stored::Other(s) => match s.as_str() {
+                "nan" => Ok(f64::NAN),
+                "inf" => Ok(f64::INFINITY),
+                "-inf" => Ok(f64::NEG_INFINITY),
+                _ => Err(serde::de::Error::custom(format!(
+                    "'{s}' is not a number (nan, inf and -inf are the only words)"
+                ))),
+            },
+        }
+    }
 }

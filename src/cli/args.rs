@@ -192,3 +192,28 @@ pub fn check_svg_path(path: &str) -> Result<(), CliError> {
         )))
     }
 }
+
+/// A checkpoint error as the command line says it: the library's message with what to do
+/// about it on the command line (`flag` names the file's option, `--out`).
+pub fn checkpoint_message(e: &umbral::run::CheckpointError, flag: &str) -> String {
+    use umbral::run::{remedy, CheckpointError};
+    match e {
+        CheckpointError::Mismatch { .. } => {
+            format!("{e} (use another {flag} or delete the file)")
+        }
+        CheckpointError::BadLine {
+            path,
+            line,
+            problem,
+            item,
+        } => {
+            let or = if *line == 1 { " or" } else { ", or" };
+            format!(
+                "'{path}' line {line} {problem}; refusing to resume from it ({}{or} use another {flag})",
+                remedy(*line, item)
+            )
+        }
+        CheckpointError::InUse { .. } => format!("{e} or use another {flag}"),
+        CheckpointError::Io { .. } | CheckpointError::Read { .. } => e.to_string(),
+    }
+}

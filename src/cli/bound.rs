@@ -1,17 +1,24 @@
 //! `umbral bound`: allowed ranges of a metric parameter from a measured shadow or ring.
 
-use super::args::{parse_assignments, parse_finite};
+use super::args::{checkpoint_message, parse_assignments, parse_finite};
+use super::interrupt;
 use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::bound_plot;
+use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
-use std::path::Path;
+use std::io::Write;
+use std::path::{Path, PathBuf};
 use umbral::bounds::{
-    bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::Measurement;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
+use umbral::run::bound::{
+    bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundRunError,
+};
+use umbral::run::{CheckpointError, Controls};
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum SizeMeasureArg {
@@ -61,6 +68,15 @@ pub struct BoundArgs {
     /// photon sphere bounds capture by its centre, and is labelled horizonless).
     #[arg(long = "require-horizon")]
     require_horizon: bool,
+    /// Keep every nuisance evaluation in FILE (JSON lines) as it finishes, and resume from
+    /// it: an interrupted bound rerun with the same arguments continues where it stopped.
+    /// The file is kept. Without this option the checkpoint is umbral-bound-HASH.jsonl in
+    /// the current folder, removed when the bound completes.
+    #[arg(long, value_name = "FILE.jsonl")]
+    checkpoint: Option<String>,
+    /// Keep no checkpoint (an interrupted bound starts over).
+    #[arg(long = "no-checkpoint", conflicts_with = "checkpoint")]
+    no_checkpoint: bool,
 }
 
 /// Read `LO:HI` with LO < HI, both finite.
@@ -182,7 +198,7 @@ fn ranges(r: &[[f64; 2]]) -> String {
     }
 }
 
-pub fn run(args: &BoundArgs) -> Result<(), CliError> {
+pub fn run(args: &BoundArgs, progress: &ProgressArgs) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         super::args::check_svg_path(path)?;
     }
@@ -192,7 +208,9 @@ pub fn run(args: &BoundArgs) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         stage_plot(&mut outputs, path)?;
     }
-    let result = bound(&request).map_err(|e| CliError::usage(e.to_string()))?;
+    let mut display = progress.display(None)?;
+    let result = run_bound(args, &request, display.as_mut())?;
+    drop(display);
     if let Some(path) = &args.plot {
         write_plot(&mut outputs, path, &bound_plot(path, &result)?)?;
     }
@@ -205,6 +223,106 @@ pub fn run(args: &BoundArgs) -> Result<(), CliError> {
     }
     outputs.commit()?;
     Ok(())
+}
+
+/// The bound's checkpoint: the one `--checkpoint` names (kept), or one in the current
+/// folder named after the request (removed when the bound ends, kept when it is
+/// interrupted), or none.
+struct Kept {
+    file: Option<BoundCheckpoint>,
+    shown: String,
+    removable: bool,
+}
+
+impl Kept {
+    fn open(args: &BoundArgs, request: &BoundRequest) -> Result<Kept, CliError> {
+        let (shown, removable) = match &args.checkpoint {
+            _ if args.no_checkpoint => {
+                return Ok(Kept {
+                    file: None,
+                    shown: String::new(),
+                    removable: false,
+                })
+            }
+            Some(path) => (path.clone(), false),
+            None => (checkpoint_name(request).map_err(bound_error)?, true),
+        };
+        let file = match open_checkpoint(request, &PathBuf::from(&shown)) {
+            Ok(f) => Some(f),
+            // A folder that cannot be written to (read-only): run without one, and say so.
+            Err(BoundRunError::Checkpoint(CheckpointError::Io { message, .. })) if removable => {
+                let _ = writeln!(
+                    std::io::stderr(),
+                    "note: no checkpoint ('{shown}': {message}); an interrupted bound will start \
+                     over (give --checkpoint FILE to keep one elsewhere)"
+                );
+                None
+            }
+            Err(e) => return Err(bound_error(e)),
+        };
+        if let Some(f) = file.as_ref().filter(|f| f.kept() > 0) {
+            let _ = writeln!(
+                std::io::stderr(),
+                "bound: resuming from '{shown}': {} nuisance evaluations kept",
+                f.kept()
+            );
+        }
+        Ok(Kept {
+            file,
+            shown,
+            removable,
+        })
+    }
+
+    /// The bound ended (completed or failed): a checkpoint of our own is removed.
+    fn close(self) {
+        if let (Some(file), true) = (self.file, self.removable) {
+            let _ = file.remove();
+        }
+    }
+}
+
+/// Run the bound with its progress display and checkpoint; the first Ctrl-C stops it after
+/// the evaluations in progress and says how far it got and how to resume.
+fn run_bound(
+    args: &BoundArgs,
+    request: &BoundRequest,
+    display: &mut dyn umbral::run::Observe,
+) -> Result<BoundResult, CliError> {
+    let mut kept = Kept::open(args, request)?;
+    let result = {
+        let _graceful = interrupt::Graceful::enter("nuisance evaluations");
+        let controls = Controls {
+            observers: vec![display],
+            stop: Some(interrupt::stop_flag()),
+        };
+        bound_with(request, controls, kept.file.as_mut())
+    };
+    match result {
+        Err(BoundRunError::Interrupted { done }) => Err(CliError::interrupted(match &kept.file {
+            Some(_) => format!(
+                "interrupted after {done} nuisance evaluations; they are kept in '{}': rerun \
+                 the same command to resume",
+                kept.shown
+            ),
+            None => format!(
+                "interrupted after {done} nuisance evaluations; no checkpoint was kept, so a \
+                 rerun starts over"
+            ),
+        })),
+        other => {
+            kept.close();
+            other.map_err(bound_error)
+        }
+    }
+}
+
+/// A bound error as the command line says it.
+fn bound_error(e: BoundRunError) -> CliError {
+    match e {
+        BoundRunError::Checkpoint(e) => CliError::usage(checkpoint_message(&e, "--checkpoint")),
+        other => CliError::usage(other.to_string()),
+    }
 }
 
 fn print_result(result: &BoundResult) -> Result<(), CliError> {

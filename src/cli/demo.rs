@@ -3,14 +3,16 @@
 //! The scenario is fiction: the nucleus of an invented giant elliptical galaxy, "Harrow's Reach",
 //! with a made-up black-hole mass, distance and viewing angle. No real source or data is used.
 
+use super::interrupt;
 use super::plot::{screen_curves, ScreenCurve};
+use super::progress::ProgressArgs;
 use super::shadow::{shadow_report, ShadowReport};
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
 use umbral::bounds::{
-    bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
@@ -18,6 +20,8 @@ use umbral::metric::Classification;
 use umbral::metrics::{build_metric, MetricSource};
 use umbral::observables::CentreChoice;
 use umbral::output::OutputTransaction;
+use umbral::run::bound::{bound_with, BoundRunError};
+use umbral::run::{Controls, Executor, Observe, RunError, Selection, WorkList};
 use umbral::shadow::{Observer, ShadowSettings};
 use umbral::verify::{ChecksFile, VerifyReport};
 
@@ -56,27 +60,57 @@ fn scenario() -> Scenario {
     }
 }
 
-fn family(
+/// A family of shadows (one metric, one parameter at several values) as work items.
+struct Family<'a> {
+    metric: &'a str,
+    parameter: &'a str,
+    values: &'a [f64],
     inclination_deg: f64,
-    metric: &str,
-    parameter: &str,
-    values: &[f64],
-    observer: &Observer,
-    settings: &ShadowSettings,
-) -> Result<Vec<ShadowReport>, CliError> {
-    values
-        .iter()
-        .map(|v| {
-            let m = build_metric(metric, &[(parameter.to_string(), *v)])?;
-            shadow_report(
-                m.as_ref(),
-                inclination_deg,
-                observer,
-                settings,
-                CentreChoice::Centroid,
-            )
-        })
-        .collect()
+    observer: &'a Observer,
+    settings: &'a ShadowSettings,
+}
+
+impl WorkList for Family<'_> {
+    type Output = Result<ShadowReport, CliError>;
+
+    fn len(&self) -> usize {
+        self.values.len()
+    }
+
+    fn key(&self, index: usize) -> String {
+        format!("{} {}={}", self.metric, self.parameter, self.values[index])
+    }
+
+    fn run(&self, index: usize) -> Result<ShadowReport, CliError> {
+        let m = build_metric(
+            self.metric,
+            &[(self.parameter.to_string(), self.values[index])],
+        )?;
+        shadow_report(
+            m.as_ref(),
+            self.inclination_deg,
+            self.observer,
+            self.settings,
+            CentreChoice::Centroid,
+        )
+    }
+}
+
+/// The shadows of a family, in order, on the run executor.
+fn family(family: &Family, display: &mut dyn Observe) -> Result<Vec<ShadowReport>, CliError> {
+    let name = format!("{} family", family.metric);
+    let batch = {
+        let _graceful = interrupt::Graceful::enter("shadows");
+        Executor::new(&name, "shadows")
+            .observe(display)
+            .stop_when(interrupt::stop_flag())
+            .run(family, &Selection::All)
+    };
+    match batch {
+        Ok(b) => b.outputs.into_iter().collect(),
+        Err(RunError::Interrupted { .. }) => Err(CliError::interrupted("demo interrupted")),
+        Err(RunError::Checkpoint(e)) => Err(CliError::usage(e.to_string())),
+    }
 }
 
 fn curves(reports: &[ShadowReport], parameter: &str) -> Vec<ScreenCurve> {
@@ -119,7 +153,7 @@ fn table(reports: &[ShadowReport], parameter: &str, theta_g: f64) -> String {
     t
 }
 
-pub fn run(args: &DemoArgs) -> Result<(), CliError> {
+pub fn run(args: &DemoArgs, progress: &ProgressArgs) -> Result<(), CliError> {
     if args.out.trim().is_empty() {
         return Err(CliError::usage(
             "--out must name a folder, got an empty string",
@@ -131,7 +165,10 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
         .map_err(|e| CliError::usage(format!("cannot create '{}': {e}", out.display())))?;
     // Every file appears only when the whole demo succeeds.
     let mut outputs = OutputTransaction::new();
-    match produce(&out, &mut outputs) {
+    let mut display = progress.display(Some("demo"))?;
+    let produced = produce(&out, &mut outputs, display.as_mut());
+    drop(display);
+    match produced {
         Ok(verify) => {
             outputs.commit()?;
             if !verify.all_passed() {
@@ -159,10 +196,13 @@ pub fn run(args: &DemoArgs) -> Result<(), CliError> {
 }
 
 /// Compute and print everything, staging the files in `outputs`; returns the regression
-/// checks' report. Long on purpose: the demo's stages read top to bottom.
-fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, CliError> {
+/// checks' report.
+fn produce(
+    out: &Path,
+    outputs: &mut OutputTransaction,
+    display: &mut dyn Observe,
+) -> Result<VerifyReport, CliError> {
     let sc = scenario();
-    let mut stage = Stages::new(7);
     outln!("umbral demo: {}", sc.name)?;
     outln!(
         "  invented mass {:.2e} Msun, distance {} Mpc, inclination {} deg -> theta_g = {:.4} uas",
@@ -171,8 +211,34 @@ fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, 
         sc.inclination_deg,
         sc.theta_g_uas
     )?;
+    kerr_horizon()?;
+    let settings = ShadowSettings::default();
+    let families = shadows(&sc, &settings, out, outputs, display)?;
+    let (measurement, radii, measurement_staged) = measurement(out, outputs)?;
+    let bounds = bounds(&sc, &radii, &measurement, out, outputs, display)?;
+    exclusion_map(&sc, &measurement_staged, out, outputs, display)?;
+    // Regression checks: the example checks file a user would put in CI.
+    let checks_path = out.join("ci-checks.toml");
+    outputs.write(&checks_path, CHECKS.as_bytes())?;
+    let verify = ChecksFile::parse(CHECKS, &checks_path)
+        .map_err(|e| CliError::usage(e.to_string()))?
+        .run();
+    let results = Results {
+        scenario: &sc,
+        settings: &settings,
+        kerr_family: &families[0],
+        rn_family: &families[1],
+        radii: &radii,
+        bounds: [&bounds[0], &bounds[1]],
+        verify: &verify,
+    };
+    results.write(out, outputs)?;
+    results.print(out)?;
+    Ok(verify)
+}
 
-    // 1. The scenario's reference metric: Kerr at a moderate spin.
+/// Step 1, the scenario's reference metric: Kerr at a moderate spin.
+fn kerr_horizon() -> Result<(), CliError> {
     let kerr = build_metric("kerr", &[("a".to_string(), 0.6)])?;
     let horizon = match kerr.classify() {
         Classification::BlackHole { outer_horizon } => outer_horizon,
@@ -182,27 +248,30 @@ fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, 
             ))
         }
     };
-    outln!("  Kerr a = 0.6: outer horizon r+ = {horizon:.12} M")?;
+    outln!("  Kerr a = 0.6: outer horizon r+ = {horizon:.12} M")
+}
 
-    // 2. Shadows: the Kerr family and a charged spherical alternative.
+/// Step 2, shadows: the Kerr family and a charged spherical alternative, with their figures.
+fn shadows(
+    sc: &Scenario,
+    settings: &ShadowSettings,
+    out: &Path,
+    outputs: &mut OutputTransaction,
+    display: &mut dyn Observe,
+) -> Result<[Vec<ShadowReport>; 2], CliError> {
     let observer = Observer::distant(sc.inclination_deg.to_radians());
-    let settings = ShadowSettings::default();
-    stage.finish_stage("Kerr horizon");
-    let kerr_family = family(
-        sc.inclination_deg,
-        "kerr",
-        "a",
-        &[0.0, 0.5, 0.9, 0.99],
-        &observer,
-        &settings,
-    )?;
+    let of = |metric, parameter, values| Family {
+        metric,
+        parameter,
+        values,
+        inclination_deg: sc.inclination_deg,
+        observer: &observer,
+        settings,
+    };
+    let kerr_family = family(&of("kerr", "a", &[0.0, 0.5, 0.9, 0.99]), display)?;
     let rn_family = family(
-        sc.inclination_deg,
-        "reissner-nordstrom",
-        "q",
-        &[0.0, 0.5, 0.8, 1.0],
-        &observer,
-        &settings,
+        &of("reissner-nordstrom", "q", &[0.0, 0.5, 0.8, 1.0]),
+        display,
     )?;
     let kerr_svg = out.join("kerr-family.svg");
     let svg = screen_curves(
@@ -218,53 +287,66 @@ fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, 
         &curves(&rn_family, "q"),
     )?;
     outputs.write(&rn_svg, svg.as_bytes())?;
+    Ok([kerr_family, rn_family])
+}
 
-    stage.finish_stage("shadows");
-
-    // 3. The measurement: the invented ring, pushed through the calibration chain.
+/// Step 3, the measurement: the invented ring, pushed through the calibration chain. Returns
+/// it, its radius intervals and the staged copy the scan reads.
+fn measurement(
+    out: &Path,
+    outputs: &mut OutputTransaction,
+) -> Result<(Measurement, DerivedRadii, PathBuf), CliError> {
     let measurement_path = out.join("measurement.toml");
-    // The scan below reads the staged copy.
-    let measurement_staged = outputs.stage(&measurement_path)?;
+    let staged = outputs.stage(&measurement_path)?;
     outputs.write(&measurement_path, MEASUREMENT.as_bytes())?;
     let measurement = Measurement::from_toml_str(MEASUREMENT)
         .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
     let radii = measurement
         .derive(None)
         .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
-    stage.finish_stage("measurement chain");
+    Ok((measurement, radii, staged))
+}
 
-    // 4. Bounds: a spherical alternative, and a parametrized Kerr deviation with spin as
-    //    nuisance.
-    let rn_bound = demo_bound(
-        &radii,
-        &measurement,
-        "reissner-nordstrom",
-        ("q", 0.0, 1.2),
-        &[],
-        sc.inclination_deg,
-    )?;
-    stage.finish_stage("Reissner-Nordstrom bound");
-    let jo_bound = demo_bound(
-        &radii,
-        &measurement,
-        "johannsen",
-        ("alpha13", -2.0, 4.0),
-        &[("a", 0.0, 0.95)],
-        sc.inclination_deg,
-    )?;
-    stage.finish_stage("Johannsen bound");
-    let rn_plot = out.join("bound-reissner-nordstrom.svg");
-    let svg = super::plot_bounds::bound_plot(&rn_plot.to_string_lossy(), &rn_bound)?;
-    outputs.write(&rn_plot, svg.as_bytes())?;
-    let jo_plot = out.join("bound-johannsen.svg");
-    let svg = super::plot_bounds::bound_plot(&jo_plot.to_string_lossy(), &jo_bound)?;
-    outputs.write(&jo_plot, svg.as_bytes())?;
+/// Step 4, bounds: a spherical alternative, and a parametrized Kerr deviation with spin as
+/// nuisance, with their figures.
+fn bounds(
+    sc: &Scenario,
+    radii: &DerivedRadii,
+    measurement: &Measurement,
+    out: &Path,
+    outputs: &mut OutputTransaction,
+    display: &mut dyn Observe,
+) -> Result<[BoundResult; 2], CliError> {
+    let on = |metric, vary, nuisance| DemoBound {
+        radii,
+        measurement,
+        metric,
+        vary,
+        nuisance,
+        inclination_deg: sc.inclination_deg,
+    };
+    let rn_bound = on("reissner-nordstrom", ("q", 0.0, 1.2), &[]).run(display)?;
+    let jo_bound = on("johannsen", ("alpha13", -2.0, 4.0), &[("a", 0.0, 0.95)]).run(display)?;
+    for (b, name) in [(&rn_bound, "reissner-nordstrom"), (&jo_bound, "johannsen")] {
+        let path = out.join(format!("bound-{name}.svg"));
+        let svg = super::plot_bounds::bound_plot(&path.to_string_lossy(), b)?;
+        outputs.write(&path, svg.as_bytes())?;
+    }
+    Ok([rn_bound, jo_bound])
+}
 
-    // 5. A 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself.
+/// Step 5, a 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself
+/// (reading the staged measurement).
+fn exclusion_map(
+    sc: &Scenario,
+    measurement_staged: &Path,
+    out: &Path,
+    outputs: &mut OutputTransaction,
+    display: &mut dyn Observe,
+) -> Result<(), CliError> {
     let scan_path = out.join("scan-kerr-newman.jsonl");
     let map_path = out.join("exclusion-kerr-newman.svg");
     let scan_args: Vec<std::ffi::OsString> = [
-        "umbral",
         "scan",
         "--metric",
         "kerr-newman",
@@ -279,117 +361,140 @@ fn produce(out: &Path, outputs: &mut OutputTransaction) -> Result<VerifyReport, 
     .chain([
         sc.inclination_deg.to_string().into(),
         "--measurement".into(),
-        measurement_staged.into_os_string(),
+        measurement_staged.as_os_str().to_owned(),
         "--out".into(),
         scan_path.clone().into_os_string(),
         "--plot".into(),
-        map_path.clone().into_os_string(),
+        map_path.into_os_string(),
     ])
     .collect();
     // The points go to a staged file (a fresh scan each time); the map is staged by the scan.
     let scan_staged = outputs.stage(&scan_path)?;
-    let scan_args = super::scan::parse_args(&scan_args[1..])?;
-    super::scan::run_in(&scan_args, &scan_staged, outputs)?;
-    stage.finish_stage("exclusion map");
-
-    // 6. Regression checks: the example checks file a user would put in CI.
-    let checks_path = out.join("ci-checks.toml");
-    outputs.write(&checks_path, CHECKS.as_bytes())?;
-    let verify = ChecksFile::parse(CHECKS, &checks_path)
-        .map_err(|e| CliError::usage(e.to_string()))?
-        .run();
-    stage.finish_stage("regression checks");
-    stage.done();
-
-    #[derive(Serialize)]
-    struct DemoJson<'a> {
-        scenario: &'a Scenario,
-        kerr_family: &'a [ShadowReport],
-        reissner_nordstrom_family: &'a [ShadowReport],
-        measured_radius: &'a DerivedRadii,
-        bounds: [&'a BoundResult; 2],
-        checks_passed: usize,
-        checks_failed: usize,
-    }
-    let json = serde_json::to_string_pretty(&DemoJson {
-        scenario: &sc,
-        kerr_family: &kerr_family,
-        reissner_nordstrom_family: &rn_family,
-        measured_radius: &radii,
-        bounds: [&rn_bound, &jo_bound],
-        checks_passed: verify.passed(),
-        checks_failed: verify.failed(),
-    })
-    .expect("serialisable");
-    let json_path = out.join("results.json");
-    outputs.write(&json_path, json.as_bytes())?;
-
-    let report = report_text(
-        &sc,
-        &settings,
-        &kerr_family,
-        &rn_family,
-        &radii,
-        &[&rn_bound, &jo_bound],
-        &verify,
-    );
-    let report_path = out.join("report.md");
-    outputs.write(&report_path, report.as_bytes())?;
-    outln!("{}", table(&kerr_family, "a", sc.theta_g_uas))?;
-    for b in [&rn_bound, &jo_bound] {
-        outln!("{}", bound_summary(b))?;
-    }
-    outln!(
-        "regression checks: {} pass, {} fail",
-        verify.passed(),
-        verify.failed()
-    )?;
-    outln!("wrote:")?;
-    for p in [
-        &kerr_svg,
-        &rn_svg,
-        &rn_plot,
-        &jo_plot,
-        &map_path,
-        &scan_path,
-        &measurement_path,
-        &checks_path,
-        &json_path,
-        &report_path,
-    ] {
-        outln!("  {}", p.display())?;
-    }
-    Ok(verify)
+    let scan_args = super::scan::parse_args(&scan_args)?;
+    super::scan::run_in(&scan_args, &scan_staged, outputs, display)
 }
 
-/// Bound one parameter of `metric` from the scenario's measurement.
-fn demo_bound(
-    radii: &DerivedRadii,
-    measurement: &Measurement,
-    metric: &str,
-    vary: (&str, f64, f64),
-    nuisance: &[(&str, f64, f64)],
+/// Everything the demo computed, for its files and its summary.
+struct Results<'a> {
+    scenario: &'a Scenario,
+    settings: &'a ShadowSettings,
+    kerr_family: &'a [ShadowReport],
+    rn_family: &'a [ShadowReport],
+    radii: &'a DerivedRadii,
+    bounds: [&'a BoundResult; 2],
+    verify: &'a VerifyReport,
+}
+
+impl Results<'_> {
+    /// results.json and report.md.
+    fn write(&self, out: &Path, outputs: &mut OutputTransaction) -> Result<(), CliError> {
+        #[derive(Serialize)]
+        struct DemoJson<'a> {
+            scenario: &'a Scenario,
+            kerr_family: &'a [ShadowReport],
+            reissner_nordstrom_family: &'a [ShadowReport],
+            measured_radius: &'a DerivedRadii,
+            bounds: [&'a BoundResult; 2],
+            checks_passed: usize,
+            checks_failed: usize,
+        }
+        let json = serde_json::to_string_pretty(&DemoJson {
+            scenario: self.scenario,
+            kerr_family: self.kerr_family,
+            reissner_nordstrom_family: self.rn_family,
+            measured_radius: self.radii,
+            bounds: self.bounds,
+            checks_passed: self.verify.passed(),
+            checks_failed: self.verify.failed(),
+        })
+        .map_err(|e| CliError::usage(format!("cannot serialise the demo's results: {e}")))?;
+        outputs.write(&out.join("results.json"), json.as_bytes())?;
+        let report = report_text(
+            self.scenario,
+            self.settings,
+            self.kerr_family,
+            self.rn_family,
+            self.radii,
+            &self.bounds,
+            self.verify,
+        );
+        outputs.write(&out.join("report.md"), report.as_bytes())?;
+        Ok(())
+    }
+
+    /// The summary on standard output and the list of files written.
+    fn print(&self, out: &Path) -> Result<(), CliError> {
+        outln!(
+            "{}",
+            table(self.kerr_family, "a", self.scenario.theta_g_uas)
+        )?;
+        for b in self.bounds {
+            outln!("{}", bound_summary(b))?;
+        }
+        outln!(
+            "regression checks: {} pass, {} fail",
+            self.verify.passed(),
+            self.verify.failed()
+        )?;
+        outln!("wrote:")?;
+        for name in [
+            "kerr-family.svg",
+            "reissner-nordstrom-family.svg",
+            "bound-reissner-nordstrom.svg",
+            "bound-johannsen.svg",
+            "exclusion-kerr-newman.svg",
+            "scan-kerr-newman.jsonl",
+            "measurement.toml",
+            "ci-checks.toml",
+            "results.json",
+            "report.md",
+        ] {
+            outln!("  {}", out.join(name).display())?;
+        }
+        Ok(())
+    }
+}
+
+/// A bound of one parameter of `metric` from the scenario's measurement.
+struct DemoBound<'a> {
+    radii: &'a DerivedRadii,
+    measurement: &'a Measurement,
+    metric: &'a str,
+    vary: (&'a str, f64, f64),
+    nuisance: &'a [(&'a str, f64, f64)],
     inclination_deg: f64,
-) -> Result<BoundResult, CliError> {
-    let range = |(name, low, high): (&str, f64, f64)| ParameterRange {
-        name: name.to_string(),
-        low,
-        high,
-    };
-    bound(&BoundRequest {
-        metric: MetricSource::builtin(metric)?,
-        vary: range(vary),
-        fixed: Vec::new(),
-        inclination: Inclination::Fixed {
-            degrees: inclination_deg,
-        },
-        nuisance: nuisance.iter().copied().map(range).collect(),
-        size_measure: SizeMeasure::Mean,
-        radii: radii.clone(),
-        circularity_max: measurement.circularity_max,
-        settings: BoundSettings::default(),
-    })
-    .map_err(|e| CliError::usage(format!("demo bound on {metric}: {e}")))
+}
+
+impl DemoBound<'_> {
+    fn run(&self, display: &mut dyn Observe) -> Result<BoundResult, CliError> {
+        let range = |(name, low, high): (&str, f64, f64)| ParameterRange {
+            name: name.to_string(),
+            low,
+            high,
+        };
+        let request = BoundRequest {
+            metric: MetricSource::builtin(self.metric)?,
+            vary: range(self.vary),
+            fixed: Vec::new(),
+            inclination: Inclination::Fixed {
+                degrees: self.inclination_deg,
+            },
+            nuisance: self.nuisance.iter().copied().map(range).collect(),
+            size_measure: SizeMeasure::Mean,
+            radii: self.radii.clone(),
+            circularity_max: self.measurement.circularity_max,
+            settings: BoundSettings::default(),
+        };
+        let _graceful = interrupt::Graceful::enter("nuisance evaluations");
+        let controls = Controls {
+            observers: vec![display],
+            stop: Some(interrupt::stop_flag()),
+        };
+        bound_with(&request, controls, None).map_err(|e| match e {
+            BoundRunError::Interrupted { .. } => CliError::interrupted("demo interrupted"),
+            e => CliError::usage(format!("demo bound on {}: {e}", self.metric)),
+        })
+    }
 }
 
 fn intervals(v: &[[f64; 2]]) -> String {
@@ -457,7 +562,7 @@ fn report_text(
         tol = settings.tolerance,
         kt = table(kerr_family, "a", sc.theta_g_uas),
         rt = table(rn_family, "q", sc.theta_g_uas),
-        gr = 6.0 * 3f64.sqrt(),
+        gr = 2.0 * umbral::observables::SCHWARZSCHILD_SHADOW_RADIUS,
     );
     r.push_str("## The measurement\n\nThe invented ring (measurement.toml) gives these shadow-radius intervals:\n\n");
     for iv in &radii.intervals {
@@ -523,37 +628,4 @@ fn report_text(
          modelling) and the mass-to-distance prior, both from outside this tool: the bounds are only as good as those.\n",
     );
     r
-}
-
-/// Progress over the demo's stages on a terminal (indicatif), nothing otherwise.
-struct Stages {
-    bar: super::interrupt::Bar,
-}
-
-impl Stages {
-    fn new(count: u64) -> Self {
-        use std::io::IsTerminal;
-        let bar = if std::io::stderr().is_terminal() {
-            let bar = indicatif::ProgressBar::new(count);
-            if let Ok(style) = indicatif::ProgressStyle::with_template("{bar:30} {pos}/{len} {msg}")
-            {
-                bar.set_style(style);
-            }
-            bar
-        } else {
-            indicatif::ProgressBar::hidden()
-        };
-        Stages {
-            bar: super::interrupt::Bar::new(bar),
-        }
-    }
-
-    fn finish_stage(&mut self, name: &str) {
-        self.bar.0.set_message(format!("done: {name}"));
-        self.bar.0.inc(1);
-    }
-
-    fn done(&self) {
-        self.bar.0.finish_and_clear();
-    }
 }

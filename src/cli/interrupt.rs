@@ -1,7 +1,8 @@
-//! Ctrl-C. While a scan runs, the first Ctrl-C asks it to stop after the points in progress
-//! (it then says how far it got and how to resume); otherwise, or at a second Ctrl-C, the
-//! process ends at once after clearing its progress bars and removing its temporary files
-//! (finished scan points are already on disk).
+//! Ctrl-C. While a long run (a scan, a bound, the demo) runs, the first Ctrl-C asks its
+//! executor to stop after the items in progress (it then says how far it got and how to
+//! resume); otherwise, or at a second Ctrl-C, the process ends at once after clearing its
+//! progress bars and removing its temporary files (finished items are already in the run's
+//! checkpoint).
 
 use std::io::Write;
 use std::sync::atomic::{AtomicBool, Ordering};
@@ -9,6 +10,8 @@ use std::sync::{Mutex, Once};
 
 static STOP: AtomicBool = AtomicBool::new(false);
 static GRACEFUL: AtomicBool = AtomicBool::new(false);
+/// What the items of the graceful run are (`points`), for the note.
+static UNIT: Mutex<&'static str> = Mutex::new("items");
 static BARS: Mutex<Vec<indicatif::ProgressBar>> = Mutex::new(Vec::new());
 
 /// Install the handler (once per process).
@@ -26,7 +29,8 @@ fn bars() -> std::sync::MutexGuard<'static, Vec<indicatif::ProgressBar>> {
 
 fn on_interrupt() {
     if GRACEFUL.load(Ordering::SeqCst) && !STOP.swap(true, Ordering::SeqCst) {
-        let note = "stopping after the points in progress (Ctrl-C again to stop at once)";
+        let unit = *UNIT.lock().unwrap_or_else(|e| e.into_inner());
+        let note = format!("stopping after the {unit} in progress (Ctrl-C again to stop at once)");
         let say = || {
             let _ = writeln!(std::io::stderr(), "{note}");
         };
@@ -59,7 +63,9 @@ fn terminate() -> ! {
 pub struct Graceful(());
 
 impl Graceful {
-    pub fn enter() -> Self {
+    /// A run of `unit` (`points`) that stops gracefully.
+    pub fn enter(unit: &'static str) -> Self {
+        *UNIT.lock().unwrap_or_else(|e| e.into_inner()) = unit;
         STOP.store(false, Ordering::SeqCst);
         GRACEFUL.store(true, Ordering::SeqCst);
         Graceful(())

@@ -10,6 +10,7 @@ mod interrupt;
 mod metrics;
 mod plot;
 mod plot_bounds;
+mod progress;
 mod scan;
 mod shadow;
 mod verify;
@@ -26,6 +27,8 @@ pub use args::{CliError, INTERRUPTED};
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    #[command(flatten)]
+    progress: progress::ProgressArgs,
 }
 
 #[derive(Debug, Subcommand)]
@@ -81,9 +84,9 @@ fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErr
         Command::Metrics(a) => metrics::run(&a),
         Command::Geometry(a) => geometry::run(&a),
         Command::Shadow(a) => shadow::run(&a),
-        Command::Demo(a) => demo::run(&a),
-        Command::Bound(a) => bound::run(&a),
-        Command::Scan(a) => scan::run(&a),
+        Command::Demo(a) => demo::run(&a, &cli.progress),
+        Command::Bound(a) => bound::run(&a, &cli.progress),
+        Command::Scan(a) => scan::run(&a, &cli.progress),
         Command::Verify(a) => return verify::run(&a),
     }?;
     Ok(ExitCode::SUCCESS)

@@ -54,7 +54,7 @@ fn draw_screen_curves(
     title: &str,
     curves: &[ScreenCurve],
 ) -> Result<(), CliError> {
-    let schwarzschild = 27f64.sqrt();
+    let schwarzschild = umbral::observables::SCHWARZSCHILD_SHADOW_RADIUS;
     let extent = curves
         .iter()
         .flat_map(|c| c.alpha.iter().chain(c.beta.iter()))

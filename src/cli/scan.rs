@@ -1,18 +1,20 @@
 //! `umbral scan`: observables on a parameter grid, streamed to JSON lines and resumable.
 
-use super::args::{parse_assignments, parse_finite};
+use super::args::{checkpoint_message, parse_assignments, parse_finite};
 use super::bound::parse_levels;
 use super::interrupt;
 use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::{allowed_polygons, exclusion_map, AllowedRegion};
+use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
-use std::io::IsTerminal;
 use std::path::Path;
+use umbral::bounds::allowed_margin;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
-use umbral::scan::{run_scan_until, GridAxis, ScanError, ScanPoint, ScanRequest, ScanSummary};
+use umbral::run::Controls;
+use umbral::scan::{GridAxis, ScanError, ScanPoint, ScanRequest, ScanSummary};
 use umbral::shadow::ShadowSettings;
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
@@ -103,20 +105,22 @@ pub fn parse_args(words: &[std::ffi::OsString]) -> Result<ScanArgs, CliError> {
     ScanArgs::from_arg_matches(&matches).map_err(|e| CliError::usage(e.to_string()))
 }
 
-pub fn run(args: &ScanArgs) -> Result<(), CliError> {
+pub fn run(args: &ScanArgs, progress: &ProgressArgs) -> Result<(), CliError> {
     let mut outputs = OutputTransaction::new();
-    run_in(args, Path::new(&args.out), &mut outputs)?;
+    let mut display = progress.display(None)?;
+    run_in(args, Path::new(&args.out), &mut outputs, display.as_mut())?;
     outputs.commit()?;
     Ok(())
 }
 
 /// The scan, writing its points to `points_file` (named `--out` in messages) and its figure
-/// into `outputs`. The points file is the scan's checkpoint, kept even if a later step
-/// fails; the figure appears only with the caller's commit.
+/// into `outputs`, its progress shown by `display`. The points file is the scan's checkpoint,
+/// kept even if a later step fails; the figure appears only with the caller's commit.
 pub fn run_in(
     args: &ScanArgs,
     points_file: &Path,
     outputs: &mut OutputTransaction,
+    display: &mut dyn umbral::run::Observe,
 ) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         super::args::check_svg_path(path)?;
@@ -158,7 +162,7 @@ pub fn run_in(
     if let Some(path) = &args.plot {
         stage_plot(outputs, path)?;
     }
-    let summary = scan_with_progress(&request, points_file, &args.out)?;
+    let summary = scan_with_progress(&request, points_file, &args.out, display)?;
     outln!(
         "scan of {}: {} points in '{}' ({} computed, {} kept from an earlier run)",
         request.metric.name(),
@@ -185,38 +189,21 @@ pub fn run_in(
     Ok(())
 }
 
-/// Run the scan with a progress bar on a terminal; the first Ctrl-C stops it after the points
-/// in progress and says how far it got (`shown` names the output).
+/// Run the scan with its progress display; the first Ctrl-C stops it after the points in
+/// progress and says how far it got (`shown` names the output).
 fn scan_with_progress(
     request: &ScanRequest,
     points_file: &Path,
     shown: &str,
+    display: &mut dyn umbral::run::Observe,
 ) -> Result<ScanSummary, CliError> {
-    let total: u64 = request
-        .axes
-        .iter()
-        .fold(1u64, |p, a| p.saturating_mul(a.count as u64));
-    let bar = if std::io::stderr().is_terminal() {
-        let bar = indicatif::ProgressBar::new(total);
-        if let Ok(style) = indicatif::ProgressStyle::with_template(
-            "{bar:40} {pos}/{len} points, {per_sec}, {eta} left",
-        ) {
-            bar.set_style(style);
-        }
-        bar
-    } else {
-        indicatif::ProgressBar::hidden()
-    };
     let result = {
-        let _graceful = interrupt::Graceful::enter();
-        // Cleared from the screen when dropped, before any message is printed.
-        let bar = interrupt::Bar::new(bar);
-        run_scan_until(
-            request,
-            points_file,
-            &|done, _| bar.0.set_position(done as u64),
-            interrupt::stop_flag(),
-        )
+        let _graceful = interrupt::Graceful::enter("points");
+        let controls = Controls {
+            observers: vec![display],
+            stop: Some(interrupt::stop_flag()),
+        };
+        umbral::scan::scan(request, points_file, controls)
     };
     result.map_err(|e| match e {
         ScanError::Interrupted { done, total, .. } => CliError::interrupted(
@@ -227,6 +214,7 @@ fn scan_with_progress(
             }
             .to_string(),
         ),
+        ScanError::Checkpoint(e) => CliError::usage(checkpoint_message(&e, "--out")),
         other => CliError::usage(other.to_string()),
     })
 }
@@ -254,18 +242,14 @@ fn exclusion_plot(
         for j in 0..ay.count {
             for i in 0..ax.count {
                 let p = at(i, j);
-                // Positive inside the allowed region: the distance of the size from the
-                // interval's nearer end, and of ΔC from its limit.
+                // Positive inside the allowed region (the bound's margins at this point).
                 let v = match p.observable(key) {
-                    Some(s) if p.status == "shadow" => {
-                        let mut v = (iv.high - s).min(s - iv.low);
-                        if let (Some(c), Some(dc)) =
-                            (m.circularity_max, p.observable("circularity_deviation"))
-                        {
-                            v = v.min(c - dc);
-                        }
-                        v
-                    }
+                    Some(s) if p.status == "shadow" => allowed_margin(
+                        s,
+                        p.observable("circularity_deviation"),
+                        [iv.low, iv.high],
+                        m.circularity_max,
+                    ),
                     _ => -1.0,
                 };
                 values[j * ax.count + i] = v;

@@ -11,6 +11,7 @@ use umbral::metric::Spacetime;
 use umbral::numfmt::Num;
 use umbral::observables::{CentreChoice, Observables};
 use umbral::output::OutputTransaction;
+use umbral::shadow::observer::celestial_curve;
 use umbral::shadow::{
     self, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowSettings, ShadowStatus,
     SolverChoice,
@@ -161,17 +162,9 @@ pub fn shadow_report(
         exponents_undefined: result.diagnostics.exponents_undefined.clone(),
         photon_spheres: result.photon_spheres.clone(),
         celestial: match (observer.radius, &curve) {
-            (Some(r_o), Some(c)) => {
-                let scale = metric
-                    .components_at(r_o, observer.inclination)
-                    .g_thth
-                    .sqrt();
-                let (theta, psi) = c
-                    .alpha
-                    .iter()
-                    .zip(&c.beta)
-                    .map(|(a, b)| ((a.hypot(*b) / scale).min(1.0).asin(), b.atan2(*a)))
-                    .unzip();
+            (Some(_), Some(c)) => {
+                let (theta, psi) = celestial_curve(metric, observer, &c.alpha, &c.beta)
+                    .map_err(|e| CliError::usage(e.to_string()))?;
                 Some(CelestialJson { theta, psi })
             }
             _ => None,

@@ -9,9 +9,11 @@
 //! with the fields that status has, finite observables for a shadow, a matching checksum and
 //! the canonical JSON text.
 
-use super::{expected_parameters, ScanError, ScanPoint, ScanRequest};
+use super::{expected_parameters, ScanPoint, ScanRequest};
+use crate::run::RecordFormat;
 use serde::Deserialize;
 use serde_json::Value;
+use std::cmp::Ordering;
 use std::collections::BTreeMap;
 
 /// The longest point line read back (a point line is about 1 KiB; error reasons are cut to
@@ -20,9 +22,6 @@ pub const MAX_LINE_BYTES: usize = 16 * 1024;
 
 /// Reasons longer than this are cut when a point is written.
 pub const MAX_REASON_CHARS: usize = 4000;
-
-/// Hexadecimal digits of the checksum.
-const CHECKSUM_DIGITS: usize = 16;
 
 /// Solver names a point may carry.
 const SOLVERS: [crate::shadow::SolverKind; 3] = [
@@ -56,24 +55,6 @@ struct StoredPoint {
     #[serde(default)]
     observables: Option<Value>,
     checksum: String,
-}
-
-fn checksum(head_text: &str, body: &str) -> String {
-    let mut text = String::with_capacity(head_text.len() + body.len() + 1);
-    text.push_str(head_text);
-    text.push('\n');
-    text.push_str(body);
-    super::header::sha256_hex(text.as_bytes())[..CHECKSUM_DIGITS].to_string()
-}
-
-/// The line of a point (without the newline).
-pub(crate) fn encode(head_text: &str, p: &ScanPoint) -> Result<String, ScanError> {
-    let body = serde_json::to_string(p).map_err(|e| ScanError::BadRequest(e.to_string()))?;
-    let open = body.strip_suffix('}').unwrap_or(&body);
-    Ok(format!(
-        "{open},\"checksum\":\"{}\"}}",
-        checksum(head_text, &body)
-    ))
 }
 
 /// What a status requires of the other fields.
@@ -154,80 +135,101 @@ fn check_observables(o: Option<&Value>) -> Result<(), String> {
     }
 }
 
-/// Check a complete point line against the scan; `seen` collects the indices so far.
-pub(crate) fn decode(
-    text: &str,
-    head_text: &str,
-    request: &ScanRequest,
-    seen: &BTreeMap<Vec<usize>, (String, ScanPoint)>,
-) -> Result<ScanPoint, String> {
-    if text.trim().is_empty() {
-        return Err("is blank".into());
+/// The grid index of a point as its work-item key (`[1,2]`).
+pub(crate) fn key(index: &[usize]) -> String {
+    let parts: Vec<String> = index.iter().map(usize::to_string).collect();
+    format!("[{}]", parts.join(","))
+}
+
+/// The point lines of one scan request.
+pub(crate) struct ScanFormat<'r> {
+    pub(crate) request: &'r ScanRequest,
+}
+
+impl RecordFormat for ScanFormat<'_> {
+    type Record = ScanPoint;
+    const KIND: &'static str = "scan";
+    const ITEM: &'static str = "point";
+    const AN_ITEM: &'static str = "a point";
+
+    fn key(&self, p: &ScanPoint) -> String {
+        key(&p.index)
     }
-    if text.len() > MAX_LINE_BYTES {
-        return Err(format!(
-            "is longer than {MAX_LINE_BYTES} bytes, more than any point line"
-        ));
+
+    fn describe(&self, p: &ScanPoint) -> String {
+        format!("index {:?}", p.index)
     }
-    let stored: StoredPoint =
-        serde_json::from_str(text).map_err(|e| format!("is not a scan point: {e}"))?;
-    let p = ScanPoint {
-        index: stored.index,
-        parameters: stored.parameters,
-        status: stored.status,
-        horizonless: stored.horizonless,
-        reason: stored.reason,
-        solver: stored.solver,
-        observables: stored.observables,
-    };
-    let axes = &request.axes;
-    if p.index.len() != axes.len() {
-        return Err(format!(
-            "index {:?} has {} entries, the grid has {} axes",
-            p.index,
-            p.index.len(),
-            axes.len()
-        ));
+
+    fn body(&self, p: &ScanPoint) -> Result<String, String> {
+        serde_json::to_string(p).map_err(|e| e.to_string())
     }
-    for (a, &i) in axes.iter().zip(&p.index) {
-        if i >= a.count {
+
+    fn parse(&self, text: &str) -> Result<(ScanPoint, String), String> {
+        let stored: StoredPoint =
+            serde_json::from_str(text).map_err(|e| format!("is not a scan point: {e}"))?;
+        let p = ScanPoint {
+            index: stored.index,
+            parameters: stored.parameters,
+            status: stored.status,
+            horizonless: stored.horizonless,
+            reason: stored.reason,
+            solver: stored.solver,
+            observables: stored.observables,
+        };
+        let axes = &self.request.axes;
+        if p.index.len() != axes.len() {
             return Err(format!(
-                "index {:?} is off the grid (axis '{}' has {} points, numbered from 0)",
-                p.index, a.name, a.count
+                "index {:?} has {} entries, the grid has {} axes",
+                p.index,
+                p.index.len(),
+                axes.len()
             ));
         }
+        for (a, &i) in axes.iter().zip(&p.index) {
+            if i >= a.count {
+                return Err(format!(
+                    "index {:?} is off the grid (axis '{}' has {} points, numbered from 0)",
+                    p.index, a.name, a.count
+                ));
+            }
+        }
+        Ok((p, stored.checksum))
     }
-    if seen.contains_key(&p.index) {
-        return Err(format!(
-            "index {:?} appears a second time (a point is written once)",
-            p.index
-        ));
-    }
-    let want = expected_parameters(request, &p.index);
-    if p.parameters.keys().ne(want.keys()) {
-        return Err(format!(
-            "the parameters {:?} are not the metric's {:?}",
-            p.parameters.keys().collect::<Vec<_>>(),
-            want.keys().collect::<Vec<_>>()
-        ));
-    }
-    for (name, value) in &p.parameters {
-        if value.to_bits() != want[name].to_bits() {
+
+    fn check(&self, p: &ScanPoint) -> Result<(), String> {
+        let want = expected_parameters(self.request, &p.index);
+        if p.parameters.keys().ne(want.keys()) {
             return Err(format!(
-                "parameter '{name}' = {value:e} is not the grid point's value {:e}",
-                want[name]
+                "the parameters {:?} are not the metric's {:?}",
+                p.parameters.keys().collect::<Vec<_>>(),
+                want.keys().collect::<Vec<_>>()
             ));
         }
+        for (name, value) in &p.parameters {
+            if value.to_bits() != want[name].to_bits() {
+                return Err(format!(
+                    "parameter '{name}' = {value:e} is not the grid point's value {:e}",
+                    want[name]
+                ));
+            }
+        }
+        check_status(p)
     }
-    check_status(&p)?;
-    let body = serde_json::to_string(&p).map_err(|e| e.to_string())?;
-    if stored.checksum != checksum(head_text, &body) {
-        return Err(
-            "its checksum does not match its content (the line was edited or damaged)".into(),
-        );
+
+    /// Grid order, last axis fastest.
+    fn order(&self, a: &ScanPoint, b: &ScanPoint) -> Ordering {
+        a.index.cmp(&b.index)
     }
-    if encode(head_text, &p).map_err(|e| e.to_string())? != text {
-        return Err("is not written the way umbral writes it (the line was edited)".into());
+
+    fn max_line_bytes(&self) -> usize {
+        MAX_LINE_BYTES
     }
-    Ok(p)
+
+    fn max_file(&self) -> (u64, String) {
+        let total: u64 = self.request.axes.iter().map(|a| a.count as u64).product();
+        (
+            64 * 1024 + total * MAX_LINE_BYTES as u64,
+            "the most a scan file of this grid holds (64 KiB + 16 KiB per point)".into(),
+        )
+    }
 }

@@ -11,6 +11,9 @@
 //! line and the problem. The output is locked for the whole run: a second scan on the same
 //! file is refused while the first runs.
 //!
+//! The grid points are the work items of a [`crate::run::Executor`] and the file is its
+//! [`crate::run::JsonlCheckpoint`]; [`scan`] takes the observers and stop flag to attach.
+//!
 //! ```
 //! use umbral::metrics::MetricSource;
 //! use umbral::scan::{run_scan, GridAxis, ScanRequest};
@@ -30,7 +33,6 @@
 //! std::fs::remove_file(&path).unwrap();
 //! ```
 
-mod file;
 mod header;
 pub mod lines;
 
@@ -40,15 +42,16 @@ use crate::error::MetricError;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables};
+use crate::run::{
+    CheckpointError, Controls, Executor, JsonlCheckpoint, MetricHashError, ProgressFn, RunError,
+    Selection, WorkList,
+};
 use crate::shadow::{self, Observer, PointShadow, ShadowSettings};
-use file::ScanFile;
-use header::Header;
-use rayon::prelude::*;
+use lines::ScanFormat;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::Path;
-use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
-use std::sync::Mutex;
+use std::sync::atomic::AtomicBool;
 
 /// One grid axis: `count` points from `low` to `high` inclusive.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -130,24 +133,39 @@ pub struct ScanSummary {
 /// Why a scan could not run.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum ScanError {
+    /// A parameter name or value the metric refuses.
     #[error(transparent)]
     Metric(#[from] MetricError),
-    #[error("{0}")]
-    BadRequest(String),
-    #[error("cannot write '{path}': {message}")]
-    Io { path: String, message: String },
-    #[error("cannot read '{path}': {message}")]
-    Read { path: String, message: String },
-    #[error("'{path}' was written by a scan with different arguments ({why}); refusing to mix them (use another --out or delete the file)")]
-    Mismatch { path: String, why: String },
-    #[error("'{path}' line {line} {problem}; refusing to resume from it ({})", remedy(*.line))]
-    BadLine {
-        path: String,
-        line: usize,
-        problem: String,
+    /// Not one or two axes.
+    #[error("give one or two grid axes, not {0}")]
+    AxisCount(usize),
+    /// An axis without finite ends in increasing order or with fewer than 2 points.
+    #[error("grid axis {name}: need finite ends, the low below the high, and at least 2 points, got {}:{}:{count}", Num(*.low), Num(*.high))]
+    BadAxis {
+        name: String,
+        low: f64,
+        high: f64,
+        count: usize,
     },
-    #[error("'{path}' is in use by another scan (it is locked); wait for that scan to finish or use another --out")]
-    InUse { path: String },
+    /// More grid points than [`MAX_SCAN_POINTS`].
+    #[error("the grid has {} points; at most {MAX_SCAN_POINTS} are allowed", Num(*.0))]
+    TooManyPoints(f64),
+    /// The two axes name the same parameter.
+    #[error("the two grid axes must differ (both are '{0}')")]
+    SameAxis(String),
+    /// A parameter both on the grid and fixed.
+    #[error("parameter '{0}' is both fixed and on the grid")]
+    FixedAndGrid(String),
+    /// An inclination outside [0, 180] degrees.
+    #[error("the inclination must lie between 0 and 180 degrees, got {}", Num(*.0))]
+    Inclination(f64),
+    /// The metric's content hash could not be made.
+    #[error(transparent)]
+    MetricHash(#[from] MetricHashError),
+    /// The scan file could not be used.
+    #[error(transparent)]
+    Checkpoint(#[from] CheckpointError),
+    /// Stopped on request; the finished points are in the file.
     #[error("interrupted after {done} of {total} points; the finished points are kept in '{path}': rerun the same command to resume")]
     Interrupted {
         path: String,
@@ -156,60 +174,39 @@ pub enum ScanError {
     },
 }
 
-/// What to do about a bad line.
-fn remedy(line: usize) -> &'static str {
-    if line == 1 {
-        "delete the file or use another --out"
-    } else {
-        "delete that line to have its point computed again, or use another --out"
-    }
-}
-
 /// Most grid points a scan may have.
 pub const MAX_SCAN_POINTS: usize = 1_000_000;
 
 fn validate(request: &ScanRequest) -> Result<(), ScanError> {
     if request.axes.is_empty() || request.axes.len() > 2 {
-        return Err(ScanError::BadRequest("give one or two grid axes".into()));
+        return Err(ScanError::AxisCount(request.axes.len()));
     }
     for a in &request.axes {
         if !(a.low.is_finite() && a.high.is_finite()) || a.low >= a.high || a.count < 2 {
-            return Err(ScanError::BadRequest(format!(
-                "--grid {}: need finite LO < HI and N >= 2, got {}:{}:{}",
-                a.name,
-                Num(a.low),
-                Num(a.high),
-                a.count
-            )));
+            return Err(ScanError::BadAxis {
+                name: a.name.clone(),
+                low: a.low,
+                high: a.high,
+                count: a.count,
+            });
         }
     }
     let total: f64 = request.axes.iter().map(|a| a.count as f64).product();
     if total > MAX_SCAN_POINTS as f64 {
-        return Err(ScanError::BadRequest(format!(
-            "the grid has {} points; at most {MAX_SCAN_POINTS} are allowed",
-            Num(total)
-        )));
+        return Err(ScanError::TooManyPoints(total));
     }
     if request.axes.len() == 2 && request.axes[0].name == request.axes[1].name {
-        return Err(ScanError::BadRequest(
-            "the two grid axes must differ".into(),
-        ));
+        return Err(ScanError::SameAxis(request.axes[0].name.clone()));
     }
     if !(0.0..=180.0).contains(&request.inclination_deg) {
-        return Err(ScanError::BadRequest(format!(
-            "the inclination must lie between 0 and 180 degrees, got {}",
-            Num(request.inclination_deg)
-        )));
+        return Err(ScanError::Inclination(request.inclination_deg));
     }
     // Domains are intervals: building at both corners checks names and values.
     for pick in [false, true] {
         let mut a = request.fixed.clone();
         for axis in &request.axes {
             if a.iter().any(|(n, _)| *n == axis.name) {
-                return Err(ScanError::BadRequest(format!(
-                    "parameter '{}' is both fixed and on the grid",
-                    axis.name
-                )));
+                return Err(ScanError::FixedAndGrid(axis.name.clone()));
             }
             a.push((axis.name.clone(), if pick { axis.high } else { axis.low }));
         }
@@ -344,113 +341,31 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
     point
 }
 
-/// Most bytes a scan file of `total` points may have.
-fn file_cap(total: usize) -> u64 {
-    64 * 1024 + total as u64 * lines::MAX_LINE_BYTES as u64
+/// The grid points of a request as a work list (grid order, last axis fastest; the key of a
+/// point is its index, `[1,2]`).
+struct Grid<'r> {
+    request: &'r ScanRequest,
+    indices: Vec<Vec<usize>>,
 }
 
-/// Kept lines by grid index: the line's text and its point.
-type Kept = BTreeMap<Vec<usize>, (String, ScanPoint)>;
+impl WorkList for Grid<'_> {
+    type Output = ScanPoint;
 
-/// The points an earlier run of the same request left in the file (none if it is empty or
-/// holds no complete header), every line checked.
-fn read_existing(
-    data: &[u8],
-    path: &Path,
-    head: &Header,
-    head_text: &str,
-    request: &ScanRequest,
-) -> Result<Kept, ScanError> {
-    let shown = path.display().to_string();
-    let bad = |line: usize, problem: String| ScanError::BadLine {
-        path: shown.clone(),
-        line,
-        problem,
-    };
-    let mut found = BTreeMap::new();
-    if data.is_empty() {
-        return Ok(found);
+    fn len(&self) -> usize {
+        self.indices.len()
     }
-    if data.starts_with(b"\xEF\xBB\xBF") {
-        return Err(bad(
-            1,
-            "starts with a byte-order mark (U+FEFF), which umbral never writes".into(),
-        ));
+
+    fn key(&self, index: usize) -> String {
+        lines::key(&self.indices[index])
     }
-    let mut rest = data;
-    let mut number = 0;
-    while !rest.is_empty() {
-        number += 1;
-        let (raw, complete) = match rest.iter().position(|&b| b == b'\n') {
-            Some(i) => {
-                let raw = &rest[..i];
-                rest = &rest[i + 1..];
-                (raw, true)
-            }
-            None => (std::mem::take(&mut rest), false),
-        };
-        if let Some(at) = raw.iter().position(|&b| b < 0x20 && b != b'\t') {
-            return Err(bad(
-                number,
-                format!(
-                    "holds binary data (byte {} is a control character; is this a scan file?)",
-                    at + 1
-                ),
-            ));
-        }
-        let text = std::str::from_utf8(raw).map_err(|e| {
-            bad(
-                number,
-                format!(
-                    "is not UTF-8 text (byte {} of the line; is this a scan file?)",
-                    e.valid_up_to() + 1
-                ),
-            )
-        })?;
-        if number == 1 {
-            if !complete {
-                // A header cut off mid-write: nothing was computed yet.
-                return if head_text.starts_with(text) {
-                    Ok(found)
-                } else {
-                    Err(bad(
-                        1,
-                        "is cut off (no newline) and does not begin this scan's header".into(),
-                    ))
-                };
-            }
-            if let Some(e) = header::compare(text, head, &shown) {
-                return Err(e);
-            }
-            continue;
-        }
-        if !complete {
-            break; // a half-written last line: its point is computed again
-        }
-        let p = lines::decode(text, head_text, request, &found)
-            .map_err(|problem| bad(number, problem))?;
-        // Kept verbatim: the checks above made sure it is the canonical text.
-        found.insert(p.index.clone(), (text.to_string(), p));
+
+    fn run(&self, index: usize) -> ScanPoint {
+        compute_point(self.request, &self.indices[index])
     }
-    Ok(found)
 }
 
-/// Header and point lines (in grid order) as the file's text.
-fn sorted_text(head_text: &str, lines: &[&str]) -> String {
-    let mut text = String::with_capacity(
-        head_text.len() + 1 + lines.iter().map(|l| l.len() + 1).sum::<usize>(),
-    );
-    text.push_str(head_text);
-    text.push('\n');
-    for line in lines {
-        text.push_str(line);
-        text.push('\n');
-    }
-    text
-}
-
-/// Run (or resume) a scan writing to `path`; `progress(done, total)` is called after every
-/// point.
+/// Run (or resume) a scan writing to `path`; `progress(done, total)` is called at the start
+/// and after every point.
 pub fn run_scan(
     request: &ScanRequest,
     path: &Path,
@@ -468,71 +383,45 @@ pub fn run_scan_until(
     progress: &(dyn Fn(usize, usize) + Sync),
     stop: &AtomicBool,
 ) -> Result<ScanSummary, ScanError> {
+    let mut progress = ProgressFn(progress);
+    let controls = Controls {
+        observers: vec![&mut progress],
+        stop: Some(stop),
+    };
+    scan(request, path, controls)
+}
+
+/// Run (or resume) a scan writing to `path`, with the observers and stop flag of `controls`
+/// attached to its executor.
+pub fn scan(
+    request: &ScanRequest,
+    path: &Path,
+    controls: Controls<'_>,
+) -> Result<ScanSummary, ScanError> {
     validate(request)?;
     let head = header::header(request)?;
-    let head_text = header::text(&head)?;
-    let all = indices(&request.axes);
-    let mut file = ScanFile::open(path)?;
-    let start = file
-        .read(file_cap(all.len()))
-        .and_then(|data| read_existing(&data, path, &head, &head_text, request))
-        .and_then(|existing| {
-            // Rewrite what was kept (drops a half-written line), then append as points finish.
-            let kept: Vec<&str> = existing.values().map(|(l, _)| l.as_str()).collect();
-            file.replace(&sorted_text(&head_text, &kept))?;
-            Ok(existing)
-        });
-    let existing = match start {
-        Ok(e) => e,
-        Err(e) => {
-            file.abandon();
-            return Err(e);
-        }
+    let grid = Grid {
+        request,
+        indices: indices(&request.axes),
     };
-    let reused = existing.len();
-    let missing: Vec<&Vec<usize>> = all.iter().filter(|i| !existing.contains_key(*i)).collect();
-    let done = AtomicUsize::new(reused);
-    let total = all.len();
-    progress(reused, total);
-    let shared = Mutex::new(&mut file);
-    let computed: Vec<Option<(String, ScanPoint)>> = missing
-        .par_iter()
-        .map(|index| -> Result<Option<(String, ScanPoint)>, ScanError> {
-            if stop.load(Ordering::Relaxed) {
-                return Ok(None);
-            }
-            let p = compute_point(request, index);
-            let line = lines::encode(&head_text, &p)?;
-            shared
-                .lock()
-                .unwrap_or_else(|e| e.into_inner())
-                .append(&line)?;
-            let n = done.fetch_add(1, Ordering::Relaxed) + 1;
-            progress(n, total);
-            Ok(Some((line, p)))
-        })
-        .collect::<Result<_, _>>()?;
-    if computed.iter().any(Option::is_none) {
-        return Err(ScanError::Interrupted {
+    let mut file = JsonlCheckpoint::open(path, ScanFormat { request }, &head)?;
+    let run = Executor::new("scan", "points")
+        .with(controls)
+        .checkpoint(&mut file)
+        .run(&grid, &Selection::All);
+    match run {
+        Ok(batch) => Ok(ScanSummary {
+            points: batch.outputs,
+            computed: batch.computed,
+            reused: batch.kept,
+        }),
+        Err(RunError::Interrupted { done, .. }) => Err(ScanError::Interrupted {
             path: path.display().to_string(),
-            done: done.load(Ordering::Relaxed),
-            total,
-        });
+            done,
+            total: grid.len(),
+        }),
+        Err(RunError::Checkpoint(e)) => Err(e.into()),
     }
-    let count = computed.len();
-    let mut points = existing;
-    for (line, p) in computed.into_iter().flatten() {
-        points.insert(p.index.clone(), (line, p));
-    }
-    let ordered: Vec<(String, ScanPoint)> = all.iter().filter_map(|i| points.remove(i)).collect();
-    let lines: Vec<&str> = ordered.iter().map(|(l, _)| l.as_str()).collect();
-    file.replace(&sorted_text(&head_text, &lines))?;
-    let points: Vec<ScanPoint> = ordered.into_iter().map(|(_, p)| p).collect();
-    Ok(ScanSummary {
-        points,
-        computed: count,
-        reused,
-    })
 }
 
 /// Read and check the points an earlier run of `request` left in `path`, computing nothing:
@@ -542,15 +431,5 @@ pub fn run_scan_until(
 pub fn read_scan_file(request: &ScanRequest, path: &Path) -> Result<Vec<ScanPoint>, ScanError> {
     validate(request)?;
     let head = header::header(request)?;
-    let head_text = header::text(&head)?;
-    if !path.exists() {
-        return Ok(Vec::new());
-    }
-    let cap = file_cap(indices(&request.axes).len());
-    let data = crate::input::read_bytes_capped(path, cap).map_err(|e| ScanError::Read {
-        path: path.display().to_string(),
-        message: e.to_string(),
-    })?;
-    let kept = read_existing(&data, path, &head, &head_text, request)?;
-    Ok(kept.into_values().map(|(_, p)| p).collect())
+    Ok(JsonlCheckpoint::read(path, &ScanFormat { request }, &head)?)
 }

@@ -150,6 +150,12 @@ pub(crate) fn singular_exterior(
     })
 }
 
+impl From<crate::numerics::SearchFailure> for ShadowError {
+    fn from(e: crate::numerics::SearchFailure) -> Self {
+        ShadowError::NotConverged(e.to_string())
+    }
+}
+
 /// Why a solver cannot use a metric's declared structure: `undeclared` when the metric does
 /// not declare it, otherwise the metric's own error (a declared hook that returns nothing).
 pub(crate) fn structure_why(e: crate::error::MetricError, undeclared: &str) -> String {

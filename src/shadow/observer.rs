@@ -236,6 +236,53 @@ pub fn screen_from_celestial(
     Ok((rho * psi_c.cos(), rho * psi_c.sin()))
 }
 
+/// A curve on the screen of a finite `observer`, given by its points (α, β), in celestial
+/// angles: [`celestial_from_screen`] at every point, except that a point whose
+/// ρ/√g_θθ exceeds 1 by rounding only (at most 1e-12, a curve on the edge of the view) is put
+/// on the edge, Θ = 90°. Returns (Θ, Ψ) per point.
+///
+/// ```
+/// use umbral::metrics::Schwarzschild;
+/// use umbral::shadow::observer::{celestial_curve, Observer};
+///
+/// let observer = Observer::at_radius(1.0, 10.0);
+/// // √g_θθ = r_o = 10 for Schwarzschild: ρ = 4 is Θ = arcsin(0.4).
+/// let (theta, psi) = celestial_curve(&Schwarzschild, &observer, &[0.0, 4.0], &[4.0, 0.0]).unwrap();
+/// assert!((theta[0] - 0.4f64.asin()).abs() < 1e-15 && (psi[1] - 0.0).abs() < 1e-15);
+/// ```
+pub fn celestial_curve(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    alpha: &[f64],
+    beta: &[f64],
+) -> Result<(Vec<f64>, Vec<f64>), ShadowError> {
+    let r_o = finite_radius(observer)?;
+    let g = spacetime.components_at(r_o, observer.inclination);
+    if !(g.g_thth > 0.0 && g.g_thth.is_finite()) {
+        return Err(ShadowError::BadRequest(format!(
+            "g_thetatheta is not positive at the observer (r = {r_o})"
+        )));
+    }
+    let scale = g.g_thth.sqrt();
+    alpha
+        .iter()
+        .zip(beta)
+        .map(|(&a, &b)| {
+            let sin_theta = a.hypot(b) / scale;
+            if sin_theta <= 1.0 + 1e-12 {
+                Ok((sin_theta.min(1.0).asin(), b.atan2(a)))
+            } else {
+                Err(ShadowError::BadRequest(format!(
+                    "curve point ({}, {}) lies beyond the observer's horizon of view",
+                    Num(a),
+                    Num(b)
+                )))
+            }
+        })
+        .collect::<Result<Vec<_>, _>>()
+        .map(|points| points.into_iter().unzip())
+}
+
 /// The inverse of [`screen_from_celestial`] on the hemisphere Θ ≤ 90° facing the centre:
 /// Θ = arcsin(ρ/√g_θθ), Ψ = atan2(β, α). Errors if ρ = √(α² + β²) exceeds √g_θθ.
 pub fn celestial_from_screen(

@@ -75,7 +75,7 @@ use super::{
 };
 use crate::geodesic::null_radial_momentum;
 use crate::metric::{PotentialJet, Spacetime};
-use crate::numerics::brent_root;
+use crate::numerics::{brent_root, fallible_root as root, golden_max, parabolic_min};
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
 
@@ -691,7 +691,7 @@ impl<'a> Problem<'a> {
             return Err(not_converged(format!(
                 "the admissible photon orbits reach the edge of the scanned range [{}, {}] \
                  (e.g. at extremal spin, where they touch the horizon): not supported by the \
-                 separable solver; try --solver raytrace or a spin just below extremal",
+                 separable solver; use the ray-tracing solver (raytrace) or a spin just below extremal",
                 grid[0],
                 grid[grid.len() - 1]
             )));
@@ -1158,103 +1158,4 @@ impl<'a> Problem<'a> {
             },
         })
     }
-}
-
-/// Brent's method on a fallible function; errors inside stop the search and are returned.
-fn root(
-    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
-    lo: f64,
-    hi: f64,
-    what: &str,
-) -> Result<f64, ShadowError> {
-    let mut failure = None;
-    let x = brent_root(
-        |x| match f(x) {
-            Ok(v) => v,
-            Err(e) => {
-                failure.get_or_insert(e);
-                0.0
-            }
-        },
-        lo,
-        hi,
-        0.0,
-    )
-    .map_err(|e| not_converged(format!("{what}: {e}")))?;
-    match failure {
-        Some(e) => Err(e),
-        None => Ok(x),
-    }
-}
-
-/// The minimum of `f` in a bracket a < b < c with f(b) ≤ f(a), f(c): successive parabolic
-/// interpolation, with a golden-section step whenever the parabola's vertex leaves the bracket.
-/// Returns the smallest value evaluated.
-fn parabolic_min(
-    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
-    bracket: [(f64, f64); 3],
-) -> Result<f64, ShadowError> {
-    let [(mut a, mut fa), (mut b, mut fb), (mut c, mut fc)] = bracket;
-    let golden = 0.5 * (3.0 - 5f64.sqrt());
-    for _ in 0..40 {
-        let p = (b - a) * (b - a) * (fb - fc) - (b - c) * (b - c) * (fb - fa);
-        let q = (b - a) * (fb - fc) - (b - c) * (fb - fa);
-        let mut x = if q != 0.0 { b - 0.5 * p / q } else { f64::NAN };
-        if x.is_nan() || x <= a || x >= c || x == b {
-            x = if c - b > b - a {
-                b + golden * (c - b)
-            } else {
-                b - golden * (b - a)
-            };
-        }
-        let fx = f(x)?;
-        let moved = (x - b).abs();
-        if fx < fb {
-            if x < b {
-                (c, fc) = (b, fb);
-            } else {
-                (a, fa) = (b, fb);
-            }
-            (b, fb) = (x, fx);
-        } else if x < b {
-            (a, fa) = (x, fx);
-        } else {
-            (c, fc) = (x, fx);
-        }
-        if moved <= 1e-7 || c - a <= 1e-7 {
-            break;
-        }
-    }
-    Ok(fb)
-}
-
-/// Golden-section search for a maximum of `f` on [lo, hi].
-fn golden_max(
-    f: &dyn Fn(f64) -> Result<f64, ShadowError>,
-    mut lo: f64,
-    mut hi: f64,
-) -> Result<(f64, f64), ShadowError> {
-    let ratio = 0.5 * (5f64.sqrt() - 1.0);
-    let mut x1 = hi - ratio * (hi - lo);
-    let mut x2 = lo + ratio * (hi - lo);
-    let (mut f1, mut f2) = (f(x1)?, f(x2)?);
-    for _ in 0..200 {
-        if hi - lo <= 1e-13 * (1.0 + lo.abs()) {
-            break;
-        }
-        if f1 >= f2 {
-            hi = x2;
-            x2 = x1;
-            f2 = f1;
-            x1 = hi - ratio * (hi - lo);
-            f1 = f(x1)?;
-        } else {
-            lo = x1;
-            x1 = x2;
-            f1 = f2;
-            x2 = lo + ratio * (hi - lo);
-            f2 = f(x2)?;
-        }
-    }
-    Ok(if f1 >= f2 { (x1, f1) } else { (x2, f2) })
 }

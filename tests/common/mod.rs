@@ -27,6 +27,26 @@ pub const DEFAULT_TIMEOUT: Duration = Duration::from_secs(10);
 /// runaway child cannot exhaust the test's own memory.
 pub const OUTPUT_CAP: usize = 16 << 20;
 
+/// A bound of about a second on two cores, about 40 nuisance evaluations (Kerr–Newman with
+/// a = 0.5, the inclination a nuisance over 30°–80°), for tests that watch or interrupt a run.
+pub const LONG_BOUND: &[&str] = &[
+    "bound",
+    "--metric",
+    "kerr-newman",
+    "--vary",
+    "q=0:1",
+    "--set",
+    "a=0.5",
+    "--inclination-range",
+    "30:80",
+    "--measurement",
+    concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/examples/measurement_ring.toml"
+    ),
+    "--json",
+];
+
 /// How to run one child.
 #[derive(Debug, Clone)]
 pub struct Invocation {

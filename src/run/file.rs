@@ -1,19 +1,19 @@
-//! The scan's output file, held under an exclusive lock for the whole run.
+//! A checkpoint file, held under an exclusive lock for the whole run.
 //!
-//! The lock (`flock` through `std::fs::File::try_lock`) is taken on the output file itself, so
-//! a second scan on the same output is refused at once. Rewrites go to a unique temporary in
-//! the same folder that is locked before it is renamed over the output: the path always names
-//! a locked file while a scan runs. A scan that opened the old file just before the rename
+//! The lock (`flock` through `std::fs::File::try_lock`) is taken on the file itself, so a
+//! second run on the same file is refused at once. Rewrites go to a unique temporary in the
+//! same folder that is locked before it is renamed over the file: the path always names a
+//! locked file while a run holds it. A run that opened the old file just before the rename
 //! sees, once it holds that lock, that the path names another file now, and opens it again.
 
-use super::ScanError;
+use super::checkpoint::CheckpointError;
 use crate::output::Temporary;
 use std::fs::File;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
-/// The locked output file.
-pub(crate) struct ScanFile {
+/// The locked file.
+pub(crate) struct LockedFile {
     path: PathBuf,
     handle: File,
     /// Created by this run (removed again if the run fails before writing to it).
@@ -21,8 +21,8 @@ pub(crate) struct ScanFile {
     written: bool,
 }
 
-fn io(path: &Path, e: impl std::fmt::Display) -> ScanError {
-    ScanError::Io {
+fn io(path: &Path, e: impl std::fmt::Display) -> CheckpointError {
+    CheckpointError::Io {
         path: path.display().to_string(),
         message: e.to_string(),
     }
@@ -45,9 +45,10 @@ fn is_current(handle: &File, path: &Path) -> bool {
     }
 }
 
-impl ScanFile {
-    /// Open `path` (creating it empty when absent) and lock it.
-    pub(crate) fn open(path: &Path) -> Result<ScanFile, ScanError> {
+impl LockedFile {
+    /// Open `path` (creating it empty when absent) and lock it; `kind` names the run in the
+    /// message when another run holds the lock.
+    pub(crate) fn open(path: &Path, kind: &'static str) -> Result<LockedFile, CheckpointError> {
         let shown = path;
         let path = crate::output::destination(path).map_err(|e| io(shown, e.message))?;
         for _ in 0..16 {
@@ -78,21 +79,22 @@ impl ScanFile {
             match handle.try_lock() {
                 Ok(()) => {}
                 Err(std::fs::TryLockError::WouldBlock) => {
-                    return Err(ScanError::InUse {
+                    return Err(CheckpointError::InUse {
                         path: shown.display().to_string(),
+                        kind,
                     })
                 }
                 Err(std::fs::TryLockError::Error(e)) => return Err(io(shown, e)),
             }
             if is_current(&handle, &path) {
-                return Ok(ScanFile {
+                return Ok(LockedFile {
                     path,
                     handle,
                     created,
                     written: false,
                 });
             }
-            // Replaced by another scan's rename between our open and our lock: again.
+            // Replaced by another run's rename between our open and our lock: again.
         }
         Err(io(
             shown,
@@ -100,15 +102,15 @@ impl ScanFile {
         ))
     }
 
-    /// The whole file, refusing more than `cap` bytes (the most a scan of its grid holds).
-    pub(crate) fn read(&mut self, cap: u64) -> Result<Vec<u8>, ScanError> {
-        crate::input::read_capped(&mut self.handle, cap).map_err(|e| ScanError::Read {
+    /// The whole file, refusing more than `cap` bytes; `too_large` says why that is the most
+    /// the file can hold.
+    pub(crate) fn read(&mut self, cap: u64, too_large: &str) -> Result<Vec<u8>, CheckpointError> {
+        crate::input::read_capped(&mut self.handle, cap).map_err(|e| CheckpointError::Read {
             path: self.path.display().to_string(),
             message: match e {
-                crate::input::InputError::TooLarge(cap) => format!(
-                    "larger than {cap} bytes, the most a scan file of this grid holds \
-                     (64 KiB + 16 KiB per point)"
-                ),
+                crate::input::InputError::TooLarge(cap) => {
+                    format!("larger than {cap} bytes, {too_large}")
+                }
                 other => other.to_string(),
             },
         })
@@ -116,7 +118,7 @@ impl ScanFile {
 
     /// Replace the file's content by `text` through a locked temporary and a rename; later
     /// appends go to the new file.
-    pub(crate) fn replace(&mut self, text: &str) -> Result<(), ScanError> {
+    pub(crate) fn replace(&mut self, text: &str) -> Result<(), CheckpointError> {
         let temp = Temporary::beside(&self.path).map_err(|e| io(&self.path, e.message))?;
         if let Some(f) = temp.as_file() {
             f.try_lock().map_err(|e| io(temp.path(), e))?;
@@ -133,7 +135,7 @@ impl ScanFile {
     }
 
     /// Append one line and its newline.
-    pub(crate) fn append(&mut self, line: &str) -> Result<(), ScanError> {
+    pub(crate) fn append(&mut self, line: &str) -> Result<(), CheckpointError> {
         let mut bytes = Vec::with_capacity(line.len() + 1);
         bytes.extend_from_slice(line.as_bytes());
         bytes.push(b'\n');
@@ -145,5 +147,10 @@ impl ScanFile {
         if self.created && !self.written {
             let _ = std::fs::remove_file(&self.path);
         }
+    }
+
+    /// Remove the file (still holding its lock, so no other run has opened it meanwhile).
+    pub(crate) fn remove(self) -> Result<(), CheckpointError> {
+        std::fs::remove_file(&self.path).map_err(|e| io(&self.path, e))
     }
 }

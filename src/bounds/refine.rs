@@ -1,0 +1,523 @@
+//! The adaptive search over the varied parameter: a uniform starting grid, category changes
+//! (no horizon, no shadow, failure) located by bisection, crossings hidden between grid
+//! points looked for with parabolas, and the ends of the allowed ranges refined by Brent's
+//! method. The nuisance evaluations are asked of an [`Evaluate`], in batches (the starting
+//! grid, each round of candidates) or one at a time (bisection and Brent steps), so a program
+//! can report, checkpoint and interrupt them like any other run's items.
+
+use super::nuisance::{Aggregate, Extremes};
+use super::{describe, BoundError, BoundResult, Failure, LevelBound, PredictedPoint, Prepared};
+use super::{Evaluate, Node};
+use crate::numerics::brent_root;
+
+/// Whether a node's prediction includes horizonless objects.
+fn horizonless(a: &Aggregate) -> bool {
+    matches!(a, Aggregate::Ok(e) if e.horizonless)
+}
+
+fn category(a: &Aggregate) -> u8 {
+    match a {
+        Aggregate::Ok(_) => 0,
+        Aggregate::NoHorizon => 1,
+        Aggregate::NoShadow(_) => 2,
+        Aggregate::Failed(_) => 3,
+    }
+}
+
+/// The margins whose signs decide allowedness: per level (H − s₋, s₊ − L), then the
+/// circularity margin (limit − min ΔC) if a limit is set. Non-negative means "passes".
+pub(super) fn margins(e: &Extremes, levels: &[[f64; 2]], circularity_max: Option<f64>) -> Vec<f64> {
+    let mut m = Vec::with_capacity(2 * levels.len() + 1);
+    for [lo, hi] in levels {
+        m.push(hi - e.size_min);
+        m.push(e.size_max - lo);
+    }
+    if let Some(c) = circularity_max {
+        m.push(c - e.circularity_min);
+    }
+    m
+}
+
+/// Which margins belong to level `l`.
+fn level_margins(l: usize, count: usize, has_circularity: bool) -> Vec<usize> {
+    let mut v = vec![2 * l, 2 * l + 1];
+    if has_circularity {
+        v.push(count - 1);
+    }
+    v
+}
+
+fn passes(m: f64) -> bool {
+    m >= 0.0
+}
+
+/// The search: the prepared request and who evaluates it.
+pub(super) struct Search<'p, 'e> {
+    pub(super) prep: &'p Prepared<'p>,
+    pub(super) evaluator: &'e mut dyn Evaluate,
+    pub(super) levels: Vec<[f64; 2]>,
+    pub(super) cmax: Option<f64>,
+}
+
+/// Roots of the margins between adjacent nodes, and cells where the prediction changed.
+pub(super) struct Cells {
+    /// `roots[i][j]`: where margin j crosses zero in (nodes[i], nodes[i+1]).
+    roots: Vec<Vec<Option<f64>>>,
+    failures: Vec<Failure>,
+}
+
+impl Search<'_, '_> {
+    /// Evaluate at every value of `xs` (in parallel), in order.
+    fn nodes(&mut self, xs: &[f64], stage: &str) -> Result<Vec<Node>, BoundError> {
+        let prep = self.prep;
+        let node = |x| Node {
+            x,
+            value: prep.evaluate(x),
+        };
+        Ok(self.evaluator.evaluate(stage, xs, &node)?)
+    }
+
+    /// Evaluate at `x`.
+    fn value(&mut self, x: f64, stage: &str) -> Result<Aggregate, BoundError> {
+        let mut nodes = self.nodes(&[x], stage)?;
+        Ok(nodes.remove(0).value)
+    }
+
+    /// The starting grid, refined at category changes and hidden crossings.
+    pub(super) fn refined_nodes(&mut self) -> Result<Vec<Node>, BoundError> {
+        let request = self.prep.request;
+        let s = &request.settings;
+        let tol = s.parameter_tolerance;
+        let (lo, hi) = (request.vary.low, request.vary.high);
+        let n0 = s.initial_grid;
+        let xs: Vec<f64> = (0..n0)
+            .map(|i| {
+                if i == n0 - 1 {
+                    hi
+                } else {
+                    lo + (hi - lo) * i as f64 / (n0 - 1) as f64
+                }
+            })
+            .collect();
+        let mut nodes = self.nodes(&xs, "starting grid")?;
+        self.locate_category_boundaries(&mut nodes, tol)?;
+        for _ in 0..s.refinement_rounds {
+            let extra = hidden_crossing_candidates(&nodes, &self.levels, self.cmax);
+            if extra.is_empty() {
+                break;
+            }
+            let mut new = self.nodes(&extra, "hidden crossings")?;
+            nodes.append(&mut new);
+            nodes.sort_by(|a, b| a.x.total_cmp(&b.x));
+            nodes.dedup_by(|a, b| a.x == b.x);
+            self.locate_category_boundaries(&mut nodes, tol)?;
+        }
+        Ok(nodes)
+    }
+
+    /// Bisect every pair of adjacent nodes of different categories down to `tol`, inserting
+    /// the evaluated midpoints.
+    fn locate_category_boundaries(
+        &mut self,
+        nodes: &mut Vec<Node>,
+        tol: f64,
+    ) -> Result<(), BoundError> {
+        loop {
+            let pair = (0..nodes.len().saturating_sub(1)).find(|&i| {
+                (category(&nodes[i].value) != category(&nodes[i + 1].value)
+                    || horizonless(&nodes[i].value) != horizonless(&nodes[i + 1].value))
+                    && nodes[i + 1].x - nodes[i].x > tol
+                    && 0.5 * (nodes[i].x + nodes[i + 1].x) != nodes[i].x
+            });
+            let Some(i) = pair else {
+                return Ok(());
+            };
+            let x = 0.5 * (nodes[i].x + nodes[i + 1].x);
+            let value = self.value(x, "category edges")?;
+            nodes.insert(i + 1, Node { x, value });
+        }
+    }
+
+    /// Roots of every margin that changes sign between adjacent Ok nodes, by Brent's method;
+    /// a cell where the prediction changes category on the way is a failure of that cell.
+    pub(super) fn bound_ends(&mut self, nodes: &[Node]) -> Result<Cells, BoundError> {
+        let tol = self.prep.request.settings.parameter_tolerance;
+        let count = margin_count(&self.levels, self.cmax);
+        let mut cells = Cells {
+            roots: vec![vec![None; count]; nodes.len().saturating_sub(1)],
+            failures: Vec::new(),
+        };
+        for i in 0..nodes.len().saturating_sub(1) {
+            let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
+            else {
+                continue;
+            };
+            let (ma, mb) = (
+                margins(ea, &self.levels, self.cmax),
+                margins(eb, &self.levels, self.cmax),
+            );
+            for j in 0..count {
+                if !(ma[j].is_finite() && mb[j].is_finite()) || passes(ma[j]) == passes(mb[j]) {
+                    continue;
+                }
+                let (a, b) = (nodes[i].x, nodes[i + 1].x);
+                match self.margin_root(j, a, b, 0.25 * tol)? {
+                    Ok(r) => cells.roots[i][j] = Some(r),
+                    Err(other) => cells.failures.push(Failure {
+                        low: a,
+                        high: b,
+                        error: format!(
+                            "the prediction changed to '{}' between grid points while refining a \
+                             bound end",
+                            match other {
+                                Aggregate::Failed(m) => m,
+                                Aggregate::NoShadow(r) => format!("no shadow: {r}"),
+                                Aggregate::NoHorizon => "no horizon".into(),
+                                Aggregate::Ok(_) => unreachable!(),
+                            }
+                        ),
+                    }),
+                }
+            }
+        }
+        Ok(cells)
+    }
+
+    /// Where margin `j` crosses zero in (a, b): the root, or the other category met on the
+    /// way (the outer error is an interruption or a search that did not converge).
+    fn margin_root(
+        &mut self,
+        j: usize,
+        a: f64,
+        b: f64,
+        xtol: f64,
+    ) -> Result<Result<f64, Aggregate>, BoundError> {
+        let (levels, cmax) = (self.levels.clone(), self.cmax);
+        let mut inner_failure = None;
+        let mut stopped = None;
+        let root = brent_root(
+            |x| match self.value(x, "bound ends") {
+                Ok(Aggregate::Ok(e)) => margins(&e, &levels, cmax)[j],
+                Ok(other) => {
+                    inner_failure.get_or_insert(other);
+                    f64::NAN
+                }
+                Err(e) => {
+                    stopped.get_or_insert(e);
+                    f64::NAN
+                }
+            },
+            a,
+            b,
+            xtol,
+        );
+        if let Some(e) = stopped {
+            return Err(e);
+        }
+        match (root, inner_failure) {
+            (Ok(r), None) => Ok(Ok(r)),
+            (_, Some(other)) => Ok(Err(other)),
+            (Err(e), None) => Err(BoundError::NotConverged(format!(
+                "refining a bound end of '{}' failed: {e}",
+                self.prep.request.vary.name
+            ))),
+        }
+    }
+}
+
+fn margin_count(levels: &[[f64; 2]], cmax: Option<f64>) -> usize {
+    2 * levels.len() + usize::from(cmax.is_some())
+}
+
+/// Points to add where a parabola through three adjacent Ok nodes suggests a margin crosses
+/// zero and back between them.
+fn hidden_crossing_candidates(nodes: &[Node], levels: &[[f64; 2]], cmax: Option<f64>) -> Vec<f64> {
+    let mut out = Vec::new();
+    for w in nodes.windows(3) {
+        let (Aggregate::Ok(a), Aggregate::Ok(b), Aggregate::Ok(c)) =
+            (&w[0].value, &w[1].value, &w[2].value)
+        else {
+            continue;
+        };
+        let (ma, mb, mc) = (
+            margins(a, levels, cmax),
+            margins(b, levels, cmax),
+            margins(c, levels, cmax),
+        );
+        let (x0, x1, x2) = (w[0].x, w[1].x, w[2].x);
+        for j in 0..ma.len() {
+            let (y0, y1, y2) = (ma[j], mb[j], mc[j]);
+            if !(y0.is_finite() && y1.is_finite() && y2.is_finite()) {
+                continue;
+            }
+            if !(passes(y0) == passes(y1) && passes(y1) == passes(y2)) {
+                continue;
+            }
+            // Divided differences of the interpolating parabola.
+            let d01 = (y1 - y0) / (x1 - x0);
+            let d12 = (y2 - y1) / (x2 - x1);
+            let curvature = (d12 - d01) / (x2 - x0);
+            if curvature == 0.0 {
+                continue;
+            }
+            let slope_at_x1 = d01 + curvature * (x1 - x0);
+            let xv = x1 - slope_at_x1 / (2.0 * curvature);
+            if !(xv > x0 && xv < x2) {
+                continue;
+            }
+            let yv = y1 - slope_at_x1 * slope_at_x1 / (4.0 * curvature);
+            if passes(yv) != passes(y1) {
+                out.push(xv);
+                out.push(0.5 * (x0 + x1));
+                out.push(0.5 * (x1 + x2));
+            }
+        }
+    }
+    out.sort_by(f64::total_cmp);
+    out.dedup();
+    out.retain(|x| !nodes.iter().any(|n| n.x == *x));
+    out
+}
+
+/// The refined nodes with the margins' roots between them.
+struct Frame<'f> {
+    nodes: &'f [Node],
+    cells: &'f Cells,
+    /// Cells where the prediction changed category while a root was refined.
+    failed_cells: Vec<bool>,
+    levels: &'f [[f64; 2]],
+    cmax: Option<f64>,
+}
+
+impl Frame<'_> {
+    /// The allowed set at level `l` (r_sh/M in `interval`).
+    fn level_bound(&self, l: usize, interval: [f64; 2], confidence: f64) -> LevelBound {
+        let Frame {
+            nodes,
+            cells,
+            ref failed_cells,
+            levels,
+            cmax,
+        } = *self;
+        let ids = level_margins(l, margin_count(levels, cmax), cmax.is_some());
+        let mut segments: Vec<[f64; 2]> = Vec::new();
+        for i in 0..cells.roots.len() {
+            let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
+            else {
+                continue;
+            };
+            if failed_cells[i] {
+                continue;
+            }
+            let (ma, mb) = (margins(ea, levels, cmax), margins(eb, levels, cmax));
+            let mut cuts: Vec<f64> = ids.iter().filter_map(|&j| cells.roots[i][j]).collect();
+            cuts.push(nodes[i].x);
+            cuts.push(nodes[i + 1].x);
+            cuts.sort_by(f64::total_cmp);
+            cuts.dedup();
+            for w in cuts.windows(2) {
+                let mid = 0.5 * (w[0] + w[1]);
+                let ok = ids.iter().all(|&j| {
+                    let status = |m: f64| m.is_finite() && passes(m);
+                    match cells.roots[i][j] {
+                        Some(r) if mid < r => status(ma[j]),
+                        Some(_) => status(mb[j]),
+                        None if ma[j].is_finite() => status(ma[j]),
+                        None => status(mb[j]),
+                    }
+                });
+                if ok {
+                    match segments.last_mut() {
+                        Some(last) if last[1] == w[0] => last[1] = w[1],
+                        _ => segments.push([w[0], w[1]]),
+                    }
+                }
+            }
+        }
+        // An allowed Ok node isolated between other categories.
+        for (i, n) in nodes.iter().enumerate() {
+            if let Aggregate::Ok(e) = &n.value {
+                let isolated = (i == 0 || category(&nodes[i - 1].value) != 0)
+                    && (i + 1 == nodes.len() || category(&nodes[i + 1].value) != 0);
+                let m = margins(e, levels, cmax);
+                if isolated && ids.iter().all(|&j| passes(m[j])) {
+                    segments.push([n.x, n.x]);
+                }
+            }
+        }
+        segments.sort_by(|a, b| a[0].total_cmp(&b[0]));
+        LevelBound {
+            confidence,
+            radius_interval: interval,
+            allowed: segments,
+            only_range_ends: false, // set once the range edges are known
+        }
+    }
+}
+
+/// Runs of adjacent nodes where `pick` holds, as ranges of the varied parameter.
+fn runs_of(nodes: &[Node], pick: &dyn Fn(&Aggregate) -> bool) -> Vec<[f64; 2]> {
+    let mut out: Vec<[f64; 2]> = Vec::new();
+    let mut prev = false;
+    for n in nodes {
+        let this = pick(&n.value);
+        if this {
+            if prev {
+                if let Some(last) = out.last_mut() {
+                    last[1] = n.x;
+                }
+            } else {
+                out.push([n.x, n.x]);
+            }
+        }
+        prev = this;
+    }
+    out
+}
+
+/// The cells' failures and the failed nodes, adjacent failed nodes with the same message
+/// joined, in increasing order.
+fn all_failures(nodes: &[Node], mut failures: Vec<Failure>) -> Vec<Failure> {
+    let mut prev_failed = false;
+    for n in nodes {
+        if let Aggregate::Failed(m) = &n.value {
+            match failures.last_mut() {
+                Some(f) if prev_failed && f.error == *m => f.high = n.x,
+                _ => failures.push(Failure {
+                    low: n.x,
+                    high: n.x,
+                    error: m.clone(),
+                }),
+            }
+            prev_failed = true;
+        } else {
+            prev_failed = false;
+        }
+    }
+    failures.sort_by(|a, b| a.low.total_cmp(&b.low));
+    failures
+}
+
+/// The assumptions, with what the nodes add (a partial nuisance box, refinements cut short
+/// by a solver failure, steps back from a horizon boundary), and the values where a failure
+/// cut a refinement short.
+fn assumptions(prep: &Prepared, nodes: &[Node]) -> (Vec<String>, Vec<f64>) {
+    let partial = nodes
+        .iter()
+        .any(|n| matches!(&n.value, Aggregate::Ok(e) if e.partial));
+    let backoff = nodes
+        .iter()
+        .map(|n| match &n.value {
+            Aggregate::Ok(e) => e.wall_backoff,
+            _ => 0.0,
+        })
+        .fold(0.0, f64::max);
+    let mut assumptions = describe(prep, partial, nodes.len());
+    let cut: Vec<(f64, &str)> = nodes
+        .iter()
+        .filter_map(|n| match &n.value {
+            Aggregate::Ok(e) => e.refinement_cut.as_deref().map(|m| (n.x, m)),
+            _ => None,
+        })
+        .collect();
+    if let Some(&(x, m)) = cut.first() {
+        assumptions.push(format!(
+            "the shadow solver failed at off-grid nuisance refinement points for {} grid \
+             value(s) of {} (first at {x}: {m}); there the extremes are the best found before \
+             the failure, so those bound ends are less precise",
+            cut.len(),
+            prep.request.vary.name
+        ));
+    }
+    if backoff > 0.0 {
+        assumptions.push(format!(
+            "the shadow solver failed right at a horizon boundary inside the nuisance box; the \
+             closest successful point was used, at most {backoff:.3e} inside"
+        ));
+    }
+    (assumptions, cut.iter().map(|(x, _)| *x).collect())
+}
+
+/// Every node as reported.
+fn predicted(nodes: &[Node]) -> Vec<PredictedPoint> {
+    nodes
+        .iter()
+        .map(|n| {
+            let (status, e) = match &n.value {
+                Aggregate::Ok(e) => ("ok", Some(e)),
+                Aggregate::NoHorizon => ("no_horizon", None),
+                Aggregate::NoShadow(_) => ("no_shadow", None),
+                Aggregate::Failed(_) => ("failed", None),
+            };
+            let finite = |v: f64| v.is_finite().then_some(v);
+            PredictedPoint {
+                value: n.x,
+                status,
+                horizonless: horizonless(&n.value),
+                size_min: e.and_then(|e| finite(e.size_min)),
+                size_max: e.and_then(|e| finite(e.size_max)),
+                circularity_min: e.and_then(|e| finite(e.circularity_min)),
+            }
+        })
+        .collect()
+}
+
+/// The bound from the refined nodes and the roots between them.
+pub(super) fn result(
+    prep: &Prepared,
+    nodes: &[Node],
+    cells: Cells,
+    levels: &[[f64; 2]],
+    cmax: Option<f64>,
+) -> BoundResult {
+    let request = prep.request;
+    let frame = Frame {
+        nodes,
+        cells: &cells,
+        failed_cells: (0..cells.roots.len())
+            .map(|i| {
+                cells
+                    .failures
+                    .iter()
+                    .any(|f| f.low == nodes[i].x && f.high == nodes[i + 1].x)
+            })
+            .collect(),
+        levels,
+        cmax,
+    };
+    let level_bounds = request
+        .radii
+        .intervals
+        .iter()
+        .enumerate()
+        .map(|(l, iv)| frame.level_bound(l, [iv.low, iv.high], iv.confidence))
+        .collect();
+    let (assumptions, refinement_cut) = assumptions(prep, nodes);
+    let mut result = BoundResult {
+        metric: request.metric.name(),
+        vary: request.vary.clone(),
+        fixed: request.fixed.iter().cloned().collect(),
+        nuisance: request.nuisance.clone(),
+        inclination: request.inclination,
+        size_measure: request.size_measure,
+        levels: level_bounds,
+        circularity_max: cmax,
+        require_horizon: request.settings.require_horizon,
+        horizonless: runs_of(nodes, &horizonless),
+        no_horizon: runs_of(nodes, &|a| category(a) == 1),
+        no_shadow: runs_of(nodes, &|a| category(a) == 2),
+        failures: all_failures(nodes, cells.failures),
+        refinement_cut,
+        assumptions,
+        predicted: predicted(nodes),
+    };
+    let ends: Vec<bool> = result
+        .levels
+        .iter()
+        .map(|l| result.only_range_ends(&l.allowed))
+        .collect();
+    for (level, only) in result.levels.iter_mut().zip(ends) {
+        level.only_range_ends = only;
+    }
+    result
+}
