@@ -48,7 +48,9 @@ pub mod prelude {
     pub use crate::metrics::{
         build_metric, builtin_metrics, Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild,
     };
+    pub use crate::observables::{shadow, Observables, Quantity, Shadow, ShadowRequest};
     pub use crate::scalar::DualScalar;
+    pub use crate::shadow::ShadowSolver;
 }
 
 /// The project's conventions (docs/conventions.md); its Rust example is compiled as a doctest.

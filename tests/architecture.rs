@@ -121,7 +121,10 @@ fn no_module_imports_from_a_higher_layer() {
             }
         }
     }
-    assert!(upward.is_empty(), "imports against the layering: {upward:#?}");
+    assert!(
+        upward.is_empty(),
+        "imports against the layering: {upward:#?}"
+    );
 }
 
 type Graph = BTreeMap<String, BTreeMap<String, BTreeSet<String>>>;
@@ -174,7 +177,8 @@ fn the_module_graph_has_no_cycle() {
 /// The checker itself: it must see a planted upward import and a planted cycle.
 #[test]
 fn the_checker_sees_what_it_looks_for() {
-    let names = named_modules("use crate::shadow::solve; // see [`crate::cli::run`]\nuse crate::x;");
+    let names =
+        named_modules("use crate::shadow::solve; // see [`crate::cli::run`]\nuse crate::x;");
     assert_eq!(
         names.into_iter().collect::<Vec<_>>(),
         vec!["cli".to_string(), "shadow".to_string(), "x".to_string()]
@@ -193,6 +197,11 @@ fn the_checker_sees_what_it_looks_for() {
     edge("numerics", "shadow", &mut g);
     assert_eq!(
         find_cycle(&g),
-        Some(vec!["metric", "numerics", "shadow", "metric"].into_iter().map(String::from).collect())
+        Some(
+            vec!["metric", "numerics", "shadow", "metric"]
+                .into_iter()
+                .map(String::from)
+                .collect()
+        )
     );
 }

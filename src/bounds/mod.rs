@@ -51,8 +51,8 @@ use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numerics::brent_root;
 use crate::numfmt::Num;
-use crate::observables::{CentreChoice, Observables};
-use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice, SolverKind};
+use crate::observables::{CentreChoice, Observables, Quantity};
+use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -74,6 +74,14 @@ impl SizeMeasure {
         match self {
             SizeMeasure::Mean => "mean",
             SizeMeasure::Area => "area",
+        }
+    }
+
+    /// The observable it reads.
+    pub fn quantity(&self) -> Quantity {
+        match self {
+            SizeMeasure::Mean => Quantity::MeanRadius,
+            SizeMeasure::Area => Quantity::AreaRadius,
         }
     }
 }
@@ -129,7 +137,7 @@ impl Default for BoundSettings {
             shadow: ShadowSettings {
                 points: 64,
                 tolerance: 1e-8,
-                solver: SolverChoice::Auto,
+                solver: SolverChoice::AUTO,
             },
             require_horizon: false,
         }
@@ -376,11 +384,7 @@ fn measure_curve(
         result.photon_orbit_radii,
     )
     .map_err(|e| e.to_string())?;
-    let size = match measure {
-        SizeMeasure::Mean => o.mean_radius,
-        SizeMeasure::Area => o.area_radius,
-    };
-    Ok((size, o.circularity_deviation))
+    Ok((o.get(measure.quantity()), o.circularity_deviation))
 }
 
 impl PointModel for Model<'_> {
@@ -394,7 +398,14 @@ impl PointModel for Model<'_> {
             return PointValue::NoHorizon;
         }
         let observer = Observer::distant(inclination);
-        match shadow::solve(spacetime.as_ref(), &observer, &self.request.settings.shadow) {
+        // The size and ΔC need the curve only: the solvers' curve-only path skips the
+        // photon-ring exponents (the same curve, several times faster for the separable one).
+        let settings = &self.request.settings.shadow;
+        let solver = match settings.solver.resolve(spacetime.as_ref()) {
+            Ok(s) => s,
+            Err(e) => return PointValue::Failed(e.to_string()),
+        };
+        match shadow::solve_curve(spacetime.as_ref(), &observer, settings) {
             Err(e) => PointValue::Failed(e.to_string()),
             Ok(r) => match &r.status {
                 ShadowStatus::NoShadow { .. } if !horizon => PointValue::NoHorizon,
@@ -402,7 +413,7 @@ impl PointModel for Model<'_> {
                 // Without a horizon only the spherical solver establishes that the curve is
                 // the edge of capture (a photon sphere around an absorbing centre); the ray
                 // tracer's boundary is not counted then.
-                ShadowStatus::Shadow if !horizon && r.solver != SolverKind::Spherical => {
+                ShadowStatus::Shadow if !horizon && !solver.bounds_capture_without_horizon() => {
                     PointValue::NoHorizon
                 }
                 ShadowStatus::Shadow => match measure_curve(
@@ -428,12 +439,14 @@ impl PointModel for Model<'_> {
         };
         // Horizonless values count only through the spherical solver: elsewhere the horizon
         // still bounds what can be evaluated.
-        let spherical = match self.request.settings.shadow.solver {
-            SolverChoice::Auto => shadow::auto_solver(spacetime.as_ref()) == SolverKind::Spherical,
-            SolverChoice::Spherical => true,
-            SolverChoice::Separable | SolverChoice::Raytrace => false,
-        };
-        (spherical && !self.request.settings.require_horizon)
+        let capture = self
+            .request
+            .settings
+            .shadow
+            .solver
+            .resolve(spacetime.as_ref())
+            .is_ok_and(|s| s.bounds_capture_without_horizon());
+        (capture && !self.request.settings.require_horizon)
             || matches!(spacetime.classify(), Classification::BlackHole { .. })
     }
 }
@@ -1106,11 +1119,10 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
          not count a horizonless shadow)"
             .to_string()
     });
-    let solver = match s.shadow.solver {
-        SolverChoice::Auto => "auto (spherical, separable or raytrace by the metric's symmetry)",
-        SolverChoice::Spherical => "spherical",
-        SolverChoice::Separable => "separable",
-        SolverChoice::Raytrace => "raytrace",
+    let solver = if s.shadow.solver.is_auto() {
+        "auto (spherical, separable or raytrace by the metric's symmetry)"
+    } else {
+        s.shadow.solver.name()
     };
     a.push(format!(
         "solver: {solver} shadow solver, {} curve points, boundary tolerance {:e} M",

@@ -10,6 +10,7 @@
 //! the canonical JSON text.
 
 use super::{expected_parameters, ScanError, ScanPoint, ScanRequest};
+use crate::observables::Quantity;
 use serde::Deserialize;
 use serde_json::Value;
 use std::collections::BTreeMap;
@@ -24,20 +25,13 @@ pub const MAX_REASON_CHARS: usize = 4000;
 /// Hexadecimal digits of the checksum.
 const CHECKSUM_DIGITS: usize = 16;
 
-/// Solver names a point may carry.
-const SOLVERS: [crate::shadow::SolverKind; 3] = [
-    crate::shadow::SolverKind::Spherical,
-    crate::shadow::SolverKind::Separable,
-    crate::shadow::SolverKind::Raytrace,
-];
-
 /// Observables a shadow point must carry as finite numbers (those the scan's plot and users
 /// read).
-const REQUIRED_OBSERVABLES: [&str; 4] = [
-    "mean_radius",
-    "area_radius",
-    "circularity_deviation",
-    "centroid_offset",
+const REQUIRED_OBSERVABLES: [Quantity; 4] = [
+    Quantity::MeanRadius,
+    Quantity::AreaRadius,
+    Quantity::CircularityDeviation,
+    Quantity::CentroidOffset,
 ];
 
 /// A point line as stored.
@@ -77,7 +71,7 @@ pub(crate) fn encode(head_text: &str, p: &ScanPoint) -> Result<String, ScanError
 /// What a status requires of the other fields.
 fn check_status(p: &ScanPoint) -> Result<(), String> {
     let known_solver = |s: &Option<String>| match s {
-        Some(s) if SOLVERS.iter().any(|k| k.name() == s) => Ok(()),
+        Some(s) if crate::shadow::find_solver(s).is_some() => Ok(()),
         Some(s) => Err(format!("unknown solver '{s}'")),
         None => Err(format!("status '{}' needs a solver", p.status)),
     };
@@ -123,7 +117,7 @@ fn check_observables(o: Option<&Value>) -> Result<(), String> {
         return Err("the observables are not a JSON object".into());
     };
     for key in REQUIRED_OBSERVABLES {
-        match map.get(key).and_then(Value::as_f64) {
+        match map.get(key.name()).and_then(Value::as_f64) {
             Some(x) if x.is_finite() => {}
             _ => {
                 return Err(format!(

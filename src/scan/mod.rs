@@ -38,7 +38,7 @@ use crate::error::MetricError;
 use crate::metric::Classification;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
-use crate::observables::{CentreChoice, Observables};
+use crate::observables::{CentreChoice, Observables, Quantity};
 use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus};
 use file::ScanFile;
 use header::Header;
@@ -101,9 +101,14 @@ pub struct ScanPoint {
 }
 
 impl ScanPoint {
-    /// A number from the observables (e.g. `mean_radius`).
+    /// A number from the observables (e.g. `mean_radius`), as stored in the line.
     pub fn observable(&self, key: &str) -> Option<f64> {
         self.observables.as_ref()?.get(key)?.as_f64()
+    }
+
+    /// [`ScanPoint::observable`] by [`Quantity`].
+    pub fn quantity(&self, quantity: Quantity) -> Option<f64> {
+        self.observable(quantity.name())
     }
 }
 
@@ -291,10 +296,12 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
         return point;
     }
     let observer = Observer::distant(request.inclination_deg.to_radians());
-    match shadow::solve(spacetime.as_ref(), &observer, &request.settings) {
+    // The observables need the curve only: the solvers' curve-only path skips the
+    // photon-ring exponents (the same curve).
+    match shadow::solve_curve(spacetime.as_ref(), &observer, &request.settings) {
         Err(e) => point.reason = Some(e.to_string()),
         Ok(r) => {
-            point.solver = Some(r.solver.name().to_string());
+            point.solver = Some(r.solver.to_string());
             match (&r.status, &r.curve) {
                 (ShadowStatus::NoShadow { reason }, _) => {
                     point.status = "no_shadow".into();

@@ -1,4 +1,5 @@
-//! Critical curves ("shadows"): three solvers behind one entry point.
+//! Critical curves ("shadows"): solvers behind one entry point ([`solve`]); the crate's
+//! three are registered in [`solver`], where a program can add its own.
 //!
 //! * [`spherical`]: exact, for metrics that declare spherical symmetry: the photon sphere is
 //!   the minimum of C/A outside the horizon and b_c = √(C/A) there (Synge 1966).
@@ -14,71 +15,18 @@ pub mod exponents;
 pub mod observer;
 pub mod raytrace;
 pub mod separable;
+pub mod solver;
 pub mod spherical;
 
 pub use curve::CriticalCurve;
 pub use observer::Observer;
+pub use solver::{
+    auto_solver, check_points, check_request, check_tolerance, find_solver, register_solver, solve,
+    solve_curve, solve_with, solver_names, RaytraceSolver, SeparableSolver, ShadowSolver,
+    SolverChoice, SphericalSolver, MAX_POINTS, MIN_POINTS, TOLERANCE_RANGE,
+};
 
-use crate::metric::{Spacetime, Symmetry};
-use crate::numfmt::Num;
 use serde::Serialize;
-
-/// Most curve points a request may ask for (about 8 MB of radii per curve).
-pub const MAX_POINTS: usize = 1 << 20;
-
-/// The range of boundary tolerances a request may ask for, in M. Below 1e-12 M the curve
-/// radii (about 5 M) are within a few thousand units in the last place of double precision,
-/// where the separable solver's root finding (placing points to 1% of the tolerance) and the
-/// curve's own arithmetic stop being meaningful; above 1e-3 M the boundary error would reach
-/// a few parts in 10⁴ of the shadow size, the level of the deviations from Kerr the
-/// observables are used to test.
-pub const TOLERANCE_RANGE: [f64; 2] = [1e-12, 1e-3];
-
-/// Check a boundary tolerance against [`TOLERANCE_RANGE`]: the one place it is checked.
-pub fn check_tolerance(tolerance: f64) -> Result<(), ShadowError> {
-    let [lo, hi] = TOLERANCE_RANGE;
-    if (lo..=hi).contains(&tolerance) {
-        Ok(())
-    } else {
-        Err(ShadowError::BadRequest(format!(
-            "the boundary tolerance must lie between {} and {} M, got {}",
-            Num(lo),
-            Num(hi),
-            Num(tolerance)
-        )))
-    }
-}
-
-/// Which solver to use.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum SolverChoice {
-    /// The most exact solver that applies: spherical, then separable, then raytrace.
-    Auto,
-    Spherical,
-    Separable,
-    Raytrace,
-}
-
-/// The solver that produced a result.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum SolverKind {
-    Spherical,
-    Separable,
-    Raytrace,
-}
-
-impl SolverKind {
-    /// Lower-case name as on the command line.
-    pub fn name(&self) -> &'static str {
-        match self {
-            SolverKind::Spherical => "spherical",
-            SolverKind::Separable => "separable",
-            SolverKind::Raytrace => "raytrace",
-        }
-    }
-}
 
 /// Settings shared by the solvers.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -87,7 +35,7 @@ pub struct ShadowSettings {
     pub points: usize,
     /// Boundary tolerance in M (raytrace bisection; separable root finding).
     pub tolerance: f64,
-    /// Solver choice.
+    /// Solver choice: `auto` or a registered solver's name.
     pub solver: SolverChoice,
 }
 
@@ -96,7 +44,7 @@ impl Default for ShadowSettings {
         ShadowSettings {
             points: 256,
             tolerance: 1e-8,
-            solver: SolverChoice::Auto,
+            solver: SolverChoice::AUTO,
         }
     }
 }
@@ -117,17 +65,6 @@ pub enum ShadowError {
     /// A numerical step failed to converge; the result is not returned.
     #[error("{0}")]
     NotConverged(String),
-}
-
-/// Pick the solver `auto` would use for this metric.
-pub fn auto_solver(spacetime: &dyn Spacetime) -> SolverKind {
-    if spacetime.symmetry() == Symmetry::Spherical {
-        SolverKind::Spherical
-    } else if spacetime.is_separable() {
-        SolverKind::Separable
-    } else {
-        SolverKind::Raytrace
-    }
 }
 
 /// Whether the metric casts a shadow for this observer.
@@ -193,7 +130,8 @@ pub struct Diagnostics {
 /// What a solver returns.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ShadowResult {
-    pub solver: SolverKind,
+    /// The name of the solver that produced it.
+    pub solver: &'static str,
     pub status: ShadowStatus,
     /// The critical curve, when there is a shadow.
     pub curve: Option<CriticalCurve>,
@@ -205,53 +143,4 @@ pub struct ShadowResult {
     /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
     pub diagnostics: Diagnostics,
-}
-
-/// Solve for the critical curve with the chosen solver (`Auto`: the most exact that applies).
-///
-/// ```no_run
-/// use umbral::prelude::*;
-/// use umbral::shadow::{solve, Observer, ShadowSettings};
-/// let kerr = Kerr::new(0.9).unwrap();
-/// let result = solve(&kerr, &Observer::distant(60f64.to_radians()), &ShadowSettings::default());
-/// ```
-pub fn solve(
-    spacetime: &dyn Spacetime,
-    observer: &Observer,
-    settings: &ShadowSettings,
-) -> Result<ShadowResult, ShadowError> {
-    if !(observer.inclination.is_finite()
-        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
-    {
-        return Err(ShadowError::BadRequest(format!(
-            "inclination must lie in [0, pi] radians, got {}",
-            Num(observer.inclination)
-        )));
-    }
-    if let Some(r) = observer.radius {
-        if !(r.is_finite() && r > 0.0) {
-            return Err(ShadowError::BadRequest(format!(
-                "observer radius must be a positive finite number, got {}",
-                Num(r)
-            )));
-        }
-    }
-    check_tolerance(settings.tolerance)?;
-    if !(8..=MAX_POINTS).contains(&settings.points) {
-        return Err(ShadowError::BadRequest(format!(
-            "need between 8 and {MAX_POINTS} points, got {} points",
-            settings.points
-        )));
-    }
-    let kind = match settings.solver {
-        SolverChoice::Auto => auto_solver(spacetime),
-        SolverChoice::Spherical => SolverKind::Spherical,
-        SolverChoice::Separable => SolverKind::Separable,
-        SolverChoice::Raytrace => SolverKind::Raytrace,
-    };
-    match kind {
-        SolverKind::Spherical => spherical::solve(spacetime, observer, settings),
-        SolverKind::Separable => separable::solve(spacetime, observer, settings),
-        SolverKind::Raytrace => raytrace::solve(spacetime, observer, settings),
-    }
 }

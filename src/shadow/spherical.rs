@@ -19,7 +19,7 @@
 use super::exponents::spherical_exponents;
 use super::{
     CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult, ShadowSettings,
-    ShadowStatus, SolverKind,
+    ShadowStatus,
 };
 use crate::metric::{Spacetime, Symmetry};
 use crate::numerics::brent_root;
@@ -33,8 +33,8 @@ const R_NEAR: f64 = 1.0e-6;
 const SCAN_POINTS: usize = 8000;
 /// The scan stops this far (relatively) outside a horizon, where C/A diverges.
 const HORIZON_MARGIN: f64 = 1.0e-9;
-/// Fewest curve points accepted.
-const MIN_POINTS: usize = 4;
+/// The solver's name on the command line and in results.
+pub const NAME: &str = "spherical";
 /// Closest relative approach to the inner boundary, r_s(1 + this).
 const APPROACH_NEAREST: f64 = 1.0e-14;
 /// Grid points per decade of r − r_s when approaching the inner boundary.
@@ -65,12 +65,21 @@ fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
     ok.then(|| (c / a, c1 / c - a1 / a))
 }
 
-fn not_spherical(spacetime: &dyn Spacetime) -> ShadowError {
+fn not_applicable(spacetime: &dyn Spacetime, why: String) -> ShadowError {
     ShadowError::SolverNotApplicable {
-        solver: "spherical",
+        solver: NAME,
         metric: spacetime.info().name,
-        why: "the metric is not declared spherically symmetric".to_string(),
+        why,
     }
+}
+
+/// Whether the spherical solver applies: the metric declares spherical symmetry and gives
+/// its functions A, B, C.
+pub fn applicability(spacetime: &dyn Spacetime) -> Result<(), String> {
+    if spacetime.symmetry() != Symmetry::Spherical || spacetime.spherical_jet(R_FAR).is_none() {
+        return Err("the metric is not declared spherically symmetric".to_string());
+    }
+    Ok(())
 }
 
 /// Walks inward over radii, recording every sign change of (ln C/A)′ as a photon sphere.
@@ -187,9 +196,7 @@ fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> 
 pub fn photon_sphere_analysis(
     spacetime: &dyn Spacetime,
 ) -> Result<PhotonSphereAnalysis, ShadowError> {
-    if spacetime.symmetry() != Symmetry::Spherical || spacetime.spherical_jet(R_FAR).is_none() {
-        return Err(not_spherical(spacetime));
-    }
+    applicability(spacetime).map_err(|why| not_applicable(spacetime, why))?;
     let horizon = spacetime
         .outer_horizon()
         .filter(|h| h.is_finite() && *h > 0.0);
@@ -325,9 +332,12 @@ fn observer_view(
             "observer radius must be finite and outside every photon sphere (r > {outermost}), got {r_o}"
         )));
     }
-    let jet = spacetime
-        .spherical_jet(r_o)
-        .ok_or_else(|| not_spherical(spacetime))?;
+    let jet = spacetime.spherical_jet(r_o).ok_or_else(|| {
+        not_applicable(
+            spacetime,
+            "the metric is not declared spherically symmetric".into(),
+        )
+    })?;
     let (a, c) = (jet.a[0], jet.c[0]);
     if !(a.is_finite() && c.is_finite() && a > 0.0 && c > 0.0) {
         return Err(ShadowError::BadRequest(format!(
@@ -364,20 +374,7 @@ pub fn solve(
     settings: &ShadowSettings,
 ) -> Result<ShadowResult, ShadowError> {
     let start = Instant::now();
-    if !(observer.inclination.is_finite()
-        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
-    {
-        return Err(ShadowError::BadRequest(format!(
-            "inclination must lie in [0, pi] radians, got {}",
-            observer.inclination
-        )));
-    }
-    if settings.points < MIN_POINTS {
-        return Err(ShadowError::BadRequest(format!(
-            "need at least {MIN_POINTS} curve points, got {}",
-            settings.points
-        )));
-    }
+    super::check_request(observer, settings)?;
     let analysis = photon_sphere_analysis(spacetime)?;
     let diagnostics = |start: Instant| Diagnostics {
         star_shaped: true,
@@ -386,7 +383,7 @@ pub fn solve(
     };
     let Some(capture) = analysis.capture else {
         return Ok(ShadowResult {
-            solver: SolverKind::Spherical,
+            solver: NAME,
             status: ShadowStatus::NoShadow {
                 reason: analysis.no_shadow_reason.clone().unwrap_or_default(),
             },
@@ -415,7 +412,7 @@ pub fn solve(
         ),
     };
     Ok(ShadowResult {
-        solver: SolverKind::Spherical,
+        solver: NAME,
         status: ShadowStatus::Shadow,
         curve: Some(CriticalCurve {
             origin: [0.0, 0.0],
