@@ -20,11 +20,21 @@ pub mod spherical;
 
 pub use curve::CriticalCurve;
 pub use observer::Observer;
+pub use raytrace::RaytraceSolver;
+pub use separable::SeparableSolver;
 pub use solver::{
     auto_solver, check_points, check_request, check_tolerance, find_solver, register_solver, solve,
-    solve_curve, solve_with, solver_names, RaytraceSolver, SeparableSolver, ShadowSolver,
-    SolverChoice, SphericalSolver, MAX_POINTS, MIN_POINTS, TOLERANCE_RANGE,
+    solve_curve, solve_with, solver_names, ShadowSolver, SolverChoice, MAX_POINTS, MIN_POINTS,
+    TOLERANCE_RANGE,
 };
+pub use spherical::SphericalSolver;
+
+/// The crate's solvers, in the order `auto` tries them: the most exact first, the ray tracer
+/// (which applies to every metric) last. Solvers a program registers come after these.
+fn builtin_solvers() -> Vec<&'static dyn ShadowSolver> {
+    let raytrace: &'static RaytraceSolver = Box::leak(Box::default());
+    vec![&SphericalSolver, &SeparableSolver, raytrace]
+}
 
 use serde::Serialize;
 

@@ -1723,3 +1723,30 @@ fn cross(a: &[f64; 3], b: &[f64; 3]) -> [f64; 3] {
         a[0] * b[1] - a[1] * b[0],
     ]
 }
+
+/// The ray tracer (this module) with its numerical options: any metric.
+#[derive(Debug, Clone, Default)]
+pub struct RaytraceSolver {
+    /// Start radius, integrator and check settings.
+    pub options: RaytraceOptions,
+}
+
+impl super::ShadowSolver for RaytraceSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "any metric: backward null geodesics and bisection on capture"
+    }
+    fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
+        Ok(())
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve_with(spacetime, observer, settings, &self.options)
+    }
+}

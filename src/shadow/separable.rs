@@ -1247,3 +1247,36 @@ fn golden_max(
     }
     Ok(if f1 >= f2 { (x1, f1) } else { (x2, f2) })
 }
+
+/// The separable solver (this module): spherical photon orbits mapped to the screen
+/// (Bardeen 1973).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SeparableSolver;
+
+impl super::ShadowSolver for SeparableSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "exact up to root finding, for metrics with separation data (spherical photon orbits)"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        applicability(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve(spacetime, observer, settings)
+    }
+    fn solve_curve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve_curve(spacetime, observer, settings)
+    }
+}

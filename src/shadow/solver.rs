@@ -19,7 +19,7 @@
 //! assert_eq!(result.solver, "spherical");
 //! ```
 
-use super::{raytrace, separable, spherical, Observer, ShadowError, ShadowResult, ShadowSettings};
+use super::{Observer, ShadowError, ShadowResult, ShadowSettings};
 use crate::metric::Spacetime;
 use crate::numfmt::Num;
 use std::fmt;
@@ -81,99 +81,10 @@ pub trait ShadowSolver: Send + Sync {
     }
 }
 
-/// The exact spherical solver ([`spherical`]): photon spheres of C/A (Synge 1966).
-#[derive(Debug, Clone, Copy, Default)]
-pub struct SphericalSolver;
-
-impl ShadowSolver for SphericalSolver {
-    fn name(&self) -> &'static str {
-        spherical::NAME
-    }
-    fn summary(&self) -> &'static str {
-        "exact, for metrics declared spherically symmetric (photon spheres of C/A)"
-    }
-    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
-        spherical::applicability(spacetime)
-    }
-    fn solve(
-        &self,
-        spacetime: &dyn Spacetime,
-        observer: &Observer,
-        settings: &ShadowSettings,
-    ) -> Result<ShadowResult, ShadowError> {
-        spherical::solve(spacetime, observer, settings)
-    }
-    fn bounds_capture_without_horizon(&self) -> bool {
-        true
-    }
-}
-
-/// The separable solver ([`separable`]): spherical photon orbits mapped to the screen
-/// (Bardeen 1973).
-#[derive(Debug, Clone, Copy, Default)]
-pub struct SeparableSolver;
-
-impl ShadowSolver for SeparableSolver {
-    fn name(&self) -> &'static str {
-        separable::NAME
-    }
-    fn summary(&self) -> &'static str {
-        "exact up to root finding, for metrics with separation data (spherical photon orbits)"
-    }
-    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
-        separable::applicability(spacetime)
-    }
-    fn solve(
-        &self,
-        spacetime: &dyn Spacetime,
-        observer: &Observer,
-        settings: &ShadowSettings,
-    ) -> Result<ShadowResult, ShadowError> {
-        separable::solve(spacetime, observer, settings)
-    }
-    fn solve_curve(
-        &self,
-        spacetime: &dyn Spacetime,
-        observer: &Observer,
-        settings: &ShadowSettings,
-    ) -> Result<ShadowResult, ShadowError> {
-        separable::solve_curve(spacetime, observer, settings)
-    }
-}
-
-/// The ray tracer ([`raytrace`]) with its numerical options: any metric.
-#[derive(Debug, Clone, Default)]
-pub struct RaytraceSolver {
-    /// Start radius, integrator and check settings.
-    pub options: raytrace::RaytraceOptions,
-}
-
-impl ShadowSolver for RaytraceSolver {
-    fn name(&self) -> &'static str {
-        raytrace::NAME
-    }
-    fn summary(&self) -> &'static str {
-        "any metric: backward null geodesics and bisection on capture"
-    }
-    fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
-        Ok(())
-    }
-    fn solve(
-        &self,
-        spacetime: &dyn Spacetime,
-        observer: &Observer,
-        settings: &ShadowSettings,
-    ) -> Result<ShadowResult, ShadowError> {
-        raytrace::solve_with(spacetime, observer, settings, &self.options)
-    }
-}
-
 /// The registered solvers, in the order `auto` tries them. Registered solvers live for the
 /// whole program (they are leaked once, on registration).
-static REGISTRY: LazyLock<RwLock<Vec<&'static dyn ShadowSolver>>> = LazyLock::new(|| {
-    let raytrace: &'static RaytraceSolver = Box::leak(Box::default());
-    RwLock::new(vec![&SphericalSolver, &SeparableSolver, raytrace])
-});
+static REGISTRY: LazyLock<RwLock<Vec<&'static dyn ShadowSolver>>> =
+    LazyLock::new(|| RwLock::new(super::builtin_solvers()));
 
 fn registry() -> std::sync::RwLockReadGuard<'static, Vec<&'static dyn ShadowSolver>> {
     // The lock is only written by `register_solver`, which cannot panic while holding it.
@@ -218,11 +129,13 @@ pub fn solver_names() -> Vec<&'static str> {
 /// The solver `auto` uses for this metric: the first registered one that applies.
 pub fn auto_solver(spacetime: &dyn Spacetime) -> &'static dyn ShadowSolver {
     let list = registry();
+    let ray_tracer = |s: &&'static dyn ShadowSolver| s.name() == super::raytrace::NAME;
     list.iter()
         .copied()
         .find(|s| s.applies_to(spacetime).is_ok())
-        // The ray tracer applies to every metric; this is only reached if it did not.
-        .unwrap_or(list[2])
+        // The ray tracer applies to every metric (it is always registered): a fallback only.
+        .or_else(|| list.iter().copied().find(ray_tracer))
+        .unwrap_or(list[0])
 }
 
 const AUTO: &str = "auto";

@@ -427,3 +427,30 @@ pub fn solve(
         },
     })
 }
+
+/// The exact spherical solver (this module): photon spheres of C/A (Synge 1966).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SphericalSolver;
+
+impl super::ShadowSolver for SphericalSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "exact, for metrics declared spherically symmetric (photon spheres of C/A)"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        applicability(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve(spacetime, observer, settings)
+    }
+    fn bounds_capture_without_horizon(&self) -> bool {
+        true
+    }
+}
