@@ -9,6 +9,7 @@ use umbral::bounds::{
     bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
 use umbral::measurement::{DerivedRadii, RadiusInterval};
+use umbral::metrics::MetricSource;
 use umbral::scan::{run_scan, GridAxis, ScanRequest};
 
 fn radii() -> DerivedRadii {
@@ -32,7 +33,7 @@ fn radii() -> DerivedRadii {
 
 fn request(metric: &str, nuisance: Vec<ParameterRange>) -> BoundRequest {
     BoundRequest {
-        metric: metric.into(),
+        metric: MetricSource::builtin(metric).unwrap(),
         vary: ParameterRange {
             name: "q".into(),
             low: 0.0,
@@ -69,7 +70,7 @@ fn bounds(c: &mut Criterion) {
         |b| b.iter(|| bound(black_box(&kn)).unwrap()),
     );
     let scan = ScanRequest {
-        metric: "kerr-newman".into(),
+        metric: MetricSource::builtin("kerr-newman").unwrap(),
         axes: vec![
             GridAxis {
                 name: "a".into(),

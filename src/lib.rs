@@ -17,7 +17,7 @@
 //! let gamma = kerr.christoffel(6.0, 1.0);
 //! assert!(gamma[1][0][0] > 0.0); // Γ^r_tt > 0: gravity pulls inward
 //! // The outer horizon r₊ = 1 + √(1 − a²).
-//! let r_plus = Spacetime::outer_horizon(&kerr).unwrap();
+//! let r_plus = kerr.outer_horizon().unwrap();
 //! assert!((r_plus - (1.0 + (1.0f64 - 0.81).sqrt())).abs() < 1e-14);
 //! ```
 
@@ -38,15 +38,35 @@ pub mod scan;
 pub mod shadow;
 pub mod verify;
 
-/// The names most programs need.
+/// The names most programs need. No two of its traits share a method name, so every method
+/// is called plainly on a concrete metric:
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let kerr = Kerr::new(0.8).unwrap();
+/// let r_plus = kerr.outer_horizon().unwrap(); // Spacetime, no `Spacetime::` needed
+/// assert!((r_plus - 1.6).abs() < 1e-15);
+/// assert_eq!(kerr.info().parameters[0].name, "a");
+/// assert_eq!(kerr.parameter_values(), vec![0.8]);
+/// assert_eq!(kerr.classify(), Classification::BlackHole { outer_horizon: r_plus });
+/// assert!(kerr.capabilities().separable); // Metric's declaration
+/// assert_eq!(kerr.declared_values(), vec![0.8]); // Declared's hook, by a name of its own
+/// let rn = ReissnerNordstrom::new(0.6).unwrap(); // a SphericalMetric
+/// assert_eq!(rn.outer_horizon(), Some(1.8));
+/// assert_eq!(rn.a(2.0), 0.09); // A(r) = 1 − 2/r + q²/r²
+/// assert_eq!(rn.symmetry(), Symmetry::Spherical);
+/// ```
 pub mod prelude {
+    pub use crate::declare_metric;
     pub use crate::error::MetricError;
     pub use crate::metric::{
-        Bound, Classification, Domain, Metric, MetricComponents, MetricInfo, ParameterSpec,
-        Spacetime, SphericalMetric,
+        Bound, Capabilities, Classification, Declared, DeclaredHorizon, Domain, Metric,
+        MetricComponents, MetricInfo, ParameterSpec, Spacetime, SphericalMetric, Symmetry,
     };
     pub use crate::metrics::{
-        build_metric, builtin_metrics, Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild,
+        build_metric, builtin_metrics, Kerr, KerrNewman, MetricSource, ReissnerNordstrom,
+        Schwarzschild,
     };
     pub use crate::observables::{shadow, Observables, Quantity, Shadow, ShadowRequest};
     pub use crate::scalar::DualScalar;

@@ -74,19 +74,51 @@ fn named_modules(text: &str) -> BTreeSet<String> {
     found
 }
 
-/// The module graph: module → (module it names → files that name it).
+/// The macros `text` exports at the crate root (`#[macro_export]` then `macro_rules! NAME`):
+/// `crate::NAME` names the module that defines them.
+fn exported_macros(text: &str) -> Vec<String> {
+    let mut found = Vec::new();
+    let mut rest = text;
+    while let Some(at) = rest.find("#[macro_export]") {
+        rest = &rest[at + "#[macro_export]".len()..];
+        let Some(rules) = rest.trim_start().strip_prefix("macro_rules!") else {
+            continue;
+        };
+        let name: String = rules
+            .trim_start()
+            .chars()
+            .take_while(|c| c.is_ascii_alphanumeric() || *c == '_')
+            .collect();
+        if !name.is_empty() {
+            found.push(name);
+        }
+    }
+    found
+}
+
+/// The module graph: module → (module it names → files that name it). A name that is an
+/// exported macro counts as the module that defines the macro.
 fn module_graph() -> Graph {
     let src = Path::new(env!("CARGO_MANIFEST_DIR")).join("src");
     let mut files = Vec::new();
     rust_files(&src, &mut files);
-    let mut graph = Graph::new();
+    let mut texts = Vec::new();
+    let mut macro_home = BTreeMap::new();
     for file in files {
         let Some(from) = top_module(&src, &file) else {
             continue;
         };
         let text = std::fs::read_to_string(&file).expect("source file");
+        for name in exported_macros(&text) {
+            macro_home.insert(name, from.clone());
+        }
+        texts.push((file, from, text));
+    }
+    let mut graph = Graph::new();
+    for (file, from, text) in texts {
         let entry = graph.entry(from.clone()).or_default();
-        for to in named_modules(&text) {
+        for name in named_modules(&text) {
+            let to = macro_home.get(&name).cloned().unwrap_or(name);
             if to != from {
                 let rel = file.strip_prefix(&src).unwrap().display().to_string();
                 entry.entry(to).or_default().insert(rel);
@@ -184,6 +216,12 @@ fn the_checker_sees_what_it_looks_for() {
         vec!["cli".to_string(), "shadow".to_string(), "x".to_string()]
     );
     assert!(layer_of("cli") > layer_of("shadow"));
+    assert_eq!(
+        exported_macros(
+            "#[macro_export]\nmacro_rules! declare_x {}\n#[macro_export] // no\nfn f() {}"
+        ),
+        vec!["declare_x".to_string()]
+    );
     assert_eq!(layer_of("no_such_module"), None);
     let edge = |from: &str, to: &str, g: &mut Graph| {
         g.entry(from.to_string())

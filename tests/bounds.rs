@@ -24,7 +24,7 @@ fn radii(intervals: &[(f64, f64, f64)]) -> DerivedRadii {
 
 fn request(metric: &str, vary: (&str, f64, f64), intervals: &[(f64, f64, f64)]) -> BoundRequest {
     BoundRequest {
-        metric: metric.into(),
+        metric: umbral::metrics::MetricSource::builtin(metric).unwrap(),
         vary: ParameterRange {
             name: vary.0.into(),
             low: vary.1,

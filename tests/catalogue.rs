@@ -184,13 +184,13 @@ fn horizons_of_the_spherical_catalogue() {
     let tc = TidalCharge::new(-0.6).unwrap();
     assert!((numerical_outer_horizon(&tc).unwrap() - (1.0 + 1.6f64.sqrt())).abs() < 1e-12);
     // Rezzolla & Zhidenko 2014: the horizon is r0 = 2/(1 + ε) by construction.
-    let rz = RezzollaZhidenko::new([0.1, 0.05, 0.02, 0.3, 0.2, -0.1, 0.4]).unwrap();
+    let rz = RezzollaZhidenko::new(0.1, 0.05, 0.02, 0.3, 0.2, -0.1, 0.4).unwrap();
     assert!((horizon(&rz).unwrap() - 2.0 / 1.1).abs() < 1e-12);
     // GHS dilaton: r = 2 while q² < 2.
     assert_eq!(horizon(build("dilaton", &[("q", 1.0)]).as_ref()), Some(2.0));
     assert_eq!(horizon(build("dilaton", &[("q", 1.5)]).as_ref()), None);
     // KRZ keeps the Kerr horizon r0 = 1 + √(1 − a²) (Konoplya et al. 2016).
-    let krz = Krz::new([0.6, 0.1, 0.05, -0.05, 0.1, 0.02, 0.03]).unwrap();
+    let krz = Krz::new(0.6, 0.1, 0.05, -0.05, 0.1, 0.02, 0.03).unwrap();
     assert!((horizon(&krz).unwrap() - 1.8).abs() < 1e-12);
     // Johannsen–Psaltis at a = 0: Δ = 0 at r = 2 whatever ε3.
     let jp = JohannsenPsaltis::new(0.0, 2.0).unwrap();
@@ -267,4 +267,65 @@ fn kerr_sen_a0_b1_has_no_horizon_and_no_shadow() {
             assert!((radius - expansion).abs() < 1e-9, "{radius} vs {expansion}");
         }
     }
+}
+
+/// The registry follows each metric's one declaration: names in listing order (command-line
+/// contract: never renamed), the built metric's metadata and parameter values equal the entry's
+/// declaration at the defaults, and values given in order are counted.
+#[test]
+fn registry_entries_follow_their_declarations() {
+    let names: Vec<String> = builtin_metrics().iter().map(|e| e.name()).collect();
+    assert_eq!(
+        names,
+        [
+            "schwarzschild",
+            "kerr",
+            "reissner-nordstrom",
+            "kerr-newman",
+            "tidal-charge",
+            "bardeen",
+            "hayward",
+            "dilaton",
+            "simpson-visser",
+            "jnw",
+            "rezzolla-zhidenko",
+            "johannsen-psaltis",
+            "johannsen",
+            "krz",
+            "kerr-sen",
+            "rotating-bardeen",
+            "rotating-hayward",
+        ]
+    );
+    for entry in builtin_metrics() {
+        let info = entry.info();
+        let m = entry.build(&[]).unwrap();
+        assert_eq!(m.info(), info);
+        let defaults: Vec<f64> = info.parameters.iter().map(|p| p.default).collect();
+        assert_eq!(m.parameter_values(), defaults, "{}", info.name);
+        // Each parameter moved on its own lands in its own slot.
+        for (i, p) in info.parameters.iter().enumerate() {
+            let v = [0.25, 0.5, 0.75]
+                .into_iter()
+                .find(|v| *v != p.default && p.domain.contains(*v))
+                .unwrap();
+            let moved = entry.build(&[(p.name.clone(), v)]).unwrap();
+            let mut expected = defaults.clone();
+            expected[i] = v;
+            assert_eq!(
+                moved.parameter_values(),
+                expected,
+                "{} {}",
+                info.name,
+                p.name
+            );
+        }
+    }
+    let err = Kerr::from_values(&[0.1, 0.2]).unwrap_err();
+    assert_eq!(
+        err.to_string(),
+        "metric 'kerr' takes 1 parameter values (a), got 2"
+    );
+    assert!(Schwarzschild::from_values(&[]).is_ok());
+    assert!(KerrNewman::new(0.5, f64::INFINITY).is_err());
 }

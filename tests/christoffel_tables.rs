@@ -58,6 +58,8 @@ const ZERO_TOLERANCE: f64 = 1e-14;
 /// A = 1 − 2/r + 3/(10 r²) + 1/(10 r³), B = (1 + 1/(5r))/A, C = r² + r/2.
 struct GenericSpherical;
 
+impl Declared for GenericSpherical {}
+
 impl SphericalMetric for GenericSpherical {
     fn a<D: DualScalar>(&self, r: D) -> D {
         let x = r.recip();

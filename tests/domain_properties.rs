@@ -176,7 +176,7 @@ fn check(
     inclination: f64,
     points: usize,
 ) -> Result<(), String> {
-    let name = (entry.describe)().name;
+    let name = entry.info().name;
     let metric = match entry.build(assignments) {
         // A typed error is an honest outcome (the values are inside the domains, so this
         // should be rare: e.g. a point where the metric cannot be evaluated).
@@ -220,7 +220,7 @@ proptest! {
     ) {
         let entries = builtin_metrics();
         let entry = &entries[which % entries.len()];
-        let info = (entry.describe)();
+        let info = entry.info();
         let assignments: Vec<(String, f64)> = info
             .parameters
             .iter()
@@ -241,7 +241,7 @@ fn every_domain_edge_is_honest() {
     let mut failures = Vec::new();
     let mut runs = 0;
     for entry in builtin_metrics() {
-        let info = (entry.describe)();
+        let info = entry.info();
         let probe = entry.build(&[]).expect("defaults build");
         let raytraced = umbral::shadow::auto_solver(probe.as_ref()).name() == "raytrace";
         let (inclinations, points): (&[f64], usize) = if raytraced {
@@ -253,7 +253,7 @@ fn every_domain_edge_is_honest() {
             for value in edges(&p.domain) {
                 for &i in inclinations {
                     runs += 1;
-                    if let Err(e) = check(&entry, &[(p.name.clone(), value)], i, points) {
+                    if let Err(e) = check(entry, &[(p.name.clone(), value)], i, points) {
                         failures.push(e);
                     }
                 }
@@ -267,7 +267,7 @@ fn every_domain_edge_is_honest() {
 #[test]
 fn sampling_stays_inside_the_domains() {
     for entry in builtin_metrics() {
-        for p in (entry.describe)().parameters {
+        for p in entry.info().parameters {
             for selector in 0..8 {
                 for u in [0.0, 0.5, 0.999_999] {
                     let v = pick(&p.domain, p.default, selector, u);

@@ -159,7 +159,7 @@ fn an_ergosurface_is_not_a_singularity() {
 fn every_builtin_metric_is_regular_at_ordinary_points() {
     for entry in builtin_metrics() {
         let m = entry.build(&[]).unwrap();
-        let name = (entry.describe)().name;
+        let name = entry.info().name;
         let r0 = m.outer_horizon().unwrap_or(2.0);
         for r in [r0 + 0.5, r0 + 3.0, 30.0 * r0, 1e4] {
             for theta in [0.05, 0.7, FRAC_PI_2, 2.2, 3.1] {

@@ -1,7 +1,7 @@
 //! Outer horizons: the closed-form overrides and the default numerical finder against the
 //! textbook formulas, including near-extremal and extremal black holes and naked singularities.
 
-use umbral::metric::{numerical_outer_horizon, Classification, Metric, MetricComponents};
+use umbral::metric::{numerical_outer_horizon, Classification, Declared, Metric, MetricComponents};
 use umbral::metrics::{build_metric, Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild};
 use umbral::prelude::{DualScalar, Spacetime, SphericalMetric};
 
@@ -34,7 +34,7 @@ const SPINS: [f64; 10] = [
 #[test]
 fn schwarzschild_horizon_is_at_two() {
     // r = 2M (Schwarzschild 1916).
-    assert_eq!(Metric::outer_horizon(&Schwarzschild), Some(2.0));
+    assert_eq!(Schwarzschild.outer_horizon(), Some(2.0));
     assert_horizon(
         numerical_outer_horizon(&Schwarzschild),
         2.0,
@@ -47,11 +47,7 @@ fn kerr_horizons_match_the_closed_form() {
     for &a in &SPINS {
         let m = Kerr::new(a).unwrap();
         let expected = closed_form_outer_horizon(a, 0.0).unwrap();
-        assert_horizon(
-            Metric::outer_horizon(&m),
-            expected,
-            &format!("Kerr a = {a}"),
-        );
+        assert_horizon(m.outer_horizon(), expected, &format!("Kerr a = {a}"));
         assert_horizon(
             numerical_outer_horizon(&m),
             expected,
@@ -72,7 +68,7 @@ fn reissner_nordstrom_horizons_match_the_closed_form() {
         let m = ReissnerNordstrom::new(q).unwrap();
         let expected = closed_form_outer_horizon(0.0, q).unwrap();
         let label = format!("Reissner-Nordström q = {q}");
-        assert_horizon(Metric::outer_horizon(&m), expected, &label);
+        assert_horizon(m.outer_horizon(), expected, &label);
         assert_horizon(
             numerical_outer_horizon(&m),
             expected,
@@ -96,7 +92,7 @@ fn kerr_newman_horizons_match_the_closed_form() {
         let m = KerrNewman::new(a, q).unwrap();
         let expected = closed_form_outer_horizon(a, q).unwrap();
         let label = format!("Kerr-Newman a = {a}, q = {q}");
-        assert_horizon(Metric::outer_horizon(&m), expected, &label);
+        assert_horizon(m.outer_horizon(), expected, &label);
         assert_horizon(
             numerical_outer_horizon(&m),
             expected,
@@ -109,19 +105,19 @@ fn kerr_newman_horizons_match_the_closed_form() {
 fn overspun_and_overcharged_metrics_have_no_horizon() {
     for &a in &[1.000001, 1.01, 1.5, -2.0, 10.0] {
         let m = Kerr::new(a).unwrap();
-        assert_eq!(Metric::outer_horizon(&m), None, "Kerr a = {a}");
+        assert_eq!(m.outer_horizon(), None, "Kerr a = {a}");
         assert_eq!(numerical_outer_horizon(&m), None, "Kerr a = {a}, numerical");
         assert_eq!(m.classify(), Classification::Horizonless, "Kerr a = {a}");
     }
     for &q in &[1.000001, 1.2, -3.0] {
         let m = ReissnerNordstrom::new(q).unwrap();
-        assert_eq!(Metric::outer_horizon(&m), None, "RN q = {q}");
+        assert_eq!(m.outer_horizon(), None, "RN q = {q}");
         assert_eq!(numerical_outer_horizon(&m), None, "RN q = {q}, numerical");
         assert_eq!(m.classify(), Classification::Horizonless, "RN q = {q}");
     }
     for &(a, q) in &[(0.8, 0.6001), (0.5, 0.9), (1.0, 0.1), (0.0, 1.1)] {
         let m = KerrNewman::new(a, q).unwrap();
-        assert_eq!(Metric::outer_horizon(&m), None, "KN a = {a}, q = {q}");
+        assert_eq!(m.outer_horizon(), None, "KN a = {a}, q = {q}");
         assert_eq!(
             numerical_outer_horizon(&m),
             None,
@@ -152,6 +148,8 @@ struct UserKerrNewman {
     q: f64,
 }
 
+impl Declared for UserKerrNewman {}
+
 impl Metric for UserKerrNewman {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         let (a, q2) = (self.a, self.q * self.q);
@@ -176,6 +174,8 @@ struct UserCubic {
     k: f64,
 }
 
+impl Declared for UserCubic {}
+
 impl SphericalMetric for UserCubic {
     fn a<D: DualScalar>(&self, r: D) -> D {
         -(r.recip() * 2.0) + 1.0 + r.powi(3).recip() * self.k
@@ -190,6 +190,8 @@ impl SphericalMetric for UserCubic {
 
 /// Minkowski space in spherical coordinates: no horizon anywhere.
 struct UserFlat;
+
+impl Declared for UserFlat {}
 
 impl Metric for UserFlat {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
@@ -216,7 +218,7 @@ fn user_metrics_use_the_numerical_default() {
         let m = UserKerrNewman { a, q };
         let expected = closed_form_outer_horizon(a, q).unwrap();
         let label = format!("user Kerr-Newman a = {a}, q = {q}");
-        assert_horizon(Metric::outer_horizon(&m), expected, &label);
+        assert_horizon(m.outer_horizon(), expected, &label);
         let boxed: Box<dyn Spacetime> = Box::new(UserKerrNewman { a, q });
         match boxed.classify() {
             Classification::BlackHole { outer_horizon } => {
@@ -225,10 +227,7 @@ fn user_metrics_use_the_numerical_default() {
             Classification::Horizonless => panic!("{label}: classified horizonless"),
         }
     }
-    assert_eq!(
-        Metric::outer_horizon(&UserKerrNewman { a: 1.1, q: 0.0 }),
-        None
-    );
+    assert_eq!((UserKerrNewman { a: 1.1, q: 0.0 }).outer_horizon(), None);
     assert_eq!(
         (UserKerrNewman { a: 0.5, q: 0.9 }).classify(),
         Classification::Horizonless
@@ -247,10 +246,10 @@ fn user_cubic_metric_horizon_is_the_largest_root() {
             r -= (r * r * r - 2.0 * r * r + k) / (3.0 * r * r - 4.0 * r);
         }
         assert!((r * r * r - 2.0 * r * r + k).abs() < 1e-13);
-        assert_horizon(Metric::outer_horizon(&m), r, &format!("user cubic k = {k}"));
+        assert_horizon(m.outer_horizon(), r, &format!("user cubic k = {k}"));
     }
     // k > 32/27: the local minimum of r³ − 2r² + k at r = 4/3 is positive, no horizon.
-    assert_eq!(Metric::outer_horizon(&UserCubic { k: 1.3 }), None);
+    assert_eq!((UserCubic { k: 1.3 }).outer_horizon(), None);
 }
 
 /// Extremal black holes, r₊ = r₋ = 1, with parameters for which 1 − a² − q² is exactly 0 in
@@ -300,10 +299,11 @@ fn extremal_horizons_from_the_numerical_finder() {
         "extremal Kerr-Newman, numerical",
     );
     assert_horizon(
-        Metric::outer_horizon(&UserKerrNewman {
+        (UserKerrNewman {
             a: 0.3,
             q: 0.91f64.sqrt(),
-        }),
+        })
+        .outer_horizon(),
         1.0,
         "extremal user Kerr-Newman (numerical default)",
     );
@@ -314,5 +314,5 @@ fn extremal_horizons_from_the_numerical_finder() {
 #[test]
 fn rounded_extremal_parameters_keep_their_degenerate_horizon() {
     let m = umbral::metrics::KerrNewman::new(0.8, 0.6).unwrap();
-    assert_eq!(Spacetime::outer_horizon(&m), Some(1.0));
+    assert_eq!(m.outer_horizon(), Some(1.0));
 }

@@ -5,7 +5,9 @@
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-use umbral::metric::{check_separation, Metric, MetricComponents, Spacetime};
+use umbral::metric::{
+    check_separation, Capabilities, Declared, DeclaredHorizon, Metric, MetricComponents, Spacetime,
+};
 use umbral::metric_file::{parse_metric_file, MetricFileError};
 use umbral::metrics::Kerr;
 use umbral::scalar::DualScalar;
@@ -145,6 +147,12 @@ fn file_without_separation_with_g_tt_plus_one_over_zero_is_refused() {
 /// as a Rust metric, to run the library check on it directly.
 struct KerrWithConstantGtt(f64);
 
+impl Declared for KerrWithConstantGtt {
+    fn declared_horizon(&self) -> DeclaredHorizon {
+        DeclaredHorizon::Known(Kerr::new(0.5).unwrap().outer_horizon())
+    }
+}
+
 impl Metric for KerrWithConstantGtt {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         MetricComponents {
@@ -152,8 +160,8 @@ impl Metric for KerrWithConstantGtt {
             ..Kerr::new(0.5).unwrap().components(r, theta)
         }
     }
-    fn outer_horizon(&self) -> Option<f64> {
-        Metric::outer_horizon(&Kerr::new(0.5).unwrap())
+    fn capabilities(&self) -> Capabilities {
+        Capabilities::NONE.with_separation()
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         Kerr::new(0.5).unwrap().radial_potential(r, lambda, eta)

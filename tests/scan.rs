@@ -2,6 +2,7 @@
 
 use std::path::PathBuf;
 use std::process::Command;
+use umbral::metrics::MetricSource;
 use umbral::scan::{run_scan, GridAxis, ScanRequest};
 
 fn temp(name: &str) -> PathBuf {
@@ -14,7 +15,7 @@ fn temp(name: &str) -> PathBuf {
 
 fn request() -> ScanRequest {
     ScanRequest {
-        metric: "kerr-newman".into(),
+        metric: MetricSource::builtin("kerr-newman").unwrap(),
         axes: vec![
             GridAxis {
                 name: "a".into(),

@@ -5,9 +5,10 @@
 //! The identity checked, g_θθ(g^tt − 2λg^tφ + λ²g^φφ) + R/(g_θθ g^rr) + Θ = 0, is Carter's
 //! separation of the null Hamiltonian (Carter 1968, Phys. Rev. 174, 1559) with Σ̃ = g_θθ.
 
+use umbral::metric::Spacetime;
 use umbral::metric::{
-    check_separation, separation_residual, Metric, MetricComponents, SeparationError,
-    SEPARATION_TOLERANCE,
+    check_separation, separation_residual, Capabilities, Declared, DeclaredHorizon, Metric,
+    MetricComponents, SeparationError, SEPARATION_TOLERANCE,
 };
 use umbral::metrics::{build_metric, builtin_metrics, Kerr};
 use umbral::scalar::DualScalar;
@@ -33,7 +34,7 @@ fn every_builtin_separable_metric_passes_the_separation_check() {
     let mut checked = 0;
     let mut worst: f64 = 0.0;
     for entry in builtin_metrics() {
-        let info = (entry.describe)();
+        let info = entry.info();
         let defaults = entry.build(&[]).unwrap();
         if !defaults.is_separable() {
             assert_eq!(
@@ -122,12 +123,18 @@ fn johannsen_with_large_deviations_passes_where_the_t_phi_block_is_ill_condition
 /// issue 10 item 2, written in Rust to show the check is not file-only.
 struct KerrWithScaledDelta(Kerr);
 
+impl Declared for KerrWithScaledDelta {
+    fn declared_horizon(&self) -> DeclaredHorizon {
+        DeclaredHorizon::Known(self.0.outer_horizon())
+    }
+}
+
 impl Metric for KerrWithScaledDelta {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         self.0.components(r, theta)
     }
-    fn outer_horizon(&self) -> Option<f64> {
-        Metric::outer_horizon(&self.0)
+    fn capabilities(&self) -> Capabilities {
+        Capabilities::NONE.with_separation()
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         let a = 0.5;

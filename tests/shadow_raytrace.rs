@@ -8,7 +8,7 @@
 use rayon::prelude::*;
 use rayon::ThreadPoolBuilder;
 use umbral::geodesic::IntegratorSettings;
-use umbral::metric::{Metric, MetricComponents, Spacetime};
+use umbral::metric::{Declared, DeclaredHorizon, Metric, MetricComponents, Spacetime};
 use umbral::metrics::{Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild};
 use umbral::scalar::DualScalar;
 use umbral::shadow::raytrace::{
@@ -191,12 +191,15 @@ fn kerr_and_kerr_newman_match_bardeen_closed_form() {
 /// general path (origin from both axes, no mirror) and still find Bardeen's curve.
 struct OpaqueKerr(Kerr);
 
+impl Declared for OpaqueKerr {
+    fn declared_horizon(&self) -> DeclaredHorizon {
+        DeclaredHorizon::Known(self.0.outer_horizon())
+    }
+}
+
 impl Metric for OpaqueKerr {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         self.0.components(r, theta)
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        Spacetime::outer_horizon(&self.0)
     }
 }
 
@@ -355,8 +358,11 @@ impl Metric for PoisonedSchwarzschild {
             g
         }
     }
-    fn outer_horizon(&self) -> Option<f64> {
-        Some(2.0)
+}
+
+impl Declared for PoisonedSchwarzschild {
+    fn declared_horizon(&self) -> DeclaredHorizon {
+        DeclaredHorizon::Known(Some(2.0))
     }
 }
 

@@ -473,3 +473,63 @@ fn checks_file_initial_grid_has_an_upper_limit() {
     std::fs::write(&path, ok).unwrap();
     assert!(umbral::verify::ChecksFile::load(&path).is_ok());
 }
+
+/// `[[bound]]` accepts `metric_file` wherever it accepts `metric` (one metric source for cases,
+/// bounds, scans and the command line): the shipped Reissner–Nordström file gives the bound of
+/// the built-in metric (its twin to 1e-12, tests/metric_files.rs), and the file's errors are
+/// reported like a case's.
+#[test]
+fn bound_cases_accept_metric_files() {
+    let got = |file: &str| -> Vec<(String, Option<f64>)> {
+        let report = run_checks_file(repo(file)).unwrap();
+        assert!(report.all_passed(), "{}", report.render_table());
+        report
+            .rows
+            .iter()
+            .map(|r| (r.quantity.clone(), r.got))
+            .collect()
+    };
+    let builtin = got("tests/checks/bounds.toml");
+    let from_file = got("tests/checks/bounds_from_metric_files.toml");
+    assert_eq!(builtin.len(), 3);
+    for ((q, b), (q_file, f)) in builtin.iter().zip(&from_file) {
+        assert_eq!(q, q_file);
+        let (b, f) = (b.unwrap(), f.unwrap());
+        assert!((b - f).abs() <= 1e-9, "{q}: built-in {b}, file {f}");
+    }
+
+    let original = std::fs::read_to_string(repo("tests/checks/bounds.toml")).unwrap();
+    let metric = "metric = \"reissner-nordstrom\"";
+    let file = format!(
+        "metric_file = \"{}\"",
+        repo("metrics/reissner-nordstrom.toml").display()
+    );
+    // The same file with the metric named by an absolute path works from anywhere.
+    let path = scratch("bound-file").join("ok.toml");
+    std::fs::write(&path, original.replace(metric, &file)).unwrap();
+    assert_checks_pass(&path);
+
+    let both = original.replace(metric, &format!("{metric}\n{file}"));
+    let e = bad_file_message("bound-file", &both);
+    assert!(e.contains("not both"), "{e}");
+    let neither = original.replace(metric, "");
+    let e = bad_file_message("bound-file", &neither);
+    assert!(
+        e.contains("missing metric") && e.contains("metric_file"),
+        "{e}"
+    );
+    let missing = original.replace(metric, "metric_file = \"no-such-metric.toml\"");
+    let e = bad_file_message("bound-file", &missing);
+    assert!(
+        e.contains("metric file") && e.contains("no-such-metric.toml"),
+        "{e}"
+    );
+    let unknown = original
+        .replace(metric, &file)
+        .replace("name = \"q\"", "name = \"charge\"");
+    let e = bad_file_message("bound-file", &unknown);
+    assert!(
+        e.contains("metric file") && e.contains("no parameter 'charge'"),
+        "{e}"
+    );
+}

@@ -20,12 +20,13 @@
 //! ```
 //! use umbral::bounds::{bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure};
 //! use umbral::measurement::Measurement;
+//! use umbral::metrics::MetricSource;
 //! let m = Measurement::from_toml_str(r#"
 //! [size.shadow_radius]
 //! intervals = [ { confidence = 0.68, low = 4.9, high = 5.3 } ]
 //! "#).unwrap();
 //! let request = BoundRequest {
-//!     metric: "reissner-nordstrom".into(),
+//!     metric: MetricSource::builtin("reissner-nordstrom").unwrap(),
 //!     vary: ParameterRange { name: "q".into(), low: 0.0, high: 1.2 },
 //!     fixed: vec![],
 //!     inclination: Inclination::Fixed { degrees: 17.0 },

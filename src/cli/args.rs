@@ -3,10 +3,8 @@
 use clap::Args;
 use std::fmt;
 use std::path::PathBuf;
-use std::sync::Arc;
 use umbral::error::MetricError;
 use umbral::metric::Spacetime;
-use umbral::metric_file::load_metric_file;
 use umbral::metrics::MetricSource;
 
 /// Exit code of a run stopped by Ctrl-C (128 + SIGINT, as shells report it).
@@ -107,12 +105,12 @@ pub struct MetricChoice {
 }
 
 impl MetricChoice {
-    /// Load the file (if any): its errors point at the place, over several lines.
+    /// The metric source: a built-in metric looked up by name, or the file loaded (its errors
+    /// point at the place, over several lines).
     pub fn resolve(&self) -> Result<MetricSource, CliError> {
         match (&self.metric, &self.metric_file) {
-            (Some(name), _) => Ok(MetricSource::Builtin(name.clone())),
-            (None, Some(path)) => load_metric_file(path)
-                .map(|spec| MetricSource::File(Arc::new(spec)))
+            (Some(name), _) => Ok(MetricSource::builtin(name)?),
+            (None, Some(path)) => MetricSource::load(path)
                 .map_err(|e| CliError::detailed(e.to_string().trim_end().to_string())),
             (None, None) => Err(CliError::usage("give --metric NAME or --metric-file PATH")),
         }

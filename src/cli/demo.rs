@@ -15,7 +15,7 @@ use umbral::bounds::{
 use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
-use umbral::metrics::build_metric;
+use umbral::metrics::{build_metric, MetricSource};
 use umbral::observables::CentreChoice;
 use umbral::output::OutputTransaction;
 use umbral::shadow::{Observer, ShadowSettings};
@@ -377,7 +377,7 @@ fn demo_bound(
         high,
     };
     bound(&BoundRequest {
-        metric: metric.into(),
+        metric: MetricSource::builtin(metric)?,
         vary: range(vary),
         fixed: Vec::new(),
         inclination: Inclination::Fixed {

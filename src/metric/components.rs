@@ -7,20 +7,30 @@ use serde::Serialize;
 /// Covariant components of ds² = g_tt dt² + 2 g_tφ dt dφ + g_rr dr² + g_θθ dθ² + g_φφ dφ².
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct MetricComponents<D> {
+    /// g_tt.
     pub g_tt: D,
+    /// g_tφ.
     pub g_tphi: D,
+    /// g_rr.
     pub g_rr: D,
+    /// g_θθ.
     pub g_thth: D,
+    /// g_φφ.
     pub g_phph: D,
 }
 
 /// Contravariant components g^tt, g^tφ, g^rr, g^θθ, g^φφ.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct InverseComponents<D> {
+    /// g^tt.
     pub g_tt: D,
+    /// g^tφ.
     pub g_tphi: D,
+    /// g^rr.
     pub g_rr: D,
+    /// g^θθ.
     pub g_thth: D,
+    /// g^φφ.
     pub g_phph: D,
 }
 

@@ -20,7 +20,9 @@ pub enum Bound {
 /// The set of allowed values of a parameter: an interval of the real line.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Domain {
+    /// The lower end.
     pub lower: Bound,
+    /// The upper end.
     pub upper: Bound,
 }
 
@@ -44,6 +46,14 @@ impl Domain {
         Domain {
             lower: Bound::Inclusive(lo),
             upper: Bound::Unbounded,
+        }
+    }
+
+    /// `(lo, hi]`.
+    pub const fn left_open(lo: f64, hi: f64) -> Domain {
+        Domain {
+            lower: Bound::Exclusive(lo),
+            upper: Bound::Inclusive(hi),
         }
     }
 
@@ -93,9 +103,13 @@ impl fmt::Display for Domain {
 /// A parameter of a metric: its command-line name, default, domain and meaning.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ParameterSpec {
+    /// The name, as on the command line (`--set NAME=VALUE`) and in files.
     pub name: String,
+    /// The value when none is given.
     pub default: f64,
+    /// The allowed values.
     pub domain: Domain,
+    /// What the parameter means, in a few words.
     pub meaning: String,
 }
 
@@ -163,7 +177,7 @@ pub struct MetricInfo {
 
 impl MetricInfo {
     /// Metadata for a metric that did not describe itself.
-    pub fn unnamed(type_name: &str) -> Self {
+    pub(crate) fn unnamed(type_name: &str) -> Self {
         let short = type_name.rsplit("::").next().unwrap_or(type_name);
         MetricInfo {
             name: short.to_string(),
@@ -184,6 +198,28 @@ impl MetricInfo {
                 .collect::<Vec<_>>()
                 .join(", ")
         }
+    }
+
+    /// The error for `got` values where the parameters ask for one each.
+    pub fn count_error(&self, got: usize) -> MetricError {
+        MetricError::ParameterCount {
+            metric: self.name.clone(),
+            expected: self.parameters.len(),
+            names: self.parameter_names(),
+            got,
+        }
+    }
+
+    /// Check values given in parameter order: one per parameter, each finite and inside its
+    /// domain.
+    pub fn check_values(&self, values: &[f64]) -> Result<(), MetricError> {
+        if values.len() != self.parameters.len() {
+            return Err(self.count_error(values.len()));
+        }
+        for (spec, value) in self.parameters.iter().zip(values) {
+            spec.check(*value)?;
+        }
+        Ok(())
     }
 
     /// Resolve `name=value` assignments against the defaults, checking names, repeats,

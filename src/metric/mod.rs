@@ -1,5 +1,23 @@
-//! The metric layer: one trait to implement ([`Metric`]), one object-safe view that every
-//! implementor gets for free ([`Spacetime`]), and the plain metadata that describes a metric.
+//! The metric layer: one trait to implement ([`Metric`]), what a metric declares about itself
+//! ([`Declared`], [`Capabilities`], written once with [`declare_metric!`](crate::declare_metric)),
+//! one object-safe view that every implementor gets for free ([`Spacetime`]), and the plain
+//! metadata that describes a metric.
+//!
+//! The traits never share a method name, so every call on a concrete metric is plain:
+//!
+//! ```
+//! use umbral::prelude::*;
+//!
+//! let kerr = Kerr::new(0.6).unwrap();
+//! assert_eq!(kerr.outer_horizon(), Some(1.8)); // r₊ = 1 + √(1 − a²)
+//! assert_eq!(kerr.info().name, "kerr");
+//! assert_eq!(kerr.parameter_values(), vec![0.6]);
+//! assert!(kerr.is_separable() && kerr.is_equatorially_symmetric());
+//! assert_eq!(kerr.classify(), Classification::BlackHole { outer_horizon: 1.8 });
+//! let schwarzschild = Schwarzschild;
+//! assert_eq!(schwarzschild.outer_horizon(), Some(2.0));
+//! assert_eq!(schwarzschild.symmetry(), Symmetry::Spherical);
+//! ```
 //!
 //! A stationary, axisymmetric metric in Boyer–Lindquist-like coordinates `(t, r, θ, φ)` has
 //! the line element
@@ -9,6 +27,8 @@
 //! with all five components functions of `(r, θ)` alone. That is all a user writes.
 
 mod components;
+mod declared;
+mod entry;
 mod horizon;
 mod info;
 mod regularity;
@@ -17,6 +37,8 @@ mod spacetime;
 mod spherical;
 
 pub use components::{InverseComponents, MetricComponents};
+pub use declared::{Capabilities, Declared, DeclaredHorizon};
+pub use entry::MetricEntry;
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
 pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};
@@ -25,7 +47,8 @@ pub use separation::{
     SEPARATION_TOLERANCE,
 };
 pub use spacetime::{
-    Christoffel, Classification, PhaseGradient, PotentialJet, Spacetime, SphericalJet,
+    Christoffel, Classification, PhaseGradient, PotentialJet, RadialLambdaJet, Spacetime,
+    SphericalJet,
 };
 pub use spherical::{SphericalFunctions, SphericalMetric};
 
@@ -34,7 +57,9 @@ use crate::scalar::DualScalar;
 /// A stationary, axisymmetric spacetime, written once.
 ///
 /// Implement [`Metric::components`] generic over the scalar type; every derivative the solvers
-/// need is then taken exactly by dual numbers. The other methods have working defaults.
+/// need is then taken exactly by dual numbers. Optional structure (spherical functions,
+/// separation data, equatorial symmetry) is declared by [`Metric::capabilities`] and provided
+/// by the hooks it names; the name, parameters and horizon rule come from [`Declared`].
 ///
 /// # Example: Kerr in twelve lines
 /// ```
@@ -42,6 +67,7 @@ use crate::scalar::DualScalar;
 ///
 /// struct MyKerr { a: f64 }
 ///
+/// impl Declared for MyKerr {} // unnamed, numerical horizon; see declare_metric! for more
 /// impl Metric for MyKerr {
 ///     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
 ///         let a = self.a;
@@ -61,48 +87,31 @@ use crate::scalar::DualScalar;
 ///
 /// let m = MyKerr { a: 0.6 };
 /// // The default horizon finder locates r₊ = 1 + √(1 − a²) = 1.8 numerically.
-/// assert!((Spacetime::outer_horizon(&m).unwrap() - 1.8).abs() < 1e-12);
+/// assert!((m.outer_horizon().unwrap() - 1.8).abs() < 1e-12);
 /// // Any implementor is usable as a trait object, e.g. chosen by name at run time.
 /// let dynamic: Box<dyn Spacetime> = Box::new(m);
 /// let gamma = dynamic.christoffel(5.0, 0.7);
 /// assert_eq!(gamma[1][2][1], gamma[1][1][2]);
 /// ```
-pub trait Metric: Send + Sync {
+pub trait Metric: Declared + Send + Sync {
     /// The five covariant components `g_tt, g_tφ, g_rr, g_θθ, g_φφ` at `(r, θ)`.
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D>;
 
-    /// Name, title, reference and parameter specifications. The default names the Rust type.
-    fn info(&self) -> MetricInfo {
-        MetricInfo::unnamed(std::any::type_name::<Self>())
+    /// The optional structure this metric provides. Default: [`Capabilities::NONE`].
+    fn capabilities(&self) -> Capabilities {
+        Capabilities::NONE
     }
 
-    /// Current parameter values, in the order of [`MetricInfo::parameters`].
-    fn parameter_values(&self) -> Vec<f64> {
-        Vec::new()
-    }
-
-    /// Outer horizon radius, or `None` for a horizonless spacetime.
-    ///
-    /// Default: [`numerical_outer_horizon`], the outermost root of `g^rr = 0` on the equator
-    /// outside which the metric is regular. Override it with a closed form where one exists.
-    fn outer_horizon(&self) -> Option<f64> {
-        numerical_outer_horizon(self)
-    }
-
-    /// For a spherically symmetric metric, the functions of
-    /// ds² = −A dt² + B dr² + C dΩ². Default: `None` (not declared spherical).
+    /// For a metric declared spherical ([`Capabilities::spherical`]), the functions of
+    /// ds² = −A dt² + B dr² + C dΩ². Default: `None`.
     fn spherical_functions<D: DualScalar>(&self, _r: D) -> Option<SphericalFunctions<D>> {
         None
     }
 
-    /// Whether the metric is symmetric under θ → π − θ. Default: `false` (not declared).
-    fn equatorially_symmetric(&self) -> bool {
-        false
-    }
-
-    /// Separation data, radial part: for a metric whose null geodesics separate, the radial
-    /// potential `R(r; λ, η)` with `(Σ̃ dr/dτ)² = R` per unit energy squared, where `λ = L/E`
-    /// and `η` is Carter's constant over `E²`. Default: `None` (not separable).
+    /// Separation data, radial part, for a metric declared separable
+    /// ([`Capabilities::separable`]): the radial potential `R(r; λ, η)` with
+    /// `(Σ̃ dr/dτ)² = R` per unit energy squared, where `λ = L/E` and `η` is Carter's constant
+    /// over `E²`. Default: `None`.
     fn radial_potential<D: DualScalar>(&self, _r: D, _lambda: D, _eta: D) -> Option<D> {
         None
     }

@@ -46,21 +46,34 @@ pub const POINT_SENSITIVITY_LIMIT: f64 = 1e-2;
 pub enum PointProblem {
     /// r ≤ 0 or θ outside (0, π).
     OutsideChart {
+        /// `r` or `theta`.
         coordinate: &'static str,
+        /// Its value.
         value: f64,
     },
     /// A component of g, g⁻¹ or Γ is not finite.
-    NotFinite { quantity: String, value: f64 },
+    NotFinite {
+        /// Which component.
+        quantity: String,
+        /// Its value.
+        value: f64,
+    },
     /// The (t, φ) block is degenerate to within rounding.
     DegenerateBlock {
+        /// g_tt g_φφ − g_tφ².
         determinant: f64,
+        /// Its size relative to the rounding of its terms.
         relative_rounding: f64,
     },
     /// A quantity changes by more than the limit under a rounding-sized move.
     Sensitive {
+        /// Which quantity.
         quantity: String,
+        /// Its value at the point.
         value: f64,
+        /// Its largest relative change under the moves.
         change: f64,
+        /// The moves of (r, θ) tried.
         moves: [f64; 2],
     },
 }

@@ -32,6 +32,7 @@
 //! ```
 
 use super::{MetricComponents, Spacetime};
+use crate::error::MetricError;
 use std::fmt;
 
 /// Largest accepted |F| relative to the sum of the absolute values of its terms (raised to
@@ -58,9 +59,13 @@ const SCAN_POINTS: usize = 241;
 /// F at one point, with the size of its terms.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SeparationResidual {
+    /// Radius of the point.
     pub r: f64,
+    /// Polar angle of the point (radians).
     pub theta: f64,
+    /// λ = L/E.
     pub lambda: f64,
+    /// η = Carter's constant / E².
     pub eta: f64,
     /// F = g_θθ (g^tt − 2λ g^tφ + λ² g^φφ) + R/(g_θθ g^rr) + Θ.
     pub value: f64,
@@ -115,22 +120,37 @@ impl fmt::Display for SeparationResidual {
 /// A passed check: how many points, and the worst of them.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SeparationReport {
+    /// Number of points checked.
     pub points: usize,
+    /// The point with the largest [`SeparationResidual::excess`].
     pub worst: SeparationResidual,
 }
 
 /// Why separation data fail the check.
 #[derive(Debug, Clone, PartialEq)]
 pub enum SeparationError {
-    /// The metric gives no separation data.
+    /// The metric does not declare separation data.
     NotSeparable,
+    /// The metric declares separation data but a potential's hook returns nothing
+    /// ([`MetricError::MissingHook`]).
+    MissingHook(MetricError),
     /// The line element or its inverse is not finite at a check point, or (for a horizonless
     /// metric) not regular already at r = 10³, where the scan for its regular edge starts.
-    Irregular { r: f64, theta: f64, problem: String },
+    Irregular {
+        /// Radius of the point.
+        r: f64,
+        /// Polar angle of the point.
+        theta: f64,
+        /// What is not regular there.
+        problem: String,
+    },
     /// A potential is not a finite number at a check point.
     NonFinitePotential {
+        /// `radial` or `polar`.
         which: &'static str,
+        /// (r or θ, λ, η).
         at: [f64; 3],
+        /// The potential's value there.
         value: f64,
     },
     /// F does not vanish: the worst point.
@@ -141,6 +161,7 @@ impl fmt::Display for SeparationError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             SeparationError::NotSeparable => f.write_str("the metric gives no separation data"),
+            SeparationError::MissingHook(e) => write!(f, "{e}"),
             SeparationError::Irregular { r, theta, problem } => write!(
                 f,
                 "the line element is not regular at r = {r}, theta = {theta}, where the \
@@ -232,11 +253,12 @@ fn evaluate<S: Spacetime + ?Sized>(
     lambda: f64,
     eta: f64,
 ) -> Result<SeparationResidual, SeparationError> {
-    let radial = m.radial_potential_jet(r, lambda, eta);
-    let polar = m.polar_potential_jet(theta, lambda, eta);
-    let (Some(radial), Some(polar)) = (radial, polar) else {
-        return Err(SeparationError::NotSeparable);
+    let hook = |e: MetricError| match e {
+        MetricError::NotDeclared { .. } => SeparationError::NotSeparable,
+        other => SeparationError::MissingHook(other),
     };
+    let radial = m.radial_potential_jet(r, lambda, eta).map_err(hook)?;
+    let polar = m.polar_potential_jet(theta, lambda, eta).map_err(hook)?;
     for (which, x, value) in [("radial", r, radial.value), ("polar", theta, polar.value)] {
         if !value.is_finite() {
             return Err(SeparationError::NonFinitePotential {

@@ -1,9 +1,13 @@
 //! The object-safe view of a metric, [`Spacetime`], given to every [`Metric`] by a blanket impl.
 //!
 //! Solvers and the command line hold `Box<dyn Spacetime>`; every method here is derived from
-//! [`Metric::components`] by dual numbers, so no implementor writes a derivative.
+//! [`Metric::components`] by dual numbers, so no implementor writes a derivative. Its method
+//! names are its own: none repeats a method of [`Metric`], [`Declared`](super::Declared) or
+//! [`SphericalMetric`](super::SphericalMetric), so on a concrete metric `m.outer_horizon()`
+//! is never ambiguous.
 
-use super::{Metric, MetricComponents, MetricInfo, Symmetry};
+use super::{Capabilities, Metric, MetricComponents, MetricInfo, Symmetry};
+use crate::error::MetricError;
 use nalgebra::{Matrix4, SVector};
 use num_dual::{hessian, Derivative, Dual, Dual2_64, DualSVec64, DualVec, HyperDual64};
 use serde::Serialize;
@@ -36,17 +40,22 @@ pub struct SphericalJet {
 /// A separation potential with its gradient and Hessian in (x, λ, η), where x is r or θ.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct PotentialJet {
+    /// The potential.
     pub value: f64,
+    /// Its derivatives in (x, λ, η).
     pub gradient: [f64; 3],
+    /// Its second derivatives in (x, λ, η).
     pub hessian: [[f64; 3]; 3],
 }
 
-/// R(r; λ, η) expanded in λ and η: `value` = [R, ∂_λR, ∂²_λR], `d_r` = their r-derivatives,
-/// `eta` = [∂_ηR, ∂_r∂_ηR].
+/// R(r; λ, η) expanded in λ and η.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct RadialLambdaJet {
+    /// [R, ∂_λR, ∂²_λR].
     pub value: [f64; 3],
+    /// The r-derivatives of `value`.
     pub d_r: [f64; 3],
+    /// [∂_ηR, ∂_r∂_ηR].
     pub eta: [f64; 2],
 }
 
@@ -55,14 +64,20 @@ pub struct RadialLambdaJet {
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Classification {
     /// A black hole with this outer horizon radius.
-    BlackHole { outer_horizon: f64 },
+    BlackHole {
+        /// The outer horizon radius r₊.
+        outer_horizon: f64,
+    },
     /// No horizon: a naked singularity, a wormhole or another horizonless object.
     Horizonless,
 }
 
 /// Object-safe geometry of a stationary, axisymmetric spacetime, at points `(r, θ)`.
 ///
-/// Implemented for every [`Metric`]; users never implement it.
+/// Implemented for every [`Metric`]; users never implement it. The structure queries
+/// (`symmetry`, `is_separable`, `is_equatorially_symmetric`) read the metric's declared
+/// [`Capabilities`]; the jets of a declared structure whose hook returns nothing are the error
+/// [`MetricError::MissingHook`], and those of an undeclared one [`MetricError::NotDeclared`].
 pub trait Spacetime: Send + Sync {
     /// Name, reference and parameter specifications.
     fn info(&self) -> MetricInfo;
@@ -72,7 +87,7 @@ pub trait Spacetime: Send + Sync {
     fn symmetry(&self) -> Symmetry;
     /// Whether the metric declares θ → π − θ reflection symmetry.
     fn is_equatorially_symmetric(&self) -> bool;
-    /// Whether the metric provides separation data (radial and polar potentials).
+    /// Whether the metric declares separation data (radial and polar potentials).
     fn is_separable(&self) -> bool;
     /// The five covariant components.
     fn components_at(&self, r: f64, theta: f64) -> MetricComponents<f64>;
@@ -97,17 +112,67 @@ pub trait Spacetime: Send + Sync {
     /// Black hole (with its outer horizon) or horizonless.
     fn classify(&self) -> Classification;
     /// A, B, C and their first two r-derivatives, for a metric declared spherical.
-    fn spherical_jet(&self, r: f64) -> Option<SphericalJet>;
+    fn spherical_jet(&self, r: f64) -> Result<SphericalJet, MetricError>;
     /// The radial potential R(r; λ, η) with gradient and Hessian in (r, λ, η).
-    fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
+    fn radial_potential_jet(
+        &self,
+        r: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Result<PotentialJet, MetricError>;
     /// The radial potential's derivatives in λ (to second order) and η (first order), each with
     /// its r-derivative, at (r; λ, η): exact, and cheaper than
     /// [`Spacetime::radial_potential_jet`] (nested and hyper-dual numbers instead of a full
     /// three-variable Hessian).
-    fn radial_potential_lambda_jet(&self, r: f64, lambda: f64, eta: f64)
-        -> Option<RadialLambdaJet>;
+    fn radial_potential_lambda_jet(
+        &self,
+        r: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Result<RadialLambdaJet, MetricError>;
     /// The polar potential Θ(θ; λ, η) with gradient and Hessian in (θ, λ, η).
-    fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet>;
+    fn polar_potential_jet(
+        &self,
+        theta: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Result<PotentialJet, MetricError>;
+}
+
+/// What the metric declares, as the view checks it before asking a hook.
+fn require<M: Metric + ?Sized>(
+    m: &M,
+    declared: impl Fn(&Capabilities) -> bool,
+    structure: &'static str,
+) -> Result<(), MetricError> {
+    if declared(&m.capabilities()) {
+        Ok(())
+    } else {
+        Err(MetricError::NotDeclared {
+            metric: m.declared_info().name,
+            structure,
+        })
+    }
+}
+
+/// A declared hook that returned nothing.
+fn missing<M: Metric + ?Sized>(m: &M, structure: &'static str, hook: &'static str) -> MetricError {
+    MetricError::MissingHook {
+        metric: m.declared_info().name,
+        structure,
+        hook,
+    }
+}
+
+const SPHERICAL: &str = "spherical symmetry";
+const SEPARABLE: &str = "separation data";
+
+fn spherical<M: Metric + ?Sized>(m: &M) -> Result<(), MetricError> {
+    require(m, |c| c.spherical, SPHERICAL)
+}
+
+fn separable<M: Metric + ?Sized>(m: &M) -> Result<(), MetricError> {
+    require(m, |c| c.separable, SEPARABLE)
 }
 
 /// A dual number seeded with derivative direction `i` of two variables (0 = r, 1 = θ).
@@ -160,28 +225,23 @@ fn jet_of(
 
 impl<M: Metric> Spacetime for M {
     fn info(&self) -> MetricInfo {
-        Metric::info(self)
+        self.declared_info()
     }
 
     fn parameter_values(&self) -> Vec<f64> {
-        Metric::parameter_values(self)
+        self.declared_values()
     }
 
     fn symmetry(&self) -> Symmetry {
-        if self.spherical_functions(1.0f64).is_some() {
-            Symmetry::Spherical
-        } else {
-            Symmetry::StationaryAxisymmetric
-        }
+        self.capabilities().symmetry()
     }
 
     fn is_equatorially_symmetric(&self) -> bool {
-        self.equatorially_symmetric()
+        self.capabilities().equatorially_symmetric
     }
 
     fn is_separable(&self) -> bool {
-        self.radial_potential(3.0f64, 1.0, 1.0).is_some()
-            && self.polar_potential(1.0f64, 1.0, 1.0).is_some()
+        self.capabilities().separable
     }
 
     fn components_at(&self, r: f64, theta: f64) -> MetricComponents<f64> {
@@ -286,31 +346,41 @@ impl<M: Metric> Spacetime for M {
     }
 
     fn outer_horizon(&self) -> Option<f64> {
-        Metric::outer_horizon(self)
+        self.declared_horizon().radius(self)
     }
 
     fn classify(&self) -> Classification {
-        match Metric::outer_horizon(self) {
+        match self.outer_horizon() {
             Some(outer_horizon) => Classification::BlackHole { outer_horizon },
             None => Classification::Horizonless,
         }
     }
 
-    fn spherical_jet(&self, r: f64) -> Option<SphericalJet> {
-        let f = self.spherical_functions(Dual2_64::from_re(r).derivative())?;
+    fn spherical_jet(&self, r: f64) -> Result<SphericalJet, MetricError> {
+        spherical(self)?;
+        let f = self
+            .spherical_functions(Dual2_64::from_re(r).derivative())
+            .ok_or_else(|| missing(self, SPHERICAL, "spherical_functions"))?;
         let jet = |x: Dual2_64| [x.re, x.v1, x.v2];
-        Some(SphericalJet {
+        Ok(SphericalJet {
             a: jet(f.a),
             b: jet(f.b),
             c: jet(f.c),
         })
     }
 
-    fn radial_potential_jet(&self, r: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
+    fn radial_potential_jet(
+        &self,
+        r: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Result<PotentialJet, MetricError> {
+        separable(self)?;
         jet_of(
             |x| self.radial_potential(x[0], x[1], x[2]),
             [r, lambda, eta],
         )
+        .ok_or_else(|| missing(self, SEPARABLE, "radial_potential"))
     }
 
     fn radial_potential_lambda_jet(
@@ -318,28 +388,41 @@ impl<M: Metric> Spacetime for M {
         r: f64,
         lambda: f64,
         eta: f64,
-    ) -> Option<RadialLambdaJet> {
+    ) -> Result<RadialLambdaJet, MetricError> {
+        separable(self)?;
+        let none = || missing(self, SEPARABLE, "radial_potential");
         // Outer dual: d/dr; inner second-order dual: d/dλ, d²/dλ².
         let rr = Dual::new(Dual2_64::from(r), Dual2_64::from(1.0));
         let ll = Dual::from_re(Dual2_64::from_re(lambda).derivative());
-        let v = self.radial_potential(rr, ll, Dual::from_re(Dual2_64::from(eta)))?;
+        let v = self
+            .radial_potential(rr, ll, Dual::from_re(Dual2_64::from(eta)))
+            .ok_or_else(none)?;
         // Hyper-dual: ε₁ = d/dr, ε₂ = d/dη.
-        let w = self.radial_potential(
-            HyperDual64::from_re(r).derivative1(),
-            HyperDual64::from(lambda),
-            HyperDual64::from_re(eta).derivative2(),
-        )?;
-        Some(RadialLambdaJet {
+        let w = self
+            .radial_potential(
+                HyperDual64::from_re(r).derivative1(),
+                HyperDual64::from(lambda),
+                HyperDual64::from_re(eta).derivative2(),
+            )
+            .ok_or_else(none)?;
+        Ok(RadialLambdaJet {
             value: [v.re.re, v.re.v1, v.re.v2],
             d_r: [v.eps.re, v.eps.v1, v.eps.v2],
             eta: [w.eps2, w.eps1eps2],
         })
     }
 
-    fn polar_potential_jet(&self, theta: f64, lambda: f64, eta: f64) -> Option<PotentialJet> {
+    fn polar_potential_jet(
+        &self,
+        theta: f64,
+        lambda: f64,
+        eta: f64,
+    ) -> Result<PotentialJet, MetricError> {
+        separable(self)?;
         jet_of(
             |x| self.polar_potential(x[0], x[1], x[2]),
             [theta, lambda, eta],
         )
+        .ok_or_else(|| missing(self, SEPARABLE, "polar_potential"))
     }
 }

@@ -5,8 +5,8 @@ use super::program::Program;
 use super::resolve::{Node, Var};
 use crate::error::MetricError;
 use crate::metric::{
-    check_separation, numerical_outer_horizon, Metric, MetricComponents, MetricInfo,
-    SphericalFunctions, Symmetry,
+    check_separation, numerical_outer_horizon, Capabilities, Declared, DeclaredHorizon, Metric,
+    MetricComponents, MetricInfo, SphericalFunctions, Symmetry,
 };
 use crate::scalar::DualScalar;
 use std::path::{Path, PathBuf};
@@ -80,6 +80,16 @@ impl FileMetricSpec {
         self.separation.is_some()
     }
 
+    /// The structure the file declares: its symmetry, equatorial symmetry and whether it
+    /// gives separation data; what every metric built from it declares.
+    pub fn capabilities(&self) -> Capabilities {
+        Capabilities {
+            spherical: self.symmetry == Symmetry::Spherical,
+            separable: self.separation.is_some(),
+            equatorially_symmetric: self.equatorial,
+        }
+    }
+
     /// Whether the file gives a closed-form outer horizon (otherwise it is found numerically).
     pub fn has_closed_form_horizon(&self) -> bool {
         matches!(self.horizon, HorizonRule::ClosedForm(_))
@@ -105,24 +115,20 @@ impl FileMetricSpec {
             // on the equator, where the default finder looks too).
             let g_rr_inverse = 1.0 / metric.components(r, std::f64::consts::FRAC_PI_2).g_rr;
             if !(r > 0.0 && g_rr_inverse.is_finite() && g_rr_inverse.abs() <= 1e-8) {
-                return Err(MetricError::BadPoint {
-                    what: format!(
-                        "metric file '{}': its horizon expression gives r = {r}, where g^rr = \
-                         {g_rr_inverse:e} instead of 0",
-                        self.info.name
-                    ),
+                return Err(MetricError::HorizonNotAZero {
+                    metric: self.info.name.clone(),
+                    radius: r,
+                    g_rr_inverse,
                 });
             }
         }
         if self.separation.is_some() {
             // Separation data that do not belong to the line element would give the
             // separable solver a shadow of another spacetime (docs/metric-files.md).
-            check_separation(&metric).map_err(|e| MetricError::BadPoint {
-                what: format!(
-                    "metric file '{}'{}: {e}",
-                    self.info.name,
-                    super::load::parameter_list(&self.info, &metric.values, " at ")
-                ),
+            check_separation(&metric).map_err(|e| MetricError::SeparationMismatch {
+                metric: self.info.name.clone(),
+                at: super::load::parameter_list(&self.info, &metric.values, " at "),
+                problem: e.to_string(),
             })?;
         }
         Ok(metric)
@@ -161,7 +167,7 @@ impl FileMetricSpec {
             info: self.info.clone(),
             values,
             symmetry: self.symmetry,
-            equatorial: self.equatorial,
+            capabilities: self.capabilities(),
             line,
             separation,
             horizon: None,
@@ -186,7 +192,7 @@ pub struct FileMetric {
     info: MetricInfo,
     values: Vec<f64>,
     symmetry: Symmetry,
-    equatorial: bool,
+    capabilities: Capabilities,
     line: Program,
     separation: Option<[Program; 2]>,
     horizon: Option<f64>,
@@ -201,6 +207,22 @@ impl FileMetric {
     /// Instructions of the compiled line element.
     pub fn line_element_instructions(&self) -> usize {
         self.line.len()
+    }
+}
+
+impl Declared for FileMetric {
+    fn declared_info(&self) -> MetricInfo {
+        self.info.clone()
+    }
+
+    fn declared_values(&self) -> Vec<f64> {
+        self.values.clone()
+    }
+
+    /// Computed once when the metric was built: the file's closed form, or the numerical
+    /// finder.
+    fn declared_horizon(&self) -> DeclaredHorizon {
+        DeclaredHorizon::Known(self.horizon)
     }
 }
 
@@ -232,16 +254,8 @@ impl Metric for FileMetric {
         }
     }
 
-    fn info(&self) -> MetricInfo {
-        self.info.clone()
-    }
-
-    fn parameter_values(&self) -> Vec<f64> {
-        self.values.clone()
-    }
-
-    fn outer_horizon(&self) -> Option<f64> {
-        self.horizon
+    fn capabilities(&self) -> Capabilities {
+        self.capabilities
     }
 
     fn spherical_functions<D: DualScalar>(&self, r: D) -> Option<SphericalFunctions<D>> {
@@ -250,10 +264,6 @@ impl Metric for FileMetric {
         }
         let [a, b, c] = self.line.run::<D, 1, 3>([r]);
         Some(SphericalFunctions { a, b, c })
-    }
-
-    fn equatorially_symmetric(&self) -> bool {
-        self.equatorial
     }
 
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {

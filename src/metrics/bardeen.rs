@@ -4,14 +4,25 @@
 //! `g ≥ 0` is the magnetic monopole charge of the nonlinear-electrodynamics source. A horizon
 //! exists only for g ≤ 4/√27 ≈ 0.7698; above that the object is horizonless and regular.
 
-use crate::error::MetricError;
-use crate::metric::{Domain, MetricInfo, ParameterSpec, SphericalMetric};
+use crate::declare_metric;
+use crate::metric::{Domain, SphericalMetric};
 use crate::scalar::DualScalar;
 
-/// The static Bardeen metric.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Bardeen {
-    g: f64,
+declare_metric! {
+    /// The static Bardeen metric.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Bardeen {
+        name: "bardeen",
+        title: "Bardeen regular black hole",
+        reference: "Bardeen 1968, Proc. GR5 (Tbilisi) p. 174; Ayon-Beato & Garcia 2000, Phys. Lett. B 493, 149",
+        parameters: {
+            g: {
+                default: 0.0,
+                domain: Domain::at_least(0.0),
+                meaning: "magnetic charge g/M (horizon only for g <= 4/sqrt(27))",
+            },
+        },
+    }
 }
 
 /// Bardeen's mass function m(r) = r³/(r² + g²)^{3/2}.
@@ -21,45 +32,15 @@ pub(crate) fn bardeen_mass<D: DualScalar>(g: f64, r: D) -> D {
     r2 * r / (r2 + g * g).powf(1.5)
 }
 
-impl Bardeen {
-    /// A Bardeen metric with charge `g ≥ 0`.
-    pub fn new(g: f64) -> Result<Self, MetricError> {
-        Ok(Bardeen {
-            g: Self::describe().parameters[0].check(g)?,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "bardeen".into(),
-            title: "Bardeen regular black hole".into(),
-            reference: "Bardeen 1968, Proc. GR5 (Tbilisi) p. 174; Ayon-Beato & Garcia 2000, Phys. Lett. B 493, 149"
-                .into(),
-            parameters: vec![ParameterSpec::new(
-                "g",
-                0.0,
-                Domain::at_least(0.0),
-                "magnetic charge g/M (horizon only for g <= 4/sqrt(27))",
-            )],
-        }
-    }
-}
 
 impl SphericalMetric for Bardeen {
     fn a<D: DualScalar>(&self, r: D) -> D {
         -(bardeen_mass(self.g, r) * 2.0 / r) + 1.0
     }
     fn b<D: DualScalar>(&self, r: D) -> D {
-        SphericalMetric::a(self, r).recip()
+        self.a(r).recip()
     }
     fn c<D: DualScalar>(&self, r: D) -> D {
         r * r
-    }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.g]
     }
 }

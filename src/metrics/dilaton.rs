@@ -4,37 +4,25 @@
 //! `q = Q/M`. The horizon is r = 2 while q² < 2; at q² = 2 the area of the horizon sphere
 //! vanishes, and beyond it the areal radius reaches zero outside r = 2 (no horizon).
 
-use crate::error::MetricError;
-use crate::metric::{Domain, MetricInfo, ParameterSpec, SphericalMetric};
+use crate::declare_metric;
+use crate::metric::{Domain, SphericalMetric};
 use crate::scalar::DualScalar;
 
-/// The dilaton black hole.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Dilaton {
-    q: f64,
-}
-
-impl Dilaton {
-    /// A dilaton black hole with charge `q` (any finite value; q² ≥ 2 has no horizon).
-    pub fn new(q: f64) -> Result<Self, MetricError> {
-        Ok(Dilaton {
-            q: Self::describe().parameters[0].check(q)?,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "dilaton".into(),
-            title: "Einstein-Maxwell-dilaton (GHS)".into(),
-            reference: "Garfinkle, Horowitz & Strominger 1991, Phys. Rev. D 43, 3140".into(),
-            parameters: vec![ParameterSpec::new(
-                "q",
-                0.0,
-                Domain::REAL,
-                "charge Q/M; areal radius^2 = r(r - q^2) (q^2 >= 2: no horizon)",
-            )],
-        }
+declare_metric! {
+    /// The dilaton black hole.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Dilaton {
+        name: "dilaton",
+        title: "Einstein-Maxwell-dilaton (GHS)",
+        reference: "Garfinkle, Horowitz & Strominger 1991, Phys. Rev. D 43, 3140",
+        horizon: |m| (m.q * m.q < 2.0).then_some(2.0),
+        parameters: {
+            q: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "charge Q/M; areal radius^2 = r(r - q^2) (q^2 >= 2: no horizon)",
+            },
+        },
     }
 }
 
@@ -43,18 +31,9 @@ impl SphericalMetric for Dilaton {
         -(r.recip() * 2.0) + 1.0
     }
     fn b<D: DualScalar>(&self, r: D) -> D {
-        SphericalMetric::a(self, r).recip()
+        self.a(r).recip()
     }
     fn c<D: DualScalar>(&self, r: D) -> D {
         r * (r - self.q * self.q)
-    }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.q]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        (self.q * self.q < 2.0).then_some(2.0)
     }
 }

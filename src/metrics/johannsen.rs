@@ -11,54 +11,45 @@
 //! α22 only.
 
 use super::kerr_like;
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::scalar::DualScalar;
 
-/// The Johannsen metric with (a, α13, α22, α52, ε3).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Johannsen {
-    a: f64,
-    alpha13: f64,
-    alpha22: f64,
-    alpha52: f64,
-    eps3: f64,
+declare_metric! {
+    /// The Johannsen metric with (a, α13, α22, α52, ε3).
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Johannsen {
+        name: "johannsen",
+        title: "Johannsen",
+        reference: "Johannsen 2013, Phys. Rev. D 88, 044002",
+        horizon: |m| super::horizon_root(1.0, m.a * m.a).map(|s| 1.0 + s),
+        parameters: {
+            a: { default: 0.0, domain: Domain::closed(-1.0, 1.0), meaning: "spin a = J/M^2" },
+            alpha13: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation in A1 = 1 + alpha13/r^3",
+            },
+            alpha22: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation in A2 = 1 + alpha22/r^2",
+            },
+            alpha52: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation in A5 = 1 + alpha52/r^2",
+            },
+            eps3: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation in Sigma~ = Sigma + eps3/r",
+            },
+        },
+    }
 }
 
 impl Johannsen {
-    /// From (a, alpha13, alpha22, alpha52, eps3).
-    pub fn new(values: [f64; 5]) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        for (s, v) in spec.iter().zip(values) {
-            s.check(v)?;
-        }
-        let [a, alpha13, alpha22, alpha52, eps3] = values;
-        Ok(Johannsen {
-            a,
-            alpha13,
-            alpha22,
-            alpha52,
-            eps3,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        let dev = |name: &str, meaning: &str| ParameterSpec::new(name, 0.0, Domain::REAL, meaning);
-        MetricInfo {
-            name: "johannsen".into(),
-            title: "Johannsen".into(),
-            reference: "Johannsen 2013, Phys. Rev. D 88, 044002".into(),
-            parameters: vec![
-                ParameterSpec::new("a", 0.0, Domain::closed(-1.0, 1.0), "spin a = J/M^2"),
-                dev("alpha13", "deviation in A1 = 1 + alpha13/r^3"),
-                dev("alpha22", "deviation in A2 = 1 + alpha22/r^2"),
-                dev("alpha52", "deviation in A5 = 1 + alpha52/r^2"),
-                dev("eps3", "deviation in Sigma~ = Sigma + eps3/r"),
-            ],
-        }
-    }
-
     /// The deformation functions (A1, A2, A5) at r.
     fn deformations<D: DualScalar>(&self, r: D) -> (D, D, D) {
         let inv_r2 = (r * r).recip();
@@ -93,17 +84,8 @@ impl Metric for Johannsen {
             g_phph: sigma_t * s2 * (r2a2 * r2a2 * a1 * a1 - delta * s2 * (a * a)) / big_d,
         }
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a, self.alpha13, self.alpha22, self.alpha52, self.eps3]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        super::horizon_root(1.0, self.a * self.a).map(|s| 1.0 + s)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        kerr_like::CAPABILITIES
     }
     /// (Σ̃ dr/dτ)² = A5 [(P − Qλ)² − Δ(η + (λ − a)²)], P = (r² + a²) A1, Q = a A2.
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {

@@ -8,43 +8,27 @@
 //! shadows come from the ray tracer. The surface g^rr = 0 depends on θ for a ≠ 0; the outer
 //! horizon reported is its largest radius over θ.
 
-use crate::error::MetricError;
-use crate::metric::{
-    numerical_outer_horizon, Domain, Metric, MetricComponents, MetricInfo, ParameterSpec,
-};
+use crate::declare_metric;
+use crate::metric::{numerical_outer_horizon, Capabilities, Domain, Metric, MetricComponents};
 use crate::numerics::brent_root;
 use crate::scalar::DualScalar;
 
-/// The Johannsen–Psaltis metric with spin `a` and deviation `eps3`.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct JohannsenPsaltis {
-    a: f64,
-    eps3: f64,
+declare_metric! {
+    /// The Johannsen–Psaltis metric with spin `a` and deviation `eps3`.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct JohannsenPsaltis {
+        name: "johannsen-psaltis",
+        title: "Johannsen-Psaltis",
+        reference: "Johannsen & Psaltis 2011, Phys. Rev. D 83, 124015",
+        horizon: |m| m.outer_horizon_over_theta(),
+        parameters: {
+            a: { default: 0.0, domain: Domain::closed(-1.0, 1.0), meaning: "spin a = J/M^2" },
+            eps3: { default: 0.0, domain: Domain::REAL, meaning: "deviation h = eps3 r/Sigma^2" },
+        },
+    }
 }
 
 impl JohannsenPsaltis {
-    /// A Johannsen–Psaltis metric.
-    pub fn new(a: f64, eps3: f64) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        Ok(JohannsenPsaltis {
-            a: spec[0].check(a)?,
-            eps3: spec[1].check(eps3)?,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "johannsen-psaltis".into(),
-            title: "Johannsen-Psaltis".into(),
-            reference: "Johannsen & Psaltis 2011, Phys. Rev. D 83, 124015".into(),
-            parameters: vec![
-                ParameterSpec::new("a", 0.0, Domain::closed(-1.0, 1.0), "spin a = J/M^2"),
-                ParameterSpec::new("eps3", 0.0, Domain::REAL, "deviation h = eps3 r/Sigma^2"),
-            ],
-        }
-    }
-
     /// Δ + a² h sin²θ at (r, θ), whose outermost zero is the horizon at that θ.
     fn horizon_function(&self, r: f64, theta: f64) -> f64 {
         let a = self.a;
@@ -52,6 +36,24 @@ impl JohannsenPsaltis {
         let sigma = r * r + a * a * theta.cos().powi(2);
         let h = self.eps3 * r / (sigma * sigma);
         r * r - 2.0 * r + a * a + a * a * h * s2
+    }
+
+    /// The equatorial horizon from the default finder, then the largest root of
+    /// Δ + a² h sin²θ over a grid of θ, each refined by Brent's method.
+    fn outer_horizon_over_theta(&self) -> Option<f64> {
+        let equatorial = numerical_outer_horizon(self)?;
+        let mut outer = equatorial;
+        for k in 1..=32 {
+            let theta = std::f64::consts::FRAC_PI_2 * k as f64 / 32.0;
+            let f = |r: f64| self.horizon_function(r, theta);
+            let hi = 4.0 * equatorial.max(2.0);
+            if f(hi) > 0.0 && f(outer) < 0.0 {
+                if let Ok(r) = brent_root(f, outer, hi, 0.0) {
+                    outer = outer.max(r);
+                }
+            }
+        }
+        Some(outer)
     }
 }
 
@@ -73,30 +75,7 @@ impl Metric for JohannsenPsaltis {
                 + h * (sigma + r * 2.0) * s2 * s2 * (a * a) / sigma,
         }
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a, self.eps3]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        // The equatorial horizon from the default finder, then the largest root of
-        // Δ + a² h sin²θ over a grid of θ, each refined by Brent's method.
-        let equatorial = numerical_outer_horizon(self)?;
-        let mut outer = equatorial;
-        for k in 1..=32 {
-            let theta = std::f64::consts::FRAC_PI_2 * k as f64 / 32.0;
-            let f = |r: f64| self.horizon_function(r, theta);
-            let hi = 4.0 * equatorial.max(2.0);
-            if f(hi) > 0.0 && f(outer) < 0.0 {
-                if let Ok(r) = brent_root(f, outer, hi, 0.0) {
-                    outer = outer.max(r);
-                }
-            }
-        }
-        Some(outer)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        Capabilities::NONE.with_equatorial_symmetry()
     }
 }

@@ -6,44 +6,32 @@
 //! g_φφ = (r² + a² + 2ra² sin²θ/Σ) sin²θ. Horizons r± = 1 ± √(1 − a²).
 
 use super::kerr_like;
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec, PhaseGradient};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents, PhaseGradient};
 use crate::scalar::DualScalar;
 
-/// The rotating black hole of unit mass; `a = J/M²` (|a| > 1 is a naked singularity).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Kerr {
-    a: f64,
+declare_metric! {
+    /// The rotating black hole of unit mass; `a = J/M²` (|a| > 1 is a naked singularity).
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Kerr {
+        name: "kerr",
+        title: "Kerr",
+        reference: "Kerr 1963, Phys. Rev. Lett. 11, 237; Boyer & Lindquist 1967, J. Math. Phys. 8, 265",
+        horizon: |m| super::horizon_root(1.0, m.a * m.a).map(|s| 1.0 + s),
+        parameters: {
+            a: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "spin a = J/M^2 (|a| > 1: naked singularity)",
+            },
+        },
+    }
 }
 
 impl Kerr {
-    /// A Kerr metric with spin `a` (any finite value).
-    pub fn new(a: f64) -> Result<Self, MetricError> {
-        Ok(Kerr {
-            a: Self::describe().parameters[0].check(a)?,
-        })
-    }
-
     /// The spin a/M.
     pub fn spin(&self) -> f64 {
         self.a
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "kerr".into(),
-            title: "Kerr".into(),
-            reference:
-                "Kerr 1963, Phys. Rev. Lett. 11, 237; Boyer & Lindquist 1967, J. Math. Phys. 8, 265"
-                    .into(),
-            parameters: vec![ParameterSpec::new(
-                "a",
-                0.0,
-                Domain::REAL,
-                "spin a = J/M^2 (|a| > 1: naked singularity)",
-            )],
-        }
     }
 
     /// The Hamiltonian gradient written out by hand, as a reference for tests and benchmarks.
@@ -90,17 +78,8 @@ impl Metric for Kerr {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         kerr_like::components(self.a, r * r, r * 2.0, theta)
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        super::horizon_root(1.0, self.a * self.a).map(|s| 1.0 + s)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        kerr_like::CAPABILITIES
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         Some(kerr_like::radial_potential(

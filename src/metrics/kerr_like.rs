@@ -10,8 +10,14 @@
 //! (Sen 1992): ρ² = r(r + 2b), μ = 2r. Rotating regular black holes (Bambi & Modesto 2013):
 //! μ = 2 m(r) r. Null geodesics separate (Carter 1968) with the potentials below.
 
-use crate::metric::MetricComponents;
+use crate::metric::{Capabilities, MetricComponents};
 use crate::scalar::DualScalar;
+
+/// What every metric of the family declares (and Johannsen's, which shares Θ): separation
+/// data (the potentials below) and θ → π − θ symmetry (Σ and Θ depend on θ through cos²θ).
+pub(crate) const CAPABILITIES: Capabilities = Capabilities::NONE
+    .with_separation()
+    .with_equatorial_symmetry();
 
 /// Components of the Kerr-like line element for spin `a`, ρ²(r) = `rho2`, μ(r) = `mu`.
 #[inline(always)]

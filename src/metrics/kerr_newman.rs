@@ -6,45 +6,27 @@
 //! With q = 0 this is Kerr (1963).
 
 use super::kerr_like;
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::scalar::DualScalar;
 
-/// The rotating, charged black hole; `a = J/M²`, `q = Q/M`.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct KerrNewman {
-    a: f64,
-    q: f64,
-}
-
-impl KerrNewman {
-    /// A Kerr–Newman metric (any finite a, q; a² + q² > 1 is a naked singularity).
-    pub fn new(a: f64, q: f64) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        Ok(KerrNewman {
-            a: spec[0].check(a)?,
-            q: spec[1].check(q)?,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "kerr-newman".into(),
-            title: "Kerr-Newman".into(),
-            reference:
-                "Newman, Couch, Chinnapared, Exton, Prakash & Torrence 1965, J. Math. Phys. 6, 918"
-                    .into(),
-            parameters: vec![
-                ParameterSpec::new("a", 0.0, Domain::REAL, "spin a = J/M^2"),
-                ParameterSpec::new(
-                    "q",
-                    0.0,
-                    Domain::REAL,
-                    "electric charge Q/M (a^2 + q^2 > 1: naked singularity)",
-                ),
-            ],
-        }
+declare_metric! {
+    /// The rotating, charged black hole; `a = J/M²`, `q = Q/M` (a² + q² > 1 is a naked
+    /// singularity).
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct KerrNewman {
+        name: "kerr-newman",
+        title: "Kerr-Newman",
+        reference: "Newman, Couch, Chinnapared, Exton, Prakash & Torrence 1965, J. Math. Phys. 6, 918",
+        horizon: |m| super::horizon_root(1.0, m.a * m.a + m.q * m.q).map(|s| 1.0 + s),
+        parameters: {
+            a: { default: 0.0, domain: Domain::REAL, meaning: "spin a = J/M^2" },
+            q: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "electric charge Q/M (a^2 + q^2 > 1: naked singularity)",
+            },
+        },
     }
 }
 
@@ -53,17 +35,8 @@ impl Metric for KerrNewman {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         kerr_like::components(self.a, r * r, r * 2.0 - self.q * self.q, theta)
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a, self.q]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        super::horizon_root(1.0, self.a * self.a + self.q * self.q).map(|s| 1.0 + s)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        kerr_like::CAPABILITIES
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         let mu = r * 2.0 - self.q * self.q;

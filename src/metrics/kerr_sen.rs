@@ -14,43 +14,38 @@
 //! with r² → r(r + 2b)).
 
 use super::kerr_like;
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::scalar::DualScalar;
 
-/// The Kerr–Sen metric.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct KerrSen {
-    a: f64,
-    b: f64,
+declare_metric! {
+    /// The Kerr–Sen metric.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct KerrSen {
+        name: "kerr-sen",
+        title: "Kerr-Sen",
+        reference: "Sen 1992, Phys. Rev. Lett. 69, 1006",
+        horizon: |m| m.outer_horizon_closed_form(),
+        parameters: {
+            a: { default: 0.0, domain: Domain::REAL, meaning: "spin a = J/M^2" },
+            b: {
+                default: 0.0,
+                domain: Domain::at_least(0.0),
+                meaning: "dilaton charge b = Q^2/(2M) (horizon only for |a| <= 1 - b and b < 1; at b = 1 it has zero area on the singularity)",
+            },
+        },
+    }
 }
 
 impl KerrSen {
-    /// A Kerr–Sen metric with spin `a` and dilaton charge `b ≥ 0`.
-    pub fn new(a: f64, b: f64) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        Ok(KerrSen {
-            a: spec[0].check(a)?,
-            b: spec[1].check(b)?,
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "kerr-sen".into(),
-            title: "Kerr-Sen".into(),
-            reference: "Sen 1992, Phys. Rev. Lett. 69, 1006".into(),
-            parameters: vec![
-                ParameterSpec::new("a", 0.0, Domain::REAL, "spin a = J/M^2"),
-                ParameterSpec::new(
-                    "b",
-                    0.0,
-                    Domain::at_least(0.0),
-                    "dilaton charge b = Q^2/(2M) (horizon only for |a| <= 1 - b and b < 1; at b = 1 it has zero area on the singularity)",
-                ),
-            ],
+    /// r₊ = 1 − b + √((1 − b)² − a²), or `None`: b ≥ 1 gives r₊ ≤ 0, on or inside the singular
+    /// surface r(r + 2b) = 0 (b = 1, a = 0: r₊ = 0, a zero-area horizon on the singularity;
+    /// module docs).
+    fn outer_horizon_closed_form(&self) -> Option<f64> {
+        if self.b >= 1.0 {
+            return None;
         }
+        super::horizon_root((1.0 - self.b).powi(2), self.a * self.a).map(|s| 1.0 - self.b + s)
     }
 
     fn rho2<D: DualScalar>(&self, r: D) -> D {
@@ -63,22 +58,8 @@ impl Metric for KerrSen {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         kerr_like::components(self.a, self.rho2(r), r * 2.0, theta)
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        vec![self.a, self.b]
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        // b ≥ 1: the formula gives r₊ ≤ 0, on or inside the singular surface r(r + 2b) = 0
-        // (b = 1, a = 0: r₊ = 0, a zero-area horizon on the singularity; module docs).
-        if self.b >= 1.0 {
-            return None;
-        }
-        super::horizon_root((1.0 - self.b).powi(2), self.a * self.a).map(|s| 1.0 - self.b + s)
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        kerr_like::CAPABILITIES
     }
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         Some(kerr_like::radial_potential(

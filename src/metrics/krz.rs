@@ -13,69 +13,64 @@
 //!
 //! All δ zero is Kerr. Not separable in general: shadows come from the ray tracer.
 
-use crate::error::MetricError;
-use crate::metric::{Domain, Metric, MetricComponents, MetricInfo, ParameterSpec};
+use crate::declare_metric;
+use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::scalar::DualScalar;
 
-/// The KRZ metric with spin `a` and deviations δ1 … δ6.
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Krz {
-    a: f64,
-    delta: [f64; 6],
-}
-
-impl Krz {
-    /// From (a, δ1, …, δ6).
-    pub fn new(values: [f64; 7]) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        for (s, v) in spec.iter().zip(values) {
-            s.check(v)?;
-        }
-        let [a, d1, d2, d3, d4, d5, d6] = values;
-        Ok(Krz {
-            a,
-            delta: [d1, d2, d3, d4, d5, d6],
-        })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        let meanings = [
-            "deviation of g_tt (N^2, r0^3/r^3 term)",
-            "rotational deviation of g_tphi (r0^3/r^3)",
-            "rotational deviation of g_tphi (r0^3 y^2/r^3)",
-            "deviation of g_rr (r0^2/r^2)",
-            "deviation of g_rr (r0^2 y^2/r^2)",
-            "deviation of the event horizon shape",
-        ];
-        let mut parameters = vec![ParameterSpec::new(
-            "a",
-            0.0,
-            Domain::closed(-1.0, 1.0),
-            "spin a = J/M^2",
-        )];
-        for (i, m) in meanings.iter().enumerate() {
-            parameters.push(ParameterSpec::new(
-                &format!("delta{}", i + 1),
-                0.0,
-                Domain::REAL,
-                m,
-            ));
-        }
-        MetricInfo {
-            name: "krz".into(),
-            title: "Konoplya-Rezzolla-Zhidenko".into(),
-            reference: "Konoplya, Rezzolla & Zhidenko 2016, Phys. Rev. D 93, 064015; Ni, Jiang & Bambi 2016, JCAP 09, 014"
-                .into(),
-            parameters,
-        }
+declare_metric! {
+    /// The KRZ metric with spin `a` and deviations δ1 … δ6.
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct Krz {
+        name: "krz",
+        title: "Konoplya-Rezzolla-Zhidenko",
+        reference: "Konoplya, Rezzolla & Zhidenko 2016, Phys. Rev. D 93, 064015; Ni, Jiang & Bambi 2016, JCAP 09, 014",
+        parameters: {
+            a: { default: 0.0, domain: Domain::closed(-1.0, 1.0), meaning: "spin a = J/M^2" },
+            delta1: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation of g_tt (N^2, r0^3/r^3 term)",
+            },
+            delta2: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "rotational deviation of g_tphi (r0^3/r^3)",
+            },
+            delta3: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "rotational deviation of g_tphi (r0^3 y^2/r^3)",
+            },
+            delta4: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation of g_rr (r0^2/r^2)",
+            },
+            delta5: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation of g_rr (r0^2 y^2/r^2)",
+            },
+            delta6: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "deviation of the event horizon shape",
+            },
+        },
     }
 }
 
 impl Metric for Krz {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         let a = self.a;
-        let [d1, d2, d3, d4, d5, d6] = self.delta;
+        let [d1, d2, d3, d4, d5, d6] = [
+            self.delta1,
+            self.delta2,
+            self.delta3,
+            self.delta4,
+            self.delta5,
+            self.delta6,
+        ];
         let r0 = 1.0 + (1.0 - a * a).sqrt();
         let (a2, a4) = (a * a, a.powi(4));
         let eps0 = (2.0 - r0) / r0;
@@ -108,15 +103,7 @@ impl Metric for Krz {
             g_phph: k2 * r * r * s2,
         }
     }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        let mut v = vec![self.a];
-        v.extend_from_slice(&self.delta);
-        v
-    }
-    fn equatorially_symmetric(&self) -> bool {
-        true
+    fn capabilities(&self) -> Capabilities {
+        Capabilities::NONE.with_equatorial_symmetry()
     }
 }

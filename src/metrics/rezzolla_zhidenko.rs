@@ -7,57 +7,65 @@
 //!
 //! All deviation parameters zero is Schwarzschild. The horizon is at r0 by construction.
 
-use crate::error::MetricError;
-use crate::metric::{Domain, MetricInfo, ParameterSpec, SphericalMetric};
+use crate::declare_metric;
+use crate::metric::{Domain, SphericalMetric};
 use crate::scalar::DualScalar;
 
-/// The Rezzolla–Zhidenko metric with parameters (ε, a0, b0, a1, a2, b1, b2).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct RezzollaZhidenko {
-    p: [f64; 7],
+declare_metric! {
+    /// The Rezzolla–Zhidenko metric with parameters (ε, a0, b0, a1, a2, b1, b2).
+    #[derive(Debug, Clone, Copy, PartialEq)]
+    pub struct RezzollaZhidenko {
+        name: "rezzolla-zhidenko",
+        title: "Rezzolla-Zhidenko parametrization",
+        reference: "Rezzolla & Zhidenko 2014, Phys. Rev. D 90, 084009",
+        parameters: {
+            epsilon: {
+                default: 0.0,
+                domain: Domain::greater_than(-1.0),
+                meaning: "horizon shift: r0 = 2/(1 + epsilon)",
+            },
+            a0: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "post-Newtonian coefficient of N^2 (PPN)",
+            },
+            b0: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "post-Newtonian coefficient of B (PPN)",
+            },
+            a1: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "first continued-fraction coefficient of N^2",
+            },
+            a2: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "second continued-fraction coefficient of N^2",
+            },
+            b1: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "first continued-fraction coefficient of B",
+            },
+            b2: {
+                default: 0.0,
+                domain: Domain::REAL,
+                meaning: "second continued-fraction coefficient of B",
+            },
+        },
+    }
 }
 
 impl RezzollaZhidenko {
-    /// From (epsilon, a0, b0, a1, a2, b1, b2).
-    pub fn new(values: [f64; 7]) -> Result<Self, MetricError> {
-        let spec = Self::describe().parameters;
-        for (s, v) in spec.iter().zip(values) {
-            s.check(v)?;
-        }
-        Ok(RezzollaZhidenko { p: values })
-    }
-
-    /// Name, reference and parameters.
-    pub fn describe() -> MetricInfo {
-        let real = |name: &str, meaning: &str| ParameterSpec::new(name, 0.0, Domain::REAL, meaning);
-        MetricInfo {
-            name: "rezzolla-zhidenko".into(),
-            title: "Rezzolla-Zhidenko parametrization".into(),
-            reference: "Rezzolla & Zhidenko 2014, Phys. Rev. D 90, 084009".into(),
-            parameters: vec![
-                ParameterSpec::new(
-                    "epsilon",
-                    0.0,
-                    Domain::greater_than(-1.0),
-                    "horizon shift: r0 = 2/(1 + epsilon)",
-                ),
-                real("a0", "post-Newtonian coefficient of N^2 (PPN)"),
-                real("b0", "post-Newtonian coefficient of B (PPN)"),
-                real("a1", "first continued-fraction coefficient of N^2"),
-                real("a2", "second continued-fraction coefficient of N^2"),
-                real("b1", "first continued-fraction coefficient of B"),
-                real("b2", "second continued-fraction coefficient of B"),
-            ],
-        }
-    }
-
     fn r0(&self) -> f64 {
-        2.0 / (1.0 + self.p[0])
+        2.0 / (1.0 + self.epsilon)
     }
 
     /// N²(r).
     fn n2<D: DualScalar>(&self, r: D) -> D {
-        let [eps, a0, _, a1, a2, _, _] = self.p;
+        let (eps, a0, a1, a2) = (self.epsilon, self.a0, self.a1, self.a2);
         let y = r.recip() * self.r0(); // 1 − x
         let x = -y + 1.0;
         let a_tilde = (x * a2 + 1.0).recip() * a1;
@@ -67,7 +75,7 @@ impl RezzollaZhidenko {
 
     /// B(r).
     fn big_b<D: DualScalar>(&self, r: D) -> D {
-        let [_, _, b0, _, _, b1, b2] = self.p;
+        let (b0, b1, b2) = (self.b0, self.b1, self.b2);
         let y = r.recip() * self.r0();
         let x = -y + 1.0;
         let b_tilde = (x * b2 + 1.0).recip() * b1;
@@ -85,11 +93,5 @@ impl SphericalMetric for RezzollaZhidenko {
     }
     fn c<D: DualScalar>(&self, r: D) -> D {
         r * r
-    }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn parameter_values(&self) -> Vec<f64> {
-        self.p.to_vec()
     }
 }

@@ -1,21 +1,18 @@
 //! Schwarzschild (1916): A = 1/B = 1 − 2/r, C = r².
 
-use crate::metric::{MetricInfo, SphericalMetric};
+use crate::declare_metric;
+use crate::metric::SphericalMetric;
 use crate::scalar::DualScalar;
 
-/// The Schwarzschild black hole of unit mass. Horizon r = 2.
-#[derive(Debug, Clone, Copy, Default, PartialEq)]
-pub struct Schwarzschild;
-
-impl Schwarzschild {
-    /// Name, reference and (no) parameters.
-    pub fn describe() -> MetricInfo {
-        MetricInfo {
-            name: "schwarzschild".into(),
-            title: "Schwarzschild".into(),
-            reference: "Schwarzschild 1916, Sitzungsber. Preuss. Akad. Wiss. 189".into(),
-            parameters: vec![],
-        }
+declare_metric! {
+    /// The Schwarzschild black hole of unit mass. Horizon r = 2.
+    #[derive(Debug, Clone, Copy, Default, PartialEq)]
+    pub struct Schwarzschild {
+        name: "schwarzschild",
+        title: "Schwarzschild",
+        reference: "Schwarzschild 1916, Sitzungsber. Preuss. Akad. Wiss. 189",
+        horizon: |_m| Some(2.0),
+        parameters: {},
     }
 }
 
@@ -24,15 +21,9 @@ impl SphericalMetric for Schwarzschild {
         -(r.recip() * 2.0) + 1.0
     }
     fn b<D: DualScalar>(&self, r: D) -> D {
-        SphericalMetric::a(self, r).recip()
+        self.a(r).recip()
     }
     fn c<D: DualScalar>(&self, r: D) -> D {
         r * r
-    }
-    fn info(&self) -> MetricInfo {
-        Self::describe()
-    }
-    fn outer_horizon(&self) -> Option<f64> {
-        Some(2.0)
     }
 }

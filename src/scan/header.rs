@@ -3,10 +3,9 @@
 //! another version of umbral or other arguments.
 
 use super::{GridAxis, ScanError, ScanRequest};
-use crate::metrics::MetricSource;
+use crate::metrics::{MetricSource, SourceError};
 use serde::{Deserialize, Serialize};
 use serde_json::Value;
-use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
 
 /// The scan-file format written by this version.
@@ -30,57 +29,19 @@ pub(crate) struct Header {
     solver: String,
 }
 
-/// Lower-case hexadecimal SHA-256 of `bytes`.
-pub(crate) fn sha256_hex(bytes: &[u8]) -> String {
-    Sha256::digest(bytes)
-        .iter()
-        .map(|b| format!("{b:02x}"))
-        .collect()
-}
+pub(crate) use crate::metrics::sha256_hex;
 
-/// The metric's content hash. A metric file read from disk is hashed by its bytes, read again
-/// here and checked to compile to the metric the scan uses (so the hash belongs to the
-/// formulas that computed the points); a metric file given as text is hashed by its compiled
-/// form; a built-in metric by its name and parameter specifications (the umbral version is a
-/// field of its own in the header).
+/// The metric's content hash ([`MetricSource::content_sha256`]), its errors in scan terms.
 pub(crate) fn metric_sha256(source: &MetricSource) -> Result<String, ScanError> {
-    match source {
-        MetricSource::Builtin(name) => {
-            let info = source.build(&[])?.info().clone();
-            let text = serde_json::to_string(&info).map_err(|e| {
-                ScanError::BadRequest(format!("cannot describe metric '{name}': {e}"))
-            })?;
-            Ok(sha256_hex(format!("builtin\n{text}").as_bytes()))
-        }
-        MetricSource::File(spec) => match spec.path() {
-            None => Ok(sha256_hex(format!("compiled\n{spec:?}").as_bytes())),
-            Some(path) => {
-                let read = |e: crate::input::InputError| ScanError::Read {
-                    path: path.display().to_string(),
-                    message: e.to_string(),
-                };
-                let bytes = crate::input::read_bytes_capped(path, crate::input::MAX_INPUT_BYTES)
-                    .map_err(read)?;
-                let text = crate::input::utf8(bytes.clone()).map_err(read)?;
-                let changed =
-                    match crate::metric_file::parse_metric_file(&text, &path.display().to_string())
-                    {
-                        Ok(mut again) => {
-                            again.path = Some(path.to_path_buf());
-                            again != **spec
-                        }
-                        Err(_) => true,
-                    };
-                if changed {
-                    return Err(ScanError::BadRequest(format!(
-                        "metric file '{}' changed while the scan was starting; run it again",
-                        path.display()
-                    )));
-                }
-                Ok(sha256_hex(&bytes))
-            }
+    source.content_sha256().map_err(|e| match e {
+        SourceError::Read { path, reason } => ScanError::Read {
+            path,
+            message: reason,
         },
-    }
+        SourceError::Changed { path } => ScanError::BadRequest(format!(
+            "metric file '{path}' changed while the scan was starting; run it again"
+        )),
+    })
 }
 
 /// The header of a request.

@@ -12,11 +12,12 @@
 //! file is refused while the first runs.
 //!
 //! ```
+//! use umbral::metrics::MetricSource;
 //! use umbral::scan::{run_scan, GridAxis, ScanRequest};
 //! let path = std::env::temp_dir().join(format!("umbral-scan-doc-{}.jsonl", std::process::id()));
 //! let _ = std::fs::remove_file(&path);
 //! let request = ScanRequest {
-//!     metric: "reissner-nordstrom".into(),
+//!     metric: MetricSource::builtin("reissner-nordstrom").unwrap(),
 //!     axes: vec![GridAxis { name: "q".into(), low: 0.0, high: 1.2, count: 4 }],
 //!     fixed: vec![],
 //!     inclination_deg: 17.0,

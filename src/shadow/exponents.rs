@@ -13,7 +13,7 @@
 // `!(x > 0.0)` is used on purpose: it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-use super::{RingExponents, ShadowError};
+use super::{structure_why, RingExponents, ShadowError};
 use crate::metric::Spacetime;
 use crate::numerics::brent_root;
 use std::f64::consts::PI;
@@ -104,11 +104,11 @@ pub fn spherical_lyapunov_frequency(
             "photon-orbit radius must be a non-negative finite number, got {r_c}"
         )));
     }
-    let jet = spacetime.spherical_jet(r_c).ok_or_else(|| {
+    let jet = spacetime.spherical_jet(r_c).map_err(|e| {
         not_applicable(
             spacetime,
             "spherical",
-            "the metric is not declared spherical",
+            &structure_why(e, "the metric is not declared spherical"),
         )
     })?;
     let [a, a1, a2] = jet.a;
@@ -171,7 +171,7 @@ pub fn spherical_lyapunov_frequency(
 
 /// λ² of the formula of [`spherical_exponents`] at r, when A, B, C are regular there.
 fn lyapunov_squared(spacetime: &dyn Spacetime, r: f64) -> Option<f64> {
-    let jet = spacetime.spherical_jet(r)?;
+    let jet = spacetime.spherical_jet(r).ok()?;
     let ([a, a1, a2], [b, _, _], [c, c1, c2]) = (jet.a, jet.b, jet.c);
     let ok = [a, a1, a2, b, c, c1, c2].iter().all(|x| x.is_finite()) && a > 0.0 && c > 0.0;
     let inv_a2 = 2.0 * a1 * a1 / (a * a * a) - a2 / (a * a);
@@ -224,11 +224,11 @@ pub fn separable_gamma(
     }
     let radial = spacetime
         .radial_potential_jet(r, lambda, eta)
-        .ok_or_else(|| {
+        .map_err(|e| {
             not_applicable(
                 spacetime,
                 "separable",
-                "the metric provides no radial potential",
+                &structure_why(e, "the metric provides no radial potential"),
             )
         })?;
     let scale = r.powi(4) + r * r * (eta.abs() + lambda * lambda) + eta.abs() + lambda * lambda;
@@ -264,11 +264,11 @@ fn polar_u(
     let theta = u.clamp(-1.0, 1.0).acos();
     let jet = spacetime
         .polar_potential_jet(theta, lambda, eta)
-        .ok_or_else(|| {
+        .map_err(|e| {
             not_applicable(
                 spacetime,
                 "separable",
-                "the metric provides no polar potential",
+                &structure_why(e, "the metric provides no polar potential"),
             )
         })?;
     let (t0, t1, t2) = (jet.value, jet.gradient[0], jet.hessian[0][0]);

@@ -77,6 +77,15 @@ pub enum ShadowError {
     NotConverged(String),
 }
 
+/// Why a solver cannot use a metric's declared structure: `undeclared` when the metric does
+/// not declare it, otherwise the metric's own error (a declared hook that returns nothing).
+pub(crate) fn structure_why(e: crate::error::MetricError, undeclared: &str) -> String {
+    match e {
+        crate::error::MetricError::NotDeclared { .. } => undeclared.to_string(),
+        other => other.to_string(),
+    }
+}
+
 /// Whether the metric casts a shadow for this observer.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(tag = "status", rename_all = "snake_case")]

@@ -70,8 +70,8 @@
 use super::exponents::separable_gamma;
 use super::observer::{zamo_tetrad, Observer, Tetrad};
 use super::{
-    CriticalCurve, Diagnostics, RingExponents, ShadowError, ShadowResult, ShadowSettings,
-    ShadowStatus,
+    structure_why, CriticalCurve, Diagnostics, RingExponents, ShadowError, ShadowResult,
+    ShadowSettings, ShadowStatus,
 };
 use crate::geodesic::null_radial_momentum;
 use crate::metric::{PotentialJet, Spacetime};
@@ -305,9 +305,12 @@ fn polar_jet(
     l: f64,
     e: f64,
 ) -> Result<PotentialJet, ShadowError> {
-    let jet = spacetime
-        .polar_potential_jet(theta, l, e)
-        .ok_or_else(|| not_applicable(spacetime, "the metric provides no polar potential"))?;
+    let jet = spacetime.polar_potential_jet(theta, l, e).map_err(|e| {
+        not_applicable(
+            spacetime,
+            &structure_why(e, "the metric provides no polar potential"),
+        )
+    })?;
     if !jet.value.is_finite() {
         return Err(ShadowError::BadRequest(format!(
             "the polar potential is not finite at theta = {theta}"
@@ -381,12 +384,12 @@ impl<'a> Problem<'a> {
     }
 
     fn radial(&self, r: f64, l: f64, e: f64) -> Result<PotentialJet, ShadowError> {
-        let jet = self
-            .spacetime
-            .radial_potential_jet(r, l, e)
-            .ok_or_else(|| {
-                not_applicable(self.spacetime, "the metric provides no radial potential")
-            })?;
+        let jet = self.spacetime.radial_potential_jet(r, l, e).map_err(|e| {
+            not_applicable(
+                self.spacetime,
+                &structure_why(e, "the metric provides no radial potential"),
+            )
+        })?;
         let finite = jet.value.is_finite()
             && jet.gradient.iter().all(|x| x.is_finite())
             && jet.hessian.iter().flatten().all(|x| x.is_finite());
@@ -453,8 +456,11 @@ impl<'a> Problem<'a> {
         let j = self
             .spacetime
             .radial_potential_lambda_jet(r, 0.0, 0.0)
-            .ok_or_else(|| {
-                not_applicable(self.spacetime, "the metric provides no radial potential")
+            .map_err(|e| {
+                not_applicable(
+                    self.spacetime,
+                    &structure_why(e, "the metric provides no radial potential"),
+                )
             })?;
         let all = j.value.iter().chain(&j.d_r).chain(&j.eta);
         if !all.into_iter().all(|x| x.is_finite()) {

@@ -18,10 +18,11 @@
 
 use super::exponents::spherical_exponents;
 use super::{
-    CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult, ShadowSettings,
-    ShadowStatus,
+    structure_why, CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult,
+    ShadowSettings, ShadowStatus,
 };
-use crate::metric::{Spacetime, Symmetry};
+use crate::error::MetricError;
+use crate::metric::Spacetime;
 use crate::numerics::brent_root;
 use std::time::Instant;
 
@@ -57,7 +58,7 @@ pub struct PhotonSphereAnalysis {
 
 /// C/A and (ln C/A)′ = C′/C − A′/A at r, with whether A, B, C are positive and finite there.
 fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
-    let jet = spacetime.spherical_jet(r)?;
+    let jet = spacetime.spherical_jet(r).ok()?;
     let [a, a1, _] = jet.a;
     let [b, _, _] = jet.b;
     let [c, c1, _] = jet.c;
@@ -65,21 +66,24 @@ fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
     ok.then(|| (c / a, c1 / c - a1 / a))
 }
 
-fn not_applicable(spacetime: &dyn Spacetime, why: String) -> ShadowError {
+fn not_spherical(spacetime: &dyn Spacetime, e: MetricError) -> ShadowError {
     ShadowError::SolverNotApplicable {
         solver: NAME,
         metric: spacetime.info().name,
-        why,
+        why: structure_why(e, "the metric is not declared spherically symmetric"),
     }
 }
 
 /// Whether the spherical solver applies: the metric declares spherical symmetry and gives
 /// its functions A, B, C.
 pub fn applicability(spacetime: &dyn Spacetime) -> Result<(), String> {
-    if spacetime.symmetry() != Symmetry::Spherical || spacetime.spherical_jet(R_FAR).is_none() {
-        return Err("the metric is not declared spherically symmetric".to_string());
+    match spacetime.spherical_jet(R_FAR) {
+        Ok(_) => Ok(()),
+        Err(e) => Err(structure_why(
+            e,
+            "the metric is not declared spherically symmetric",
+        )),
     }
-    Ok(())
 }
 
 /// Walks inward over radii, recording every sign change of (ln C/A)′ as a photon sphere.
@@ -196,7 +200,11 @@ fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> 
 pub fn photon_sphere_analysis(
     spacetime: &dyn Spacetime,
 ) -> Result<PhotonSphereAnalysis, ShadowError> {
-    applicability(spacetime).map_err(|why| not_applicable(spacetime, why))?;
+    // Declared spherical, with the hook that gives A, B, C (after this, a radius where the
+    // jet is missing is one where the metric is not regular).
+    spacetime
+        .spherical_jet(R_FAR)
+        .map_err(|e| not_spherical(spacetime, e))?;
     let horizon = spacetime
         .outer_horizon()
         .filter(|h| h.is_finite() && *h > 0.0);
@@ -332,12 +340,9 @@ fn observer_view(
             "observer radius must be finite and outside every photon sphere (r > {outermost}), got {r_o}"
         )));
     }
-    let jet = spacetime.spherical_jet(r_o).ok_or_else(|| {
-        not_applicable(
-            spacetime,
-            "the metric is not declared spherically symmetric".into(),
-        )
-    })?;
+    let jet = spacetime
+        .spherical_jet(r_o)
+        .map_err(|e| not_spherical(spacetime, e))?;
     let (a, c) = (jet.a[0], jet.c[0]);
     if !(a.is_finite() && c.is_finite() && a > 0.0 && c > 0.0) {
         return Err(ShadowError::BadRequest(format!(

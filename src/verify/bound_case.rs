@@ -6,13 +6,12 @@
 //! `confidence` level the expectation names, which must be a level of the measurement.
 
 use super::report::CheckRow;
-use super::schema::{expectation, Expectation, RawExpectation};
+use super::schema::{build, expectation, metric_source, Expectation, RawExpectation};
 use crate::bounds::{
     bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
     MAX_INITIAL_GRID,
 };
 use crate::measurement::{DerivedRadii, Measurement};
-use crate::metrics::build_metric;
 use crate::numfmt::Num;
 use crate::shadow::MAX_POINTS;
 use serde::Deserialize;
@@ -44,7 +43,10 @@ enum SizeName {
 #[serde(deny_unknown_fields)]
 pub(super) struct RawBound {
     name: String,
-    metric: String,
+    #[serde(default)]
+    metric: Option<String>,
+    #[serde(default)]
+    metric_file: Option<String>,
     #[serde(default)]
     parameters: BTreeMap<String, f64>,
     vary: RawRange,
@@ -73,8 +75,11 @@ pub(super) struct RawBound {
 
 /// One validated bound case.
 pub struct BoundCase {
+    /// The case's name, unique in its file.
     pub name: String,
+    /// What to bound: the metric (built-in or from a metric file), ranges and measurement.
     pub request: BoundRequest,
+    /// What the bound is expected to give.
     pub expectations: Vec<Expectation>,
 }
 
@@ -129,11 +134,12 @@ impl BoundCase {
             .map(|r| range(r, "nuisance"))
             .collect::<Result<Vec<_>, _>>()
             .map_err(label)?;
+        let source = metric_source(raw.metric, raw.metric_file, base_dir).map_err(label)?;
         // Names and domains are checked now, at the low end of every range.
         let mut probe = fixed.clone();
         probe.push((vary.name.clone(), vary.low));
         probe.extend(nuisance.iter().map(|r| (r.name.clone(), r.low)));
-        build_metric(raw.metric.trim(), &probe).map_err(|e| label(e.to_string()))?;
+        build(&source, &probe).map_err(label)?;
         let inclination = match (raw.inclination, raw.inclination_range) {
             (Some(d), None) if (0.0..=180.0).contains(&d) => Inclination::Fixed { degrees: d },
             (None, Some([lo, hi])) if 0.0 <= lo && lo < hi && hi <= 180.0 => Inclination::Range {
@@ -214,7 +220,7 @@ impl BoundCase {
         Ok(BoundCase {
             name,
             request: BoundRequest {
-                metric: raw.metric.trim().into(),
+                metric: source,
                 vary,
                 fixed,
                 inclination,

@@ -38,7 +38,7 @@ pub mod update;
 pub use bound_case::{BoundCase, BOUND_QUANTITIES};
 pub use quantity::QUANTITIES;
 pub use report::{CheckRow, VerifyReport};
-pub use schema::{Case, ChecksFile, Expectation, Expected, MetricSource, Tolerance};
+pub use schema::{Case, ChecksFile, Expectation, Expected, Tolerance};
 pub use update::{
     default_update_path, is_umbral_source, update_checks_file, update_checks_file_forcing,
     RowSelector, UpdateOutcome,
@@ -53,10 +53,20 @@ use std::path::{Path, PathBuf};
 pub enum VerifyError {
     /// Unreadable, not TOML, or not a valid checks file.
     #[error("{}: {message}", path.display())]
-    Invalid { path: PathBuf, message: String },
+    Invalid {
+        /// The checks file.
+        path: PathBuf,
+        /// What is wrong with it.
+        message: String,
+    },
     /// An output file could not be written.
     #[error("{}: cannot write: {message}", path.display())]
-    Write { path: PathBuf, message: String },
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// Why not.
+        message: String,
+    },
 }
 
 impl Case {

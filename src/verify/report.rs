@@ -17,8 +17,11 @@ fn number(x: f64) -> String {
 pub struct CheckRow {
     /// The checks file, as given.
     pub file: String,
+    /// The case's name.
     pub case: String,
+    /// The quantity's name.
     pub quantity: String,
+    /// The value or range expected.
     pub expected: Expected,
     /// The computed value, when there is one.
     pub got: Option<f64>,
@@ -26,9 +29,11 @@ pub struct CheckRow {
     pub difference: Option<f64>,
     /// The tolerance in the quantity's units (values only).
     pub tolerance: Option<f64>,
+    /// Whether the expectation holds.
     pub passed: bool,
     /// Why there is no value (solver failure, no shadow, quantity not available).
     pub reason: Option<String>,
+    /// Where the expected number comes from.
     pub source: String,
     /// `case` or `bound`: the array of tables the row's case is in.
     pub section: &'static str,
@@ -150,6 +155,7 @@ impl CheckRow {
 /// All rows of one or more checks files.
 #[derive(Debug, Clone, Default, PartialEq, Serialize)]
 pub struct VerifyReport {
+    /// One row per expectation, in file order.
     pub rows: Vec<CheckRow>,
 }
 

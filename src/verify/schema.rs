@@ -6,8 +6,7 @@
 use super::bound_case::{BoundCase, RawBound};
 use super::VerifyError;
 use crate::metric::Spacetime;
-use crate::metric_file::load_metric_file;
-use crate::metrics::build_metric;
+use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::observables::CentreChoice;
 use crate::shadow::{Observer, ShadowSettings, SolverChoice};
@@ -102,9 +101,19 @@ impl Tolerance {
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Expected {
     /// A value with a tolerance.
-    Value { value: f64, tolerance: Tolerance },
+    Value {
+        /// The expected value.
+        value: f64,
+        /// How far the computed value may lie from it.
+        tolerance: Tolerance,
+    },
     /// A range: `min ≤ got ≤ max`, either end optional (an upper or lower bound).
-    Range { min: Option<f64>, max: Option<f64> },
+    Range {
+        /// The lower end, if any.
+        min: Option<f64>,
+        /// The upper end, if any.
+        max: Option<f64>,
+    },
 }
 
 /// One expectation of a case.
@@ -112,6 +121,7 @@ pub enum Expected {
 pub struct Expectation {
     /// The quantity's name (see [`super::quantity::QUANTITIES`]).
     pub quantity: String,
+    /// The value or range expected.
     pub expected: Expected,
     /// Where the expected number comes from (paper, generator script, or
     /// "common practice, no source").
@@ -120,35 +130,35 @@ pub struct Expectation {
     pub confidence: Option<f64>,
 }
 
-/// Where a case's metric comes from.
-#[derive(Debug, Clone, PartialEq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum MetricSource {
-    /// A built-in metric, by its command-line name.
-    Builtin(String),
-    /// A declarative metric file (`metric_file = "path"`, relative to the checks file).
-    File(PathBuf),
-}
-
 /// One validated case: a metric, an observer, solver settings and its expectations.
 pub struct Case {
+    /// The case's name, unique in its file.
     pub name: String,
+    /// The metric, built-in or from a metric file.
     pub metric_source: MetricSource,
+    /// The metric's parameters as written (the rest take their defaults).
     pub parameters: Vec<(String, f64)>,
     /// The metric, built when the file was loaded.
     pub metric: Box<dyn Spacetime>,
     /// Inclination in degrees, as written.
     pub inclination_deg: f64,
+    /// The observer (distant, or static at `observer_radius`).
     pub observer: Observer,
+    /// Curve points, boundary tolerance and solver.
     pub settings: ShadowSettings,
+    /// The centre of the radius observables.
     pub centre: CentreChoice,
+    /// What the case is expected to give.
     pub expectations: Vec<Expectation>,
 }
 
 /// A loaded and validated checks file.
 pub struct ChecksFile {
+    /// The file, as given.
     pub path: PathBuf,
+    /// Its free-text description, if any.
     pub description: Option<String>,
+    /// `[[case]]` cases.
     pub cases: Vec<Case>,
     /// `[[bound]]` cases.
     pub bounds: Vec<BoundCase>,
@@ -244,6 +254,38 @@ pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expecta
     })
 }
 
+/// The metric a case or a bound names: `metric = "NAME"` (a built-in metric) or
+/// `metric_file = "PATH"` (relative to the checks file), never both.
+pub(super) fn metric_source(
+    metric: Option<String>,
+    metric_file: Option<String>,
+    base_dir: &Path,
+) -> Result<MetricSource, String> {
+    match (metric, metric_file) {
+        (Some(name), None) => MetricSource::builtin(name.trim()).map_err(|e| e.to_string()),
+        (None, Some(file)) => {
+            let path = base_dir.join(file.trim());
+            MetricSource::load(&path)
+                .map_err(|e| format!("metric file {}: {}", path.display(), e.summary()))
+        }
+        (Some(_), Some(_)) => Err("give metric or metric_file, not both".into()),
+        (None, None) => {
+            Err("missing metric (a built-in metric name) or metric_file (a metric file)".into())
+        }
+    }
+}
+
+/// The metric at these parameters; an error names a metric file by its path.
+pub(super) fn build(
+    source: &MetricSource,
+    parameters: &[(String, f64)],
+) -> Result<Box<dyn Spacetime>, String> {
+    source.build(parameters).map_err(|e| match source.path() {
+        Some(path) => format!("metric file {}: {e}", path.display()),
+        None => e.to_string(),
+    })
+}
+
 fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     let name = raw.name.trim().to_string();
     if name.is_empty() {
@@ -254,26 +296,8 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     for (p, v) in &parameters {
         finite(*v, &format!("parameter '{p}'")).map_err(label)?;
     }
-    let (metric_source, metric) = match (raw.metric, raw.metric_file) {
-        (Some(m), None) => {
-            let metric = build_metric(m.trim(), &parameters).map_err(|e| label(e.to_string()))?;
-            (MetricSource::Builtin(m.trim().to_string()), metric)
-        }
-        (None, Some(file)) => {
-            let path = base_dir.join(file.trim());
-            let spec = load_metric_file(&path)
-                .map_err(|e| label(format!("metric file {}: {}", path.display(), e.summary())))?;
-            let metric = spec
-                .instantiate(&parameters)
-                .map_err(|e| label(format!("metric file {}: {e}", path.display())))?;
-            (
-                MetricSource::File(path),
-                Box::new(metric) as Box<dyn Spacetime>,
-            )
-        }
-        (Some(_), Some(_)) => return Err(label("give metric or metric_file, not both".into())),
-        (None, None) => return Err(label("missing metric (a built-in metric name)".into())),
-    };
+    let metric_source = metric_source(raw.metric, raw.metric_file, base_dir).map_err(label)?;
+    let metric = build(&metric_source, &parameters).map_err(label)?;
     let inclination = finite(raw.inclination, "inclination").map_err(label)?;
     if !(0.0..=180.0).contains(&inclination) {
         return Err(label(format!(

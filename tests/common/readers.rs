@@ -63,7 +63,7 @@ pub fn checks_file(bytes: &[u8]) -> Verdict {
 /// inclination 30° (the same scan as the seeds `fuzz/build-corpus.sh` writes).
 pub fn scan_request() -> ScanRequest {
     ScanRequest {
-        metric: "reissner-nordstrom".into(),
+        metric: umbral::metrics::MetricSource::builtin("reissner-nordstrom").unwrap(),
         axes: vec![GridAxis {
             name: "q".into(),
             low: 0.0,
