@@ -659,6 +659,14 @@ impl Observables {
 
 /// One shadow to compute: who looks, how the curve is solved, and the centre observables are
 /// measured about.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let request = ShadowRequest::distant(30f64.to_radians()).with_solver("raytrace").unwrap();
+/// assert_eq!(request.settings.solver.name(), "raytrace");
+/// assert!(ShadowRequest::distant(1.0).with_solver("no-such-solver").is_err());
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct ShadowRequest {
     /// The observer (distant or at a finite radius).
@@ -688,6 +696,16 @@ impl ShadowRequest {
 }
 
 /// A solved shadow: the solver's result and the observables of its curve.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Reissner–Nordström has photon spheres r = (3 ± √(9 − 8q²))/2 only for q² ≤ 9/8: beyond,
+/// // no shadow, and the observables say why.
+/// let rn = ReissnerNordstrom::new(1.2).unwrap();
+/// let seen = shadow(&rn, &ShadowRequest::distant(1.0)).unwrap();
+/// assert!(seen.observables.unwrap_err().to_string().contains("no photon sphere"));
+/// ```
 #[derive(Debug, Clone, PartialEq)]
 pub struct Shadow {
     /// Everything the solver returned (curve, exponents, diagnostics).

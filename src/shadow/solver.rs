@@ -45,6 +45,43 @@ pub const TOLERANCE_RANGE: [f64; 2] = [1e-12, 1e-3];
 /// directly) and it runs behind the same request checks and dispatch as the built-in ones.
 /// The request reaching [`ShadowSolver::solve`] has passed [`check_request`] and the solver
 /// applies to the metric.
+///
+/// ```
+/// use umbral::prelude::*;
+/// use umbral::shadow::{
+///     register_solver, Observer, ShadowError, ShadowResult, ShadowSettings, SphericalSolver,
+/// };
+///
+/// /// The spherical solver under another name.
+/// struct Tagged;
+/// impl ShadowSolver for Tagged {
+///     fn name(&self) -> &'static str {
+///         "tagged-spherical"
+///     }
+///     fn summary(&self) -> &'static str {
+///         "the spherical solver, tagged"
+///     }
+///     fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+///         SphericalSolver.applies_to(spacetime)
+///     }
+///     fn solve(
+///         &self,
+///         spacetime: &dyn Spacetime,
+///         observer: &Observer,
+///         settings: &ShadowSettings,
+///     ) -> Result<ShadowResult, ShadowError> {
+///         let result = SphericalSolver.solve(spacetime, observer, settings)?;
+///         Ok(ShadowResult { solver: self.name(), ..result })
+///     }
+/// }
+///
+/// register_solver(Tagged).unwrap();
+/// let request = ShadowRequest::distant(1.0).with_solver("tagged-spherical").unwrap();
+/// let seen = shadow(&Schwarzschild, &request).unwrap();
+/// assert_eq!(seen.result.solver, "tagged-spherical");
+/// // b_c = 3√3 (Synge 1966).
+/// assert!((seen.observables.unwrap().mean_radius - 27f64.sqrt()).abs() < 1e-12);
+/// ```
 pub trait ShadowSolver: Send + Sync {
     /// Its name on the command line, in checks files and in results: lower case, no spaces.
     fn name(&self) -> &'static str;
