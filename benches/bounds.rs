@@ -88,6 +88,7 @@ fn bounds(c: &mut Criterion) {
         fixed: vec![],
         inclination_deg: 60.0,
         settings: Default::default(),
+        require_horizon: false,
     };
     let path = std::env::temp_dir().join(format!("umbral-bench-scan-{}.jsonl", std::process::id()));
     group.measurement_time(Duration::from_secs(60));

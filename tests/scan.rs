@@ -33,6 +33,7 @@ fn request() -> ScanRequest {
         fixed: vec![],
         inclination_deg: 60.0,
         settings: Default::default(),
+        require_horizon: false,
     }
 }
 
@@ -264,6 +265,7 @@ C = "r^2"
         fixed: vec![],
         inclination_deg: 30.0,
         settings: Default::default(),
+        require_horizon: false,
     };
     let out = temp("metric-file.jsonl");
     run_scan(&scan_of(&file), &out, &|_, _| {}).unwrap();
@@ -296,11 +298,12 @@ fn builtin_metric_hash_and_version_are_checked() {
     );
     let e = resume_refused(&path, &bad);
     assert!(e.contains("umbral_version"), "{e}");
-    // A file from the first scan format (no hash) is refused, naming the format.
+    // A file from an earlier scan format (2: horizonless points were not evaluated) is
+    // refused, naming the format.
     let mut bad = lines;
-    bad[0] = edit(&bad[0], "\"umbral_scan\":2", "\"umbral_scan\":1");
+    bad[0] = edit(&bad[0], "\"umbral_scan\":3", "\"umbral_scan\":2");
     let e = resume_refused(&path, &bad);
-    assert!(e.contains("scan format 1"), "{e}");
+    assert!(e.contains("scan format 2"), "{e}");
 }
 
 #[test]
@@ -561,4 +564,119 @@ fn stop_flag_interrupts_and_the_rerun_resumes_byte_identical() {
         .map(str::to_string)
         .collect();
     assert_eq!(lines, complete);
+}
+
+/// JNW (b = 2/ν): photon sphere r = (1 + 2ν)/ν (Virbhadra, Narasimha & Chitre 1998), where
+/// 1 − b/r = (2ν − 1)/(2ν + 1) and b_c = √(C/A) = r (1 − b/r)^{(1 − 2ν)/2}; only for ν > 1/2.
+fn jnw_shadow(nu: f64) -> f64 {
+    let r = (1.0 + 2.0 * nu) / nu;
+    r * ((2.0 * nu - 1.0) / (2.0 * nu + 1.0)).powf((1.0 - 2.0 * nu) / 2.0)
+}
+
+fn jnw_request(require_horizon: bool) -> ScanRequest {
+    ScanRequest {
+        metric: MetricSource::builtin("jnw").unwrap(),
+        axes: vec![GridAxis {
+            name: "nu".into(),
+            low: 0.3,
+            high: 1.0,
+            count: 5,
+        }],
+        fixed: vec![],
+        inclination_deg: 30.0,
+        settings: Default::default(),
+        require_horizon,
+    }
+}
+
+/// Issue 10, item 7 for scans: a horizonless JNW naked singularity with ν > 1/2 casts a
+/// shadow (a photon sphere around the absorbing singularity) and is evaluated, marked
+/// horizonless, as `bound` does; ν ≤ 1/2 has no photon sphere (no horizon, no shadow); ν = 1 is
+/// Schwarzschild (3√3, Synge 1966). `require_horizon` keeps the old policy.
+#[test]
+fn scan_jnw_evaluates_horizonless_shadows_unless_a_horizon_is_required() {
+    let path = temp("jnw.jsonl");
+    let s = run_scan(&jnw_request(false), &path, &|_, _| {}).unwrap();
+    let nus: Vec<f64> = (0..5)
+        .map(|i| jnw_request(false).axes[0].value(i))
+        .collect();
+    for (p, &nu) in s.points.iter().zip(&nus) {
+        if nu <= 0.5 {
+            assert_eq!(p.status, "no_horizon", "nu = {nu}: {p:?}");
+            assert!(!p.horizonless);
+        } else {
+            assert_eq!(p.status, "shadow", "nu = {nu}: {p:?}");
+            assert_eq!(p.solver.as_deref(), Some("spherical"));
+            assert_eq!(p.horizonless, nu < 1.0, "nu = {nu}");
+            let r = p.observable("mean_radius").unwrap();
+            assert!((r - jnw_shadow(nu)).abs() < 1e-9, "nu = {nu}: {r}");
+        }
+    }
+    assert_eq!(s.points.iter().filter(|p| p.horizonless).count(), 2);
+    let text = std::fs::read_to_string(&path).unwrap();
+    assert_eq!(text.matches("\"horizonless\":true").count(), 2, "{text}");
+    // Resuming with the other policy mixes nothing: the header records it.
+    let refused = run_scan(&jnw_request(true), &path, &|_, _| {}).unwrap_err();
+    assert!(refused.to_string().contains("require_horizon"), "{refused}");
+
+    let strict = temp("jnw-strict.jsonl");
+    let s = run_scan(&jnw_request(true), &strict, &|_, _| {}).unwrap();
+    let statuses: Vec<&str> = s.points.iter().map(|p| p.status.as_str()).collect();
+    assert_eq!(
+        statuses,
+        [
+            "no_horizon",
+            "no_horizon",
+            "no_horizon",
+            "no_horizon",
+            "shadow"
+        ]
+    );
+    assert!(s.points.iter().all(|p| !p.horizonless));
+}
+
+/// The CLI flag and the summary line; a kept line marked horizonless with another status is
+/// refused, naming the line.
+#[test]
+fn scan_cli_require_horizon_and_horizonless_lines_are_checked() {
+    let path = temp("jnw-cli.jsonl");
+    let p = path.to_str().unwrap();
+    let args = [
+        "scan",
+        "--metric",
+        "jnw",
+        "--grid",
+        "nu=0.3:1:5",
+        "--inclination",
+        "30",
+        "--out",
+        p,
+    ];
+    let (code, out, err) = umbral(&args);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("shadow 3 (of which horizonless 2"), "{out}");
+    assert!(out.contains("no horizon 2"), "{out}");
+    let strict = temp("jnw-cli-strict.jsonl");
+    let mut with_flag = args.to_vec();
+    with_flag[8] = strict.to_str().unwrap();
+    with_flag.push("--require-horizon");
+    let (code, out, err) = umbral(&with_flag);
+    assert_eq!(code, 0, "{err}");
+    assert!(out.contains("shadow 1 (of which horizonless 0"), "{out}");
+    assert!(out.contains("no horizon 4"), "{out}");
+    // A no_horizon line claiming to be horizonless: refused, naming line 2 (ν = 0.3).
+    let text = std::fs::read_to_string(&path).unwrap();
+    let edited = text.replacen(
+        "\"status\":\"no_horizon\"",
+        "\"status\":\"no_horizon\",\"horizonless\":true",
+        1,
+    );
+    assert_ne!(edited, text);
+    std::fs::write(&path, edited).unwrap();
+    let (code, _, err) = umbral(&args);
+    assert_eq!(code, 2, "{err}");
+    assert!(
+        err.contains("line 2") && err.contains("horizonless"),
+        "{err}"
+    );
 }

@@ -53,7 +53,7 @@ use crate::metrics::MetricSource;
 use crate::numerics::brent_root;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables, Quantity};
-use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus, SolverChoice};
+use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use rayon::prelude::*;
 use serde::Serialize;
@@ -394,42 +394,32 @@ impl PointModel for Model<'_> {
             Ok(s) => s,
             Err(e) => return PointValue::Failed(e.to_string()),
         };
-        let horizon = matches!(spacetime.classify(), Classification::BlackHole { .. });
-        if !horizon && self.request.settings.require_horizon {
-            return PointValue::NoHorizon;
-        }
         let observer = Observer::distant(inclination);
-        // The size and ΔC need the curve only: the solvers' curve-only path skips the
-        // photon-ring exponents (the same curve, several times faster for the separable one).
-        let settings = &self.request.settings.shadow;
-        let solver = match settings.solver.resolve(spacetime.as_ref()) {
-            Ok(s) => s,
-            Err(e) => return PointValue::Failed(e.to_string()),
-        };
-        match shadow::solve_curve(spacetime.as_ref(), &observer, settings) {
+        let settings = &self.request.settings;
+        match shadow::solve_classified(
+            spacetime.as_ref(),
+            &observer,
+            &settings.shadow,
+            settings.require_horizon,
+        ) {
             Err(e) => PointValue::Failed(e.to_string()),
-            Ok(r) => match &r.status {
-                ShadowStatus::NoShadow { .. } if !horizon => PointValue::NoHorizon,
-                ShadowStatus::NoShadow { reason } => PointValue::NoShadow(reason.clone()),
-                // Without a horizon only the spherical solver establishes that the curve is
-                // the edge of capture (a photon sphere around an absorbing centre); the ray
-                // tracer's boundary is not counted then.
-                ShadowStatus::Shadow if !horizon && !solver.bounds_capture_without_horizon() => {
-                    PointValue::NoHorizon
-                }
-                ShadowStatus::Shadow => match measure_curve(
-                    &r,
-                    spacetime.as_ref(),
-                    self.request.size_measure,
-                    self.want_circularity,
-                ) {
-                    Ok((size, circularity)) => PointValue::Valid {
-                        size,
-                        circularity,
-                        horizon,
-                    },
-                    Err(m) => PointValue::Failed(m),
+            Ok(PointShadow::NoHorizon) => PointValue::NoHorizon,
+            Ok(PointShadow::NoShadow { reason, .. }) => PointValue::NoShadow(reason),
+            Ok(PointShadow::Shadow {
+                result,
+                horizonless,
+            }) => match measure_curve(
+                &result,
+                spacetime.as_ref(),
+                self.request.size_measure,
+                self.want_circularity,
+            ) {
+                Ok((size, circularity)) => PointValue::Valid {
+                    size,
+                    circularity,
+                    horizon: !horizonless,
                 },
+                Err(m) => PointValue::Failed(m),
             },
         }
     }

@@ -49,6 +49,10 @@ pub struct ScanArgs {
     /// Exclusion map SVG (needs --measurement and two grid axes).
     #[arg(long, value_name = "FILE.svg")]
     plot: Option<String>,
+    /// Record every horizonless point as no horizon (by default a horizonless object counts
+    /// when a photon sphere bounds capture by its centre, and is marked horizonless).
+    #[arg(long = "require-horizon")]
+    require_horizon: bool,
 }
 
 fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
@@ -149,6 +153,7 @@ pub fn run_in(
         fixed: parse_assignments(&args.set)?,
         inclination_deg: parse_finite(&args.inclination, "--inclination")?,
         settings: ShadowSettings::default(),
+        require_horizon: args.require_horizon,
     };
     if let Some(path) = &args.plot {
         stage_plot(outputs, path)?;
@@ -163,8 +168,10 @@ pub fn run_in(
         summary.reused
     )?;
     let count = |s: &str| summary.points.iter().filter(|p| p.status == s).count();
+    let horizonless = summary.points.iter().filter(|p| p.horizonless).count();
     outln!(
-        "  shadow {}, no shadow {}, no horizon {}, failed {}",
+        "  shadow {} (of which horizonless {horizonless}: no horizon, a photon sphere bounds \
+         capture, evaluated), no shadow {}, no horizon {}, failed {}",
         count("shadow"),
         count("no_shadow"),
         count("no_horizon"),

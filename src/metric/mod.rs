@@ -29,6 +29,7 @@
 mod components;
 mod declared;
 mod entry;
+mod exterior;
 mod horizon;
 mod info;
 mod regularity;
@@ -39,6 +40,7 @@ mod spherical;
 pub use components::{InverseComponents, MetricComponents};
 pub use declared::{Capabilities, Declared, DeclaredHorizon};
 pub use entry::MetricEntry;
+pub use exterior::{exterior_singularity, relative_sensitivity, SingularSurface};
 pub use horizon::numerical_outer_horizon;
 pub use info::{Bound, Domain, MetricInfo, ParameterSpec, Symmetry};
 pub use regularity::{check_point, PointProblem, POINT_SENSITIVITY_LIMIT};

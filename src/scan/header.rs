@@ -9,7 +9,9 @@ use serde_json::Value;
 use std::collections::BTreeMap;
 
 /// The scan-file format written by this version.
-pub const FORMAT: u32 = 2;
+/// 3: horizonless points that cast a shadow are evaluated (`"horizonless": true`), unless the
+/// header's `require_horizon` says otherwise.
+pub const FORMAT: u32 = 3;
 
 /// The header line.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -27,6 +29,8 @@ pub(crate) struct Header {
     points: usize,
     tolerance: f64,
     solver: String,
+    /// Horizonless points are `no_horizon` whatever their shadow (format 2's policy).
+    require_horizon: bool,
 }
 
 pub(crate) use crate::metrics::sha256_hex;
@@ -57,6 +61,7 @@ pub(crate) fn header(request: &ScanRequest) -> Result<Header, ScanError> {
         points: request.settings.points,
         tolerance: request.settings.tolerance,
         solver: format!("{:?}", request.settings.solver).to_lowercase(),
+        require_horizon: request.require_horizon,
     })
 }
 

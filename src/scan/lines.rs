@@ -42,6 +42,8 @@ struct StoredPoint {
     parameters: BTreeMap<String, f64>,
     status: String,
     #[serde(default)]
+    horizonless: bool,
+    #[serde(default)]
     reason: Option<String>,
     #[serde(default)]
     solver: Option<String>,
@@ -82,6 +84,12 @@ fn check_status(p: &ScanPoint) -> Result<(), String> {
     };
     let reason = p.reason.is_some();
     let observables = p.observables.is_some();
+    if p.horizonless && p.status != "shadow" {
+        return Err(format!(
+            "status '{}' is marked horizonless (only a shadow is)",
+            p.status
+        ));
+    }
     match p.status.as_str() {
         "shadow" => {
             known_solver(&p.solver)?;
@@ -161,6 +169,7 @@ pub(crate) fn decode(
         index: stored.index,
         parameters: stored.parameters,
         status: stored.status,
+        horizonless: stored.horizonless,
         reason: stored.reason,
         solver: stored.solver,
         observables: stored.observables,

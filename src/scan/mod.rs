@@ -22,6 +22,7 @@
 //!     fixed: vec![],
 //!     inclination_deg: 17.0,
 //!     settings: Default::default(),
+//!     require_horizon: false,
 //! };
 //! let summary = run_scan(&request, &path, &|_, _| {}).unwrap();
 //! assert_eq!(summary.points.len(), 4);
@@ -36,11 +37,10 @@ pub mod lines;
 pub use header::FORMAT;
 
 use crate::error::MetricError;
-use crate::metric::Classification;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables, Quantity};
-use crate::shadow::{self, Observer, ShadowSettings, ShadowStatus};
+use crate::shadow::{self, Observer, PointShadow, ShadowSettings};
 use file::ScanFile;
 use header::Header;
 use rayon::prelude::*;
@@ -82,6 +82,10 @@ pub struct ScanRequest {
     pub fixed: Vec<(String, f64)>,
     pub inclination_deg: f64,
     pub settings: ShadowSettings,
+    /// Record every horizonless point as `no_horizon`. By default a horizonless object whose
+    /// photon sphere bounds capture by its centre is evaluated like a black hole and marked
+    /// `horizonless` ([`crate::shadow::solve_classified`], as in the bound engine).
+    pub require_horizon: bool,
 }
 
 /// One grid point.
@@ -93,6 +97,10 @@ pub struct ScanPoint {
     pub parameters: BTreeMap<String, f64>,
     /// `shadow`, `no_shadow`, `no_horizon` or `failed`.
     pub status: String,
+    /// A `shadow` of an object without a horizon (a photon sphere bounds capture by its
+    /// centre, e.g. a Janis–Newman–Winicour naked singularity with ν > 1/2).
+    #[serde(skip_serializing_if = "std::ops::Not::not", default)]
+    pub horizonless: bool,
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub reason: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none", default)]
@@ -281,6 +289,7 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
         index: index.to_vec(),
         parameters,
         status: "failed".into(),
+        horizonless: false,
         reason: None,
         solver: None,
         observables: None,
@@ -292,39 +301,50 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
             return point;
         }
     };
-    if let Classification::Horizonless = spacetime.classify() {
-        point.status = "no_horizon".into();
-        return point;
-    }
     let observer = Observer::distant(request.inclination_deg.to_radians());
-    // The observables need the curve only: the solvers' curve-only path skips the
-    // photon-ring exponents (the same curve).
-    match shadow::solve_curve(spacetime.as_ref(), &observer, &request.settings) {
-        Err(e) => point.reason = Some(e.to_string()),
-        Ok(r) => {
-            point.solver = Some(r.solver.to_string());
-            match (&r.status, &r.curve) {
-                (ShadowStatus::NoShadow { reason }, _) => {
-                    point.status = "no_shadow".into();
-                    point.reason = Some(reason.clone());
-                }
-                (ShadowStatus::Shadow, None) => {
-                    point.reason = Some("the solver reported a shadow without a curve".into())
-                }
-                (ShadowStatus::Shadow, Some(curve)) => match Observables::from_curve(
-                    curve,
-                    CentreChoice::Centroid,
-                    spacetime.outer_horizon(),
-                    r.photon_orbit_radii,
-                ) {
-                    Ok(o) => {
-                        point.status = "shadow".into();
-                        point.observables = serde_json::to_value(&o).ok();
-                    }
-                    Err(e) => point.reason = Some(e.to_string()),
-                },
-            }
+    let classified = shadow::solve_classified(
+        spacetime.as_ref(),
+        &observer,
+        &request.settings,
+        request.require_horizon,
+    );
+    let (result, horizonless) = match classified {
+        Err(e) => {
+            point.reason = Some(e.to_string());
+            return point;
         }
+        Ok(PointShadow::NoHorizon) => {
+            point.status = "no_horizon".into();
+            return point;
+        }
+        Ok(PointShadow::NoShadow { solver, reason }) => {
+            point.solver = Some(solver.into());
+            point.status = "no_shadow".into();
+            point.reason = Some(reason);
+            return point;
+        }
+        Ok(PointShadow::Shadow {
+            result,
+            horizonless,
+        }) => (result, horizonless),
+    };
+    point.solver = Some(result.solver.into());
+    let Some(curve) = &result.curve else {
+        point.reason = Some("the solver reported a shadow without a curve".into());
+        return point;
+    };
+    match Observables::from_curve(
+        curve,
+        CentreChoice::Centroid,
+        spacetime.outer_horizon(),
+        result.photon_orbit_radii,
+    ) {
+        Ok(o) => {
+            point.status = "shadow".into();
+            point.horizonless = horizonless;
+            point.observables = serde_json::to_value(&o).ok();
+        }
+        Err(e) => point.reason = Some(e.to_string()),
     }
     point
 }

@@ -36,6 +36,7 @@ fn builtin_solvers() -> Vec<&'static dyn ShadowSolver> {
     vec![&SphericalSolver, &SeparableSolver, raytrace]
 }
 
+use crate::metric::{Classification, Spacetime};
 use serde::Serialize;
 
 /// Settings shared by the solvers.
@@ -75,6 +76,37 @@ pub enum ShadowError {
     /// A numerical step failed to converge; the result is not returned.
     #[error("{0}")]
     NotConverged(String),
+}
+
+/// Outermost radius searched for singular surfaces, in M (or the observer's radius, if
+/// larger): beyond the photon region of any metric whose mass sets the scale.
+pub const EXTERIOR_CHECK_RADIUS: f64 = 1.0e3;
+
+/// `NoShadow` (from `solver`) when the metric is singular on a surface outside its outer
+/// horizon, or outside the central region of a horizonless metric, between it and the
+/// observer ([`crate::metric::exterior_singularity`]): the exterior is not a regular
+/// spacetime, so no shadow is computed. Every solver calls this first.
+pub(crate) fn singular_exterior(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    solver: &'static str,
+) -> Option<ShadowResult> {
+    let r_out = EXTERIOR_CHECK_RADIUS.max(observer.radius.unwrap_or(0.0));
+    let surface = crate::metric::exterior_singularity(spacetime, r_out)?;
+    Some(ShadowResult {
+        solver,
+        status: ShadowStatus::NoShadow {
+            reason: format!(
+                "{surface}; the exterior is not a regular spacetime, so there is no shadow \
+                 to compute"
+            ),
+        },
+        curve: None,
+        photon_orbit_radii: None,
+        photon_spheres: Vec::new(),
+        exponents: None,
+        diagnostics: Diagnostics::default(),
+    })
 }
 
 /// Why a solver cannot use a metric's declared structure: `undeclared` when the metric does
@@ -162,4 +194,76 @@ pub struct ShadowResult {
     /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
     pub diagnostics: Diagnostics,
+}
+
+/// A parameter point classified by whether it casts a shadow (issue 10, item 7): what the
+/// bound engine and scans record for it.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PointShadow {
+    /// No horizon, and no shadow that counts (or a horizon was required).
+    NoHorizon,
+    /// A horizon but no shadow: the solver's reason.
+    NoShadow {
+        /// The name of the solver that found no shadow.
+        solver: &'static str,
+        /// Its reason.
+        reason: String,
+    },
+    /// A shadow; `horizonless` when the object has no horizon and the spherical solver found
+    /// a photon sphere that bounds capture by its centre.
+    Shadow {
+        result: Box<ShadowResult>,
+        horizonless: bool,
+    },
+}
+
+/// Solve and classify a point by whether a shadow exists. A horizonless object counts (as
+/// `Shadow { horizonless: true }`) when the spherical solver finds a photon sphere bounding an
+/// absorbed centre: rays inside it end at the central singularity or pass a throat and do not
+/// return. The separable solver returns no shadow without a horizon, and the ray tracer's
+/// boundary is not counted then (only a solver whose
+/// [`ShadowSolver::bounds_capture_without_horizon`] holds, the spherical one, establishes that
+/// the curve is the edge of capture). With `require_horizon`, every horizonless point is
+/// `NoHorizon` without being solved.
+///
+/// For bounds and scans, which need the curve only: it runs [`solve_curve`], so the
+/// photon-ring exponents may be absent.
+///
+/// ```
+/// use umbral::metrics::Jnw;
+/// use umbral::shadow::{solve_classified, Observer, PointShadow, ShadowSettings};
+/// let jnw = Jnw::new(0.7).unwrap();
+/// let observer = Observer::distant(1.0);
+/// let settings = ShadowSettings::default();
+/// let counted = solve_classified(&jnw, &observer, &settings, false).unwrap();
+/// assert!(matches!(counted, PointShadow::Shadow { horizonless: true, .. }));
+/// let required = solve_classified(&jnw, &observer, &settings, true).unwrap();
+/// assert_eq!(required, PointShadow::NoHorizon);
+/// ```
+pub fn solve_classified(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+    require_horizon: bool,
+) -> Result<PointShadow, ShadowError> {
+    let horizon = matches!(spacetime.classify(), Classification::BlackHole { .. });
+    if !horizon && require_horizon {
+        return Ok(PointShadow::NoHorizon);
+    }
+    let solver = settings.solver.resolve(spacetime)?;
+    let result = solve_curve(spacetime, observer, settings)?;
+    Ok(match &result.status {
+        ShadowStatus::NoShadow { .. } if !horizon => PointShadow::NoHorizon,
+        ShadowStatus::NoShadow { reason } => PointShadow::NoShadow {
+            solver: result.solver,
+            reason: reason.clone(),
+        },
+        ShadowStatus::Shadow if !horizon && !solver.bounds_capture_without_horizon() => {
+            PointShadow::NoHorizon
+        }
+        ShadowStatus::Shadow => PointShadow::Shadow {
+            result: Box::new(result),
+            horizonless: !horizon,
+        },
+    })
 }

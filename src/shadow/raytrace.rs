@@ -184,6 +184,12 @@ pub struct RaytraceOptions {
     pub interior_scan_spacing: f64,
     /// See `interior_scan_spacing`.
     pub interior_scan_extent: f64,
+    /// Pointing offset (α₀, β₀) in M: the screen point (α, β) is the photon of Bardeen's
+    /// screen point (α + α₀, β + β₀), as for a camera pointed off the centre. The curve and
+    /// every screen point the tracer reports are in the offset screen's coordinates. Zero by
+    /// default; with it the screen centre need not lie inside the shadow, which exercises the
+    /// interior search on curves known exactly (tests/raytrace_photon_orbits.rs).
+    pub screen_offset: [f64; 2],
     /// Integrator tolerances and limits; the sign and size of `initial_step` are set per ray.
     pub integrator: IntegratorSettings,
 }
@@ -211,6 +217,7 @@ impl Default for RaytraceOptions {
             winding_ratio: 0.25,
             interior_scan_spacing: 0.05,
             interior_scan_extent: 15.0,
+            screen_offset: [0.0, 0.0],
             integrator: IntegratorSettings {
                 rtol: 1.0e-10,
                 atol: 1.0e-12,
@@ -490,6 +497,12 @@ impl<'a> Tracer<'a> {
                     .into(),
             ));
         }
+        if !options.screen_offset.iter().all(|x| x.is_finite()) {
+            return Err(ShadowError::BadRequest(format!(
+                "the screen offset must be finite, got {:?}",
+                options.screen_offset
+            )));
+        }
         let horizon = spacetime.outer_horizon();
         // Without a horizon: a metric regular at r = 0 with g_θθ > 0 there has a throat (or,
         // Kerr-like, a disk) at r = 0, through which rays pass to r < 0 and do not return:
@@ -554,6 +567,8 @@ impl<'a> Tracer<'a> {
     /// The phase-space start state of the backward ray through screen point (α, β).
     pub fn start_state(&self, alpha: f64, beta: f64) -> Result<PhaseState, RayFailure> {
         let no_data = RayFailure::NoStartData { alpha, beta };
+        let [alpha0, beta0] = self.options.screen_offset;
+        let (alpha, beta) = (alpha + alpha0, beta + beta0);
         let state = match self.observer.radius {
             None => self.distant_start(alpha, beta),
             Some(r_o) => {
@@ -1366,6 +1381,10 @@ pub fn solve_with(
     settings: &ShadowSettings,
     options: &RaytraceOptions,
 ) -> Result<ShadowResult, ShadowError> {
+    check_request(observer, settings)?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
+        return Ok(result);
+    }
     trace_curve(spacetime, observer, settings, options)?.into_result()
 }
 
@@ -1401,9 +1420,11 @@ pub fn trace_curve(
     let Some(interior) = find_interior(&tracer, &mut report) else {
         return finish(report);
     };
-    let mirror = spacetime.is_separable()
-        || (spacetime.is_equatorially_symmetric()
-            && (observer.inclination - FRAC_PI_2).abs() < 1e-12);
+    // The mirror line is β = 0 of Bardeen's screen: β = −β₀ here, used only when β₀ = 0.
+    let mirror = options.screen_offset[1] == 0.0
+        && (spacetime.is_separable()
+            || (spacetime.is_equatorially_symmetric()
+                && (observer.inclination - FRAC_PI_2).abs() < 1e-12));
     let Some((origin, scale)) = find_origin(&tracer, &mut report, interior, mirror, settings)
     else {
         return finish(report);
@@ -1495,7 +1516,7 @@ fn find_interior(tracer: &Tracer, report: &mut RaytraceReport) -> Option<[f64; 2
         RayFate::Escaped => {}
     }
     let spacetime = tracer.spacetime;
-    if spacetime.symmetry() == Symmetry::Spherical {
+    if spacetime.symmetry() == Symmetry::Spherical && tracer.options.screen_offset == [0.0, 0.0] {
         report.no_shadow = Some(
             "the ray through the screen centre escapes, and the shadow of a spherically \
              symmetric metric is centred there: no shadow"

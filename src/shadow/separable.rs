@@ -155,6 +155,9 @@ fn solve_with(
         why,
     })?;
     super::check_request(observer, settings)?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
+        return Ok(result);
+    }
     let problem = Problem::new(spacetime, observer, with_exponents)?;
     let mut result = problem.run(settings)?;
     result.diagnostics.wall_seconds = start.elapsed().as_secs_f64();

@@ -378,6 +378,12 @@ pub fn solve(
 ) -> Result<ShadowResult, ShadowError> {
     let start = Instant::now();
     super::check_request(observer, settings)?;
+    spacetime
+        .spherical_jet(R_FAR)
+        .map_err(|e| not_spherical(spacetime, e))?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
+        return Ok(result);
+    }
     let analysis = photon_sphere_analysis(spacetime)?;
     let diagnostics = |start: Instant| Diagnostics {
         star_shaped: true,

@@ -73,6 +73,7 @@ pub fn scan_request() -> ScanRequest {
         fixed: vec![],
         inclination_deg: 30.0,
         settings: Default::default(),
+        require_horizon: false,
     }
 }
 
