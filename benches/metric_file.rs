@@ -69,7 +69,7 @@ fn raytrace_case() -> (Observer, ShadowSettings) {
     let settings = ShadowSettings {
         points: 16,
         tolerance: 1e-8,
-        solver: SolverChoice::Raytrace,
+        solver: solver("raytrace"),
     };
     (observer, settings)
 }
@@ -129,3 +129,8 @@ criterion_group! {
     targets = bench_gradient, bench_raytrace
 }
 criterion_main!(benches);
+
+/// A registered solver by name.
+fn solver(name: &str) -> SolverChoice {
+    name.parse().expect("a registered solver")
+}

@@ -17,7 +17,7 @@ fn case() -> (Kerr, Observer, ShadowSettings) {
     let settings = ShadowSettings {
         points: 64,
         tolerance: 1e-8,
-        solver: SolverChoice::Raytrace,
+        solver: solver("raytrace"),
     };
     (kerr, observer, settings)
 }
@@ -81,3 +81,8 @@ fn bench_raytrace(c: &mut Criterion) {
 
 criterion_group!(benches, bench_raytrace);
 criterion_main!(benches);
+
+/// A registered solver by name.
+fn solver(name: &str) -> SolverChoice {
+    name.parse().expect("a registered solver")
+}

@@ -69,7 +69,9 @@ pub mod prelude {
         build_metric, builtin_metrics, Kerr, KerrNewman, MetricSource, ReissnerNordstrom,
         Schwarzschild,
     };
+    pub use crate::observables::{shadow, Observables, Quantity, Shadow, ShadowRequest};
     pub use crate::scalar::DualScalar;
+    pub use crate::shadow::ShadowSolver;
 }
 
 /// The project's conventions (docs/conventions.md); its Rust example is compiled as a doctest.

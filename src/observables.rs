@@ -19,9 +19,12 @@
 // `!(x > 0.0)` is used on purpose: it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+use crate::metric::Spacetime;
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
 // Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
-use crate::shadow::CriticalCurve;
+use crate::shadow::{
+    CriticalCurve, Observer, ShadowError, ShadowResult, ShadowSettings, ShadowStatus,
+};
 use compensated_summation::KahanBabuskaNeumaier as Compensated;
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
@@ -76,6 +79,9 @@ pub enum ObservablesError {
     /// A Newton refinement failed.
     #[error("{0}")]
     NotConverged(String),
+    /// The solver found no critical curve (the reason), so there is nothing to measure.
+    #[error("no shadow: {0}")]
+    NoShadow(String),
 }
 
 /// Observables of one critical curve (lengths in M, screen coordinates (α, β)).
@@ -127,6 +133,132 @@ pub struct Observables {
     pub horizon_radius: Option<f64>,
     /// Passed through from the solver.
     pub photon_orbit_radii: Option<[f64; 2]>,
+}
+
+/// Declares [`Quantity`]: one line per numeric field of [`Observables`] (variant, field, the
+/// label the command line prints, the unit), and from it the names, labels, units and values.
+macro_rules! quantities {
+    ($($variant:ident => $field:ident, $label:literal, $unit:literal;)*) => {
+        /// A numeric observable of a critical curve, by name: the field of [`Observables`] it
+        /// reads. Names are the field names (`mean_radius`), the same in checks files, scan
+        /// lines and JSON output.
+        ///
+        /// ```
+        /// use umbral::observables::Quantity;
+        ///
+        /// let q: Quantity = "mean_radius".parse().unwrap();
+        /// assert_eq!(q, Quantity::MeanRadius);
+        /// assert_eq!(q.to_string(), "mean_radius");
+        /// assert!(Quantity::names().contains(&"hioki_maeda_distortion"));
+        /// assert!("radius".parse::<Quantity>().is_err());
+        /// ```
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+        pub enum Quantity {
+            $(
+                #[doc = $label]
+                $variant,
+            )*
+        }
+
+        impl Quantity {
+            /// Every quantity, in the order of the fields of [`Observables`].
+            pub const ALL: &'static [Quantity] = &[$(Quantity::$variant),*];
+
+            /// The name: the field of [`Observables`].
+            pub fn name(self) -> &'static str {
+                match self {
+                    $(Quantity::$variant => stringify!($field),)*
+                }
+            }
+
+            /// What the command line prints beside the value.
+            pub fn label(self) -> &'static str {
+                match self {
+                    $(Quantity::$variant => $label,)*
+                }
+            }
+
+            /// The unit: `M`, `M^2` or empty for a pure number.
+            pub fn unit(self) -> &'static str {
+                match self {
+                    $(Quantity::$variant => $unit,)*
+                }
+            }
+
+            /// Its value in a set of observables.
+            pub fn of(self, observables: &Observables) -> f64 {
+                match self {
+                    $(Quantity::$variant => observables.$field,)*
+                }
+            }
+        }
+    };
+}
+
+quantities! {
+    CentreAlpha => centre_alpha, "centre (alpha)", "M";
+    CentreBeta => centre_beta, "centre (beta)", "M";
+    CentroidOffset => centroid_offset, "centroid offset (alpha)", "M";
+    CentroidOffsetBeta => centroid_offset_beta, "centroid offset (beta)", "M";
+    MidpointOffset => midpoint_offset, "midpoint offset (alpha)", "M";
+    MidpointOffsetBeta => midpoint_offset_beta, "midpoint offset (beta)", "M";
+    MeanRadius => mean_radius, "mean radius", "M";
+    Area => area, "area", "M^2";
+    AreaRadius => area_radius, "area radius", "M";
+    CircularityDeviation => circularity_deviation, "circularity deviation", "";
+    Width => width, "width", "M";
+    Height => height, "height", "M";
+    AxisRatio => axis_ratio, "axis ratio", "";
+    AlphaMin => alpha_min, "alpha min", "M";
+    AlphaMax => alpha_max, "alpha max", "M";
+    BetaMin => beta_min, "beta min", "M";
+    BetaMax => beta_max, "beta max", "M";
+    HiokiMaedaRadius => hioki_maeda_radius, "Hioki-Maeda radius", "M";
+    HiokiMaedaDistortion => hioki_maeda_distortion, "Hioki-Maeda distortion", "";
+    FractionalDeviationMean => fractional_deviation_mean, "fractional deviation (mean)", "";
+    FractionalDeviationArea => fractional_deviation_area, "fractional deviation (area)", "";
+}
+
+impl Quantity {
+    /// Every name, in the order of [`Quantity::ALL`].
+    pub fn names() -> Vec<&'static str> {
+        Quantity::ALL.iter().map(|q| q.name()).collect()
+    }
+}
+
+/// A name that is not a [`Quantity`].
+#[derive(Debug, Clone, PartialEq, Eq, thiserror::Error)]
+#[error("unknown observable '{0}' (known: {known})", known = Quantity::names().join(", "))]
+pub struct UnknownQuantity(pub String);
+
+impl std::str::FromStr for Quantity {
+    type Err = UnknownQuantity;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        Quantity::ALL
+            .iter()
+            .copied()
+            .find(|q| q.name() == s)
+            .ok_or_else(|| UnknownQuantity(s.to_string()))
+    }
+}
+
+impl std::fmt::Display for Quantity {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl Serialize for Quantity {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
+    }
+}
+
+impl Observables {
+    /// The value of one quantity (the same as reading its field).
+    pub fn get(&self, quantity: Quantity) -> f64 {
+        quantity.of(self)
+    }
 }
 
 /// The extreme point of the curve in a screen direction.
@@ -523,4 +655,97 @@ impl Observables {
             photon_orbit_radii,
         })
     }
+}
+
+/// One shadow to compute: who looks, how the curve is solved, and the centre observables are
+/// measured about.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let request = ShadowRequest::distant(30f64.to_radians()).with_solver("raytrace").unwrap();
+/// assert_eq!(request.settings.solver.name(), "raytrace");
+/// assert!(ShadowRequest::distant(1.0).with_solver("no-such-solver").is_err());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ShadowRequest {
+    /// The observer (distant or at a finite radius).
+    pub observer: Observer,
+    /// Points, boundary tolerance and solver.
+    pub settings: ShadowSettings,
+    /// The centre radii are measured about.
+    pub centre: CentreChoice,
+}
+
+impl ShadowRequest {
+    /// A distant observer at `inclination` (radians from the spin axis), the default settings
+    /// (256 points, 1e-8 M, `auto` solver) and the area centroid.
+    pub fn distant(inclination: f64) -> Self {
+        ShadowRequest {
+            observer: Observer::distant(inclination),
+            settings: ShadowSettings::default(),
+            centre: CentreChoice::Centroid,
+        }
+    }
+
+    /// The same request with the solver of this name (`auto` or a registered one).
+    pub fn with_solver(mut self, name: &str) -> Result<Self, ShadowError> {
+        self.settings.solver = name.parse()?;
+        Ok(self)
+    }
+}
+
+/// A solved shadow: the solver's result and the observables of its curve.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Reissner–Nordström has photon spheres r = (3 ± √(9 − 8q²))/2 only for q² ≤ 9/8: beyond,
+/// // no shadow, and the observables say why.
+/// let rn = ReissnerNordstrom::new(1.2).unwrap();
+/// let seen = shadow(&rn, &ShadowRequest::distant(1.0)).unwrap();
+/// assert!(seen.observables.unwrap_err().to_string().contains("no photon sphere"));
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub struct Shadow {
+    /// Everything the solver returned (curve, exponents, diagnostics).
+    pub result: ShadowResult,
+    /// The observables, or why there are none (no shadow, or a curve they cannot be read from).
+    pub observables: Result<Observables, ObservablesError>,
+}
+
+/// Solve a metric's shadow and measure it: the entry point for a program.
+///
+/// Errors are those of [`crate::shadow::solve`] (a bad request, a solver that does not apply,
+/// no convergence); a metric without a shadow is a result, with `observables` saying why.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let kerr = Kerr::new(0.9).unwrap();
+/// let seen = shadow(&kerr, &ShadowRequest::distant(60f64.to_radians())).unwrap();
+/// println!("mean radius {} M", seen.observables.unwrap().get(Quantity::MeanRadius));
+///
+/// // a = 0: the circle of radius 3√3 (Synge 1966).
+/// let circle = shadow(&Schwarzschild, &ShadowRequest::distant(1.0)).unwrap();
+/// assert!((circle.observables.unwrap().mean_radius - 27f64.sqrt()).abs() < 1e-12);
+/// ```
+pub fn shadow(spacetime: &dyn Spacetime, request: &ShadowRequest) -> Result<Shadow, ShadowError> {
+    let result = crate::shadow::solve(spacetime, &request.observer, &request.settings)?;
+    let observables = match (&result.status, &result.curve) {
+        (ShadowStatus::NoShadow { reason }, _) => Err(ObservablesError::NoShadow(reason.clone())),
+        (ShadowStatus::Shadow, None) => Err(ObservablesError::NoShadow(
+            "the solver reported a shadow without a curve".into(),
+        )),
+        (ShadowStatus::Shadow, Some(curve)) => Observables::from_curve(
+            curve,
+            request.centre,
+            spacetime.outer_horizon(),
+            result.photon_orbit_radii,
+        ),
+    };
+    Ok(Shadow {
+        result,
+        observables,
+    })
 }

@@ -125,18 +125,13 @@ fn raytrace_rotating_hayward_without_horizon_is_no_shadow() {
     let m = build("rotating-hayward", &[("a", 0.9), ("l", 0.3)]);
     assert!(m.outer_horizon().is_none());
     let observer = Observer::distant(60f64.to_radians());
-    let traced = solve(m.as_ref(), &observer, &settings(16, SolverChoice::Raytrace)).unwrap();
+    let traced = solve(m.as_ref(), &observer, &settings(16, solver("raytrace"))).unwrap();
     let reason = no_shadow_reason(&traced);
     assert!(
         reason.contains("not formed by photon orbits") && reason.contains("singularity"),
         "{reason}"
     );
-    let exact = solve(
-        m.as_ref(),
-        &observer,
-        &settings(16, SolverChoice::Separable),
-    )
-    .unwrap();
+    let exact = solve(m.as_ref(), &observer, &settings(16, solver("separable"))).unwrap();
     no_shadow_reason(&exact);
 }
 
@@ -148,9 +143,9 @@ fn raytrace_rotating_hayward_without_horizon_is_no_shadow() {
 fn raytrace_reissner_nordstrom_q1_06_is_no_shadow() {
     let rn = ReissnerNordstrom::new(1.06).unwrap();
     let observer = Observer::distant(60f64.to_radians());
-    let traced = solve(&rn, &observer, &settings(8, SolverChoice::Raytrace)).unwrap();
+    let traced = solve(&rn, &observer, &settings(8, solver("raytrace"))).unwrap();
     assert!(no_shadow_reason(&traced).contains("not formed by photon orbits"));
-    let exact = solve(&rn, &observer, &settings(8, SolverChoice::Spherical)).unwrap();
+    let exact = solve(&rn, &observer, &settings(8, solver("spherical"))).unwrap();
     no_shadow_reason(&exact);
 }
 
@@ -165,7 +160,7 @@ fn raytrace_rotating_metric_file_without_horizon_is_no_shadow() {
         .unwrap();
     assert!(file.outer_horizon().is_none());
     let observer = Observer::distant(60f64.to_radians());
-    let traced = solve(&file, &observer, &settings(16, SolverChoice::Raytrace)).unwrap();
+    let traced = solve(&file, &observer, &settings(16, solver("raytrace"))).unwrap();
     let reason = no_shadow_reason(&traced);
     assert!(
         reason.contains("outline of the central singularity"),
@@ -188,7 +183,7 @@ fn raytrace_jnw_nu_0_6_keeps_its_shadow() {
             let b_c = (r * r * (1.0 - b / r).powf(1.0 - 2.0 * nu)).sqrt();
             let jnw = Jnw::new(nu).unwrap();
             let observer = Observer::distant(60f64.to_radians());
-            let traced = solve(&jnw, &observer, &settings(8, SolverChoice::Raytrace)).unwrap();
+            let traced = solve(&jnw, &observer, &settings(8, solver("raytrace"))).unwrap();
             (nu, b_c, traced)
         })
         .collect();
@@ -206,7 +201,7 @@ fn raytrace_jnw_nu_0_6_keeps_its_shadow() {
         let spherical = solve(
             &Jnw::new(nu).unwrap(),
             &Observer::distant(1.0),
-            &settings(8, SolverChoice::Spherical),
+            &settings(8, solver("spherical")),
         )
         .unwrap();
         let b_spherical = spherical.curve.unwrap().radii[0];
@@ -224,7 +219,7 @@ fn raytrace_simpson_visser_throat_photon_sphere_is_a_shadow() {
     let b_c = (l * l * l / (l - 2.0)).sqrt();
     let sv = build("simpson-visser", &[("l", l)]);
     let observer = Observer::distant(60f64.to_radians());
-    let traced = solve(sv.as_ref(), &observer, &settings(8, SolverChoice::Raytrace)).unwrap();
+    let traced = solve(sv.as_ref(), &observer, &settings(8, solver("raytrace"))).unwrap();
     assert_eq!(traced.status, ShadowStatus::Shadow);
     for r in &traced.curve.unwrap().radii {
         assert!((r - b_c).abs() < 1.2e-8, "{r} vs {b_c}");
@@ -244,7 +239,7 @@ fn raytrace_simpson_visser_throat_photon_sphere_is_a_shadow() {
 fn raytrace_johannsen_a0_9_alpha13_m2_95_searches_from_inside_the_shadow() {
     let m = build("johannsen", &[("a", 0.9), ("alpha13", -2.95)]);
     let observer = Observer::distant(60f64.to_radians());
-    for solver in [SolverChoice::Separable, SolverChoice::Raytrace] {
+    for solver in [solver("separable"), solver("raytrace")] {
         let result = solve(m.as_ref(), &observer, &settings(16, solver)).unwrap();
         let why = no_shadow_reason(&result);
         assert!(why.contains("singular at r = 1.5757"), "{why}");
@@ -255,7 +250,7 @@ fn raytrace_johannsen_a0_9_alpha13_m2_95_searches_from_inside_the_shadow() {
     let report = raytrace::trace_curve(
         m.as_ref(),
         &observer,
-        &settings(16, SolverChoice::Raytrace),
+        &settings(16, solver("raytrace")),
         &options,
     )
     .unwrap();
@@ -296,12 +291,7 @@ fn raytrace_kerr_a0_9_screen_centre_outside_the_shadow_matches_the_separable_cur
     let kerr = build("kerr", &[("a", 0.9)]);
     let observer = Observer::distant(60f64.to_radians());
     let offset = 8.0;
-    let exact = solve(
-        kerr.as_ref(),
-        &observer,
-        &settings(16, SolverChoice::Separable),
-    )
-    .unwrap();
+    let exact = solve(kerr.as_ref(), &observer, &settings(16, solver("separable"))).unwrap();
     let exact_curve = exact.curve.as_ref().unwrap();
     let (alpha, _) = exact_curve.alpha_beta();
     let right = alpha.iter().cloned().fold(f64::NEG_INFINITY, f64::max);
@@ -318,7 +308,7 @@ fn raytrace_kerr_a0_9_screen_centre_outside_the_shadow_matches_the_separable_cur
     let traced = raytrace::solve_with(
         kerr.as_ref(),
         &observer,
-        &settings(16, SolverChoice::Raytrace),
+        &settings(16, solver("raytrace")),
         &options,
     )
     .unwrap();
@@ -362,4 +352,9 @@ fn raytrace_kerr_a0_9_screen_centre_outside_the_shadow_matches_the_separable_cur
         "off-centre Kerr a = 0.9 at 60 deg: search from alpha = {start_alpha} (offset screen), \
          largest radius difference {worst:.2e} M"
     );
+}
+
+/// A registered solver by name.
+fn solver(name: &str) -> SolverChoice {
+    name.parse().expect("a registered solver")
 }

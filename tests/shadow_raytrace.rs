@@ -505,11 +505,7 @@ fn tolerance_outside_the_physical_range_is_refused() {
     let kerr = Kerr::new(0.5).unwrap();
     let observer = Observer::distant(1.0);
     for tolerance in [1e10, 2e-3, 1e-13, 0.0, -1e-8, f64::NAN, f64::INFINITY] {
-        for solver in [
-            SolverChoice::Auto,
-            SolverChoice::Separable,
-            SolverChoice::Raytrace,
-        ] {
+        for solver in [SolverChoice::AUTO, solver("separable"), solver("raytrace")] {
             let request = ShadowSettings {
                 points: 8,
                 tolerance,
@@ -534,7 +530,7 @@ fn tolerance_outside_the_physical_range_is_refused() {
         let request = ShadowSettings {
             points: 8,
             tolerance,
-            solver: SolverChoice::Separable,
+            solver: solver("separable"),
         };
         assert!(umbral::shadow::solve(&kerr, &observer, &request).is_ok());
     }
@@ -672,4 +668,9 @@ fn raytrace_near_extremal_kerr_edge_on_matches_bardeen() {
     let dev = worst_deviation(&result, &exact);
     println!("a = 0.9999 edge-on: worst deviation {dev:.2e} M, {checks:?}");
     assert!(dev <= 1.2e-8, "{dev:e}");
+}
+
+/// A registered solver by name.
+fn solver(name: &str) -> SolverChoice {
+    name.parse().expect("a registered solver")
 }

@@ -54,8 +54,8 @@ use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
-use crate::observables::{CentreChoice, Observables};
-use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice, SolverKind};
+use crate::observables::{CentreChoice, Observables, Quantity};
+use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -76,6 +76,14 @@ impl SizeMeasure {
         match self {
             SizeMeasure::Mean => "mean",
             SizeMeasure::Area => "area",
+        }
+    }
+
+    /// The observable it reads.
+    pub fn quantity(&self) -> Quantity {
+        match self {
+            SizeMeasure::Mean => Quantity::MeanRadius,
+            SizeMeasure::Area => Quantity::AreaRadius,
         }
     }
 }
@@ -131,7 +139,7 @@ impl Default for BoundSettings {
             shadow: ShadowSettings {
                 points: 64,
                 tolerance: 1e-8,
-                solver: SolverChoice::Auto,
+                solver: SolverChoice::AUTO,
             },
             require_horizon: false,
         }
@@ -411,11 +419,7 @@ fn measure_curve(
         result.photon_orbit_radii,
     )
     .map_err(|e| e.to_string())?;
-    let size = match measure {
-        SizeMeasure::Mean => o.mean_radius,
-        SizeMeasure::Area => o.area_radius,
-    };
-    Ok((size, o.circularity_deviation))
+    Ok((o.get(measure.quantity()), o.circularity_deviation))
 }
 
 impl PointModel for Model<'_> {
@@ -460,12 +464,14 @@ impl PointModel for Model<'_> {
         };
         // Horizonless values count only through the spherical solver: elsewhere the horizon
         // still bounds what can be evaluated.
-        let spherical = match self.request.settings.shadow.solver {
-            SolverChoice::Auto => shadow::auto_solver(spacetime.as_ref()) == SolverKind::Spherical,
-            SolverChoice::Spherical => true,
-            SolverChoice::Separable | SolverChoice::Raytrace => false,
-        };
-        (spherical && !self.request.settings.require_horizon)
+        let capture = self
+            .request
+            .settings
+            .shadow
+            .solver
+            .resolve(spacetime.as_ref())
+            .is_ok_and(|s| s.bounds_capture_without_horizon());
+        (capture && !self.request.settings.require_horizon)
             || matches!(spacetime.classify(), Classification::BlackHole { .. })
     }
 }
@@ -771,11 +777,10 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
          not count a horizonless shadow)"
             .to_string()
     });
-    let solver = match s.shadow.solver {
-        SolverChoice::Auto => "auto (spherical, separable or raytrace by the metric's symmetry)",
-        SolverChoice::Spherical => "spherical",
-        SolverChoice::Separable => "separable",
-        SolverChoice::Raytrace => "raytrace",
+    let solver = if s.shadow.solver.is_auto() {
+        "auto (spherical, separable or raytrace by the metric's symmetry)"
+    } else {
+        s.shadow.solver.name()
     };
     a.push(format!(
         "solver: {solver} shadow solver, {} curve points, boundary tolerance {:e} M",

@@ -9,21 +9,13 @@ use std::collections::BTreeMap;
 use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::numfmt::Num;
-use umbral::observables::{CentreChoice, Observables};
+use umbral::observables::{CentreChoice, Observables, Quantity};
 use umbral::output::OutputTransaction;
 use umbral::shadow::observer::celestial_curve;
 use umbral::shadow::{
     self, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowSettings, ShadowStatus,
     SolverChoice,
 };
-
-#[derive(Debug, Clone, Copy, ValueEnum)]
-enum SolverArg {
-    Auto,
-    Spherical,
-    Separable,
-    Raytrace,
-}
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum CentreArg {
@@ -48,9 +40,9 @@ pub struct ShadowArgs {
     /// Number of curve points, uniform in screen polar angle.
     #[arg(long, default_value_t = 256)]
     points: usize,
-    /// Solver.
-    #[arg(long, value_enum, default_value = "auto")]
-    solver: SolverArg,
+    /// Solver: auto (the first that applies) or a registered solver's name.
+    #[arg(long, default_value = "auto", value_parser = clap::builder::PossibleValuesParser::new(SolverChoice::names()))]
+    solver: String,
     /// Boundary tolerance in M, from 1e-12 to 1e-3.
     #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
     tolerance: String,
@@ -154,7 +146,7 @@ pub fn shadow_report(
             .collect(),
         inclination_deg,
         observer_radius: observer.radius,
-        solver: result.solver.name(),
+        solver: result.solver,
         status,
         reason,
         observables,
@@ -202,19 +194,18 @@ fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), C
             Num(tolerance)
         )));
     }
-    if !(8..=shadow::MAX_POINTS).contains(&args.points) {
+    if shadow::check_points(args.points).is_err() {
         return Err(CliError::usage(format!(
-            "--points must lie between 8 and {}, got {}",
+            "--points must lie between {} and {}, got {}",
+            shadow::MIN_POINTS,
             shadow::MAX_POINTS,
             args.points
         )));
     }
-    let solver = match args.solver {
-        SolverArg::Auto => SolverChoice::Auto,
-        SolverArg::Spherical => SolverChoice::Spherical,
-        SolverArg::Separable => SolverChoice::Separable,
-        SolverArg::Raytrace => SolverChoice::Raytrace,
-    };
+    let solver: SolverChoice = args
+        .solver
+        .parse()
+        .map_err(|e: shadow::ShadowError| CliError::usage(format!("--solver: {e}")))?;
     Ok((
         inclination,
         observer,
@@ -265,34 +256,24 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
         outln!("  TOLERANCE NOT MET: {why}")?;
     }
     outln!("  centre: {}", o.centre.name())?;
-    row("mean radius", o.mean_radius, "M", true)?;
-    row("area radius", o.area_radius, "M", true)?;
+    let quantity = |q: Quantity| row(q.label(), o.get(q), q.unit(), q.unit() == "M");
+    quantity(Quantity::MeanRadius)?;
+    quantity(Quantity::AreaRadius)?;
     row("mean diameter", 2.0 * o.mean_radius, "M", true)?;
-    row("circularity deviation", o.circularity_deviation, "", false)?;
-    row("centroid offset (alpha)", o.centroid_offset, "M", true)?;
-    row("midpoint offset (alpha)", o.midpoint_offset, "M", true)?;
-    row("width", o.width, "M", true)?;
-    row("height", o.height, "M", true)?;
-    row("axis ratio", o.axis_ratio, "", false)?;
-    row("Hioki-Maeda radius", o.hioki_maeda_radius, "M", true)?;
-    row(
-        "Hioki-Maeda distortion",
-        o.hioki_maeda_distortion,
-        "",
-        false,
-    )?;
-    row(
-        "fractional deviation (mean)",
-        o.fractional_deviation_mean,
-        "",
-        false,
-    )?;
-    row(
-        "fractional deviation (area)",
-        o.fractional_deviation_area,
-        "",
-        false,
-    )?;
+    for q in [
+        Quantity::CircularityDeviation,
+        Quantity::CentroidOffset,
+        Quantity::MidpointOffset,
+        Quantity::Width,
+        Quantity::Height,
+        Quantity::AxisRatio,
+        Quantity::HiokiMaedaRadius,
+        Quantity::HiokiMaedaDistortion,
+        Quantity::FractionalDeviationMean,
+        Quantity::FractionalDeviationArea,
+    ] {
+        quantity(q)?;
+    }
     if let Some(h) = o.horizon_radius {
         row("horizon radius", h, "M", false)?;
     }

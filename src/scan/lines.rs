@@ -10,6 +10,7 @@
 //! the canonical JSON text.
 
 use super::{expected_parameters, ScanPoint, ScanRequest};
+use crate::observables::Quantity;
 use crate::run::RecordFormat;
 use serde::Deserialize;
 use serde_json::Value;
@@ -23,20 +24,13 @@ pub const MAX_LINE_BYTES: usize = 16 * 1024;
 /// Reasons longer than this are cut when a point is written.
 pub const MAX_REASON_CHARS: usize = 4000;
 
-/// Solver names a point may carry.
-const SOLVERS: [crate::shadow::SolverKind; 3] = [
-    crate::shadow::SolverKind::Spherical,
-    crate::shadow::SolverKind::Separable,
-    crate::shadow::SolverKind::Raytrace,
-];
-
 /// Observables a shadow point must carry as finite numbers (those the scan's plot and users
 /// read).
-const REQUIRED_OBSERVABLES: [&str; 4] = [
-    "mean_radius",
-    "area_radius",
-    "circularity_deviation",
-    "centroid_offset",
+const REQUIRED_OBSERVABLES: [Quantity; 4] = [
+    Quantity::MeanRadius,
+    Quantity::AreaRadius,
+    Quantity::CircularityDeviation,
+    Quantity::CentroidOffset,
 ];
 
 /// A point line as stored.
@@ -60,7 +54,7 @@ struct StoredPoint {
 /// What a status requires of the other fields.
 fn check_status(p: &ScanPoint) -> Result<(), String> {
     let known_solver = |s: &Option<String>| match s {
-        Some(s) if SOLVERS.iter().any(|k| k.name() == s) => Ok(()),
+        Some(s) if crate::shadow::find_solver(s).is_some() => Ok(()),
         Some(s) => Err(format!("unknown solver '{s}'")),
         None => Err(format!("status '{}' needs a solver", p.status)),
     };
@@ -112,7 +106,7 @@ fn check_observables(o: Option<&Value>) -> Result<(), String> {
         return Err("the observables are not a JSON object".into());
     };
     for key in REQUIRED_OBSERVABLES {
-        match map.get(key).and_then(Value::as_f64) {
+        match map.get(key.name()).and_then(Value::as_f64) {
             Some(x) if x.is_finite() => {}
             _ => {
                 return Err(format!(

@@ -41,7 +41,7 @@ pub use header::FORMAT;
 use crate::error::MetricError;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
-use crate::observables::{CentreChoice, Observables};
+use crate::observables::{CentreChoice, Observables, Quantity};
 use crate::run::{
     CheckpointError, Controls, Executor, JsonlCheckpoint, MetricHashError, ProgressFn, RunError,
     Selection, WorkList,
@@ -113,9 +113,14 @@ pub struct ScanPoint {
 }
 
 impl ScanPoint {
-    /// A number from the observables (e.g. `mean_radius`).
+    /// A number from the observables (e.g. `mean_radius`), as stored in the line.
     pub fn observable(&self, key: &str) -> Option<f64> {
         self.observables.as_ref()?.get(key)?.as_f64()
+    }
+
+    /// [`ScanPoint::observable`] by [`Quantity`].
+    pub fn quantity(&self, quantity: Quantity) -> Option<f64> {
+        self.observable(quantity.name())
     }
 }
 
@@ -310,7 +315,7 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
             return point;
         }
         Ok(PointShadow::NoShadow { solver, reason }) => {
-            point.solver = Some(solver.name().into());
+            point.solver = Some(solver.into());
             point.status = "no_shadow".into();
             point.reason = Some(reason);
             return point;
@@ -320,7 +325,7 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
             horizonless,
         }) => (result, horizonless),
     };
-    point.solver = Some(result.solver.name().to_string());
+    point.solver = Some(result.solver.into());
     let Some(curve) = &result.curve else {
         point.reason = Some("the solver reported a shadow without a curve".into());
         return point;

@@ -1,4 +1,5 @@
-//! Critical curves ("shadows"): three solvers behind one entry point.
+//! Critical curves ("shadows"): solvers behind one entry point ([`solve`]); the crate's
+//! three are registered in [`solver`], where a program can add its own.
 //!
 //! * [`spherical`]: exact, for metrics that declare spherical symmetry: the photon sphere is
 //!   the minimum of C/A outside the horizon and b_c = √(C/A) there (Synge 1966).
@@ -14,71 +15,29 @@ pub mod exponents;
 pub mod observer;
 pub mod raytrace;
 pub mod separable;
+pub mod solver;
 pub mod spherical;
 
 pub use curve::CriticalCurve;
 pub use observer::Observer;
+pub use raytrace::RaytraceSolver;
+pub use separable::SeparableSolver;
+pub use solver::{
+    auto_solver, check_points, check_request, check_tolerance, find_solver, register_solver, solve,
+    solve_curve, solve_with, solver_names, ShadowSolver, SolverChoice, MAX_POINTS, MIN_POINTS,
+    TOLERANCE_RANGE,
+};
+pub use spherical::SphericalSolver;
 
-use crate::metric::{Classification, Spacetime, Symmetry};
-use crate::numfmt::Num;
+/// The crate's solvers, in the order `auto` tries them: the most exact first, the ray tracer
+/// (which applies to every metric) last. Solvers a program registers come after these.
+fn builtin_solvers() -> Vec<&'static dyn ShadowSolver> {
+    let raytrace: &'static RaytraceSolver = Box::leak(Box::default());
+    vec![&SphericalSolver, &SeparableSolver, raytrace]
+}
+
+use crate::metric::{Classification, Spacetime};
 use serde::Serialize;
-
-/// Most curve points a request may ask for (about 8 MB of radii per curve).
-pub const MAX_POINTS: usize = 1 << 20;
-
-/// The range of boundary tolerances a request may ask for, in M. Below 1e-12 M the curve
-/// radii (about 5 M) are within a few thousand units in the last place of double precision,
-/// where the separable solver's root finding (placing points to 1% of the tolerance) and the
-/// curve's own arithmetic stop being meaningful; above 1e-3 M the boundary error would reach
-/// a few parts in 10⁴ of the shadow size, the level of the deviations from Kerr the
-/// observables are used to test.
-pub const TOLERANCE_RANGE: [f64; 2] = [1e-12, 1e-3];
-
-/// Check a boundary tolerance against [`TOLERANCE_RANGE`]: the one place it is checked.
-pub fn check_tolerance(tolerance: f64) -> Result<(), ShadowError> {
-    let [lo, hi] = TOLERANCE_RANGE;
-    if (lo..=hi).contains(&tolerance) {
-        Ok(())
-    } else {
-        Err(ShadowError::BadRequest(format!(
-            "the boundary tolerance must lie between {} and {} M, got {}",
-            Num(lo),
-            Num(hi),
-            Num(tolerance)
-        )))
-    }
-}
-
-/// Which solver to use.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum SolverChoice {
-    /// The most exact solver that applies: spherical, then separable, then raytrace.
-    Auto,
-    Spherical,
-    Separable,
-    Raytrace,
-}
-
-/// The solver that produced a result.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum SolverKind {
-    Spherical,
-    Separable,
-    Raytrace,
-}
-
-impl SolverKind {
-    /// Lower-case name as on the command line.
-    pub fn name(&self) -> &'static str {
-        match self {
-            SolverKind::Spherical => "spherical",
-            SolverKind::Separable => "separable",
-            SolverKind::Raytrace => "raytrace",
-        }
-    }
-}
 
 /// Settings shared by the solvers.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -87,7 +46,7 @@ pub struct ShadowSettings {
     pub points: usize,
     /// Boundary tolerance in M (raytrace bisection; separable root finding).
     pub tolerance: f64,
-    /// Solver choice.
+    /// Solver choice: `auto` or a registered solver's name.
     pub solver: SolverChoice,
 }
 
@@ -96,7 +55,7 @@ impl Default for ShadowSettings {
         ShadowSettings {
             points: 256,
             tolerance: 1e-8,
-            solver: SolverChoice::Auto,
+            solver: SolverChoice::AUTO,
         }
     }
 }
@@ -130,7 +89,7 @@ pub const EXTERIOR_CHECK_RADIUS: f64 = 1.0e3;
 pub(crate) fn singular_exterior(
     spacetime: &dyn Spacetime,
     observer: &Observer,
-    solver: SolverKind,
+    solver: &'static str,
 ) -> Option<ShadowResult> {
     let r_out = EXTERIOR_CHECK_RADIUS.max(observer.radius.unwrap_or(0.0));
     let surface = crate::metric::exterior_singularity(spacetime, r_out)?;
@@ -162,17 +121,6 @@ pub(crate) fn structure_why(e: crate::error::MetricError, undeclared: &str) -> S
     match e {
         crate::error::MetricError::NotDeclared { .. } => undeclared.to_string(),
         other => other.to_string(),
-    }
-}
-
-/// Pick the solver `auto` would use for this metric.
-pub fn auto_solver(spacetime: &dyn Spacetime) -> SolverKind {
-    if spacetime.symmetry() == Symmetry::Spherical {
-        SolverKind::Spherical
-    } else if spacetime.is_separable() {
-        SolverKind::Separable
-    } else {
-        SolverKind::Raytrace
     }
 }
 
@@ -239,7 +187,8 @@ pub struct Diagnostics {
 /// What a solver returns.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ShadowResult {
-    pub solver: SolverKind,
+    /// The name of the solver that produced it.
+    pub solver: &'static str,
     pub status: ShadowStatus,
     /// The critical curve, when there is a shadow.
     pub curve: Option<CriticalCurve>,
@@ -253,55 +202,6 @@ pub struct ShadowResult {
     pub diagnostics: Diagnostics,
 }
 
-/// Solve for the critical curve with the chosen solver (`Auto`: the most exact that applies).
-///
-/// ```no_run
-/// use umbral::prelude::*;
-/// use umbral::shadow::{solve, Observer, ShadowSettings};
-/// let kerr = Kerr::new(0.9).unwrap();
-/// let result = solve(&kerr, &Observer::distant(60f64.to_radians()), &ShadowSettings::default());
-/// ```
-pub fn solve(
-    spacetime: &dyn Spacetime,
-    observer: &Observer,
-    settings: &ShadowSettings,
-) -> Result<ShadowResult, ShadowError> {
-    if !(observer.inclination.is_finite()
-        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
-    {
-        return Err(ShadowError::BadRequest(format!(
-            "inclination must lie in [0, pi] radians, got {}",
-            Num(observer.inclination)
-        )));
-    }
-    if let Some(r) = observer.radius {
-        if !(r.is_finite() && r > 0.0) {
-            return Err(ShadowError::BadRequest(format!(
-                "observer radius must be a positive finite number, got {}",
-                Num(r)
-            )));
-        }
-    }
-    check_tolerance(settings.tolerance)?;
-    if !(8..=MAX_POINTS).contains(&settings.points) {
-        return Err(ShadowError::BadRequest(format!(
-            "need between 8 and {MAX_POINTS} points, got {} points",
-            settings.points
-        )));
-    }
-    let kind = match settings.solver {
-        SolverChoice::Auto => auto_solver(spacetime),
-        SolverChoice::Spherical => SolverKind::Spherical,
-        SolverChoice::Separable => SolverKind::Separable,
-        SolverChoice::Raytrace => SolverKind::Raytrace,
-    };
-    match kind {
-        SolverKind::Spherical => spherical::solve(spacetime, observer, settings),
-        SolverKind::Separable => separable::solve(spacetime, observer, settings),
-        SolverKind::Raytrace => raytrace::solve(spacetime, observer, settings),
-    }
-}
-
 /// A parameter point classified by whether it casts a shadow (issue 10, item 7): what the
 /// bound engine and scans record for it.
 #[derive(Debug, Clone, PartialEq)]
@@ -309,7 +209,12 @@ pub enum PointShadow {
     /// No horizon, and no shadow that counts (or a horizon was required).
     NoHorizon,
     /// A horizon but no shadow: the solver's reason.
-    NoShadow { solver: SolverKind, reason: String },
+    NoShadow {
+        /// The name of the solver that found no shadow.
+        solver: &'static str,
+        /// Its reason.
+        reason: String,
+    },
     /// A shadow; `horizonless` when the object has no horizon and the spherical solver found
     /// a photon sphere that bounds capture by its centre.
     Shadow {
@@ -322,9 +227,13 @@ pub enum PointShadow {
 /// `Shadow { horizonless: true }`) when the spherical solver finds a photon sphere bounding an
 /// absorbed centre: rays inside it end at the central singularity or pass a throat and do not
 /// return. The separable solver returns no shadow without a horizon, and the ray tracer's
-/// boundary is not counted then (only the spherical solver establishes that the curve is the
-/// edge of capture). With `require_horizon`, every horizonless point is `NoHorizon` without
-/// being solved.
+/// boundary is not counted then (only a solver whose
+/// [`ShadowSolver::bounds_capture_without_horizon`] holds, the spherical one, establishes that
+/// the curve is the edge of capture). With `require_horizon`, every horizonless point is
+/// `NoHorizon` without being solved.
+///
+/// For bounds and scans, which need the curve only: it runs [`solve_curve`], so the
+/// photon-ring exponents may be absent.
 ///
 /// ```
 /// use umbral::metrics::Jnw;
@@ -347,14 +256,15 @@ pub fn solve_classified(
     if !horizon && require_horizon {
         return Ok(PointShadow::NoHorizon);
     }
-    let result = solve(spacetime, observer, settings)?;
+    let solver = settings.solver.resolve(spacetime)?;
+    let result = solve_curve(spacetime, observer, settings)?;
     Ok(match &result.status {
         ShadowStatus::NoShadow { .. } if !horizon => PointShadow::NoHorizon,
         ShadowStatus::NoShadow { reason } => PointShadow::NoShadow {
             solver: result.solver,
             reason: reason.clone(),
         },
-        ShadowStatus::Shadow if !horizon && result.solver != SolverKind::Spherical => {
+        ShadowStatus::Shadow if !horizon && !solver.bounds_capture_without_horizon() => {
             PointShadow::NoHorizon
         }
         ShadowStatus::Shadow => PointShadow::Shadow {

@@ -88,7 +88,7 @@
 //! use umbral::metrics::Schwarzschild;
 //! use umbral::shadow::{raytrace, Observer, ShadowSettings};
 //!
-//! let settings = ShadowSettings { points: 4, tolerance: 1e-6, ..Default::default() };
+//! let settings = ShadowSettings { points: 8, tolerance: 1e-6, ..Default::default() };
 //! let result = raytrace::solve(&Schwarzschild, &Observer::distant(1.0), &settings).unwrap();
 //! let curve = result.curve.unwrap();
 //! // The Schwarzschild critical impact parameter 3√3 (Synge 1966).
@@ -99,8 +99,8 @@
 
 use super::observer::{celestial_from_screen, momentum_from_celestial};
 use super::{
-    check_tolerance, CriticalCurve, Diagnostics, Observer, ShadowError, ShadowResult,
-    ShadowSettings, ShadowStatus, SolverKind,
+    check_request, CriticalCurve, Diagnostics, Observer, ShadowError, ShadowResult, ShadowSettings,
+    ShadowStatus,
 };
 use crate::geodesic::{
     hamilton_rhs, integrate_with_norm, null_radial_momentum, Control, ErrorNorm,
@@ -113,6 +113,9 @@ use rayon::prelude::*;
 use serde::Serialize;
 use std::f64::consts::{FRAC_PI_2, PI, TAU};
 use std::time::Instant;
+
+/// The solver's name on the command line and in results.
+pub const NAME: &str = "raytrace";
 
 /// Tunable numerical choices of the ray tracer. `Default` is what [`solve`] uses.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
@@ -1205,7 +1208,7 @@ impl RaytraceReport {
     /// (without a horizon) its boundary is not formed by photon orbits.
     pub fn into_result(self) -> Result<ShadowResult, ShadowError> {
         let result = |status, curve, diagnostics| ShadowResult {
-            solver: SolverKind::Raytrace,
+            solver: NAME,
             status,
             curve,
             photon_orbit_radii: None,
@@ -1378,9 +1381,8 @@ pub fn solve_with(
     settings: &ShadowSettings,
     options: &RaytraceOptions,
 ) -> Result<ShadowResult, ShadowError> {
-    observer.validate()?;
-    check_tolerance(settings.tolerance)?;
-    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Raytrace) {
+    check_request(observer, settings)?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
         return Ok(result);
     }
     trace_curve(spacetime, observer, settings, options)?.into_result()
@@ -1394,13 +1396,7 @@ pub fn trace_curve(
     options: &RaytraceOptions,
 ) -> Result<RaytraceReport, ShadowError> {
     let start = Instant::now();
-    if settings.points < 4 {
-        return Err(ShadowError::BadRequest(format!(
-            "at least 4 curve points are needed, got {}",
-            settings.points
-        )));
-    }
-    check_tolerance(settings.tolerance)?;
+    check_request(observer, settings)?;
     let tracer = Tracer::new(spacetime, observer, options)?;
     let validator = tracer.validator()?;
     let mut report = RaytraceReport {
@@ -1747,4 +1743,31 @@ fn cross(a: &[f64; 3], b: &[f64; 3]) -> [f64; 3] {
         a[2] * b[0] - a[0] * b[2],
         a[0] * b[1] - a[1] * b[0],
     ]
+}
+
+/// The ray tracer (this module) with its numerical options: any metric.
+#[derive(Debug, Clone, Default)]
+pub struct RaytraceSolver {
+    /// Start radius, integrator and check settings.
+    pub options: RaytraceOptions,
+}
+
+impl super::ShadowSolver for RaytraceSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "any metric: backward null geodesics and bisection on capture"
+    }
+    fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
+        Ok(())
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve_with(spacetime, observer, settings, &self.options)
+    }
 }

@@ -71,13 +71,25 @@ use super::exponents::separable_gamma;
 use super::observer::{zamo_tetrad, Observer, Tetrad};
 use super::{
     structure_why, CriticalCurve, Diagnostics, RingExponents, ShadowError, ShadowResult,
-    ShadowSettings, ShadowStatus, SolverKind,
+    ShadowSettings, ShadowStatus,
 };
 use crate::geodesic::null_radial_momentum;
 use crate::metric::{PotentialJet, Spacetime};
 use crate::numerics::{brent_root, fallible_root as root, golden_max, parabolic_min};
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
+
+/// The solver's name on the command line and in results.
+pub const NAME: &str = "separable";
+
+/// Whether the separable solver applies: the metric provides separation data.
+pub fn applicability(spacetime: &dyn Spacetime) -> Result<(), String> {
+    if spacetime.is_separable() {
+        Ok(())
+    } else {
+        Err("the metric provides no separation data (radial and polar potentials)".into())
+    }
+}
 
 /// Below this sin θ_o a degenerate (spherically symmetric) metric's curve is the circle of
 /// the photon sphere, exactly.
@@ -137,27 +149,13 @@ fn solve_with(
     with_exponents: bool,
 ) -> Result<ShadowResult, ShadowError> {
     let start = std::time::Instant::now();
-    if !spacetime.is_separable() {
-        return Err(ShadowError::SolverNotApplicable {
-            solver: "separable",
-            metric: spacetime.info().name,
-            why: "the metric provides no separation data (radial and polar potentials)".into(),
-        });
-    }
-    observer.validate()?;
-    if settings.points < 4 {
-        return Err(ShadowError::BadRequest(format!(
-            "the curve needs at least 4 points, got {}",
-            settings.points
-        )));
-    }
-    if !(settings.tolerance.is_finite() && settings.tolerance > 0.0) {
-        return Err(ShadowError::BadRequest(format!(
-            "the tolerance must be a positive number, got {}",
-            settings.tolerance
-        )));
-    }
-    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Separable) {
+    applicability(spacetime).map_err(|why| ShadowError::SolverNotApplicable {
+        solver: NAME,
+        metric: spacetime.info().name,
+        why,
+    })?;
+    super::check_request(observer, settings)?;
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
         return Ok(result);
     }
     let problem = Problem::new(spacetime, observer, with_exponents)?;
@@ -255,7 +253,7 @@ fn not_converged(what: String) -> ShadowError {
 
 fn no_shadow(reason: String) -> ShadowResult {
     ShadowResult {
-        solver: SolverKind::Separable,
+        solver: NAME,
         status: ShadowStatus::NoShadow { reason },
         curve: None,
         photon_orbit_radii: None,
@@ -1141,7 +1139,7 @@ impl<'a> Problem<'a> {
             gamma_max: hi,
         });
         Ok(ShadowResult {
-            solver: SolverKind::Separable,
+            solver: NAME,
             status: ShadowStatus::Shadow,
             curve: Some(CriticalCurve {
                 origin: sampled.origin,
@@ -1157,5 +1155,38 @@ impl<'a> Problem<'a> {
                 ..Diagnostics::default()
             },
         })
+    }
+}
+
+/// The separable solver (this module): spherical photon orbits mapped to the screen
+/// (Bardeen 1973).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SeparableSolver;
+
+impl super::ShadowSolver for SeparableSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "exact up to root finding, for metrics with separation data (spherical photon orbits)"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        applicability(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve(spacetime, observer, settings)
+    }
+    fn solve_curve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve_curve(spacetime, observer, settings)
     }
 }

@@ -19,10 +19,10 @@
 use super::exponents::spherical_exponents;
 use super::{
     structure_why, CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult,
-    ShadowSettings, ShadowStatus, SolverKind,
+    ShadowSettings, ShadowStatus,
 };
 use crate::error::MetricError;
-use crate::metric::Spacetime;
+use crate::metric::{Spacetime, Symmetry};
 use crate::numerics::brent_root;
 use std::time::Instant;
 
@@ -34,8 +34,8 @@ const R_NEAR: f64 = 1.0e-6;
 const SCAN_POINTS: usize = 8000;
 /// The scan stops this far (relatively) outside a horizon, where C/A diverges.
 const HORIZON_MARGIN: f64 = 1.0e-9;
-/// Fewest curve points accepted.
-const MIN_POINTS: usize = 4;
+/// The solver's name on the command line and in results.
+pub const NAME: &str = "spherical";
 /// Closest relative approach to the inner boundary, r_s(1 + this).
 const APPROACH_NEAREST: f64 = 1.0e-14;
 /// Grid points per decade of r − r_s when approaching the inner boundary.
@@ -68,9 +68,19 @@ fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
 
 fn not_spherical(spacetime: &dyn Spacetime, e: MetricError) -> ShadowError {
     ShadowError::SolverNotApplicable {
-        solver: "spherical",
+        solver: NAME,
         metric: spacetime.info().name,
         why: structure_why(e, "the metric is not declared spherically symmetric"),
+    }
+}
+
+/// Whether the spherical solver applies: the metric declares spherical symmetry. (A declared
+/// structure whose hook returns nothing is the metric's error, reported by the solver.)
+pub fn applicability(spacetime: &dyn Spacetime) -> Result<(), String> {
+    if spacetime.symmetry() == Symmetry::Spherical {
+        Ok(())
+    } else {
+        Err("the metric is not declared spherically symmetric".into())
     }
 }
 
@@ -367,24 +377,11 @@ pub fn solve(
     settings: &ShadowSettings,
 ) -> Result<ShadowResult, ShadowError> {
     let start = Instant::now();
-    if !(observer.inclination.is_finite()
-        && (0.0..=std::f64::consts::PI).contains(&observer.inclination))
-    {
-        return Err(ShadowError::BadRequest(format!(
-            "inclination must lie in [0, pi] radians, got {}",
-            observer.inclination
-        )));
-    }
-    if settings.points < MIN_POINTS {
-        return Err(ShadowError::BadRequest(format!(
-            "need at least {MIN_POINTS} curve points, got {}",
-            settings.points
-        )));
-    }
+    super::check_request(observer, settings)?;
     spacetime
         .spherical_jet(R_FAR)
         .map_err(|e| not_spherical(spacetime, e))?;
-    if let Some(result) = super::singular_exterior(spacetime, observer, SolverKind::Spherical) {
+    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
         return Ok(result);
     }
     let analysis = photon_sphere_analysis(spacetime)?;
@@ -395,7 +392,7 @@ pub fn solve(
     };
     let Some(capture) = analysis.capture else {
         return Ok(ShadowResult {
-            solver: SolverKind::Spherical,
+            solver: NAME,
             status: ShadowStatus::NoShadow {
                 reason: analysis.no_shadow_reason.clone().unwrap_or_default(),
             },
@@ -424,7 +421,7 @@ pub fn solve(
         ),
     };
     Ok(ShadowResult {
-        solver: SolverKind::Spherical,
+        solver: NAME,
         status: ShadowStatus::Shadow,
         curve: Some(CriticalCurve {
             origin: [0.0, 0.0],
@@ -438,4 +435,31 @@ pub fn solve(
             ..diagnostics(start)
         },
     })
+}
+
+/// The exact spherical solver (this module): photon spheres of C/A (Synge 1966).
+#[derive(Debug, Clone, Copy, Default)]
+pub struct SphericalSolver;
+
+impl super::ShadowSolver for SphericalSolver {
+    fn name(&self) -> &'static str {
+        NAME
+    }
+    fn summary(&self) -> &'static str {
+        "exact, for metrics declared spherically symmetric (photon spheres of C/A)"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        applicability(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        solve(spacetime, observer, settings)
+    }
+    fn bounds_capture_without_horizon(&self) -> bool {
+        true
+    }
 }

@@ -1,7 +1,7 @@
 //! The quantities a check can pin, and how each is read from a solved case.
 //!
-//! Observables (the numeric fields of [`Observables`], by their field names) need a critical
-//! curve. The others come from the solver or the metric:
+//! Observables (every [`Quantity`]: the numeric fields of [`Observables`], by their field names)
+//! need a critical curve. The others come from the solver or the metric:
 //!
 //! * `horizon_radius`: [`Spacetime::outer_horizon`];
 //! * `photon_sphere_radius`, `critical_impact_parameter`: the photon sphere that bounds capture
@@ -12,33 +12,8 @@
 //!   photon-ring exponents (Johnson et al. 2020; Cardoso et al. 2009).
 
 use crate::metric::Spacetime;
-use crate::observables::Observables;
-use crate::shadow::{ShadowResult, ShadowStatus, SolverKind};
-
-/// Numeric fields of [`Observables`] a check can pin, by field name.
-pub const OBSERVABLE_QUANTITIES: &[&str] = &[
-    "centre_alpha",
-    "centre_beta",
-    "centroid_offset",
-    "centroid_offset_beta",
-    "midpoint_offset",
-    "midpoint_offset_beta",
-    "mean_radius",
-    "area",
-    "area_radius",
-    "circularity_deviation",
-    "width",
-    "height",
-    "axis_ratio",
-    "alpha_min",
-    "alpha_max",
-    "beta_min",
-    "beta_max",
-    "hioki_maeda_radius",
-    "hioki_maeda_distortion",
-    "fractional_deviation_mean",
-    "fractional_deviation_area",
-];
+use crate::observables::{Observables, Quantity};
+use crate::shadow::{spherical, ShadowResult, ShadowStatus};
 
 /// Quantities that come from the solver or the metric rather than from the curve.
 pub const SOLVER_QUANTITIES: &[&str] = &[
@@ -55,10 +30,10 @@ pub const SOLVER_QUANTITIES: &[&str] = &[
 
 /// Every quantity name, observables first.
 pub static QUANTITIES: std::sync::LazyLock<Vec<&'static str>> = std::sync::LazyLock::new(|| {
-    OBSERVABLE_QUANTITIES
+    Quantity::ALL
         .iter()
-        .chain(SOLVER_QUANTITIES)
-        .copied()
+        .map(|q| q.name())
+        .chain(SOLVER_QUANTITIES.iter().copied())
         .collect()
 });
 
@@ -77,7 +52,7 @@ pub struct Solved {
     /// The solver's result, or why it failed.
     pub result: Result<ShadowResult, String>,
     /// The observables of the curve, or why there are none.
-    pub observables: Result<serde_json::Value, String>,
+    pub observables: Result<Observables, String>,
 }
 
 impl Solved {
@@ -96,9 +71,6 @@ impl Solved {
                 (ShadowStatus::Shadow, Some(curve)) => {
                     Observables::from_curve(curve, centre, horizon, r.photon_orbit_radii)
                         .map_err(|e| format!("observables failed: {e}"))
-                        .and_then(|o| {
-                            serde_json::to_value(o).map_err(|e| format!("observables failed: {e}"))
-                        })
                 }
             },
         };
@@ -117,12 +89,14 @@ impl Solved {
 
     /// The value of a quantity, or why it is not available.
     pub fn quantity(&self, name: &str) -> Result<f64, String> {
-        if OBSERVABLE_QUANTITIES.contains(&name) {
+        if let Ok(quantity) = name.parse::<Quantity>() {
             let obs = self.observables.as_ref().map_err(Clone::clone)?;
-            return obs
-                .get(name)
-                .and_then(serde_json::Value::as_f64)
-                .ok_or_else(|| format!("the observables have no number '{name}'"));
+            let value = obs.get(quantity);
+            return if value.is_finite() {
+                Ok(value)
+            } else {
+                Err(format!("the observables have no finite number '{name}'"))
+            };
         }
         match name {
             "horizon_radius" => self
@@ -130,10 +104,10 @@ impl Solved {
                 .ok_or_else(|| "the metric has no horizon".to_string()),
             "photon_sphere_radius" | "critical_impact_parameter" => {
                 let r = self.solver_result()?;
-                if r.solver != SolverKind::Spherical {
+                if r.solver != spherical::NAME {
                     return Err(format!(
                         "{name} needs the spherical solver (this case used {})",
-                        r.solver.name()
+                        r.solver
                     ));
                 }
                 let radius = match (&r.status, r.photon_orbit_radii) {
@@ -156,10 +130,9 @@ impl Solved {
                 let r = self.solver_result()?;
                 let radii = r.photon_orbit_radii.ok_or_else(|| match &r.status {
                     ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
-                    ShadowStatus::Shadow => format!(
-                        "the {} solver does not report photon-orbit radii",
-                        r.solver.name()
-                    ),
+                    ShadowStatus::Shadow => {
+                        format!("the {} solver does not report photon-orbit radii", r.solver)
+                    }
                 })?;
                 Ok(if name == "photon_orbit_radius_min" {
                     radii[0]
@@ -173,7 +146,7 @@ impl Solved {
                     ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
                     ShadowStatus::Shadow => format!(
                         "the {} solver does not report photon-ring exponents",
-                        r.solver.name()
+                        r.solver
                     ),
                 })?;
                 match name {
@@ -182,7 +155,7 @@ impl Solved {
                     "lyapunov" => e.lyapunov.ok_or_else(|| {
                         format!(
                             "the {} solver does not report a Lyapunov exponent",
-                            r.solver.name()
+                            r.solver
                         )
                     }),
                     _ => {
@@ -221,14 +194,15 @@ mod tests {
         };
         let result = solve(&kerr, &Observer::distant(1.0), &settings).map_err(|e| e.to_string());
         let solved = Solved::new(&kerr, result, CentreChoice::Centroid);
-        let obs = solved.observables.as_ref().unwrap().as_object().unwrap();
+        let json = serde_json::to_value(solved.observables.as_ref().unwrap()).unwrap();
+        let obs = json.as_object().unwrap();
         let mut numeric: Vec<&str> = obs
             .iter()
             .filter(|(k, v)| v.is_number() && k.as_str() != "horizon_radius")
             .map(|(k, _)| k.as_str())
             .collect();
         numeric.sort_unstable();
-        let mut listed = OBSERVABLE_QUANTITIES.to_vec();
+        let mut listed = Quantity::names();
         listed.sort_unstable();
         assert_eq!(numeric, listed);
     }

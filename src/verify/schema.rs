@@ -39,7 +39,7 @@ struct RawCase {
     #[serde(default)]
     observer_radius: Option<f64>,
     #[serde(default)]
-    solver: Option<SolverName>,
+    solver: Option<String>,
     #[serde(default)]
     points: Option<usize>,
     #[serde(default)]
@@ -48,15 +48,6 @@ struct RawCase {
     centre: Option<CentreName>,
     #[serde(default)]
     expect: Vec<RawExpectation>,
-}
-
-#[derive(Debug, Clone, Copy, Deserialize)]
-#[serde(rename_all = "snake_case")]
-enum SolverName {
-    Auto,
-    Spherical,
-    Separable,
-    Raytrace,
 }
 
 #[derive(Debug, Clone, Copy, Deserialize)]
@@ -328,19 +319,14 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     };
     let defaults = ShadowSettings::default();
     let points = raw.points.unwrap_or(defaults.points);
-    if !(8..=crate::shadow::MAX_POINTS).contains(&points) {
-        return Err(label(format!(
-            "points must lie between 8 and {}, got {points}",
-            crate::shadow::MAX_POINTS
-        )));
-    }
+    crate::shadow::check_points(points).map_err(|e| label(format!("points: {e}")))?;
     let tolerance = raw.boundary_tolerance.unwrap_or(defaults.tolerance);
     crate::shadow::check_tolerance(tolerance).map_err(|e| label(format!("{e}")))?;
-    let solver = match raw.solver.unwrap_or(SolverName::Auto) {
-        SolverName::Auto => SolverChoice::Auto,
-        SolverName::Spherical => SolverChoice::Spherical,
-        SolverName::Separable => SolverChoice::Separable,
-        SolverName::Raytrace => SolverChoice::Raytrace,
+    let solver = match raw.solver.as_deref() {
+        None => SolverChoice::AUTO,
+        Some(name) => name
+            .parse::<SolverChoice>()
+            .map_err(|e| label(e.to_string()))?,
     };
     let centre = match raw.centre.unwrap_or(CentreName::Centroid) {
         CentreName::Centroid => CentreChoice::Centroid,
