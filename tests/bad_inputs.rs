@@ -88,9 +88,10 @@ const SCAN_RN: &str =
     "scan --metric reissner-nordstrom --grid q=0:0.9:4 --inclination 30 --out s.jsonl";
 const SCAN_RN_FILE: &str =
     "scan --metric-file m.toml --grid q=0:0.9:4 --inclination 30 --out s.jsonl";
-/// A scan long enough (hundreds of points) to be interrupted or run alongside another.
+/// A scan long enough (16 384 points, seconds) to be interrupted or run alongside another,
+/// which waits half a second for a busy lock before calling the file in use.
 const SCAN_LONG: &str =
-    "scan --metric kerr-newman --grid a=0:0.9:24 --grid q=0:0.5:24 --inclination 60 --out s.jsonl";
+    "scan --metric kerr-newman --grid a=0:0.9:128 --grid q=0:0.5:128 --inclination 60 --out s.jsonl";
 
 impl ScanBase {
     fn args(self) -> &'static str {

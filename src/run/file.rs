@@ -12,6 +12,10 @@ use std::fs::File;
 use std::io::Write;
 use std::path::{Path, PathBuf};
 
+/// How often, and how far apart, a busy lock is tried again before the file is reported in use.
+const LOCK_TRIES: u32 = 25;
+const LOCK_RETRY: std::time::Duration = std::time::Duration::from_millis(20);
+
 /// The locked file.
 pub(crate) struct LockedFile {
     path: PathBuf,
@@ -76,15 +80,25 @@ impl LockedFile {
                 }
                 Err(e) => return Err(io(shown, e)),
             };
-            match handle.try_lock() {
-                Ok(()) => {}
-                Err(std::fs::TryLockError::WouldBlock) => {
-                    return Err(CheckpointError::InUse {
-                        path: shown.display().to_string(),
-                        kind,
-                    })
+            // A lock can be held for a moment by a process forked from its holder (the copy
+            // of the descriptor closes at exec): look again for half a second before saying
+            // the file is in use. Another run holds it for its whole length.
+            let mut tries = 0;
+            loop {
+                match handle.try_lock() {
+                    Ok(()) => break,
+                    Err(std::fs::TryLockError::WouldBlock) if tries < LOCK_TRIES => {
+                        tries += 1;
+                        std::thread::sleep(LOCK_RETRY);
+                    }
+                    Err(std::fs::TryLockError::WouldBlock) => {
+                        return Err(CheckpointError::InUse {
+                            path: shown.display().to_string(),
+                            kind,
+                        })
+                    }
+                    Err(std::fs::TryLockError::Error(e)) => return Err(io(shown, e)),
                 }
-                Err(std::fs::TryLockError::Error(e)) => return Err(io(shown, e)),
             }
             if is_current(&handle, &path) {
                 return Ok(LockedFile {
