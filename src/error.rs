@@ -4,6 +4,14 @@ use crate::numfmt::Num;
 use thiserror::Error;
 
 /// What can go wrong when a metric is chosen, built or evaluated.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let err = build_metric("kerr", &[("spin".to_string(), 0.5)]).err().unwrap();
+/// assert!(matches!(err, MetricError::UnknownParameter { ref name, .. } if name == "spin"));
+/// assert!(matches!(Kerr::new(f64::NAN), Err(MetricError::NonFinite { .. })));
+/// ```
 #[derive(Debug, Clone, PartialEq, Error)]
 pub enum MetricError {
     /// No built-in metric has this name.

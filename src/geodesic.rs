@@ -89,13 +89,22 @@ impl Default for IntegratorSettings {
 pub enum IntegrationFailure {
     /// The controller asked for a step below `min_step`.
     #[error("step size fell below the minimum at r = {r}")]
-    StepSizeUnderflow { r: f64 },
+    StepSizeUnderflow {
+        /// The radius where it happened, in M.
+        r: f64,
+    },
     /// The state became NaN or infinite.
     #[error("the state became non-finite after {steps} steps")]
-    NonFinite { steps: usize },
+    NonFinite {
+        /// Accepted steps before it happened.
+        steps: usize,
+    },
     /// `max_steps` steps were taken.
     #[error("no result after {steps} steps")]
-    TooManySteps { steps: usize },
+    TooManySteps {
+        /// The number of steps taken.
+        steps: usize,
+    },
 }
 
 /// What the caller's stop test says after an accepted step.

@@ -43,7 +43,12 @@ pub enum InputError {
     TooLarge(u64),
     /// Not UTF-8 text.
     #[error("not UTF-8 text (line {line}, byte {column} of the line)")]
-    NotText { line: usize, column: usize },
+    NotText {
+        /// 1-based line of the first invalid byte.
+        line: usize,
+        /// 1-based byte position of that byte in its line.
+        column: usize,
+    },
     /// A folder with too many entries.
     #[error("more than {0} entries")]
     TooManyEntries(usize),

@@ -16,10 +16,12 @@
 //! // Christoffel symbols at a point, from dual-number derivatives of the metric components.
 //! let gamma = kerr.christoffel(6.0, 1.0);
 //! assert!(gamma[1][0][0] > 0.0); // Γ^r_tt > 0: gravity pulls inward
-//! // The outer horizon r₊ = 1 + √(1 − a²).
+//! // The outer horizon r₊ = 1 + √(1 − a²) (Boyer & Lindquist 1967, J. Math. Phys. 8, 265).
 //! let r_plus = kerr.outer_horizon().unwrap();
 //! assert!((r_plus - (1.0 + (1.0f64 - 0.81).sqrt())).abs() < 1e-14);
 //! ```
+
+#![warn(missing_docs)]
 
 pub mod bounds;
 pub mod error;
@@ -55,7 +57,7 @@ pub mod verify;
 /// assert_eq!(kerr.declared_values(), vec![0.8]); // Declared's hook, by a name of its own
 /// let rn = ReissnerNordstrom::new(0.6).unwrap(); // a SphericalMetric
 /// assert_eq!(rn.outer_horizon(), Some(1.8));
-/// assert_eq!(rn.a(2.0), 0.09); // A(r) = 1 − 2/r + q²/r²
+/// assert_eq!(rn.a(2.0), 0.09); // A(r) = 1 − 2/r + q²/r² (Reissner 1916; Nordström 1918)
 /// assert_eq!(rn.symmetry(), Symmetry::Spherical);
 /// ```
 pub mod prelude {

@@ -17,10 +17,20 @@ use roots::{find_root_brent, Convergency};
 pub enum RootError {
     /// The function has the same sign at both ends of the bracket.
     #[error("no sign change between {lo} and {hi}")]
-    NotBracketed { lo: f64, hi: f64 },
+    NotBracketed {
+        /// Lower end of the bracket.
+        lo: f64,
+        /// Upper end of the bracket.
+        hi: f64,
+    },
     /// The iteration limit was reached.
     #[error("root search between {lo} and {hi} did not converge")]
-    NoConvergence { lo: f64, hi: f64 },
+    NoConvergence {
+        /// Lower end of the bracket.
+        lo: f64,
+        /// Upper end of the bracket.
+        hi: f64,
+    },
 }
 
 /// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`).

@@ -75,7 +75,12 @@ pub enum ObservablesError {
     BadCurve(String),
     /// A ray from the chosen centre meets the curve more than once.
     #[error("the curve is not star-shaped about ({alpha}, {beta})")]
-    NotStarShaped { alpha: f64, beta: f64 },
+    NotStarShaped {
+        /// α of the centre, in M.
+        alpha: f64,
+        /// β of the centre, in M.
+        beta: f64,
+    },
     /// A Newton refinement failed.
     #[error("{0}")]
     NotConverged(String),
@@ -85,6 +90,21 @@ pub enum ObservablesError {
 }
 
 /// Observables of one critical curve (lengths in M, screen coordinates (α, β)).
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Kerr, a = 0.9, seen edge-on: the curve is flattened on the prograde (α < 0) side and
+/// // shifted towards +α (Bardeen 1973, in Black Holes, Les Houches; from memory).
+/// let kerr = Kerr::new(0.9).unwrap();
+/// let o = shadow(&kerr, &ShadowRequest::distant(90f64.to_radians())).unwrap().observables.unwrap();
+/// assert!(o.centroid_offset > 0.0 && o.alpha_max > -o.alpha_min);
+/// assert!(o.circularity_deviation > 0.0);
+/// // Its size stays within a few per cent of 3√3 (Johannsen & Psaltis 2010, ApJ 718, 446;
+/// // from memory).
+/// assert!(o.fractional_deviation_mean.abs() < 0.04);
+/// assert!((o.area_radius - (o.area / std::f64::consts::PI).sqrt()).abs() < 1e-12);
+/// ```
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Observables {
     /// The centre radii are measured from.
@@ -115,9 +135,13 @@ pub struct Observables {
     pub height: f64,
     /// height/width.
     pub axis_ratio: f64,
+    /// Least α on the curve.
     pub alpha_min: f64,
+    /// Greatest α on the curve.
     pub alpha_max: f64,
+    /// Least β on the curve.
     pub beta_min: f64,
+    /// Greatest β on the curve.
     pub beta_max: f64,
     /// Radius R_s of Hioki & Maeda's reference circle.
     pub hioki_maeda_radius: f64,
@@ -700,8 +724,9 @@ impl ShadowRequest {
 /// ```
 /// use umbral::prelude::*;
 ///
-/// // Reissner–Nordström has photon spheres r = (3 ± √(9 − 8q²))/2 only for q² ≤ 9/8: beyond,
-/// // no shadow, and the observables say why.
+/// // Reissner–Nordström has photon spheres r = (3 ± √(9 − 8q²))/2 only for q² ≤ 9/8 (from
+/// // d(A/r²)/dr = 0, A = 1 − 2/r + q²/r², Reissner 1916, Nordström 1918): beyond, no shadow,
+/// // and the observables say why.
 /// let rn = ReissnerNordstrom::new(1.2).unwrap();
 /// let seen = shadow(&rn, &ShadowRequest::distant(1.0)).unwrap();
 /// assert!(seen.observables.unwrap_err().to_string().contains("no photon sphere"));

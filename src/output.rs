@@ -38,7 +38,9 @@ use tempfile::{NamedTempFile, TempPath};
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 #[error("cannot write '{path}': {message}")]
 pub struct OutputError {
+    /// The file that could not be written.
     pub path: String,
+    /// The operating system's message.
     pub message: String,
 }
 

@@ -91,8 +91,11 @@ impl SizeMeasure {
 /// A named parameter range `[low, high]`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct ParameterRange {
+    /// The metric parameter's name, e.g. `q`.
     pub name: String,
+    /// Lower end of the range.
     pub low: f64,
+    /// Upper end of the range.
     pub high: f64,
 }
 
@@ -100,8 +103,18 @@ pub struct ParameterRange {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Inclination {
-    Fixed { degrees: f64 },
-    Range { low_degrees: f64, high_degrees: f64 },
+    /// One inclination.
+    Fixed {
+        /// The inclination, in degrees from the spin axis (0 to 180).
+        degrees: f64,
+    },
+    /// A nuisance range searched like the other nuisance parameters.
+    Range {
+        /// Lower end, in degrees from the spin axis.
+        low_degrees: f64,
+        /// Upper end, in degrees from the spin axis.
+        high_degrees: f64,
+    },
 }
 
 /// Largest starting grid over the varied range (each node is a full nuisance search; the
@@ -155,20 +168,24 @@ pub struct BoundRequest {
     pub vary: ParameterRange,
     /// Other parameters held fixed.
     pub fixed: Vec<(String, f64)>,
+    /// The observer's inclination, fixed or a nuisance range.
     pub inclination: Inclination,
     /// Metric parameters treated as nuisance over a range.
     pub nuisance: Vec<ParameterRange>,
+    /// Which size of the critical curve is compared with the measured radius.
     pub size_measure: SizeMeasure,
     /// The measured r_sh/M intervals (from [`crate::measurement::Measurement::derive`]).
     pub radii: DerivedRadii,
     /// Upper limit on ΔC, if any.
     pub circularity_max: Option<f64>,
+    /// Numerical settings.
     pub settings: BoundSettings,
 }
 
 /// The allowed set at one confidence level.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct LevelBound {
+    /// The confidence level of the measured interval, e.g. 0.68.
     pub confidence: f64,
     /// The r_sh/M interval [low, high] at this level.
     pub radius_interval: [f64; 2],
@@ -182,35 +199,50 @@ pub struct LevelBound {
 /// A range of the varied parameter where the solver failed.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Failure {
+    /// Lower end of the range (equal to `high` for a failure at one grid node).
     pub low: f64,
+    /// Upper end of the range.
     pub high: f64,
+    /// The solver's message.
     pub error: String,
 }
 
 /// The prediction at one grid node of the varied parameter.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct PredictedPoint {
+    /// The varied parameter's value at this node.
     pub value: f64,
     /// `ok`, `no_horizon`, `no_shadow` or `failed`.
     pub status: &'static str,
     /// Whether an `ok` node's prediction includes horizonless objects.
     pub horizonless: bool,
-    /// Min and max of the predicted size over the (feasible) nuisance box.
+    /// Min of the predicted size (r_sh/M, by the request's size measure) over the points of
+    /// the (feasible) nuisance box with ΔC under the limit; `None` unless `ok`.
     pub size_min: Option<f64>,
+    /// Max of the predicted size over the same points; `None` unless `ok`.
     pub size_max: Option<f64>,
+    /// Min of the circularity deviation ΔC over the nuisance box; `None` unless `ok`.
     pub circularity_min: Option<f64>,
 }
 
 /// A bound, ready to serialise.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct BoundResult {
+    /// The metric's name (from its [`crate::metric::MetricInfo`]).
     pub metric: String,
+    /// The varied parameter and its range, as requested.
     pub vary: ParameterRange,
+    /// The parameters held fixed, by name.
     pub fixed: BTreeMap<String, f64>,
+    /// The nuisance parameter ranges, as requested.
     pub nuisance: Vec<ParameterRange>,
+    /// The inclination, as requested.
     pub inclination: Inclination,
+    /// The size measure compared with the measured radius.
     pub size_measure: SizeMeasure,
+    /// The allowed set at each confidence level, in the order of the measured intervals.
     pub levels: Vec<LevelBound>,
+    /// The upper limit on ΔC used, if any.
     pub circularity_max: Option<f64>,
     /// Whether only values with a horizon were evaluated.
     pub require_horizon: bool,
@@ -227,6 +259,8 @@ pub struct BoundResult {
     /// Values of the varied parameter where a solver failure stopped the nuisance refinement:
     /// the size extremes there (and bound ends near them) are less precise.
     pub refinement_cut: Vec<f64>,
+    /// What the bound assumes, in words: the measured intervals, the nuisance box, and any
+    /// shortcut the search had to take.
     pub assumptions: Vec<String>,
     /// Every evaluated node, in increasing order of the varied parameter.
     pub predicted: Vec<PredictedPoint>,
@@ -317,16 +351,38 @@ pub enum BoundError {
     Metric(#[from] MetricError),
     /// Numerical settings out of their ranges.
     #[error("need an initial grid of 3 to {MAX_INITIAL_GRID} points (got {initial_grid}), 2 nuisance grid points and a positive tolerance")]
-    BadSettings { initial_grid: usize },
+    BadSettings {
+        /// The initial grid size given.
+        initial_grid: usize,
+    },
     /// A range whose ends are not finite.
     #[error("{what}: the range must be finite, got {}:{}", Num(*.low), Num(*.high))]
-    RangeNotFinite { what: String, low: f64, high: f64 },
+    RangeNotFinite {
+        /// Which range, e.g. "the inclination range".
+        what: String,
+        /// Its low end as given.
+        low: f64,
+        /// Its high end as given.
+        high: f64,
+    },
     /// A range whose low end is not below its high end.
     #[error("{what}: the low end must be below the high end, got {}:{}", Num(*.low), Num(*.high))]
-    RangeEmpty { what: String, low: f64, high: f64 },
+    RangeEmpty {
+        /// Which range, e.g. "the inclination range".
+        what: String,
+        /// Its low end as given.
+        low: f64,
+        /// Its high end as given.
+        high: f64,
+    },
     /// A fixed parameter value that is not finite.
     #[error("parameter '{name}' must be finite, got {}", Num(*.value))]
-    NotFinite { name: String, value: f64 },
+    NotFinite {
+        /// The parameter.
+        name: String,
+        /// The value given.
+        value: f64,
+    },
     /// The inclination among the nuisance parameters.
     #[error("give the inclination range as an inclination range, not a nuisance parameter")]
     InclinationAsNuisance,
@@ -341,7 +397,12 @@ pub enum BoundError {
     Inclination(f64),
     /// An inclination range outside [0, 180] degrees.
     #[error("the inclination range must lie within 0 to 180 degrees, got {low}:{high}")]
-    InclinationRange { low: f64, high: f64 },
+    InclinationRange {
+        /// Low end as given, in degrees.
+        low: f64,
+        /// High end as given, in degrees.
+        high: f64,
+    },
     /// More nuisance dimensions than the search supports.
     #[error("at most 3 nuisance dimensions are supported, got {0}")]
     TooManyNuisance(usize),

@@ -20,12 +20,16 @@ pub enum PointValue {
     /// horizonless object whose shadow is bounded by a photon sphere around an absorbing
     /// centre.
     Valid {
+        /// Predicted size, r_sh/M.
         size: f64,
+        /// Circularity deviation ΔC (dimensionless).
         circularity: f64,
+        /// Whether the point has a horizon.
         horizon: bool,
     },
     /// No horizon, and not evaluated: no shadow either, or a horizon is required.
     NoHorizon,
+    /// A horizon but no shadow; the solver's reason.
     NoShadow(String),
     /// A solver error (never turned into allowed or excluded).
     Failed(String),
@@ -46,9 +50,10 @@ pub trait PointModel: Sync {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Extremes {
-    /// Min and max of the size over points with ΔC ≤ the limit (NaN if there are none).
+    /// Min of the size (r_sh/M) over points with ΔC ≤ the limit (NaN if there are none).
     #[serde(with = "number")]
     pub size_min: f64,
+    /// Max of the size over the same points (NaN if there are none).
     #[serde(with = "number")]
     pub size_max: f64,
     /// Min of ΔC over the box.
@@ -78,6 +83,7 @@ pub enum Aggregate {
     NoShadow(String),
     /// A solver error somewhere in the box.
     Failed(String),
+    /// Extremes over the feasible part of the box.
     Ok(Extremes),
 }
 

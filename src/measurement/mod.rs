@@ -44,7 +44,12 @@ pub const DEFAULT_LEVELS: [f64; 2] = [0.68, 0.95];
 pub enum MeasurementError {
     /// The file could not be read.
     #[error("cannot read measurement file '{path}': {message}")]
-    Io { path: String, message: String },
+    Io {
+        /// The path as given.
+        path: String,
+        /// What went wrong reading it.
+        message: String,
+    },
     /// The TOML is malformed or has unknown or missing keys.
     #[error("measurement file: {0}")]
     Parse(String),
@@ -57,7 +62,9 @@ pub enum MeasurementError {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct Gaussian {
+    /// The central value.
     pub value: f64,
+    /// The standard deviation, in the value's unit.
     pub sigma: f64,
 }
 
@@ -65,8 +72,11 @@ pub struct Gaussian {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct RadiusInterval {
+    /// The confidence level, strictly between 0 and 1 (e.g. 0.68).
     pub confidence: f64,
+    /// Lower end, r_sh/M.
     pub low: f64,
+    /// Upper end, r_sh/M.
     pub high: f64,
 }
 
@@ -80,8 +90,11 @@ struct FileShadowRadius {
 #[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
 #[serde(deny_unknown_fields)]
 pub struct FractionalDeviation {
+    /// The central value of δ.
     pub value: f64,
+    /// The error below the value (one standard deviation, not negative).
     pub minus: f64,
+    /// The error above the value (one standard deviation, not negative).
     pub plus: f64,
 }
 
@@ -122,15 +135,20 @@ struct MeasurementFile {
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum SizeMeasurement {
+    /// Intervals on r_sh/M, used as given.
     ShadowRadius(Vec<RadiusInterval>),
+    /// δ = r_sh/(3√3) − 1 with asymmetric errors.
     FractionalDeviation(FractionalDeviation),
+    /// The chain from the ring image, r_sh/M = d_ring / (κ · 2θ_g).
     Ring(RingChain),
 }
 
 /// A validated measurement.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Measurement {
+    /// A free-text label from the file (empty if none).
     pub label: String,
+    /// The size part: exactly one of the three forms.
     pub size: SizeMeasurement,
     /// Upper limit on the circularity deviation ΔC, if any.
     pub circularity_max: Option<f64>,

@@ -27,11 +27,16 @@ const MAX_REJECTED_FRACTION: f64 = 0.05;
 pub enum AngularScale {
     /// Mass in solar masses and distance in Mpc.
     MassDistance {
+        /// The mass, in solar masses.
         mass_msun: Gaussian,
+        /// The distance, in Mpc.
         distance_mpc: Gaussian,
     },
     /// θ_g = GM/(c²D) in micro-arcseconds directly.
-    ThetaG { theta_g_uas: Gaussian },
+    ThetaG {
+        /// θ_g, in micro-arcseconds.
+        theta_g_uas: Gaussian,
+    },
 }
 
 /// The measured ring and its calibration.
@@ -41,6 +46,7 @@ pub struct RingChain {
     pub diameter_uas: Gaussian,
     /// Ring diameter / shadow diameter.
     pub ring_to_shadow: Gaussian,
+    /// The angular scale θ_g, given directly or through mass and distance.
     pub scale: AngularScale,
 }
 
@@ -49,7 +55,9 @@ pub struct RingChain {
 pub struct RingPropagation {
     /// r_sh/M at the central values.
     pub central_value: f64,
+    /// Monte Carlo sample count used.
     pub samples: usize,
+    /// Seed of the ChaCha8 generator used.
     pub seed: u64,
     /// Draws at or below zero that were redrawn, per input, in the order
     /// diameter, ring_to_shadow, mass or theta_g, distance.

@@ -5,6 +5,18 @@ use nalgebra::Matrix4;
 use serde::Serialize;
 
 /// Covariant components of ds² = g_tt dt² + 2 g_tφ dt dφ + g_rr dr² + g_θθ dθ² + g_φφ dφ².
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Kerr on the equator (Σ = r²), Boyer & Lindquist 1967: g_tt = −(1 − 2/r),
+/// // g_tφ = −2a/r, g_rr = r²/Δ with Δ = r² − 2r + a², g_θθ = r².
+/// let g = Kerr::new(0.5).unwrap().components_at(4.0, std::f64::consts::FRAC_PI_2);
+/// assert!((g.g_tt + 0.5).abs() < 1e-15);
+/// assert!((g.g_tphi + 0.25).abs() < 1e-15);
+/// assert!((g.g_rr - 16.0 / 8.25).abs() < 1e-15);
+/// assert!((g.g_thth - 16.0).abs() < 1e-15);
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct MetricComponents<D> {
     /// g_tt.

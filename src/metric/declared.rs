@@ -7,6 +7,18 @@ use super::{numerical_outer_horizon, Metric, MetricInfo, Symmetry};
 use serde::Serialize;
 
 /// How a metric's outer horizon is obtained.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Kerr: r₊ = 1 + √(1 − a²) = 1.8 at a = 0.6 (Boyer & Lindquist 1967, J. Math. Phys. 8, 265).
+/// let kerr = Kerr::new(0.6).unwrap();
+/// assert_eq!(DeclaredHorizon::Known(Some(1.8)).radius(&kerr), Some(1.8));
+/// let found = DeclaredHorizon::Numerical.radius(&kerr).unwrap();
+/// assert!((found - 1.8).abs() < 1e-12);
+/// // |a| > 1: no root of g^rr = 0, a naked singularity.
+/// assert_eq!(DeclaredHorizon::Numerical.radius(&Kerr::new(1.1).unwrap()), None);
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum DeclaredHorizon {
     /// Found by [`numerical_outer_horizon`]: the outermost root of g^rr = 0 on the equator.

@@ -58,7 +58,9 @@ const SMOOTH_SHRINK: f64 = 1.0e-2;
 /// A point of a singular surface outside the horizon.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SingularSurface {
+    /// Radius of the point, in M.
     pub r: f64,
+    /// Polar angle of the point, in radians.
     pub theta: f64,
     /// What is singular there.
     pub problem: String,

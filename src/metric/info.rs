@@ -6,6 +6,17 @@ use serde::Serialize;
 use std::fmt;
 
 /// One end of a parameter's domain.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // A spin that keeps a Kerr horizon without being extremal, 0 ≤ a < 1 (r₊ = 1 + √(1 − a²),
+/// // Boyer & Lindquist 1967, J. Math. Phys. 8, 265).
+/// let subextremal = Domain { lower: Bound::Inclusive(0.0), upper: Bound::Exclusive(1.0) };
+/// assert!(subextremal.contains(0.0) && subextremal.contains(0.999));
+/// assert!(!subextremal.contains(1.0));
+/// assert_eq!(subextremal.to_string(), "[0, 1)");
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(tag = "kind", content = "value", rename_all = "snake_case")]
 pub enum Bound {
@@ -18,6 +29,18 @@ pub enum Bound {
 }
 
 /// The set of allowed values of a parameter: an interval of the real line.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Reissner–Nordström has a horizon for |q| ≤ 1 (r± = 1 ± √(1 − q²); Reissner 1916,
+/// // Nordström 1918).
+/// let with_horizon = Domain::closed(-1.0, 1.0);
+/// assert!(with_horizon.contains(0.998) && !with_horizon.contains(1.01));
+/// assert!(!with_horizon.contains(f64::NAN));
+/// assert_eq!(with_horizon.to_string(), "[-1, 1]");
+/// assert_eq!(Domain::REAL.to_string(), "(-inf, inf)");
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Domain {
     /// The lower end.
@@ -101,6 +124,18 @@ impl fmt::Display for Domain {
 }
 
 /// A parameter of a metric: its command-line name, default, domain and meaning.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let a = ParameterSpec::new("a", 0.0, Domain::closed(-1.0, 1.0), "spin a = J/M^2");
+/// assert_eq!(a.check(0.9), Ok(0.9));
+/// assert!(matches!(a.check(1.5), Err(MetricError::OutOfDomain { .. })));
+/// assert!(matches!(a.check(f64::INFINITY), Err(MetricError::NonFinite { .. })));
+/// // Reissner–Nordström defaults to q = 0, Schwarzschild.
+/// let q = &ReissnerNordstrom::describe().parameters[0];
+/// assert_eq!((q.name.as_str(), q.default), ("q", 0.0));
+/// ```
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ParameterSpec {
     /// The name, as on the command line (`--set NAME=VALUE`) and in files.
@@ -144,6 +179,16 @@ impl ParameterSpec {
 }
 
 /// The symmetry a metric declares.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// assert_eq!(Schwarzschild.symmetry(), Symmetry::Spherical);
+/// // Declared, not probed: Kerr at a = 0 is Schwarzschild's geometry (Kerr 1963), but the
+/// // Kerr family declares the general case.
+/// assert_eq!(Kerr::new(0.0).unwrap().symmetry(), Symmetry::StationaryAxisymmetric);
+/// assert_eq!(Symmetry::Spherical.to_string(), "spherical");
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 #[serde(rename_all = "snake_case")]
 pub enum Symmetry {
@@ -163,6 +208,17 @@ impl fmt::Display for Symmetry {
 }
 
 /// What a metric says about itself.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let info = Kerr::describe();
+/// assert_eq!((info.name.as_str(), info.title.as_str()), ("kerr", "Kerr"));
+/// assert!(info.reference.contains("Boyer & Lindquist 1967"));
+/// assert_eq!(info.parameter_names(), "a");
+/// assert_eq!(KerrNewman::new(0.5, 0.3).unwrap().info().parameter_names(), "a, q");
+/// assert_eq!(Schwarzschild.info().parameter_names(), "none");
+/// ```
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct MetricInfo {
     /// Command-line name, e.g. `kerr`.

@@ -88,7 +88,8 @@ use crate::scalar::DualScalar;
 /// }
 ///
 /// let m = MyKerr { a: 0.6 };
-/// // The default horizon finder locates r₊ = 1 + √(1 − a²) = 1.8 numerically.
+/// // The default horizon finder locates r₊ = 1 + √(1 − a²) = 1.8 numerically (Boyer &
+/// // Lindquist 1967, J. Math. Phys. 8, 265).
 /// assert!((m.outer_horizon().unwrap() - 1.8).abs() < 1e-12);
 /// // Any implementor is usable as a trait object, e.g. chosen by name at run time.
 /// let dynamic: Box<dyn Spacetime> = Box::new(m);

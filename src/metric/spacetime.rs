@@ -60,6 +60,17 @@ pub struct RadialLambdaJet {
 }
 
 /// What kind of object a parameter point describes.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// // Reissner–Nordström: r₊ = 1 + √(1 − q²) for |q| ≤ 1, no horizon beyond (Reissner 1916,
+/// // Nordström 1918).
+/// let charged = ReissnerNordstrom::new(0.6).unwrap();
+/// assert_eq!(charged.classify(), Classification::BlackHole { outer_horizon: 1.8 });
+/// let naked = ReissnerNordstrom::new(1.1).unwrap();
+/// assert_eq!(naked.classify(), Classification::Horizonless);
+/// ```
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 #[serde(tag = "kind", rename_all = "snake_case")]
 pub enum Classification {
@@ -78,6 +89,21 @@ pub enum Classification {
 /// (`symmetry`, `is_separable`, `is_equatorially_symmetric`) read the metric's declared
 /// [`Capabilities`]; the jets of a declared structure whose hook returns nothing are the error
 /// [`MetricError::MissingHook`], and those of an undeclared one [`MetricError::NotDeclared`].
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let m: Box<dyn Spacetime> = build_metric("schwarzschild", &[]).unwrap();
+/// let equator = std::f64::consts::FRAC_PI_2;
+/// // The photon sphere r = 3 with impact parameter b = L/E = 3√3 (Synge 1966, MNRAS 131, 463):
+/// // a null momentum, H = ½ g^{μν} p_μ p_ν = 0.
+/// let h = m.hamiltonian(3.0, equator, &[-1.0, 0.0, 0.0, 27f64.sqrt()]);
+/// assert!(h.abs() < 1e-14);
+/// // Γ^r_tt = ½ A dA/dr with A = 1 − 2/r, B = 1/A: (1 − 2/r)/r² (Schwarzschild 1916).
+/// let gamma = m.christoffel(3.0, 1.0);
+/// assert!((gamma[1][0][0] - (1.0 - 2.0 / 3.0) / 9.0).abs() < 1e-15);
+/// assert_eq!(m.classify(), Classification::BlackHole { outer_horizon: 2.0 });
+/// ```
 pub trait Spacetime: Send + Sync {
     /// Name, reference and parameter specifications.
     fn info(&self) -> MetricInfo;

@@ -169,99 +169,164 @@ fn floor_char_boundary(text: &str, mut i: usize) -> usize {
 pub enum MetricFileError {
     /// The file could not be read.
     #[error("cannot read metric file {path}: {reason}")]
-    Read { path: String, reason: String },
+    Read {
+        /// The path as given.
+        path: String,
+        /// The operating system's reason.
+        reason: String,
+    },
     /// The text is not valid TOML, or its keys or value types do not match the schema
     /// (including unknown keys and missing required keys).
     #[error("{}", self.full_message())]
-    Toml { at: Box<Location>, message: String },
+    Toml {
+        /// Where in the file.
+        at: Box<Location>,
+        /// The TOML reader's message.
+        message: String,
+    },
     /// An expression does not parse.
     #[error("{}", self.full_message())]
     Syntax {
+        /// Where in the file.
         at: Box<Location>,
+        /// What was found there, described in words.
         found: String,
+        /// What would have been valid there.
         expected: String,
     },
     /// A name that is neither a parameter, a helper, an allowed coordinate nor a constant.
     #[error("{}", self.full_message())]
     UnknownName {
+        /// Where in the file.
         at: Box<Location>,
+        /// The unknown name.
         name: String,
+        /// The closest known name, if one is close enough to be a likely typo.
         suggestion: Option<String>,
     },
     /// A call of a function that does not exist.
     #[error("{}", self.full_message())]
     UnknownFunction {
+        /// Where in the file.
         at: Box<Location>,
+        /// The unknown function name.
         name: String,
+        /// The closest known function name, if one is close enough to be a likely typo.
         suggestion: Option<String>,
     },
     /// A function called with the wrong number of arguments.
     #[error("{}", self.full_message())]
     ArgumentCount {
+        /// Where in the file.
         at: Box<Location>,
+        /// The function called.
         function: String,
+        /// The number of arguments it takes.
         expected: usize,
+        /// The number of arguments given.
         found: usize,
     },
     /// A helper used by an earlier helper (helpers are evaluated in order).
     #[error("{}", self.full_message())]
     UsedBeforeDefined {
+        /// Where in the file the helper is used.
         at: Box<Location>,
+        /// The helper used too early.
         name: String,
+        /// The 1-based line on which that helper is defined.
         defined_at: usize,
     },
     /// Helpers that refer to each other in a loop.
     #[error("{}", self.full_message())]
     Cycle {
+        /// Where in the file the loop closes.
         at: Box<Location>,
+        /// The helper names along the loop, first and last the same.
         cycle: Vec<String>,
     },
     /// A coordinate used where it is not available, directly or through a helper.
     #[error("{}", self.full_message())]
     NotAvailable {
+        /// Where in the file.
         at: Box<Location>,
+        /// The name used: the coordinate itself, or the helper that depends on it.
         name: String,
+        /// The coordinate that is not available (`r`, `theta`, `lambda` or `eta`).
         variable: String,
+        /// Where the expression stands, e.g. "the line element of a spherical metric".
         context: String,
+        /// What that place allows, e.g. "r and the parameters".
         allowed: String,
     },
     /// A parameter default outside the parameter's domain.
     #[error("{}", self.full_message())]
     DefaultOutsideDomain {
+        /// Where in the file.
         at: Box<Location>,
+        /// The parameter.
         name: String,
+        /// Its default value.
         default: f64,
+        /// Its domain, as written in interval notation.
         domain: String,
     },
     /// A domain that is not an interval.
     #[error("{}", self.full_message())]
-    BadDomain { at: Box<Location>, expected: String },
+    BadDomain {
+        /// Where in the file.
+        at: Box<Location>,
+        /// What a domain must look like.
+        expected: String,
+    },
     /// A line-element component the declared symmetry needs is missing.
     #[error("{}", self.full_message())]
     MissingComponent {
+        /// Where in the file (the start of the line-element table).
         at: Box<Location>,
+        /// The missing component, e.g. `g_tt`.
         component: String,
+        /// The declared symmetry, e.g. `spherical`.
         symmetry: String,
+        /// The components that symmetry needs.
         needed: String,
     },
     /// A line-element component that does not belong to the declared symmetry.
     #[error("{}", self.full_message())]
     ForeignComponent {
+        /// Where in the file.
         at: Box<Location>,
+        /// The component that does not belong.
         component: String,
+        /// The declared symmetry.
         symmetry: String,
+        /// The components that symmetry is given by.
         needed: String,
     },
     /// A name defined twice, or a name that is reserved.
     #[error("{}", self.full_message())]
-    BadName { at: Box<Location>, problem: String },
+    BadName {
+        /// Where in the file.
+        at: Box<Location>,
+        /// What is wrong with the name.
+        problem: String,
+    },
     /// A value of the file that is allowed by TOML but not by the schema.
     #[error("{}", self.full_message())]
-    Invalid { at: Box<Location>, problem: String },
+    Invalid {
+        /// Where in the file.
+        at: Box<Location>,
+        /// What is wrong with the value.
+        problem: String,
+    },
     /// Separation data that do not reproduce the null Hamiltonian of the line element, or a
     /// line element that is not finite where they are checked.
     #[error("{}", self.full_message())]
-    Separation { at: Box<Location>, problem: String },
+    Separation {
+        /// Where in the file.
+        at: Box<Location>,
+        /// What the check found, with the parameter values it used.
+        problem: String,
+    },
 }
 
 impl MetricFileError {

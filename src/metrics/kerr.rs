@@ -12,6 +12,17 @@ use crate::scalar::DualScalar;
 
 declare_metric! {
     /// The rotating black hole of unit mass; `a = J/M²` (|a| > 1 is a naked singularity).
+    ///
+    /// ```
+    /// use umbral::prelude::*;
+    ///
+    /// // r₊ = 1 + √(1 − a²) (Boyer & Lindquist 1967, J. Math. Phys. 8, 265).
+    /// let kerr = Kerr::new(0.6).unwrap();
+    /// assert_eq!(kerr.outer_horizon(), Some(1.8));
+    /// assert_eq!(kerr.spin(), 0.6);
+    /// // |a| > 1: no horizon (Kerr 1963, Phys. Rev. Lett. 11, 237).
+    /// assert_eq!(Kerr::new(1.1).unwrap().classify(), Classification::Horizonless);
+    /// ```
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct Kerr {
         name: "kerr",

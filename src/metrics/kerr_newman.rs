@@ -13,6 +13,18 @@ use crate::scalar::DualScalar;
 declare_metric! {
     /// The rotating, charged black hole; `a = J/M²`, `q = Q/M` (a² + q² > 1 is a naked
     /// singularity).
+    ///
+    /// ```
+    /// use umbral::prelude::*;
+    ///
+    /// // r₊ = 1 + √(1 − a² − q²) (Newman et al. 1965, J. Math. Phys. 6, 918): a² + q² = 0.64.
+    /// let kn = KerrNewman::new(0.48, 0.64).unwrap();
+    /// assert!((kn.outer_horizon().unwrap() - 1.6).abs() < 1e-15);
+    /// // q = 0 is Kerr (Kerr 1963): the same components.
+    /// let (uncharged, kerr) = (KerrNewman::new(0.7, 0.0).unwrap(), Kerr::new(0.7).unwrap());
+    /// assert_eq!(uncharged.components_at(5.0, 1.0), kerr.components_at(5.0, 1.0));
+    /// assert_eq!(KerrNewman::new(0.8, 0.8).unwrap().classify(), Classification::Horizonless);
+    /// ```
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct KerrNewman {
         name: "kerr-newman",

@@ -50,6 +50,19 @@ builtins! {
 }
 
 /// Every built-in metric, in listing order.
+///
+/// ```
+/// use umbral::prelude::*;
+///
+/// let names: Vec<String> = builtin_metrics().iter().map(|e| e.name()).collect();
+/// assert_eq!(names[..2], ["schwarzschild", "kerr"]);
+/// for entry in builtin_metrics() {
+///     assert_eq!(entry.build(&[]).unwrap().info().name, entry.name()); // builds at its defaults
+/// }
+/// // Kerr: r₊ = 1 + √(1 − a²) (Boyer & Lindquist 1967, J. Math. Phys. 8, 265).
+/// let kerr = builtin_metrics()[1].build(&[("a".to_string(), 0.6)]).unwrap();
+/// assert_eq!(kerr.outer_horizon(), Some(1.8));
+/// ```
 pub fn builtin_metrics() -> &'static [MetricEntry] {
     BUILTINS
 }

@@ -292,7 +292,10 @@ pub enum BoundRunError {
     Checkpoint(#[from] CheckpointError),
     /// Stopped on request after `done` nuisance evaluations (kept in the checkpoint, if any).
     #[error("interrupted after {done} nuisance evaluations")]
-    Interrupted { done: usize },
+    Interrupted {
+        /// Nuisance evaluations finished before the stop.
+        done: usize,
+    },
 }
 
 impl From<RunError> for BoundRunError {

@@ -69,31 +69,52 @@ pub trait RecordFormat: Send {
 pub enum CheckpointError {
     /// Writing failed.
     #[error("cannot write '{path}': {message}")]
-    Io { path: String, message: String },
+    Io {
+        /// The checkpoint file.
+        path: String,
+        /// The operating system's message.
+        message: String,
+    },
     /// Reading failed.
     #[error("cannot read '{path}': {message}")]
-    Read { path: String, message: String },
+    Read {
+        /// The checkpoint file.
+        path: String,
+        /// The operating system's message.
+        message: String,
+    },
     /// The file belongs to another run.
     #[error(
         "'{path}' was written by a {kind} with different arguments ({why}); refusing to mix them"
     )]
     Mismatch {
+        /// The checkpoint file.
         path: String,
+        /// The kind of run ([`RecordFormat::KIND`], e.g. `scan`).
         kind: &'static str,
+        /// Which header fields differ.
         why: String,
     },
     /// A line fails a check (line 1 is the header).
     #[error("'{path}' line {line} {problem}; refusing to resume from it ({})", remedy(*.line, item))]
     BadLine {
+        /// The checkpoint file.
         path: String,
+        /// The 1-based line number.
         line: usize,
+        /// What is wrong with the line.
         problem: String,
         /// What a record line holds (`point`).
         item: &'static str,
     },
     /// Another run holds the file.
     #[error("'{path}' is in use by another {kind} (it is locked); wait for that {kind} to finish")]
-    InUse { path: String, kind: &'static str },
+    InUse {
+        /// The checkpoint file.
+        path: String,
+        /// The kind of run ([`RecordFormat::KIND`], e.g. `scan`).
+        kind: &'static str,
+    },
 }
 
 /// What to do about a bad line (a program's own advice, such as another output file, comes

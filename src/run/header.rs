@@ -29,10 +29,18 @@ pub fn sha256_hex(bytes: &[u8]) -> String {
 pub enum MetricHashError {
     /// The metric file cannot be read again.
     #[error("cannot read '{path}': {message}")]
-    Read { path: String, message: String },
+    Read {
+        /// The metric file.
+        path: String,
+        /// The operating system's message.
+        message: String,
+    },
     /// The metric file on disk is no longer the one loaded.
     #[error("metric file '{path}' changed while the run was starting; run it again")]
-    Changed { path: String },
+    Changed {
+        /// The metric file.
+        path: String,
+    },
 }
 
 /// The metric's content hash ([`MetricSource::content_sha256`]), its errors in run terms.

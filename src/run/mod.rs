@@ -98,7 +98,12 @@ pub enum Selection {
     All,
     /// Items `index`, `index + count`, `index + 2 count`, ... (shard `index` of `count`,
     /// numbered from 0); interleaved, so that costly regions of a grid are shared out.
-    Shard { index: usize, count: usize },
+    Shard {
+        /// This shard's number, below `count`.
+        index: usize,
+        /// The number of shards.
+        count: usize,
+    },
     /// These items (indices beyond the list are ignored).
     Indices(Vec<usize>),
 }

@@ -56,9 +56,13 @@ use std::sync::atomic::AtomicBool;
 /// One grid axis: `count` points from `low` to `high` inclusive.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct GridAxis {
+    /// The metric parameter on this axis.
     pub name: String,
+    /// First grid value.
     pub low: f64,
+    /// Last grid value.
     pub high: f64,
+    /// Number of grid values (at least 2).
     pub count: usize,
 }
 
@@ -82,8 +86,11 @@ pub struct ScanRequest {
     pub metric: MetricSource,
     /// One or two axes.
     pub axes: Vec<GridAxis>,
+    /// Other parameters held fixed, by name.
     pub fixed: Vec<(String, f64)>,
+    /// The observer's inclination, in degrees from the spin axis (0 to 180).
     pub inclination_deg: f64,
+    /// Shadow solver settings.
     pub settings: ShadowSettings,
     /// Record every horizonless point as `no_horizon`. By default a horizonless object whose
     /// photon sphere bounds capture by its centre is evaluated like a black hole and marked
@@ -104,10 +111,13 @@ pub struct ScanPoint {
     /// centre, e.g. a Janis–Newman–Winicour naked singularity with ν > 1/2).
     #[serde(skip_serializing_if = "std::ops::Not::not", default)]
     pub horizonless: bool,
+    /// Why there is no shadow, or what failed (`no_shadow` and `failed` points).
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub reason: Option<String>,
+    /// The solver that ran, once the metric was built.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub solver: Option<String>,
+    /// The [`Observables`] of a `shadow` point, as JSON.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub observables: Option<serde_json::Value>,
 }
@@ -147,9 +157,13 @@ pub enum ScanError {
     /// An axis without finite ends in increasing order or with fewer than 2 points.
     #[error("grid axis {name}: need finite ends, the low below the high, and at least 2 points, got {}:{}:{count}", Num(*.low), Num(*.high))]
     BadAxis {
+        /// The axis's parameter.
         name: String,
+        /// Its low end as given.
         low: f64,
+        /// Its high end as given.
         high: f64,
+        /// Its point count as given.
         count: usize,
     },
     /// More grid points than [`MAX_SCAN_POINTS`].
@@ -173,8 +187,11 @@ pub enum ScanError {
     /// Stopped on request; the finished points are in the file.
     #[error("interrupted after {done} of {total} points; the finished points are kept in '{path}': rerun the same command to resume")]
     Interrupted {
+        /// The scan file.
         path: String,
+        /// Points finished.
         done: usize,
+        /// Points in the grid.
         total: usize,
     },
 }

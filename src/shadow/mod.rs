@@ -66,8 +66,11 @@ pub enum ShadowError {
     /// The requested solver does not apply to this metric.
     #[error("solver '{solver}' does not apply to metric '{metric}': {why}")]
     SolverNotApplicable {
+        /// The solver's name.
         solver: &'static str,
+        /// The metric's name.
         metric: String,
+        /// What the metric lacks for it.
         why: String,
     },
     /// A bad observer or setting.
@@ -131,7 +134,10 @@ pub enum ShadowStatus {
     /// A closed critical curve was found.
     Shadow,
     /// No critical curve, with the reason (e.g. no photon sphere).
-    NoShadow { reason: String },
+    NoShadow {
+        /// Why there is no critical curve.
+        reason: String,
+    },
 }
 
 /// A photon sphere of a spherically symmetric metric: an extremum of C/A.
@@ -153,6 +159,7 @@ pub struct RingExponents {
     /// Demagnification exponent γ per half orbit (Johnson et al. 2020); one value for
     /// spherical metrics, and min and max along the curve for separable ones.
     pub gamma_min: f64,
+    /// Largest γ along the curve (equal to `gamma_min` for spherical metrics).
     pub gamma_max: f64,
 }
 
@@ -189,6 +196,7 @@ pub struct Diagnostics {
 pub struct ShadowResult {
     /// The name of the solver that produced it.
     pub solver: &'static str,
+    /// Whether there is a shadow, and if not, why.
     pub status: ShadowStatus,
     /// The critical curve, when there is a shadow.
     pub curve: Option<CriticalCurve>,
@@ -199,6 +207,7 @@ pub struct ShadowResult {
     /// Photon-ring exponents; `None` when the solver does not compute them or they are
     /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
+    /// Counts, timing and checks of the run.
     pub diagnostics: Diagnostics,
 }
 
@@ -218,7 +227,9 @@ pub enum PointShadow {
     /// A shadow; `horizonless` when the object has no horizon and the spherical solver found
     /// a photon sphere that bounds capture by its centre.
     Shadow {
+        /// The solver's result (its status is `Shadow`).
         result: Box<ShadowResult>,
+        /// Whether the object has no horizon.
         horizonless: bool,
     },
 }

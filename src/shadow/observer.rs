@@ -52,7 +52,9 @@ use serde::Serialize;
 /// at finite distance, its radius r_o (`None`: at infinity).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct Observer {
+    /// Inclination θ_o from the spin axis, in radians (0 to π).
     pub inclination: f64,
+    /// Radius r_o of an observer at finite distance, in M; `None` at infinity.
     pub radius: Option<f64>,
 }
 
@@ -99,8 +101,11 @@ impl Observer {
 pub struct Tetrad {
     /// The observer's four-velocity e_(t).
     pub e_t: [f64; 4],
+    /// The radial leg e_(r).
     pub e_r: [f64; 4],
+    /// The polar leg e_(θ).
     pub e_theta: [f64; 4],
+    /// The azimuthal leg e_(φ).
     pub e_phi: [f64; 4],
     /// The frame-dragging angular velocity ω = −g_tφ/g_φφ of the observer.
     pub omega: f64,

@@ -238,7 +238,12 @@ pub enum RayFailure {
     Integration(IntegrationFailure),
     /// No null start momentum exists at the start point, or the screen point is off the screen.
     #[error("no null start data for screen point ({alpha}, {beta})")]
-    NoStartData { alpha: f64, beta: f64 },
+    NoStartData {
+        /// Screen coordinate α, in M.
+        alpha: f64,
+        /// Screen coordinate β, in M.
+        beta: f64,
+    },
 }
 
 /// The fate of one backward ray.
@@ -256,7 +261,9 @@ pub enum RayFate {
 /// the centre and how close it came.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct RayOutcome {
+    /// Captured, escaped or failed.
     pub fate: RayFate,
+    /// Accepted integrator steps.
     pub steps: usize,
     /// The angle (radians) swept by the ray's direction from the centre, (sin θ cos φ,
     /// sin θ sin φ, cos θ), relative to the locally non-rotating frames (each step's change

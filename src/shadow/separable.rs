@@ -112,6 +112,7 @@ const MAX_NEWTON: usize = 40;
 /// A spherical photon orbit: its radius and constants of motion per unit energy.
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
 pub struct SphericalOrbit {
+    /// Radius of the orbit, in M.
     pub r: f64,
     /// λ = L/E.
     pub lambda: f64,
