@@ -329,3 +329,19 @@ fn registry_entries_follow_their_declarations() {
     assert!(Schwarzschild::from_values(&[]).is_ok());
     assert!(KerrNewman::new(0.5, f64::INFINITY).is_err());
 }
+
+/// docs/metrics.md ("every built-in metric, as `umbral metrics` lists it") has a row for each
+/// built-in, so a new metric cannot be missing from the catalogue.
+#[test]
+fn every_builtin_has_a_row_in_the_catalogue_document() {
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("docs/metrics.md");
+    let text = std::fs::read_to_string(path).unwrap();
+    for entry in builtin_metrics() {
+        let row = format!("\n| `{}` |", entry.name());
+        assert!(
+            text.contains(&row),
+            "docs/metrics.md has no row for '{}'",
+            entry.name()
+        );
+    }
+}

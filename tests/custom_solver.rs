@@ -1,5 +1,6 @@
 //! A solver added from outside the crate, through the public API only: a closed-form
-//! Schwarzschild solver, registered and run through the `shadow` dispatch.
+//! Schwarzschild solver, registered and run through the `shadow` dispatch, and the same
+//! closed form run as an unregistered value through `solve_with`.
 //!
 //! Closed forms (Schwarzschild, distant observer): the critical curve is the circle of radius
 //! b_c = 3√3 M (Synge 1966, MNRAS 131, 463); the photon sphere is at r = 3 M; the Lyapunov
@@ -10,8 +11,8 @@
 use std::f64::consts::PI;
 use umbral::prelude::*;
 use umbral::shadow::{
-    register_solver, solve, CriticalCurve, Diagnostics, Observer, RingExponents, ShadowError,
-    ShadowResult, ShadowSettings, ShadowStatus, SolverChoice,
+    find_solver, register_solver, singular_exterior, solve, solve_with, CriticalCurve, Diagnostics,
+    Observer, RingExponents, ShadowError, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice,
 };
 
 /// The Schwarzschild shadow in closed form.
@@ -33,7 +34,7 @@ impl ShadowSolver for SchwarzschildCircle {
     }
     fn solve(
         &self,
-        _: &dyn Spacetime,
+        spacetime: &dyn Spacetime,
         observer: &Observer,
         settings: &ShadowSettings,
     ) -> Result<ShadowResult, ShadowError> {
@@ -41,6 +42,10 @@ impl ShadowSolver for SchwarzschildCircle {
             return Err(ShadowError::BadRequest(
                 "the closed form is for a distant observer".into(),
             ));
+        }
+        // No shadow where the metric is singular outside its horizon, as from every solver.
+        if let Some(none) = singular_exterior(spacetime, observer, self.name()) {
+            return Ok(none);
         }
         let b_c = 27f64.sqrt();
         Ok(ShadowResult {
@@ -118,6 +123,81 @@ fn a_registered_solver_feeds_the_observables_entry_point() {
     assert!((o.get(Quantity::MeanRadius) - 27f64.sqrt()).abs() < 1e-12);
     assert!(o.get(Quantity::FractionalDeviationMean).abs() < 1e-12);
     assert!(o.get(Quantity::CircularityDeviation) < 1e-12);
+}
+
+/// The closed form under a name no test registers: run as a value, never by name.
+struct Unlisted;
+
+impl ShadowSolver for Unlisted {
+    fn name(&self) -> &'static str {
+        "unlisted-circle"
+    }
+    fn summary(&self) -> &'static str {
+        "the closed-form circle, run without registration"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        SchwarzschildCircle.applies_to(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        let result = SchwarzschildCircle.solve(spacetime, observer, settings)?;
+        Ok(ShadowResult {
+            solver: self.name(),
+            ..result
+        })
+    }
+}
+
+#[test]
+fn an_unregistered_solver_value_runs_behind_the_same_checks() {
+    let observer = Observer::distant(1.0);
+    // `settings.solver` is not consulted: the value given is the solver that runs.
+    let result = solve_with(&Unlisted, &Schwarzschild, &observer, &settings("auto", 64)).unwrap();
+    assert_eq!(result.solver, "unlisted-circle");
+    assert!(find_solver("unlisted-circle").is_none());
+    assert!("unlisted-circle".parse::<SolverChoice>().is_err());
+    // b_c = 3√3 (Synge 1966).
+    let curve = result.curve.unwrap();
+    assert!(curve.radii.iter().all(|r| (r - 27f64.sqrt()).abs() < 1e-12));
+    // The request checks and `applies_to` run before the solver, as in the dispatch.
+    assert!(matches!(
+        solve_with(&Unlisted, &Schwarzschild, &observer, &settings("auto", 7)),
+        Err(ShadowError::BadRequest(_))
+    ));
+    match solve_with(
+        &Unlisted,
+        &Kerr::new(0.5).unwrap(),
+        &observer,
+        &settings("auto", 64),
+    ) {
+        Err(ShadowError::SolverNotApplicable { solver, .. }) => {
+            assert_eq!(solver, "unlisted-circle")
+        }
+        other => panic!("{other:?}"),
+    }
+}
+
+/// The check every solver starts with is public: Johannsen's metric with a = 0.9 and
+/// α13 = −2.95 has g_tt over [(r² + a²) A1 − a² A2 sin²θ]², which vanishes on the equator
+/// where r⁵ + α13 (r² + a²) = 0, outside r₊ for α13 < −r₊⁴/2 (Johannsen 2013, Phys. Rev. D 88,
+/// 044002): a program's solver reports no shadow there, under its own name.
+#[test]
+fn a_program_solver_can_refuse_a_singular_exterior() {
+    let observer = Observer::distant(1.0);
+    let set = [("a".to_string(), 0.9), ("alpha13".to_string(), -2.95)];
+    let singular = build_metric("johannsen", &set).unwrap();
+    let none = singular_exterior(singular.as_ref(), &observer, "unlisted-circle").unwrap();
+    assert_eq!(none.solver, "unlisted-circle");
+    assert!(none.curve.is_none());
+    match &none.status {
+        ShadowStatus::NoShadow { reason } => assert!(reason.contains("not a regular"), "{reason}"),
+        other => panic!("{other:?}"),
+    }
+    assert!(singular_exterior(&Schwarzschild, &observer, "unlisted-circle").is_none());
 }
 
 #[test]

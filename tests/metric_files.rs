@@ -742,15 +742,15 @@ fn kerr_file_hamiltonian_gradient_matches_hand_written_one() {
     );
 }
 
-/// Observables that are ratios (dimensionless, some of order 1e-3); every other number of a
-/// shadow is a length in M (or an area in M²).
-const DIMENSIONLESS: [&str; 5] = [
-    "circularity_deviation",
-    "hioki_maeda_distortion",
-    "fractional_deviation_mean",
-    "fractional_deviation_area",
-    "axis_ratio",
-];
+/// Whether the JSON path ends in an observable that is a ratio (dimensionless, some of order
+/// 1e-3: an empty unit in `Quantity`); every other number of a shadow is a length in M (or
+/// an area in M²).
+fn dimensionless(path: &str) -> bool {
+    umbral::observables::Quantity::ALL
+        .iter()
+        .filter(|q| q.unit().is_empty())
+        .any(|q| path.ends_with(&format!(".{q}")))
+}
 
 /// The largest relative difference between two JSON trees of numbers; other leaves must be
 /// equal. The floor of the relative difference is 1 M for lengths, whose typical size is the
@@ -766,10 +766,7 @@ fn json_difference(
     match (x, y) {
         (Value::Number(p), Value::Number(q)) => {
             let (p, q) = (p.as_f64().unwrap(), q.as_f64().unwrap());
-            let dimensionless = DIMENSIONLESS
-                .iter()
-                .any(|k| path.ends_with(&format!(".{k}")));
-            let floor = if dimensionless { 1e-3 } else { 1.0 };
+            let floor = if dimensionless(path) { 1e-3 } else { 1.0 };
             Ok(if p == q {
                 0.0
             } else {

@@ -533,3 +533,28 @@ fn bound_cases_accept_metric_files() {
         "{e}"
     );
 }
+
+/// The table of quantities in docs/regression-checks.md names every quantity a case can pin
+/// (every observable and every solver quantity) and nothing else, so a new observable cannot
+/// be missing from the format's documentation.
+#[test]
+fn the_documented_quantities_are_the_known_ones() {
+    let text = std::fs::read_to_string(repo("docs/regression-checks.md")).unwrap();
+    let table = text
+        .split("### Quantities of a `[[case]]`")
+        .nth(1)
+        .expect("the quantities section")
+        .split("\n###")
+        .next()
+        .unwrap();
+    let mut documented: Vec<&str> = table
+        .lines()
+        .filter(|l| l.starts_with("| `"))
+        .filter_map(|l| l.split('|').nth(1))
+        .flat_map(|cell| cell.split('`').skip(1).step_by(2))
+        .collect();
+    documented.sort_unstable();
+    let mut known: Vec<&str> = umbral::verify::QUANTITIES.clone();
+    known.sort_unstable();
+    assert_eq!(documented, known);
+}

@@ -9,9 +9,10 @@ use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
 use std::path::Path;
-use umbral::bounds::allowed_margin;
+use umbral::bounds::{allowed_margin, SizeMeasure};
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::numfmt::Num;
+use umbral::observables::Quantity;
 use umbral::output::OutputTransaction;
 use umbral::run::Controls;
 use umbral::scan::{GridAxis, ScanError, ScanPoint, ScanRequest, ScanSummary};
@@ -228,10 +229,12 @@ fn exclusion_plot(
     radii: &DerivedRadii,
     m: &Measurement,
 ) -> Result<String, CliError> {
-    let key = match size_measure {
-        SizeMeasureArg::Mean => "mean_radius",
-        SizeMeasureArg::Area => "area_radius",
-    };
+    // The observable the bound engine compares for this size measure.
+    let size = match size_measure {
+        SizeMeasureArg::Mean => SizeMeasure::Mean,
+        SizeMeasureArg::Area => SizeMeasure::Area,
+    }
+    .quantity();
     let (ax, ay) = (&request.axes[0], &request.axes[1]);
     // Points are in grid order with the second axis fastest; the contour grid wants x
     // (first axis) fastest.
@@ -243,10 +246,10 @@ fn exclusion_plot(
             for i in 0..ax.count {
                 let p = at(i, j);
                 // Positive inside the allowed region (the bound's margins at this point).
-                let v = match p.observable(key) {
+                let v = match p.quantity(size) {
                     Some(s) if p.status == "shadow" => allowed_margin(
                         s,
-                        p.observable("circularity_deviation"),
+                        p.quantity(Quantity::CircularityDeviation),
                         [iv.low, iv.high],
                         m.circularity_max,
                     ),

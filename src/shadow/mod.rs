@@ -88,8 +88,17 @@ pub const EXTERIOR_CHECK_RADIUS: f64 = 1.0e3;
 /// `NoShadow` (from `solver`) when the metric is singular on a surface outside its outer
 /// horizon, or outside the central region of a horizonless metric, between it and the
 /// observer ([`crate::metric::exterior_singularity`]): the exterior is not a regular
-/// spacetime, so no shadow is computed. Every solver calls this first.
-pub(crate) fn singular_exterior(
+/// spacetime, so no shadow is computed. Every solver calls this first, the crate's and a
+/// program's own (the dispatch does not: the crate's solvers call it in their public entry
+/// points, which are also called directly).
+///
+/// ```
+/// use umbral::prelude::*;
+/// use umbral::shadow::{singular_exterior, Observer};
+///
+/// assert!(singular_exterior(&Kerr::new(0.9).unwrap(), &Observer::distant(1.0), "mine").is_none());
+/// ```
+pub fn singular_exterior(
     spacetime: &dyn Spacetime,
     observer: &Observer,
     solver: &'static str,
