@@ -11,6 +11,7 @@
 //! crates (argmin-math, anyhow, rand_xoshiro, web-time, ...) for two short functions.
 
 use roots::{find_root_brent, Convergency};
+use std::convert::Infallible;
 
 /// Why a one-dimensional root search failed.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -282,23 +283,132 @@ impl Triple {
 /// assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-12);
 /// ```
 pub fn bisect_predicate<P: FnMut(f64) -> bool>(
+    pred: P,
+    good: f64,
+    bad: f64,
+    tol: f64,
+) -> (f64, f64) {
+    bisect_predicate_steps(pred, good, bad, tol, usize::MAX)
+}
+
+/// [`bisect_predicate`] with at most `max_steps` evaluations of `pred`. With `tol = 0` it
+/// stops at adjacent doubles.
+///
+/// ```
+/// use umbral::numerics::bisect_predicate_steps;
+/// let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 200);
+/// assert_eq!(good.next_up(), bad);
+/// let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 3);
+/// assert_eq!((good, bad), (1.25, 1.5));
+/// ```
+pub fn bisect_predicate_steps<P: FnMut(f64) -> bool>(
+    mut pred: P,
+    good: f64,
+    bad: f64,
+    tol: f64,
+    max_steps: usize,
+) -> (f64, f64) {
+    let found = try_bisect(
+        |x| Ok::<bool, Infallible>(pred(x)),
+        good,
+        bad,
+        tol,
+        max_steps,
+    );
+    found.unwrap_or_else(|e| match e {})
+}
+
+/// [`bisect_predicate_steps`] for a predicate that can fail: its first error stops the
+/// search and is returned.
+///
+/// ```
+/// use umbral::numerics::try_bisect;
+/// let pred = |x: f64| if x > 1.9 { Err("too far") } else { Ok(x * x < 2.0) };
+/// let (good, bad) = try_bisect(pred, 0.0, 1.5, 1e-9, usize::MAX)?;
+/// assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-9);
+/// // The first midpoint of [0, 4] is 2, where the predicate fails.
+/// assert_eq!(try_bisect(pred, 0.0, 4.0, 1e-9, usize::MAX), Err("too far"));
+/// # Ok::<(), &str>(())
+/// ```
+pub fn try_bisect<E, P: FnMut(f64) -> Result<bool, E>>(
     mut pred: P,
     mut good: f64,
     mut bad: f64,
     tol: f64,
-) -> (f64, f64) {
-    while (good - bad).abs() > tol {
+    max_steps: usize,
+) -> Result<(f64, f64), E> {
+    let mut steps = 0;
+    while (good - bad).abs() > tol && steps < max_steps {
         let mid = 0.5 * (good + bad);
         if mid == good || mid == bad {
             break;
         }
-        if pred(mid) {
+        steps += 1;
+        if pred(mid)? {
             good = mid;
         } else {
             bad = mid;
         }
     }
-    (good, bad)
+    Ok((good, bad))
+}
+
+/// What a function evaluated by [`safeguarded_newton`] says at a point.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum NewtonEval {
+    /// The point is a root to the caller's accuracy (e.g. the value is at its rounding level).
+    Root,
+    /// The value and the slope there.
+    Slope(f64, f64),
+}
+
+/// A root of a function that decreases through it (positive below, negative above) in the
+/// bracket `[lo, hi]`, from `start`, by Newton's method safeguarded by bisection (a Newton
+/// step that leaves the shrinking bracket is replaced by its midpoint; Press et al. 2007,
+/// "Numerical Recipes", 3rd ed., §9.4, `rtsafe`). After each step `settled(previous, next,
+/// lo, hi)` decides whether to stop at `next`. `None` after `max_iter` steps.
+///
+/// ```
+/// use umbral::numerics::{safeguarded_newton, NewtonEval};
+/// let f = |x: f64| NewtonEval::Slope(2.0 - x * x, -2.0 * x);
+/// let settled = |a: f64, b: f64, _lo: f64, _hi: f64| (a - b).abs() <= 1e-15;
+/// let r = safeguarded_newton(f, [0.0, 2.0], 1.0, 100, settled).unwrap();
+/// assert!((r - 2f64.sqrt()).abs() < 1e-15);
+/// ```
+pub fn safeguarded_newton<F, S>(
+    mut f: F,
+    [mut lo, mut hi]: [f64; 2],
+    start: f64,
+    max_iter: usize,
+    mut settled: S,
+) -> Option<f64>
+where
+    F: FnMut(f64) -> NewtonEval,
+    S: FnMut(f64, f64, f64, f64) -> bool,
+{
+    let mut x = start;
+    for _ in 0..max_iter {
+        let (value, slope) = match f(x) {
+            NewtonEval::Root => return Some(x),
+            NewtonEval::Slope(value, slope) => (value, slope),
+        };
+        if value > 0.0 {
+            lo = x;
+        } else {
+            hi = x;
+        }
+        // A slope of the wrong sign, zero or NaN sends the step outside (or to NaN): bisect.
+        let mut next = x - value / slope;
+        if !(next > lo && next < hi) {
+            next = 0.5 * (lo + hi);
+        }
+        let previous = x;
+        x = next;
+        if settled(previous, x, lo, hi) {
+            return Some(x);
+        }
+    }
+    None
 }
 
 /// The minimum of a fallible `f` in a bracket a < b < c with f(b) ≤ f(a), f(c): successive
@@ -361,32 +471,122 @@ pub fn parabolic_min<E>(
 /// assert!((x - 0.25).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
 /// # Ok::<(), ()>(())
 /// ```
-pub fn golden_max<E>(
-    f: &dyn Fn(f64) -> Result<f64, E>,
-    mut lo: f64,
-    mut hi: f64,
-) -> Result<(f64, f64), E> {
-    let ratio = 0.5 * (5f64.sqrt() - 1.0);
-    let mut x1 = hi - ratio * (hi - lo);
-    let mut x2 = lo + ratio * (hi - lo);
-    let (mut f1, mut f2) = (f(x1)?, f(x2)?);
+pub fn golden_max<E>(f: &dyn Fn(f64) -> Result<f64, E>, lo: f64, hi: f64) -> Result<(f64, f64), E> {
+    let mut g = GoldenBracket::new(lo, hi, f)?;
     for _ in 0..200 {
-        if hi - lo <= 1e-13 * (1.0 + lo.abs()) {
+        if g.hi - g.lo <= 1e-13 * (1.0 + g.lo.abs()) {
             break;
         }
-        if f1 >= f2 {
-            hi = x2;
-            x2 = x1;
-            f2 = f1;
-            x1 = hi - ratio * (hi - lo);
-            f1 = f(x1)?;
+        let x = g.shrink();
+        g.accept(f(x)?);
+    }
+    Ok(g.best())
+}
+
+/// A golden-section bracket for a maximum (Kiefer 1953, Proc. AMS 4, 502; Brent 1973, ch. 5):
+/// the interval [lo, hi] and two interior points x1 < x2 at the golden ratio, with their
+/// values. [`golden_max`] drives it to a fixed width; a caller with its own stopping rule
+/// steps it with [`GoldenBracket::shrink`] and [`GoldenBracket::accept`].
+///
+/// ```
+/// use umbral::numerics::GoldenBracket;
+/// let f = |x: f64| -> Result<f64, ()> { Ok(-(x - 0.25).powi(2)) };
+/// let mut g = GoldenBracket::new(0.0, 1.0, f)?;
+/// while g.hi - g.lo > 1e-9 {
+///     let x = g.shrink();
+///     assert!(g.new_point_inside());
+///     g.accept(f(x)?);
+/// }
+/// assert!((g.best().0 - 0.25).abs() < 1e-9);
+/// # Ok::<(), ()>(())
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GoldenBracket {
+    /// The low end of the bracket.
+    pub lo: f64,
+    /// The high end of the bracket.
+    pub hi: f64,
+    /// The lower interior point, at hi − 0.618 (hi − lo).
+    pub x1: f64,
+    /// The function's value at `x1`.
+    pub f1: f64,
+    /// The upper interior point, at lo + 0.618 (hi − lo).
+    pub x2: f64,
+    /// The function's value at `x2`.
+    pub f2: f64,
+    /// Which interior point [`GoldenBracket::shrink`] last replaced (true: x1).
+    replaced_low: bool,
+}
+
+impl GoldenBracket {
+    /// The bracket [lo, hi] with both interior points evaluated (x1 first).
+    pub fn new<E>(lo: f64, hi: f64, mut f: impl FnMut(f64) -> Result<f64, E>) -> Result<Self, E> {
+        let ratio = Self::ratio();
+        let x1 = hi - ratio * (hi - lo);
+        let x2 = lo + ratio * (hi - lo);
+        let f1 = f(x1)?;
+        let f2 = f(x2)?;
+        Ok(GoldenBracket {
+            lo,
+            hi,
+            x1,
+            f1,
+            x2,
+            f2,
+            replaced_low: false,
+        })
+    }
+
+    fn ratio() -> f64 {
+        0.5 * (5f64.sqrt() - 1.0)
+    }
+
+    /// Drop the part beyond the worse interior point and return the new interior point,
+    /// whose value goes to [`GoldenBracket::accept`].
+    pub fn shrink(&mut self) -> f64 {
+        let ratio = Self::ratio();
+        if self.f1 >= self.f2 {
+            self.hi = self.x2;
+            self.x2 = self.x1;
+            self.f2 = self.f1;
+            self.x1 = self.hi - ratio * (self.hi - self.lo);
+            self.replaced_low = true;
+            self.x1
         } else {
-            lo = x1;
-            x1 = x2;
-            f1 = f2;
-            x2 = lo + ratio * (hi - lo);
-            f2 = f(x2)?;
+            self.lo = self.x1;
+            self.x1 = self.x2;
+            self.f1 = self.f2;
+            self.x2 = self.lo + ratio * (self.hi - self.lo);
+            self.replaced_low = false;
+            self.x2
         }
     }
-    Ok(if f1 >= f2 { (x1, f1) } else { (x2, f2) })
+
+    /// Whether the point [`GoldenBracket::shrink`] returned lies strictly between its
+    /// neighbours (false once rounding has exhausted the bracket).
+    pub fn new_point_inside(&self) -> bool {
+        if self.replaced_low {
+            self.x1 > self.lo && self.x1 < self.x2
+        } else {
+            self.x2 > self.x1 && self.x2 < self.hi
+        }
+    }
+
+    /// The value at the point [`GoldenBracket::shrink`] returned.
+    pub fn accept(&mut self, value: f64) {
+        if self.replaced_low {
+            self.f1 = value;
+        } else {
+            self.f2 = value;
+        }
+    }
+
+    /// The better interior point and its value (x1 on a tie).
+    pub fn best(&self) -> (f64, f64) {
+        if self.f1 >= self.f2 {
+            (self.x1, self.f1)
+        } else {
+            (self.x2, self.f2)
+        }
+    }
 }

@@ -20,6 +20,7 @@
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
 use crate::metric::Spacetime;
+use crate::numerics::{safeguarded_newton, NewtonEval};
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
 // Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
 use crate::shadow::{
@@ -313,7 +314,7 @@ fn extreme(
         let u1 = -dir[0] * s + dir[1] * c; // d/dψ
         (r1 * u + r * u1, r2 * u + 2.0 * r1 * u1 - r * u)
     };
-    let (mut lo, mut hi) = (psi_k - h, psi_k + h);
+    let (lo, hi) = (psi_k - h, psi_k + h);
     let (g_lo, g_hi) = (derivatives(lo).0, derivatives(hi).0);
     if !(g_lo >= 0.0 && g_hi <= 0.0) {
         // No bracket on the interpolant (e.g. a flat edge with ripples): keep the best sample.
@@ -328,30 +329,24 @@ fn extreme(
         };
         Ok(Extreme { point })
     };
-    let mut psi = psi_k;
-    for _ in 0..100 {
+    let eval = |psi: f64| {
         let (g, g1) = derivatives(psi);
         if g == 0.0 {
-            return finish(psi);
-        }
-        if g > 0.0 {
-            lo = psi;
+            NewtonEval::Root
         } else {
-            hi = psi;
+            NewtonEval::Slope(g, g1)
         }
-        let mut next = psi - g / g1;
-        if !(next > lo && next < hi && g1 < 0.0) {
-            next = 0.5 * (lo + hi);
-        }
-        let done = (next - psi).abs() <= 4.0 * f64::EPSILON * (1.0 + psi.abs());
-        psi = next;
-        if done || hi - lo <= 4.0 * f64::EPSILON * (1.0 + psi.abs()) {
-            return finish(psi);
-        }
+    };
+    let settled = |previous: f64, psi: f64, lo: f64, hi: f64| {
+        (psi - previous).abs() <= 4.0 * f64::EPSILON * (1.0 + previous.abs())
+            || hi - lo <= 4.0 * f64::EPSILON * (1.0 + psi.abs())
+    };
+    match safeguarded_newton(eval, [lo, hi], psi_k, 100, settled) {
+        Some(psi) => finish(psi),
+        None => Err(ObservablesError::NotConverged(format!(
+            "extreme of the curve in direction {dir:?} did not converge"
+        ))),
     }
-    Err(ObservablesError::NotConverged(format!(
-        "extreme of the curve in direction {dir:?} did not converge"
-    )))
 }
 
 /// The distance R_c(φ_j) from `centre` to the curve at the polar angles φ_j = 2πj/`samples`
@@ -396,57 +391,12 @@ fn radii_about_with(
         )));
     }
     let n = curve.len();
-    let (alphas, betas) = curve.alpha_beta();
     let not_star = || ObservablesError::NotStarShaped {
         alpha: centre[0],
         beta: centre[1],
     };
-    // Polar angles of the samples about the centre, unwrapped; they must increase by < π per
-    // step and by 2π once round.
-    let mut angles = Vec::with_capacity(n + 1);
-    for k in 0..n {
-        let (x, y) = (alphas[k] - centre[0], betas[k] - centre[1]);
-        if x == 0.0 && y == 0.0 {
-            return Err(not_star());
-        }
-        let raw = y.atan2(x);
-        let angle = match angles.last() {
-            None => raw,
-            Some(&prev) => {
-                let mut a = raw;
-                while a <= prev - PI {
-                    a += TAU;
-                }
-                while a > prev + PI {
-                    a -= TAU;
-                }
-                a
-            }
-        };
-        if let Some(&prev) = angles.last() {
-            if !(angle > prev) {
-                return Err(not_star());
-            }
-        }
-        angles.push(angle);
-    }
-    let closing = angles[n - 1] + {
-        let raw = (betas[0] - centre[1]).atan2(alphas[0] - centre[0]);
-        let mut d = raw - angles[n - 1];
-        while d <= -PI {
-            d += TAU;
-        }
-        while d > PI {
-            d -= TAU;
-        }
-        d
-    };
-    if !(closing > angles[n - 1]) || (closing - angles[0] - TAU).abs() > 1e-9 {
-        return Err(not_star());
-    }
-    angles.push(angles[0] + TAU);
+    let angles = unwrapped_angles(curve, centre).ok_or_else(not_star)?;
     let d = [curve.origin[0] - centre[0], curve.origin[1] - centre[1]];
-    let h = TAU / n as f64;
     let mut out = Vec::with_capacity(samples);
     let mut k = 0usize;
     for j in 0..samples {
@@ -466,48 +416,12 @@ fn radii_about_with(
             k += 1;
         }
         let k_bracket = k.min(n - 1);
-        let (mut lo, mut hi) = (h * k_bracket as f64, h * (k_bracket + 1) as f64);
         let (sp, cp) = phi.sin_cos();
-        let offset = d[0] * sp - d[1] * cp;
-        let f = |psi: f64| -> (f64, f64, f64) {
-            let [r, r1] = table.radius_slope(psi);
-            let (s, c) = (phi - psi).sin_cos();
-            (offset + r * s, r1 * s - r * c, r)
-        };
-        let mut psi =
-            lo + h * (phi - angles[k_bracket]) / (angles[k_bracket + 1] - angles[k_bracket]);
-        let mut converged = false;
-        for _ in 0..100 {
-            let (value, slope, r) = f(psi);
-            // At the rounding level of F the root is placed to a few ulps: stop.
-            if value.abs() <= 2.0 * f64::EPSILON * (offset.abs() + r) {
-                converged = true;
-                break;
-            }
-            // F > 0 before the intersection (the curve point is at a smaller angle), < 0 after.
-            if value > 0.0 {
-                lo = psi;
-            } else {
-                hi = psi;
-            }
-            let mut next = psi - value / slope;
-            if !(next > lo && next < hi) {
-                next = 0.5 * (lo + hi);
-            }
-            let step = (next - psi).abs();
-            psi = next;
-            if step <= 2.0 * f64::EPSILON * (1.0 + psi.abs())
-                || hi - lo <= 2.0 * f64::EPSILON * (1.0 + psi.abs())
-            {
-                converged = true;
-                break;
-            }
-        }
-        if !converged {
+        let Some(psi) = ray_crossing(table, d, &angles, k_bracket, phi) else {
             return Err(ObservablesError::NotConverged(format!(
                 "ray from {centre:?} at angle {phi} did not meet the curve"
             )));
-        }
+        };
         let r = table.radius(psi);
         let (s, c) = psi.sin_cos();
         let distance = (d[0] + r * c) * cp + (d[1] + r * s) * sp;
@@ -517,6 +431,95 @@ fn radii_about_with(
         out.push(distance);
     }
     Ok(out)
+}
+
+/// Polar angles of the curve's samples about `centre`, unwrapped, then the first plus 2π:
+/// `None` unless they increase by < π per step and by 2π once round (a star-shaped curve).
+fn unwrapped_angles(curve: &CriticalCurve, centre: [f64; 2]) -> Option<Vec<f64>> {
+    let n = curve.len();
+    let (alphas, betas) = curve.alpha_beta();
+    let mut angles = Vec::with_capacity(n + 1);
+    for k in 0..n {
+        let (x, y) = (alphas[k] - centre[0], betas[k] - centre[1]);
+        if x == 0.0 && y == 0.0 {
+            return None;
+        }
+        let raw = y.atan2(x);
+        let angle = match angles.last() {
+            None => raw,
+            Some(&prev) => {
+                let mut a = raw;
+                while a <= prev - PI {
+                    a += TAU;
+                }
+                while a > prev + PI {
+                    a -= TAU;
+                }
+                a
+            }
+        };
+        if let Some(&prev) = angles.last() {
+            if !(angle > prev) {
+                return None;
+            }
+        }
+        angles.push(angle);
+    }
+    let closing = angles[n - 1] + {
+        let raw = (betas[0] - centre[1]).atan2(alphas[0] - centre[0]);
+        let mut d = raw - angles[n - 1];
+        while d <= -PI {
+            d += TAU;
+        }
+        while d > PI {
+            d -= TAU;
+        }
+        d
+    };
+    if !(closing > angles[n - 1]) || (closing - angles[0] - TAU).abs() > 1e-9 {
+        return None;
+    }
+    angles.push(angles[0] + TAU);
+    Some(angles)
+}
+
+/// The curve parameter ψ where the ray from the centre at polar angle `phi` meets the curve,
+/// between samples `k` and `k + 1` (`angles` from [`unwrapped_angles`]; `d` = origin −
+/// centre): the root of F(ψ) = d × e_φ + R(ψ) sin(φ − ψ) by [`safeguarded_newton`] from the
+/// linear interpolation of the angles. `None` if it does not converge.
+fn ray_crossing(
+    table: &InterpolantTable,
+    d: [f64; 2],
+    angles: &[f64],
+    k: usize,
+    phi: f64,
+) -> Option<f64> {
+    let h = TAU / (angles.len() - 1) as f64;
+    let (lo, hi) = (h * k as f64, h * (k + 1) as f64);
+    let (sp, cp) = phi.sin_cos();
+    let offset = d[0] * sp - d[1] * cp;
+    let f = |psi: f64| -> (f64, f64, f64) {
+        let [r, r1] = table.radius_slope(psi);
+        let (s, c) = (phi - psi).sin_cos();
+        (offset + r * s, r1 * s - r * c, r)
+    };
+    let start = lo + h * (phi - angles[k]) / (angles[k + 1] - angles[k]);
+    let eval = |psi: f64| {
+        let (value, slope, r) = f(psi);
+        // At the rounding level of F the root is placed to a few ulps: stop.
+        if value.abs() <= 2.0 * f64::EPSILON * (offset.abs() + r) {
+            NewtonEval::Root
+        } else {
+            // F > 0 before the intersection (the curve point is at a smaller angle), < 0
+            // after.
+            NewtonEval::Slope(value, slope)
+        }
+    };
+    let settled = |previous: f64, psi: f64, lo: f64, hi: f64| {
+        (psi - previous).abs() <= 2.0 * f64::EPSILON * (1.0 + psi.abs())
+            || hi - lo <= 2.0 * f64::EPSILON * (1.0 + psi.abs())
+    };
+    safeguarded_newton(eval, [lo, hi], start, 100, settled)
 }
 
 /// Area ½∮R² dψ and area centroid ((1/3A)∮R³ cos ψ dψ, (1/3A)∮R³ sin ψ dψ) + origin, by the
@@ -591,6 +594,7 @@ impl Observables {
     /// assert!((obs.centroid_offset - 0.5).abs() < 1e-14);
     /// assert!(obs.fractional_deviation_mean.abs() < 1e-14);
     /// ```
+    // Long: one formula after another for the observables (extremes, area, centroid, radii, circularity, Hioki–Maeda fit), each using those before, ending in the struct literal; the pieces are already helpers.
     pub fn from_curve(
         curve: &CriticalCurve,
         centre: CentreChoice,

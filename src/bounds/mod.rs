@@ -575,22 +575,8 @@ fn check_range(what: &str, low: f64, high: f64) -> Result<(), BoundError> {
     Ok(())
 }
 
-fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
-    let s = &request.settings;
-    let positive_tolerance = s.parameter_tolerance.is_finite() && s.parameter_tolerance > 0.0;
-    if !(3..=MAX_INITIAL_GRID).contains(&s.initial_grid)
-        || !positive_tolerance
-        || s.nuisance.grid < 2
-    {
-        return Err(BoundError::BadSettings {
-            initial_grid: s.initial_grid,
-        });
-    }
-    check_range(
-        &format!("the range of {}", request.vary.name),
-        request.vary.low,
-        request.vary.high,
-    )?;
+/// Fixed values finite, nuisance ranges valid and not the inclination, no name twice.
+fn check_names(request: &BoundRequest) -> Result<(), BoundError> {
     let mut names = vec![request.vary.name.clone()];
     for (n, v) in &request.fixed {
         if !v.is_finite() {
@@ -613,28 +599,17 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
             return Err(BoundError::Repeated(n.clone()));
         }
     }
-    if request.radii.intervals.is_empty() {
-        return Err(BoundError::NoIntervals);
-    }
-    // Domains are intervals: building at the corners checks every name and value.
-    let corner = |pick_high: bool| -> Vec<(String, f64)> {
-        let mut a = request.fixed.clone();
-        a.push((
-            request.vary.name.clone(),
-            if pick_high {
-                request.vary.high
-            } else {
-                request.vary.low
-            },
-        ));
-        for p in &request.nuisance {
-            a.push((p.name.clone(), if pick_high { p.high } else { p.low }));
-        }
-        a
-    };
-    let low_metric = request.metric.build(&corner(false))?;
-    request.metric.build(&corner(true))?;
-    let spherical = low_metric.symmetry() == Symmetry::Spherical;
+    Ok(())
+}
+
+/// The nuisance dimensions and their ranges (the parameters, then the inclination when it
+/// ranges over an interval and the metric is not spherical) and the inclination used when it
+/// is not a dimension (radians).
+#[allow(clippy::type_complexity)]
+fn nuisance_dimensions(
+    request: &BoundRequest,
+    spherical: bool,
+) -> Result<(Vec<Dimension>, Vec<(f64, f64)>, f64), BoundError> {
     let degrees_ok = |d: f64| d.is_finite() && (0.0..=180.0).contains(&d);
     let mut dims: Vec<Dimension> = request
         .nuisance
@@ -670,6 +645,49 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     if dims.len() > 3 {
         return Err(BoundError::TooManyNuisance(dims.len()));
     }
+    Ok((dims, ranges, fixed_inclination))
+}
+
+fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
+    let s = &request.settings;
+    let positive_tolerance = s.parameter_tolerance.is_finite() && s.parameter_tolerance > 0.0;
+    if !(3..=MAX_INITIAL_GRID).contains(&s.initial_grid)
+        || !positive_tolerance
+        || s.nuisance.grid < 2
+    {
+        return Err(BoundError::BadSettings {
+            initial_grid: s.initial_grid,
+        });
+    }
+    check_range(
+        &format!("the range of {}", request.vary.name),
+        request.vary.low,
+        request.vary.high,
+    )?;
+    check_names(request)?;
+    if request.radii.intervals.is_empty() {
+        return Err(BoundError::NoIntervals);
+    }
+    // Domains are intervals: building at the corners checks every name and value.
+    let corner = |pick_high: bool| -> Vec<(String, f64)> {
+        let mut a = request.fixed.clone();
+        a.push((
+            request.vary.name.clone(),
+            if pick_high {
+                request.vary.high
+            } else {
+                request.vary.low
+            },
+        ));
+        for p in &request.nuisance {
+            a.push((p.name.clone(), if pick_high { p.high } else { p.low }));
+        }
+        a
+    };
+    let low_metric = request.metric.build(&corner(false))?;
+    request.metric.build(&corner(true))?;
+    let spherical = low_metric.symmetry() == Symmetry::Spherical;
+    let (dims, ranges, fixed_inclination) = nuisance_dimensions(request, spherical)?;
     Ok(Prepared {
         request,
         dims,
@@ -759,35 +777,12 @@ pub fn allowed_margin(
     .fold(f64::INFINITY, f64::min)
 }
 
-fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
+/// The assumptions about the nuisance box: its ranges, how its extremes are found, and
+/// what counts as allowed.
+fn nuisance_assumptions(prep: &Prepared, partial: bool) -> Vec<String> {
     let r = prep.request;
     let s = &r.settings;
-    let mut a = r.radii.assumptions.clone();
-    for iv in &r.radii.intervals {
-        a.push(format!(
-            "r_sh/M interval at confidence {}: [{:.6}, {:.6}]",
-            iv.confidence, iv.low, iv.high
-        ));
-    }
-    a.push(match r.size_measure {
-        SizeMeasure::Mean => "size measure: mean radius of the critical curve about its area \
-                              centroid"
-            .to_string(),
-        SizeMeasure::Area => {
-            "size measure: area radius sqrt(Area/pi) of the critical curve".to_string()
-        }
-    });
-    a.push(match (r.inclination, prep.spherical) {
-        (_, true) => "inclination: irrelevant for a spherically symmetric metric".to_string(),
-        (Inclination::Fixed { degrees }, false) => format!("inclination: fixed at {degrees} deg"),
-        (
-            Inclination::Range {
-                low_degrees,
-                high_degrees,
-            },
-            false,
-        ) => format!("inclination: nuisance over [{low_degrees}, {high_degrees}] deg"),
-    });
+    let mut a = Vec::new();
     for p in &r.nuisance {
         a.push(format!("nuisance: {} over [{}, {}]", p.name, p.low, p.high));
     }
@@ -819,6 +814,39 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
              area centroid) is at most {c}"
         ));
     }
+    a
+}
+
+fn describe(prep: &Prepared, partial: bool, node_count: usize) -> Vec<String> {
+    let r = prep.request;
+    let s = &r.settings;
+    let mut a = r.radii.assumptions.clone();
+    for iv in &r.radii.intervals {
+        a.push(format!(
+            "r_sh/M interval at confidence {}: [{:.6}, {:.6}]",
+            iv.confidence, iv.low, iv.high
+        ));
+    }
+    a.push(match r.size_measure {
+        SizeMeasure::Mean => "size measure: mean radius of the critical curve about its area \
+                              centroid"
+            .to_string(),
+        SizeMeasure::Area => {
+            "size measure: area radius sqrt(Area/pi) of the critical curve".to_string()
+        }
+    });
+    a.push(match (r.inclination, prep.spherical) {
+        (_, true) => "inclination: irrelevant for a spherically symmetric metric".to_string(),
+        (Inclination::Fixed { degrees }, false) => format!("inclination: fixed at {degrees} deg"),
+        (
+            Inclination::Range {
+                low_degrees,
+                high_degrees,
+            },
+            false,
+        ) => format!("inclination: nuisance over [{low_degrees}, {high_degrees}] deg"),
+    });
+    a.extend(nuisance_assumptions(prep, partial));
     a.push(format!(
         "varied parameter: {} over [{}, {}], uniform starting grid of {} points ({} nodes \
          after refinement), category changes (no horizon, no shadow, failure) located by \

@@ -143,19 +143,10 @@ impl Goal {
     }
 }
 
-/// Min and max of the size, and min of ΔC, over the box `dims` (may be empty).
-pub fn extremes(
-    model: &dyn PointModel,
-    dims: &[(f64, f64)],
-    circularity_limit: Option<f64>,
-    search: &NuisanceSearch,
-) -> Aggregate {
-    let axes: Vec<Vec<f64>> = dims
-        .iter()
-        .map(|&(lo, hi)| linspace(lo, hi, search.grid))
-        .collect();
+/// Every point of the product grid of `axes` (the last axis fastest).
+fn grid_points(axes: &[Vec<f64>]) -> Vec<Vec<f64>> {
     let mut points: Vec<Vec<f64>> = vec![Vec::new()];
-    for axis in &axes {
+    for axis in axes {
         points = points
             .into_iter()
             .flat_map(|p| {
@@ -167,13 +158,18 @@ pub fn extremes(
             })
             .collect();
     }
-    let values: Vec<PointValue> = points.par_iter().map(|p| model.value(p)).collect();
+    points
+}
+
+/// The outcome when the grid has no usable value: a failure (the first), no horizon
+/// anywhere, or no shadow anywhere (the first reason); `None` when some point is valid.
+fn without_valid_point(values: &[PointValue]) -> Option<Aggregate> {
     if let Some(PointValue::Failed(m)) = values.iter().find(|v| matches!(v, PointValue::Failed(_)))
     {
-        return Aggregate::Failed(m.clone());
+        return Some(Aggregate::Failed(m.clone()));
     }
     if values.iter().all(|v| matches!(v, PointValue::NoHorizon)) {
-        return Aggregate::NoHorizon;
+        return Some(Aggregate::NoHorizon);
     }
     if !values.iter().any(|v| matches!(v, PointValue::Valid { .. })) {
         let reason = values
@@ -183,7 +179,26 @@ pub fn extremes(
                 _ => None,
             })
             .unwrap_or_default();
-        return Aggregate::NoShadow(reason);
+        return Some(Aggregate::NoShadow(reason));
+    }
+    None
+}
+
+/// Min and max of the size, and min of ΔC, over the box `dims` (may be empty).
+pub fn extremes(
+    model: &dyn PointModel,
+    dims: &[(f64, f64)],
+    circularity_limit: Option<f64>,
+    search: &NuisanceSearch,
+) -> Aggregate {
+    let axes: Vec<Vec<f64>> = dims
+        .iter()
+        .map(|&(lo, hi)| linspace(lo, hi, search.grid))
+        .collect();
+    let points = grid_points(&axes);
+    let values: Vec<PointValue> = points.par_iter().map(|p| model.value(p)).collect();
+    if let Some(outcome) = without_valid_point(&values) {
+        return outcome;
     }
     let partial = values
         .iter()
@@ -245,6 +260,7 @@ pub fn extremes(
 }
 
 #[allow(clippy::too_many_arguments)]
+// Long: coordinate sweeps of one goal over the box, each line refined in place of the running best point; the sweep state (best point, value, axes, locks) is shared by every step.
 fn refine_goal(
     model: &dyn PointModel,
     dims: &[(f64, f64)],
@@ -333,6 +349,7 @@ fn refine_goal(
 }
 
 /// Refine the minimum of a function sampled at `nodes` with values `f` (+inf = undefined).
+// Long: one 1-D refinement: the wall search beside the grid minimum and the Brent minimisation share the `wall` closure, the running best point and the backoff.
 fn refine_line(
     nodes: &[f64],
     f: &[f64],

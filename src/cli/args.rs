@@ -1,8 +1,9 @@
 //! Shared argument types and the command-line error.
 
-use clap::Args;
+use clap::{Args, ValueEnum};
 use std::fmt;
 use std::path::PathBuf;
+use umbral::bounds::SizeMeasure;
 use umbral::error::MetricError;
 use umbral::metric::Spacetime;
 use umbral::metrics::MetricSource;
@@ -215,5 +216,22 @@ pub fn checkpoint_message(e: &umbral::run::CheckpointError, flag: &str) -> Strin
         }
         CheckpointError::InUse { .. } => format!("{e} or use another {flag}"),
         CheckpointError::Io { .. } | CheckpointError::Read { .. } => e.to_string(),
+    }
+}
+
+/// `--size-measure`: the command-line spelling of [`SizeMeasure`].
+#[derive(Debug, Clone, Copy, ValueEnum)]
+pub enum SizeMeasureArg {
+    Mean,
+    Area,
+}
+
+impl SizeMeasureArg {
+    /// The library's size measure.
+    pub fn measure(self) -> SizeMeasure {
+        match self {
+            SizeMeasureArg::Mean => SizeMeasure::Mean,
+            SizeMeasureArg::Area => SizeMeasure::Area,
+        }
     }
 }

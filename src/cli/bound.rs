@@ -1,17 +1,15 @@
 //! `umbral bound`: allowed ranges of a metric parameter from a measured shadow or ring.
 
-use super::args::{checkpoint_message, parse_assignments, parse_finite};
+use super::args::{checkpoint_message, parse_assignments, parse_finite, SizeMeasureArg};
 use super::interrupt;
 use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::bound_plot;
 use super::progress::ProgressArgs;
 use super::CliError;
-use clap::{Args, ValueEnum};
+use clap::Args;
 use std::io::Write;
 use std::path::{Path, PathBuf};
-use umbral::bounds::{
-    BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
-};
+use umbral::bounds::{BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange};
 use umbral::measurement::Measurement;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
@@ -19,12 +17,6 @@ use umbral::run::bound::{
     bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundRunError,
 };
 use umbral::run::{CheckpointError, Controls};
-
-#[derive(Debug, Clone, Copy, ValueEnum)]
-enum SizeMeasureArg {
-    Mean,
-    Area,
-}
 
 #[derive(Debug, Args)]
 pub struct BoundArgs {
@@ -174,10 +166,7 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         fixed,
         inclination,
         nuisance,
-        size_measure: match args.size_measure {
-            SizeMeasureArg::Mean => SizeMeasure::Mean,
-            SizeMeasureArg::Area => SizeMeasure::Area,
-        },
+        size_measure: args.size_measure.measure(),
         radii,
         circularity_max: measurement.circularity_max,
         settings: BoundSettings {

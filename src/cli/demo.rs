@@ -531,6 +531,47 @@ fn bound_summary(b: &BoundResult) -> String {
     s
 }
 
+/// The report's section on one bound: the allowed ranges at each level, the values neither
+/// allowed nor excluded, and the assumptions.
+fn bound_section(b: &BoundResult, figure: &str) -> String {
+    let mut r = String::new();
+    r.push_str(&format!(
+        "### {} of {}\n\n![bound]({figure})\n\n",
+        b.vary.name, b.metric
+    ));
+    for l in &b.levels {
+        r.push_str(&format!(
+            "* {:.0}%: allowed {}\n",
+            100.0 * l.confidence,
+            b.describe_allowed(&l.allowed, 4)
+        ));
+    }
+    if !b.no_horizon.is_empty() {
+        r.push_str(&format!(
+            "* no horizon (neither allowed nor excluded): {}\n",
+            intervals(&b.no_horizon)
+        ));
+    }
+    if !b.failures.is_empty() {
+        r.push_str(&format!(
+            "* solver failures (neither allowed nor excluded): {} range(s)\n",
+            b.failures.len()
+        ));
+    }
+    if !b.refinement_cut.is_empty() {
+        r.push_str(&format!(
+            "* less precise near {} value(s) where a solver failure stopped the nuisance refinement\n",
+            b.refinement_cut.len()
+        ));
+    }
+    r.push_str("\nAssumptions:\n\n");
+    for a in &b.assumptions {
+        r.push_str(&format!("* {a}\n"));
+    }
+    r.push('\n');
+    r
+}
+
 fn report_text(
     sc: &Scenario,
     settings: &ShadowSettings,
@@ -578,40 +619,7 @@ fn report_text(
         .iter()
         .zip(["bound-reissner-nordstrom.svg", "bound-johannsen.svg"])
     {
-        r.push_str(&format!(
-            "### {} of {}\n\n![bound]({figure})\n\n",
-            b.vary.name, b.metric
-        ));
-        for l in &b.levels {
-            r.push_str(&format!(
-                "* {:.0}%: allowed {}\n",
-                100.0 * l.confidence,
-                b.describe_allowed(&l.allowed, 4)
-            ));
-        }
-        if !b.no_horizon.is_empty() {
-            r.push_str(&format!(
-                "* no horizon (neither allowed nor excluded): {}\n",
-                intervals(&b.no_horizon)
-            ));
-        }
-        if !b.failures.is_empty() {
-            r.push_str(&format!(
-                "* solver failures (neither allowed nor excluded): {} range(s)\n",
-                b.failures.len()
-            ));
-        }
-        if !b.refinement_cut.is_empty() {
-            r.push_str(&format!(
-                "* less precise near {} value(s) where a solver failure stopped the nuisance refinement\n",
-                b.refinement_cut.len()
-            ));
-        }
-        r.push_str("\nAssumptions:\n\n");
-        for a in &b.assumptions {
-            r.push_str(&format!("* {a}\n"));
-        }
-        r.push('\n');
+        r.push_str(&bound_section(b, figure));
     }
     r.push_str(
         "## Exclusion map\n\nKerr-Newman over spin and charge (scan-kerr-newman.jsonl), allowed regions at each level:\n\n\

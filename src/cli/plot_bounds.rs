@@ -2,6 +2,7 @@
 
 use super::plot::{finish, plot_error};
 use super::CliError;
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use umbral::bounds::BoundResult;
 
@@ -22,7 +23,9 @@ pub fn bound_plot(path: &str, result: &BoundResult) -> Result<String, CliError> 
     Ok(svg)
 }
 
-fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result<(), CliError> {
+/// The size axis of [`bound_plot`]: every prediction and measured interval, padded (twice
+/// below, for the allowed bars); (low, high, pad).
+fn size_range(result: &BoundResult) -> (f64, f64, f64) {
     let ok: Vec<(f64, f64, f64)> = result
         .predicted
         .iter()
@@ -39,30 +42,40 @@ fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result
         y_hi = y_hi.max(l.radius_interval[1]);
     }
     let pad = 0.08 * (y_hi - y_lo).max(1e-3);
-    let (y_lo, y_hi) = (y_lo - 2.0 * pad, y_hi + pad);
+    (y_lo - 2.0 * pad, y_hi + pad, pad)
+}
+
+/// Contiguous runs of nodes with a prediction: (value, size_min, size_max).
+fn prediction_runs(result: &BoundResult) -> Vec<Vec<(f64, f64, f64)>> {
+    let mut runs: Vec<Vec<(f64, f64, f64)>> = Vec::new();
+    let mut last_ok = false;
+    for p in &result.predicted {
+        match (p.size_min, p.size_max) {
+            (Some(a), Some(b)) => {
+                if !last_ok {
+                    runs.push(Vec::new());
+                }
+                if let Some(r) = runs.last_mut() {
+                    r.push((p.value, a, b));
+                }
+                last_ok = true;
+            }
+            _ => last_ok = false,
+        }
+    }
+    runs
+}
+
+/// The measured intervals of every level as shaded bands across the plot (widest first so
+/// narrower ones sit on top) and the allowed ranges as bars near the bottom, `pad` apart
+/// from `y_lo` up.
+fn draw_levels<'a>(
+    chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
+    result: &BoundResult,
+    (y_lo, pad): (f64, f64),
+    path: &str,
+) -> Result<(), CliError> {
     let (x_lo, x_hi) = (result.vary.low, result.vary.high);
-    let root = SVGBackend::with_string(svg, (820, 560)).into_drawing_area();
-    root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
-    let mut chart = ChartBuilder::on(&root)
-        .caption(
-            format!("{}: bound on {}", result.metric, result.vary.name),
-            ("sans-serif", 20),
-        )
-        .margin(16)
-        .x_label_area_size(44)
-        .y_label_area_size(56)
-        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
-        .map_err(|e| plot_error(path, e))?;
-    chart
-        .configure_mesh()
-        .x_desc(result.vary.name.as_str())
-        .y_desc(format!(
-            "predicted {} radius r_sh / M",
-            result.size_measure.name()
-        ))
-        .draw()
-        .map_err(|e| plot_error(path, e))?;
-    // Measured intervals, widest first so narrower ones sit on top.
     let mut order: Vec<usize> = (0..result.levels.len()).collect();
     order.sort_by(|&a, &b| {
         let w =
@@ -97,23 +110,36 @@ fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result
                 .map_err(|e| plot_error(path, e))?;
         }
     }
-    // The prediction band (contiguous runs of nodes with a prediction).
-    let mut runs: Vec<Vec<(f64, f64, f64)>> = Vec::new();
-    let mut last_ok = false;
-    for p in &result.predicted {
-        match (p.size_min, p.size_max) {
-            (Some(a), Some(b)) => {
-                if !last_ok {
-                    runs.push(Vec::new());
-                }
-                if let Some(r) = runs.last_mut() {
-                    r.push((p.value, a, b));
-                }
-                last_ok = true;
-            }
-            _ => last_ok = false,
-        }
-    }
+    Ok(())
+}
+
+fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result<(), CliError> {
+    let (y_lo, y_hi, pad) = size_range(result);
+    let (x_lo, x_hi) = (result.vary.low, result.vary.high);
+    let root = SVGBackend::with_string(svg, (820, 560)).into_drawing_area();
+    root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
+    let mut chart = ChartBuilder::on(&root)
+        .caption(
+            format!("{}: bound on {}", result.metric, result.vary.name),
+            ("sans-serif", 20),
+        )
+        .margin(16)
+        .x_label_area_size(44)
+        .y_label_area_size(56)
+        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
+        .map_err(|e| plot_error(path, e))?;
+    chart
+        .configure_mesh()
+        .x_desc(result.vary.name.as_str())
+        .y_desc(format!(
+            "predicted {} radius r_sh / M",
+            result.size_measure.name()
+        ))
+        .draw()
+        .map_err(|e| plot_error(path, e))?;
+    draw_levels(&mut chart, result, (y_lo, pad), path)?;
+    // The prediction band.
+    let runs = prediction_runs(result);
     for (k, run) in runs.iter().enumerate() {
         let mut outline: Vec<(f64, f64)> = run.iter().map(|&(x, a, _)| (x, a)).collect();
         outline.extend(run.iter().rev().map(|&(x, _, b)| (x, b)));

@@ -1,28 +1,21 @@
 //! `umbral scan`: observables on a parameter grid, streamed to JSON lines and resumable.
 
-use super::args::{checkpoint_message, parse_assignments, parse_finite};
+use super::args::{checkpoint_message, parse_assignments, parse_finite, SizeMeasureArg};
 use super::bound::parse_levels;
 use super::interrupt;
 use super::plot::{stage_plot, write_plot};
 use super::plot_bounds::{allowed_polygons, exclusion_map, AllowedRegion};
 use super::progress::ProgressArgs;
 use super::CliError;
-use clap::{Args, ValueEnum};
+use clap::Args;
 use std::path::Path;
-use umbral::bounds::{allowed_margin, SizeMeasure};
+use umbral::bounds::SizeMeasure;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::numfmt::Num;
-use umbral::observables::Quantity;
 use umbral::output::OutputTransaction;
 use umbral::run::Controls;
-use umbral::scan::{GridAxis, ScanError, ScanPoint, ScanRequest, ScanSummary};
+use umbral::scan::{GridAxis, ScanError, ScanRequest, ScanSummary};
 use umbral::shadow::ShadowSettings;
-
-#[derive(Debug, Clone, Copy, ValueEnum)]
-enum SizeMeasureArg {
-    Mean,
-    Area,
-}
 
 #[derive(Debug, Args)]
 pub struct ScanArgs {
@@ -183,7 +176,14 @@ pub fn run_in(
         count("failed")
     )?;
     if let (Some(path), Some(radii), Some(m)) = (&args.plot, &radii, &measurement) {
-        let svg = exclusion_plot(path, args.size_measure, &request, &summary, radii, m)?;
+        let svg = exclusion_plot(
+            path,
+            args.size_measure.measure(),
+            &request,
+            &summary,
+            radii,
+            m,
+        )?;
         write_plot(outputs, path, &svg)?;
         outln!("  exclusion map written to '{path}'")?;
     }
@@ -223,41 +223,17 @@ fn scan_with_progress(
 /// The exclusion map of a finished two-axis scan, as SVG text.
 fn exclusion_plot(
     path: &str,
-    size_measure: SizeMeasureArg,
+    size_measure: SizeMeasure,
     request: &ScanRequest,
     summary: &ScanSummary,
     radii: &DerivedRadii,
     m: &Measurement,
 ) -> Result<String, CliError> {
-    // The observable the bound engine compares for this size measure.
-    let size = match size_measure {
-        SizeMeasureArg::Mean => SizeMeasure::Mean,
-        SizeMeasureArg::Area => SizeMeasure::Area,
-    }
-    .quantity();
     let (ax, ay) = (&request.axes[0], &request.axes[1]);
-    // Points are in grid order with the second axis fastest; the contour grid wants x
-    // (first axis) fastest.
-    let at = |i: usize, j: usize| -> &ScanPoint { &summary.points[i * ay.count + j] };
     let mut regions = Vec::new();
     for iv in &radii.intervals {
-        let mut values = vec![0.0; ax.count * ay.count];
-        for j in 0..ay.count {
-            for i in 0..ax.count {
-                let p = at(i, j);
-                // Positive inside the allowed region (the bound's margins at this point).
-                let v = match p.quantity(size) {
-                    Some(s) if p.status == "shadow" => allowed_margin(
-                        s,
-                        p.quantity(Quantity::CircularityDeviation),
-                        [iv.low, iv.high],
-                        m.circularity_max,
-                    ),
-                    _ => -1.0,
-                };
-                values[j * ax.count + i] = v;
-            }
-        }
+        let values =
+            summary.allowed_margins([ax, ay], size_measure, [iv.low, iv.high], m.circularity_max);
         regions.push(AllowedRegion {
             confidence: iv.confidence,
             polygons: allowed_polygons(

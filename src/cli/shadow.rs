@@ -9,7 +9,9 @@ use std::collections::BTreeMap;
 use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::numfmt::Num;
-use umbral::observables::{CentreChoice, Observables, Quantity};
+use umbral::observables::{
+    CentreChoice, Observables, ObservablesError, Quantity, Shadow, ShadowRequest,
+};
 use umbral::output::OutputTransaction;
 use umbral::shadow::observer::celestial_curve;
 use umbral::shadow::{
@@ -113,24 +115,26 @@ pub fn shadow_report(
     settings: &ShadowSettings,
     centre: CentreChoice,
 ) -> Result<ShadowReport, CliError> {
-    let result =
-        shadow::solve(metric, observer, settings).map_err(|e| CliError::usage(e.to_string()))?;
+    let request = ShadowRequest {
+        observer: *observer,
+        settings: *settings,
+        centre,
+    };
+    let Shadow {
+        result,
+        observables,
+    } = umbral::observables::shadow(metric, &request)
+        .map_err(|e| CliError::usage(e.to_string()))?;
     let info = metric.info();
     let (status, reason) = match &result.status {
         ShadowStatus::Shadow => ("shadow", None),
         ShadowStatus::NoShadow { reason } => ("no_shadow", Some(reason.clone())),
     };
-    let observables = match &result.curve {
-        Some(curve) => Some(
-            Observables::from_curve(
-                curve,
-                centre,
-                metric.outer_horizon(),
-                result.photon_orbit_radii,
-            )
-            .map_err(|e| CliError::usage(e.to_string()))?,
-        ),
-        None => None,
+    // No curve means no observables; a curve they cannot be read from is an error.
+    let observables = match observables {
+        Ok(o) => Some(o),
+        Err(ObservablesError::NoShadow(_)) => None,
+        Err(e) => return Err(CliError::usage(e.to_string())),
     };
     let curve = result.curve.as_ref().map(|c| {
         let (alpha, beta) = c.alpha_beta();
@@ -274,15 +278,22 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
     ] {
         quantity(q)?;
     }
+    print_orbit_rows(rep, o)
+}
+
+/// The rows about the horizon and the photon orbits: horizon radius, Lyapunov and ring
+/// exponents (or why γ is undefined), photon orbit radii.
+fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError> {
+    let row = |name: &str, x: f64, unit: &str| outln!("  {name:<28}{x:>20.12} {unit}");
     if let Some(h) = o.horizon_radius {
-        row("horizon radius", h, "M", false)?;
+        row("horizon radius", h, "M")?;
     }
     if let Some(e) = &rep.exponents {
         if let Some(l) = e.lyapunov {
-            row("Lyapunov exponent", l, "1/M", false)?;
+            row("Lyapunov exponent", l, "1/M")?;
         }
         if e.gamma_min == e.gamma_max {
-            row("ring exponent gamma", e.gamma_min, "", false)?;
+            row("ring exponent gamma", e.gamma_min, "")?;
         } else {
             outln!(
                 "  {:<28}{:>20.12} .. {:.12}",
@@ -314,12 +325,28 @@ fn csv_text(reports: &[ShadowReport]) -> String {
     text
 }
 
-pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
-    if let Some(path) = &args.plot {
-        super::args::check_svg_path(path)?;
-    }
-    let (inclination_deg, observer, settings) = settings_from(args)?;
-    let theta_g = match &args.mass_distance_uas {
+/// The solved curves for the plot, each labelled by its parameters.
+fn screen_curves_of(reports: &[ShadowReport]) -> Vec<ScreenCurve> {
+    reports
+        .iter()
+        .filter_map(|rep| {
+            rep.curve.as_ref().map(|c| ScreenCurve {
+                label: rep
+                    .parameters
+                    .iter()
+                    .map(|(k, v)| format!("{k} = {v}"))
+                    .collect::<Vec<_>>()
+                    .join(", "),
+                alpha: c.alpha.clone(),
+                beta: c.beta.clone(),
+            })
+        })
+        .collect()
+}
+
+/// `--mass-distance-uas`: θ_g in micro-arcseconds, positive.
+fn theta_g_from(text: Option<&str>) -> Result<Option<f64>, CliError> {
+    Ok(match text {
         Some(t) => {
             let theta_g = parse_finite(t, "--mass-distance-uas")?;
             if theta_g <= 0.0 {
@@ -331,7 +358,15 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
             Some(theta_g)
         }
         None => None,
-    };
+    })
+}
+
+pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
+    if let Some(path) = &args.plot {
+        super::args::check_svg_path(path)?;
+    }
+    let (inclination_deg, observer, settings) = settings_from(args)?;
+    let theta_g = theta_g_from(args.mass_distance_uas.as_deref())?;
     let centre = match args.centre {
         CentreArg::Centroid => CentreChoice::Centroid,
         CentreArg::Midpoint => CentreChoice::Midpoint,
@@ -359,21 +394,7 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         outputs.write(Path::new(path), csv_text(&reports).as_bytes())?;
     }
     if let Some(path) = &args.plot {
-        let curves: Vec<ScreenCurve> = reports
-            .iter()
-            .filter_map(|rep| {
-                rep.curve.as_ref().map(|c| ScreenCurve {
-                    label: rep
-                        .parameters
-                        .iter()
-                        .map(|(k, v)| format!("{k} = {v}"))
-                        .collect::<Vec<_>>()
-                        .join(", "),
-                    alpha: c.alpha.clone(),
-                    beta: c.beta.clone(),
-                })
-            })
-            .collect();
+        let curves = screen_curves_of(&reports);
         let title = format!(
             "{} shadow, inclination {inclination_deg} deg",
             source.name()

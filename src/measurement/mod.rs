@@ -192,6 +192,77 @@ fn line_of(text: &str, offset: usize) -> usize {
     text[..offset.min(text.len())].matches('\n').count() + 1
 }
 
+/// `[size.shadow_radius]`: at least one interval, each with a valid level, 0 < low < high,
+/// and no level twice.
+fn check_shadow_radius(s: &FileShadowRadius) -> Result<(), MeasurementError> {
+    if s.intervals.is_empty() {
+        return Err(MeasurementError::Invalid(
+            "size.shadow_radius.intervals is empty".into(),
+        ));
+    }
+    for (k, iv) in s.intervals.iter().enumerate() {
+        check_level(finite("a confidence", iv.confidence)?)?;
+        let (lo, hi) = (finite("low", iv.low)?, finite("high", iv.high)?);
+        if !(lo > 0.0 && lo < hi) {
+            return Err(MeasurementError::Invalid(format!(
+                "size.shadow_radius interval {}: need 0 < low < high, got [{}, {}]",
+                k + 1,
+                Num(lo),
+                Num(hi)
+            )));
+        }
+        if s.intervals[..k]
+            .iter()
+            .any(|o| o.confidence == iv.confidence)
+        {
+            return Err(MeasurementError::Invalid(format!(
+                "size.shadow_radius: confidence {} given twice",
+                iv.confidence
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// `[size.fractional_deviation]`: finite, with non-negative errors.
+fn check_fractional_deviation(f: &FractionalDeviation) -> Result<(), MeasurementError> {
+    finite("size.fractional_deviation.value", f.value)?;
+    for (what, x) in [("minus", f.minus), ("plus", f.plus)] {
+        if finite(&format!("size.fractional_deviation.{what}"), x)? < 0.0 {
+            return Err(MeasurementError::Invalid(format!(
+                "size.fractional_deviation.{what} must not be negative, got {}",
+                Num(x)
+            )));
+        }
+    }
+    Ok(())
+}
+
+/// `[size.ring]`: the ring chain, with one angular scale (mass and distance, or θ_g).
+fn ring_chain(r: FileRing) -> Result<RingChain, MeasurementError> {
+    let scale = match (r.mass_msun, r.distance_mpc, r.theta_g_uas) {
+        (Some(mass_msun), Some(distance_mpc), None) => AngularScale::MassDistance {
+            mass_msun,
+            distance_mpc,
+        },
+        (None, None, Some(theta_g_uas)) => AngularScale::ThetaG { theta_g_uas },
+        _ => {
+            return Err(MeasurementError::Invalid(
+                "size.ring needs either mass_msun and distance_mpc, or theta_g_uas \
+                 (not both)"
+                    .into(),
+            ))
+        }
+    };
+    let chain = RingChain {
+        diameter_uas: r.diameter_uas,
+        ring_to_shadow: r.ring_to_shadow,
+        scale,
+    };
+    chain.validate()?;
+    Ok(chain)
+}
+
 impl Measurement {
     /// Read and validate a measurement file.
     pub fn from_path(path: &Path) -> Result<Self, MeasurementError> {
@@ -229,66 +300,13 @@ impl Measurement {
             )));
         }
         let size = if let Some(s) = file.size.shadow_radius {
-            if s.intervals.is_empty() {
-                return Err(MeasurementError::Invalid(
-                    "size.shadow_radius.intervals is empty".into(),
-                ));
-            }
-            for (k, iv) in s.intervals.iter().enumerate() {
-                check_level(finite("a confidence", iv.confidence)?)?;
-                let (lo, hi) = (finite("low", iv.low)?, finite("high", iv.high)?);
-                if !(lo > 0.0 && lo < hi) {
-                    return Err(MeasurementError::Invalid(format!(
-                        "size.shadow_radius interval {}: need 0 < low < high, got [{}, {}]",
-                        k + 1,
-                        Num(lo),
-                        Num(hi)
-                    )));
-                }
-                if s.intervals[..k]
-                    .iter()
-                    .any(|o| o.confidence == iv.confidence)
-                {
-                    return Err(MeasurementError::Invalid(format!(
-                        "size.shadow_radius: confidence {} given twice",
-                        iv.confidence
-                    )));
-                }
-            }
+            check_shadow_radius(&s)?;
             SizeMeasurement::ShadowRadius(s.intervals)
         } else if let Some(f) = file.size.fractional_deviation {
-            finite("size.fractional_deviation.value", f.value)?;
-            for (what, x) in [("minus", f.minus), ("plus", f.plus)] {
-                if finite(&format!("size.fractional_deviation.{what}"), x)? < 0.0 {
-                    return Err(MeasurementError::Invalid(format!(
-                        "size.fractional_deviation.{what} must not be negative, got {}",
-                        Num(x)
-                    )));
-                }
-            }
+            check_fractional_deviation(&f)?;
             SizeMeasurement::FractionalDeviation(f)
         } else if let Some(r) = file.size.ring {
-            let scale = match (r.mass_msun, r.distance_mpc, r.theta_g_uas) {
-                (Some(mass_msun), Some(distance_mpc), None) => AngularScale::MassDistance {
-                    mass_msun,
-                    distance_mpc,
-                },
-                (None, None, Some(theta_g_uas)) => AngularScale::ThetaG { theta_g_uas },
-                _ => {
-                    return Err(MeasurementError::Invalid(
-                        "size.ring needs either mass_msun and distance_mpc, or theta_g_uas \
-                         (not both)"
-                            .into(),
-                    ))
-                }
-            };
-            let chain = RingChain {
-                diameter_uas: r.diameter_uas,
-                ring_to_shadow: r.ring_to_shadow,
-                scale,
-            };
-            chain.validate()?;
-            SizeMeasurement::Ring(chain)
+            SizeMeasurement::Ring(ring_chain(r)?)
         } else {
             unreachable!("exactly one size form was checked above")
         };
@@ -364,117 +382,134 @@ impl Measurement {
                 check_level(l)?;
             }
         }
-        let mut assumptions = Vec::new();
         match &self.size {
-            SizeMeasurement::ShadowRadius(given) => {
-                let intervals = match levels {
-                    None => given.clone(),
-                    Some(ls) => ls
-                        .iter()
-                        .map(|&l| {
-                            given
-                                .iter()
-                                .find(|g| (g.confidence - l).abs() <= 1e-12)
-                                .copied()
-                                .ok_or_else(|| {
-                                    MeasurementError::Invalid(format!(
-                                        "the file gives no shadow-radius interval at \
-                                         confidence {l}"
-                                    ))
-                                })
-                        })
-                        .collect::<Result<_, _>>()?,
-                };
-                assumptions.push(
-                    "size: the shadow-radius intervals of the measurement file, used as given"
-                        .into(),
-                );
-                Ok(DerivedRadii {
-                    intervals,
-                    ring: None,
-                    assumptions,
-                })
-            }
-            SizeMeasurement::FractionalDeviation(f) => {
-                let ls = levels.unwrap_or(&DEFAULT_LEVELS);
-                let mut intervals = Vec::new();
-                for &confidence in ls {
-                    let z = two_sided_z(confidence).ok_or_else(|| {
-                        MeasurementError::Invalid(format!("bad confidence {confidence}"))
-                    })?;
-                    let (dlo, dhi) = (f.value - z * f.minus, f.value + z * f.plus);
-                    let low = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dlo);
-                    let high = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dhi);
-                    if !(low > 0.0 && low < high) {
-                        return Err(MeasurementError::Invalid(format!(
-                            "fractional deviation {} -{} +{} gives no positive shadow-radius \
-                             interval at confidence {confidence} ([{low}, {high}])",
-                            f.value, f.minus, f.plus
-                        )));
-                    }
-                    assumptions.push(format!(
-                        "size: delta = {} -{} +{} read as [value - z minus, value + z plus] \
-                         with z = {z:.6} at confidence {confidence}: delta in [{dlo:.6}, \
-                         {dhi:.6}], r_sh/M = 3 sqrt(3) (1 + delta) in [{low:.6}, {high:.6}]",
-                        f.value, f.minus, f.plus
-                    ));
-                    intervals.push(RadiusInterval {
-                        confidence,
-                        low,
-                        high,
-                    });
-                }
-                Ok(DerivedRadii {
-                    intervals,
-                    ring: None,
-                    assumptions,
-                })
-            }
-            SizeMeasurement::Ring(chain) => {
-                let ls = levels.unwrap_or(&DEFAULT_LEVELS);
-                let prop = chain.propagate(ls)?;
-                let scale = match chain.scale {
-                    AngularScale::MassDistance {
-                        mass_msun,
-                        distance_mpc,
-                    } => format!(
-                        "theta_g = GM/(c^2 D) from M = {} +- {} Msun and D = {} +- {} Mpc \
-                         (IAU 2015 nominal GM_sun, exact c, IAU 2012 au, parsec = au/tan(1 arcsec))",
-                        mass_msun.value, mass_msun.sigma, distance_mpc.value, distance_mpc.sigma
-                    ),
-                    AngularScale::ThetaG { theta_g_uas } => format!(
-                        "theta_g = {} +- {} uas as given",
-                        theta_g_uas.value, theta_g_uas.sigma
-                    ),
-                };
-                assumptions.push(format!(
-                    "size: r_sh/M = d_ring / (kappa 2 theta_g) with d_ring = {} +- {} uas, \
-                     kappa = ring/shadow diameter = {} +- {} (calibration from the user's \
-                     emission modelling), {scale}",
-                    chain.diameter_uas.value,
-                    chain.diameter_uas.sigma,
-                    chain.ring_to_shadow.value,
-                    chain.ring_to_shadow.sigma
-                ));
-                assumptions.push(format!(
-                    "priors: independent Gaussians truncated to positive values (draws <= 0 \
-                     redrawn: {:?}); Monte Carlo with {} ChaCha8 draws, seed {:#x}; equal-tail \
-                     intervals",
-                    prop.redrawn, prop.samples, prop.seed
-                ));
-                for (mc, lin) in prop.monte_carlo.iter().zip(&prop.linear) {
-                    assumptions.push(format!(
-                        "ring chain at confidence {}: Monte Carlo [{:.6}, {:.6}], first-order \
-                         propagation [{:.6}, {:.6}] (central value {:.6})",
-                        mc.confidence, mc.low, mc.high, lin.low, lin.high, prop.central_value
-                    ));
-                }
-                Ok(DerivedRadii {
-                    intervals: prop.monte_carlo.clone(),
-                    ring: Some(prop),
-                    assumptions,
-                })
-            }
+            SizeMeasurement::ShadowRadius(given) => given_intervals(given, levels),
+            SizeMeasurement::FractionalDeviation(f) => fractional_intervals(f, levels),
+            SizeMeasurement::Ring(chain) => ring_intervals(chain, levels),
         }
     }
+}
+
+/// The file's shadow-radius intervals at `levels` (all of them if `None`), used as given.
+fn given_intervals(
+    given: &[RadiusInterval],
+    levels: Option<&[f64]>,
+) -> Result<DerivedRadii, MeasurementError> {
+    let mut assumptions = Vec::new();
+    let intervals: Vec<RadiusInterval> = match levels {
+        None => given.to_vec(),
+        Some(ls) => ls
+            .iter()
+            .map(|&l| {
+                given
+                    .iter()
+                    .find(|g| (g.confidence - l).abs() <= 1e-12)
+                    .copied()
+                    .ok_or_else(|| {
+                        MeasurementError::Invalid(format!(
+                            "the file gives no shadow-radius interval at \
+                             confidence {l}"
+                        ))
+                    })
+            })
+            .collect::<Result<_, _>>()?,
+    };
+    assumptions
+        .push("size: the shadow-radius intervals of the measurement file, used as given".into());
+    Ok(DerivedRadii {
+        intervals,
+        ring: None,
+        assumptions,
+    })
+}
+
+/// Shadow-radius intervals 3√3 (1 + δ) from a fractional deviation δ at `levels`.
+fn fractional_intervals(
+    f: &FractionalDeviation,
+    levels: Option<&[f64]>,
+) -> Result<DerivedRadii, MeasurementError> {
+    let mut assumptions = Vec::new();
+    let ls = levels.unwrap_or(&DEFAULT_LEVELS);
+    let mut intervals = Vec::new();
+    for &confidence in ls {
+        let z = two_sided_z(confidence)
+            .ok_or_else(|| MeasurementError::Invalid(format!("bad confidence {confidence}")))?;
+        let (dlo, dhi) = (f.value - z * f.minus, f.value + z * f.plus);
+        let low = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dlo);
+        let high = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dhi);
+        if !(low > 0.0 && low < high) {
+            return Err(MeasurementError::Invalid(format!(
+                "fractional deviation {} -{} +{} gives no positive shadow-radius \
+                 interval at confidence {confidence} ([{low}, {high}])",
+                f.value, f.minus, f.plus
+            )));
+        }
+        assumptions.push(format!(
+            "size: delta = {} -{} +{} read as [value - z minus, value + z plus] \
+             with z = {z:.6} at confidence {confidence}: delta in [{dlo:.6}, \
+             {dhi:.6}], r_sh/M = 3 sqrt(3) (1 + delta) in [{low:.6}, {high:.6}]",
+            f.value, f.minus, f.plus
+        ));
+        intervals.push(RadiusInterval {
+            confidence,
+            low,
+            high,
+        });
+    }
+    Ok(DerivedRadii {
+        intervals,
+        ring: None,
+        assumptions,
+    })
+}
+
+/// Shadow-radius intervals from a ring diameter, propagated through the ring chain.
+fn ring_intervals(
+    chain: &RingChain,
+    levels: Option<&[f64]>,
+) -> Result<DerivedRadii, MeasurementError> {
+    let mut assumptions = Vec::new();
+    let ls = levels.unwrap_or(&DEFAULT_LEVELS);
+    let prop = chain.propagate(ls)?;
+    let scale = match chain.scale {
+        AngularScale::MassDistance {
+            mass_msun,
+            distance_mpc,
+        } => format!(
+            "theta_g = GM/(c^2 D) from M = {} +- {} Msun and D = {} +- {} Mpc \
+             (IAU 2015 nominal GM_sun, exact c, IAU 2012 au, parsec = au/tan(1 arcsec))",
+            mass_msun.value, mass_msun.sigma, distance_mpc.value, distance_mpc.sigma
+        ),
+        AngularScale::ThetaG { theta_g_uas } => format!(
+            "theta_g = {} +- {} uas as given",
+            theta_g_uas.value, theta_g_uas.sigma
+        ),
+    };
+    assumptions.push(format!(
+        "size: r_sh/M = d_ring / (kappa 2 theta_g) with d_ring = {} +- {} uas, \
+         kappa = ring/shadow diameter = {} +- {} (calibration from the user's \
+         emission modelling), {scale}",
+        chain.diameter_uas.value,
+        chain.diameter_uas.sigma,
+        chain.ring_to_shadow.value,
+        chain.ring_to_shadow.sigma
+    ));
+    assumptions.push(format!(
+        "priors: independent Gaussians truncated to positive values (draws <= 0 \
+         redrawn: {:?}); Monte Carlo with {} ChaCha8 draws, seed {:#x}; equal-tail \
+         intervals",
+        prop.redrawn, prop.samples, prop.seed
+    ));
+    for (mc, lin) in prop.monte_carlo.iter().zip(&prop.linear) {
+        assumptions.push(format!(
+            "ring chain at confidence {}: Monte Carlo [{:.6}, {:.6}], first-order \
+             propagation [{:.6}, {:.6}] (central value {:.6})",
+            mc.confidence, mc.low, mc.high, lin.low, lin.high, prop.central_value
+        ));
+    }
+    Ok(DerivedRadii {
+        intervals: prop.monte_carlo.clone(),
+        ring: Some(prop),
+        assumptions,
+    })
 }

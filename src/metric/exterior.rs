@@ -38,7 +38,9 @@
 //! ```
 
 use super::{check_point, PointProblem, Spacetime, POINT_SENSITIVITY_LIMIT};
+use crate::numerics::{bisect_predicate_steps, GoldenBracket};
 use crate::numfmt::Num;
+use std::convert::Infallible;
 use std::f64::consts::PI;
 use std::fmt;
 
@@ -229,19 +231,9 @@ fn signature_change<S: Spacetime + ?Sized>(
     b: Sample,
 ) -> (f64, String) {
     let key = |s: &Sample| (s.lorentzian, s.det < 0.0);
-    let (mut lo, mut hi) = (a, b);
-    for _ in 0..200 {
-        let mid = 0.5 * (lo.r + hi.r);
-        if mid <= lo.r || mid >= hi.r {
-            break;
-        }
-        let s = sample(m, mid, theta);
-        if key(&s) == key(&lo) {
-            lo = s;
-        } else {
-            hi = s;
-        }
-    }
+    let (lo, hi) =
+        bisect_predicate_steps(|r| key(&sample(m, r, theta)) == key(&a), a.r, b.r, 0.0, 200);
+    let (lo, hi) = (sample(m, lo, theta), sample(m, hi, theta));
     for s in [lo, hi] {
         if let Err(p) = check_point(m, s.r, theta) {
             return (s.r, describe(&p));
@@ -265,8 +257,8 @@ fn signature_change<S: Spacetime + ?Sized>(
 fn pole<S: Spacetime + ?Sized>(
     m: &S,
     theta: f64,
-    mut lo: f64,
-    mut hi: f64,
+    lo: f64,
+    hi: f64,
     q_grid: f64,
 ) -> Option<(f64, String)> {
     let width = hi - lo;
@@ -278,42 +270,26 @@ fn pole<S: Spacetime + ?Sized>(
             v
         }
     };
-    let ratio = 0.5 * (5f64.sqrt() - 1.0);
-    let mut x1 = hi - ratio * (hi - lo);
-    let mut x2 = lo + ratio * (hi - lo);
-    let (mut f1, mut f2) = (q(x1), q(x2));
+    let mut g =
+        GoldenBracket::new(lo, hi, |r| Ok::<f64, Infallible>(q(r))).unwrap_or_else(|e| match e {});
     let mut checked_growth = false;
     for _ in 0..200 {
-        if !checked_growth && hi - lo < SMOOTH_SHRINK * width {
+        if !checked_growth && g.hi - g.lo < SMOOTH_SHRINK * width {
             checked_growth = true;
-            if f1.max(f2) < POLE_GROWTH * q_grid {
+            if g.f1.max(g.f2) < POLE_GROWTH * q_grid {
                 return None;
             }
         }
-        if f1 >= f2 {
-            hi = x2;
-            x2 = x1;
-            f2 = f1;
-            x1 = hi - ratio * (hi - lo);
-            if !(x1 > lo && x1 < x2) {
-                break;
-            }
-            f1 = q(x1);
-        } else {
-            lo = x1;
-            x1 = x2;
-            f1 = f2;
-            x2 = lo + ratio * (hi - lo);
-            if !(x2 > x1 && x2 < hi) {
-                break;
-            }
-            f2 = q(x2);
+        let x = g.shrink();
+        if !g.new_point_inside() {
+            break;
         }
+        g.accept(q(x));
     }
-    if !checked_growth && f1.max(f2) < POLE_GROWTH * q_grid {
+    if !checked_growth && g.f1.max(g.f2) < POLE_GROWTH * q_grid {
         return None;
     }
-    let best = if f1 >= f2 { x1 } else { x2 };
+    let best = g.best().0;
     // The pole lies within a few doubles of `best`.
     let mut r = best;
     for _ in 0..4 {

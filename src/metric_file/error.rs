@@ -358,6 +358,7 @@ impl MetricFileError {
         tidy(&self.raw_message())
     }
 
+    // Long: one flat match arm per error variant, a table of messages read top to bottom; splitting it would only scatter the wording.
     fn raw_message(&self) -> String {
         match self {
             MetricFileError::Read { path, reason } => {

@@ -143,15 +143,74 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         },
         message: e.message().to_string(),
     })?;
-
     let name = file.name.get_ref();
+    check_metric_name(&src, &file.name)?;
+    let (symmetry, equatorial) = symmetry_of(&src, &file)?;
+    let (parameters, param_index) = parameters_of(&src, &file)?;
+    let param_names: Vec<String> = parameters.iter().map(|p| p.name.clone()).collect();
+    let (scope, helpers, helper_lines) = helpers_of(&src, &file, &param_names, &param_index)?;
+    let helper_names = scope.helpers.clone();
+    let line_element = line_element(&src, &file.line_element, symmetry, &scope, &helper_lines)?;
+
+    let horizon = match &file.horizon {
+        None => HorizonRule::Numerical,
+        Some(h) => {
+            let f = parse_field(&src, h, 0, "horizon")?;
+            HorizonRule::ClosedForm(
+                resolve(&src, &scope, &f, Context::HORIZON, None, &helper_lines)?.0,
+            )
+        }
+    };
+
+    let separation = match &file.separation {
+        None => None,
+        Some(s) => {
+            let s = s.get_ref();
+            let radial = parse_field(&src, &s.radial, 0, "separation.radial")?;
+            let polar = parse_field(&src, &s.polar, 0, "separation.polar")?;
+            Some([
+                resolve(&src, &scope, &radial, Context::RADIAL, None, &helper_lines)?.0,
+                resolve(&src, &scope, &polar, Context::POLAR, None, &helper_lines)?.0,
+            ])
+        }
+    };
+
+    let checks = checks_of(&src, &file, &param_index, &param_names)?;
+
+    let spec = FileMetricSpec {
+        info: MetricInfo {
+            name: name.clone(),
+            title: file.title.clone(),
+            reference: file.reference.clone(),
+            parameters,
+        },
+        path: None,
+        symmetry,
+        equatorial,
+        helper_names,
+        helpers,
+        line_element,
+        horizon,
+        separation,
+        checks,
+    };
+    check_far_field(&src, file.line_element.span(), &spec)?;
+    if let Some(table) = &file.separation {
+        check_separation_data(&src, table.span(), &spec)?;
+    }
+    Ok(spec)
+}
+
+/// The metric's name: letters, digits, '-' or '_' (it is typed on the command line).
+fn check_metric_name(src: &Source, field: &Spanned<String>) -> Result<(), MetricFileError> {
+    let name = field.get_ref();
     if name.is_empty()
         || !name
             .chars()
             .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_')
     {
         return Err(MetricFileError::Invalid {
-            at: src.at(file.name.span(), "name"),
+            at: src.at(field.span(), "name"),
             problem: format!(
                 "bad metric name '{}': expected letters, digits, '-' or '_' (it is typed on \
                  the command line)",
@@ -160,6 +219,11 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         });
     }
 
+    Ok(())
+}
+
+/// The symmetry and whether the metric is symmetric about the equator (always, if spherical).
+fn symmetry_of(src: &Source, file: &FileSchema) -> Result<(Symmetry, bool), MetricFileError> {
     let symmetry = match file.symmetry.get_ref().as_str() {
         "spherical" => Symmetry::Spherical,
         "axisymmetric" => Symmetry::StationaryAxisymmetric,
@@ -188,14 +252,20 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         (Symmetry::Spherical, _) => true,
         (_, flag) => flag.as_ref().is_some_and(|f| *f.get_ref()),
     };
+    Ok((symmetry, equatorial))
+}
 
-    // Parameters: names, domains, defaults.
+/// Parameters: names, domains, defaults; and the index of each by name.
+fn parameters_of(
+    src: &Source,
+    file: &FileSchema,
+) -> Result<(Vec<ParameterSpec>, HashMap<String, usize>), MetricFileError> {
     let mut parameters = Vec::new();
     let mut param_index = HashMap::new();
     for (i, p) in file.parameters.iter().enumerate() {
         let field = format!("parameters[{i}].name");
         let pname = p.name.get_ref();
-        check_new_name(&src, &p.name, &field, &param_index)?;
+        check_new_name(src, &p.name, &field, &param_index)?;
         param_index.insert(pname.clone(), parameters.len());
         let domain = match &p.domain {
             None => Domain::REAL,
@@ -217,8 +287,17 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
         }
         parameters.push(ParameterSpec::new(pname, default, domain, &p.meaning));
     }
-    let param_names: Vec<String> = parameters.iter().map(|p| p.name.clone()).collect();
+    Ok((parameters, param_index))
+}
 
+/// The helpers resolved in order (a helper may use those before it), with the scope every
+/// later expression is resolved in and the line of each helper's name.
+fn helpers_of(
+    src: &Source,
+    file: &FileSchema,
+    param_names: &[String],
+    param_index: &HashMap<String, usize>,
+) -> Result<(Scope, Vec<Node>, Vec<usize>), MetricFileError> {
     // Helpers: "NAME = expression", parsed first so that cycles can be named.
     let mut helper_fields = Vec::new();
     let mut helper_names: Vec<String> = Vec::new();
@@ -249,20 +328,20 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             });
         }
         check_helper_name(
-            &src,
+            src,
             h,
             name_span.clone(),
             &field,
-            &param_index,
+            param_index,
             &helper_index,
         )?;
         helper_index.insert(hname.to_string(), helper_names.len());
         helper_names.push(hname.to_string());
         helper_lines.push(src.line_of(src.string_span(h, name_span).start));
-        helper_fields.push(parse_field(&src, h, eq + 1, &field)?);
+        helper_fields.push(parse_field(src, h, eq + 1, &field)?);
     }
     let mut scope = Scope {
-        params: param_names.clone(),
+        params: param_names.to_vec(),
         param_index: param_index.clone(),
         helpers: helper_names.clone(),
         helper_index,
@@ -278,36 +357,21 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
     };
     let mut helpers = Vec::new();
     for (i, f) in helper_fields.iter().enumerate() {
-        let (node, vars) = resolve(&src, &scope, f, Context::HELPER, Some(i), &helper_lines)?;
+        let (node, vars) = resolve(src, &scope, f, Context::HELPER, Some(i), &helper_lines)?;
         helpers.push(node);
         scope.helper_vars.push(vars);
     }
 
-    let line_element = line_element(&src, &file.line_element, symmetry, &scope, &helper_lines)?;
+    Ok((scope, helpers, helper_lines))
+}
 
-    let horizon = match &file.horizon {
-        None => HorizonRule::Numerical,
-        Some(h) => {
-            let f = parse_field(&src, h, 0, "horizon")?;
-            HorizonRule::ClosedForm(
-                resolve(&src, &scope, &f, Context::HORIZON, None, &helper_lines)?.0,
-            )
-        }
-    };
-
-    let separation = match &file.separation {
-        None => None,
-        Some(s) => {
-            let s = s.get_ref();
-            let radial = parse_field(&src, &s.radial, 0, "separation.radial")?;
-            let polar = parse_field(&src, &s.polar, 0, "separation.polar")?;
-            Some([
-                resolve(&src, &scope, &radial, Context::RADIAL, None, &helper_lines)?.0,
-                resolve(&src, &scope, &polar, Context::POLAR, None, &helper_lines)?.0,
-            ])
-        }
-    };
-
+/// The file's check values, each parameter name known.
+fn checks_of(
+    src: &Source,
+    file: &FileSchema,
+    param_index: &HashMap<String, usize>,
+    param_names: &[String],
+) -> Result<Vec<CheckValue>, MetricFileError> {
     let mut checks = Vec::new();
     for (i, c) in file.checks.iter().enumerate() {
         let mut assigned = Vec::new();
@@ -330,29 +394,7 @@ pub(crate) fn parse_spec(text: &str, label: &str) -> Result<FileMetricSpec, Metr
             source: c.source.clone(),
         });
     }
-
-    let spec = FileMetricSpec {
-        info: MetricInfo {
-            name: name.clone(),
-            title: file.title.clone(),
-            reference: file.reference.clone(),
-            parameters,
-        },
-        path: None,
-        symmetry,
-        equatorial,
-        helper_names,
-        helpers,
-        line_element,
-        horizon,
-        separation,
-        checks,
-    };
-    check_far_field(&src, file.line_element.span(), &spec)?;
-    if let Some(table) = &file.separation {
-        check_separation_data(&src, table.span(), &spec)?;
-    }
-    Ok(spec)
+    Ok(checks)
 }
 
 /// Far from the centre (r = 10³, three polar angles) the line element at the defaults must be

@@ -11,17 +11,7 @@
 /// module understands or the decoding does not reproduce `expected` (then callers point at
 /// the start of the value).
 pub(crate) fn offset_map(raw: &str, expected: &str) -> Option<Vec<usize>> {
-    let (delimiter, escapes) = if raw.starts_with("\"\"\"") {
-        (3, true)
-    } else if raw.starts_with("'''") {
-        (3, false)
-    } else if raw.starts_with('"') {
-        (1, true)
-    } else if raw.starts_with('\'') {
-        (1, false)
-    } else {
-        return None;
-    };
+    let (delimiter, escapes) = delimiter_of(raw)?;
     if raw.len() < 2 * delimiter {
         return None;
     }
@@ -53,53 +43,74 @@ pub(crate) fn offset_map(raw: &str, expected: &str) -> Option<Vec<usize>> {
             k += 1;
             continue;
         }
-        let next = chars.get(k + 1).map(|x| x.1)?;
-        let simple = match next {
-            'b' => Some('\u{8}'),
-            't' => Some('\t'),
-            'n' => Some('\n'),
-            'f' => Some('\u{c}'),
-            'r' => Some('\r'),
-            'e' => Some('\u{1b}'),
-            '"' => Some('"'),
-            '\\' => Some('\\'),
-            _ => None,
-        };
-        if let Some(d) = simple {
+        let (d, after) = escape(&chars, k, delimiter == 3)?;
+        if let Some(d) = d {
             push(&mut decoded, &mut map, d, at);
-            k += 2;
-            continue;
         }
-        let digits = match next {
-            'x' => 2,
-            'u' => 4,
-            'U' => 8,
-            _ => 0,
-        };
-        if digits > 0 {
-            let hex: String = chars
-                .get(k + 2..k + 2 + digits)?
-                .iter()
-                .map(|x| x.1)
-                .collect();
-            let d = char::from_u32(u32::from_str_radix(&hex, 16).ok()?)?;
-            push(&mut decoded, &mut map, d, at);
-            k += 2 + digits;
-            continue;
-        }
-        // A line-ending backslash (multi-line only): skip whitespace and newlines.
-        if delimiter == 3 && next.is_whitespace() {
-            let mut j = k + 1;
-            while j < chars.len() && chars[j].1.is_whitespace() {
-                j += 1;
-            }
-            k = j;
-            continue;
-        }
-        return None;
+        k = after;
     }
     map.push(raw.len() - delimiter);
     (decoded == expected).then_some(map)
+}
+
+/// The length of the opening delimiter of a TOML string and whether it takes escapes.
+fn delimiter_of(raw: &str) -> Option<(usize, bool)> {
+    if raw.starts_with("\"\"\"") {
+        Some((3, true))
+    } else if raw.starts_with("'''") {
+        Some((3, false))
+    } else if raw.starts_with('"') {
+        Some((1, true))
+    } else if raw.starts_with('\'') {
+        Some((1, false))
+    } else {
+        None
+    }
+}
+
+/// The escape whose backslash is `chars[k]`: the character it stands for (`None` for a
+/// line-ending backslash of a multi-line string, which stands for nothing) and the index
+/// after it; `None` for an invalid escape.
+fn escape(chars: &[(usize, char)], k: usize, multi_line: bool) -> Option<(Option<char>, usize)> {
+    let next = chars.get(k + 1).map(|x| x.1)?;
+    let simple = match next {
+        'b' => Some('\u{8}'),
+        't' => Some('\t'),
+        'n' => Some('\n'),
+        'f' => Some('\u{c}'),
+        'r' => Some('\r'),
+        'e' => Some('\u{1b}'),
+        '"' => Some('"'),
+        '\\' => Some('\\'),
+        _ => None,
+    };
+    if let Some(d) = simple {
+        return Some((Some(d), k + 2));
+    }
+    let digits = match next {
+        'x' => 2,
+        'u' => 4,
+        'U' => 8,
+        _ => 0,
+    };
+    if digits > 0 {
+        let hex: String = chars
+            .get(k + 2..k + 2 + digits)?
+            .iter()
+            .map(|x| x.1)
+            .collect();
+        let d = char::from_u32(u32::from_str_radix(&hex, 16).ok()?)?;
+        return Some((Some(d), k + 2 + digits));
+    }
+    // A line-ending backslash (multi-line only): skip whitespace and newlines.
+    if multi_line && next.is_whitespace() {
+        let mut j = k + 1;
+        while j < chars.len() && chars[j].1.is_whitespace() {
+            j += 1;
+        }
+        return Some((None, j));
+    }
+    None
 }
 
 #[cfg(test)]

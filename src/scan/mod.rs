@@ -38,6 +38,7 @@ pub mod lines;
 
 pub use header::FORMAT;
 
+use crate::bounds::{allowed_margin, SizeMeasure};
 use crate::error::MetricError;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
@@ -143,6 +144,73 @@ pub struct ScanSummary {
     pub computed: usize,
     /// Points kept from an earlier, interrupted run.
     pub reused: usize,
+}
+
+impl ScanSummary {
+    /// The bound's allowed margin ([`allowed_margin`]) at every point of a two-axis scan over
+    /// `axes`, for one measured interval `[low, high]` of the size `measure` and the optional
+    /// circularity limit: row-major with the first axis fastest (the order a contour grid
+    /// wants; the points themselves have the last axis fastest). Non-negative means allowed;
+    /// a point without a shadow or without the size is −1 (outside). Needs two axes whose
+    /// counts multiply to the number of points.
+    ///
+    /// ```
+    /// use umbral::bounds::SizeMeasure;
+    /// use umbral::scan::{GridAxis, ScanPoint, ScanSummary};
+    /// let axis = |name: &str| GridAxis { name: name.into(), low: 0.0, high: 1.0, count: 2 };
+    /// let point = |i: usize, j: usize, status: &str, r: f64| ScanPoint {
+    ///     index: vec![i, j],
+    ///     parameters: Default::default(),
+    ///     status: status.into(),
+    ///     horizonless: false,
+    ///     reason: None,
+    ///     solver: None,
+    ///     observables: Some(serde_json::json!({ "mean_radius": r })),
+    /// };
+    /// // Grid order: the second axis fastest.
+    /// let summary = ScanSummary {
+    ///     points: vec![
+    ///         point(0, 0, "shadow", 5.0),
+    ///         point(0, 1, "shadow", 5.3),
+    ///         point(1, 0, "no_horizon", 5.0),
+    ///         point(1, 1, "shadow", 4.9),
+    ///     ],
+    ///     computed: 4,
+    ///     reused: 0,
+    /// };
+    /// let (x, y) = (axis("a"), axis("b"));
+    /// let m = summary.allowed_margins([&x, &y], SizeMeasure::Mean, [4.8, 5.2], None);
+    /// // First axis fastest: (0,0), (1,0), (0,1), (1,1).
+    /// let want = [0.2, -1.0, -0.1, 0.1];
+    /// for (got, want) in m.iter().zip(want) {
+    ///     assert!((got - want).abs() < 1e-12, "{m:?}");
+    /// }
+    /// ```
+    pub fn allowed_margins(
+        &self,
+        axes: [&GridAxis; 2],
+        measure: SizeMeasure,
+        interval: [f64; 2],
+        circularity_max: Option<f64>,
+    ) -> Vec<f64> {
+        let [ax, ay] = axes;
+        let mut values = vec![0.0; ax.count * ay.count];
+        for j in 0..ay.count {
+            for i in 0..ax.count {
+                let p = &self.points[i * ay.count + j];
+                values[j * ax.count + i] = match p.quantity(measure.quantity()) {
+                    Some(s) if p.status == "shadow" => allowed_margin(
+                        s,
+                        p.quantity(Quantity::CircularityDeviation),
+                        interval,
+                        circularity_max,
+                    ),
+                    _ => -1.0,
+                };
+            }
+        }
+        values
+    }
 }
 
 /// Why a scan could not run.

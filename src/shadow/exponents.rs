@@ -287,6 +287,7 @@ fn polar_u(
 }
 
 /// Mino time of half a polar oscillation, G_θ = ∫_{u₋}^{u₊} du/√Θ_u (see [`separable_gamma`]).
+// Long: one computation of ∫du/√Θ_u: grid, peak refinement, turning points and the doubling quadrature share Θ_u, the peak and the band.
 fn polar_mino_half_period(
     spacetime: &dyn Spacetime,
     lambda: f64,

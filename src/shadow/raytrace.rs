@@ -107,6 +107,7 @@ use crate::geodesic::{
     IntegrationFailure, IntegratorSettings, PhaseState,
 };
 use crate::metric::{Spacetime, Symmetry};
+use crate::numerics::try_bisect;
 use crate::scalar::DualScalar;
 use num_dual::Dual64;
 use rayon::prelude::*;
@@ -450,6 +451,52 @@ fn direction(y: &PhaseState) -> [f64; 3] {
     [st * cp, st * sp, ct]
 }
 
+/// Refuse options the tracer cannot use: a start radius below 100 M, non-positive lengths,
+/// widths and tolerances, a validation start radius inside the start radius, too few scan
+/// samples or correction nodes, a non-finite screen offset.
+fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
+    let d = options.start_radius;
+    if !(d.is_finite() && d >= 100.0) {
+        return Err(ShadowError::BadRequest(format!(
+            "the start radius must be at least 100 M, got {d}"
+        )));
+    }
+    let positive = |x: f64| x.is_finite() && x > 0.0;
+    let lengths = [
+        options.capture_margin,
+        options.horizonless_capture_radius,
+        options.domain_edge,
+        options.coarse_width,
+        options.check_width,
+        options.validation_rtol,
+        options.validation_capture_margin,
+        options.winding_far,
+        options.winding_floor,
+        options.winding_ratio,
+        options.interior_scan_spacing,
+        options.interior_scan_extent,
+    ];
+    if !lengths.into_iter().all(positive)
+        || options.validation_start_radius < d
+        || options.scan_samples < 2
+        || options.correction_nodes < 2
+    {
+        return Err(ShadowError::BadRequest(
+            "capture margins and radii, widths, tolerances and scan lengths must be \
+             positive, the validation start radius at least the start radius, scan \
+             samples and correction nodes at least 2"
+                .into(),
+        ));
+    }
+    if !options.screen_offset.iter().all(|x| x.is_finite()) {
+        return Err(ShadowError::BadRequest(format!(
+            "the screen offset must be finite, got {:?}",
+            options.screen_offset
+        )));
+    }
+    Ok(())
+}
+
 /// Below this |p_φ|/E a ray is launched with p_φ = 0 exactly, so that it crosses the axis
 /// through the pole instead of meeting a centrifugal barrier at θ ~ |p_φ|/b, which the
 /// integrator cannot resolve below ~1e-12 (common practice, no source). The screen point moves
@@ -471,45 +518,8 @@ impl<'a> Tracer<'a> {
                  are undefined on the spin axis), got {i}"
             )));
         }
+        check_options(options)?;
         let d = options.start_radius;
-        if !(d.is_finite() && d >= 100.0) {
-            return Err(ShadowError::BadRequest(format!(
-                "the start radius must be at least 100 M, got {d}"
-            )));
-        }
-        let positive = |x: f64| x.is_finite() && x > 0.0;
-        let lengths = [
-            options.capture_margin,
-            options.horizonless_capture_radius,
-            options.domain_edge,
-            options.coarse_width,
-            options.check_width,
-            options.validation_rtol,
-            options.validation_capture_margin,
-            options.winding_far,
-            options.winding_floor,
-            options.winding_ratio,
-            options.interior_scan_spacing,
-            options.interior_scan_extent,
-        ];
-        if !lengths.into_iter().all(positive)
-            || options.validation_start_radius < d
-            || options.scan_samples < 2
-            || options.correction_nodes < 2
-        {
-            return Err(ShadowError::BadRequest(
-                "capture margins and radii, widths, tolerances and scan lengths must be \
-                 positive, the validation start radius at least the start radius, scan \
-                 samples and correction nodes at least 2"
-                    .into(),
-            ));
-        }
-        if !options.screen_offset.iter().all(|x| x.is_finite()) {
-            return Err(ShadowError::BadRequest(format!(
-                "the screen offset must be finite, got {:?}",
-                options.screen_offset
-            )));
-        }
         let horizon = spacetime.outer_horizon();
         // Without a horizon: a metric regular at r = 0 with g_θθ > 0 there has a throat (or,
         // Kerr-like, a disk) at r = 0, through which rays pass to r < 0 and do not return:
@@ -698,6 +708,7 @@ impl<'a> Tracer<'a> {
         self.trace_ray(alpha, beta, self.options.integrator.rtol, true)
     }
 
+    // Long: one loop over the strict and relaxed phases of a ray, sharing the path record, the event and the integrator call; the ray tracer's hot path, kept whole for speed.
     fn trace_ray(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
         let y0 = match self.start_state(alpha, beta) {
             Ok(y) => y,
@@ -1021,8 +1032,6 @@ impl<'a> Tracer<'a> {
 
     /// [`Tracer::boundary_along_line`] with the scan and first bisection stage at relative
     /// tolerance `coarse`; also says whether a crossing was not confirmed at the strict one.
-    /// (Over 80 lines: the scan and the three bisection stages share the `classify` closure
-    /// and the line's counters.)
     fn scan_line(
         &self,
         origin: [f64; 2],
@@ -1031,13 +1040,6 @@ impl<'a> Tracer<'a> {
         scan: &LineScan,
         coarse: f64,
     ) -> (LineBoundary, bool) {
-        let LineScan {
-            spacing,
-            scan_to,
-            tolerance,
-            max_radius,
-        } = *scan;
-        let (sin, cos) = psi.sin_cos();
         let mut line = LineBoundary {
             psi,
             crossings: Vec::new(),
@@ -1047,26 +1049,80 @@ impl<'a> Tracer<'a> {
             steps: 0,
             check: None,
         };
-        let strict = self.options.integrator.rtol;
-        let classify = |rho: f64, rtol: f64, line: &mut LineBoundary| -> Option<bool> {
-            let out = self.trace_with(origin[0] + rho * cos, origin[1] + rho * sin, rtol);
-            line.rays += 1;
-            line.steps += out.steps;
-            match out.fate {
-                RayFate::Captured => Some(true),
-                RayFate::Escaped => Some(false),
-                RayFate::Failed(f) => {
-                    line.failed_rays += 1;
-                    if line.failure.is_none() {
-                        line.failure = Some(format!(
-                            "ray at screen radius {rho} along psi = {psi} failed: {f}"
-                        ));
-                    }
-                    None
-                }
-            }
+        let (sin, cos) = psi.sin_cos();
+        let probe = LineProbe {
+            tracer: self,
+            origin,
+            psi,
+            sin,
+            cos,
         };
-        // Coarse scan: brackets (lo, hi, captured at lo).
+        let Some(brackets) = probe.brackets(origin_captured, scan, coarse, &mut line) else {
+            return (line, false);
+        };
+        for bracket in brackets {
+            match probe.crossing(bracket, scan.tolerance, coarse, &mut line) {
+                Ok(rho) => line.crossings.push(rho),
+                Err(unconfirmed) => return (line, unconfirmed),
+            }
+        }
+        (line, false)
+    }
+}
+
+/// A bracket of the scan along a line: (ρ_lo, ρ_hi, whether the ray at ρ_lo is captured).
+type LineBracket = (f64, f64, bool);
+
+/// Rays along one screen line origin + ρ (cos ψ, sin ψ) ([`Tracer::scan_line`]).
+struct LineProbe<'t, 'a> {
+    tracer: &'t Tracer<'a>,
+    origin: [f64; 2],
+    psi: f64,
+    sin: f64,
+    cos: f64,
+}
+
+impl LineProbe<'_, '_> {
+    /// Whether the ray at ρ is captured (at relative tolerance `rtol`), counted in `line`;
+    /// `None` for a failed ray, whose message `line` keeps (the first one).
+    fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<bool> {
+        let (origin, psi) = (self.origin, self.psi);
+        let out =
+            self.tracer
+                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol);
+        line.rays += 1;
+        line.steps += out.steps;
+        match out.fate {
+            RayFate::Captured => Some(true),
+            RayFate::Escaped => Some(false),
+            RayFate::Failed(f) => {
+                line.failed_rays += 1;
+                if line.failure.is_none() {
+                    line.failure = Some(format!(
+                        "ray at screen radius {rho} along psi = {psi} failed: {f}"
+                    ));
+                }
+                None
+            }
+        }
+    }
+
+    /// The coarse scan at spacing `scan.spacing`: every bracket of a change of fate. `None`
+    /// (with the reason in `line`) for a failed ray or no escaping ray within
+    /// `scan.max_radius`.
+    fn brackets(
+        &self,
+        origin_captured: bool,
+        scan: &LineScan,
+        coarse: f64,
+        line: &mut LineBoundary,
+    ) -> Option<Vec<LineBracket>> {
+        let LineScan {
+            spacing,
+            scan_to,
+            max_radius,
+            ..
+        } = *scan;
         let mut brackets = Vec::new();
         let mut previous = origin_captured;
         let mut last_captured = 0.0;
@@ -1075,13 +1131,12 @@ impl<'a> Tracer<'a> {
             let rho = j as f64 * spacing;
             if rho > max_radius {
                 line.failure = Some(format!(
-                    "no escaping ray found out to screen radius {max_radius} along psi = {psi}"
+                    "no escaping ray found out to screen radius {max_radius} along psi = {}",
+                    self.psi
                 ));
-                return (line, false);
+                return None;
             }
-            let Some(captured) = classify(rho, coarse, &mut line) else {
-                return (line, false);
-            };
+            let captured = self.classify(rho, coarse, line)?;
             if captured != previous {
                 brackets.push(((j - 1) as f64 * spacing, rho, previous));
             }
@@ -1090,68 +1145,68 @@ impl<'a> Tracer<'a> {
             } else if rho >= scan_to
                 && rho >= last_captured + (3.0 * spacing).max(0.5 * last_captured)
             {
-                break;
+                return Some(brackets);
             }
             previous = captured;
             j += 1;
         }
-        let width = self.options.coarse_width;
-        for (scan_lo, scan_hi, captured_lo) in brackets {
-            let (mut lo, mut hi) = (scan_lo, scan_hi);
-            // Stage 1, coarse tolerance: down to the coarse width.
-            while hi - lo > width {
-                let mid = 0.5 * (lo + hi);
-                let Some(captured) = classify(mid, coarse, &mut line) else {
-                    return (line, false);
-                };
-                if captured == captured_lo {
-                    lo = mid;
-                } else {
-                    hi = mid;
-                }
+    }
+
+    /// The crossing in one scan bracket, by bisection in three stages (coarse tolerance down
+    /// to the coarse width; the bracket confirmed at the strict tolerance; strict bisection to
+    /// `tolerance`). `Err(false)` for a failed ray, `Err(true)` if the strict tolerance does
+    /// not confirm the bracket (the reason is in `line`).
+    fn crossing(
+        &self,
+        (scan_lo, scan_hi, captured_lo): LineBracket,
+        tolerance: f64,
+        coarse: f64,
+        line: &mut LineBoundary,
+    ) -> Result<f64, bool> {
+        let strict = self.tracer.options.integrator.rtol;
+        let width = self.tracer.options.coarse_width;
+        let mut same_as_lo = |rho: f64, rtol: f64| {
+            self.classify(rho, rtol, line)
+                .map(|captured| captured == captured_lo)
+                .ok_or(false)
+        };
+        // Stage 1, coarse tolerance: down to the coarse width.
+        let (lo, hi) = try_bisect(
+            |rho| same_as_lo(rho, coarse),
+            scan_lo,
+            scan_hi,
+            width,
+            usize::MAX,
+        )?;
+        // Stage 2: confirm a widened bracket with the strict tolerance (a coarse ray near
+        // the boundary may be misclassified); fall back to the scan bracket.
+        let mut confirmed = None;
+        for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
+            let inside_a = same_as_lo(a, strict)?;
+            let inside_b = same_as_lo(b, strict)?;
+            if inside_a && !inside_b {
+                confirmed = Some((a, b));
+                break;
             }
-            // Stage 2: confirm a widened bracket with the strict tolerance (a coarse ray near
-            // the boundary may be misclassified); fall back to the scan bracket.
-            let mut confirmed = false;
-            for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
-                let Some(fate_a) = classify(a, strict, &mut line) else {
-                    return (line, false);
-                };
-                let Some(fate_b) = classify(b, strict, &mut line) else {
-                    return (line, false);
-                };
-                if fate_a == captured_lo && fate_b != captured_lo {
-                    (lo, hi) = (a, b);
-                    confirmed = true;
-                    break;
-                }
-            }
-            if !confirmed {
-                line.failure = Some(format!(
-                    "the crossing between screen radii {scan_lo} and {scan_hi} along psi = {psi} \
-                     is not confirmed at the strict tolerance"
-                ));
-                return (line, true);
-            }
-            // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of
-            // every point of the bracket.
-            while hi - lo > 2.0 * tolerance {
-                let mid = 0.5 * (lo + hi);
-                if mid <= lo || mid >= hi {
-                    break;
-                }
-                let Some(captured) = classify(mid, strict, &mut line) else {
-                    return (line, false);
-                };
-                if captured == captured_lo {
-                    lo = mid;
-                } else {
-                    hi = mid;
-                }
-            }
-            line.crossings.push(0.5 * (lo + hi));
         }
-        (line, false)
+        let Some((lo, hi)) = confirmed else {
+            line.failure = Some(format!(
+                "the crossing between screen radii {scan_lo} and {scan_hi} along psi = {} is \
+                 not confirmed at the strict tolerance",
+                self.psi
+            ));
+            return Err(true);
+        };
+        // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
+        // point of the bracket.
+        let (lo, hi) = try_bisect(
+            |rho| same_as_lo(rho, strict),
+            lo,
+            hi,
+            2.0 * tolerance,
+            usize::MAX,
+        )?;
+        Ok(0.5 * (lo + hi))
     }
 }
 
@@ -1450,7 +1505,7 @@ pub fn trace_curve(
         max_radius: 0.25 * tracer.escape_radius,
     };
     let traced = if mirror { n / 2 + 1 } else { n };
-    let mut lines: Vec<LineBoundary> = (0..traced)
+    let lines: Vec<LineBoundary> = (0..traced)
         .into_par_iter()
         .map(|k| {
             let psi = TAU * k as f64 / n as f64;
@@ -1459,33 +1514,40 @@ pub fn trace_curve(
             line
         })
         .collect();
-    for line in &lines {
-        report.count(line);
-    }
-    if mirror {
-        for k in traced..n {
-            let mut image = lines[n - k].clone();
-            image.psi = TAU * k as f64 / n as f64;
-            image.rays = 0;
-            image.failed_rays = 0;
-            image.steps = 0;
-            lines.push(image);
-        }
-    }
-    for line in &lines {
-        if line.failure.is_none() && line.crossings.len() > 1 {
-            report.diagnostics.star_shaped = false;
-            report
-                .diagnostics
-                .extra_crossings
-                .push((line.psi, line.crossings.clone()));
-        }
-    }
-    report.lines = lines;
+    report.add_lines(lines, n, mirror);
     finish(report)
 }
 
 impl RaytraceReport {
+    /// Take the traced lines (the first `lines.len()` of `n` angles): count their rays, add
+    /// the mirror images of the rest when `mirror` (uncounted: no rays were traced for
+    /// them), and note every line with more than one crossing.
+    fn add_lines(&mut self, mut lines: Vec<LineBoundary>, n: usize, mirror: bool) {
+        let traced = lines.len();
+        for line in &lines {
+            self.count(line);
+        }
+        if mirror {
+            for k in traced..n {
+                let mut image = lines[n - k].clone();
+                image.psi = TAU * k as f64 / n as f64;
+                image.rays = 0;
+                image.failed_rays = 0;
+                image.steps = 0;
+                lines.push(image);
+            }
+        }
+        for line in &lines {
+            if line.failure.is_none() && line.crossings.len() > 1 {
+                self.diagnostics.star_shaped = false;
+                self.diagnostics
+                    .extra_crossings
+                    .push((line.psi, line.crossings.clone()));
+            }
+        }
+        self.lines = lines;
+    }
+
     /// Add a line's rays and steps to the diagnostics.
     fn count(&mut self, line: &LineBoundary) {
         self.diagnostics.rays_traced += line.rays;

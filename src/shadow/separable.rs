@@ -620,6 +620,7 @@ impl<'a> Problem<'a> {
         (r_lo, grid)
     }
 
+    // Long: the solver's sequence (horizon, degenerate case, β² peak, photon-region ends, sampling) over the closures β²(r) and the grid; each step needs the results before it.
     fn run(&self, settings: &ShadowSettings) -> Result<ShadowResult, ShadowError> {
         let horizon = self
             .spacetime
@@ -712,6 +713,7 @@ impl<'a> Problem<'a> {
         self.finish(sampled, [r_min, r_max])
     }
 
+    // Long: the degenerate solver's sequence (K minimum, rescan of the first cell, λ range, sampling) over the `minimum` closure and the grid; each step needs the results before it.
     fn run_degenerate(
         &self,
         grid: &[f64],
@@ -952,6 +954,7 @@ impl<'a> Problem<'a> {
     }
 
     /// Sample the curve uniformly in screen polar angle (module docs).
+    // Long: the table of curve points and the Brent search of each screen angle share the closures s(u) and ψ(point), the table and the memo of orbits; splitting would pass them all around.
     fn sample(
         &self,
         family: Family,

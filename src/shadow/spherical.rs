@@ -23,7 +23,7 @@ use super::{
 };
 use crate::error::MetricError;
 use crate::metric::{Spacetime, Symmetry};
-use crate::numerics::brent_root;
+use crate::numerics::{bisect_predicate_steps, brent_root};
 use std::time::Instant;
 
 /// Outermost radius of the photon-sphere scan, in M.
@@ -156,18 +156,14 @@ impl Scan<'_> {
 
 /// The boundary between regular radii (`valid`) and irregular ones (`invalid < valid`), by
 /// bisection to adjacent doubles: (last irregular, first regular).
-fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> (f64, f64) {
-    for _ in 0..200 {
-        let mid = 0.5 * (invalid + valid);
-        if mid <= invalid || mid >= valid {
-            break;
-        }
-        if potential(spacetime, mid).is_some() {
-            valid = mid;
-        } else {
-            invalid = mid;
-        }
-    }
+fn regular_edge(spacetime: &dyn Spacetime, invalid: f64, valid: f64) -> (f64, f64) {
+    let (valid, invalid) = bisect_predicate_steps(
+        |r| potential(spacetime, r).is_some(),
+        valid,
+        invalid,
+        0.0,
+        200,
+    );
     (invalid, valid)
 }
 
@@ -195,6 +191,7 @@ fn regular_edge(spacetime: &dyn Spacetime, mut invalid: f64, mut valid: f64) -> 
 /// let r = (3.0 + (9.0f64 - 8.0 * 0.25).sqrt()) / 2.0; // (3 + √(9 − 8q²))/2
 /// assert!((found.capture.unwrap().radius - r).abs() < 1e-13);
 /// ```
+// Long: one scan from far to near (the grid, the last cell down to the boundary, the throat case, the choice of the capturing sphere) over the running state of the scan; its parts are already helpers.
 pub fn photon_sphere_analysis(
     spacetime: &dyn Spacetime,
 ) -> Result<PhotonSphereAnalysis, ShadowError> {

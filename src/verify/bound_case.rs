@@ -118,6 +118,82 @@ fn measurement(value: toml::Value, base_dir: &Path) -> Result<DerivedRadii, Stri
     m.derive(None).map_err(|e| format!("measurement: {e}"))
 }
 
+/// The observer's inclination: one angle or a range, in degrees within [0, 180].
+fn inclination(fixed: Option<f64>, range: Option<[f64; 2]>) -> Result<Inclination, String> {
+    match (fixed, range) {
+        (Some(d), None) if (0.0..=180.0).contains(&d) => Ok(Inclination::Fixed { degrees: d }),
+        (None, Some([lo, hi])) if 0.0 <= lo && lo < hi && hi <= 180.0 => Ok(Inclination::Range {
+            low_degrees: lo,
+            high_degrees: hi,
+        }),
+        _ => Err("give inclination (degrees, 0 to 180) or inclination_range = [low, high]".into()),
+    }
+}
+
+/// The bound's settings: the defaults with the case's points, initial grid and tolerances.
+fn settings(
+    [points, initial_grid]: [Option<usize>; 2],
+    [boundary_tolerance, parameter_tolerance]: [Option<f64>; 2],
+) -> Result<BoundSettings, String> {
+    let mut settings = BoundSettings::default();
+    if let Some(p) = points {
+        settings.shadow.points = p;
+    }
+    if let Some(t) = boundary_tolerance {
+        settings.shadow.tolerance = t;
+    }
+    if let Some(g) = initial_grid {
+        settings.initial_grid = g;
+    }
+    if let Some(t) = parameter_tolerance {
+        settings.parameter_tolerance = t;
+    }
+    let points_ok = (8..=MAX_POINTS).contains(&settings.shadow.points);
+    let grid_ok = (3..=MAX_INITIAL_GRID).contains(&settings.initial_grid);
+    crate::shadow::check_tolerance(settings.shadow.tolerance).map_err(|e| format!("{e}"))?;
+    let positive = |t: f64| t > 0.0 && t.is_finite();
+    let tolerances_ok = positive(settings.parameter_tolerance);
+    if !(points_ok && grid_ok && tolerances_ok) {
+        return Err(format!(
+            "need points from 8 to {MAX_POINTS}, initial_grid from 3 to {MAX_INITIAL_GRID} \
+             and positive finite tolerances (got points = {}, initial_grid = {})",
+            settings.shadow.points, settings.initial_grid
+        ));
+    }
+    Ok(settings)
+}
+
+/// The case's expectations, each at a confidence level of the measurement.
+fn expectations(
+    raw: Vec<RawExpectation>,
+    radii: &DerivedRadii,
+) -> Result<Vec<Expectation>, String> {
+    let mut expectations = Vec::new();
+    for e in raw {
+        let e = expectation(e, BOUND_QUANTITIES)?;
+        let c = e
+            .confidence
+            .ok_or_else(|| format!("expectation '{}' needs a confidence level", e.quantity))?;
+        if !radii
+            .intervals
+            .iter()
+            .any(|i| (i.confidence - c).abs() <= LEVEL_MATCH)
+        {
+            let levels: Vec<String> = radii
+                .intervals
+                .iter()
+                .map(|i| i.confidence.to_string())
+                .collect();
+            return Err(format!(
+                "confidence {c} is not a level of the measurement (levels: {})",
+                levels.join(", ")
+            ));
+        }
+        expectations.push(e);
+    }
+    Ok(expectations)
+}
+
 impl BoundCase {
     /// Validate a raw `[[bound]]` table; paths are relative to `base_dir`.
     pub(super) fn from_raw(raw: RawBound, base_dir: &Path) -> Result<BoundCase, String> {
@@ -140,46 +216,13 @@ impl BoundCase {
         probe.push((vary.name.clone(), vary.low));
         probe.extend(nuisance.iter().map(|r| (r.name.clone(), r.low)));
         build(&source, &probe).map_err(label)?;
-        let inclination = match (raw.inclination, raw.inclination_range) {
-            (Some(d), None) if (0.0..=180.0).contains(&d) => Inclination::Fixed { degrees: d },
-            (None, Some([lo, hi])) if 0.0 <= lo && lo < hi && hi <= 180.0 => Inclination::Range {
-                low_degrees: lo,
-                high_degrees: hi,
-            },
-            _ => {
-                return Err(label(
-                    "give inclination (degrees, 0 to 180) or inclination_range = [low, high]"
-                        .into(),
-                ))
-            }
-        };
+        let inclination = inclination(raw.inclination, raw.inclination_range).map_err(label)?;
         let radii = measurement(raw.measurement, base_dir).map_err(label)?;
-        let mut settings = BoundSettings::default();
-        if let Some(p) = raw.points {
-            settings.shadow.points = p;
-        }
-        if let Some(t) = raw.boundary_tolerance {
-            settings.shadow.tolerance = t;
-        }
-        if let Some(g) = raw.initial_grid {
-            settings.initial_grid = g;
-        }
-        if let Some(t) = raw.parameter_tolerance {
-            settings.parameter_tolerance = t;
-        }
-        let points_ok = (8..=MAX_POINTS).contains(&settings.shadow.points);
-        let grid_ok = (3..=MAX_INITIAL_GRID).contains(&settings.initial_grid);
-        crate::shadow::check_tolerance(settings.shadow.tolerance)
-            .map_err(|e| label(format!("{e}")))?;
-        let positive = |t: f64| t > 0.0 && t.is_finite();
-        let tolerances_ok = positive(settings.parameter_tolerance);
-        if !(points_ok && grid_ok && tolerances_ok) {
-            return Err(label(format!(
-                "need points from 8 to {MAX_POINTS}, initial_grid from 3 to {MAX_INITIAL_GRID} \
-                 and positive finite tolerances (got points = {}, initial_grid = {})",
-                settings.shadow.points, settings.initial_grid
-            )));
-        }
+        let settings = settings(
+            [raw.points, raw.initial_grid],
+            [raw.boundary_tolerance, raw.parameter_tolerance],
+        )
+        .map_err(label)?;
         if let Some(c) = raw.circularity_max {
             if !(c.is_finite() && c > 0.0) {
                 return Err(label(format!(
@@ -191,32 +234,7 @@ impl BoundCase {
         if raw.expect.is_empty() {
             return Err(label("no expectations ([[bound.expect]])".into()));
         }
-        let mut expectations = Vec::new();
-        for e in raw.expect {
-            let e = expectation(e, BOUND_QUANTITIES).map_err(label)?;
-            let c = e.confidence.ok_or_else(|| {
-                label(format!(
-                    "expectation '{}' needs a confidence level",
-                    e.quantity
-                ))
-            })?;
-            if !radii
-                .intervals
-                .iter()
-                .any(|i| (i.confidence - c).abs() <= LEVEL_MATCH)
-            {
-                let levels: Vec<String> = radii
-                    .intervals
-                    .iter()
-                    .map(|i| i.confidence.to_string())
-                    .collect();
-                return Err(label(format!(
-                    "confidence {c} is not a level of the measurement (levels: {})",
-                    levels.join(", ")
-                )));
-            }
-            expectations.push(e);
-        }
+        let expectations = expectations(raw.expect, &radii).map_err(label)?;
         Ok(BoundCase {
             name,
             request: BoundRequest {

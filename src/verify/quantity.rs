@@ -102,30 +102,7 @@ impl Solved {
             "horizon_radius" => self
                 .horizon
                 .ok_or_else(|| "the metric has no horizon".to_string()),
-            "photon_sphere_radius" | "critical_impact_parameter" => {
-                let r = self.solver_result()?;
-                if r.solver != spherical::NAME {
-                    return Err(format!(
-                        "{name} needs the spherical solver (this case used {})",
-                        r.solver
-                    ));
-                }
-                let radius = match (&r.status, r.photon_orbit_radii) {
-                    (ShadowStatus::Shadow, Some([radius, _])) => radius,
-                    (ShadowStatus::NoShadow { reason }, _) => {
-                        return Err(format!("no shadow: {reason}"))
-                    }
-                    _ => return Err("no capturing photon sphere".into()),
-                };
-                if name == "photon_sphere_radius" {
-                    return Ok(radius);
-                }
-                r.photon_spheres
-                    .iter()
-                    .find(|s| s.radius == radius)
-                    .map(|s| s.impact_parameter)
-                    .ok_or_else(|| "no capturing photon sphere".to_string())
-            }
+            "photon_sphere_radius" | "critical_impact_parameter" => self.photon_sphere(name),
             "photon_orbit_radius_min" | "photon_orbit_radius_max" => {
                 let r = self.solver_result()?;
                 let radii = r.photon_orbit_radii.ok_or_else(|| match &r.status {
@@ -140,38 +117,66 @@ impl Solved {
                     radii[1]
                 })
             }
-            "gamma" | "gamma_min" | "gamma_max" | "lyapunov" => {
-                let r = self.solver_result()?;
-                let e = r.exponents.as_ref().ok_or_else(|| match &r.status {
-                    ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
-                    ShadowStatus::Shadow => format!(
-                        "the {} solver does not report photon-ring exponents",
-                        r.solver
-                    ),
-                })?;
-                match name {
-                    "gamma_min" => Ok(e.gamma_min),
-                    "gamma_max" => Ok(e.gamma_max),
-                    "lyapunov" => e.lyapunov.ok_or_else(|| {
-                        format!(
-                            "the {} solver does not report a Lyapunov exponent",
-                            r.solver
-                        )
-                    }),
-                    _ => {
-                        let spread = (e.gamma_max - e.gamma_min).abs();
-                        if spread <= GAMMA_SPREAD * e.gamma_max.abs() {
-                            Ok(0.5 * (e.gamma_min + e.gamma_max))
-                        } else {
-                            Err(format!(
-                                "gamma varies along the curve ({} to {}): pin gamma_min and gamma_max",
-                                e.gamma_min, e.gamma_max
-                            ))
-                        }
-                    }
+            "gamma" | "gamma_min" | "gamma_max" | "lyapunov" => self.exponent(name),
+            _ => Err(format!("unknown quantity '{name}'")),
+        }
+    }
+
+    /// The capturing photon sphere's radius or critical impact parameter (spherical solver).
+    fn photon_sphere(&self, name: &str) -> Result<f64, String> {
+        let r = self.solver_result()?;
+        if r.solver != spherical::NAME {
+            return Err(format!(
+                "{name} needs the spherical solver (this case used {})",
+                r.solver
+            ));
+        }
+        let radius = match (&r.status, r.photon_orbit_radii) {
+            (ShadowStatus::Shadow, Some([radius, _])) => radius,
+            (ShadowStatus::NoShadow { reason }, _) => return Err(format!("no shadow: {reason}")),
+            _ => return Err("no capturing photon sphere".into()),
+        };
+        if name == "photon_sphere_radius" {
+            return Ok(radius);
+        }
+        r.photon_spheres
+            .iter()
+            .find(|s| s.radius == radius)
+            .map(|s| s.impact_parameter)
+            .ok_or_else(|| "no capturing photon sphere".to_string())
+    }
+
+    /// A photon-ring exponent: γ (when constant along the curve), its min or max, or the
+    /// Lyapunov exponent.
+    fn exponent(&self, name: &str) -> Result<f64, String> {
+        let r = self.solver_result()?;
+        let e = r.exponents.as_ref().ok_or_else(|| match &r.status {
+            ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
+            ShadowStatus::Shadow => format!(
+                "the {} solver does not report photon-ring exponents",
+                r.solver
+            ),
+        })?;
+        match name {
+            "gamma_min" => Ok(e.gamma_min),
+            "gamma_max" => Ok(e.gamma_max),
+            "lyapunov" => e.lyapunov.ok_or_else(|| {
+                format!(
+                    "the {} solver does not report a Lyapunov exponent",
+                    r.solver
+                )
+            }),
+            _ => {
+                let spread = (e.gamma_max - e.gamma_min).abs();
+                if spread <= GAMMA_SPREAD * e.gamma_max.abs() {
+                    Ok(0.5 * (e.gamma_min + e.gamma_max))
+                } else {
+                    Err(format!(
+                        "gamma varies along the curve ({} to {}): pin gamma_min and gamma_max",
+                        e.gamma_min, e.gamma_max
+                    ))
                 }
             }
-            _ => Err(format!("unknown quantity '{name}'")),
         }
     }
 }

@@ -181,6 +181,48 @@ fn row_label(row: &CheckRow) -> String {
     }
 }
 
+/// Whether a row's expectation is rewritten: `Some((computed value, whether umbral is its
+/// source))`, or `None` with the row recorded in `edits` as kept or as an outside value.
+fn triage(row: &CheckRow, force: &[RowSelector], edits: &mut Edits) -> Option<(f64, bool)> {
+    let label = row_label(row);
+    if let Expected::Range { .. } = row.expected {
+        edits
+            .kept
+            .push(format!("{label} (a range, kept as written)"));
+        return None;
+    }
+    let got = match (row.got, row.passed || row.reason.is_none()) {
+        (Some(g), true) if g.is_finite() => g,
+        _ => {
+            edits.kept.push(format!(
+                "{label} (no value: {})",
+                row.reason.as_deref().unwrap_or("not computed")
+            ));
+            return None;
+        }
+    };
+    let named = force
+        .iter()
+        .any(|s| s.matches(&row.case, &row.quantity, row.confidence));
+    let own = is_umbral_source(&row.source);
+    if !own && !named {
+        if row.passed {
+            edits.outside_unchanged += 1;
+        } else {
+            let written = match row.expected {
+                Expected::Value { value, .. } => value,
+                Expected::Range { .. } => f64::NAN,
+            };
+            edits.outside_drifted.push(format!(
+                "{label} (written {written}, computed {got}; source \"{}\")",
+                row.source
+            ));
+        }
+        return None;
+    }
+    Some((got, own))
+}
+
 /// Write `report`'s computed values into the text of `original` under the rules of the module
 /// docs; `force` names rows with an outside source to replace anyway.
 fn updated_text(
@@ -205,42 +247,10 @@ fn updated_text(
         forced: Vec::new(),
     };
     for row in &report.rows {
-        let label = row_label(row);
-        if let Expected::Range { .. } = row.expected {
-            edits
-                .kept
-                .push(format!("{label} (a range, kept as written)"));
+        let Some((got, own)) = triage(row, force, &mut edits) else {
             continue;
-        }
-        let got = match (row.got, row.passed || row.reason.is_none()) {
-            (Some(g), true) if g.is_finite() => g,
-            _ => {
-                edits.kept.push(format!(
-                    "{label} (no value: {})",
-                    row.reason.as_deref().unwrap_or("not computed")
-                ));
-                continue;
-            }
         };
-        let named = force
-            .iter()
-            .any(|s| s.matches(&row.case, &row.quantity, row.confidence));
-        let own = is_umbral_source(&row.source);
-        if !own && !named {
-            if row.passed {
-                edits.outside_unchanged += 1;
-            } else {
-                let written = match row.expected {
-                    Expected::Value { value, .. } => value,
-                    Expected::Range { .. } => f64::NAN,
-                };
-                edits.outside_drifted.push(format!(
-                    "{label} (written {written}, computed {got}; source \"{}\")",
-                    row.source
-                ));
-            }
-            continue;
-        }
+        let label = row_label(row);
         let expectation = doc
             .as_table_mut()
             .get_mut(row.section)
