@@ -203,6 +203,7 @@ pub fn integrate(
 
 /// [`integrate`] with a choice of the components that control the step size.
 // Long: the Dormand–Prince step loop (stages, error norm, step control) shares its state and is the ray tracer's inner loop; kept whole for speed and to read as in Hairer et al.
+#[inline]
 pub fn integrate_with_norm(
     spacetime: &dyn Spacetime,
     y0: PhaseState,

@@ -11,7 +11,8 @@
 //! metric at every sampled angle: the absorbing centre of a naked singularity such as
 //! Janis–Newman–Winicour's) and an outer radius, on a grid of 96 radii uniform in
 //! ln(r − r₊) from r₊ + 10⁻⁶ max(r₊, 1) (uniform in ln r from 10⁻³ without a horizon) and of
-//! polar angles jπ/16 (j = 1..15; 1..8 for an equatorially symmetric metric). Along every
+//! polar angles jπ/16 (j = 1..15; 1..8 for an equatorially symmetric metric; the equator alone
+//! for a metric declared spherically symmetric, whose singular surfaces are spheres). Along every
 //! angle it examines:
 //! 1. **Poles.** The relative sensitivity q(r) ([`relative_sensitivity`]: how much det g and
 //!    the five components of g change, relative to max(|value|, 1), when r and θ move by their
@@ -37,7 +38,7 @@
 //! assert!(exterior_singularity(&Kerr::new(0.9).unwrap(), 1.0e3).is_none());
 //! ```
 
-use super::{check_point, PointProblem, Spacetime, POINT_SENSITIVITY_LIMIT};
+use super::{check_point, PointProblem, Spacetime, Symmetry, POINT_SENSITIVITY_LIMIT};
 use crate::numerics::{bisect_predicate_steps, GoldenBracket};
 use crate::numfmt::Num;
 use std::convert::Infallible;
@@ -169,14 +170,20 @@ pub fn exterior_singularity<S: Spacetime + ?Sized>(m: &S, r_out: f64) -> Option<
             })
             .collect(),
     };
-    let count = if m.is_equatorially_symmetric() {
-        ANGLES
+    // A metric declared spherically symmetric depends on θ only through g_φφ = C(r) sin²θ:
+    // its singular surfaces are spheres, seen on the equator alone.
+    let thetas: Vec<f64> = if m.symmetry() == Symmetry::Spherical {
+        vec![PI / 2.0]
     } else {
-        2 * ANGLES - 1
+        let count = if m.is_equatorially_symmetric() {
+            ANGLES
+        } else {
+            2 * ANGLES - 1
+        };
+        (1..=count)
+            .map(|j| j as f64 * PI / (2 * ANGLES) as f64)
+            .collect()
     };
-    let thetas: Vec<f64> = (1..=count)
-        .map(|j| j as f64 * PI / (2 * ANGLES) as f64)
-        .collect();
     let grid: Vec<Vec<Sample>> = thetas
         .iter()
         .map(|&theta| radii.iter().map(|&r| sample(m, r, theta)).collect())
