@@ -9,7 +9,7 @@
 //! with the fields that status has, finite observables for a shadow, a matching checksum and
 //! the canonical JSON text.
 
-use super::{expected_parameters, ScanPoint, ScanRequest};
+use super::{expected_parameters, PointObservables, ScanPoint, ScanRequest};
 use crate::observables::Quantity;
 use crate::run::RecordFormat;
 use serde::Deserialize;
@@ -47,7 +47,7 @@ struct StoredPoint {
     #[serde(default)]
     solver: Option<String>,
     #[serde(default)]
-    observables: Option<Value>,
+    observables: Option<PointObservables>,
     checksum: String,
 }
 
@@ -101,14 +101,14 @@ fn check_status(p: &ScanPoint) -> Result<(), String> {
     }
 }
 
-fn check_observables(o: Option<&Value>) -> Result<(), String> {
-    let Some(Value::Object(map)) = o else {
+fn check_observables(o: Option<&PointObservables>) -> Result<(), String> {
+    let Some((Value::Object(map), o)) = o.map(|o| (o.json(), o)) else {
         return Err("the observables are not a JSON object".into());
     };
     for key in REQUIRED_OBSERVABLES {
-        match map.get(key.name()).and_then(Value::as_f64) {
-            Some(x) if x.is_finite() => {}
-            _ => {
+        match o.get(key) {
+            Some(_) => {}
+            None => {
                 return Err(format!(
                     "observable '{key}' is missing or not a finite number"
                 ))

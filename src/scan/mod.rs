@@ -118,20 +118,95 @@ pub struct ScanPoint {
     /// The solver that ran, once the metric was built.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub solver: Option<String>,
-    /// The [`Observables`] of a `shadow` point, as JSON.
+    /// The [`Observables`] of a `shadow` point.
     #[serde(skip_serializing_if = "Option::is_none", default)]
-    pub observables: Option<serde_json::Value>,
+    pub observables: Option<PointObservables>,
 }
 
 impl ScanPoint {
-    /// A number from the observables (e.g. `mean_radius`), as stored in the line.
+    /// A number from the observables by its field name in the line, e.g. `mean_radius`, or
+    /// `horizon_radius` (a field that is not a [`Quantity`]); [`ScanPoint::quantity`] reads a
+    /// [`Quantity`].
     pub fn observable(&self, key: &str) -> Option<f64> {
-        self.observables.as_ref()?.get(key)?.as_f64()
+        match key.parse::<Quantity>() {
+            Ok(quantity) => self.quantity(quantity),
+            Err(_) => self.observables.as_ref()?.json().get(key)?.as_f64(),
+        }
     }
 
-    /// [`ScanPoint::observable`] by [`Quantity`].
+    /// A finite observable by [`Quantity`], if the point has it.
     pub fn quantity(&self, quantity: Quantity) -> Option<f64> {
-        self.observable(quantity.name())
+        self.observables.as_ref()?.get(quantity)
+    }
+}
+
+/// The observables of a `shadow` point: the JSON object its line stores, written back
+/// unchanged, and its finite numbers by [`Quantity`] for lookups.
+///
+/// ```
+/// use umbral::observables::Quantity;
+/// use umbral::scan::PointObservables;
+///
+/// let o = PointObservables::from_json(serde_json::json!({ "mean_radius": 5.2, "area": null }));
+/// assert_eq!(o.get(Quantity::MeanRadius), Some(5.2));
+/// assert_eq!(o.get(Quantity::Area), None);
+/// assert_eq!(serde_json::to_string(&o).unwrap(), r#"{"area":null,"mean_radius":5.2}"#);
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub struct PointObservables {
+    json: serde_json::Value,
+    values: BTreeMap<Quantity, f64>,
+}
+
+impl PointObservables {
+    /// The observables of a computed curve (a non-finite number is stored as JSON `null`
+    /// and has no value).
+    pub fn new(observables: &Observables) -> PointObservables {
+        let values = Quantity::ALL
+            .iter()
+            .map(|&q| (q, observables.get(q)))
+            .filter(|(_, v)| v.is_finite())
+            .collect();
+        PointObservables {
+            json: serde_json::to_value(observables).unwrap_or(serde_json::Value::Null),
+            values,
+        }
+    }
+
+    /// The observables as a line stores them; the numbers under the name of a [`Quantity`]
+    /// are its values.
+    pub fn from_json(json: serde_json::Value) -> PointObservables {
+        let values = match &json {
+            serde_json::Value::Object(map) => map
+                .iter()
+                .filter_map(|(k, v)| Some((k.parse::<Quantity>().ok()?, v.as_f64()?)))
+                .filter(|(_, v)| v.is_finite())
+                .collect(),
+            _ => BTreeMap::new(),
+        };
+        PointObservables { json, values }
+    }
+
+    /// The value of a quantity, if it is a finite number here.
+    pub fn get(&self, quantity: Quantity) -> Option<f64> {
+        self.values.get(&quantity).copied()
+    }
+
+    /// The JSON the line stores.
+    pub fn json(&self) -> &serde_json::Value {
+        &self.json
+    }
+}
+
+impl Serialize for PointObservables {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        self.json.serialize(s)
+    }
+}
+
+impl<'de> Deserialize<'de> for PointObservables {
+    fn deserialize<D: serde::Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        serde_json::Value::deserialize(d).map(PointObservables::from_json)
     }
 }
 
@@ -156,7 +231,7 @@ impl ScanSummary {
     ///
     /// ```
     /// use umbral::bounds::SizeMeasure;
-    /// use umbral::scan::{GridAxis, ScanPoint, ScanSummary};
+    /// use umbral::scan::{GridAxis, PointObservables, ScanPoint, ScanSummary};
     /// let axis = |name: &str| GridAxis { name: name.into(), low: 0.0, high: 1.0, count: 2 };
     /// let point = |i: usize, j: usize, status: &str, r: f64| ScanPoint {
     ///     index: vec![i, j],
@@ -165,7 +240,7 @@ impl ScanSummary {
     ///     horizonless: false,
     ///     reason: None,
     ///     solver: None,
-    ///     observables: Some(serde_json::json!({ "mean_radius": r })),
+    ///     observables: Some(PointObservables::from_json(serde_json::json!({ "mean_radius": r }))),
     /// };
     /// // Grid order: the second axis fastest.
     /// let summary = ScanSummary {
@@ -424,7 +499,7 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
         Ok(o) => {
             point.status = "shadow".into();
             point.horizonless = horizonless;
-            point.observables = serde_json::to_value(&o).ok();
+            point.observables = Some(PointObservables::new(&o));
         }
         Err(e) => point.reason = Some(e.to_string()),
     }

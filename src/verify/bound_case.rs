@@ -6,7 +6,7 @@
 //! `confidence` level the expectation names, which must be a level of the measurement.
 
 use super::report::CheckRow;
-use super::schema::{build, expectation, metric_source, Expectation, RawExpectation};
+use super::schema::{build, expectation, known_name, metric_source, Expectation, RawExpectation};
 use crate::bounds::{
     bound, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
     MAX_INITIAL_GRID,
@@ -170,7 +170,7 @@ fn expectations(
 ) -> Result<Vec<Expectation>, String> {
     let mut expectations = Vec::new();
     for e in raw {
-        let e = expectation(e, BOUND_QUANTITIES)?;
+        let e = expectation(e, |q| known_name(q, BOUND_QUANTITIES))?;
         let c = e
             .confidence
             .ok_or_else(|| format!("expectation '{}' needs a confidence level", e.quantity))?;

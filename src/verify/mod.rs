@@ -36,7 +36,7 @@ pub mod schema;
 pub mod update;
 
 pub use bound_case::{BoundCase, BOUND_QUANTITIES};
-pub use quantity::QUANTITIES;
+pub use quantity::{CheckQuantity, SolverQuantity, QUANTITIES};
 pub use report::{CheckRow, VerifyReport};
 pub use schema::{Case, ChecksFile, Expectation, Expected, Tolerance};
 pub use update::{
@@ -84,10 +84,10 @@ impl Case {
                     file.to_string(),
                     (case_index, &self.name),
                     j,
-                    &e.quantity,
+                    e.quantity.name(),
                     e.expected,
                     &e.source,
-                    solved.quantity(&e.quantity),
+                    solved.quantity(e.quantity),
                 )
             })
             .collect()

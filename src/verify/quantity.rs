@@ -15,31 +15,165 @@ use crate::metric::Spacetime;
 use crate::observables::{Observables, Quantity};
 use crate::shadow::{spherical, ShadowResult, ShadowStatus};
 
-/// Quantities that come from the solver or the metric rather than from the curve.
-pub const SOLVER_QUANTITIES: &[&str] = &[
-    "horizon_radius",
-    "photon_sphere_radius",
-    "critical_impact_parameter",
-    "photon_orbit_radius_min",
-    "photon_orbit_radius_max",
-    "gamma",
-    "gamma_min",
-    "gamma_max",
-    "lyapunov",
-];
+/// A quantity that comes from the solver or the metric rather than from the curve.
+///
+/// ```
+/// use umbral::verify::SolverQuantity;
+///
+/// let q: SolverQuantity = "gamma_min".parse().unwrap();
+/// assert_eq!(q, SolverQuantity::GammaMin);
+/// assert_eq!(q.to_string(), "gamma_min");
+/// assert!(SolverQuantity::names().contains(&"horizon_radius"));
+/// assert!("mean_radius".parse::<SolverQuantity>().is_err());
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum SolverQuantity {
+    /// The outer horizon.
+    HorizonRadius,
+    /// The photon sphere that bounds capture (spherical solver).
+    PhotonSphereRadius,
+    /// b_c = √(C/A) at that photon sphere (spherical solver).
+    CriticalImpactParameter,
+    /// The least radius of the spherical photon orbits that form the curve.
+    PhotonOrbitRadiusMin,
+    /// The greatest radius of those orbits.
+    PhotonOrbitRadiusMax,
+    /// γ, when it is one value along the whole curve.
+    Gamma,
+    /// The least γ along the curve.
+    GammaMin,
+    /// The greatest γ along the curve.
+    GammaMax,
+    /// The Lyapunov exponent.
+    Lyapunov,
+}
+
+impl SolverQuantity {
+    /// Every solver quantity, in the order of the list above.
+    pub const ALL: &'static [SolverQuantity] = &[
+        SolverQuantity::HorizonRadius,
+        SolverQuantity::PhotonSphereRadius,
+        SolverQuantity::CriticalImpactParameter,
+        SolverQuantity::PhotonOrbitRadiusMin,
+        SolverQuantity::PhotonOrbitRadiusMax,
+        SolverQuantity::Gamma,
+        SolverQuantity::GammaMin,
+        SolverQuantity::GammaMax,
+        SolverQuantity::Lyapunov,
+    ];
+
+    /// The name a checks file uses.
+    pub fn name(self) -> &'static str {
+        match self {
+            SolverQuantity::HorizonRadius => "horizon_radius",
+            SolverQuantity::PhotonSphereRadius => "photon_sphere_radius",
+            SolverQuantity::CriticalImpactParameter => "critical_impact_parameter",
+            SolverQuantity::PhotonOrbitRadiusMin => "photon_orbit_radius_min",
+            SolverQuantity::PhotonOrbitRadiusMax => "photon_orbit_radius_max",
+            SolverQuantity::Gamma => "gamma",
+            SolverQuantity::GammaMin => "gamma_min",
+            SolverQuantity::GammaMax => "gamma_max",
+            SolverQuantity::Lyapunov => "lyapunov",
+        }
+    }
+
+    /// Every name, in the order of [`SolverQuantity::ALL`].
+    pub fn names() -> Vec<&'static str> {
+        SolverQuantity::ALL.iter().map(|q| q.name()).collect()
+    }
+}
+
+impl std::str::FromStr for SolverQuantity {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        SolverQuantity::ALL
+            .iter()
+            .copied()
+            .find(|q| q.name() == s)
+            .ok_or_else(|| {
+                format!(
+                    "unknown solver quantity '{s}' (known: {})",
+                    SolverQuantity::names().join(", ")
+                )
+            })
+    }
+}
+
+impl std::fmt::Display for SolverQuantity {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+/// A quantity a check can pin: an observable of the curve or a solver quantity, parsed once
+/// when the checks file is loaded.
+///
+/// ```
+/// use umbral::observables::Quantity;
+/// use umbral::verify::{CheckQuantity, SolverQuantity};
+///
+/// assert_eq!("area".parse(), Ok(CheckQuantity::Observable(Quantity::Area)));
+/// assert_eq!("lyapunov".parse(), Ok(CheckQuantity::Solver(SolverQuantity::Lyapunov)));
+/// assert_eq!(CheckQuantity::Observable(Quantity::Area).to_string(), "area");
+/// assert!("radius".parse::<CheckQuantity>().unwrap_err().starts_with("unknown quantity 'radius'"));
+/// ```
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum CheckQuantity {
+    /// A numeric field of [`Observables`].
+    Observable(Quantity),
+    /// A quantity of the solver or the metric.
+    Solver(SolverQuantity),
+}
+
+impl CheckQuantity {
+    /// The name a checks file uses.
+    pub fn name(self) -> &'static str {
+        match self {
+            CheckQuantity::Observable(q) => q.name(),
+            CheckQuantity::Solver(q) => q.name(),
+        }
+    }
+}
+
+impl std::str::FromStr for CheckQuantity {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        if let Ok(q) = s.parse::<Quantity>() {
+            return Ok(CheckQuantity::Observable(q));
+        }
+        if let Ok(q) = s.parse::<SolverQuantity>() {
+            return Ok(CheckQuantity::Solver(q));
+        }
+        Err(format!(
+            "unknown quantity '{s}' (known: {})",
+            QUANTITIES.join(", ")
+        ))
+    }
+}
+
+impl std::fmt::Display for CheckQuantity {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(self.name())
+    }
+}
+
+impl serde::Serialize for CheckQuantity {
+    fn serialize<S: serde::Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+        s.serialize_str(self.name())
+    }
+}
 
 /// Every quantity name, observables first.
 pub static QUANTITIES: std::sync::LazyLock<Vec<&'static str>> = std::sync::LazyLock::new(|| {
-    Quantity::ALL
-        .iter()
-        .map(|q| q.name())
-        .chain(SOLVER_QUANTITIES.iter().copied())
+    Quantity::names()
+        .into_iter()
+        .chain(SolverQuantity::names())
         .collect()
 });
 
 /// Whether `name` is a quantity a check can pin.
 pub fn is_known_quantity(name: &str) -> bool {
-    QUANTITIES.contains(&name)
+    name.parse::<CheckQuantity>().is_ok()
 }
 
 /// Relative spread below which γ_min and γ_max count as one `gamma`.
@@ -88,22 +222,27 @@ impl Solved {
     }
 
     /// The value of a quantity, or why it is not available.
-    pub fn quantity(&self, name: &str) -> Result<f64, String> {
-        if let Ok(quantity) = name.parse::<Quantity>() {
-            let obs = self.observables.as_ref().map_err(Clone::clone)?;
-            let value = obs.get(quantity);
-            return if value.is_finite() {
-                Ok(value)
-            } else {
-                Err(format!("the observables have no finite number '{name}'"))
-            };
-        }
-        match name {
-            "horizon_radius" => self
+    pub fn quantity(&self, quantity: CheckQuantity) -> Result<f64, String> {
+        let solver = match quantity {
+            CheckQuantity::Observable(q) => {
+                let obs = self.observables.as_ref().map_err(Clone::clone)?;
+                let value = obs.get(q);
+                return if value.is_finite() {
+                    Ok(value)
+                } else {
+                    Err(format!("the observables have no finite number '{q}'"))
+                };
+            }
+            CheckQuantity::Solver(q) => q,
+        };
+        match solver {
+            SolverQuantity::HorizonRadius => self
                 .horizon
                 .ok_or_else(|| "the metric has no horizon".to_string()),
-            "photon_sphere_radius" | "critical_impact_parameter" => self.photon_sphere(name),
-            "photon_orbit_radius_min" | "photon_orbit_radius_max" => {
+            SolverQuantity::PhotonSphereRadius | SolverQuantity::CriticalImpactParameter => {
+                self.photon_sphere(solver)
+            }
+            SolverQuantity::PhotonOrbitRadiusMin | SolverQuantity::PhotonOrbitRadiusMax => {
                 let r = self.solver_result()?;
                 let radii = r.photon_orbit_radii.ok_or_else(|| match &r.status {
                     ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
@@ -111,19 +250,21 @@ impl Solved {
                         format!("the {} solver does not report photon-orbit radii", r.solver)
                     }
                 })?;
-                Ok(if name == "photon_orbit_radius_min" {
+                Ok(if solver == SolverQuantity::PhotonOrbitRadiusMin {
                     radii[0]
                 } else {
                     radii[1]
                 })
             }
-            "gamma" | "gamma_min" | "gamma_max" | "lyapunov" => self.exponent(name),
-            _ => Err(format!("unknown quantity '{name}'")),
+            SolverQuantity::Gamma
+            | SolverQuantity::GammaMin
+            | SolverQuantity::GammaMax
+            | SolverQuantity::Lyapunov => self.exponent(solver),
         }
     }
 
     /// The capturing photon sphere's radius or critical impact parameter (spherical solver).
-    fn photon_sphere(&self, name: &str) -> Result<f64, String> {
+    fn photon_sphere(&self, name: SolverQuantity) -> Result<f64, String> {
         let r = self.solver_result()?;
         if r.solver != spherical::NAME {
             return Err(format!(
@@ -136,7 +277,7 @@ impl Solved {
             (ShadowStatus::NoShadow { reason }, _) => return Err(format!("no shadow: {reason}")),
             _ => return Err("no capturing photon sphere".into()),
         };
-        if name == "photon_sphere_radius" {
+        if name == SolverQuantity::PhotonSphereRadius {
             return Ok(radius);
         }
         r.photon_spheres
@@ -148,7 +289,7 @@ impl Solved {
 
     /// A photon-ring exponent: γ (when constant along the curve), its min or max, or the
     /// Lyapunov exponent.
-    fn exponent(&self, name: &str) -> Result<f64, String> {
+    fn exponent(&self, name: SolverQuantity) -> Result<f64, String> {
         let r = self.solver_result()?;
         let e = r.exponents.as_ref().ok_or_else(|| match &r.status {
             ShadowStatus::NoShadow { reason } => format!("no shadow: {reason}"),
@@ -158,9 +299,9 @@ impl Solved {
             ),
         })?;
         match name {
-            "gamma_min" => Ok(e.gamma_min),
-            "gamma_max" => Ok(e.gamma_max),
-            "lyapunov" => e.lyapunov.ok_or_else(|| {
+            SolverQuantity::GammaMin => Ok(e.gamma_min),
+            SolverQuantity::GammaMax => Ok(e.gamma_max),
+            SolverQuantity::Lyapunov => e.lyapunov.ok_or_else(|| {
                 format!(
                     "the {} solver does not report a Lyapunov exponent",
                     r.solver
@@ -187,6 +328,31 @@ mod tests {
     use crate::metrics::Kerr;
     use crate::observables::CentreChoice;
     use crate::shadow::{solve, Observer, ShadowSettings};
+
+    /// Every checks-file name parses to the quantity of that name, and no name is both an
+    /// observable and a solver quantity (the observable would hide the other).
+    #[test]
+    fn every_name_parses_back_and_names_are_unique() {
+        for name in QUANTITIES.iter() {
+            let q: CheckQuantity = name.parse().unwrap();
+            assert_eq!(q.to_string(), *name);
+        }
+        for q in SolverQuantity::ALL {
+            assert_eq!(q.name().parse::<SolverQuantity>(), Ok(*q));
+            assert!(q.name().parse::<Quantity>().is_err(), "{q}");
+        }
+        let mut names = QUANTITIES.clone();
+        names.sort_unstable();
+        names.dedup();
+        assert_eq!(names.len(), QUANTITIES.len());
+        assert_eq!(
+            "radius".parse::<CheckQuantity>(),
+            Err(format!(
+                "unknown quantity 'radius' (known: {})",
+                QUANTITIES.join(", ")
+            ))
+        );
+    }
 
     /// The list of observable names must match the numeric fields `Observables` serialises,
     /// so a new observable cannot be silently unreachable from checks files.

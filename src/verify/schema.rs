@@ -4,6 +4,7 @@
 //! keys, missing keys and out-of-range settings are errors naming the file and the problem.
 
 use super::bound_case::{BoundCase, RawBound};
+use super::quantity::CheckQuantity;
 use super::VerifyError;
 use crate::metric::Spacetime;
 use crate::metrics::MetricSource;
@@ -116,11 +117,12 @@ pub enum Expected {
     },
 }
 
-/// One expectation of a case.
+/// One expectation of a case: of a [`CheckQuantity`] in a `[[case]]`, of a bound quantity
+/// named by a string (see [`super::BOUND_QUANTITIES`]) in a `[[bound]]`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct Expectation {
-    /// The quantity's name (see [`super::quantity::QUANTITIES`]).
-    pub quantity: String,
+pub struct Expectation<Q = String> {
+    /// The quantity.
+    pub quantity: Q,
     /// The value or range expected.
     pub expected: Expected,
     /// Where the expected number comes from (paper, generator script, or
@@ -149,7 +151,7 @@ pub struct Case {
     /// The centre of the radius observables.
     pub centre: CentreChoice,
     /// What the case is expected to give.
-    pub expectations: Vec<Expectation>,
+    pub expectations: Vec<Expectation<CheckQuantity>>,
 }
 
 /// A loaded and validated checks file.
@@ -177,15 +179,25 @@ fn finite(x: f64, what: &str) -> Result<f64, String> {
     }
 }
 
-/// Validate one expectation whose quantity must be one of `known`.
-pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expectation, String> {
-    let q = raw.quantity.trim().to_string();
-    if !known.contains(&q.as_str()) {
-        return Err(format!(
-            "unknown quantity '{q}' (known: {})",
+/// The name, if it is one of `known` (the bound quantities).
+pub(super) fn known_name(name: &str, known: &[&str]) -> Result<String, String> {
+    if known.contains(&name) {
+        Ok(name.to_string())
+    } else {
+        Err(format!(
+            "unknown quantity '{name}' (known: {})",
             known.join(", ")
-        ));
+        ))
     }
+}
+
+/// Validate one expectation; `parse` reads its quantity's name (trimmed) or says why not.
+pub(super) fn expectation<Q>(
+    raw: RawExpectation,
+    parse: impl Fn(&str) -> Result<Q, String>,
+) -> Result<Expectation<Q>, String> {
+    let q = raw.quantity.trim().to_string();
+    let quantity = parse(&q)?;
     if let Some(c) = raw.confidence {
         if !(c > 0.0 && c < 1.0) {
             return Err(format!(
@@ -247,7 +259,7 @@ pub(super) fn expectation(raw: RawExpectation, known: &[&str]) -> Result<Expecta
         }
     };
     Ok(Expectation {
-        quantity: q,
+        quantity,
         expected,
         source,
         confidence: raw.confidence,
@@ -338,7 +350,7 @@ fn case(raw: RawCase, base_dir: &Path) -> Result<Case, String> {
     let expectations = raw
         .expect
         .into_iter()
-        .map(|e| expectation(e, &super::quantity::QUANTITIES))
+        .map(|e| expectation(e, str::parse::<CheckQuantity>))
         .collect::<Result<Vec<_>, _>>()
         .map_err(label)?;
     if let Some(e) = expectations.iter().find(|e| e.confidence.is_some()) {

@@ -123,7 +123,7 @@ impl RowSelector {
         let cases = checks.cases.iter().flat_map(|c| {
             c.expectations
                 .iter()
-                .map(move |e| (&c.name, e.quantity.as_str(), e.confidence))
+                .map(move |e| (&c.name, e.quantity.name(), e.confidence))
         });
         let bounds = checks.bounds.iter().flat_map(|b| {
             b.expectations
