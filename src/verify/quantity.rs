@@ -28,6 +28,16 @@ pub const SOLVER_QUANTITIES: &[&str] = &[
     "lyapunov",
 ];
 
+/// The quantities read from the photon-ring exponents. Only these need the full solve; every
+/// other quantity comes from the curve, the photon-orbit radii or the metric, which the
+/// curve-only solve ([`crate::shadow::solve_curve`]) returns unchanged.
+pub const EXPONENT_QUANTITIES: &[&str] = &["gamma", "gamma_min", "gamma_max", "lyapunov"];
+
+/// Whether `name` is read from the photon-ring exponents ([`EXPONENT_QUANTITIES`]).
+pub fn needs_exponents(name: &str) -> bool {
+    EXPONENT_QUANTITIES.contains(&name)
+}
+
 /// Every quantity name, observables first.
 pub static QUANTITIES: std::sync::LazyLock<Vec<&'static str>> = std::sync::LazyLock::new(|| {
     Quantity::ALL
@@ -117,7 +127,7 @@ impl Solved {
                     radii[1]
                 })
             }
-            "gamma" | "gamma_min" | "gamma_max" | "lyapunov" => self.exponent(name),
+            _ if needs_exponents(name) => self.exponent(name),
             _ => Err(format!("unknown quantity '{name}'")),
         }
     }
@@ -186,7 +196,7 @@ mod tests {
     use super::*;
     use crate::metrics::Kerr;
     use crate::observables::CentreChoice;
-    use crate::shadow::{solve, Observer, ShadowSettings};
+    use crate::shadow::{solve, solve_curve, Observer, ShadowSettings};
 
     /// The list of observable names must match the numeric fields `Observables` serialises,
     /// so a new observable cannot be silently unreachable from checks files.
@@ -210,5 +220,35 @@ mod tests {
         let mut listed = Quantity::names();
         listed.sort_unstable();
         assert_eq!(numeric, listed);
+    }
+
+    /// A case that pins no exponent is solved for the curve only: every other quantity must
+    /// read the same from it as from the full solve, and only the exponents go missing.
+    #[test]
+    fn the_curve_only_solve_reads_the_same_quantities() {
+        let kerr = Kerr::new(0.7).unwrap();
+        let observer = Observer::distant(1.0);
+        let settings = ShadowSettings {
+            points: 32,
+            ..ShadowSettings::default()
+        };
+        let solved = |curve_only: bool| {
+            let result = if curve_only {
+                solve_curve(&kerr, &observer, &settings)
+            } else {
+                solve(&kerr, &observer, &settings)
+            };
+            Solved::new(
+                &kerr,
+                result.map_err(|e| e.to_string()),
+                CentreChoice::Centroid,
+            )
+        };
+        let (full, curve) = (solved(false), solved(true));
+        for name in QUANTITIES.iter().filter(|n| !needs_exponents(n)) {
+            assert_eq!(full.quantity(name), curve.quantity(name), "{name}");
+        }
+        assert!(full.quantity("gamma_min").is_ok());
+        assert!(curve.quantity("gamma_min").is_err());
     }
 }
