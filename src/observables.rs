@@ -703,6 +703,10 @@ pub struct ShadowRequest {
     pub settings: ShadowSettings,
     /// The centre radii are measured about.
     pub centre: CentreChoice,
+    /// Solve for the curve only ([`crate::shadow::solve_curve`]): the solver may skip the
+    /// photon-ring exponents (`result.exponents` is then `None`); the curve and its
+    /// observables are the same.
+    pub curve_only: bool,
 }
 
 impl ShadowRequest {
@@ -713,7 +717,29 @@ impl ShadowRequest {
             observer: Observer::distant(inclination),
             settings: ShadowSettings::default(),
             centre: CentreChoice::Centroid,
+            curve_only: false,
         }
+    }
+
+    /// The same request for the curve only: no photon-ring exponents, which the separable
+    /// solver evaluates by a polar quadrature per orbit (several times the cost of the curve).
+    /// The curve and its observables are those of the full solve.
+    ///
+    /// ```
+    /// use umbral::prelude::*;
+    ///
+    /// let kerr = Kerr::new(0.9).unwrap();
+    /// let request = ShadowRequest::distant(60f64.to_radians());
+    /// let full = shadow(&kerr, &request).unwrap();
+    /// let curve = shadow(&kerr, &request.curve_only()).unwrap();
+    /// assert!(full.result.exponents.is_some());
+    /// assert!(curve.result.exponents.is_none());
+    /// assert_eq!(full.result.curve, curve.result.curve);
+    /// assert_eq!(full.observables, curve.observables);
+    /// ```
+    pub fn curve_only(mut self) -> Self {
+        self.curve_only = true;
+        self
     }
 
     /// The same request with the solver of this name (`auto` or a registered one).
@@ -747,6 +773,7 @@ pub struct Shadow {
 ///
 /// Errors are those of [`crate::shadow::solve`] (a bad request, a solver that does not apply,
 /// no convergence); a metric without a shadow is a result, with `observables` saying why.
+/// With [`ShadowRequest::curve_only()`] it runs [`crate::shadow::solve_curve`] instead.
 ///
 /// ```
 /// use umbral::prelude::*;
@@ -760,7 +787,12 @@ pub struct Shadow {
 /// assert!((circle.observables.unwrap().mean_radius - 27f64.sqrt()).abs() < 1e-12);
 /// ```
 pub fn shadow(spacetime: &dyn Spacetime, request: &ShadowRequest) -> Result<Shadow, ShadowError> {
-    let result = crate::shadow::solve(spacetime, &request.observer, &request.settings)?;
+    let solver = if request.curve_only {
+        crate::shadow::solve_curve
+    } else {
+        crate::shadow::solve
+    };
+    let result = solver(spacetime, &request.observer, &request.settings)?;
     let observables = match (&result.status, &result.curve) {
         (ShadowStatus::NoShadow { reason }, _) => Err(ObservablesError::NoShadow(reason.clone())),
         (ShadowStatus::Shadow, None) => Err(ObservablesError::NoShadow(

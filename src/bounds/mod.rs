@@ -117,6 +117,40 @@ pub enum Inclination {
     },
 }
 
+impl Inclination {
+    /// The inclination of a bound whose request gives none, allowed only for a spherically
+    /// symmetric metric: its shadow is a circle whatever the observer's inclination (its
+    /// radius is b_c = √(C/A) at the photon sphere, Synge 1966, which no angle enters), so any
+    /// fixed angle gives the same bound and 90° is used; the assumptions then say the
+    /// inclination is irrelevant. The metric's symmetry is read from it built with `fixed`
+    /// (its defaults for the other parameters).
+    ///
+    /// Errors: the metric's, for a parameter it refuses, and
+    /// [`BoundError::InclinationNeeded`] for a metric that is not spherically symmetric.
+    ///
+    /// ```
+    /// use umbral::bounds::{BoundError, Inclination};
+    /// use umbral::metrics::MetricSource;
+    ///
+    /// let rn = MetricSource::builtin("reissner-nordstrom").unwrap();
+    /// let fixed = [("q".to_string(), 0.5)];
+    /// assert_eq!(Inclination::unspecified(&rn, &fixed), Ok(Inclination::Fixed { degrees: 90.0 }));
+    /// let kerr = MetricSource::builtin("kerr").unwrap();
+    /// let spin = [("a".to_string(), 0.5)];
+    /// assert_eq!(Inclination::unspecified(&kerr, &spin), Err(BoundError::InclinationNeeded));
+    /// ```
+    pub fn unspecified(
+        metric: &MetricSource,
+        fixed: &[(String, f64)],
+    ) -> Result<Inclination, BoundError> {
+        if metric.build(fixed)?.symmetry() == Symmetry::Spherical {
+            Ok(Inclination::Fixed { degrees: 90.0 })
+        } else {
+            Err(BoundError::InclinationNeeded)
+        }
+    }
+}
+
 /// Largest starting grid over the varied range (each node is a full nuisance search; the
 /// default is 21).
 pub const MAX_INITIAL_GRID: usize = 1000;
@@ -383,6 +417,12 @@ pub enum BoundError {
         /// The value given.
         value: f64,
     },
+    /// No inclination given for a metric that is not spherically symmetric
+    /// ([`Inclination::unspecified`]).
+    #[error(
+        "give an inclination or an inclination range (the metric is not spherically symmetric)"
+    )]
+    InclinationNeeded,
     /// The inclination among the nuisance parameters.
     #[error("give the inclination range as an inclination range, not a nuisance parameter")]
     InclinationAsNuisance,

@@ -9,7 +9,9 @@ use super::CliError;
 use clap::Args;
 use std::io::Write;
 use std::path::{Path, PathBuf};
-use umbral::bounds::{BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange};
+use umbral::bounds::{
+    BoundError, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange,
+};
 use umbral::measurement::Measurement;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
@@ -126,6 +128,8 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         .iter()
         .map(|n| parse_named_range(n, "--nuisance"))
         .collect::<Result<Vec<_>, _>>()?;
+    // Loaded when first needed, so errors keep their order (the arguments before the metric).
+    let mut metric = None;
     let inclination = match (&args.inclination, &args.inclination_range) {
         (Some(i), None) => Inclination::Fixed {
             degrees: parse_finite(i, "--inclination")?,
@@ -138,15 +142,18 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
             }
         }
         (None, None) => {
-            // Only a spherically symmetric metric may leave the inclination out: its shadow
-            // does not depend on it (the assumptions say so).
-            let probe = args.metric.resolve()?.build(&fixed)?;
-            if probe.symmetry() != umbral::metric::Symmetry::Spherical {
-                return Err(CliError::usage(
-                    "give --inclination DEG or --inclination-range LO:HI (the metric is not spherically symmetric)",
-                ));
+            // The library decides whether the inclination may be left out (a spherically
+            // symmetric metric only); the metric source is loaded once and kept.
+            let source = metric.insert(args.metric.resolve()?);
+            match Inclination::unspecified(source, &fixed) {
+                Ok(inclination) => inclination,
+                Err(BoundError::InclinationNeeded) => {
+                    return Err(CliError::usage(
+                        "give --inclination DEG or --inclination-range LO:HI (the metric is not spherically symmetric)",
+                    ))
+                }
+                Err(e) => return Err(CliError::usage(e.to_string())),
             }
-            Inclination::Fixed { degrees: 90.0 }
         }
         (Some(_), Some(_)) => {
             return Err(CliError::usage(
@@ -161,7 +168,10 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         .derive(levels.as_deref())
         .map_err(|e| CliError::usage(e.to_string()))?;
     Ok(BoundRequest {
-        metric: args.metric.resolve()?,
+        metric: match metric {
+            Some(source) => source,
+            None => args.metric.resolve()?,
+        },
         vary,
         fixed,
         inclination,

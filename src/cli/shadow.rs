@@ -119,6 +119,7 @@ pub fn shadow_report(
         observer: *observer,
         settings: *settings,
         centre,
+        curve_only: false,
     };
     let Shadow {
         result,

@@ -77,6 +77,20 @@ impl SolverQuantity {
         }
     }
 
+    /// Whether the quantity is read from the photon-ring exponents (γ and the Lyapunov
+    /// exponent). Only these need the full solve; every other quantity comes from the curve,
+    /// the photon-orbit radii or the metric, which the curve-only solve
+    /// ([`crate::shadow::solve_curve`]) returns unchanged.
+    pub fn needs_exponents(self) -> bool {
+        matches!(
+            self,
+            SolverQuantity::Gamma
+                | SolverQuantity::GammaMin
+                | SolverQuantity::GammaMax
+                | SolverQuantity::Lyapunov
+        )
+    }
+
     /// Every name, in the order of [`SolverQuantity::ALL`].
     pub fn names() -> Vec<&'static str> {
         SolverQuantity::ALL.iter().map(|q| q.name()).collect()
@@ -126,6 +140,12 @@ pub enum CheckQuantity {
 }
 
 impl CheckQuantity {
+    /// Whether the quantity needs the photon-ring exponents
+    /// ([`SolverQuantity::needs_exponents`]).
+    pub fn needs_exponents(self) -> bool {
+        matches!(self, CheckQuantity::Solver(q) if q.needs_exponents())
+    }
+
     /// The name a checks file uses.
     pub fn name(self) -> &'static str {
         match self {
@@ -327,7 +347,7 @@ mod tests {
     use super::*;
     use crate::metrics::Kerr;
     use crate::observables::CentreChoice;
-    use crate::shadow::{solve, Observer, ShadowSettings};
+    use crate::shadow::{solve, solve_curve, Observer, ShadowSettings};
 
     /// Every checks-file name parses to the quantity of that name, and no name is both an
     /// observable and a solver quantity (the observable would hide the other).
@@ -376,5 +396,39 @@ mod tests {
         let mut listed = Quantity::names();
         listed.sort_unstable();
         assert_eq!(numeric, listed);
+    }
+
+    /// A case that pins no exponent is solved for the curve only: every other quantity must
+    /// read the same from it as from the full solve, and only the exponents go missing.
+    #[test]
+    fn the_curve_only_solve_reads_the_same_quantities() {
+        let kerr = Kerr::new(0.7).unwrap();
+        let observer = Observer::distant(1.0);
+        let settings = ShadowSettings {
+            points: 32,
+            ..ShadowSettings::default()
+        };
+        let solved = |curve_only: bool| {
+            let result = if curve_only {
+                solve_curve(&kerr, &observer, &settings)
+            } else {
+                solve(&kerr, &observer, &settings)
+            };
+            Solved::new(
+                &kerr,
+                result.map_err(|e| e.to_string()),
+                CentreChoice::Centroid,
+            )
+        };
+        let (full, curve) = (solved(false), solved(true));
+        for name in QUANTITIES.iter() {
+            let q: CheckQuantity = name.parse().unwrap();
+            if !q.needs_exponents() {
+                assert_eq!(full.quantity(q), curve.quantity(q), "{name}");
+            }
+        }
+        let gamma_min = CheckQuantity::Solver(SolverQuantity::GammaMin);
+        assert!(full.quantity(gamma_min).is_ok());
+        assert!(curve.quantity(gamma_min).is_err());
     }
 }
