@@ -68,10 +68,47 @@ fn named_modules(text: &str) -> BTreeSet<String> {
             .collect();
         if !name.is_empty() {
             found.insert(name);
+        } else if after.starts_with('{') {
+            found.extend(grouped_modules(after));
         }
         rest = after;
     }
     found
+}
+
+/// The first path segment of every item of a `crate::{a::X, b::{Y, Z}}` group (`text` starts
+/// at the opening brace): `a` and `b`.
+fn grouped_modules(text: &str) -> Vec<String> {
+    let mut names = Vec::new();
+    let mut depth = 0;
+    let mut at_item_start = false;
+    for (i, c) in text.char_indices() {
+        match c {
+            '{' => {
+                depth += 1;
+                at_item_start = depth == 1;
+            }
+            '}' => {
+                depth -= 1;
+                if depth == 0 {
+                    break;
+                }
+            }
+            ',' if depth == 1 => at_item_start = true,
+            _ if at_item_start && !c.is_whitespace() => {
+                at_item_start = false;
+                let name: String = text[i..]
+                    .chars()
+                    .take_while(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || *c == '_')
+                    .collect();
+                if !name.is_empty() && name != "self" {
+                    names.push(name);
+                }
+            }
+            _ => {}
+        }
+    }
+    names
 }
 
 /// The macros `text` exports at the crate root (`#[macro_export]` then `macro_rules! NAME`):
@@ -214,6 +251,13 @@ fn the_checker_sees_what_it_looks_for() {
     assert_eq!(
         names.into_iter().collect::<Vec<_>>(),
         vec!["cli".to_string(), "shadow".to_string(), "x".to_string()]
+    );
+    // A grouped import names each of its first segments.
+    let grouped =
+        named_modules("use crate::{\n    cli::run,\n    shadow::{solve, Observer},\n    Num};");
+    assert_eq!(
+        grouped.into_iter().collect::<Vec<_>>(),
+        vec!["cli".to_string(), "shadow".to_string()]
     );
     assert!(layer_of("cli") > layer_of("shadow"));
     assert_eq!(
