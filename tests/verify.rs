@@ -558,3 +558,30 @@ fn the_documented_quantities_are_the_known_ones() {
     known.sort_unstable();
     assert_eq!(documented, known);
 }
+
+/// A bound case of a spherically symmetric metric may omit the inclination (its shadow is a
+/// circle of radius b_c at any inclination, Synge 1966): the Reissner–Nordström case passes
+/// with the same ends without it; a rotating metric without one is refused, naming the keys.
+#[test]
+fn spherical_bound_cases_may_omit_the_inclination() {
+    let original = std::fs::read_to_string(repo("tests/checks/bounds.toml")).unwrap();
+    assert!(original.contains("inclination = 17.0\n"));
+    let dir = scratch("bound-no-inclination");
+    let path = dir.join("spherical.toml");
+    std::fs::write(&path, original.replace("inclination = 17.0\n", "")).unwrap();
+    let ends = |file: &Path| -> Vec<Option<f64>> {
+        let report = run_checks_file(file).unwrap();
+        assert!(report.all_passed(), "{}", report.render_table());
+        report.rows.iter().map(|r| r.got).collect()
+    };
+    assert_eq!(ends(&path), ends(&repo("tests/checks/bounds.toml")));
+
+    let rotating = dir.join("rotating.toml");
+    let kerr_newman = original.replace("inclination = 17.0\n", "").replace(
+        "metric = \"reissner-nordstrom\"",
+        "metric = \"kerr-newman\"",
+    );
+    std::fs::write(&rotating, kerr_newman).unwrap();
+    let e = run_checks_file(&rotating).unwrap_err().to_string();
+    assert!(e.contains("give inclination"), "{e}");
+}

@@ -126,9 +126,14 @@ fn inclination(fixed: Option<f64>, range: Option<[f64; 2]>) -> Result<Inclinatio
             low_degrees: lo,
             high_degrees: hi,
         }),
-        _ => Err("give inclination (degrees, 0 to 180) or inclination_range = [low, high]".into()),
+        _ => Err(INCLINATION_NEEDED.into()),
     }
 }
+
+/// What a bound case without a usable inclination is told.
+const INCLINATION_NEEDED: &str =
+    "give inclination (degrees, 0 to 180) or inclination_range = [low, high] (a spherically \
+     symmetric metric may omit both)";
 
 /// The bound's settings: the defaults with the case's points, initial grid and tolerances.
 fn settings(
@@ -216,7 +221,13 @@ impl BoundCase {
         probe.push((vary.name.clone(), vary.low));
         probe.extend(nuisance.iter().map(|r| (r.name.clone(), r.low)));
         build(&source, &probe).map_err(label)?;
-        let inclination = inclination(raw.inclination, raw.inclination_range).map_err(label)?;
+        // Without an inclination a spherically symmetric metric is bound at 90° (its shadow does
+        // not depend on it: bounds::Inclination::unspecified); any other metric needs one.
+        let inclination = match (raw.inclination, raw.inclination_range) {
+            (None, None) => Inclination::unspecified(&source, &probe)
+                .map_err(|_| label(INCLINATION_NEEDED.into()))?,
+            (fixed, range) => inclination(fixed, range).map_err(label)?,
+        };
         let radii = measurement(raw.measurement, base_dir).map_err(label)?;
         let settings = settings(
             [raw.points, raw.initial_grid],
