@@ -273,3 +273,79 @@ fn names_are_checked_on_registration_and_parsing() {
     let err = "no-such-solver".parse::<SolverChoice>().unwrap_err();
     assert!(err.to_string().contains("schwarzschild-circle"), "{err}");
 }
+
+/// Counts the calls of the full and the curve-only solve, delegating to the separable solver.
+struct Counting;
+
+static FULL_SOLVES: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+static CURVE_SOLVES: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+impl ShadowSolver for Counting {
+    fn name(&self) -> &'static str {
+        "counting-separable"
+    }
+    fn summary(&self) -> &'static str {
+        "the separable solver, counting its full and curve-only solves"
+    }
+    fn applies_to(&self, spacetime: &dyn Spacetime) -> Result<(), String> {
+        find_solver("separable").unwrap().applies_to(spacetime)
+    }
+    fn solve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        FULL_SOLVES.fetch_add(1, std::sync::atomic::Ordering::SeqCst);
+        find_solver("separable")
+            .unwrap()
+            .solve(spacetime, observer, settings)
+    }
+    fn solve_curve(
+        &self,
+        spacetime: &dyn Spacetime,
+        observer: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        CURVE_SOLVES.fetch_add(1, std::sync::atomic::Ordering::SeqCst);
+        find_solver("separable")
+            .unwrap()
+            .solve_curve(spacetime, observer, settings)
+    }
+}
+
+/// A checks-file case that pins no photon-ring exponent is solved for the curve only; one that
+/// pins γ gets the full solve. Kerr at a = 0 is Schwarzschild: shadow radius 3√3 (Synge 1966,
+/// MNRAS 131, 463) and photon-ring exponent γ = π (Johnson et al. 2020, Sci. Adv. 6,
+/// eaaz1310).
+#[test]
+fn verify_takes_the_curve_only_path_unless_an_exponent_is_pinned() {
+    let _ = register_solver(Counting);
+    let case = |name: &str, quantity: &str, value: f64| {
+        format!(
+            "[[case]]\nname = \"{name}\"\nmetric = \"kerr\"\nparameters = {{ a = 0.0 }}\n\
+             inclination = 30.0\npoints = 32\nsolver = \"counting-separable\"\n\
+             [[case.expect]]\nquantity = \"{quantity}\"\nvalue = {value:?}\nrel = 1e-6\n\
+             source = \"closed form\"\n"
+        )
+    };
+    let dir = std::env::temp_dir().join(format!("umbral-counting-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("c.toml");
+    let (full0, curve0) = (
+        FULL_SOLVES.load(std::sync::atomic::Ordering::SeqCst),
+        CURVE_SOLVES.load(std::sync::atomic::Ordering::SeqCst),
+    );
+    let text = format!(
+        "description = \"curve-only path\"\n{}{}",
+        case("radius", "mean_radius", 27f64.sqrt()),
+        case("gamma", "gamma_min", PI)
+    );
+    std::fs::write(&path, text).unwrap();
+    let report = umbral::verify::run_checks_file(&path).unwrap();
+    assert!(report.all_passed(), "{}", report.render_table());
+    let full = FULL_SOLVES.load(std::sync::atomic::Ordering::SeqCst) - full0;
+    let curve = CURVE_SOLVES.load(std::sync::atomic::Ordering::SeqCst) - curve0;
+    assert_eq!((full, curve), (1, 1), "full and curve-only solves");
+    let _ = std::fs::remove_dir_all(&dir);
+}
