@@ -34,7 +34,7 @@
 //! ```
 
 mod header;
-pub mod lines;
+mod lines;
 
 pub use header::FORMAT;
 

@@ -29,11 +29,11 @@
 //! umbral::verify::assert_checks_pass(&path);
 //! ```
 
-pub mod bound_case;
-pub mod quantity;
-pub mod report;
-pub mod schema;
-pub mod update;
+mod bound_case;
+mod quantity;
+mod report;
+mod schema;
+mod update;
 
 pub use bound_case::{BoundCase, BOUND_QUANTITIES};
 pub use quantity::{CheckQuantity, SolverQuantity, QUANTITIES};

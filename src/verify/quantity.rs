@@ -191,11 +191,6 @@ pub static QUANTITIES: std::sync::LazyLock<Vec<&'static str>> = std::sync::LazyL
         .collect()
 });
 
-/// Whether `name` is a quantity a check can pin.
-pub fn is_known_quantity(name: &str) -> bool {
-    name.parse::<CheckQuantity>().is_ok()
-}
-
 /// Relative spread below which γ_min and γ_max count as one `gamma`.
 const GAMMA_SPREAD: f64 = 1e-12;
 
