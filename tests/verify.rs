@@ -585,3 +585,138 @@ fn spherical_bound_cases_may_omit_the_inclination() {
     let e = run_checks_file(&rotating).unwrap_err().to_string();
     assert!(e.contains("give inclination"), "{e}");
 }
+
+/// An observer that asks the run to stop once `after` items of the run named `run` are done.
+struct StopAfter<'a> {
+    run: &'a str,
+    after: usize,
+    stop: &'a std::sync::atomic::AtomicBool,
+    lines: Vec<String>,
+}
+
+impl umbral::run::Observe for StopAfter<'_> {
+    fn item_done(&mut self, status: &umbral::run::Status) {
+        self.lines.push(format!("{}: {}", status.name, status.done));
+        if status.name.starts_with(self.run) && status.done >= self.after {
+            self.stop.store(true, std::sync::atomic::Ordering::SeqCst);
+        }
+    }
+}
+
+/// A checks file runs on the run executor: observers see every `[[case]]` and every bound's
+/// nuisance evaluations, the rows are those of a plain run, and a stop request ends the run
+/// with the rows of every finished case (and of no unfinished one).
+#[test]
+fn checks_files_run_on_the_executor_and_keep_finished_cases_when_stopped() {
+    use std::sync::atomic::AtomicBool;
+    use umbral::run::Controls;
+    use umbral::verify::ChecksFile;
+    let checks = ChecksFile::load(repo("tests/checks/kerr.toml")).unwrap();
+    let plain = checks.run();
+    assert!(plain.all_passed() && plain.rows.len() >= 4);
+    let never = AtomicBool::new(false);
+    let mut watch = StopAfter {
+        run: "nothing",
+        after: 0,
+        stop: &never,
+        lines: Vec::new(),
+    };
+    let controls = Controls {
+        observers: vec![&mut watch],
+        stop: Some(&never),
+    };
+    let observed = checks.run_with(controls).unwrap();
+    assert_eq!(observed, plain, "the executor changes no row");
+    assert_eq!(
+        watch.lines.len(),
+        checks.cases.len(),
+        "one item per case: {:?}",
+        watch.lines
+    );
+
+    // Stopped after the first case (on one thread, so that no other case is in progress):
+    // that case's rows, equal to the plain run's.
+    let one = rayon::ThreadPoolBuilder::new()
+        .num_threads(1)
+        .build()
+        .unwrap();
+    let stop = AtomicBool::new(false);
+    let mut first = StopAfter {
+        run: "checks in",
+        after: 1,
+        stop: &stop,
+        lines: Vec::new(),
+    };
+    let controls = Controls {
+        observers: vec![&mut first],
+        stop: Some(&stop),
+    };
+    let stopped = one.install(|| checks.run_with(controls)).unwrap_err();
+    assert_eq!(stopped.cases_done, 1);
+    assert_eq!(stopped.cases, checks.cases.len());
+    let finished: Vec<&str> = {
+        let mut names: Vec<&str> = stopped
+            .report
+            .rows
+            .iter()
+            .map(|r| r.case.as_str())
+            .collect();
+        names.dedup();
+        names
+    };
+    assert_eq!(finished.len(), stopped.cases_done);
+    for row in &stopped.report.rows {
+        assert!(
+            plain.rows.contains(row),
+            "a kept row is a row of the plain run: {row:?}"
+        );
+    }
+
+    // A bound case: its nuisance evaluations are the executor's items; stopped in the
+    // middle, the bound gives no row (a partial bound is not a result).
+    let bounds = ChecksFile::load(repo("tests/checks/bounds.toml")).unwrap();
+    let stop = AtomicBool::new(false);
+    let mut mid = StopAfter {
+        run: "bound on",
+        after: 3,
+        stop: &stop,
+        lines: Vec::new(),
+    };
+    let controls = Controls {
+        observers: vec![&mut mid],
+        stop: Some(&stop),
+    };
+    let stopped = one.install(|| bounds.run_with(controls)).unwrap_err();
+    assert_eq!(stopped.cases_done, 0);
+    assert!(stopped.report.rows.is_empty());
+    assert!(mid.lines.iter().all(|l| l.starts_with("bound on ")));
+    let ok = bounds.run();
+    assert!(ok.all_passed(), "{}", ok.render_table());
+}
+
+/// `umbral verify` shows its progress off a terminal like every long run (a line per finished
+/// case or nuisance evaluation at `--progress-every 0`), and nothing with `--quiet`; the table
+/// is the same either way.
+#[test]
+fn verify_prints_progress_lines_off_a_terminal() {
+    let bounds = repo("tests/checks/bounds.toml");
+    let kerr = repo("tests/checks/kerr.toml");
+    let files = [bounds.to_str().unwrap(), kerr.to_str().unwrap()];
+    let (code, quiet_out, quiet_err) = umbral(&[&["verify", "--quiet"][..], &files].concat());
+    assert_eq!(code, 0, "{quiet_err}");
+    assert!(quiet_err.is_empty(), "--quiet: {quiet_err}");
+    let (code, out, err) = umbral(&[&["verify", "--progress-every", "0"][..], &files].concat());
+    assert_eq!(code, 0, "{err}");
+    assert_eq!(out, quiet_out, "progress changed the table");
+    assert!(
+        err.lines().any(|l| l.starts_with("bound on q: "))
+            && err
+                .lines()
+                .any(|l| l.contains("kerr.toml: 4/4 cases (100%)")),
+        "progress of bounds and cases: {err}"
+    );
+    assert!(
+        err.lines().all(|l| l.ends_with(" elapsed")),
+        "only progress lines: {err}"
+    );
+}

@@ -87,7 +87,7 @@ fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErr
         Command::Demo(a) => demo::run(&a, &cli.progress),
         Command::Bound(a) => bound::run(&a, &cli.progress),
         Command::Scan(a) => scan::run(&a, &cli.progress),
-        Command::Verify(a) => return verify::run(&a),
+        Command::Verify(a) => return verify::run(&a, &cli.progress),
     }?;
     Ok(ExitCode::SUCCESS)
 }

@@ -1,6 +1,8 @@
 //! `umbral verify`: run checks files; exit 0 when every expectation passes, 1 when any fails,
 //! 2 when a file is unusable.
 
+use super::interrupt;
+use super::progress::ProgressArgs;
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
@@ -8,8 +10,9 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use umbral::output::OutputTransaction;
+use umbral::run::Controls;
 use umbral::verify::{
-    default_update_path, update_checks_file_forcing, ChecksFile, RowSelector, VerifyError,
+    default_update_path, update_checks_file_with, ChecksFile, RowSelector, VerifyError,
     VerifyReport,
 };
 
@@ -53,7 +56,7 @@ fn usage(e: VerifyError) -> CliError {
 }
 
 /// Run the subcommand.
-pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
+pub fn run(args: &VerifyArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
     if args.output.is_some() && args.files.len() != 1 {
         return Err(CliError::usage("--output needs exactly one FILE"));
     }
@@ -80,15 +83,20 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
     }
     // Updated copies appear only when the whole command succeeds.
     let mut outputs = OutputTransaction::new();
-    let (report, updated_files, notes) = if args.update {
-        update_all(args, &force, &mut outputs)?
-    } else {
-        let mut report = VerifyReport::default();
-        for c in &checks {
-            report.extend(c.run());
+    let mut display = progress.display(None)?;
+    let (report, updated_files, notes) = {
+        let _graceful = interrupt::Graceful::enter("cases");
+        let mut controls = Controls {
+            observers: vec![display.as_mut()],
+            stop: Some(interrupt::stop_flag()),
+        };
+        if args.update {
+            update_all(args, &force, &mut outputs, &mut controls)?
+        } else {
+            (run_all(&checks, &mut controls)?, Vec::new(), Vec::new())
         }
-        (report, Vec::new(), Vec::new())
     };
+    drop(display);
     if args.json {
         let json = JsonReport {
             files: args.files.iter().map(|p| p.display().to_string()).collect(),
@@ -119,12 +127,36 @@ pub fn run(args: &VerifyArgs) -> Result<ExitCode, CliError> {
     })
 }
 
+/// Run every file. On a stop request the finished cases' rows are printed before the note
+/// that the run was interrupted.
+fn run_all(checks: &[ChecksFile], controls: &mut Controls<'_>) -> Result<VerifyReport, CliError> {
+    let mut report = VerifyReport::default();
+    for c in checks {
+        match c.run_with(controls.reborrow()) {
+            Ok(r) => report.extend(r),
+            Err(stopped) => {
+                report.extend(stopped.report);
+                super::out::write_text(&report.render_table())?;
+                return Err(CliError::interrupted(format!(
+                    "interrupted in {} after {} of its {} cases (the table shows every \
+                     finished case); nothing is kept: a rerun starts over",
+                    c.path.display(),
+                    stopped.cases_done,
+                    stopped.cases
+                )));
+            }
+        }
+    }
+    Ok(report)
+}
+
 /// `--update`: run every file, writing each updated copy to a temporary staged in `outputs`;
 /// the rows, the files written and notes for the user.
 fn update_all(
     args: &VerifyArgs,
     force: &[RowSelector],
     outputs: &mut OutputTransaction,
+    controls: &mut Controls<'_>,
 ) -> Result<(VerifyReport, Vec<String>, Vec<String>), CliError> {
     let mut report = VerifyReport::default();
     let mut updated_files = Vec::new();
@@ -143,7 +175,13 @@ fn update_all(
         .map(|dest| outputs.stage(dest))
         .collect::<Result<Vec<_>, _>>()?;
     for ((path, dest), temp) in args.files.iter().zip(&destinations).zip(&staged) {
-        let outcome = update_checks_file_forcing(path, Some(temp), force).map_err(usage)?;
+        let outcome = update_checks_file_with(path, Some(temp), force, controls.reborrow())
+            .map_err(|e| match e {
+                VerifyError::Interrupted { .. } => {
+                    CliError::interrupted(format!("{e}; no file was updated"))
+                }
+                e => usage(e),
+            })?;
         notes.push(format!(
             "wrote {} ({} values updated{})",
             dest.display(),

@@ -155,6 +155,20 @@ pub struct Controls<'a> {
     pub stop: Option<&'a AtomicBool>,
 }
 
+impl Controls<'_> {
+    /// The same observers and stop flag, lent to one of several runs in a row.
+    pub fn reborrow(&mut self) -> Controls<'_> {
+        Controls {
+            observers: self
+                .observers
+                .iter_mut()
+                .map(|o| &mut **o as &mut dyn Observe)
+                .collect(),
+            stop: self.stop,
+        }
+    }
+}
+
 /// The outputs of one batch, in the order of the selected items.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Batch<O> {

@@ -13,6 +13,8 @@ use crate::bounds::{
 };
 use crate::measurement::{DerivedRadii, Measurement};
 use crate::numfmt::Num;
+use crate::run::bound::{bound_with, BoundRunError};
+use crate::run::Controls;
 use crate::shadow::MAX_POINTS;
 use serde::Deserialize;
 use std::collections::BTreeMap;
@@ -268,7 +270,32 @@ impl BoundCase {
 
     /// Compute the bound and judge each expectation; failures become rows with the reason.
     pub fn run(&self, file: &str, index: usize) -> Vec<CheckRow> {
-        let result = bound(&self.request).map_err(|e| format!("the bound failed: {e}"));
+        self.judge(file, index, bound(&self.request).map_err(|e| e.to_string()))
+    }
+
+    /// [`BoundCase::run`] on the run executor with `controls`' observers and stop flag;
+    /// `None` if a stop request ended the bound before it finished.
+    pub fn run_with(
+        &self,
+        file: &str,
+        index: usize,
+        controls: Controls<'_>,
+    ) -> Option<Vec<CheckRow>> {
+        let result = match bound_with(&self.request, controls, None) {
+            Err(BoundRunError::Interrupted { .. }) => return None,
+            r => r.map_err(|e| e.to_string()),
+        };
+        Some(self.judge(file, index, result))
+    }
+
+    /// One row per expectation from the bound's result (or why it failed).
+    fn judge(
+        &self,
+        file: &str,
+        index: usize,
+        result: Result<BoundResult, String>,
+    ) -> Vec<CheckRow> {
+        let result = result.map_err(|e| format!("the bound failed: {e}"));
         self.expectations
             .iter()
             .enumerate()

@@ -41,11 +41,13 @@ pub use report::{CheckRow, VerifyReport};
 pub use schema::{Case, ChecksFile, Expectation, Expected, Tolerance};
 pub use update::{
     default_update_path, is_umbral_source, update_checks_file, update_checks_file_forcing,
-    RowSelector, UpdateOutcome,
+    update_checks_file_with, RowSelector, UpdateOutcome,
 };
 
+use crate::run::{Checkpoint, CheckpointError, Controls, Executor, Selection, WorkList};
 use crate::shadow::{solve, solve_curve};
 use quantity::Solved;
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
 /// A checks file that cannot be used (as opposed to a failing check, which is a report row).
@@ -58,6 +60,16 @@ pub enum VerifyError {
         path: PathBuf,
         /// What is wrong with it.
         message: String,
+    },
+    /// A stop request ended the run before every case finished (nothing was written).
+    #[error("{}: interrupted after {cases_done} of {cases} cases", path.display())]
+    Interrupted {
+        /// The checks file.
+        path: PathBuf,
+        /// Cases finished.
+        cases_done: usize,
+        /// Cases in the file.
+        cases: usize,
     },
     /// An output file could not be written.
     #[error("{}: cannot write: {message}", path.display())]
@@ -113,21 +125,111 @@ impl Case {
 impl ChecksFile {
     /// Run every case, one row per expectation.
     pub fn run(&self) -> VerifyReport {
+        // Without a stop flag nothing ends the run early.
+        self.run_with(Controls::default())
+            .unwrap_or_else(|stopped| stopped.report)
+    }
+
+    /// [`ChecksFile::run`] on the run executor, with `controls`' observers and stop flag: the
+    /// `[[case]]` cases as one parallel run (one work item per case), then each `[[bound]]` as
+    /// a run of nuisance evaluations. A stop request ends it with the rows of every case that
+    /// finished.
+    pub fn run_with(&self, mut controls: Controls<'_>) -> Result<VerifyReport, VerifyInterrupted> {
         let file = self.path.display().to_string();
-        VerifyReport {
-            rows: self
-                .cases
-                .iter()
-                .enumerate()
-                .flat_map(|(i, c)| c.run(&file, i))
-                .chain(
-                    self.bounds
-                        .iter()
-                        .enumerate()
-                        .flat_map(|(i, b)| b.run(&file, i)),
-                )
-                .collect(),
+        let total = self.cases.len() + self.bounds.len();
+        let list = CaseList {
+            cases: &self.cases,
+            file: &file,
+        };
+        let mut finished = FinishedCases::default();
+        let name = format!("checks in {file}");
+        let run = Executor::new(&name, "cases")
+            .with(controls.reborrow())
+            .checkpoint(&mut finished)
+            .run(&list, &Selection::All);
+        let mut rows: Vec<CheckRow> = match run {
+            Ok(batch) => batch.outputs.into_iter().flatten().collect(),
+            Err(_) => {
+                // Interrupted (the memory checkpoint cannot fail): the cases that finished.
+                let done: Vec<Vec<CheckRow>> = (0..list.len())
+                    .filter_map(|i| finished.0.remove(&list.key(i)))
+                    .collect();
+                return Err(VerifyInterrupted {
+                    cases_done: done.len(),
+                    cases: total,
+                    report: VerifyReport {
+                        rows: done.into_iter().flatten().collect(),
+                    },
+                });
+            }
+        };
+        for (i, b) in self.bounds.iter().enumerate() {
+            match b.run_with(&file, i, controls.reborrow()) {
+                Some(r) => rows.extend(r),
+                None => {
+                    return Err(VerifyInterrupted {
+                        cases_done: self.cases.len() + i,
+                        cases: total,
+                        report: VerifyReport { rows },
+                    })
+                }
+            }
         }
+        Ok(VerifyReport { rows })
+    }
+}
+
+/// A checks file's run that a stop request ended: the rows of the cases that finished.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("interrupted after {cases_done} of {cases} cases")]
+pub struct VerifyInterrupted {
+    /// Rows of the finished cases (`[[case]]` in file order, then finished `[[bound]]`s).
+    pub report: VerifyReport,
+    /// Cases finished.
+    pub cases_done: usize,
+    /// Cases in the file.
+    pub cases: usize,
+}
+
+/// A checks file's `[[case]]` cases as work items (key: the case's name, unique in its file).
+struct CaseList<'a> {
+    cases: &'a [Case],
+    file: &'a str,
+}
+
+impl WorkList for CaseList<'_> {
+    type Output = Vec<CheckRow>;
+
+    fn len(&self) -> usize {
+        self.cases.len()
+    }
+
+    fn key(&self, index: usize) -> String {
+        self.cases[index].name.clone()
+    }
+
+    fn run(&self, index: usize) -> Vec<CheckRow> {
+        self.cases[index].run(self.file, index)
+    }
+}
+
+/// The rows of cases finished in this run, so that an interrupted run still reports them.
+#[derive(Default)]
+struct FinishedCases(HashMap<String, Vec<CheckRow>>);
+
+impl Checkpoint<Vec<CheckRow>> for FinishedCases {
+    fn recall(&self, _key: &str) -> Option<Vec<CheckRow>> {
+        // Nothing is kept between runs: a checks file is always computed afresh.
+        None
+    }
+
+    fn record(&mut self, key: &str, rows: &Vec<CheckRow>) -> Result<(), CheckpointError> {
+        self.0.insert(key.to_string(), rows.clone());
+        Ok(())
+    }
+
+    fn complete(&mut self) -> Result<(), CheckpointError> {
+        Ok(())
     }
 }
 

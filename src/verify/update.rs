@@ -15,6 +15,7 @@
 use super::report::{CheckRow, VerifyReport};
 use super::schema::Expected;
 use super::{ChecksFile, VerifyError};
+use crate::run::Controls;
 use std::path::{Path, PathBuf};
 use toml_edit::{DocumentMut, Item, TableLike, Value};
 
@@ -305,13 +306,31 @@ pub fn update_checks_file_forcing(
     output: Option<&Path>,
     force: &[RowSelector],
 ) -> Result<UpdateOutcome, VerifyError> {
+    update_checks_file_with(path, output, force, Controls::default())
+}
+
+/// [`update_checks_file_forcing`] with `controls`' observers and stop flag
+/// ([`super::ChecksFile::run_with`]); a stop request ends it with
+/// [`VerifyError::Interrupted`] before anything is written.
+pub fn update_checks_file_with(
+    path: impl AsRef<Path>,
+    output: Option<&Path>,
+    force: &[RowSelector],
+    controls: Controls<'_>,
+) -> Result<UpdateOutcome, VerifyError> {
     let path = path.as_ref();
     let original = crate::input::read_text(path).map_err(|e| VerifyError::Invalid {
         path: path.to_path_buf(),
         message: format!("cannot read: {e}"),
     })?;
     let checks = super::ChecksFile::parse(&original, path)?;
-    let report = checks.run();
+    let report = checks
+        .run_with(controls)
+        .map_err(|stopped| VerifyError::Interrupted {
+            path: path.to_path_buf(),
+            cases_done: stopped.cases_done,
+            cases: stopped.cases,
+        })?;
     let edits = updated_text(&original, path, &report, force)?;
     let output = output
         .map(Path::to_path_buf)
