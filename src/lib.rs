@@ -26,12 +26,12 @@
 pub mod bounds;
 pub mod error;
 pub mod geodesic;
-pub mod input;
+pub(crate) mod input;
 pub mod measurement;
 pub mod metric;
 pub mod metric_file;
 pub mod metrics;
-pub mod numerics;
+pub(crate) mod numerics;
 pub mod numfmt;
 pub mod observables;
 pub mod output;

@@ -54,11 +54,6 @@ impl Convergency<f64> for FullPrecision {
 
 /// Root of `f` in `[lo, hi]` by Brent's method (the `roots` crate), to `xtol` absolute
 /// plus a few units in the last place.
-///
-/// ```
-/// let r = umbral::numerics::brent_root(|x| x * x - 2.0, 0.0, 2.0, 0.0).unwrap();
-/// assert!((r - 2f64.sqrt()).abs() < 1e-15);
-/// ```
 pub fn brent_root<F: FnMut(f64) -> f64>(
     f: F,
     lo: f64,
@@ -88,24 +83,6 @@ pub struct SearchFailure {
 /// Root of a fallible `f` in `[lo, hi]` by Brent's method to full precision: the first error
 /// `f` returns stops the search and is returned; a failed search becomes `E` through
 /// [`SearchFailure`], which names `what`.
-///
-/// ```
-/// use umbral::numerics::{fallible_root, SearchFailure};
-/// #[derive(Debug)]
-/// enum Failure {
-///     Search(SearchFailure),
-/// }
-/// impl From<SearchFailure> for Failure {
-///     fn from(e: SearchFailure) -> Self {
-///         Failure::Search(e)
-///     }
-/// }
-/// let f = |x: f64| -> Result<f64, Failure> { Ok(x * x - 2.0) };
-/// let r = fallible_root(&f, 0.0, 2.0, "the square root of 2").unwrap();
-/// assert!((r - 2f64.sqrt()).abs() < 1e-15);
-/// let e = fallible_root(&f, 2.0, 3.0, "a root above 2").unwrap_err();
-/// assert!(matches!(e, Failure::Search(s) if s.what == "a root above 2"));
-/// ```
 pub fn fallible_root<E: From<SearchFailure>>(
     f: &dyn Fn(f64) -> Result<f64, E>,
     lo: f64,
@@ -154,12 +131,6 @@ pub struct MinimiseError {
 /// Derivatives", ch. 5). `f` may return `+inf` where it is undefined; such points are never
 /// chosen. Stops when the bracket around the best point is below `tol` (absolute) plus
 /// 1e-9 relative.
-///
-/// ```
-/// use umbral::numerics::brent_minimise;
-/// let (x, fx) = brent_minimise(|x| (x - 0.3f64).powi(2) + 1.0, 0.0, 1.0, 0.5, 1.04, 1e-10).unwrap();
-/// assert!((x - 0.3).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
-/// ```
 pub fn brent_minimise<F: FnMut(f64) -> f64>(
     mut f: F,
     lo: f64,
@@ -277,11 +248,6 @@ impl Triple {
 
 /// Bisect between `good` (where `pred` holds) and `bad` (where it does not) until they are
 /// within `tol`; returns the final (good, bad) pair.
-///
-/// ```
-/// let (good, bad) = umbral::numerics::bisect_predicate(|x| x * x < 2.0, 0.0, 2.0, 1e-12);
-/// assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-12);
-/// ```
 pub fn bisect_predicate<P: FnMut(f64) -> bool>(
     pred: P,
     good: f64,
@@ -293,14 +259,6 @@ pub fn bisect_predicate<P: FnMut(f64) -> bool>(
 
 /// [`bisect_predicate`] with at most `max_steps` evaluations of `pred`. With `tol = 0` it
 /// stops at adjacent doubles.
-///
-/// ```
-/// use umbral::numerics::bisect_predicate_steps;
-/// let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 200);
-/// assert_eq!(good.next_up(), bad);
-/// let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 3);
-/// assert_eq!((good, bad), (1.25, 1.5));
-/// ```
 pub fn bisect_predicate_steps<P: FnMut(f64) -> bool>(
     mut pred: P,
     good: f64,
@@ -320,16 +278,6 @@ pub fn bisect_predicate_steps<P: FnMut(f64) -> bool>(
 
 /// [`bisect_predicate_steps`] for a predicate that can fail: its first error stops the
 /// search and is returned.
-///
-/// ```
-/// use umbral::numerics::try_bisect;
-/// let pred = |x: f64| if x > 1.9 { Err("too far") } else { Ok(x * x < 2.0) };
-/// let (good, bad) = try_bisect(pred, 0.0, 1.5, 1e-9, usize::MAX)?;
-/// assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-9);
-/// // The first midpoint of [0, 4] is 2, where the predicate fails.
-/// assert_eq!(try_bisect(pred, 0.0, 4.0, 1e-9, usize::MAX), Err("too far"));
-/// # Ok::<(), &str>(())
-/// ```
 pub fn try_bisect<E, P: FnMut(f64) -> Result<bool, E>>(
     mut pred: P,
     mut good: f64,
@@ -367,14 +315,6 @@ pub enum NewtonEval {
 /// step that leaves the shrinking bracket is replaced by its midpoint; Press et al. 2007,
 /// "Numerical Recipes", 3rd ed., §9.4, `rtsafe`). After each step `settled(previous, next,
 /// lo, hi)` decides whether to stop at `next`. `None` after `max_iter` steps.
-///
-/// ```
-/// use umbral::numerics::{safeguarded_newton, NewtonEval};
-/// let f = |x: f64| NewtonEval::Slope(2.0 - x * x, -2.0 * x);
-/// let settled = |a: f64, b: f64, _lo: f64, _hi: f64| (a - b).abs() <= 1e-15;
-/// let r = safeguarded_newton(f, [0.0, 2.0], 1.0, 100, settled).unwrap();
-/// assert!((r - 2f64.sqrt()).abs() < 1e-15);
-/// ```
 pub fn safeguarded_newton<F, S>(
     mut f: F,
     [mut lo, mut hi]: [f64; 2],
@@ -416,13 +356,6 @@ where
 /// the bracket (Brent 1973, ch. 5), until a step moves less than 1e-7 or the bracket is
 /// narrower than 1e-7 (at most 40 steps). Returns the smallest value evaluated; an error of
 /// `f` stops the search and is returned.
-///
-/// ```
-/// let f = |x: f64| -> Result<f64, ()> { Ok((x - 0.3).powi(2) - 1.0) };
-/// let min = umbral::numerics::parabolic_min(&f, [(0.0, f(0.0)?), (0.4, f(0.4)?), (1.0, f(1.0)?)])?;
-/// assert!((min + 1.0).abs() < 1e-14);
-/// # Ok::<(), ()>(())
-/// ```
 pub fn parabolic_min<E>(
     f: &dyn Fn(f64) -> Result<f64, E>,
     bracket: [(f64, f64); 3],
@@ -464,13 +397,6 @@ pub fn parabolic_min<E>(
 /// Golden-section search for a maximum of a fallible `f` on [lo, hi], down to a bracket of
 /// 1e-13 (1 + |lo|) (at most 200 steps); returns the best point and its value. An error of
 /// `f` stops the search and is returned.
-///
-/// ```
-/// let f = |x: f64| -> Result<f64, ()> { Ok(1.0 - (x - 0.25).powi(2)) };
-/// let (x, fx) = umbral::numerics::golden_max(&f, 0.0, 1.0)?;
-/// assert!((x - 0.25).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
-/// # Ok::<(), ()>(())
-/// ```
 pub fn golden_max<E>(f: &dyn Fn(f64) -> Result<f64, E>, lo: f64, hi: f64) -> Result<(f64, f64), E> {
     let mut g = GoldenBracket::new(lo, hi, f)?;
     for _ in 0..200 {
@@ -487,19 +413,6 @@ pub fn golden_max<E>(f: &dyn Fn(f64) -> Result<f64, E>, lo: f64, hi: f64) -> Res
 /// the interval [lo, hi] and two interior points x1 < x2 at the golden ratio, with their
 /// values. [`golden_max`] drives it to a fixed width; a caller with its own stopping rule
 /// steps it with [`GoldenBracket::shrink`] and [`GoldenBracket::accept`].
-///
-/// ```
-/// use umbral::numerics::GoldenBracket;
-/// let f = |x: f64| -> Result<f64, ()> { Ok(-(x - 0.25).powi(2)) };
-/// let mut g = GoldenBracket::new(0.0, 1.0, f)?;
-/// while g.hi - g.lo > 1e-9 {
-///     let x = g.shrink();
-///     assert!(g.new_point_inside());
-///     g.accept(f(x)?);
-/// }
-/// assert!((g.best().0 - 0.25).abs() < 1e-9);
-/// # Ok::<(), ()>(())
-/// ```
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct GoldenBracket {
     /// The low end of the bracket.
@@ -587,6 +500,162 @@ impl GoldenBracket {
             (self.x1, self.f1)
         } else {
             (self.x2, self.f2)
+        }
+    }
+}
+
+/// Gauss–Legendre nodes and weights on (0, 1): Newton's method on P_n from the Chebyshev-like
+/// first guess cos(π(i − ¼)/(n + ½)), P_n by the three-term recurrence, weights
+/// 2/((1 − x²) P_n′(x)²) on (−1, 1) (Abramowitz & Stegun 1964, 25.4.29), halved for (0, 1).
+pub(crate) fn gauss_legendre_unit(n: usize) -> Vec<(f64, f64)> {
+    let legendre = |x: f64| {
+        let (mut p0, mut p1) = (1.0, x);
+        for k in 1..n {
+            let k = k as f64;
+            let p2 = ((2.0 * k + 1.0) * x * p1 - k * p0) / (k + 1.0);
+            p0 = p1;
+            p1 = p2;
+        }
+        let dp = n as f64 * (x * p1 - p0) / (x * x - 1.0);
+        (p1, dp)
+    };
+    (1..=n)
+        .map(|i| {
+            let mut x = (std::f64::consts::PI * (i as f64 - 0.25) / (n as f64 + 0.5)).cos();
+            for _ in 0..100 {
+                let (p, dp) = legendre(x);
+                let dx = p / dp;
+                x -= dx;
+                if dx.abs() < 1e-16 {
+                    break;
+                }
+            }
+            let (_, dp) = legendre(x);
+            let w = 2.0 / ((1.0 - x * x) * dp * dp);
+            (0.5 * (1.0 - x), 0.5 * w)
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn brent_root_example() {
+        let r = brent_root(|x| x * x - 2.0, 0.0, 2.0, 0.0).unwrap();
+        assert!((r - 2f64.sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn fallible_root_example() {
+        #[derive(Debug)]
+        enum Failure {
+            Search(SearchFailure),
+        }
+        impl From<SearchFailure> for Failure {
+            fn from(e: SearchFailure) -> Self {
+                Failure::Search(e)
+            }
+        }
+        let f = |x: f64| -> Result<f64, Failure> { Ok(x * x - 2.0) };
+        let r = fallible_root(&f, 0.0, 2.0, "the square root of 2").unwrap();
+        assert!((r - 2f64.sqrt()).abs() < 1e-15);
+        let e = fallible_root(&f, 2.0, 3.0, "a root above 2").unwrap_err();
+        assert!(matches!(e, Failure::Search(s) if s.what == "a root above 2"));
+    }
+
+    #[test]
+    fn brent_minimise_example() {
+        let (x, fx) =
+            brent_minimise(|x| (x - 0.3f64).powi(2) + 1.0, 0.0, 1.0, 0.5, 1.04, 1e-10).unwrap();
+        assert!((x - 0.3).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
+    }
+
+    #[test]
+    fn bisect_predicate_example() {
+        let (good, bad) = bisect_predicate(|x| x * x < 2.0, 0.0, 2.0, 1e-12);
+        assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-12);
+    }
+
+    #[test]
+    fn bisect_predicate_steps_example() {
+        let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 200);
+        assert_eq!(good.next_up(), bad);
+        let (good, bad) = bisect_predicate_steps(|x| x * x < 2.0, 0.0, 2.0, 0.0, 3);
+        assert_eq!((good, bad), (1.25, 1.5));
+    }
+
+    #[test]
+    fn try_bisect_example() {
+        let pred = |x: f64| {
+            if x > 1.9 {
+                Err("too far")
+            } else {
+                Ok(x * x < 2.0)
+            }
+        };
+        let (good, bad) = try_bisect(pred, 0.0, 1.5, 1e-9, usize::MAX).unwrap();
+        assert!(good < 2f64.sqrt() && bad >= 2f64.sqrt() && bad - good <= 1e-9);
+        // The first midpoint of [0, 4] is 2, where the predicate fails.
+        assert_eq!(try_bisect(pred, 0.0, 4.0, 1e-9, usize::MAX), Err("too far"));
+    }
+
+    #[test]
+    fn safeguarded_newton_example() {
+        let f = |x: f64| NewtonEval::Slope(2.0 - x * x, -2.0 * x);
+        let settled = |a: f64, b: f64, _lo: f64, _hi: f64| (a - b).abs() <= 1e-15;
+        let r = safeguarded_newton(f, [0.0, 2.0], 1.0, 100, settled).unwrap();
+        assert!((r - 2f64.sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn parabolic_min_example() {
+        let f = |x: f64| -> Result<f64, ()> { Ok((x - 0.3).powi(2) - 1.0) };
+        let min = parabolic_min(
+            &f,
+            [
+                (0.0, f(0.0).unwrap()),
+                (0.4, f(0.4).unwrap()),
+                (1.0, f(1.0).unwrap()),
+            ],
+        )
+        .unwrap();
+        assert!((min + 1.0).abs() < 1e-14);
+    }
+
+    #[test]
+    fn golden_max_example() {
+        let f = |x: f64| -> Result<f64, ()> { Ok(1.0 - (x - 0.25).powi(2)) };
+        let (x, fx) = golden_max(&f, 0.0, 1.0).unwrap();
+        assert!((x - 0.25).abs() < 1e-7 && (fx - 1.0).abs() < 1e-14);
+    }
+
+    #[test]
+    fn golden_bracket_example() {
+        let f = |x: f64| -> Result<f64, ()> { Ok(-(x - 0.25).powi(2)) };
+        let mut g = GoldenBracket::new(0.0, 1.0, f).unwrap();
+        while g.hi - g.lo > 1e-9 {
+            let x = g.shrink();
+            assert!(g.new_point_inside());
+            g.accept(f(x).unwrap());
+        }
+        assert!((g.best().0 - 0.25).abs() < 1e-9);
+    }
+
+    #[test]
+    fn gauss_legendre_is_exact_for_polynomials() {
+        // An n-node rule integrates u^k exactly for k ≤ 2n − 1 (Abramowitz & Stegun 1964,
+        // 25.4.29).
+        for n in [2, 6, 16] {
+            let rule = gauss_legendre_unit(n);
+            for k in 0..2 * n {
+                let sum: f64 = rule.iter().map(|(u, w)| w * u.powi(k as i32)).sum();
+                assert!(
+                    (sum - 1.0 / (k as f64 + 1.0)).abs() < 1e-14,
+                    "n = {n}, k = {k}"
+                );
+            }
         }
     }
 }

@@ -1,6 +1,8 @@
 //! Shadows of the catalogue metrics: exact solvers against the ray tracer, limits, and
 //! first-order deviations from Schwarzschild.
 
+mod common;
+
 use rayon::prelude::*;
 use umbral::metric::Spacetime;
 use umbral::metrics::build_metric;
@@ -155,7 +157,7 @@ fn johannsen_psaltis_static_limit_matches_the_spherical_minimum() {
     let b2 = |r: f64| r * r / ((1.0 + eps3 / r.powi(3)) * (1.0 - 2.0 / r));
     // (b²)′ = 0 by Brent's method on a numerical derivative of the closed form.
     let db2 = |r: f64| (b2(r + 1e-6) - b2(r - 1e-6)) / 2e-6;
-    let r_ph = umbral::numerics::brent_root(db2, 2.5, 4.0, 1e-12).unwrap();
+    let r_ph = common::brent_root(db2, 2.5, 4.0, 1e-12).unwrap();
     let b_c = b2(r_ph).sqrt();
     let traced = curve(jp.as_ref(), 50.0, solver("raytrace"), 8);
     for r in &traced.radii {

@@ -1,12 +1,14 @@
 //! Declarative metric files: each shipped file equals its built-in Rust twin, and a metric
 //! that exists only as a file (Ayon-Beato-Garcia) reproduces an independent mpmath computation.
 
+mod common;
+
+use common::brent_root;
 use proptest::prelude::*;
 use std::path::{Path, PathBuf};
 use umbral::metric::{numerical_outer_horizon, Spacetime, Symmetry};
 use umbral::metric_file::{list_metric_dir, load_metric_file, FileMetric, FileMetricSpec};
 use umbral::metrics::{build_metric, JohannsenPsaltis};
-use umbral::numerics::brent_root;
 use umbral::observables::{CentreChoice, Observables};
 use umbral::shadow::{spherical, Observer, ShadowSettings, SolverChoice};
 

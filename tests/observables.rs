@@ -1,5 +1,7 @@
 //! Observables of critical curves, against closed forms and independent quadratures.
 
+mod common;
+
 use proptest::prelude::*;
 use std::f64::consts::{PI, TAU};
 use umbral::observables::{
@@ -264,8 +266,7 @@ fn hioki_maeda_radius_matches_the_symmetric_formula() {
     // Top point: root of dβ/dψ = R′ sin ψ + R cos ψ near π/2, by Brent's method.
     let dr = |p: f64| -0.2 * p.sin() + 0.3 * (2.0 * p).sin() - 0.12 * (3.0 * p).sin();
     let beta = |p: f64| r(p) * p.sin();
-    let p_top =
-        umbral::numerics::brent_root(|p| dr(p) * p.sin() + r(p) * p.cos(), 1.0, 2.2, 0.0).unwrap();
+    let p_top = common::brent_root(|p| dr(p) * p.sin() + r(p) * p.cos(), 1.0, 2.2, 0.0).unwrap();
     let (alpha_t, beta_t) = (0.3 + r(p_top) * p_top.cos(), beta(p_top));
     let (alpha_plus, alpha_minus) = (0.3 + r(0.0), 0.3 - r(PI));
     let alpha_r = if (alpha_plus - alpha_t).abs() >= (alpha_minus - alpha_t).abs() {

@@ -534,17 +534,17 @@ fn stop_flag_interrupts_and_the_rerun_resumes_byte_identical() {
     let (_, complete) = finished("stop-reference.jsonl");
     let path = temp("stop.jsonl");
     let stop = std::sync::atomic::AtomicBool::new(false);
-    let e = umbral::scan::run_scan_until(
-        &request(),
-        &path,
-        &|done, _| {
-            if done >= 4 {
-                stop.store(true, std::sync::atomic::Ordering::Relaxed);
-            }
-        },
-        &stop,
-    )
-    .unwrap_err();
+    let stop_after_four = |done: usize, _| {
+        if done >= 4 {
+            stop.store(true, std::sync::atomic::Ordering::Relaxed);
+        }
+    };
+    let mut progress = umbral::run::ProgressFn(&stop_after_four);
+    let controls = umbral::run::Controls {
+        observers: vec![&mut progress],
+        stop: Some(&stop),
+    };
+    let e = umbral::scan::scan(&request(), &path, controls).unwrap_err();
     let text = e.to_string();
     assert!(
         text.contains("interrupted after") && text.contains("of 12 points"),

@@ -1,10 +1,12 @@
 //! Checks of the separable shadow solver and of the finite-distance observer.
 
+mod common;
+
+use common::brent_root;
 use proptest::prelude::*;
 use std::f64::consts::{FRAC_PI_2, PI};
 use umbral::metric::Spacetime;
 use umbral::metrics::{Kerr, KerrNewman, Schwarzschild};
-use umbral::numerics::brent_root;
 use umbral::shadow::observer::{
     celestial_from_momentum, celestial_from_screen, momentum_from_celestial, screen_from_celestial,
     zamo_tetrad,

@@ -52,7 +52,6 @@ use lines::ScanFormat;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::Path;
-use std::sync::atomic::AtomicBool;
 
 /// One grid axis: `count` points from `low` to `high` inclusive.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
@@ -536,28 +535,18 @@ pub fn run_scan(
     path: &Path,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<ScanSummary, ScanError> {
-    run_scan_until(request, path, progress, &AtomicBool::new(false))
-}
-
-/// [`run_scan`] that stops when `stop` is set: the points being computed are finished and
-/// written, no new one is started, and the result is [`ScanError::Interrupted`] with the
-/// count kept in the file. Rerunning the same request resumes.
-pub fn run_scan_until(
-    request: &ScanRequest,
-    path: &Path,
-    progress: &(dyn Fn(usize, usize) + Sync),
-    stop: &AtomicBool,
-) -> Result<ScanSummary, ScanError> {
     let mut progress = ProgressFn(progress);
     let controls = Controls {
         observers: vec![&mut progress],
-        stop: Some(stop),
+        stop: None,
     };
     scan(request, path, controls)
 }
 
 /// Run (or resume) a scan writing to `path`, with the observers and stop flag of `controls`
-/// attached to its executor.
+/// attached to its executor. A stop request finishes and writes the points being computed,
+/// starts no new one and ends with [`ScanError::Interrupted`] with the count kept in the file;
+/// rerunning the same request resumes.
 pub fn scan(
     request: &ScanRequest,
     path: &Path,

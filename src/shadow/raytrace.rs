@@ -345,7 +345,7 @@ impl LineBoundary {
 
 /// How a radial screen line is scanned and refined (see [`Tracer::boundary_along_line`]).
 #[derive(Debug, Clone, Copy, PartialEq, Serialize)]
-pub struct LineScan {
+pub(crate) struct LineScan {
     /// Distance between pre-scan samples, in M.
     pub spacing: f64,
     /// The pre-scan covers at least [0, scan_to].
@@ -548,14 +548,14 @@ impl<'a> Tracer<'a> {
             escape_radius,
             horizonless: horizon.is_none(),
             winding_radius: capture_radius,
-            quadrature: gauss_legendre_unit(options.correction_nodes),
+            quadrature: crate::numerics::gauss_legendre_unit(options.correction_nodes),
         })
     }
 
     /// The tracer that re-traces crossings with refined numerics (tighter tolerance, smaller
     /// capture margin, larger start radius); it sums the winding above this tracer's capture
     /// radius, so that windings compare.
-    pub fn validator(&self) -> Result<Tracer<'a>, ShadowError> {
+    pub(crate) fn validator(&self) -> Result<Tracer<'a>, ShadowError> {
         let o = &self.options;
         let refined = RaytraceOptions {
             start_radius: o.validation_start_radius,
@@ -571,18 +571,8 @@ impl<'a> Tracer<'a> {
         Ok(validator)
     }
 
-    /// The radius at which rays count as captured.
-    pub fn capture_radius(&self) -> f64 {
-        self.capture_radius
-    }
-
-    /// The radius beyond which outgoing rays count as escaped.
-    pub fn escape_radius(&self) -> f64 {
-        self.escape_radius
-    }
-
     /// The phase-space start state of the backward ray through screen point (α, β).
-    pub fn start_state(&self, alpha: f64, beta: f64) -> Result<PhaseState, RayFailure> {
+    pub(crate) fn start_state(&self, alpha: f64, beta: f64) -> Result<PhaseState, RayFailure> {
         let no_data = RayFailure::NoStartData { alpha, beta };
         let [alpha0, beta0] = self.options.screen_offset;
         let (alpha, beta) = (alpha + alpha0, beta + beta0);
@@ -662,17 +652,6 @@ impl<'a> Tracer<'a> {
         Some([0.0, r, theta, phi, -1.0, p_r, p_theta, p_phi])
     }
 
-    /// The first-order changes (Δp, ΔL) of the Cartesian momentum and angular momentum of the
-    /// distant-observer ray through (α, β) between the start radius D and infinity.
-    pub fn asymptotic_correction(&self, alpha: f64, beta: f64) -> ([f64; 3], [f64; 3]) {
-        let big_d = self.options.start_radius;
-        let (so, co) = self.observer.inclination.sin_cos();
-        let n = [so, 0.0, co];
-        let d = [-beta * co, alpha, beta * so];
-        let s_d = (big_d * big_d - dot(&d, &d)).sqrt();
-        self.asymptotic_change(&d, &n, s_d)
-    }
-
     /// ∫_{s_D}^∞ dF/dτ ds along x(s) = d + s n for F = (p_x, p_y, p_z) and (L_x, L_y, L_z),
     /// with s = s_D/u and Gauss–Legendre nodes in u.
     fn asymptotic_change(&self, d: &[f64; 3], n: &[f64; 3], s_d: f64) -> ([f64; 3], [f64; 3]) {
@@ -699,7 +678,7 @@ impl<'a> Tracer<'a> {
     }
 
     /// [`Tracer::trace`] with relative tolerance `rtol`.
-    pub fn trace_with(&self, alpha: f64, beta: f64, rtol: f64) -> RayOutcome {
+    pub(crate) fn trace_with(&self, alpha: f64, beta: f64, rtol: f64) -> RayOutcome {
         self.trace_ray(alpha, beta, rtol, false)
     }
 
@@ -852,7 +831,7 @@ impl<'a> Tracer<'a> {
     /// δ = `width` · 10^{k/2} until the refined rays bracket it, then compare the winding of
     /// strict rays at three distances (far, mid, near) on both sides. The crossing should be
     /// bisected to well below `width` (the ray tracer uses half).
-    pub fn check_crossing(
+    pub(crate) fn check_crossing(
         &self,
         validator: &Tracer,
         origin: [f64; 2],
@@ -1010,7 +989,7 @@ impl<'a> Tracer<'a> {
     /// If a crossing found with the loose tolerance is not confirmed with the strict one (rays
     /// that pass close to a singularity can be misclassified by the loose tolerance), the line
     /// is scanned again with the strict tolerance throughout.
-    pub fn boundary_along_line(
+    pub(crate) fn boundary_along_line(
         &self,
         origin: [f64; 2],
         origin_captured: bool,
@@ -1769,39 +1748,6 @@ fn invariant_rates(y: &PhaseState, rhs: &PhaseState) -> [f64; 6] {
     cartesian_invariants(v(1), v(2), v(3), v(5), v(6), v(7)).map(|f| f.eps)
 }
 
-/// Gauss–Legendre nodes and weights on (0, 1): Newton's method on P_n from the Chebyshev-like
-/// first guess cos(π(i − ¼)/(n + ½)), P_n by the three-term recurrence, weights
-/// 2/((1 − x²) P_n′(x)²) on (−1, 1) (Abramowitz & Stegun 1964, 25.4.29), halved for (0, 1).
-pub fn gauss_legendre_unit(n: usize) -> Vec<(f64, f64)> {
-    let legendre = |x: f64| {
-        let (mut p0, mut p1) = (1.0, x);
-        for k in 1..n {
-            let k = k as f64;
-            let p2 = ((2.0 * k + 1.0) * x * p1 - k * p0) / (k + 1.0);
-            p0 = p1;
-            p1 = p2;
-        }
-        let dp = n as f64 * (x * p1 - p0) / (x * x - 1.0);
-        (p1, dp)
-    };
-    (1..=n)
-        .map(|i| {
-            let mut x = (PI * (i as f64 - 0.25) / (n as f64 + 0.5)).cos();
-            for _ in 0..100 {
-                let (p, dp) = legendre(x);
-                let dx = p / dp;
-                x -= dx;
-                if dx.abs() < 1e-16 {
-                    break;
-                }
-            }
-            let (_, dp) = legendre(x);
-            let w = 2.0 / ((1.0 - x * x) * dp * dp);
-            (0.5 * (1.0 - x), 0.5 * w)
-        })
-        .collect()
-}
-
 fn dot(a: &[f64; 3], b: &[f64; 3]) -> f64 {
     a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
 }
@@ -1840,3 +1786,6 @@ impl super::ShadowSolver for RaytraceSolver {
         solve_with(spacetime, observer, settings, &self.options)
     }
 }
+
+#[cfg(test)]
+mod tests;

@@ -444,3 +444,19 @@ pub fn proptest_cases(default: u32) -> u32 {
         .and_then(|v| v.parse().ok())
         .unwrap_or(default)
 }
+
+/// A root of `f` in `[lo, hi]` by Brent's method from the general-purpose `roots` crate
+/// (Brent 1973, "Algorithms for Minimization without Derivatives", ch. 4), called directly so
+/// that reference values do not go through umbral's own root finding.
+pub fn brent_root(
+    f: impl FnMut(f64) -> f64,
+    lo: f64,
+    hi: f64,
+    xtol: f64,
+) -> Result<f64, roots::SearchError> {
+    let mut conv = roots::SimpleConvergency {
+        eps: xtol.max(1e-15),
+        max_iter: 500,
+    };
+    roots::find_root_brent(lo, hi, f, &mut conv)
+}
