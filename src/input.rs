@@ -8,15 +8,6 @@
 //!
 //! The errors' `Display` is the reason only, without the path, like `std::io::Error`: callers
 //! already name the file in their own messages.
-//!
-//! ```
-//! use umbral::input::{read_text, MAX_INPUT_BYTES};
-//! let err = read_text(std::path::Path::new("/dev/zero")).unwrap_err();
-//! assert!(err.to_string().contains("not a regular file"));
-//! let dir = std::env::temp_dir();
-//! assert!(read_text(&dir).unwrap_err().to_string().contains("a folder"));
-//! assert_eq!(MAX_INPUT_BYTES, 4 * 1024 * 1024);
-//! ```
 
 use std::fs::File;
 use std::io::Read;
@@ -180,4 +171,21 @@ pub fn list_files(dir: &Path, extension: &str) -> Result<Vec<PathBuf>, InputErro
     }
     paths.sort();
     Ok(paths)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn devices_and_folders_are_refused_before_reading() {
+        let err = read_text(Path::new("/dev/zero")).unwrap_err();
+        assert!(err.to_string().contains("not a regular file"));
+        let dir = std::env::temp_dir();
+        assert!(read_text(&dir)
+            .unwrap_err()
+            .to_string()
+            .contains("a folder"));
+        assert_eq!(MAX_INPUT_BYTES, 4 * 1024 * 1024);
+    }
 }
