@@ -206,3 +206,73 @@ theta_g_uas = { value = 1.0, sigma = 0.0 }
         "{err}"
     );
 }
+
+/// The value-with-errors forms: r_sh/M with `sigma` or `minus`/`plus` gives the intervals
+/// [value − z minus, value + z plus] (z the two-sided Gaussian multiplier, z(0.68) computed
+/// here by bisection of erf from the standard library's definition: Abramowitz & Stegun 1964,
+/// 7.1.1); the fractional deviation accepts `sigma`; a soft circularity limit enters bounds as
+/// value + 2 sigma and says so. Mixed or incomplete forms are refused with a reason.
+#[test]
+fn value_with_errors_forms_and_soft_circularity() {
+    let m = Measurement::from_toml_str(
+        "[size.shadow_radius]\nvalue = 5.0\nminus = 0.2\nplus = 0.4\n\
+         [circularity]\nvalue = 0.05\nsigma = 0.02\n",
+    )
+    .unwrap();
+    let d = m.derive(Some(&[0.68])).unwrap();
+    // z(0.68) from erf(z/√2) = 0.68 by bisection on a series for erf (A&S 7.1.5).
+    let erf = |x: f64| {
+        let mut term = x;
+        let mut sum = x;
+        for n in 1..80 {
+            term *= -x * x / n as f64;
+            sum += term / (2 * n + 1) as f64;
+        }
+        2.0 / std::f64::consts::PI.sqrt() * sum
+    };
+    let (mut lo, mut hi) = (0.5, 1.5);
+    for _ in 0..100 {
+        let mid = 0.5 * (lo + hi);
+        if erf(mid / 2f64.sqrt()) < 0.68 {
+            lo = mid
+        } else {
+            hi = mid
+        }
+    }
+    let z = 0.5 * (lo + hi);
+    assert!((d.intervals[0].low - (5.0 - 0.2 * z)).abs() < 1e-12);
+    assert!((d.intervals[0].high - (5.0 + 0.4 * z)).abs() < 1e-12);
+    assert_eq!(m.circularity_max, Some(0.05 + 2.0 * 0.02));
+    assert!(d
+        .assumptions
+        .iter()
+        .any(|a| a.contains("soft upper limit 0.05")));
+    let f = Measurement::from_toml_str("[size.fractional_deviation]\nvalue = 0.1\nsigma = 0.05\n")
+        .unwrap();
+    let umbral::measurement::SizeMeasurement::FractionalDeviation(v) = f.size else {
+        panic!("{:?}", f.size)
+    };
+    assert_eq!((v.minus, v.plus), (0.05, 0.05));
+    for (text, needle) in [
+        (
+            "[size.shadow_radius]\nvalue = 5.0\nsigma = 0.2\nintervals = []\n",
+            "not both",
+        ),
+        ("[size.shadow_radius]\nvalue = 5.0\n", "value with sigma"),
+        (
+            "[size.fractional_deviation]\nvalue = 0.1\nsigma = 0.1\nminus = 0.1\n",
+            "value with sigma",
+        ),
+        (
+            "[size.shadow_radius]\nvalue = -5.0\nsigma = 0.2\n",
+            "must be positive",
+        ),
+        (
+            "[size.shadow_radius]\nvalue = 5.0\nsigma = 0.2\n[circularity]\nvalue = 0.1\n",
+            "circularity needs",
+        ),
+    ] {
+        let e = Measurement::from_toml_str(text).unwrap_err().to_string();
+        assert!(e.contains(needle), "{text}: {e}");
+    }
+}

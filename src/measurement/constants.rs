@@ -22,9 +22,10 @@ pub const UAS_RAD: f64 = std::f64::consts::PI / (180.0 * 3600.0 * 1e6);
 ///
 /// ```
 /// use umbral::measurement::constants::theta_g_uas;
-/// // 6.5e9 solar masses at 16.8 Mpc subtend about 3.8 micro-arcseconds.
-/// let t = theta_g_uas(6.5e9, 16.8);
-/// assert!((t - 3.8).abs() < 0.05);
+/// // An invented black hole: 2e9 solar masses at 40 Mpc subtend about 0.4935 micro-arcseconds
+/// // (the constants above written out by hand give 0.493531435688...).
+/// let t = theta_g_uas(2.0e9, 40.0);
+/// assert!((t - 0.493_531_435_688).abs() < 1e-9);
 /// ```
 pub fn theta_g_uas(mass_msun: f64, distance_mpc: f64) -> f64 {
     mass_msun * GM_SUN_OVER_C2_M / (distance_mpc * MPC_M) / UAS_RAD

@@ -3,14 +3,17 @@
 //! A measurement file (TOML) gives exactly one size form:
 //!
 //! * `[size.shadow_radius]`: intervals on r_sh/M at stated confidence levels, used as given;
-//! * `[size.fractional_deviation]`: δ = r_sh/(3√3) − 1 with asymmetric Gaussian errors
-//!   `value`, `minus`, `plus`; the interval at level p is
+//!   or a value with errors (`value` and `sigma`, or `value`, `minus` and `plus`);
+//! * `[size.fractional_deviation]`: δ = r_sh/(3√3) − 1 with Gaussian errors `value`,
+//!   `sigma` or asymmetric ones `value`, `minus`, `plus`; the interval at level p is
 //!   [value − z_p·minus, value + z_p·plus] with z_p the two-sided Gaussian multiplier
 //!   (the usual reading of quoted asymmetric errors; common practice, no source), then
-//!   r_sh = 3√3 (1 + δ);
+//!   r_sh = 3√3 (1 + δ) (a value with errors on r_sh/M is read the same way);
 //! * `[size.ring]`: the chain from the image, r_sh/M = d_ring / (κ · 2θ_g) (see [`ring`]),
 //!
-//! and optionally `[circularity] max = ...`, an upper limit on ΔC.
+//! and optionally `[circularity]`: `max = ...`, a hard upper limit on ΔC, or `value` and
+//! `sigma`, a soft one (see [`likelihood`]). How each form enters a posterior is in
+//! [`likelihood`].
 //!
 //! ```
 //! use umbral::measurement::Measurement;
@@ -27,11 +30,13 @@
 
 pub mod constants;
 pub mod gaussian;
+pub mod likelihood;
 pub mod ring;
 
 use crate::numfmt::Num;
 use crate::observables::SCHWARZSCHILD_SHADOW_RADIUS;
 use gaussian::two_sided_z;
+use likelihood::{CircularityLimit, ValueErrors};
 use ring::{AngularScale, RingChain, RingPropagation};
 use serde::{Deserialize, Serialize};
 use std::path::Path;
@@ -80,23 +85,28 @@ pub struct RadiusInterval {
     pub high: f64,
 }
 
+/// A value with errors as written: `value` with `sigma`, or with `minus` and `plus`.
+#[derive(Debug, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct FileValue {
+    value: Option<f64>,
+    sigma: Option<f64>,
+    minus: Option<f64>,
+    plus: Option<f64>,
+}
+
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct FileShadowRadius {
-    intervals: Vec<RadiusInterval>,
+    intervals: Option<Vec<RadiusInterval>>,
+    value: Option<f64>,
+    sigma: Option<f64>,
+    minus: Option<f64>,
+    plus: Option<f64>,
 }
 
-/// δ = r_sh/(3√3) − 1 with asymmetric Gaussian errors.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize, Deserialize)]
-#[serde(deny_unknown_fields)]
-pub struct FractionalDeviation {
-    /// The central value of δ.
-    pub value: f64,
-    /// The error below the value (one standard deviation, not negative).
-    pub minus: f64,
-    /// The error above the value (one standard deviation, not negative).
-    pub plus: f64,
-}
+/// δ = r_sh/(3√3) − 1 with (possibly asymmetric) Gaussian errors.
+pub type FractionalDeviation = ValueErrors;
 
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -112,14 +122,16 @@ struct FileRing {
 #[serde(deny_unknown_fields)]
 struct FileSize {
     shadow_radius: Option<FileShadowRadius>,
-    fractional_deviation: Option<FractionalDeviation>,
+    fractional_deviation: Option<FileValue>,
     ring: Option<FileRing>,
 }
 
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
 struct FileCircularity {
-    max: f64,
+    max: Option<f64>,
+    value: Option<f64>,
+    sigma: Option<f64>,
 }
 
 #[derive(Debug, Deserialize)]
@@ -137,6 +149,8 @@ struct MeasurementFile {
 pub enum SizeMeasurement {
     /// Intervals on r_sh/M, used as given.
     ShadowRadius(Vec<RadiusInterval>),
+    /// r_sh/M with (possibly asymmetric) Gaussian errors.
+    ShadowRadiusValue(ValueErrors),
     /// δ = r_sh/(3√3) − 1 with asymmetric errors.
     FractionalDeviation(FractionalDeviation),
     /// The chain from the ring image, r_sh/M = d_ring / (κ · 2θ_g).
@@ -148,10 +162,13 @@ pub enum SizeMeasurement {
 pub struct Measurement {
     /// A free-text label from the file (empty if none).
     pub label: String,
-    /// The size part: exactly one of the three forms.
+    /// The size part: exactly one of the forms.
     pub size: SizeMeasurement,
-    /// Upper limit on the circularity deviation ΔC, if any.
+    /// The hard upper limit on the circularity deviation ΔC the interval-inclusion bound
+    /// uses, if any ([`CircularityLimit::bound_cut`] of [`Measurement::circularity`]).
     pub circularity_max: Option<f64>,
+    /// The circularity limit as given (hard or soft), if any.
+    pub circularity: Option<CircularityLimit>,
 }
 
 /// The r_sh/M intervals a measurement implies, with how they were derived.
@@ -194,13 +211,13 @@ fn line_of(text: &str, offset: usize) -> usize {
 
 /// `[size.shadow_radius]`: at least one interval, each with a valid level, 0 < low < high,
 /// and no level twice.
-fn check_shadow_radius(s: &FileShadowRadius) -> Result<(), MeasurementError> {
-    if s.intervals.is_empty() {
+fn check_shadow_radius(intervals: &[RadiusInterval]) -> Result<(), MeasurementError> {
+    if intervals.is_empty() {
         return Err(MeasurementError::Invalid(
             "size.shadow_radius.intervals is empty".into(),
         ));
     }
-    for (k, iv) in s.intervals.iter().enumerate() {
+    for (k, iv) in intervals.iter().enumerate() {
         check_level(finite("a confidence", iv.confidence)?)?;
         let (lo, hi) = (finite("low", iv.low)?, finite("high", iv.high)?);
         if !(lo > 0.0 && lo < hi) {
@@ -211,10 +228,7 @@ fn check_shadow_radius(s: &FileShadowRadius) -> Result<(), MeasurementError> {
                 Num(hi)
             )));
         }
-        if s.intervals[..k]
-            .iter()
-            .any(|o| o.confidence == iv.confidence)
-        {
+        if intervals[..k].iter().any(|o| o.confidence == iv.confidence) {
             return Err(MeasurementError::Invalid(format!(
                 "size.shadow_radius: confidence {} given twice",
                 iv.confidence
@@ -224,18 +238,88 @@ fn check_shadow_radius(s: &FileShadowRadius) -> Result<(), MeasurementError> {
     Ok(())
 }
 
-/// `[size.fractional_deviation]`: finite, with non-negative errors.
-fn check_fractional_deviation(f: &FractionalDeviation) -> Result<(), MeasurementError> {
-    finite("size.fractional_deviation.value", f.value)?;
-    for (what, x) in [("minus", f.minus), ("plus", f.plus)] {
-        if finite(&format!("size.fractional_deviation.{what}"), x)? < 0.0 {
+/// A value with errors (`table` names it in messages): `value` and `sigma`, or `value`,
+/// `minus` and `plus`; finite, with non-negative errors.
+fn value_errors(table: &str, f: FileValue) -> Result<ValueErrors, MeasurementError> {
+    let (minus, plus) = match (f.sigma, f.minus, f.plus) {
+        (Some(s), None, None) => (s, s),
+        (None, Some(m), Some(p)) => (m, p),
+        _ => {
             return Err(MeasurementError::Invalid(format!(
-                "size.fractional_deviation.{what} must not be negative, got {}",
+                "{table} needs value with sigma, or value with minus and plus"
+            )))
+        }
+    };
+    let value = f
+        .value
+        .ok_or_else(|| MeasurementError::Invalid(format!("{table} needs a value")))?;
+    finite(&format!("{table}.value"), value)?;
+    for (what, x) in [("minus or sigma", minus), ("plus or sigma", plus)] {
+        if finite(&format!("{table} error"), x)? < 0.0 {
+            return Err(MeasurementError::Invalid(format!(
+                "{table}: {what} must not be negative, got {}",
                 Num(x)
             )));
         }
     }
-    Ok(())
+    Ok(ValueErrors { value, minus, plus })
+}
+
+/// `[size.shadow_radius]`: intervals, or a positive value with errors (not both).
+fn shadow_radius(s: FileShadowRadius) -> Result<SizeMeasurement, MeasurementError> {
+    let value = FileValue {
+        value: s.value,
+        sigma: s.sigma,
+        minus: s.minus,
+        plus: s.plus,
+    };
+    let has_value = value.value.is_some()
+        || value.sigma.is_some()
+        || value.minus.is_some()
+        || value.plus.is_some();
+    match (s.intervals, has_value) {
+        (Some(intervals), false) => {
+            check_shadow_radius(&intervals)?;
+            Ok(SizeMeasurement::ShadowRadius(intervals))
+        }
+        (None, true) => {
+            let v = value_errors("size.shadow_radius", value)?;
+            if v.value <= 0.0 {
+                return Err(MeasurementError::Invalid(format!(
+                    "size.shadow_radius.value must be positive, got {}",
+                    Num(v.value)
+                )));
+            }
+            Ok(SizeMeasurement::ShadowRadiusValue(v))
+        }
+        _ => Err(MeasurementError::Invalid(
+            "size.shadow_radius needs either intervals or a value with errors (not both)".into(),
+        )),
+    }
+}
+
+/// `[circularity]`: `max` (a hard cut) or `value` and `sigma` (a soft limit), positive.
+fn circularity(c: FileCircularity) -> Result<CircularityLimit, MeasurementError> {
+    let positive = |what: &str, x: f64| -> Result<f64, MeasurementError> {
+        if finite(what, x)? > 0.0 {
+            Ok(x)
+        } else {
+            Err(MeasurementError::Invalid(format!(
+                "{what} must be positive, got {}",
+                Num(x)
+            )))
+        }
+    };
+    match (c.max, c.value, c.sigma) {
+        (Some(max), None, None) => Ok(CircularityLimit::Max(positive("circularity.max", max)?)),
+        (None, Some(value), Some(sigma)) => Ok(CircularityLimit::Soft {
+            value: positive("circularity.value", value)?,
+            sigma: positive("circularity.sigma", sigma)?,
+        }),
+        _ => Err(MeasurementError::Invalid(
+            "circularity needs max (a hard limit) or value and sigma (a soft limit)".into(),
+        )),
+    }
 }
 
 /// `[size.ring]`: the ring chain, with one angular scale (mass and distance, or θ_g).
@@ -300,33 +384,20 @@ impl Measurement {
             )));
         }
         let size = if let Some(s) = file.size.shadow_radius {
-            check_shadow_radius(&s)?;
-            SizeMeasurement::ShadowRadius(s.intervals)
+            shadow_radius(s)?
         } else if let Some(f) = file.size.fractional_deviation {
-            check_fractional_deviation(&f)?;
-            SizeMeasurement::FractionalDeviation(f)
+            SizeMeasurement::FractionalDeviation(value_errors("size.fractional_deviation", f)?)
         } else if let Some(r) = file.size.ring {
             SizeMeasurement::Ring(ring_chain(r)?)
         } else {
             unreachable!("exactly one size form was checked above")
         };
-        let circularity_max = match file.circularity {
-            Some(c) => {
-                let max = finite("circularity.max", c.max)?;
-                if max <= 0.0 {
-                    return Err(MeasurementError::Invalid(format!(
-                        "circularity.max must be positive, got {}",
-                        Num(max)
-                    )));
-                }
-                Some(max)
-            }
-            None => None,
-        };
+        let circularity = file.circularity.map(circularity).transpose()?;
         Ok(Measurement {
             label: file.label,
             size,
-            circularity_max,
+            circularity_max: circularity.map(|c| c.bound_cut()),
+            circularity,
         })
     }
 
@@ -337,7 +408,14 @@ impl Measurement {
     /// cross-check too), and intervals at higher confidence must contain those at lower
     /// confidence; anything else is an error, not a bound.
     pub fn derive(&self, levels: Option<&[f64]>) -> Result<DerivedRadii, MeasurementError> {
-        let derived = self.derive_intervals(levels)?;
+        let mut derived = self.derive_intervals(levels)?;
+        if let Some(CircularityLimit::Soft { value, sigma }) = self.circularity {
+            derived.assumptions.push(format!(
+                "circularity: the soft upper limit {value} (sigma {sigma}) enters this \
+                 interval-inclusion bound as the hard cut value + 2 sigma = {}",
+                value + 2.0 * sigma
+            ));
+        }
         let linear = derived
             .ring
             .iter()
@@ -385,6 +463,7 @@ impl Measurement {
         match &self.size {
             SizeMeasurement::ShadowRadius(given) => given_intervals(given, levels),
             SizeMeasurement::FractionalDeviation(f) => fractional_intervals(f, levels),
+            SizeMeasurement::ShadowRadiusValue(v) => radius_value_intervals(v, levels),
             SizeMeasurement::Ring(chain) => ring_intervals(chain, levels),
         }
     }
@@ -449,6 +528,42 @@ fn fractional_intervals(
              with z = {z:.6} at confidence {confidence}: delta in [{dlo:.6}, \
              {dhi:.6}], r_sh/M = 3 sqrt(3) (1 + delta) in [{low:.6}, {high:.6}]",
             f.value, f.minus, f.plus
+        ));
+        intervals.push(RadiusInterval {
+            confidence,
+            low,
+            high,
+        });
+    }
+    Ok(DerivedRadii {
+        intervals,
+        ring: None,
+        assumptions,
+    })
+}
+
+/// Shadow-radius intervals [value − z·minus, value + z·plus] from r_sh/M with errors.
+fn radius_value_intervals(
+    v: &ValueErrors,
+    levels: Option<&[f64]>,
+) -> Result<DerivedRadii, MeasurementError> {
+    let mut assumptions = Vec::new();
+    let mut intervals = Vec::new();
+    for &confidence in levels.unwrap_or(&DEFAULT_LEVELS) {
+        let z = two_sided_z(confidence)
+            .ok_or_else(|| MeasurementError::Invalid(format!("bad confidence {confidence}")))?;
+        let (low, high) = (v.value - z * v.minus, v.value + z * v.plus);
+        if !(low > 0.0 && low < high) {
+            return Err(MeasurementError::Invalid(format!(
+                "shadow radius {} -{} +{} gives no positive interval at confidence \
+                 {confidence} ([{low}, {high}])",
+                v.value, v.minus, v.plus
+            )));
+        }
+        assumptions.push(format!(
+            "size: r_sh/M = {} -{} +{} read as [value - z minus, value + z plus] with \
+             z = {z:.6} at confidence {confidence}: [{low:.6}, {high:.6}]",
+            v.value, v.minus, v.plus
         ));
         intervals.push(RadiusInterval {
             confidence,
