@@ -36,6 +36,7 @@ pub mod numfmt;
 pub mod observables;
 pub mod output;
 pub mod run;
+pub mod sampling;
 pub mod scalar;
 pub mod scan;
 pub mod shadow;

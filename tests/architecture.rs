@@ -23,6 +23,7 @@ const LAYERS: &[(&str, u8, &str)] = &[
     ("observables", 6, "observables"),
     ("measurement", 7, "inference"),
     ("bounds", 8, "inference"),
+    ("sampling", 7, "inference"),
     ("run", 9, "run"),
     ("scan", 10, "run"),
     ("verify", 10, "run"),
