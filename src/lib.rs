@@ -35,6 +35,7 @@ pub(crate) mod numerics;
 pub mod numfmt;
 pub mod observables;
 pub mod output;
+pub mod posterior;
 pub mod run;
 pub mod sampling;
 pub mod scalar;

@@ -24,6 +24,7 @@ const LAYERS: &[(&str, u8, &str)] = &[
     ("measurement", 7, "inference"),
     ("bounds", 8, "inference"),
     ("sampling", 7, "inference"),
+    ("posterior", 8, "inference"),
     ("run", 9, "run"),
     ("scan", 10, "run"),
     ("verify", 10, "run"),

@@ -488,7 +488,7 @@ impl Model<'_> {
 
 /// The size measure (and ΔC) of a critical curve. A curve with equal radii about the screen
 /// origin is a circle: R̄ = √(Area/π) = R and ΔC = 0 exactly.
-fn measure_curve(
+pub(crate) fn measure_curve(
     result: &shadow::ShadowResult,
     spacetime: &dyn Spacetime,
     measure: SizeMeasure,

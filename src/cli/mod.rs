@@ -6,6 +6,7 @@ mod args;
 mod bound;
 mod demo;
 mod geometry;
+mod infer;
 mod interrupt;
 mod metrics;
 mod plot;
@@ -43,6 +44,8 @@ enum Command {
     Demo(demo::DemoArgs),
     /// Allowed ranges of a metric parameter from a measured shadow size or ring.
     Bound(bound::BoundArgs),
+    /// Posteriors on a metric's parameters from one or several measurements.
+    Infer(infer::InferArgs),
     /// Observables on a parameter grid, streamed to JSON lines (resumable).
     Scan(scan::ScanArgs),
     /// Recompute pinned numbers from checks files; exit 1 if any drifted.
@@ -88,6 +91,7 @@ fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErr
         Command::Bound(a) => bound::run(&a, &cli.progress),
         Command::Scan(a) => scan::run(&a, &cli.progress),
         Command::Verify(a) => return verify::run(&a, &cli.progress),
+        Command::Infer(a) => return infer::run(&a, &cli.progress),
     }?;
     Ok(ExitCode::SUCCESS)
 }

@@ -9,7 +9,13 @@
 //!   [value − z_p·minus, value + z_p·plus] with z_p the two-sided Gaussian multiplier
 //!   (the usual reading of quoted asymmetric errors; common practice, no source), then
 //!   r_sh = 3√3 (1 + δ) (a value with errors on r_sh/M is read the same way);
-//! * `[size.ring]`: the chain from the image, r_sh/M = d_ring / (κ · 2θ_g) (see [`ring`]),
+//! * `[size.ring]`: the chain from the image, r_sh/M = d_ring / (κ · 2θ_g) (see [`ring`]);
+//! * `[size.samples]`: posterior samples of r_sh/M (`quantity = "shadow_radius"`) or of δ
+//!   (`quantity = "fractional_deviation"`) from the user's own image analysis, in a text file
+//!   (`path`, relative to the measurement file): one number per line, or a CSV column
+//!   (`column`, a header name or a number from 1; default the first); lines starting with `#`
+//!   are comments. Bounds use their equal-tailed quantile intervals (Hyndman & Fan 1996,
+//!   definition 7); inference their kernel density estimate,
 //!
 //! and optionally `[circularity]`: `max = ...`, a hard upper limit on ΔC, or `value` and
 //! `sigma`, a soft one (see [`likelihood`]). How each form enters a posterior is in
@@ -120,11 +126,49 @@ struct FileRing {
 
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
+struct FileSamples {
+    path: String,
+    quantity: SamplesQuantity,
+    column: Option<toml::Value>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
 struct FileSize {
     shadow_radius: Option<FileShadowRadius>,
     fractional_deviation: Option<FileValue>,
     ring: Option<FileRing>,
+    samples: Option<FileSamples>,
 }
+
+/// What a file of samples holds.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "snake_case")]
+pub enum SamplesQuantity {
+    /// r_sh/M.
+    ShadowRadius,
+    /// δ = r_sh/(3√3) − 1.
+    FractionalDeviation,
+}
+
+/// Posterior samples of the size from the user's image analysis.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SizeSamples {
+    /// The file, as the measurement file names it.
+    pub path: String,
+    /// What the samples are of.
+    pub quantity: SamplesQuantity,
+    /// The column read (its header name, or its number from 1).
+    pub column: String,
+    /// The samples, in file order.
+    #[serde(skip)]
+    pub values: Vec<f64>,
+    /// How many there are.
+    pub count: usize,
+}
+
+/// The fewest samples a `[size.samples]` file may hold.
+pub const MIN_SIZE_SAMPLES: usize = 50;
 
 #[derive(Debug, Deserialize)]
 #[serde(deny_unknown_fields)]
@@ -155,6 +199,8 @@ pub enum SizeMeasurement {
     FractionalDeviation(FractionalDeviation),
     /// The chain from the ring image, r_sh/M = d_ring / (κ · 2θ_g).
     Ring(RingChain),
+    /// Samples of r_sh/M or δ from the user's own image analysis.
+    Samples(SizeSamples),
 }
 
 /// A validated measurement.
@@ -354,7 +400,8 @@ impl Measurement {
             path: path.display().to_string(),
             message: e.to_string(),
         })?;
-        Self::from_toml_str(&text).map_err(|e| match e {
+        let base = path.parent().unwrap_or(Path::new("."));
+        Self::from_toml_str_in(&text, base).map_err(|e| match e {
             MeasurementError::Parse(m) => {
                 MeasurementError::Parse(format!("'{}': {m}", path.display()))
             }
@@ -362,8 +409,13 @@ impl Measurement {
         })
     }
 
-    /// Parse and validate measurement TOML.
+    /// Parse and validate measurement TOML (a samples file is found from the current folder).
     pub fn from_toml_str(text: &str) -> Result<Self, MeasurementError> {
+        Self::from_toml_str_in(text, Path::new("."))
+    }
+
+    /// Parse and validate measurement TOML whose relative paths start at `base`.
+    pub fn from_toml_str_in(text: &str, base: &Path) -> Result<Self, MeasurementError> {
         let file: MeasurementFile = toml::from_str(text).map_err(|e| {
             let at = e
                 .span()
@@ -375,12 +427,13 @@ impl Measurement {
             file.size.shadow_radius.is_some(),
             file.size.fractional_deviation.is_some(),
             file.size.ring.is_some(),
+            file.size.samples.is_some(),
         ];
         let count = forms.iter().filter(|&&b| b).count();
         if count != 1 {
             return Err(MeasurementError::Invalid(format!(
-                "give exactly one size form ([size.shadow_radius], [size.fractional_deviation] \
-                 or [size.ring]), found {count}"
+                "give exactly one size form ([size.shadow_radius], [size.fractional_deviation], \
+                 [size.ring] or [size.samples]), found {count}"
             )));
         }
         let size = if let Some(s) = file.size.shadow_radius {
@@ -389,6 +442,8 @@ impl Measurement {
             SizeMeasurement::FractionalDeviation(value_errors("size.fractional_deviation", f)?)
         } else if let Some(r) = file.size.ring {
             SizeMeasurement::Ring(ring_chain(r)?)
+        } else if let Some(samples) = file.size.samples {
+            SizeMeasurement::Samples(read_samples(samples, base)?)
         } else {
             unreachable!("exactly one size form was checked above")
         };
@@ -464,6 +519,7 @@ impl Measurement {
             SizeMeasurement::ShadowRadius(given) => given_intervals(given, levels),
             SizeMeasurement::FractionalDeviation(f) => fractional_intervals(f, levels),
             SizeMeasurement::ShadowRadiusValue(v) => radius_value_intervals(v, levels),
+            SizeMeasurement::Samples(samples) => sample_intervals(samples, levels),
             SizeMeasurement::Ring(chain) => ring_intervals(chain, levels),
         }
     }
@@ -575,6 +631,119 @@ fn radius_value_intervals(
         intervals,
         ring: None,
         assumptions,
+    })
+}
+
+/// Equal-tailed quantile intervals of the samples (as r_sh/M).
+fn sample_intervals(
+    samples: &SizeSamples,
+    levels: Option<&[f64]>,
+) -> Result<DerivedRadii, MeasurementError> {
+    let mut radii: Vec<f64> = samples
+        .values
+        .iter()
+        .map(|&v| match samples.quantity {
+            SamplesQuantity::ShadowRadius => v,
+            SamplesQuantity::FractionalDeviation => SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + v),
+        })
+        .collect();
+    radii.sort_by(f64::total_cmp);
+    let ls = levels.unwrap_or(&DEFAULT_LEVELS);
+    let intervals: Vec<RadiusInterval> = ls
+        .iter()
+        .map(|&confidence| RadiusInterval {
+            confidence,
+            low: ring::quantile(&radii, 0.5 * (1.0 - confidence)),
+            high: ring::quantile(&radii, 0.5 * (1.0 + confidence)),
+        })
+        .collect();
+    let assumptions = vec![format!(
+        "size: the equal-tailed quantile intervals (Hyndman & Fan 1996, definition 7) of {} \
+         samples of {} from '{}' (column {})",
+        samples.count,
+        match samples.quantity {
+            SamplesQuantity::ShadowRadius => "r_sh/M",
+            SamplesQuantity::FractionalDeviation => "delta, r_sh/M = 3 sqrt(3) (1 + delta)",
+        },
+        samples.path,
+        samples.column
+    )];
+    Ok(DerivedRadii {
+        intervals,
+        ring: None,
+        assumptions,
+    })
+}
+
+/// Read a `[size.samples]` file: one number per line, or a CSV column; `#` starts a comment
+/// line. At least [`MIN_SIZE_SAMPLES`] finite numbers.
+fn read_samples(f: FileSamples, base: &Path) -> Result<SizeSamples, MeasurementError> {
+    let path = base.join(&f.path);
+    let bad = |m: String| MeasurementError::Invalid(format!("size.samples '{}': {m}", f.path));
+    let text = crate::input::read_text(&path).map_err(|e| bad(e.to_string()))?;
+    let mut lines = text
+        .lines()
+        .enumerate()
+        .filter(|(_, l)| !l.trim().is_empty() && !l.trim_start().starts_with('#'));
+    let split = |l: &str| -> Vec<String> { l.split(',').map(|c| c.trim().to_string()).collect() };
+    let first = lines.next().ok_or_else(|| bad("no samples".into()))?;
+    let header = split(first.1);
+    let has_header = header.iter().any(|c| c.parse::<f64>().is_err());
+    let index = match &f.column {
+        None => 0,
+        Some(toml::Value::Integer(n)) if *n >= 1 => (*n - 1) as usize,
+        Some(toml::Value::String(name)) if has_header => {
+            header.iter().position(|h| h == name).ok_or_else(|| {
+                bad(format!(
+                    "no column named '{name}' (header: {})",
+                    header.join(", ")
+                ))
+            })?
+        }
+        Some(other) => {
+            return Err(bad(format!(
+                "column must be a header name (the file needs a header line) or a number from \
+                 1, got {other}"
+            )))
+        }
+    };
+    let column = match &f.column {
+        Some(toml::Value::String(name)) => name.clone(),
+        _ if has_header => header.get(index).cloned().unwrap_or_default(),
+        _ => (index + 1).to_string(),
+    };
+    let rows = std::iter::once(first).filter(|_| !has_header).chain(lines);
+    let mut values = Vec::new();
+    for (i, line) in rows {
+        let cells = split(line);
+        let cell = cells
+            .get(index)
+            .ok_or_else(|| bad(format!("line {} has no column {}", i + 1, index + 1)))?;
+        let v: f64 = cell
+            .parse()
+            .ok()
+            .filter(|v: &f64| v.is_finite())
+            .ok_or_else(|| bad(format!("line {}: '{cell}' is not a finite number", i + 1)))?;
+        values.push(v);
+    }
+    if values.len() < MIN_SIZE_SAMPLES {
+        return Err(bad(format!(
+            "{} samples; at least {MIN_SIZE_SAMPLES} are needed",
+            values.len()
+        )));
+    }
+    if f.quantity == SamplesQuantity::ShadowRadius && values.iter().any(|&v| v <= 0.0) {
+        return Err(bad("a shadow radius sample is not positive".into()));
+    }
+    if f.quantity == SamplesQuantity::FractionalDeviation && values.iter().any(|&v| v <= -1.0) {
+        return Err(bad("a fractional deviation sample is at or below -1".into()));
+    }
+    Ok(SizeSamples {
+        path: f.path,
+        quantity: f.quantity,
+        column,
+        count: values.len(),
+        values,
     })
 }
 

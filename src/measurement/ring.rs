@@ -194,7 +194,7 @@ impl RingChain {
 
 /// The p-quantile of sorted data, interpolating linearly between order statistics
 /// (Hyndman & Fan 1996, Am. Stat. 50, 361, definition 7).
-fn quantile(sorted: &[f64], p: f64) -> f64 {
+pub(crate) fn quantile(sorted: &[f64], p: f64) -> f64 {
     let h = (sorted.len() - 1) as f64 * p;
     let i = h.floor() as usize;
     let j = (i + 1).min(sorted.len() - 1);

@@ -231,12 +231,12 @@ pub fn photon_sphere_analysis(
         boundary: (R_FAR, far_value, far_slope),
     };
     let mut irregular = None;
+    // The geometric grid by repeated multiplication (a power per point costs more than the
+    // scan step itself); the grid only brackets, the roots are refined to full precision.
+    let mut r_grid = R_FAR;
     for i in 1..SCAN_POINTS {
-        let r = if i == SCAN_POINTS - 1 {
-            r_stop
-        } else {
-            R_FAR * ratio.powi(i as i32)
-        };
+        r_grid *= ratio;
+        let r = if i == SCAN_POINTS - 1 { r_stop } else { r_grid };
         if !scan.step(r)? {
             irregular = Some(r); // inner boundary of a horizonless metric
             break;

@@ -1,0 +1,484 @@
+//! `umbral infer`: posteriors on a metric's parameters from one or several measurements.
+
+use super::args::{parse_finite, MetricChoice, SizeMeasureArg};
+use super::interrupt;
+use super::progress::ProgressArgs;
+use super::CliError;
+use clap::{Args, ValueEnum};
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::path::{Path, PathBuf};
+use std::process::ExitCode;
+use umbral::measurement::Measurement;
+use umbral::output::OutputTransaction;
+use umbral::posterior::{
+    Evidence, InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel,
+    SamplerKind,
+};
+use umbral::run::infer::{infer_with, InferStop};
+use umbral::run::Controls;
+use umbral::sampling::Prior;
+
+/// The fewest ensemble steps: split-R-hat below 1.01 needs each half of the kept steps to
+/// span about 50 autocorrelation times (R-hat - 1 is about (tau - 1)/(2 n) for halves of n
+/// steps), and the stretch move's tau is some tens of steps.
+const MIN_STEPS: usize = 10_000;
+
+/// Exit code of a run whose sampler did not converge.
+const NOT_CONVERGED: u8 = 3;
+
+/// Solver failures above this fraction of the evaluations make the posterior untrustworthy.
+const MAX_FAILURE_FRACTION: f64 = 0.01;
+
+#[derive(Debug, Clone, Copy, ValueEnum)]
+enum SamplerArg {
+    /// The affine-invariant ensemble sampler (posterior).
+    Ensemble,
+    /// Nested sampling (posterior, evidence and the Bayes factor against GR).
+    Nested,
+}
+
+#[derive(Debug, Args)]
+pub struct InferArgs {
+    #[command(flatten)]
+    metric: MetricChoice,
+    /// A prior, NAME=SPEC (repeatable): uniform:LO:HI, log-uniform:LO:HI, normal:MU:SIGMA,
+    /// isotropic:LO:HI or fixed:V. Inclinations in degrees. NAME@K applies to source K only
+    /// (spin a, inclination and ring nuisances are each source's own). Metric parameters
+    /// without a prior are held at their defaults; inclinations default to isotropic:0:90.
+    #[arg(long = "prior", value_name = "NAME=SPEC", allow_hyphen_values = true)]
+    priors: Vec<String>,
+    /// A measurement file (TOML), one per source (repeatable).
+    #[arg(long, value_name = "FILE", required = true)]
+    measurement: Vec<String>,
+    /// The sampler.
+    #[arg(long, value_enum, default_value = "ensemble")]
+    sampler: SamplerArg,
+    /// The seed of every random number (the same seed gives the same samples).
+    #[arg(long, default_value = "1")]
+    seed: u64,
+    /// Posterior samples to keep (ensemble sampler: sets the number of steps; half of the
+    /// steps are burn-in).
+    #[arg(long, default_value = "20000")]
+    samples: usize,
+    /// Ensemble steps, overriding the number --samples implies (at least 10000 then).
+    #[arg(long, value_name = "N")]
+    steps: Option<usize>,
+    /// Live points of nested sampling.
+    #[arg(long = "live-points", default_value = "400")]
+    live_points: usize,
+    /// Credible levels, comma-separated.
+    #[arg(long, value_name = "P,P,...", default_value = "0.68,0.95")]
+    levels: String,
+    /// Size of the critical curve compared with the measured size.
+    #[arg(long = "size-measure", value_enum, default_value = "mean")]
+    size_measure: SizeMeasureArg,
+    /// Give zero likelihood to objects without a horizon.
+    #[arg(long = "require-horizon")]
+    require_horizon: bool,
+    /// Print JSON instead of text.
+    #[arg(long)]
+    json: bool,
+    /// Write the posterior samples to DIR/samples.csv (the folder is created if needed).
+    #[arg(long, value_name = "DIR")]
+    out: Option<PathBuf>,
+}
+
+/// Read `NAME=SPEC` priors.
+fn priors(items: &[String]) -> Result<Vec<(String, Prior)>, CliError> {
+    items
+        .iter()
+        .map(|item| {
+            let (name, spec) = item.split_once('=').ok_or_else(|| {
+                CliError::usage(format!("--prior: expected NAME=SPEC, got '{item}'"))
+            })?;
+            let prior =
+                Prior::parse(spec.trim()).map_err(|e| CliError::usage(format!("--prior {e}")))?;
+            Ok((name.trim().to_string(), prior))
+        })
+        .collect()
+}
+
+fn levels(text: &str) -> Result<Vec<f64>, CliError> {
+    let levels = text
+        .split(',')
+        .map(|t| parse_finite(t, "--levels"))
+        .collect::<Result<Vec<_>, _>>()?;
+    if levels.iter().any(|&l| !(l > 0.0 && l < 1.0)) {
+        return Err(CliError::usage(format!(
+            "--levels: each level must lie strictly between 0 and 1, got '{text}'"
+        )));
+    }
+    Ok(levels)
+}
+
+/// The walkers of each ensemble for `dim` sampled parameters: 2 dim + 2 (at least 4). Split
+/// R-hat over the ensembles depends on the number of steps, not of walkers, so few walkers and
+/// many steps reach a verdict for the fewest evaluations.
+fn walkers(dim: usize) -> usize {
+    (2 * dim + 2).max(4)
+}
+
+fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
+    let chains = 4;
+    if args.samples < 100 || args.samples > 10_000_000 {
+        return Err(CliError::usage(format!(
+            "--samples: give 100 to 10000000, got {}",
+            args.samples
+        )));
+    }
+    if !(20..=100_000).contains(&args.live_points) {
+        return Err(CliError::usage(format!(
+            "--live-points: give 20 to 100000, got {}",
+            args.live_points
+        )));
+    }
+    let per_step = chains * walkers(dim);
+    let steps = match args.steps {
+        Some(n) if (10..=10_000_000).contains(&n) => n,
+        Some(n) => {
+            return Err(CliError::usage(format!(
+                "--steps: give 10 to 10000000, got {n}"
+            )))
+        }
+        None => (2 * args.samples.div_ceil(per_step)).max(MIN_STEPS),
+    };
+    Ok(InferSettings {
+        sampler: match args.sampler {
+            SamplerArg::Ensemble => SamplerKind::Ensemble,
+            SamplerArg::Nested => SamplerKind::Nested,
+        },
+        seed: args.seed,
+        steps,
+        walkers: walkers(dim),
+        chains,
+        live_points: args.live_points,
+        levels: levels(&args.levels)?,
+    })
+}
+
+/// What the sampler did, in words.
+fn sampler_assumption(s: &InferSettings, dim: usize) -> String {
+    match s.sampler {
+        SamplerKind::Ensemble => format!(
+            "sampler: affine-invariant ensemble (Goodman & Weare 2010), {} independent ensembles \
+             of {} walkers, {} steps of which the first half is burn-in, seed {}; converged \
+             means split R-hat < 1.01 over the walkers and over the ensembles (Vehtari et al. \
+             2021) and bulk ESS >= 400",
+            s.chains,
+            walkers(dim),
+            s.steps,
+            s.seed
+        ),
+        SamplerKind::Nested => format!(
+            "sampler: nested sampling (Skilling 2006), {} live points, seed {}; the GR model \
+             holds the shared parameters at the metric's defaults; posterior samples are the \
+             equal-weight resampling of the dead and live points",
+            s.live_points, s.seed
+        ),
+    }
+}
+
+#[derive(Serialize)]
+struct JsonInterval {
+    confidence: f64,
+    kind: &'static str,
+    low: f64,
+    high: f64,
+}
+
+#[derive(Serialize)]
+struct JsonParameter {
+    median: f64,
+    mean: f64,
+    intervals: Vec<JsonInterval>,
+}
+
+#[derive(Serialize)]
+struct JsonDiagnostics {
+    rhat: BTreeMap<String, Option<f64>>,
+    ess: BTreeMap<String, f64>,
+    acceptance: f64,
+    converged: bool,
+    evaluations: usize,
+    solver_failures: usize,
+}
+
+#[derive(Serialize)]
+struct JsonReport<'a> {
+    metric: String,
+    priors: BTreeMap<String, String>,
+    measurements: &'a [String],
+    parameters: Option<BTreeMap<String, JsonParameter>>,
+    evidence: Option<Evidence>,
+    diagnostics: JsonDiagnostics,
+    assumptions: &'a [String],
+}
+
+pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
+    let metric = args.metric.resolve()?;
+    let sources = args
+        .measurement
+        .iter()
+        .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
+        .collect::<Result<Vec<_>, _>>()?;
+    let mut request = InferenceRequest::new(metric, priors(&args.priors)?, sources);
+    request.size_measure = args.size_measure.measure();
+    request.require_horizon = args.require_horizon;
+    let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
+    let dim = model.names().len();
+    let settings = settings(args, dim)?;
+    let mut outputs = OutputTransaction::new();
+    let csv_path = match &args.out {
+        Some(dir) => {
+            std::fs::create_dir_all(dir).map_err(|e| {
+                CliError::usage(format!("--out {}: cannot create: {e}", dir.display()))
+            })?;
+            let path = dir.join("samples.csv");
+            Some((outputs.stage(&path)?, path))
+        }
+        None => None,
+    };
+    let mut display = progress.display(None)?;
+    let result = {
+        let _graceful = interrupt::Graceful::enter("model evaluations");
+        let controls = Controls {
+            observers: vec![display.as_mut()],
+            stop: Some(interrupt::stop_flag()),
+        };
+        infer_with(&model, &settings, controls)
+    };
+    drop(display);
+    let inference = match result {
+        Ok(i) => i,
+        Err(InferStop::Interrupted { done }) => {
+            return Err(CliError::interrupted(format!(
+                "interrupted after {done} model evaluations; an unfinished sampler has no \
+                 posterior, so nothing was written: rerun to start over"
+            )))
+        }
+        Err(InferStop::Run(InferRunError::Ensemble(e))) => {
+            return Err(CliError::usage(format!("the sampler: {e}")))
+        }
+        Err(InferStop::Run(e)) => return Err(CliError::usage(e.to_string())),
+    };
+    let mut assumptions = model.assumptions();
+    assumptions.push(sampler_assumption(&settings, dim));
+    if inference.failures > 0 {
+        assumptions.push(format!(
+            "{} of {} model evaluations failed in the shadow solver and were given zero \
+             likelihood (first: {})",
+            inference.failures,
+            inference.evaluations,
+            inference.first_failure.as_deref().unwrap_or("no message")
+        ));
+    }
+    let verdict = verdict(&inference);
+    if let Some((temp, path)) = &csv_path {
+        if verdict.is_none() {
+            std::fs::write(temp, samples_csv(&inference, &assumptions))
+                .map_err(|e| CliError::usage(format!("cannot write '{}': {e}", path.display())))?;
+        }
+    }
+    if args.json {
+        print_json(args, &model, &inference, &assumptions, verdict.is_none())?;
+    } else {
+        print_text(&model, &inference, &assumptions, verdict.as_deref())?;
+    }
+    if verdict.is_some() {
+        return Ok(ExitCode::from(NOT_CONVERGED));
+    }
+    outputs.commit()?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// Why the run is not a posterior to report (`None`: it is).
+fn verdict(i: &Inference) -> Option<String> {
+    let c = &i.convergence;
+    let mut why = Vec::new();
+    if !c.converged {
+        why.push(format!(
+            "split R-hat {:.4} (needs < 1.01) and effective sample size {:.0} (needs >= 400)",
+            c.rhat, c.ess
+        ));
+    }
+    if i.failures as f64 > MAX_FAILURE_FRACTION * i.evaluations as f64 {
+        why.push(format!(
+            "{} of {} evaluations failed in the shadow solver (more than {}%)",
+            i.failures,
+            i.evaluations,
+            100.0 * MAX_FAILURE_FRACTION
+        ));
+    }
+    (!why.is_empty()).then(|| why.join("; "))
+}
+
+fn print_text(
+    model: &PosteriorModel,
+    i: &Inference,
+    assumptions: &[String],
+    not_converged: Option<&str>,
+) -> Result<(), CliError> {
+    let c = &i.convergence;
+    if let Some(why) = not_converged {
+        outln!(
+            "NOT CONVERGED: {why}; no intervals are reported (give more --samples, or check \
+             the priors)"
+        )?;
+    } else {
+        outln!(
+            "posterior of {} from {} source(s): converged (max split R-hat {:.4}, min ESS {:.0}, \
+             acceptance {:.3})",
+            model.metric_info().name,
+            model.sources(),
+            c.rhat,
+            c.ess,
+            c.acceptance
+        )?;
+        for s in &i.summaries {
+            let unit = if s.name.starts_with("inclination") {
+                " deg"
+            } else {
+                ""
+            };
+            outln!(
+                "{}: median {:.6}{unit}, mean {:.6}{unit}",
+                s.name,
+                s.median,
+                s.mean
+            )?;
+            for iv in &s.intervals {
+                outln!(
+                    "  {:>4.1}% {:<15} [{:.6}, {:.6}]",
+                    100.0 * iv.confidence,
+                    iv.kind,
+                    iv.low,
+                    iv.high
+                )?;
+            }
+        }
+        if let Some(e) = &i.evidence {
+            outln!(
+                "evidence: ln Z = {:.4} +- {:.4}; GR (shared parameters at the metric's \
+                 defaults): ln Z = {:.4} +- {:.4}; ln Bayes factor (deviation over GR) = \
+                 {:.4} +- {:.4}",
+                e.log_evidence,
+                e.log_evidence_error,
+                e.log_evidence_gr,
+                e.log_evidence_gr_error,
+                e.log_bayes_factor,
+                e.log_bayes_factor_error
+            )?;
+        }
+    }
+    outln!("diagnostics:")?;
+    for s in &i.summaries {
+        outln!("  {}: split R-hat {:.4}, ESS {:.0}", s.name, s.rhat, s.ess)?;
+    }
+    outln!(
+        "  acceptance {:.3}, {} model evaluations, {} solver failures",
+        c.acceptance,
+        i.evaluations,
+        i.failures
+    )?;
+    outln!("assumptions:")?;
+    for a in assumptions {
+        outln!("  - {a}")?;
+    }
+    Ok(())
+}
+
+fn print_json(
+    args: &InferArgs,
+    model: &PosteriorModel,
+    i: &Inference,
+    assumptions: &[String],
+    converged: bool,
+) -> Result<(), CliError> {
+    let parameters = converged.then(|| {
+        i.summaries
+            .iter()
+            .map(|s| {
+                let p = JsonParameter {
+                    median: s.median,
+                    mean: s.mean,
+                    intervals: s
+                        .intervals
+                        .iter()
+                        .map(|iv| JsonInterval {
+                            confidence: iv.confidence,
+                            kind: iv.kind,
+                            low: iv.low,
+                            high: iv.high,
+                        })
+                        .collect(),
+                };
+                (s.name.clone(), p)
+            })
+            .collect()
+    });
+    let report = JsonReport {
+        metric: model.metric_info().name,
+        priors: model
+            .parameters()
+            .iter()
+            .map(|p| (p.name.clone(), p.prior.to_string()))
+            .collect(),
+        measurements: &args.measurement,
+        parameters,
+        evidence: if converged { i.evidence } else { None },
+        diagnostics: JsonDiagnostics {
+            rhat: i
+                .summaries
+                .iter()
+                .map(|s| (s.name.clone(), s.rhat.is_finite().then_some(s.rhat)))
+                .collect(),
+            ess: i
+                .summaries
+                .iter()
+                .map(|s| (s.name.clone(), s.ess))
+                .collect(),
+            acceptance: i.convergence.acceptance,
+            converged,
+            evaluations: i.evaluations,
+            solver_failures: i.failures,
+        },
+        assumptions,
+    };
+    let text = serde_json::to_string_pretty(&report)
+        .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
+    outln!("{text}")?;
+    Ok(())
+}
+
+/// The samples as CSV: `#` lines naming the assumptions, a header naming every column
+/// (inclinations in degrees), one row per sample.
+fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
+    let mut text = String::from("# umbral infer: posterior samples (equally weighted)\n");
+    for a in assumptions {
+        text.push_str(&format!("# {a}\n"));
+    }
+    let degrees: Vec<bool> = i
+        .names
+        .iter()
+        .map(|n| n.starts_with("inclination"))
+        .collect();
+    let header: Vec<String> = i
+        .names
+        .iter()
+        .zip(&degrees)
+        .map(|(n, &d)| if d { format!("{n}_deg") } else { n.clone() })
+        .collect();
+    text.push_str(&header.join(","));
+    text.push('\n');
+    for row in &i.samples {
+        let cells: Vec<String> = row
+            .iter()
+            .zip(&degrees)
+            .map(|(&x, &d)| format!("{}", if d { x.to_degrees() } else { x }))
+            .collect();
+        text.push_str(&cells.join(","));
+        text.push('\n');
+    }
+    text
+}

@@ -1,0 +1,392 @@
+//! Sampling a [`PosteriorModel`]: the affine-invariant ensemble sampler for the posterior with
+//! its convergence verdict, or nested sampling for the posterior and the evidence, with the
+//! Bayes factor against the same model with the deviation parameters at their GR values; then
+//! the one-parameter summaries (median, mean, equal-tailed and highest-density intervals).
+//!
+//! The model's evaluations are asked of an [`Evaluator`] in batches: [`ParallelEvaluator`] is
+//! a plain parallel loop; the run layer implements it on the executor (progress, Ctrl-C).
+
+use super::{Evaluation, Parameter, PosteriorModel, Role};
+use crate::sampling::summary::Marginal;
+use crate::sampling::{
+    ensemble, nested, Convergence, EnsembleError, EnsembleSettings, Halted, LogDensityBatch,
+    NestedError, NestedSettings, Start,
+};
+use rayon::prelude::*;
+
+/// Evaluates the model at the points a sampler asks for.
+pub trait Evaluator {
+    /// [`PosteriorModel::evaluate`] at every point of `points`, in order; `stage` names the
+    /// step of the run.
+    fn evaluate(
+        &mut self,
+        stage: &str,
+        model: &PosteriorModel,
+        points: &[Vec<f64>],
+    ) -> Result<Vec<Evaluation>, Halted>;
+}
+
+/// Every point evaluated in a parallel loop (rayon), outputs in order; never stops.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct ParallelEvaluator;
+
+impl Evaluator for ParallelEvaluator {
+    fn evaluate(
+        &mut self,
+        _stage: &str,
+        model: &PosteriorModel,
+        points: &[Vec<f64>],
+    ) -> Result<Vec<Evaluation>, Halted> {
+        Ok(points.par_iter().map(|x| model.evaluate(x)).collect())
+    }
+}
+
+/// Which sampler.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum SamplerKind {
+    /// The affine-invariant ensemble sampler (Goodman & Weare 2010): posterior only.
+    Ensemble,
+    /// Nested sampling (Skilling 2006): posterior and evidence.
+    Nested,
+}
+
+/// How to sample.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InferSettings {
+    /// The sampler.
+    pub sampler: SamplerKind,
+    /// The seed every random number derives from.
+    pub seed: u64,
+    /// Ensemble steps (half of them burn-in).
+    pub steps: usize,
+    /// Walkers per ensemble (even, at least twice the sampled parameters).
+    pub walkers: usize,
+    /// Independent ensembles (at least 4 for split-R̂).
+    pub chains: usize,
+    /// Nested sampling's live points.
+    pub live_points: usize,
+    /// Credible levels of the intervals.
+    pub levels: Vec<f64>,
+}
+
+impl Default for InferSettings {
+    fn default() -> Self {
+        InferSettings {
+            sampler: SamplerKind::Ensemble,
+            seed: 1,
+            steps: 1000,
+            walkers: 8,
+            chains: 4,
+            live_points: 400,
+            levels: vec![0.68, 0.95],
+        }
+    }
+}
+
+/// A credible interval.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct CredibleInterval {
+    /// The credible level.
+    pub confidence: f64,
+    /// `equal-tailed` or `highest-density`.
+    pub kind: &'static str,
+    /// Low end.
+    pub low: f64,
+    /// High end.
+    pub high: f64,
+}
+
+/// One sampled parameter's summary (inclinations in degrees).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct ParameterSummary {
+    /// The parameter's name.
+    pub name: String,
+    /// Its prior, as a spec (inclinations in radians).
+    pub prior: String,
+    /// The posterior median.
+    pub median: f64,
+    /// The posterior mean.
+    pub mean: f64,
+    /// Equal-tailed and highest-density intervals at each level.
+    pub intervals: Vec<CredibleInterval>,
+    /// Split-R̂ (ensemble sampler; NaN for nested sampling).
+    pub rhat: f64,
+    /// Effective sample size.
+    pub ess: f64,
+}
+
+/// The evidence of the model and of its GR limit.
+#[derive(Debug, Clone, Copy, PartialEq, serde::Serialize)]
+pub struct Evidence {
+    /// ln Z of the model.
+    pub log_evidence: f64,
+    /// Its error √(H/N).
+    pub log_evidence_error: f64,
+    /// ln Z with the shared (deviation) parameters at their GR values.
+    pub log_evidence_gr: f64,
+    /// Its error (0 when nothing is left to sample: Z is then the likelihood at that point).
+    pub log_evidence_gr_error: f64,
+    /// ln B = ln Z − ln Z_GR (positive favours the deviation).
+    pub log_bayes_factor: f64,
+    /// The error of ln B (the two errors in quadrature).
+    pub log_bayes_factor_error: f64,
+}
+
+/// The outcome of [`infer_on`].
+#[derive(Debug, Clone, PartialEq)]
+pub struct Inference {
+    /// The sampled parameters' names (sample columns), in order.
+    pub names: Vec<String>,
+    /// Posterior samples (equally weighted), one row per sample, inclinations in radians.
+    pub samples: Vec<Vec<f64>>,
+    /// One summary per sampled parameter, in order.
+    pub summaries: Vec<ParameterSummary>,
+    /// The convergence verdict (the worst parameter).
+    pub convergence: Convergence,
+    /// The evidence, with nested sampling.
+    pub evidence: Option<Evidence>,
+    /// Model evaluations made.
+    pub evaluations: usize,
+    /// Evaluations where the shadow solver failed (given zero likelihood).
+    pub failures: usize,
+    /// The first failure's message.
+    pub first_failure: Option<String>,
+}
+
+/// Why sampling did not give a posterior.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum InferRunError {
+    /// The ensemble sampler could not run.
+    #[error(transparent)]
+    Ensemble(#[from] EnsembleError),
+    /// Nested sampling could not run.
+    #[error(transparent)]
+    Nested(#[from] NestedError),
+    /// The settings cannot give a verdict.
+    #[error("{0}")]
+    Settings(String),
+    /// The samples could not be summarised.
+    #[error("summarising the samples: {0}")]
+    Summary(String),
+}
+
+/// The model as a log-density for the samplers: the log-posterior or the log-likelihood,
+/// counting solver failures.
+struct Density<'a> {
+    model: &'a PosteriorModel,
+    evaluator: &'a mut dyn Evaluator,
+    likelihood: bool,
+    evaluations: usize,
+    failures: usize,
+    first_failure: Option<String>,
+}
+
+impl LogDensityBatch for Density<'_> {
+    fn log_densities(&mut self, stage: &str, points: &[Vec<f64>]) -> Result<Vec<f64>, Halted> {
+        let evaluations = self.evaluator.evaluate(stage, self.model, points)?;
+        self.evaluations += evaluations.len();
+        Ok(evaluations
+            .into_iter()
+            .map(|e| {
+                if let Some(f) = e.failure {
+                    self.failures += 1;
+                    self.first_failure.get_or_insert(f);
+                }
+                if self.likelihood {
+                    e.log_likelihood
+                } else {
+                    e.log_posterior
+                }
+            })
+            .collect())
+    }
+}
+
+/// Sample `model` as `settings` ask, its evaluations made by `evaluator`.
+pub fn infer_on(
+    model: &PosteriorModel,
+    settings: &InferSettings,
+    evaluator: &mut dyn Evaluator,
+) -> Result<Inference, InferRunError> {
+    if settings.levels.iter().any(|&l| !(l > 0.0 && l < 1.0)) {
+        return Err(InferRunError::Settings(
+            "credible levels must lie strictly between 0 and 1".into(),
+        ));
+    }
+    let mut density = Density {
+        model,
+        evaluator,
+        likelihood: settings.sampler == SamplerKind::Nested,
+        evaluations: 0,
+        failures: 0,
+        first_failure: None,
+    };
+    let (samples, rhat, ess, convergence, evidence) = match settings.sampler {
+        SamplerKind::Ensemble => {
+            if settings.chains < 4 {
+                return Err(InferRunError::Settings(format!(
+                    "split-R-hat needs at least 4 independent chains, got {}",
+                    settings.chains
+                )));
+            }
+            let ensemble_settings = EnsembleSettings {
+                steps: settings.steps,
+                walkers: Some(settings.walkers),
+                chains: settings.chains,
+                seed: settings.seed,
+                ..Default::default()
+            };
+            let run = ensemble(
+                &mut density,
+                &Start::Priors(model.priors()),
+                &ensemble_settings,
+            )?;
+            // R-hat over the independent ensembles (each walker-mean trajectory is a function
+            // of one Markov chain), as Vehtari et al. 2021 define it over chains.
+            let rhat: Vec<f64> = run
+                .coordinates
+                .iter()
+                .map(|c| c.map_or(f64::NAN, |c| c.ensemble_rhat))
+                .collect();
+            let ess: Vec<f64> = run
+                .coordinates
+                .iter()
+                .map(|c| c.map_or(f64::NAN, |c| c.ess))
+                .collect();
+            let worst_rhat = rhat.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+            let least_ess = ess.iter().copied().fold(f64::INFINITY, f64::min);
+            let convergence = Convergence::new(worst_rhat, least_ess, run.acceptance);
+            (run.samples, rhat, ess, convergence, None)
+        }
+        SamplerKind::Nested => {
+            let nested_settings = NestedSettings {
+                live_points: settings.live_points,
+                seed: settings.seed,
+                ..Default::default()
+            };
+            let run = nested(&mut density, &model.priors(), &nested_settings)?;
+            let gr = gr_evidence(model, &nested_settings, &mut density)?;
+            let kish = run.equal_weight.len() as f64;
+            let evidence = Evidence {
+                log_evidence: run.log_evidence,
+                log_evidence_error: run.log_evidence_error,
+                log_evidence_gr: gr.0,
+                log_evidence_gr_error: gr.1,
+                log_bayes_factor: run.log_evidence - gr.0,
+                log_bayes_factor_error: run.log_evidence_error.hypot(gr.1),
+            };
+            let dims = model.names().len();
+            (
+                run.equal_weight,
+                vec![f64::NAN; dims],
+                vec![kish; dims],
+                // Nested sampling has no chains to compare: its verdict is the effective
+                // sample size of its weights and its walk's acceptance.
+                Convergence::new(1.0, kish, run.acceptance),
+                Some(evidence),
+            )
+        }
+    };
+    let summaries = summarise(&model.sampled(), &samples, &rhat, &ess, &settings.levels)?;
+    Ok(Inference {
+        names: model.names().iter().map(|s| s.to_string()).collect(),
+        samples,
+        summaries,
+        convergence,
+        evidence,
+        evaluations: density.evaluations,
+        failures: density.failures,
+        first_failure: density.first_failure,
+    })
+}
+
+/// ln Z and its error for the model with its shared parameters at their GR values (the
+/// metric's defaults): nested sampling when something is left to sample, else the likelihood
+/// at the one point (exact).
+fn gr_evidence(
+    model: &PosteriorModel,
+    settings: &NestedSettings,
+    density: &mut Density<'_>,
+) -> Result<(f64, f64), InferRunError> {
+    let defaults = model.metric_info().parameters;
+    let gr_value = |name: &str| {
+        defaults
+            .iter()
+            .find(|p| p.name == name)
+            .map_or(0.0, |p| p.default)
+    };
+    let gr = model.with_shared_fixed(gr_value);
+    if gr.names().is_empty() {
+        // Nothing left to sample: Z is the likelihood at the one point.
+        let e = gr.evaluate(&[]);
+        if let Some(f) = e.failure {
+            density.failures += 1;
+            density.first_failure.get_or_insert(f);
+        }
+        density.evaluations += 1;
+        return Ok((e.log_likelihood, 0.0));
+    }
+    let mut gr_density = Density {
+        model: &gr,
+        evaluator: &mut *density.evaluator,
+        likelihood: true,
+        evaluations: 0,
+        failures: 0,
+        first_failure: None,
+    };
+    let run = nested(&mut gr_density, &gr.priors(), settings)?;
+    density.evaluations += gr_density.evaluations;
+    density.failures += gr_density.failures;
+    if let Some(f) = gr_density.first_failure {
+        density.first_failure.get_or_insert(f);
+    }
+    Ok((run.log_evidence, run.log_evidence_error))
+}
+
+/// Median, mean and intervals of each sampled parameter (inclinations in degrees).
+fn summarise(
+    params: &[&Parameter],
+    samples: &[Vec<f64>],
+    rhat: &[f64],
+    ess: &[f64],
+    levels: &[f64],
+) -> Result<Vec<ParameterSummary>, InferRunError> {
+    let summary = |e: crate::sampling::summary::SummaryError| InferRunError::Summary(e.to_string());
+    let mut out = Vec::new();
+    for (i, p) in params.iter().enumerate() {
+        let scale = if matches!(p.role, Role::Inclination { .. }) {
+            180.0 / std::f64::consts::PI
+        } else {
+            1.0
+        };
+        let column: Vec<f64> = samples.iter().map(|s| s[i] * scale).collect();
+        let m = Marginal::new(&column).map_err(summary)?;
+        let mut intervals = Vec::new();
+        for &level in levels {
+            let [low, high] = m.equal_tailed(level).map_err(summary)?;
+            intervals.push(CredibleInterval {
+                confidence: level,
+                kind: "equal-tailed",
+                low,
+                high,
+            });
+            let [low, high] = m.highest_density(level).map_err(summary)?;
+            intervals.push(CredibleInterval {
+                confidence: level,
+                kind: "highest-density",
+                low,
+                high,
+            });
+        }
+        out.push(ParameterSummary {
+            name: p.name.clone(),
+            prior: p.prior.to_string(),
+            median: m.median(),
+            mean: m.mean(),
+            intervals,
+            rhat: rhat[i],
+            ess: ess[i],
+        });
+    }
+    Ok(out)
+}
