@@ -22,7 +22,7 @@ use umbral::sampling::Prior;
 /// The fewest ensemble steps: split-R-hat below 1.01 needs each half of the kept steps to
 /// span about 50 autocorrelation times (R-hat - 1 is about (tau - 1)/(2 n) for halves of n
 /// steps), and the stretch move's tau is some tens of steps.
-const MIN_STEPS: usize = 10_000;
+const MIN_STEPS: usize = 20_000;
 
 /// Exit code of a run whose sampler did not converge.
 const NOT_CONVERGED: u8 = 3;
@@ -61,7 +61,7 @@ pub struct InferArgs {
     /// steps are burn-in).
     #[arg(long, default_value = "20000")]
     samples: usize,
-    /// Ensemble steps, overriding the number --samples implies (at least 10000 then).
+    /// Ensemble steps, overriding the number --samples implies (at least 20000 then).
     #[arg(long, value_name = "N")]
     steps: Option<usize>,
     /// Live points of nested sampling.
