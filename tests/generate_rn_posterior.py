@@ -10,7 +10,8 @@ where b_c(q) = r^2 / sqrt(r^2 - 2 r + q^2) at r = (3 + sqrt(9 - 8 q^2)) / 2 is t
 impact parameter of Reissner-Nordstrom (photon sphere of f = 1 - 2/r + q^2/r^2; e.g. Zakharov
 et al. 2005, Phys. Rev. D 72, 084020). Its mean and the quantiles at 0.16, 0.5 and 0.84 are
 computed here by mpmath quadrature (tanh-sinh) of the density and root finding on the
-cumulative distribution, at 30 digits.
+cumulative distribution, at 30 digits; so is the evidence Z = integral of L(q) dq (the prior
+density is 1) and the likelihood at q = 0 (the evidence of the Schwarzschild model).
 
     python3 tests/generate_rn_posterior.py --out tests/data/rn_posterior.json
     python3 tests/generate_rn_posterior.py --check tests/data/rn_posterior.json
@@ -28,6 +29,8 @@ mp.mp.dps = 30
 
 CASES = [
     {"mu": 5.0, "sigma": 0.2},
+    # A measurement centred on the Schwarzschild value 3 sqrt(3) (consistent with GR).
+    {"mu": 5.196, "sigma": 0.1},
 ]
 PROBABILITIES = ["0.16", "0.5", "0.84"]
 
@@ -44,6 +47,9 @@ def posterior(mu, sigma):
         return mp.exp(-((b_c(q) - mu) ** 2) / (2 * sigma**2))
 
     z = mp.quad(density, [0, mp.mpf("0.5"), 1])
+    # The evidence: the uniform prior has density 1 on [0, 1] and the likelihood is normalised.
+    log_evidence = mp.log(z / (sigma * mp.sqrt(2 * mp.pi)))
+    log_likelihood_at_zero = mp.log(density(mp.mpf(0)) / (sigma * mp.sqrt(2 * mp.pi)))
 
     def cdf(q):
         return mp.quad(density, [0, q]) / z
@@ -53,7 +59,7 @@ def posterior(mu, sigma):
     for p in PROBABILITIES:
         quantiles[p] = mp.findroot(lambda q: cdf(q) - mp.mpf(p), (mp.mpf("1e-9"), 1), solver="anderson")
         assert abs(cdf(quantiles[p]) - mp.mpf(p)) < mp.mpf("1e-20")
-    return mean, quantiles
+    return mean, quantiles, log_evidence, log_likelihood_at_zero
 
 
 def number(x):
@@ -66,13 +72,15 @@ def build_table():
     assert abs(b_c(mp.mpf(1)) - 4) < mp.mpf("1e-25")
     cases = []
     for case in CASES:
-        mean, quantiles = posterior(case["mu"], case["sigma"])
+        mean, quantiles, log_z, log_l0 = posterior(case["mu"], case["sigma"])
         cases.append(
             {
                 "mu": case["mu"],
                 "sigma": case["sigma"],
                 "mean": number(mean),
                 "quantiles": {p: number(q) for p, q in quantiles.items()},
+                "log_evidence": number(log_z),
+                "log_likelihood_at_q0": number(log_l0),
             }
         )
     return {

@@ -76,6 +76,46 @@ fn reissner_nordstrom_quantiles_match_quadrature() {
     }
 }
 
+/// Nested sampling's evidence of the Reissner–Nordström model against mpmath quadrature of
+/// ∫ L(q) dq (tests/generate_rn_posterior.py), within three times its reported error √(H/N)
+/// (Skilling 2006, Bayesian Analysis 1, 833); the GR model (q = 0, nothing left to sample) has
+/// the likelihood at q = 0 as its evidence, exactly. For a measurement centred on 3√3 the
+/// Bayes factor does not favour a charge (common practice, no source).
+#[test]
+fn nested_evidence_and_bayes_factor_match_quadrature() {
+    let table: serde_json::Value =
+        serde_json::from_str(include_str!("data/rn_posterior.json")).unwrap();
+    for case in table["cases"].as_array().unwrap() {
+        let (mu, sigma) = (
+            case["mu"].as_f64().unwrap(),
+            case["sigma"].as_f64().unwrap(),
+        );
+        let model = rn_model(vec![radius(mu, sigma)]);
+        let settings = InferSettings {
+            sampler: SamplerKind::Nested,
+            live_points: 400,
+            seed: 5,
+            ..Default::default()
+        };
+        let run = infer_on(&model, &settings, &mut ParallelEvaluator).unwrap();
+        let e = run.evidence.unwrap();
+        let exact = case["log_evidence"].as_f64().unwrap();
+        println!(
+            "mu {mu}: ln Z = {:.4} +- {:.4}, quadrature {exact:.4}; ln B = {:.4}",
+            e.log_evidence, e.log_evidence_error, e.log_bayes_factor
+        );
+        assert!((e.log_evidence - exact).abs() < 3.0 * e.log_evidence_error);
+        let gr = case["log_likelihood_at_q0"].as_f64().unwrap();
+        assert!((e.log_evidence_gr - gr).abs() < 1e-9 && e.log_evidence_gr_error == 0.0);
+        if (mu - 5.196).abs() < 1e-9 {
+            assert!(
+                e.log_bayes_factor + 2.0 * e.log_bayes_factor_error < 0.0,
+                "{e:?}"
+            );
+        }
+    }
+}
+
 /// Several sources share the deviation parameters: the log-posterior of two sources is the
 /// prior plus the sum of each source's log-likelihood (independent measurements).
 #[test]

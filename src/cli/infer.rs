@@ -22,7 +22,10 @@ use umbral::sampling::Prior;
 /// The fewest ensemble steps: split-R-hat below 1.01 needs each half of the kept steps to
 /// span about 50 autocorrelation times (R-hat - 1 is about (tau - 1)/(2 n) for halves of n
 /// steps), and the stretch move's tau is some tens of steps.
-const MIN_STEPS: usize = 20_000;
+const MIN_STEPS: usize = 10_000;
+
+/// How far an unconverged run is continued by default: this many times its first steps.
+const MAX_STEPS_FACTOR: usize = 16;
 
 /// Exit code of a run whose sampler did not converge.
 const NOT_CONVERGED: u8 = 3;
@@ -61,9 +64,14 @@ pub struct InferArgs {
     /// steps are burn-in).
     #[arg(long, default_value = "20000")]
     samples: usize,
-    /// Ensemble steps, overriding the number --samples implies (at least 20000 then).
+    /// Ensemble steps, overriding the number --samples implies (at least 10000 then).
     #[arg(long, value_name = "N")]
     steps: Option<usize>,
+    /// Continue an unconverged ensemble run from its last positions, doubling its steps, up
+    /// to N steps in all (default 16 times the first steps; the first half of all steps is
+    /// the burn-in).
+    #[arg(long = "max-steps", value_name = "N")]
+    max_steps: Option<usize>,
     /// Live points of nested sampling.
     #[arg(long = "live-points", default_value = "400")]
     live_points: usize,
@@ -143,6 +151,16 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
         }
         None => (2 * args.samples.div_ceil(per_step)).max(MIN_STEPS),
     };
+    let max_steps = match args.max_steps {
+        Some(n) if n >= steps && n <= 100_000_000 => n,
+        Some(n) => {
+            return Err(CliError::usage(format!(
+                "--max-steps: give at least the first steps ({steps}) and at most 100000000, got \
+                 {n}"
+            )))
+        }
+        None => steps.saturating_mul(MAX_STEPS_FACTOR),
+    };
     Ok(InferSettings {
         sampler: match args.sampler {
             SamplerArg::Ensemble => SamplerKind::Ensemble,
@@ -150,6 +168,7 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
         },
         seed: args.seed,
         steps,
+        max_steps,
         walkers: walkers(dim),
         chains,
         live_points: args.live_points,
@@ -158,16 +177,19 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
 }
 
 /// What the sampler did, in words.
-fn sampler_assumption(s: &InferSettings, dim: usize) -> String {
+fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
     match s.sampler {
         SamplerKind::Ensemble => format!(
             "sampler: affine-invariant ensemble (Goodman & Weare 2010), {} independent ensembles \
-             of {} walkers, {} steps of which the first half is burn-in, seed {}; converged \
-             means split R-hat < 1.01 over the walkers and over the ensembles (Vehtari et al. \
-             2021) and bulk ESS >= 400",
+             of {} walkers, {} steps (first {}, continued up to {} until converged) of which \
+             the first half is burn-in, seed {}; converged \
+             means split R-hat < 1.01 over the independent ensembles (each one's walker-mean \
+             trajectory; Vehtari et al. 2021) and bulk ESS >= 400",
             s.chains,
             walkers(dim),
+            steps,
             s.steps,
+            s.max_steps,
             s.seed
         ),
         SamplerKind::Nested => format!(
@@ -263,7 +285,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         Err(InferStop::Run(e)) => return Err(CliError::usage(e.to_string())),
     };
     let mut assumptions = model.assumptions();
-    assumptions.push(sampler_assumption(&settings, dim));
+    assumptions.push(sampler_assumption(&settings, dim, inference.steps));
     if inference.failures > 0 {
         assumptions.push(format!(
             "{} of {} model evaluations failed in the shadow solver and were given zero \
@@ -322,7 +344,7 @@ fn print_text(
     let c = &i.convergence;
     if let Some(why) = not_converged {
         outln!(
-            "NOT CONVERGED: {why}; no intervals are reported (give more --samples, or check \
+            "NOT CONVERGED: {why}; no intervals are reported (raise --max-steps, or check \
              the priors)"
         )?;
     } else {

@@ -9,8 +9,8 @@
 use super::{Evaluation, Parameter, PosteriorModel, Role};
 use crate::sampling::summary::Marginal;
 use crate::sampling::{
-    ensemble, nested, Convergence, EnsembleError, EnsembleSettings, Halted, LogDensityBatch,
-    NestedError, NestedSettings, Start,
+    ensemble, nested, Convergence, EnsembleError, EnsembleRun, EnsembleSettings, Halted,
+    LogDensityBatch, NestedError, NestedSettings, Start,
 };
 use rayon::prelude::*;
 
@@ -59,6 +59,10 @@ pub struct InferSettings {
     pub seed: u64,
     /// Ensemble steps (half of them burn-in).
     pub steps: usize,
+    /// Ensemble steps at most: an unconverged run is continued from its last positions,
+    /// doubling its steps, until it converges or reaches this many (the first half of all
+    /// steps is always the burn-in).
+    pub max_steps: usize,
     /// Walkers per ensemble (even, at least twice the sampled parameters).
     pub walkers: usize,
     /// Independent ensembles (at least 4 for split-R̂).
@@ -75,6 +79,7 @@ impl Default for InferSettings {
             sampler: SamplerKind::Ensemble,
             seed: 1,
             steps: 1000,
+            max_steps: 1000,
             walkers: 8,
             chains: 4,
             live_points: 400,
@@ -145,6 +150,8 @@ pub struct Inference {
     pub convergence: Convergence,
     /// The evidence, with nested sampling.
     pub evidence: Option<Evidence>,
+    /// Ensemble steps made in all (half of them burn-in; 0 for nested sampling).
+    pub steps: usize,
     /// Model evaluations made.
     pub evaluations: usize,
     /// Evaluations where the shadow solver failed (given zero likelihood).
@@ -221,6 +228,7 @@ pub fn infer_on(
         failures: 0,
         first_failure: None,
     };
+    let mut steps = 0;
     let (samples, rhat, ess, convergence, evidence) = match settings.sampler {
         SamplerKind::Ensemble => {
             if settings.chains < 4 {
@@ -229,33 +237,9 @@ pub fn infer_on(
                     settings.chains
                 )));
             }
-            let ensemble_settings = EnsembleSettings {
-                steps: settings.steps,
-                walkers: Some(settings.walkers),
-                chains: settings.chains,
-                seed: settings.seed,
-                ..Default::default()
-            };
-            let run = ensemble(
-                &mut density,
-                &Start::Priors(model.priors()),
-                &ensemble_settings,
-            )?;
-            // R-hat over the independent ensembles (each walker-mean trajectory is a function
-            // of one Markov chain), as Vehtari et al. 2021 define it over chains.
-            let rhat: Vec<f64> = run
-                .coordinates
-                .iter()
-                .map(|c| c.map_or(f64::NAN, |c| c.ensemble_rhat))
-                .collect();
-            let ess: Vec<f64> = run
-                .coordinates
-                .iter()
-                .map(|c| c.map_or(f64::NAN, |c| c.ess))
-                .collect();
-            let worst_rhat = rhat.iter().copied().fold(f64::NEG_INFINITY, f64::max);
-            let least_ess = ess.iter().copied().fold(f64::INFINITY, f64::min);
-            let convergence = Convergence::new(worst_rhat, least_ess, run.acceptance);
+            let (run, rhat, ess, convergence) =
+                ensemble_until_converged(&mut density, model, settings)?;
+            steps = 2 * run.chains[0].draws.len();
             (run.samples, rhat, ess, convergence, None)
         }
         SamplerKind::Nested => {
@@ -294,10 +278,93 @@ pub fn infer_on(
         summaries,
         convergence,
         evidence,
+        steps,
         evaluations: density.evaluations,
         failures: density.failures,
         first_failure: density.first_failure,
     })
+}
+
+/// The ensembles, continued from their last positions (doubling the steps) until they
+/// converge or reach `settings.max_steps`; the kept draws are the last half of all steps.
+/// Returns the run, each coordinate's R-hat and ESS, and the verdict.
+fn ensemble_until_converged(
+    density: &mut Density<'_>,
+    model: &PosteriorModel,
+    settings: &InferSettings,
+) -> Result<(EnsembleRun, Vec<f64>, Vec<f64>, Convergence), InferRunError> {
+    let base = EnsembleSettings {
+        steps: settings.steps,
+        walkers: Some(settings.walkers),
+        chains: settings.chains,
+        seed: settings.seed,
+        ..Default::default()
+    };
+    let mut run = ensemble(density, &Start::Priors(model.priors()), &base)?;
+    let mut total = settings.steps;
+    let mut round = 0u64;
+    loop {
+        let (rhat, ess, convergence) = verdict(&run);
+        if convergence.converged || total >= settings.max_steps {
+            return Ok((run, rhat, ess, convergence));
+        }
+        round += 1;
+        let extra = total.min(settings.max_steps - total);
+        let start = Start::Points(
+            run.chains
+                .iter()
+                .map(|c| c.draws.last().cloned().unwrap_or_default())
+                .collect(),
+        );
+        let more = ensemble(
+            density,
+            &start,
+            &EnsembleSettings {
+                steps: extra,
+                burn_in: Some(0),
+                // Every continuation draws from its own random streams.
+                seed: settings.seed ^ round.rotate_left(40),
+                ..base
+            },
+        )?;
+        let keep = (total + extra) / 2;
+        let mut chains = run.chains;
+        for (c, m) in chains.iter_mut().zip(more.chains) {
+            for (a, b) in c.acceptance.iter_mut().zip(&m.acceptance) {
+                *a = (*a * total as f64 + b * extra as f64) / (total + extra) as f64;
+            }
+            c.draws.extend(m.draws);
+            c.log_densities.extend(m.log_densities);
+            let drop = c.draws.len().saturating_sub(keep);
+            c.draws.drain(..drop);
+            c.log_densities.drain(..drop);
+        }
+        total += extra;
+        run = EnsembleRun::from_chains(chains, run.walkers, total - keep)?;
+    }
+}
+
+/// Each coordinate's R-hat over the independent ensembles (each walker-mean trajectory is a
+/// function of one Markov chain, as Vehtari et al. 2021 define R-hat over chains) and ESS,
+/// and the verdict over the sampled coordinates.
+fn verdict(run: &EnsembleRun) -> (Vec<f64>, Vec<f64>, Convergence) {
+    let rhat: Vec<f64> = run
+        .coordinates
+        .iter()
+        .map(|c| c.map_or(f64::NAN, |c| c.ensemble_rhat))
+        .collect();
+    let ess: Vec<f64> = run
+        .coordinates
+        .iter()
+        .map(|c| c.map_or(f64::NAN, |c| c.ess))
+        .collect();
+    let worst_rhat = rhat.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+    let least_ess = ess.iter().copied().fold(f64::INFINITY, f64::min);
+    (
+        rhat,
+        ess,
+        Convergence::new(worst_rhat, least_ess, run.acceptance),
+    )
 }
 
 /// ln Z and its error for the model with its shared parameters at their GR values (the

@@ -483,6 +483,27 @@ fn finish(
     walkers: usize,
     burn_in: usize,
 ) -> Result<EnsembleRun, EnsembleError> {
+    EnsembleRun::from_chains(chains, walkers, burn_in)
+}
+
+impl EnsembleRun {
+    /// A run from kept chains (equally many kept steps each, every step with `walkers`
+    /// positions): its samples and diagnostics. For runs continued from their last positions
+    /// and joined.
+    pub fn from_chains(
+        chains: Vec<EnsembleChain>,
+        walkers: usize,
+        burn_in: usize,
+    ) -> Result<EnsembleRun, EnsembleError> {
+        from_chains(chains, walkers, burn_in)
+    }
+}
+
+fn from_chains(
+    chains: Vec<EnsembleChain>,
+    walkers: usize,
+    burn_in: usize,
+) -> Result<EnsembleRun, EnsembleError> {
     let dim = chains[0].draws[0][0].len();
     let samples: Vec<Vec<f64>> = chains
         .iter()

@@ -32,6 +32,8 @@ const R_FAR: f64 = 1.0e4;
 const R_NEAR: f64 = 1.0e-6;
 /// Points of the logarithmic scan.
 const SCAN_POINTS: usize = 8000;
+/// Grid steps crossed at once where the scan's cell cannot hold a photon sphere.
+const COARSE_CELL: usize = 16;
 /// The scan stops this far (relatively) outside a horizon, where C/A diverges.
 const HORIZON_MARGIN: f64 = 1.0e-9;
 /// The solver's name on the command line and in results.
@@ -57,6 +59,18 @@ pub struct PhotonSphereAnalysis {
 }
 
 /// C/A and (ln C/A)′ = C′/C − A′/A at r, with whether A, B, C are positive and finite there.
+/// C/A, (ln C/A)′ and (ln C/A)″ at r, where A, B, C are positive and finite.
+fn potential_curvature(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64, f64)> {
+    let jet = spacetime.spherical_jet(r).ok()?;
+    let [a, a1, a2] = jet.a;
+    let [b, _, _] = jet.b;
+    let [c, c1, c2] = jet.c;
+    let ok =
+        [a, a1, a2, b, c, c1, c2].iter().all(|x| x.is_finite()) && a > 0.0 && b > 0.0 && c > 0.0;
+    let (ca, aa) = (c1 / c, a1 / a);
+    ok.then(|| (c / a, ca - aa, c2 / c - ca * ca - a2 / a + aa * aa))
+}
+
 fn potential(spacetime: &dyn Spacetime, r: f64) -> Option<(f64, f64)> {
     let jet = spacetime.spherical_jet(r).ok()?;
     let [a, a1, _] = jet.a;
@@ -91,6 +105,8 @@ struct Scan<'a> {
     /// The last radius examined and (ln C/A)′ there.
     r_prev: f64,
     g_prev: f64,
+    /// (ln C/A)″ at the last radius examined (NaN where not computed).
+    curvature_prev: f64,
     /// (r, C/A, (ln C/A)′) at the innermost regular radius examined.
     boundary: (f64, f64, f64),
 }
@@ -126,7 +142,34 @@ impl Scan<'_> {
         self.boundary = (r, value, g);
         self.r_prev = r;
         self.g_prev = g;
+        self.curvature_prev = f64::NAN;
         Ok(true)
+    }
+
+    /// Step straight to `r` (the inner end of a coarse cell) if the cell cannot hold a photon
+    /// sphere: A, B, C regular at `r`, and neither (ln C/A)′ nor (ln C/A)″ changes sign over
+    /// the cell. A sign change of (ln C/A)′ is a photon sphere; two of them (a close pair)
+    /// need an extremum of (ln C/A)′ between them, where (ln C/A)″ changes sign. Returns
+    /// whether it stepped.
+    fn skip_to(&mut self, r: f64) -> bool {
+        if self.curvature_prev.is_nan() {
+            match potential_curvature(self.spacetime, self.r_prev) {
+                Some((_, _, k)) => self.curvature_prev = k,
+                None => return false,
+            }
+        }
+        let Some((value, g, k)) = potential_curvature(self.spacetime, r) else {
+            return false;
+        };
+        let same = |x: f64, y: f64| (x > 0.0 && y > 0.0) || (x < 0.0 && y < 0.0);
+        if !(same(g, self.g_prev) && same(k, self.curvature_prev)) {
+            return false;
+        }
+        self.boundary = (r, value, g);
+        self.r_prev = r;
+        self.g_prev = g;
+        self.curvature_prev = k;
+        true
     }
 
     /// Scan the gap between the last radius and an inner boundary `r_s` (a horizon or a
@@ -180,7 +223,12 @@ fn regular_edge(spacetime: &dyn Spacetime, invalid: f64, valid: f64) -> (f64, f6
 /// change is refined by Brent's method to full double precision. A change from negative
 /// (inside) to positive (outside) is a minimum of C/A: an unstable photon sphere. Two extrema
 /// closer together than one grid cell (0.3% in r, or 1/40 of a decade in r − r_s near the
-/// boundary) are not resolved.
+/// boundary) are not resolved. Runs of 16 grid cells over which neither (ln C/A)′ nor
+/// (ln C/A)″ changes sign are crossed in one step: they hold no photon sphere, and a pair of
+/// photon spheres needs an extremum of (ln C/A)′, where (ln C/A)″ changes sign, between them
+/// (only a pair with two such extrema inside one run, a few percent in r, would be missed).
+/// The other runs are scanned cell by cell, so the photon spheres found are those of the
+/// full grid.
 ///
 /// ```
 /// use umbral::prelude::*;
@@ -228,19 +276,38 @@ pub fn photon_sphere_analysis(
         spheres: Vec::new(),
         r_prev: R_FAR,
         g_prev: far_slope,
+        curvature_prev: f64::NAN,
         boundary: (R_FAR, far_value, far_slope),
     };
     let mut irregular = None;
     // The geometric grid by repeated multiplication (a power per point costs more than the
     // scan step itself); the grid only brackets, the roots are refined to full precision.
+    // Cells of COARSE_CELL grid steps that cannot hold a photon sphere are crossed in one
+    // step (Scan::skip_to); the others are scanned point by point, on the same grid.
     let mut r_grid = R_FAR;
-    for i in 1..SCAN_POINTS {
+    let mut i = 1;
+    // A cell that could not be crossed is scanned point by point to its end.
+    let mut fine_until = 0;
+    while i < SCAN_POINTS {
+        if i >= fine_until && i + COARSE_CELL < SCAN_POINTS {
+            let mut r_end = r_grid;
+            for _ in 0..COARSE_CELL {
+                r_end *= ratio;
+            }
+            if scan.skip_to(r_end) {
+                r_grid = r_end;
+                i += COARSE_CELL;
+                continue;
+            }
+            fine_until = i + COARSE_CELL;
+        }
         r_grid *= ratio;
         let r = if i == SCAN_POINTS - 1 { r_stop } else { r_grid };
         if !scan.step(r)? {
             irregular = Some(r); // inner boundary of a horizonless metric
             break;
         }
+        i += 1;
     }
     // The last cell, down to the horizon or the singular surface.
     match (horizon, irregular) {
