@@ -2,6 +2,8 @@
 
 use super::args::{parse_finite, MetricChoice, SizeMeasureArg};
 use super::interrupt;
+use super::plot::{stage_plot, write_plot};
+use super::plot_posterior::corner_plot;
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
@@ -90,6 +92,11 @@ pub struct InferArgs {
     /// Write the posterior samples to DIR/samples.csv (the folder is created if needed).
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    /// Write a corner plot of the posterior (SVG): every sampled parameter, or when there are
+    /// more than 6 the shared ones and each source's spin and inclination. Like the samples,
+    /// only a converged run writes it.
+    #[arg(long, value_name = "FILE.svg")]
+    plot: Option<String>,
 }
 
 /// Read `NAME=SPEC` priors.
@@ -237,7 +244,34 @@ struct JsonReport<'a> {
     assumptions: &'a [String],
 }
 
+/// The samples' temporary and final paths, with `--out`.
+type StagedCsv = Option<(PathBuf, PathBuf)>;
+
+/// The command's files, staged before any sampling so that a bad path fails first (and before
+/// `--out` creates its folder): the corner plot and `DIR/samples.csv`. Both appear only when
+/// the run converged.
+fn stage_outputs(args: &InferArgs) -> Result<(OutputTransaction, StagedCsv), CliError> {
+    let mut outputs = OutputTransaction::new();
+    if let Some(path) = &args.plot {
+        stage_plot(&mut outputs, path)?;
+    }
+    let csv_path = match &args.out {
+        Some(dir) => {
+            std::fs::create_dir_all(dir).map_err(|e| {
+                CliError::usage(format!("--out {}: cannot create: {e}", dir.display()))
+            })?;
+            let path = dir.join("samples.csv");
+            Some((outputs.stage(&path)?, path))
+        }
+        None => None,
+    };
+    Ok((outputs, csv_path))
+}
+
 pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
+    if let Some(path) = &args.plot {
+        super::args::check_svg_path(path)?;
+    }
     let metric = args.metric.resolve()?;
     let sources = args
         .measurement
@@ -250,17 +284,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
     let dim = model.names().len();
     let settings = settings(args, dim)?;
-    let mut outputs = OutputTransaction::new();
-    let csv_path = match &args.out {
-        Some(dir) => {
-            std::fs::create_dir_all(dir).map_err(|e| {
-                CliError::usage(format!("--out {}: cannot create: {e}", dir.display()))
-            })?;
-            let path = dir.join("samples.csv");
-            Some((outputs.stage(&path)?, path))
-        }
-        None => None,
-    };
+    let (mut outputs, csv_path) = stage_outputs(args)?;
     let mut display = progress.display(None)?;
     let result = {
         let _graceful = interrupt::Graceful::enter("model evaluations");
@@ -302,6 +326,9 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
                 .map_err(|e| CliError::usage(format!("cannot write '{}': {e}", path.display())))?;
         }
     }
+    if let (Some(path), None) = (&args.plot, &verdict) {
+        write_corner_plot(&mut outputs, path, &model, &inference)?;
+    }
     if args.json {
         print_json(args, &model, &inference, &assumptions, verdict.is_none())?;
     } else {
@@ -312,6 +339,22 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     }
     outputs.commit()?;
     Ok(ExitCode::SUCCESS)
+}
+
+/// Write the corner plot of a converged run to its staged file.
+fn write_corner_plot(
+    outputs: &mut OutputTransaction,
+    path: &str,
+    model: &PosteriorModel,
+    inference: &Inference,
+) -> Result<(), CliError> {
+    let sources = match model.sources() {
+        1 => "1 source".to_string(),
+        k => format!("{k} sources"),
+    };
+    let title = format!("{}: posterior from {sources}", model.metric_info().name);
+    let svg = corner_plot(path, &title, inference, model.sources())?;
+    write_plot(outputs, path, &svg)
 }
 
 /// Why the run is not a posterior to report (`None`: it is).

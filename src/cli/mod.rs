@@ -11,6 +11,7 @@ mod interrupt;
 mod metrics;
 mod plot;
 mod plot_bounds;
+mod plot_posterior;
 mod progress;
 mod scan;
 mod shadow;

@@ -1,5 +1,6 @@
 //! Sampling a log-density over ℝᵈ: priors, the affine-invariant ensemble sampler, nested
-//! sampling, convergence diagnostics, kernel density estimates and interval summaries.
+//! sampling, convergence diagnostics, kernel density estimates, interval summaries and
+//! histograms.
 //!
 //! Nothing here knows about black holes: a model is a function from a parameter vector to a
 //! log-density (a log-posterior for [`ensemble()`], a log-likelihood for [`nested()`]). The
@@ -30,6 +31,7 @@
 mod batch;
 pub mod diagnostics;
 pub mod ensemble;
+pub mod histogram;
 pub mod kde;
 pub mod nested;
 pub mod normal;

@@ -107,6 +107,22 @@ impl Marginal {
         self.points.iter().map(|(x, w)| x * w).sum::<f64>() / self.total
     }
 
+    /// The weighted standard deviation √(Σ wᵢ (xᵢ − x̄)² / W) (the population form).
+    ///
+    /// ```
+    /// use umbral::sampling::summary::Marginal;
+    /// assert_eq!(Marginal::new(&[1.0, 3.0]).unwrap().standard_deviation(), 1.0);
+    /// ```
+    pub fn standard_deviation(&self) -> f64 {
+        let mean = self.mean();
+        let sum: f64 = self
+            .points
+            .iter()
+            .map(|(x, w)| w * (x - mean).powi(2))
+            .sum();
+        (sum / self.total).sqrt()
+    }
+
     /// The quantile at `q` ∈ [0, 1] (see the module documentation); NaN for a NaN `q`.
     pub fn quantile(&self, q: f64) -> f64 {
         if q.is_nan() {
