@@ -94,12 +94,20 @@ fn a_converged_run_writes_the_corner_plot() {
 fn an_unconverged_run_writes_no_plot() {
     let dir = common::scratch("posterior_plot", "unconverged");
     std::fs::write(dir.join("r.toml"), RADIUS).unwrap();
-    let out = infer(&dir, &["--steps", "40", "--plot", "corner.svg"], 60);
+    let out = infer(
+        &dir,
+        &["--steps", "40", "--max-steps", "40", "--plot", "corner.svg"],
+        60,
+    );
     assert_eq!(out.code, Some(3), "{}", out.describe());
     assert!(out.stdout_text().starts_with("NOT CONVERGED"));
     assert_eq!(listing(&dir), ["r.toml"]);
     std::fs::write(dir.join("old.svg"), "<svg>old</svg>").unwrap();
-    let out = infer(&dir, &["--steps", "40", "--plot", "old.svg"], 60);
+    let out = infer(
+        &dir,
+        &["--steps", "40", "--max-steps", "40", "--plot", "old.svg"],
+        60,
+    );
     assert_eq!(out.code, Some(3), "{}", out.describe());
     assert_eq!(
         std::fs::read_to_string(dir.join("old.svg")).unwrap(),
@@ -122,7 +130,18 @@ fn a_bad_plot_path_fails_before_sampling() {
         ),
     ] {
         // Killed (and failed) after 10 s if it started sampling.
-        let out = infer(&dir, &["--steps", "10000000", "--plot", path], 10);
+        let out = infer(
+            &dir,
+            &[
+                "--steps",
+                "10000000",
+                "--max-steps",
+                "10000000",
+                "--plot",
+                path,
+            ],
+            10,
+        );
         assert_eq!(out.code, Some(2), "{}", out.describe());
         let err = out.stderr_text();
         assert!(
