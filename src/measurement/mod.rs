@@ -517,8 +517,10 @@ impl Measurement {
         }
         match &self.size {
             SizeMeasurement::ShadowRadius(given) => given_intervals(given, levels),
-            SizeMeasurement::FractionalDeviation(f) => fractional_intervals(f, levels),
-            SizeMeasurement::ShadowRadiusValue(v) => radius_value_intervals(v, levels),
+            SizeMeasurement::FractionalDeviation(f) => {
+                value_intervals(f, levels, ValueOf::Deviation)
+            }
+            SizeMeasurement::ShadowRadiusValue(v) => value_intervals(v, levels, ValueOf::Radius),
             SizeMeasurement::Samples(samples) => sample_intervals(samples, levels),
             SizeMeasurement::Ring(chain) => ring_intervals(chain, levels),
         }
@@ -558,69 +560,59 @@ fn given_intervals(
     })
 }
 
-/// Shadow-radius intervals 3√3 (1 + δ) from a fractional deviation δ at `levels`.
-fn fractional_intervals(
-    f: &FractionalDeviation,
-    levels: Option<&[f64]>,
-) -> Result<DerivedRadii, MeasurementError> {
-    let mut assumptions = Vec::new();
-    let ls = levels.unwrap_or(&DEFAULT_LEVELS);
-    let mut intervals = Vec::new();
-    for &confidence in ls {
-        let z = two_sided_z(confidence)
-            .ok_or_else(|| MeasurementError::Invalid(format!("bad confidence {confidence}")))?;
-        let (dlo, dhi) = (f.value - z * f.minus, f.value + z * f.plus);
-        let low = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dlo);
-        let high = SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + dhi);
-        if !(low > 0.0 && low < high) {
-            return Err(MeasurementError::Invalid(format!(
-                "fractional deviation {} -{} +{} gives no positive shadow-radius \
-                 interval at confidence {confidence} ([{low}, {high}])",
-                f.value, f.minus, f.plus
-            )));
-        }
-        assumptions.push(format!(
-            "size: delta = {} -{} +{} read as [value - z minus, value + z plus] \
-             with z = {z:.6} at confidence {confidence}: delta in [{dlo:.6}, \
-             {dhi:.6}], r_sh/M = 3 sqrt(3) (1 + delta) in [{low:.6}, {high:.6}]",
-            f.value, f.minus, f.plus
-        ));
-        intervals.push(RadiusInterval {
-            confidence,
-            low,
-            high,
-        });
-    }
-    Ok(DerivedRadii {
-        intervals,
-        ring: None,
-        assumptions,
-    })
+/// What a value with errors is of.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum ValueOf {
+    /// r_sh/M itself.
+    Radius,
+    /// δ, with r_sh/M = 3√3 (1 + δ).
+    Deviation,
 }
 
-/// Shadow-radius intervals [value − z·minus, value + z·plus] from r_sh/M with errors.
-fn radius_value_intervals(
+/// Shadow-radius intervals from a value with errors at `levels`: [value − z·minus,
+/// value + z·plus] in r_sh/M, or in δ and then r_sh/M = 3√3 (1 + δ).
+fn value_intervals(
     v: &ValueErrors,
     levels: Option<&[f64]>,
+    of: ValueOf,
 ) -> Result<DerivedRadii, MeasurementError> {
     let mut assumptions = Vec::new();
     let mut intervals = Vec::new();
     for &confidence in levels.unwrap_or(&DEFAULT_LEVELS) {
         let z = two_sided_z(confidence)
             .ok_or_else(|| MeasurementError::Invalid(format!("bad confidence {confidence}")))?;
-        let (low, high) = (v.value - z * v.minus, v.value + z * v.plus);
+        let (lo, hi) = (v.value - z * v.minus, v.value + z * v.plus);
+        let (low, high) = match of {
+            ValueOf::Radius => (lo, hi),
+            ValueOf::Deviation => (
+                SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + lo),
+                SCHWARZSCHILD_SHADOW_RADIUS * (1.0 + hi),
+            ),
+        };
+        let (value, minus, plus) = (v.value, v.minus, v.plus);
         if !(low > 0.0 && low < high) {
-            return Err(MeasurementError::Invalid(format!(
-                "shadow radius {} -{} +{} gives no positive interval at confidence \
-                 {confidence} ([{low}, {high}])",
-                v.value, v.minus, v.plus
-            )));
+            return Err(MeasurementError::Invalid(match of {
+                ValueOf::Radius => format!(
+                    "shadow radius {value} -{minus} +{plus} gives no positive interval at \
+                     confidence {confidence} ([{low}, {high}])"
+                ),
+                ValueOf::Deviation => format!(
+                    "fractional deviation {value} -{minus} +{plus} gives no positive \
+                     shadow-radius interval at confidence {confidence} ([{low}, {high}])"
+                ),
+            }));
         }
-        assumptions.push(format!(
-            "size: r_sh/M = {} -{} +{} read as [value - z minus, value + z plus] with \
-             z = {z:.6} at confidence {confidence}: [{low:.6}, {high:.6}]",
-            v.value, v.minus, v.plus
-        ));
+        assumptions.push(match of {
+            ValueOf::Radius => format!(
+                "size: r_sh/M = {value} -{minus} +{plus} read as [value - z minus, value + z \
+                 plus] with z = {z:.6} at confidence {confidence}: [{low:.6}, {high:.6}]"
+            ),
+            ValueOf::Deviation => format!(
+                "size: delta = {value} -{minus} +{plus} read as [value - z minus, value + z \
+                 plus] with z = {z:.6} at confidence {confidence}: delta in [{lo:.6}, \
+                 {hi:.6}], r_sh/M = 3 sqrt(3) (1 + delta) in [{low:.6}, {high:.6}]"
+            ),
+        });
         intervals.push(RadiusInterval {
             confidence,
             low,
