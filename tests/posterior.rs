@@ -19,6 +19,20 @@ fn radius(mu: f64, sigma: f64) -> Measurement {
     .unwrap()
 }
 
+/// The cases of tests/generate_rn_posterior.py, each with its measured radius and sigma.
+fn reference_cases() -> Vec<(serde_json::Value, f64, f64)> {
+    let table: serde_json::Value =
+        serde_json::from_str(include_str!("data/rn_posterior.json")).unwrap();
+    let cases = table["cases"].as_array().unwrap();
+    cases
+        .iter()
+        .map(|c| {
+            let (mu, sigma) = (c["mu"].as_f64().unwrap(), c["sigma"].as_f64().unwrap());
+            (c.clone(), mu, sigma)
+        })
+        .collect()
+}
+
 fn rn_model(sources: Vec<Measurement>) -> PosteriorModel {
     let request = InferenceRequest::new(
         MetricSource::builtin("reissner-nordstrom").unwrap(),
@@ -35,13 +49,7 @@ fn rn_model(sources: Vec<Measurement>) -> PosteriorModel {
 /// f(q_p) estimated from the reference quantiles' spacing.
 #[test]
 fn reissner_nordstrom_quantiles_match_quadrature() {
-    let table: serde_json::Value =
-        serde_json::from_str(include_str!("data/rn_posterior.json")).unwrap();
-    for case in table["cases"].as_array().unwrap() {
-        let (mu, sigma) = (
-            case["mu"].as_f64().unwrap(),
-            case["sigma"].as_f64().unwrap(),
-        );
+    for (case, mu, sigma) in reference_cases() {
         let model = rn_model(vec![radius(mu, sigma)]);
         let settings = InferSettings {
             steps: 10_000,
@@ -83,13 +91,7 @@ fn reissner_nordstrom_quantiles_match_quadrature() {
 /// Bayes factor does not favour a charge (common practice, no source).
 #[test]
 fn nested_evidence_and_bayes_factor_match_quadrature() {
-    let table: serde_json::Value =
-        serde_json::from_str(include_str!("data/rn_posterior.json")).unwrap();
-    for case in table["cases"].as_array().unwrap() {
-        let (mu, sigma) = (
-            case["mu"].as_f64().unwrap(),
-            case["sigma"].as_f64().unwrap(),
-        );
+    for (case, mu, sigma) in reference_cases() {
         let model = rn_model(vec![radius(mu, sigma)]);
         let settings = InferSettings {
             sampler: SamplerKind::Nested,
