@@ -225,13 +225,7 @@ fn the_command_line_refuses_bad_requests_and_unconverged_runs() {
     ] {
         let args: Vec<&str> = base.iter().copied().chain(extra).collect();
         let out = common::Invocation::new(&dir, args).run();
-        assert_eq!(out.code, Some(2), "{}", out.describe());
-        let err = out.stderr_text();
-        assert!(
-            err.contains(needle) && err.trim().lines().count() == 1,
-            "{}",
-            out.describe()
-        );
+        out.assert_usage_error(needle);
     }
     let args: Vec<&str> = base
         .iter()

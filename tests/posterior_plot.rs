@@ -142,13 +142,7 @@ fn a_bad_plot_path_fails_before_sampling() {
             ],
             10,
         );
-        assert_eq!(out.code, Some(2), "{}", out.describe());
-        let err = out.stderr_text();
-        assert!(
-            err.contains(needle) && err.trim().lines().count() == 1,
-            "{}",
-            out.describe()
-        );
+        out.assert_usage_error(needle);
         assert_eq!(listing(&dir), ["r.toml"]);
     }
 }

@@ -50,7 +50,7 @@ pub use source::{RingValues, SourceTerm};
 use crate::bounds::SizeMeasure;
 use crate::error::MetricError;
 use crate::measurement::Measurement;
-use crate::metric::{Spacetime, Symmetry};
+use crate::metric::Symmetry;
 use crate::metrics::MetricSource;
 use crate::sampling::Prior;
 use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
@@ -402,11 +402,5 @@ impl PosteriorModel {
         )
         .map_err(|e| format!("source {}: {e}", k + 1))?;
         Ok(term.log_likelihood(size, delta_c, &ring))
-    }
-
-    /// The metric of source `k` at a sampled point (for checks and plots).
-    pub fn spacetime(&self, k: usize, x: &[f64]) -> Result<Box<dyn Spacetime>, MetricError> {
-        let (assignments, _, _) = self.source_point(k, &self.full(x));
-        self.metric.build(&assignments)
     }
 }

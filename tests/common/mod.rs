@@ -239,6 +239,19 @@ impl Outcome {
         String::from_utf8_lossy(&self.stderr).into_owned()
     }
 
+    /// Assert a usage error: exit code 2 and one line on standard error that contains
+    /// `needle`.
+    #[track_caller]
+    pub fn assert_usage_error(&self, needle: &str) {
+        assert_eq!(self.code, Some(2), "{}", self.describe());
+        let err = self.stderr_text();
+        assert!(
+            err.contains(needle) && err.trim().lines().count() == 1,
+            "{}",
+            self.describe()
+        );
+    }
+
     /// A short description for failure messages.
     pub fn describe(&self) -> String {
         let how = match (self.timed_out, self.code, self.signal) {
