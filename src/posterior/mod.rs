@@ -42,7 +42,7 @@ pub mod source;
 
 pub use infer::{
     infer_on, Evaluator, Evidence, InferRunError, InferSettings, Inference, ParallelEvaluator,
-    ParameterSummary, SamplerKind,
+    ParameterSummary, QuadratureReport, SamplerKind,
 };
 pub use parameters::{Parameter, Role};
 pub use source::{RingValues, SourceTerm};
