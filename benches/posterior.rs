@@ -1,7 +1,8 @@
 //! Speed of posteriors. Goals (issue: posteriors): a 1-D Reissner-Nordstrom posterior under
 //! 1 s and a Kerr-Newman charge posterior with spin and inclination marginalised under 30 s on
 //! 2 cores. Measured here: one likelihood evaluation of each model (the samplers make
-//! 4 x (2d + 2) x steps of them), and the whole 1-D Reissner-Nordstrom posterior.
+//! 4 x (2d + 2) x steps of them), and the whole 1-D Reissner-Nordstrom posterior by the
+//! ensemble sampler and by quadrature (about 100 evaluations, 20000 draws).
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
@@ -9,7 +10,7 @@ use std::time::Duration;
 use umbral::measurement::Measurement;
 use umbral::metrics::MetricSource;
 use umbral::posterior::{
-    infer_on, InferSettings, InferenceRequest, ParallelEvaluator, PosteriorModel,
+    infer_on, InferSettings, InferenceRequest, ParallelEvaluator, PosteriorModel, SamplerKind,
 };
 use umbral::sampling::Prior;
 
@@ -56,6 +57,15 @@ fn whole(c: &mut Criterion) {
         b.iter(|| black_box(infer_on(&rn, &settings, &mut ParallelEvaluator).unwrap()))
     });
     group.finish();
+    // The same posterior by quadrature, with the evidence and 20000 independent draws (what
+    // `umbral infer --sampler quadrature` does by default).
+    let quadrature = InferSettings {
+        sampler: SamplerKind::Quadrature,
+        ..Default::default()
+    };
+    c.bench_function("posterior: 1-D Reissner-Nordstrom by quadrature", |b| {
+        b.iter(|| black_box(infer_on(&rn, &quadrature, &mut ParallelEvaluator).unwrap()))
+    });
 }
 
 criterion_group!(benches, evaluations, whole);

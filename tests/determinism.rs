@@ -342,6 +342,33 @@ fn scan_file() {
     );
 }
 
+/// `infer` by quadrature: the JSON, the samples (drawn from the seed on the calling thread)
+/// and the corner plot repeat at every thread count.
+#[test]
+fn infer_by_quadrature_files() {
+    assert_deterministic(
+        "infer-quadrature",
+        &[
+            "infer",
+            "--metric",
+            "reissner-nordstrom",
+            "--prior",
+            "q=uniform:0:1.2",
+            "--measurement",
+            "{repo}/examples/measurement_deviation.toml",
+            "--sampler",
+            "quadrature",
+            "--samples",
+            "2000",
+            "--json",
+            "--out",
+            "out",
+            "--plot",
+            "corner.svg",
+        ],
+    );
+}
+
 #[test]
 fn verify_json() {
     assert_deterministic(

@@ -13,6 +13,13 @@ computed here by mpmath quadrature (tanh-sinh) of the density and root finding o
 cumulative distribution, at 30 digits; so is the evidence Z = integral of L(q) dq (the prior
 density is 1) and the likelihood at q = 0 (the evidence of the Schwarzschild model).
 
+The boundary cases take a prior uniform on [0, 1.2], past the extremal charge. For q > 1 there
+is no horizon: f = 1 - 2/r + q^2/r^2 > 0 for every r > 0 and r^2/f -> 0 as r -> 0, so by the
+radial equation of null geodesics, (dr/dlambda)^2 = E^2 - L^2 f/r^2 (e.g. Wald 1984, "General
+Relativity", section 6.3), every ray with L != 0 turns back before the centre: nothing is
+captured, there is no shadow, and the likelihood is zero. The posterior is the one on [0, 1]
+and Z = (1/1.2) integral_0^1 L(q) dq.
+
     python3 tests/generate_rn_posterior.py --out tests/data/rn_posterior.json
     python3 tests/generate_rn_posterior.py --check tests/data/rn_posterior.json
 """
@@ -32,6 +39,8 @@ CASES = [
     # A measurement centred on the Schwarzschild value 3 sqrt(3) (consistent with GR).
     {"mu": 5.196, "sigma": 0.1},
 ]
+# A measurement below b_c(1) = 4: the posterior is largest at the boundary q = 1.
+BOUNDARY_CASES = [{"mu": 3.9, "sigma": 0.2, "high": 1.2}]
 PROBABILITIES = ["0.16", "0.5", "0.84"]
 
 
@@ -40,15 +49,16 @@ def b_c(q):
     return r * r / mp.sqrt(r * r - 2 * r + q * q)
 
 
-def posterior(mu, sigma):
-    mu, sigma = mp.mpf(mu), mp.mpf(sigma)
+def posterior(mu, sigma, high=1):
+    """The posterior under a uniform prior on [0, high], high >= 1, zero likelihood above 1."""
+    mu, sigma, high = mp.mpf(mu), mp.mpf(sigma), mp.mpf(high)
 
     def density(q):
         return mp.exp(-((b_c(q) - mu) ** 2) / (2 * sigma**2))
 
     z = mp.quad(density, [0, mp.mpf("0.5"), 1])
     # The evidence: the uniform prior has density 1 on [0, 1] and the likelihood is normalised.
-    log_evidence = mp.log(z / (sigma * mp.sqrt(2 * mp.pi)))
+    log_evidence = mp.log(z / (sigma * mp.sqrt(2 * mp.pi)) / high)
     log_likelihood_at_zero = mp.log(density(mp.mpf(0)) / (sigma * mp.sqrt(2 * mp.pi)))
 
     def cdf(q):
@@ -83,10 +93,24 @@ def build_table():
                 "log_likelihood_at_q0": number(log_l0),
             }
         )
+    boundary_cases = []
+    for case in BOUNDARY_CASES:
+        mean, quantiles, log_z, _ = posterior(case["mu"], case["sigma"], case["high"])
+        boundary_cases.append(
+            {
+                "mu": case["mu"],
+                "sigma": case["sigma"],
+                "prior": f"uniform:0:{case['high']}",
+                "mean": number(mean),
+                "quantiles": {p: number(q) for p, q in quantiles.items()},
+                "log_evidence": number(log_z),
+            }
+        )
     return {
         "source": "mpmath quadrature of the posterior density in q, see tests/generate_rn_posterior.py",
         "prior": "uniform:0:1",
         "cases": cases,
+        "boundary_cases": boundary_cases,
     }
 
 

@@ -159,11 +159,15 @@ fn sixty_four_curve_points_suffice_for_the_size() {
     }
 }
 
-/// The same seed gives bit-identical samples at 1 and 2 threads, for both samplers.
+/// The same seed gives bit-identical samples at 1 and 2 threads, for every sampler.
 #[test]
 fn samples_are_bit_identical_at_one_and_two_threads() {
     let model = rn_model(vec![radius(5.0, 0.2)]);
-    for sampler in [SamplerKind::Ensemble, SamplerKind::Nested] {
+    for sampler in [
+        SamplerKind::Ensemble,
+        SamplerKind::Nested,
+        SamplerKind::Quadrature,
+    ] {
         let settings = InferSettings {
             sampler,
             steps: 100,

@@ -16,11 +16,11 @@ use umbral::output::OutputTransaction;
 use umbral::posterior::table::MIN_NODES;
 use umbral::posterior::{
     Evidence, InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel,
-    SamplerKind, TableReport,
+    QuadratureReport, SamplerKind, TableReport,
 };
 use umbral::run::infer::{infer_with, InferStop};
 use umbral::run::Controls;
-use umbral::sampling::Prior;
+use umbral::sampling::{Prior, QuadratureSettings};
 use umbral::scan::table::{build_tables, TableBuildError};
 use umbral::scan::ScanError;
 
@@ -44,6 +44,9 @@ enum SamplerArg {
     Ensemble,
     /// Nested sampling (posterior, evidence and the Bayes factor against GR).
     Nested,
+    /// Quadrature of the posterior density, for one or two sampled parameters (posterior,
+    /// evidence and the Bayes factor against GR; deterministic).
+    Quadrature,
 }
 
 #[derive(Debug, Args)]
@@ -66,7 +69,7 @@ pub struct InferArgs {
     #[arg(long, default_value = "1")]
     seed: u64,
     /// Posterior samples to keep (ensemble sampler: sets the number of steps; half of the
-    /// steps are burn-in).
+    /// steps are burn-in; quadrature: independent draws from the tabulated posterior).
     #[arg(long, default_value = "20000")]
     samples: usize,
     /// Ensemble steps, overriding the number --samples implies (at least 10000 then).
@@ -80,6 +83,10 @@ pub struct InferArgs {
     /// Live points of nested sampling.
     #[arg(long = "live-points", default_value = "400")]
     live_points: usize,
+    /// Quadrature: panels per sampled parameter at most (the grid starts at 4 panels of 8
+    /// Gauss-Legendre nodes and doubles until the results stop changing).
+    #[arg(long = "max-panels", value_name = "N", default_value = "64")]
+    max_panels: usize,
     /// Credible levels, comma-separated.
     #[arg(long, value_name = "P,P,...", default_value = "0.68,0.95")]
     levels: String,
@@ -159,6 +166,12 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
             args.samples
         )));
     }
+    if !(8..=4096).contains(&args.max_panels) {
+        return Err(CliError::usage(format!(
+            "--max-panels: give 8 to 4096, got {}",
+            args.max_panels
+        )));
+    }
     if !(20..=100_000).contains(&args.live_points) {
         return Err(CliError::usage(format!(
             "--live-points: give 20 to 100000, got {}",
@@ -189,6 +202,7 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
         sampler: match args.sampler {
             SamplerArg::Ensemble => SamplerKind::Ensemble,
             SamplerArg::Nested => SamplerKind::Nested,
+            SamplerArg::Quadrature => SamplerKind::Quadrature,
         },
         seed: args.seed,
         steps,
@@ -197,11 +211,15 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
         chains,
         live_points: args.live_points,
         levels: levels(&args.levels)?,
+        samples: args.samples,
+        max_panels: args.max_panels,
+        ..InferSettings::default()
     })
 }
 
 /// What the sampler did, in words.
-fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
+fn sampler_assumption(s: &InferSettings, dim: usize, i: &Inference) -> String {
+    let steps = i.steps;
     match s.sampler {
         SamplerKind::Ensemble => format!(
             "sampler: affine-invariant ensemble (Goodman & Weare 2010), {} independent ensembles \
@@ -222,6 +240,38 @@ fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
              equal-weight resampling of the dead and live points",
             s.live_points, s.seed
         ),
+        SamplerKind::Quadrature => {
+            let (panels, nodes, grids) = i
+                .quadrature
+                .as_ref()
+                .map_or((0, 0, 0), |q| (q.panels, q.nodes_per_panel, q.grids));
+            let boundaries = match (&i.quadrature, i.names.first()) {
+                (Some(q), Some(name)) if !q.boundaries.is_empty() => {
+                    let at: Vec<String> = q.boundaries.iter().map(|b| format!("{b:.9}")).collect();
+                    format!(
+                        "; the likelihood changes between zero and non-zero inside the prior at \
+                         {name} = {} (located by bisection; the panels are split there)",
+                        at.join(", ")
+                    )
+                }
+                _ => String::new(),
+            };
+            format!(
+                "sampler: quadrature of the posterior density in the priors' cumulative \
+                 probabilities (composite Gauss-Legendre, {nodes} nodes per panel), the panels \
+                 doubled from {} up to {} per parameter until ln Z, the 0.16/0.5/0.84 quantiles \
+                 and the intervals changed by at most {:e} (quantities in units of the prior's \
+                 mass, and at most 1% of the 68% width): {grids} grids, {panels} panels per \
+                 parameter at the end; the GR model holds the shared parameters at the \
+                 metric's defaults, its evidence by the same quadrature; posterior samples are \
+                 {} independent draws by inverse CDF, seed {}{boundaries}",
+                QuadratureSettings::default().initial_panels,
+                s.max_panels,
+                s.tolerance,
+                i.samples.len(),
+                s.seed
+            )
+        }
     }
 }
 
@@ -244,10 +294,12 @@ struct JsonParameter {
 struct JsonDiagnostics {
     rhat: BTreeMap<String, Option<f64>>,
     ess: BTreeMap<String, f64>,
-    acceptance: f64,
+    acceptance: Option<f64>,
     converged: bool,
     evaluations: usize,
     solver_failures: usize,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    quadrature: Option<QuadratureReport>,
 }
 
 #[derive(Serialize)]
@@ -311,6 +363,9 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
     let dim = model.names().len();
     let settings = settings(args, dim)?;
+    settings
+        .check(&model.names())
+        .map_err(|e| CliError::usage(e.to_string()))?;
     if model.needs_tables() {
         model
             .table_plans()
@@ -346,7 +401,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         Err(InferStop::Run(e)) => return Err(CliError::usage(e.to_string())),
     };
     let mut assumptions = model.assumptions();
-    assumptions.push(sampler_assumption(&settings, dim, inference.steps));
+    assumptions.push(sampler_assumption(&settings, dim, &inference));
     if inference.failures > 0 {
         assumptions.push(format!(
             "{} of {} model evaluations failed in the shadow solver and were given zero \
@@ -439,7 +494,13 @@ fn write_corner_plot(
 fn verdict(i: &Inference) -> Option<String> {
     let c = &i.convergence;
     let mut why = Vec::new();
-    if !c.converged {
+    if let (Some(q), false) = (&i.quadrature, c.converged) {
+        why.push(format!(
+            "the quadrature did not converge: at {} panels of {} nodes per parameter the \
+             reported quantities still changed by {:.3} times their tolerance",
+            q.panels, q.nodes_per_panel, q.change
+        ));
+    } else if !c.converged {
         why.push(format!(
             "split R-hat {:.4} (needs < 1.01) and effective sample size {:.0} (needs >= 400)",
             c.rhat, c.ess
@@ -465,19 +526,37 @@ fn print_text(
     let c = &i.convergence;
     if let Some(why) = not_converged {
         outln!(
-            "NOT CONVERGED: {why}; no intervals are reported (raise --max-steps, or check \
-             the priors)"
+            "NOT CONVERGED: {why}; no intervals are reported (raise {}, or check the priors)",
+            if i.quadrature.is_some() {
+                "--max-panels"
+            } else {
+                "--max-steps"
+            }
         )?;
     } else {
-        outln!(
-            "posterior of {} from {} source(s): converged (max split R-hat {:.4}, min ESS {:.0}, \
-             acceptance {:.3})",
-            model.metric_info().name,
-            model.sources(),
-            c.rhat,
-            c.ess,
-            c.acceptance
-        )?;
+        if let Some(q) = &i.quadrature {
+            outln!(
+                "posterior of {} from {} source(s): converged (quadrature, {} panels of {} \
+                 nodes per parameter after {} grids; largest change at the last doubling {:.3} \
+                 of its tolerance)",
+                model.metric_info().name,
+                model.sources(),
+                q.panels,
+                q.nodes_per_panel,
+                q.grids,
+                q.change
+            )?;
+        } else {
+            outln!(
+                "posterior of {} from {} source(s): converged (max split R-hat {:.4}, min ESS \
+                 {:.0}, acceptance {:.3})",
+                model.metric_info().name,
+                model.sources(),
+                c.rhat,
+                c.ess,
+                c.acceptance
+            )?;
+        }
         for s in &i.summaries {
             let unit = if s.name.starts_with("inclination") {
                 " deg"
@@ -529,15 +608,30 @@ fn print_text(
         }
     }
     outln!("diagnostics:")?;
-    for s in &i.summaries {
-        outln!("  {}: split R-hat {:.4}, ESS {:.0}", s.name, s.rhat, s.ess)?;
+    if i.quadrature.is_some() {
+        for s in &i.summaries {
+            outln!(
+                "  {}: split R-hat not applicable, ESS {:.0} (independent draws)",
+                s.name,
+                s.ess
+            )?;
+        }
+        outln!(
+            "  acceptance not applicable, {} model evaluations, {} solver failures",
+            i.evaluations,
+            i.failures
+        )?;
+    } else {
+        for s in &i.summaries {
+            outln!("  {}: split R-hat {:.4}, ESS {:.0}", s.name, s.rhat, s.ess)?;
+        }
+        outln!(
+            "  acceptance {:.3}, {} model evaluations, {} solver failures",
+            c.acceptance,
+            i.evaluations,
+            i.failures
+        )?;
     }
-    outln!(
-        "  acceptance {:.3}, {} model evaluations, {} solver failures",
-        c.acceptance,
-        i.evaluations,
-        i.failures
-    )?;
     outln!("assumptions:")?;
     for a in assumptions {
         outln!("  - {a}")?;
@@ -595,10 +689,15 @@ fn print_json(
                 .iter()
                 .map(|s| (s.name.clone(), s.ess))
                 .collect(),
-            acceptance: i.convergence.acceptance,
+            acceptance: i
+                .convergence
+                .acceptance
+                .is_finite()
+                .then_some(i.convergence.acceptance),
             converged,
             evaluations: i.evaluations,
             solver_failures: i.failures,
+            quadrature: i.quadrature.clone(),
         },
         tables: model.table_reports(),
         assumptions,

@@ -1,7 +1,10 @@
 //! Sampling a [`PosteriorModel`]: the affine-invariant ensemble sampler for the posterior with
-//! its convergence verdict, or nested sampling for the posterior and the evidence, with the
-//! Bayes factor against the same model with the deviation parameters at their GR values; then
-//! the one-parameter summaries (median, mean, equal-tailed and highest-density intervals).
+//! its convergence verdict, nested sampling for the posterior and the evidence, or, with one
+//! or two sampled parameters, quadrature of the posterior density (evidence, marginals and
+//! independent draws without Monte Carlo error; [`crate::sampling::quadrature`]), the last
+//! two with the Bayes factor against the same model with the deviation parameters at their GR
+//! values; then the one-parameter summaries (median, mean, equal-tailed and highest-density
+//! intervals), from the samples or, for quadrature, from the tabulated marginals.
 //!
 //! The model's evaluations are asked of an [`Evaluator`] in batches: [`ParallelEvaluator`] is
 //! a plain parallel loop; the run layer implements it on the executor (progress, Ctrl-C).
@@ -9,8 +12,9 @@
 use super::{Evaluation, Parameter, PosteriorModel, Role};
 use crate::sampling::summary::Marginal;
 use crate::sampling::{
-    ensemble, nested, Convergence, EnsembleError, EnsembleRun, EnsembleSettings, Halted,
-    LogDensityBatch, NestedError, NestedSettings, Start,
+    ensemble, nested, quadrature, Convergence, EnsembleError, EnsembleRun, EnsembleSettings,
+    Halted, LogDensityBatch, NestedError, NestedSettings, QuadratureError, QuadratureRun,
+    QuadratureSettings, Start,
 };
 use rayon::prelude::*;
 
@@ -48,6 +52,9 @@ pub enum SamplerKind {
     Ensemble,
     /// Nested sampling (Skilling 2006): posterior and evidence.
     Nested,
+    /// Quadrature of the posterior density, one or two sampled parameters: posterior and
+    /// evidence, deterministic ([`crate::sampling::quadrature`]).
+    Quadrature,
 }
 
 /// How to sample.
@@ -71,6 +78,13 @@ pub struct InferSettings {
     pub live_points: usize,
     /// Credible levels of the intervals.
     pub levels: Vec<f64>,
+    /// Quadrature: the independent posterior draws to make.
+    pub samples: usize,
+    /// Quadrature: panels per parameter at most (the grid doubles from 4 panels of 8 nodes).
+    pub max_panels: usize,
+    /// Quadrature: the largest change between two grids of ln Z, and of a reported quantity
+    /// in units of the prior's mass, that counts as converged.
+    pub tolerance: f64,
 }
 
 impl Default for InferSettings {
@@ -84,6 +98,9 @@ impl Default for InferSettings {
             chains: 4,
             live_points: 400,
             levels: vec![0.68, 0.95],
+            samples: 20_000,
+            max_panels: 64,
+            tolerance: 1e-4,
         }
     }
 }
@@ -114,9 +131,9 @@ pub struct ParameterSummary {
     pub mean: f64,
     /// Equal-tailed and highest-density intervals at each level.
     pub intervals: Vec<CredibleInterval>,
-    /// Split-R̂ (ensemble sampler; NaN for nested sampling).
+    /// Split-R̂ (ensemble sampler; NaN for nested sampling and quadrature).
     pub rhat: f64,
-    /// Effective sample size.
+    /// Effective sample size (for quadrature the number of independent draws).
     pub ess: f64,
 }
 
@@ -148,7 +165,7 @@ pub struct Inference {
     pub summaries: Vec<ParameterSummary>,
     /// The convergence verdict (the worst parameter).
     pub convergence: Convergence,
-    /// The evidence, with nested sampling.
+    /// The evidence, with nested sampling and quadrature.
     pub evidence: Option<Evidence>,
     /// Ensemble steps made in all (half of them burn-in; 0 for nested sampling).
     pub steps: usize,
@@ -158,6 +175,30 @@ pub struct Inference {
     pub failures: usize,
     /// The first failure's message.
     pub first_failure: Option<String>,
+    /// How the quadrature refined, with that sampler.
+    pub quadrature: Option<QuadratureReport>,
+}
+
+/// How a quadrature run refined its grid (the model's and its GR limit's).
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
+pub struct QuadratureReport {
+    /// Panels per sampled parameter of the model's last grid.
+    pub panels: usize,
+    /// Gauss–Legendre nodes per panel.
+    pub nodes_per_panel: usize,
+    /// Grids evaluated for the model.
+    pub grids: usize,
+    /// The largest change of a checked quantity between the last two grids over its
+    /// tolerance, the GR model's included (at most 1 when converged).
+    pub change: f64,
+    /// The tolerance (ln Z, and quantities in units of the prior's mass).
+    pub tolerance: f64,
+    /// Whether the model's refinement and the GR model's converged.
+    pub converged: bool,
+    /// With one sampled parameter, where the likelihood changes between zero and non-zero
+    /// inside the prior (in the parameter's units, inclinations in degrees), located by
+    /// bisection; the panels are split there.
+    pub boundaries: Vec<f64>,
 }
 
 /// Why sampling did not give a posterior.
@@ -169,6 +210,9 @@ pub enum InferRunError {
     /// Nested sampling could not run.
     #[error(transparent)]
     Nested(#[from] NestedError),
+    /// The quadrature could not run.
+    #[error(transparent)]
+    Quadrature(#[from] QuadratureError),
     /// The settings cannot give a verdict.
     #[error("{0}")]
     Settings(String),
@@ -209,21 +253,53 @@ impl LogDensityBatch for Density<'_> {
     }
 }
 
+impl InferSettings {
+    /// What [`infer_on`] checks before any evaluation, for a model sampling the parameters
+    /// `names`: the levels, the ensemble's chains, and at most two parameters for
+    /// quadrature.
+    ///
+    /// ```
+    /// use umbral::posterior::{InferSettings, SamplerKind};
+    /// let s = InferSettings { sampler: SamplerKind::Quadrature, ..Default::default() };
+    /// assert!(s.check(&["q", "a@1"]).is_ok());
+    /// let e = s.check(&["q", "a@1", "inclination@1"]).unwrap_err().to_string();
+    /// assert!(e.contains("samples 3 (q, a@1, inclination@1)"));
+    /// ```
+    pub fn check(&self, names: &[&str]) -> Result<(), InferRunError> {
+        if self.levels.iter().any(|&l| !(l > 0.0 && l < 1.0)) {
+            return Err(InferRunError::Settings(
+                "credible levels must lie strictly between 0 and 1".into(),
+            ));
+        }
+        if self.sampler == SamplerKind::Ensemble && self.chains < 4 {
+            return Err(InferRunError::Settings(format!(
+                "split-R-hat needs at least 4 independent chains, got {}",
+                self.chains
+            )));
+        }
+        if self.sampler == SamplerKind::Quadrature && names.len() > 2 {
+            return Err(InferRunError::Settings(format!(
+                "quadrature integrates one or two sampled parameters; this model samples {} \
+                 ({}): use the ensemble sampler or nested sampling",
+                names.len(),
+                names.join(", ")
+            )));
+        }
+        Ok(())
+    }
+}
+
 /// Sample `model` as `settings` ask, its evaluations made by `evaluator`.
 pub fn infer_on(
     model: &PosteriorModel,
     settings: &InferSettings,
     evaluator: &mut dyn Evaluator,
 ) -> Result<Inference, InferRunError> {
-    if settings.levels.iter().any(|&l| !(l > 0.0 && l < 1.0)) {
-        return Err(InferRunError::Settings(
-            "credible levels must lie strictly between 0 and 1".into(),
-        ));
-    }
+    settings.check(&model.names())?;
     let mut density = Density {
         model,
         evaluator,
-        likelihood: settings.sampler == SamplerKind::Nested,
+        likelihood: settings.sampler != SamplerKind::Ensemble,
         evaluations: 0,
         failures: 0,
         first_failure: None,
@@ -231,17 +307,12 @@ pub fn infer_on(
     let mut steps = 0;
     let (samples, rhat, ess, convergence, evidence) = match settings.sampler {
         SamplerKind::Ensemble => {
-            if settings.chains < 4 {
-                return Err(InferRunError::Settings(format!(
-                    "split-R-hat needs at least 4 independent chains, got {}",
-                    settings.chains
-                )));
-            }
             let (run, rhat, ess, convergence) =
                 ensemble_until_converged(&mut density, model, settings)?;
             steps = 2 * run.chains[0].draws.len();
             (run.samples, rhat, ess, convergence, None)
         }
+        SamplerKind::Quadrature => return infer_by_quadrature(density, model, settings),
         SamplerKind::Nested => {
             let nested_settings = NestedSettings {
                 live_points: settings.live_points,
@@ -249,7 +320,7 @@ pub fn infer_on(
                 ..Default::default()
             };
             let run = nested(&mut density, &model.priors(), &nested_settings)?;
-            let gr = gr_evidence(model, &nested_settings, &mut density)?;
+            let (gr, _) = gr_evidence(model, &GrMethod::Nested(&nested_settings), &mut density)?;
             let kish = run.equal_weight.len() as f64;
             let evidence = Evidence {
                 log_evidence: run.log_evidence,
@@ -282,6 +353,78 @@ pub fn infer_on(
         evaluations: density.evaluations,
         failures: density.failures,
         first_failure: density.first_failure,
+        quadrature: None,
+    })
+}
+
+/// [`infer_on`] by quadrature: the model's posterior and evidence, the GR model's evidence,
+/// the summaries from the tabulated marginals.
+fn infer_by_quadrature(
+    mut density: Density<'_>,
+    model: &PosteriorModel,
+    settings: &InferSettings,
+) -> Result<Inference, InferRunError> {
+    let quadrature_settings = QuadratureSettings {
+        max_panels: settings.max_panels,
+        tolerance: settings.tolerance,
+        levels: settings.levels.clone(),
+        samples: settings.samples,
+        seed: settings.seed,
+        ..Default::default()
+    };
+    let run = quadrature(&mut density, &model.priors(), &quadrature_settings)?;
+    // The GR model's evidence alone: no draws.
+    let gr_settings = QuadratureSettings {
+        samples: 0,
+        ..quadrature_settings
+    };
+    let (gr, gr_run) = gr_evidence(model, &GrMethod::Quadrature(&gr_settings), &mut density)?;
+    let evidence = Evidence {
+        log_evidence: run.log_evidence,
+        log_evidence_error: run.log_evidence_error,
+        log_evidence_gr: gr.0,
+        log_evidence_gr_error: gr.1,
+        log_bayes_factor: run.log_evidence - gr.0,
+        log_bayes_factor_error: run.log_evidence_error.hypot(gr.1),
+    };
+    let report = QuadratureReport {
+        panels: run.panels,
+        nodes_per_panel: run.nodes,
+        grids: run.grids,
+        change: gr_run
+            .as_ref()
+            .map_or(run.change, |g| run.change.max(g.change)),
+        tolerance: settings.tolerance,
+        converged: run.converged && gr_run.as_ref().is_none_or(|g| g.converged),
+        boundaries: match model.sampled().first() {
+            Some(p) => run
+                .boundaries
+                .iter()
+                .map(|b| b * display_scale(p))
+                .collect(),
+            None => Vec::new(),
+        },
+    };
+    let draws = run.samples.len() as f64;
+    let summaries = tabulated_summaries(&model.sampled(), &run, draws, &settings.levels)?;
+    Ok(Inference {
+        names: model.names().iter().map(|s| s.to_string()).collect(),
+        samples: run.samples,
+        summaries,
+        // Nothing is sampled by a Markov chain: no R-hat, no acceptance; every draw is
+        // independent; the verdict is the refinement's.
+        convergence: Convergence {
+            rhat: f64::NAN,
+            ess: draws,
+            acceptance: f64::NAN,
+            converged: report.converged,
+        },
+        evidence: Some(evidence),
+        steps: 0,
+        evaluations: density.evaluations,
+        failures: density.failures,
+        first_failure: density.first_failure,
+        quadrature: Some(report),
     })
 }
 
@@ -367,14 +510,20 @@ fn verdict(run: &EnsembleRun) -> (Vec<f64>, Vec<f64>, Convergence) {
     )
 }
 
+/// How the GR model's evidence is computed when something is left to sample.
+enum GrMethod<'a> {
+    Nested(&'a NestedSettings),
+    Quadrature(&'a QuadratureSettings),
+}
+
 /// ln Z and its error for the model with its shared parameters at their GR values (the
-/// metric's defaults): nested sampling when something is left to sample, else the likelihood
-/// at the one point (exact).
+/// metric's defaults): nested sampling or quadrature when something is left to sample (with
+/// the quadrature's run, for its verdict), else the likelihood at the one point (exact).
 fn gr_evidence(
     model: &PosteriorModel,
-    settings: &NestedSettings,
+    method: &GrMethod<'_>,
     density: &mut Density<'_>,
-) -> Result<(f64, f64), InferRunError> {
+) -> Result<((f64, f64), Option<QuadratureRun>), InferRunError> {
     let defaults = model.metric_info().parameters;
     let gr_value = |name: &str| {
         defaults
@@ -391,7 +540,7 @@ fn gr_evidence(
             density.first_failure.get_or_insert(f);
         }
         density.evaluations += 1;
-        return Ok((e.log_likelihood, 0.0));
+        return Ok(((e.log_likelihood, 0.0), None));
     }
     let mut gr_density = Density {
         model: &gr,
@@ -401,13 +550,73 @@ fn gr_evidence(
         failures: 0,
         first_failure: None,
     };
-    let run = nested(&mut gr_density, &gr.priors(), settings)?;
+    let (evidence, run) = match method {
+        GrMethod::Nested(settings) => {
+            let run = nested(&mut gr_density, &gr.priors(), settings)?;
+            ((run.log_evidence, run.log_evidence_error), None)
+        }
+        GrMethod::Quadrature(settings) => {
+            let run = quadrature(&mut gr_density, &gr.priors(), settings)?;
+            ((run.log_evidence, run.log_evidence_error), Some(run))
+        }
+    };
     density.evaluations += gr_density.evaluations;
     density.failures += gr_density.failures;
     if let Some(f) = gr_density.first_failure {
         density.first_failure.get_or_insert(f);
     }
-    Ok((run.log_evidence, run.log_evidence_error))
+    Ok((evidence, run))
+}
+
+/// The scale of a parameter's summaries: degrees for an inclination.
+fn display_scale(p: &Parameter) -> f64 {
+    if matches!(p.role, Role::Inclination { .. }) {
+        180.0 / std::f64::consts::PI
+    } else {
+        1.0
+    }
+}
+
+/// Median, mean and intervals of each sampled parameter from the quadrature's tabulated
+/// marginals (inclinations in degrees); R-hat NaN, ESS the number of independent draws.
+fn tabulated_summaries(
+    params: &[&Parameter],
+    run: &QuadratureRun,
+    draws: f64,
+    levels: &[f64],
+) -> Result<Vec<ParameterSummary>, InferRunError> {
+    let summary = |e: crate::sampling::summary::SummaryError| InferRunError::Summary(e.to_string());
+    let mut out = Vec::new();
+    for (p, m) in params.iter().zip(&run.marginals) {
+        let scale = display_scale(p);
+        let mut intervals = Vec::new();
+        for &level in levels {
+            let [low, high] = m.equal_tailed(level).map_err(summary)?;
+            intervals.push(CredibleInterval {
+                confidence: level,
+                kind: "equal-tailed",
+                low: low * scale,
+                high: high * scale,
+            });
+            let [low, high] = m.highest_density(level).map_err(summary)?;
+            intervals.push(CredibleInterval {
+                confidence: level,
+                kind: "highest-density",
+                low: low * scale,
+                high: high * scale,
+            });
+        }
+        out.push(ParameterSummary {
+            name: p.name.clone(),
+            prior: p.prior.to_string(),
+            median: m.median() * scale,
+            mean: m.mean() * scale,
+            intervals,
+            rhat: f64::NAN,
+            ess: draws,
+        });
+    }
+    Ok(out)
 }
 
 /// Median, mean and intervals of each sampled parameter (inclinations in degrees).
@@ -421,11 +630,7 @@ fn summarise(
     let summary = |e: crate::sampling::summary::SummaryError| InferRunError::Summary(e.to_string());
     let mut out = Vec::new();
     for (i, p) in params.iter().enumerate() {
-        let scale = if matches!(p.role, Role::Inclination { .. }) {
-            180.0 / std::f64::consts::PI
-        } else {
-            1.0
-        };
+        let scale = display_scale(p);
         let column: Vec<f64> = samples.iter().map(|s| s[i] * scale).collect();
         let m = Marginal::new(&column).map_err(summary)?;
         let mut intervals = Vec::new();

@@ -45,7 +45,7 @@ pub mod table;
 
 pub use infer::{
     infer_on, Evaluator, Evidence, InferRunError, InferSettings, Inference, ParallelEvaluator,
-    ParameterSummary, SamplerKind,
+    ParameterSummary, QuadratureReport, SamplerKind,
 };
 pub use parameters::{Parameter, Role};
 pub use source::{RingValues, SourceTerm};

@@ -1,14 +1,14 @@
 //! A posterior ([`crate::posterior::infer_on`]) on the run executor: every batch of model
 //! evaluations the sampler asks for (a half-step of the ensembles, a step of nested sampling's
-//! walks) is a batch of work items, so observers see the evaluations and the stage
-//! (`step 12 of 1000`), and a stop request ends the run once the evaluations in progress
-//! finish. A stopped sampler has no posterior: nothing partial is reported as a result.
+//! walks, a quadrature grid) is a batch of work items, so observers see the evaluations and
+//! the stage (`step 12 of 1000`), and a stop request ends the run once the evaluations in
+//! progress finish. A stopped sampler has no posterior: nothing partial is reported as a result.
 
 use super::{Controls, Executor, RunError, Selection, WorkList};
 use crate::posterior::{
     infer_on, Evaluation, Evaluator, InferRunError, InferSettings, Inference, PosteriorModel,
 };
-use crate::sampling::{EnsembleError, Halted, NestedError};
+use crate::sampling::{EnsembleError, Halted, NestedError, QuadratureError};
 
 /// Why a posterior run on the executor gave no posterior.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -40,6 +40,7 @@ pub fn infer_with(
         result,
         Err(InferRunError::Ensemble(EnsembleError::Halted(_)))
             | Err(InferRunError::Nested(NestedError::Halted(_)))
+            | Err(InferRunError::Quadrature(QuadratureError::Halted(_)))
     );
     if halted {
         return Err(InferStop::Interrupted {

@@ -1,11 +1,12 @@
 //! Sampling a log-density over ℝᵈ: priors, the affine-invariant ensemble sampler, nested
-//! sampling, convergence diagnostics, kernel density estimates, interval summaries and
-//! histograms.
+//! sampling, quadrature in one or two dimensions, convergence diagnostics, kernel density
+//! estimates, interval summaries and histograms.
 //!
 //! Nothing here knows about black holes: a model is a function from a parameter vector to a
-//! log-density (a log-posterior for [`ensemble()`], a log-likelihood for [`nested()`]). The
-//! samplers ask a [`LogDensityBatch`] for batches of independent evaluations, so one
-//! half-step of the ensemble or one step of the constrained walks is one parallel batch;
+//! log-density (a log-posterior for [`ensemble()`], a log-likelihood for [`nested()`] and
+//! [`quadrature()`]). The samplers ask a [`LogDensityBatch`] for batches of independent
+//! evaluations, so one half-step of the ensemble, one step of the constrained walks or one
+//! quadrature grid is one parallel batch;
 //! [`ParallelDensity`] is a plain rayon loop, and a program that wants progress or Ctrl-C
 //! implements the trait itself and may stop a run with [`Halted`].
 //!
@@ -36,6 +37,7 @@ pub mod kde;
 pub mod nested;
 pub mod normal;
 pub mod prior;
+pub mod quadrature;
 pub mod summary;
 
 pub use batch::{Halted, LogDensityBatch, ParallelDensity};
@@ -43,6 +45,7 @@ pub use diagnostics::Convergence;
 pub use ensemble::{ensemble, EnsembleError, EnsembleRun, EnsembleSettings, Start};
 pub use nested::{nested, NestedError, NestedRun, NestedSettings};
 pub use prior::{Prior, PriorError};
+pub use quadrature::{quadrature, QuadratureError, QuadratureRun, QuadratureSettings};
 
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
