@@ -15,9 +15,9 @@
 //!
 //! For a metric whose shadow needs the ray tracer, tracing at every sample would take hours:
 //! each source's size (and circularity deviation) is instead interpolated in a table over the
-//! sampled parameters that determine its shadow ([`table`]), built once as a scan
-//! (`crate::scan::table`); the table's estimated interpolation error is reported, and a table
-//! whose error exceeds a tenth of a measurement's sigma is refused.
+//! sampled parameters that determine its shadow ([`table`]), built once as a scan (the `table`
+//! module of `scan`); the table's estimated interpolation error is reported, and a table whose
+//! error exceeds a tenth of a measurement's sigma is refused.
 //!
 //! ```
 //! use umbral::measurement::Measurement;

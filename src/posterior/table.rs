@@ -4,7 +4,8 @@
 //! thousands of likelihood evaluations cannot trace at every sample. Instead the size (and the
 //! circularity deviation, if a source needs it) is tabulated on a uniform grid over the box of
 //! the sampled parameters that determine a source's shadow (the shared deviation parameters, its
-//! spin), built once by the run executor as a scan (`crate::scan::table`), and interpolated.
+//! spin), built once by the run executor as a scan (the `table` module of `scan`), and
+//! interpolated.
 //!
 //! **Interpolation.** Tensor-product piecewise-cubic Lagrange interpolation on the 4 nearest
 //! nodes of each axis (the stencil shifted inwards at the edges), error O(h⁴) for a smooth
