@@ -550,3 +550,47 @@ fn circle_of_100000_points_is_exact() {
     );
     assert!(obs.circularity_deviation < 1e-14);
 }
+
+/// The mean radius and circularity deviation about the centroid from the samples alone
+/// (`centroid_size`, a contour integral in the sampling angle) equal the observables' (rays from
+/// the centroid): on the 4:3 ellipse against its closed form (above; Abramowitz & Stegun 1964,
+/// 17.3), and on Kerr curves whose centroid lies far from the origin they were sampled about
+/// (a = 0.99 shifts it by about 2 M; Bardeen 1973 for the curve).
+#[test]
+fn centroid_size_from_the_samples_equals_the_observables() {
+    use umbral::observables::centroid_size;
+    use umbral::prelude::*;
+    let (a, b) = (4.0f64, 3.0f64);
+    let ellipse = |p: f64| a * b / ((b * p.cos()).powi(2) + (a * p.sin()).powi(2)).sqrt();
+    let mean = 2.0 * b / PI * elliptic_k(1.0 - b * b / (a * a));
+    let exact = (a * b / (mean * mean) - 1.0).sqrt();
+    let (m, c) = centroid_size(&CriticalCurve::from_polar([0.6, -0.4], 256, ellipse)).unwrap();
+    assert!(
+        (m - mean).abs() < 1e-12 && (c - exact).abs() < 1e-12,
+        "{m} {c}"
+    );
+    for spin in [0.5, 0.9, 0.99] {
+        let kerr = Kerr::new(spin).unwrap();
+        for degrees in [17.0f64, 60.0, 90.0] {
+            let mut request = ShadowRequest::distant(degrees.to_radians()).curve_only();
+            request.settings.points = 64;
+            let result = shadow(&kerr, &request).unwrap();
+            let o = result.observables.unwrap();
+            let (m, c) = centroid_size(result.result.curve.as_ref().unwrap()).unwrap();
+            assert!(
+                (m - o.mean_radius).abs() < 1e-10,
+                "a {spin}, {degrees}: {m} vs {}",
+                o.mean_radius
+            );
+            assert!(
+                (c - o.circularity_deviation).abs() < 1e-9,
+                "a {spin}, {degrees}: {c} vs {}",
+                o.circularity_deviation
+            );
+        }
+    }
+    // A curve with a non-finite sample has no answer.
+    let broken =
+        CriticalCurve::from_polar([0.0, 0.0], 16, |p| if p > 3.0 { f64::NAN } else { 5.0 });
+    assert!(centroid_size(&broken).is_none());
+}

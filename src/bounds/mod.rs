@@ -507,6 +507,12 @@ pub(crate) fn measure_curve(
     if curve.origin == [0.0, 0.0] && lo == hi && lo.is_finite() && lo > 0.0 {
         return Ok((lo, 0.0));
     }
+    if measure == SizeMeasure::Mean {
+        // The same mean radius and circularity as the observables', from the samples alone.
+        if let Some(size) = crate::observables::centroid_size(curve) {
+            return Ok(size);
+        }
+    }
     if measure == SizeMeasure::Area && !want_circularity {
         // Area = ½∮R(ψ)² dψ by the periodic trapezoid rule, as in `Observables`.
         let n = curve.radii.len() as f64;

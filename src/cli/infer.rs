@@ -13,13 +13,16 @@ use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use umbral::measurement::Measurement;
 use umbral::output::OutputTransaction;
+use umbral::posterior::table::MIN_NODES;
 use umbral::posterior::{
     Evidence, InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel,
-    QuadratureReport, SamplerKind,
+    QuadratureReport, SamplerKind, TableReport,
 };
 use umbral::run::infer::{infer_with, InferStop};
 use umbral::run::Controls;
 use umbral::sampling::{Prior, QuadratureSettings};
+use umbral::scan::table::{build_tables, TableBuildError};
+use umbral::scan::ScanError;
 
 /// The fewest ensemble steps: split-R-hat below 1.01 needs each half of the kept steps to
 /// span about 50 autocorrelation times (R-hat - 1 is about (tau - 1)/(2 n) for halves of n
@@ -99,6 +102,20 @@ pub struct InferArgs {
     /// Write the posterior samples to DIR/samples.csv (the folder is created if needed).
     #[arg(long, value_name = "DIR")]
     out: Option<PathBuf>,
+    /// Interpolate each source's shadow in a table over its sampled metric parameters even
+    /// when an exact solver applies (always done for a metric whose shadow needs the ray
+    /// tracer; the table's estimated error is printed and must stay within a tenth of the
+    /// measurement's sigma).
+    #[arg(long)]
+    tabulate: bool,
+    /// Nodes per table axis (5 to 201).
+    #[arg(long = "table-nodes", value_name = "N", default_value_t = umbral::posterior::TABLE_NODES)]
+    table_nodes: usize,
+    /// Folder of the table files, umbral-table-HASH.jsonl (a later run with the same table
+    /// reads it; an interrupted build resumes from it). Default: --out's folder, else the
+    /// current folder.
+    #[arg(long = "table-dir", value_name = "DIR")]
+    table_dir: Option<PathBuf>,
     /// Write a corner plot of the posterior (SVG): every sampled parameter, or when there are
     /// more than 6 the shared ones and each source's spin and inclination. Like the samples,
     /// only a converged run writes it.
@@ -293,6 +310,8 @@ struct JsonReport<'a> {
     parameters: Option<BTreeMap<String, JsonParameter>>,
     evidence: Option<Evidence>,
     diagnostics: JsonDiagnostics,
+    /// The interpolation tables (ray-traced metrics or --tabulate), with their errors.
+    tables: Vec<TableReport>,
     assumptions: &'a [String],
 }
 
@@ -333,13 +352,31 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     let mut request = InferenceRequest::new(metric, priors(&args.priors)?, sources);
     request.size_measure = args.size_measure.measure();
     request.require_horizon = args.require_horizon;
+    request.tabulate = args.tabulate;
+    if !(MIN_NODES..=201).contains(&args.table_nodes) {
+        return Err(CliError::usage(format!(
+            "--table-nodes: give {MIN_NODES} to 201, got {}",
+            args.table_nodes
+        )));
+    }
+    request.table_nodes = args.table_nodes;
     let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
     let dim = model.names().len();
     let settings = settings(args, dim)?;
     settings
         .check(&model.names())
         .map_err(|e| CliError::usage(e.to_string()))?;
+    if model.needs_tables() {
+        model
+            .table_plans()
+            .map_err(|e| CliError::usage(e.to_string()))?;
+    }
     let (mut outputs, csv_path) = stage_outputs(args)?;
+    let model = if model.needs_tables() {
+        with_tables(model, args, progress)?
+    } else {
+        model
+    };
     let mut display = progress.display(None)?;
     let result = {
         let _graceful = interrupt::Graceful::enter("model evaluations");
@@ -394,6 +431,47 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     }
     outputs.commit()?;
     Ok(ExitCode::SUCCESS)
+}
+
+/// The model with its tables, built (or read) on the executor with progress; Ctrl-C keeps
+/// the finished nodes in the table file.
+fn with_tables(
+    model: PosteriorModel,
+    args: &InferArgs,
+    progress: &ProgressArgs,
+) -> Result<PosteriorModel, CliError> {
+    let dir = match (&args.table_dir, &args.out) {
+        (Some(dir), _) | (None, Some(dir)) => dir.clone(),
+        (None, None) => PathBuf::from("."),
+    };
+    std::fs::create_dir_all(&dir).map_err(|e| {
+        CliError::usage(format!("--table-dir {}: cannot create: {e}", dir.display()))
+    })?;
+    let mut display = progress.display(None)?;
+    let built = {
+        let _graceful = interrupt::Graceful::enter("table nodes");
+        let controls = Controls {
+            observers: vec![display.as_mut()],
+            stop: Some(interrupt::stop_flag()),
+        };
+        build_tables(&model, &dir, controls)
+    };
+    drop(display);
+    let tables = match built {
+        Ok(t) => t,
+        Err(TableBuildError::Scan {
+            error: e @ ScanError::Interrupted { .. },
+            number,
+        }) => {
+            return Err(CliError::interrupted(format!(
+                "table for source {number}: {e}"
+            )))
+        }
+        Err(e) => return Err(CliError::usage(e.to_string())),
+    };
+    model
+        .with_tables(tables)
+        .map_err(|e| CliError::usage(e.to_string()))
 }
 
 /// Write the corner plot of a converged run to its staged file.
@@ -501,6 +579,20 @@ fn print_text(
                 )?;
             }
         }
+        for t in model.table_reports() {
+            outln!(
+                "shadows of source {} from a table of {} nodes: estimated interpolation error \
+                 {:.2e} r_sh/M in the size (allowed {:.2e}){}",
+                t.source,
+                t.nodes,
+                t.size_error,
+                t.size_limit,
+                match t.circularity_error {
+                    Some(e) => format!(", {e:.2e} in the circularity deviation"),
+                    None => String::new(),
+                }
+            )?;
+        }
         if let Some(e) = &i.evidence {
             outln!(
                 "evidence: ln Z = {:.4} +- {:.4}; GR (shared parameters at the metric's \
@@ -607,6 +699,7 @@ fn print_json(
             solver_failures: i.failures,
             quadrature: i.quadrature.clone(),
         },
+        tables: model.table_reports(),
         assumptions,
     };
     let text = serde_json::to_string_pretty(&report)

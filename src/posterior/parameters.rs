@@ -176,6 +176,7 @@ fn assign(
         }
         None => (name, None),
     };
+    let given = prior;
     let prior = if base == INCLINATION {
         inclination_prior(prior).map_err(|problem| InferError::Prior {
             name: name.to_string(),
@@ -192,7 +193,7 @@ fn assign(
         };
         if p_base == base && (source.is_none() || source == p_source) {
             p.prior = prior;
-            p.origin = format!("--prior {name}={prior}");
+            p.origin = format!("--prior {name}={given}");
             matched += 1;
         }
     }

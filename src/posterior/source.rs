@@ -42,6 +42,8 @@ pub enum SizeTerm {
         kde: Kde,
         /// Of which quantity.
         quantity: SamplesQuantity,
+        /// The samples' standard deviation.
+        spread: f64,
     },
 }
 
@@ -95,6 +97,7 @@ impl SourceTerm {
                     problem: format!("[size.samples]: {e}"),
                 })?,
                 quantity: s.quantity,
+                spread: standard_deviation(&s.values),
             },
         };
         if let SizeTerm::Ring { diameter_uas, .. } = &size {
@@ -135,7 +138,7 @@ impl SourceTerm {
                 }
                 gaussian_log_density(diameter_uas, ring.kappa * 2.0 * r * theta_g)
             }
-            SizeTerm::Samples { kde, quantity } => kde.log_density(match quantity {
+            SizeTerm::Samples { kde, quantity, .. } => kde.log_density(match quantity {
                 SamplesQuantity::ShadowRadius => r,
                 SamplesQuantity::FractionalDeviation => r / SCHWARZSCHILD_SHADOW_RADIUS - 1.0,
             }),
@@ -174,7 +177,7 @@ impl SourceTerm {
                     "theta_g"
                 }
             ),
-            SizeTerm::Samples { kde, quantity } => format!(
+            SizeTerm::Samples { kde, quantity, .. } => format!(
                 "source {n}: the Gaussian kernel density estimate of the measurement's samples \
                  of {} (Silverman's rule, bandwidth {:.6})",
                 match quantity {
@@ -197,8 +200,42 @@ impl SourceTerm {
         out
     }
 
+    /// The size measurement's sigma in r_sh/M: the smaller error of a value (δ's times 3√3);
+    /// for a ring, the diameter's relative error times `smallest_size`, the smallest predicted
+    /// size (d ∝ r_sh, so δd/d = δr/r); for samples, their standard deviation.
+    pub fn size_sigma(&self, smallest_size: f64) -> f64 {
+        match &self.size {
+            SizeTerm::Radius(v) => v.minus.min(v.plus),
+            SizeTerm::Deviation(v) => v.minus.min(v.plus) * SCHWARZSCHILD_SHADOW_RADIUS,
+            SizeTerm::Ring { diameter_uas, .. } => {
+                diameter_uas.sigma / diameter_uas.value.abs() * smallest_size
+            }
+            SizeTerm::Samples {
+                quantity, spread, ..
+            } => match quantity {
+                SamplesQuantity::ShadowRadius => *spread,
+                SamplesQuantity::FractionalDeviation => spread * SCHWARZSCHILD_SHADOW_RADIUS,
+            },
+        }
+    }
+
+    /// The circularity limit's sigma (a soft limit's; none for a hard cut or no limit).
+    pub fn circularity_sigma(&self) -> Option<f64> {
+        match self.circularity {
+            Some(CircularityLimit::Soft { sigma, .. }) => Some(sigma),
+            _ => None,
+        }
+    }
+
     /// Whether the likelihood needs the circularity deviation.
     pub fn needs_circularity(&self) -> bool {
         self.circularity.is_some()
     }
+}
+
+/// The sample standard deviation (n − 1 in the denominator).
+fn standard_deviation(values: &[f64]) -> f64 {
+    let n = values.len() as f64;
+    let mean = values.iter().sum::<f64>() / n;
+    (values.iter().map(|x| (x - mean).powi(2)).sum::<f64>() / (n - 1.0)).sqrt()
 }

@@ -309,7 +309,7 @@ fn cos_difference(a: f64, b: f64) -> f64 {
 }
 
 /// The shortest decimal number of degrees that reads back to the angle `radians`.
-fn degrees(radians: f64) -> Num {
+pub(crate) fn degrees(radians: f64) -> Num {
     let exact = radians.to_degrees();
     for digits in 0..17 {
         let d: f64 = format!("{exact:.digits$e}").parse().unwrap_or(exact);
