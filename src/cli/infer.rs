@@ -183,8 +183,8 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
     })
 }
 
-/// What the sampler did, in words.
-fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
+/// What the sampler did, in words (`steps`: the steps made in all).
+fn sampler_assumption(s: &InferSettings, steps: usize) -> String {
     match s.sampler {
         SamplerKind::Ensemble => format!(
             "sampler: affine-invariant ensemble (Goodman & Weare 2010), {} independent ensembles \
@@ -192,12 +192,7 @@ fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
              the first half is burn-in, seed {}; converged \
              means split R-hat < 1.01 over the independent ensembles (each one's walker-mean \
              trajectory; Vehtari et al. 2021) and bulk ESS >= 400",
-            s.chains,
-            walkers(dim),
-            steps,
-            s.steps,
-            s.max_steps,
-            s.seed
+            s.chains, s.walkers, steps, s.steps, s.max_steps, s.seed
         ),
         SamplerKind::Nested => format!(
             "sampler: nested sampling (Skilling 2006), {} live points, seed {}; the GR model \
@@ -206,6 +201,27 @@ fn sampler_assumption(s: &InferSettings, dim: usize, steps: usize) -> String {
             s.live_points, s.seed
         ),
     }
+}
+
+/// Everything a posterior assumed: the model's priors and likelihoods, the sampler, and the
+/// solver failures given zero likelihood.
+pub(super) fn assumptions(
+    model: &PosteriorModel,
+    settings: &InferSettings,
+    inference: &Inference,
+) -> Vec<String> {
+    let mut assumptions = model.assumptions();
+    assumptions.push(sampler_assumption(settings, inference.steps));
+    if inference.failures > 0 {
+        assumptions.push(format!(
+            "{} of {} model evaluations failed in the shadow solver and were given zero \
+             likelihood (first: {})",
+            inference.failures,
+            inference.evaluations,
+            inference.first_failure.as_deref().unwrap_or("no message")
+        ));
+    }
+    assumptions
 }
 
 #[derive(Serialize)]
@@ -308,17 +324,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         }
         Err(InferStop::Run(e)) => return Err(CliError::usage(e.to_string())),
     };
-    let mut assumptions = model.assumptions();
-    assumptions.push(sampler_assumption(&settings, dim, inference.steps));
-    if inference.failures > 0 {
-        assumptions.push(format!(
-            "{} of {} model evaluations failed in the shadow solver and were given zero \
-             likelihood (first: {})",
-            inference.failures,
-            inference.evaluations,
-            inference.first_failure.as_deref().unwrap_or("no message")
-        ));
-    }
+    let assumptions = assumptions(&model, &settings, &inference);
     let verdict = verdict(&inference);
     if let Some((temp, path)) = &csv_path {
         if verdict.is_none() {
@@ -330,7 +336,14 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         write_corner_plot(&mut outputs, path, &model, &inference)?;
     }
     if args.json {
-        print_json(args, &model, &inference, &assumptions, verdict.is_none())?;
+        let report = json_report(
+            &args.measurement,
+            &model,
+            &inference,
+            &assumptions,
+            verdict.is_none(),
+        )?;
+        outln!("{report}")?;
     } else {
         print_text(&model, &inference, &assumptions, verdict.as_deref())?;
     }
@@ -342,7 +355,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
 }
 
 /// Write the corner plot of a converged run to its staged file.
-fn write_corner_plot(
+pub(super) fn write_corner_plot(
     outputs: &mut OutputTransaction,
     path: &str,
     model: &PosteriorModel,
@@ -353,12 +366,12 @@ fn write_corner_plot(
         k => format!("{k} sources"),
     };
     let title = format!("{}: posterior from {sources}", model.metric_info().name);
-    let svg = corner_plot(path, &title, inference, model.sources())?;
+    let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
     write_plot(outputs, path, &svg)
 }
 
 /// Why the run is not a posterior to report (`None`: it is).
-fn verdict(i: &Inference) -> Option<String> {
+pub(super) fn verdict(i: &Inference) -> Option<String> {
     let c = &i.convergence;
     let mut why = Vec::new();
     if !c.converged {
@@ -453,13 +466,15 @@ fn print_text(
     Ok(())
 }
 
-fn print_json(
-    args: &InferArgs,
+/// The JSON report of a run (`measurements`: the files as named): the summaries only when it
+/// converged, the diagnostics and the assumptions always.
+pub(super) fn json_report(
+    measurements: &[String],
     model: &PosteriorModel,
     i: &Inference,
     assumptions: &[String],
     converged: bool,
-) -> Result<(), CliError> {
+) -> Result<String, CliError> {
     let parameters = converged.then(|| {
         i.summaries
             .iter()
@@ -489,7 +504,7 @@ fn print_json(
             .iter()
             .map(|p| (p.name.clone(), p.prior.to_string()))
             .collect(),
-        measurements: &args.measurement,
+        measurements,
         parameters,
         evidence: if converged { i.evidence } else { None },
         diagnostics: JsonDiagnostics {
@@ -510,15 +525,13 @@ fn print_json(
         },
         assumptions,
     };
-    let text = serde_json::to_string_pretty(&report)
-        .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
-    outln!("{text}")?;
-    Ok(())
+    serde_json::to_string_pretty(&report)
+        .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))
 }
 
 /// The samples as CSV: `#` lines naming the assumptions, a header naming every column
 /// (inclinations in degrees), one row per sample.
-fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
+pub(super) fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
     let mut text = String::from("# umbral infer: posterior samples (equally weighted)\n");
     for a in assumptions {
         text.push_str(&format!("# {a}\n"));
