@@ -12,6 +12,7 @@ use common::{scratch, snapshot, Invocation};
 use serde_json::Value;
 use std::collections::BTreeSet;
 use std::path::PathBuf;
+use std::time::Duration;
 
 /// The thread counts of the three runs: 1, 2, and 2 again (a second run).
 const RUNS: [&str; 3] = ["1", "2", "2"];
@@ -135,11 +136,11 @@ fn comparable(name: &str, bytes: &[u8]) -> Vec<u8> {
 
 /// Run `args` three times (fresh folder each), and compare stdout and every file written.
 fn assert_deterministic(label: &str, args: &[&str]) {
-    assert_deterministic_at(label, args, &RUNS);
+    assert_deterministic_at(label, args, &RUNS, common::DEFAULT_TIMEOUT);
 }
 
-/// Run `args` once per thread count in `threads` and compare.
-fn assert_deterministic_at(label: &str, args: &[&str], thread_counts: &[&str]) {
+/// Run `args` once per thread count in `threads`, each killed after `timeout`, and compare.
+fn assert_deterministic_at(label: &str, args: &[&str], thread_counts: &[&str], timeout: Duration) {
     let mut runs: Vec<Vec<(PathBuf, Vec<u8>)>> = Vec::new();
     for (i, threads) in thread_counts.iter().enumerate() {
         let dir = scratch("determinism", &format!("{label}-{i}"));
@@ -147,9 +148,9 @@ fn assert_deterministic_at(label: &str, args: &[&str], thread_counts: &[&str]) {
             .iter()
             .map(|a| a.replace("{repo}", env!("CARGO_MANIFEST_DIR")))
             .collect();
-        let out = Invocation::new(&dir, &args)
-            .env("RAYON_NUM_THREADS", threads)
-            .run();
+        let mut invocation = Invocation::new(&dir, &args).env("RAYON_NUM_THREADS", threads);
+        invocation.timeout = timeout;
+        let out = invocation.run();
         assert_eq!(
             out.code,
             Some(0),
@@ -397,12 +398,19 @@ fn metrics_and_geometry_json() {
     );
 }
 
-/// The demo runs the whole chain (shadows, two bounds with a spin nuisance, a scan, checks):
-/// its results.json, report, scan file and figures must all repeat. It is the slowest command,
-/// so it runs twice, not three times: at 1 and at 2 threads (two separate runs).
+/// The demo runs the whole chain (shadows, two bounds with a spin nuisance, a posterior, a
+/// scan, checks): its results.json, report, posterior files, scan file and figures must all
+/// repeat. It is the slowest command (its posterior takes some 640 000 model evaluations,
+/// about half a minute on one core), so it runs twice, not three times: at 1 and at 2 threads
+/// (two separate runs), each given five minutes before it is killed as hung.
 #[test]
 fn demo_outputs() {
-    assert_deterministic_at("demo", &["demo", "--out", "out"], &["1", "2"]);
+    assert_deterministic_at(
+        "demo",
+        &["demo", "--out", "out"],
+        &["1", "2"],
+        Duration::from_secs(300),
+    );
 }
 
 #[test]

@@ -422,9 +422,10 @@ fn no_command_leaves_a_temporary_behind_on_failure() {
         assert_eq!(&listing(&dir), survivors, "{a:?}");
     }
     // The demo fails late when one of its files cannot be written: none of the others
-    // appears, and the folder it created is removed again.
+    // appears, and the folder it created is removed again. (Quiet: its posterior runs long
+    // enough to report progress on stderr, which must hold the error line only.)
     let demo = scratch("no-temporaries-demo").join("out");
-    let demo_args = args("demo --out", &[&demo.display().to_string()]);
+    let demo_args = args("--quiet demo --out", &[&demo.display().to_string()]);
     std::fs::create_dir_all(demo.join("report.md")).unwrap();
     assert_error(&run(&strs(&demo_args)), &["report.md", "a folder"], "demo");
     assert_eq!(listing(&demo), ["report.md"]);

@@ -41,8 +41,9 @@ fn listing(dir: &Path) -> Vec<String> {
 }
 
 /// A converged run (6000 steps at seed 1 converge: split R-hat 1.004, ESS about 1500) writes
-/// an SVG with the parameter's axis label, the density axis and the key; the samples and the
-/// plot appear together.
+/// an SVG with the parameter's axis label, the density axis and the key (the smoothed density
+/// over the histogram), the smoothing rule and the prior edges it reflects at in the notes;
+/// the samples and the plot appear together.
 #[test]
 fn a_converged_run_writes_the_corner_plot() {
     let dir = common::scratch("posterior_plot", "converged");
@@ -76,14 +77,36 @@ fn a_converged_run_writes_the_corner_plot() {
         "q",
         "posterior density",
         "median and 68% equal-tailed interval",
+        "smoothed density",
+        "histogram",
+        "Densities reflected at the prior edges (Silverman 1986, §2.10): q at 0 and 1.",
     ] {
         assert!(lines.contains(&label), "no text '{label}' in the SVG");
     }
+    assert!(svg.contains("(Silverman)") && svg.contains("(Scott)"));
     assert!(
         !svg.contains("highest-density region"),
         "one parameter has no pair to outline"
     );
-    assert!(svg.contains("<polygon"), "the histogram is drawn");
+    // The density's filled area (no outline: the renderer's default stroke is turned off)
+    // and its curve, a blue polyline of many points (at least 200 cells).
+    assert!(
+        svg.contains("<polygon stroke=\"none\""),
+        "the density is filled"
+    );
+    assert!(
+        !svg.contains("<polygon fill="),
+        "a polygon without stroke=\"none\""
+    );
+    let points = svg
+        .lines()
+        .filter(|l| l.contains("<polyline") && l.contains("stroke=\"#1F4E79\" stroke-width=\"2\""))
+        .map(|l| l.matches(',').count())
+        .max();
+    assert!(
+        points >= Some(200),
+        "the smoothed density's curve: {points:?} points"
+    );
     assert_eq!(listing(&dir), ["corner.svg", "r.toml", "run"]);
     assert_eq!(listing(&dir.join("run")), ["samples.csv"]);
 }

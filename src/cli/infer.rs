@@ -218,7 +218,7 @@ fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
 }
 
 /// What the sampler did, in words.
-fn sampler_assumption(s: &InferSettings, dim: usize, i: &Inference) -> String {
+fn sampler_assumption(s: &InferSettings, i: &Inference) -> String {
     let steps = i.steps;
     match s.sampler {
         SamplerKind::Ensemble => format!(
@@ -227,12 +227,7 @@ fn sampler_assumption(s: &InferSettings, dim: usize, i: &Inference) -> String {
              the first half is burn-in, seed {}; converged \
              means split R-hat < 1.01 over the independent ensembles (each one's walker-mean \
              trajectory; Vehtari et al. 2021) and bulk ESS >= 400",
-            s.chains,
-            walkers(dim),
-            steps,
-            s.steps,
-            s.max_steps,
-            s.seed
+            s.chains, s.walkers, steps, s.steps, s.max_steps, s.seed
         ),
         SamplerKind::Nested => format!(
             "sampler: nested sampling (Skilling 2006), {} live points, seed {}; the GR model \
@@ -273,6 +268,27 @@ fn sampler_assumption(s: &InferSettings, dim: usize, i: &Inference) -> String {
             )
         }
     }
+}
+
+/// Everything a posterior assumed: the model's priors and likelihoods, the sampler, and the
+/// solver failures given zero likelihood.
+pub(super) fn assumptions(
+    model: &PosteriorModel,
+    settings: &InferSettings,
+    inference: &Inference,
+) -> Vec<String> {
+    let mut assumptions = model.assumptions();
+    assumptions.push(sampler_assumption(settings, inference));
+    if inference.failures > 0 {
+        assumptions.push(format!(
+            "{} of {} model evaluations failed in the shadow solver and were given zero \
+             likelihood (first: {})",
+            inference.failures,
+            inference.evaluations,
+            inference.first_failure.as_deref().unwrap_or("no message")
+        ));
+    }
+    assumptions
 }
 
 #[derive(Serialize)]
@@ -400,17 +416,7 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         }
         Err(InferStop::Run(e)) => return Err(CliError::usage(e.to_string())),
     };
-    let mut assumptions = model.assumptions();
-    assumptions.push(sampler_assumption(&settings, dim, &inference));
-    if inference.failures > 0 {
-        assumptions.push(format!(
-            "{} of {} model evaluations failed in the shadow solver and were given zero \
-             likelihood (first: {})",
-            inference.failures,
-            inference.evaluations,
-            inference.first_failure.as_deref().unwrap_or("no message")
-        ));
-    }
+    let assumptions = assumptions(&model, &settings, &inference);
     let verdict = verdict(&inference);
     if let Some((temp, path)) = &csv_path {
         if verdict.is_none() {
@@ -422,7 +428,14 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         write_corner_plot(&mut outputs, path, &model, &inference)?;
     }
     if args.json {
-        print_json(args, &model, &inference, &assumptions, verdict.is_none())?;
+        let report = json_report(
+            &args.measurement,
+            &model,
+            &inference,
+            &assumptions,
+            verdict.is_none(),
+        )?;
+        outln!("{report}")?;
     } else {
         print_text(&model, &inference, &assumptions, verdict.as_deref())?;
     }
@@ -475,7 +488,7 @@ fn with_tables(
 }
 
 /// Write the corner plot of a converged run to its staged file.
-fn write_corner_plot(
+pub(super) fn write_corner_plot(
     outputs: &mut OutputTransaction,
     path: &str,
     model: &PosteriorModel,
@@ -486,12 +499,18 @@ fn write_corner_plot(
         k => format!("{k} sources"),
     };
     let title = format!("{}: posterior from {sources}", model.metric_info().name);
-    let svg = corner_plot(path, &title, inference, model.sources())?;
+    let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
     write_plot(outputs, path, &svg)
 }
 
 /// Why the run is not a posterior to report (`None`: it is).
-fn verdict(i: &Inference) -> Option<String> {
+/// Whether the inference is nested sampling's: the only sampler with an evidence and no
+/// quadrature report.
+fn nested(i: &Inference) -> bool {
+    i.evidence.is_some() && i.quadrature.is_none()
+}
+
+pub(super) fn verdict(i: &Inference) -> Option<String> {
     let c = &i.convergence;
     let mut why = Vec::new();
     if let (Some(q), false) = (&i.quadrature, c.converged) {
@@ -499,6 +518,11 @@ fn verdict(i: &Inference) -> Option<String> {
             "the quadrature did not converge: at {} panels of {} nodes per parameter the \
              reported quantities still changed by {:.3} times their tolerance",
             q.panels, q.nodes_per_panel, q.change
+        ));
+    } else if !c.converged && nested(i) {
+        why.push(format!(
+            "the effective sample size of the nested-sampling weights is {:.0} (needs >= 400)",
+            c.ess
         ));
     } else if !c.converged {
         why.push(format!(
@@ -545,6 +569,15 @@ fn print_text(
                 q.nodes_per_panel,
                 q.grids,
                 q.change
+            )?;
+        } else if nested(i) {
+            outln!(
+                "posterior of {} from {} source(s): converged (nested sampling: effective \
+                 sample size of the weights {:.0}, walk acceptance {:.3}; R-hat not applicable)",
+                model.metric_info().name,
+                model.sources(),
+                c.ess,
+                c.acceptance
             )?;
         } else {
             outln!(
@@ -621,6 +654,20 @@ fn print_text(
             i.evaluations,
             i.failures
         )?;
+    } else if nested(i) {
+        for s in &i.summaries {
+            outln!(
+                "  {}: split R-hat not applicable, ESS {:.0} (of the weights)",
+                s.name,
+                s.ess
+            )?;
+        }
+        outln!(
+            "  walk acceptance {:.3}, {} model evaluations, {} solver failures",
+            c.acceptance,
+            i.evaluations,
+            i.failures
+        )?;
     } else {
         for s in &i.summaries {
             outln!("  {}: split R-hat {:.4}, ESS {:.0}", s.name, s.rhat, s.ess)?;
@@ -639,13 +686,15 @@ fn print_text(
     Ok(())
 }
 
-fn print_json(
-    args: &InferArgs,
+/// The JSON report of a run (`measurements`: the files as named): the summaries only when it
+/// converged, the diagnostics and the assumptions always.
+pub(super) fn json_report(
+    measurements: &[String],
     model: &PosteriorModel,
     i: &Inference,
     assumptions: &[String],
     converged: bool,
-) -> Result<(), CliError> {
+) -> Result<String, CliError> {
     let parameters = converged.then(|| {
         i.summaries
             .iter()
@@ -675,7 +724,7 @@ fn print_json(
             .iter()
             .map(|p| (p.name.clone(), p.prior.to_string()))
             .collect(),
-        measurements: &args.measurement,
+        measurements,
         parameters,
         evidence: if converged { i.evidence } else { None },
         diagnostics: JsonDiagnostics {
@@ -702,15 +751,13 @@ fn print_json(
         tables: model.table_reports(),
         assumptions,
     };
-    let text = serde_json::to_string_pretty(&report)
-        .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))?;
-    outln!("{text}")?;
-    Ok(())
+    serde_json::to_string_pretty(&report)
+        .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))
 }
 
 /// The samples as CSV: `#` lines naming the assumptions, a header naming every column
 /// (inclinations in degrees), one row per sample.
-fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
+pub(super) fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
     let mut text = String::from("# umbral infer: posterior samples (equally weighted)\n");
     for a in assumptions {
         text.push_str(&format!("# {a}\n"));
