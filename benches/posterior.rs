@@ -68,5 +68,64 @@ fn whole(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, evaluations, whole);
+/// The two slower goals: the Kerr-Newman charge with spin (uniform) and inclination (isotropic)
+/// marginalised and the ring chain (kappa, mass, distance) sampled jointly, by nested sampling
+/// (goal 30 s); and the Johannsen-Psaltis posterior (eps3 and spin) sampled from its table,
+/// which is built once before timing (goal: table under 5 minutes, sampling under 30 s).
+fn slow(c: &mut Criterion) {
+    let ring = |text: &str| Measurement::from_toml_str(text).unwrap();
+    let alder = ring(include_str!("../examples/infer_source_alder.toml"));
+    let prior = |s: &str| Prior::parse(s).unwrap();
+    let request = InferenceRequest::new(
+        MetricSource::builtin("kerr-newman").unwrap(),
+        vec![
+            ("q".into(), prior("uniform:0:1")),
+            ("a".into(), prior("uniform:0:0.9")),
+        ],
+        vec![alder],
+    );
+    let kn = PosteriorModel::new(&request).unwrap();
+    let nested = InferSettings {
+        sampler: SamplerKind::Nested,
+        ..Default::default()
+    };
+    let mut group = c.benchmark_group("posterior (slow)");
+    group
+        .sample_size(10)
+        .measurement_time(Duration::from_secs(200));
+    group.bench_function(
+        "Kerr-Newman q, a, inclination and the ring chain (6-D), nested",
+        |b| b.iter(|| black_box(infer_on(&kn, &nested, &mut ParallelEvaluator).unwrap())),
+    );
+    let jp = model(
+        "johannsen-psaltis",
+        &[
+            ("eps3", "uniform:-1:1"),
+            ("a", "uniform:0:0.7"),
+            ("inclination", "fixed:60"),
+        ],
+    );
+    let dir = std::env::temp_dir().join(format!("umbral-bench-table-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let controls = umbral::run::Controls {
+        observers: vec![],
+        stop: None,
+    };
+    let tables = umbral::scan::table::build_tables(&jp, &dir, controls).unwrap();
+    let jp = jp.with_tables(tables).unwrap();
+    let ensemble = InferSettings {
+        steps: 10_000,
+        max_steps: 160_000,
+        walkers: 6,
+        ..Default::default()
+    };
+    group.bench_function(
+        "Johannsen-Psaltis eps3 and a from a 9 x 9 table, ensemble",
+        |b| b.iter(|| black_box(infer_on(&jp, &ensemble, &mut ParallelEvaluator).unwrap())),
+    );
+    group.finish();
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+criterion_group!(benches, evaluations, whole, slow);
 criterion_main!(benches);
