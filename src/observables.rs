@@ -522,8 +522,6 @@ fn ray_crossing(
     safeguarded_newton(eval, [lo, hi], start, 100, settled)
 }
 
-/// Area ½∮R² dψ and area centroid ((1/3A)∮R³ cos ψ dψ, (1/3A)∮R³ sin ψ dψ) + origin, by the
-/// periodic trapezoid rule on the samples.
 /// The mean radius and circularity deviation about the area centroid (the
 /// [`Observables::mean_radius`] and [`Observables::circularity_deviation`] of
 /// [`CentreChoice::Centroid`]) from the curve's own samples, without tracing rays from the
@@ -591,6 +589,8 @@ pub fn centroid_size(curve: &CriticalCurve) -> Option<(f64, f64)> {
     (mean.is_finite() && mean > 0.0).then(|| (mean, variance.sqrt() / mean))
 }
 
+/// Area ½∮R² dψ and area centroid ((1/3A)∮R³ cos ψ dψ, (1/3A)∮R³ sin ψ dψ) + origin, by the
+/// periodic trapezoid rule on the samples.
 fn area_and_centroid(curve: &CriticalCurve) -> (f64, [f64; 2]) {
     let n = curve.len();
     let h = TAU / n as f64;

@@ -16,7 +16,7 @@ use umbral::output::OutputTransaction;
 use umbral::posterior::table::MIN_NODES;
 use umbral::posterior::{
     Evidence, InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel,
-    QuadratureReport, SamplerKind, TableReport,
+    QuadratureReport, SamplerKind, ShadowTable, TableReport,
 };
 use umbral::run::infer::{infer_with, InferStop};
 use umbral::run::Controls;
@@ -258,7 +258,8 @@ fn sampler_assumption(s: &InferSettings, i: &Inference) -> String {
                  and the intervals changed by at most {:e} (quantities in units of the prior's \
                  mass, and at most 1% of the 68% width): {grids} grids, {panels} panels per \
                  parameter at the end; the GR model holds the shared parameters at the \
-                 metric's defaults, its evidence by the same quadrature; posterior samples are \
+                 metric's defaults, its evidence by the same quadrature (or, with nothing left to \
+                 sample, its likelihood at that point); posterior samples are \
                  {} independent draws by inverse CDF, seed {}{boundaries}",
                 QuadratureSettings::default().initial_panels,
                 s.max_panels,
@@ -460,6 +461,26 @@ fn with_tables(
     std::fs::create_dir_all(&dir).map_err(|e| {
         CliError::usage(format!("--table-dir {}: cannot create: {e}", dir.display()))
     })?;
+    let tables = build(&model, &dir, progress)?;
+    let model = model
+        .with_tables(tables)
+        .map_err(|e| CliError::usage(e.to_string()))?;
+    if !matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature) {
+        return Ok(model);
+    }
+    // The Bayes factor's GR limit holds the shared parameters elsewhere: its own tables.
+    let gr_tables = build(&model.gr_model(), &dir, progress)?;
+    model
+        .with_gr_tables(gr_tables)
+        .map_err(|e| CliError::usage(format!("the GR limit's {e}")))
+}
+
+/// Build (or read) a model's tables with progress; Ctrl-C keeps the finished nodes.
+fn build(
+    model: &PosteriorModel,
+    dir: &Path,
+    progress: &ProgressArgs,
+) -> Result<Vec<ShadowTable>, CliError> {
     let mut display = progress.display(None)?;
     let built = {
         let _graceful = interrupt::Graceful::enter("table nodes");
@@ -467,24 +488,19 @@ fn with_tables(
             observers: vec![display.as_mut()],
             stop: Some(interrupt::stop_flag()),
         };
-        build_tables(&model, &dir, controls)
+        build_tables(model, dir, controls)
     };
     drop(display);
-    let tables = match built {
-        Ok(t) => t,
+    match built {
+        Ok(t) => Ok(t),
         Err(TableBuildError::Scan {
             error: e @ ScanError::Interrupted { .. },
             number,
-        }) => {
-            return Err(CliError::interrupted(format!(
-                "table for source {number}: {e}"
-            )))
-        }
-        Err(e) => return Err(CliError::usage(e.to_string())),
-    };
-    model
-        .with_tables(tables)
-        .map_err(|e| CliError::usage(e.to_string()))
+        }) => Err(CliError::interrupted(format!(
+            "table for source {number}: {e}"
+        ))),
+        Err(e) => Err(CliError::usage(e.to_string())),
+    }
 }
 
 /// Write the corner plot of a converged run to its staged file.
@@ -612,11 +628,15 @@ fn print_text(
                 )?;
             }
         }
-        for t in model.table_reports() {
+        for t in model
+            .table_reports()
+            .into_iter()
+            .chain(model.gr_table_reports())
+        {
             outln!(
-                "shadows of source {} from a table of {} nodes: estimated interpolation error \
-                 {:.2e} r_sh/M in the size (allowed {:.2e}){}",
-                t.source,
+                "{} ({} nodes): estimated interpolation error {:.2e} r_sh/M in the size \
+                 (allowed {:.2e}){}",
+                t.table,
                 t.nodes,
                 t.size_error,
                 t.size_limit,
@@ -748,7 +768,11 @@ pub(super) fn json_report(
             solver_failures: i.failures,
             quadrature: i.quadrature.clone(),
         },
-        tables: model.table_reports(),
+        tables: model
+            .table_reports()
+            .into_iter()
+            .chain(model.gr_table_reports())
+            .collect(),
         assumptions,
     };
     serde_json::to_string_pretty(&report)

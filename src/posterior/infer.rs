@@ -524,14 +524,12 @@ fn gr_evidence(
     method: &GrMethod<'_>,
     density: &mut Density<'_>,
 ) -> Result<((f64, f64), Option<QuadratureRun>), InferRunError> {
-    let defaults = model.metric_info().parameters;
-    let gr_value = |name: &str| {
-        defaults
-            .iter()
-            .find(|p| p.name == name)
-            .map_or(0.0, |p| p.default)
-    };
-    let gr = model.with_shared_fixed(gr_value);
+    if !model.has_gr_tables() {
+        return Err(InferRunError::Settings(
+            "the evidence of the GR limit needs its own shadow tables, which were not built".into(),
+        ));
+    }
+    let gr = model.gr_model();
     if gr.names().is_empty() {
         // Nothing left to sample: Z is the likelihood at the one point.
         let e = gr.evaluate(&[]);

@@ -209,6 +209,8 @@ pub struct PosteriorModel {
     table_nodes: usize,
     /// The tables, one per source, once built ([`PosteriorModel::with_tables`]).
     tables: Vec<ShadowTable>,
+    /// The tables of the GR limit ([`PosteriorModel::with_gr_tables`]).
+    gr_tables: Vec<ShadowTable>,
 }
 
 /// `error <= limit`, false when either is NaN.
@@ -235,6 +237,8 @@ pub struct TablePlan {
 /// A built table as the output reports it.
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct TableReport {
+    /// Which table (`table for source 1`, `the GR limit's table for source 1`).
+    pub table: String,
     /// The source, from 1.
     pub source: usize,
     /// The axes as `name in [low, high] (N nodes)`.
@@ -287,6 +291,7 @@ impl PosteriorModel {
             tabulated: traced || request.tabulate,
             table_nodes: request.table_nodes,
             tables: Vec::new(),
+            gr_tables: Vec::new(),
         })
     }
 
@@ -420,11 +425,21 @@ impl PosteriorModel {
 
     /// The built tables as the output reports them (none for direct shadows).
     pub fn table_reports(&self) -> Vec<TableReport> {
+        self.reports(&self.tables, "")
+    }
+
+    /// The GR limit's tables as the output reports them (none unless built).
+    pub fn gr_table_reports(&self) -> Vec<TableReport> {
+        self.reports(&self.gr_tables, "the GR limit's ")
+    }
+
+    fn reports(&self, tables: &[ShadowTable], of: &str) -> Vec<TableReport> {
         self.terms
             .iter()
-            .zip(&self.tables)
+            .zip(tables)
             .enumerate()
             .map(|(k, (term, t))| TableReport {
+                table: format!("{of}table for source {}", k + 1),
                 source: k + 1,
                 axes: t
                     .axes()
@@ -485,7 +500,44 @@ impl PosteriorModel {
         m.sampled = (0..m.parameters.len())
             .filter(|&i| !m.parameters[i].prior.is_fixed())
             .collect();
+        // Tables hold the shared parameters where this model samples or fixes them: they do
+        // not serve the new values (a tabulated model held this way needs its own tables).
+        m.tables = Vec::new();
+        m.gr_tables = Vec::new();
         m
+    }
+
+    /// The GR limit for a Bayes factor: every shared metric parameter held at the metric's
+    /// default (its GR value), the spins and nuisances as in this model. A tabulated model's
+    /// GR limit interpolates the GR tables ([`PosteriorModel::with_gr_tables`]); without them
+    /// it has none, and evaluates to a failure.
+    pub fn gr_model(&self) -> PosteriorModel {
+        let defaults = self.metric.info().parameters;
+        let gr_value = |name: &str| {
+            defaults
+                .iter()
+                .find(|p| p.name == name)
+                .map_or(0.0, |p| p.default)
+        };
+        let mut gr = self.with_shared_fixed(gr_value);
+        gr.tables = self.gr_tables.clone();
+        gr
+    }
+
+    /// Whether a tabulated model's GR limit has its tables.
+    pub fn has_gr_tables(&self) -> bool {
+        !self.tabulated || !self.gr_tables.is_empty()
+    }
+
+    /// The model with the tables of its GR limit (built from [`PosteriorModel::gr_model`]'s
+    /// plans), checked like [`PosteriorModel::with_tables`].
+    pub fn with_gr_tables(
+        mut self,
+        tables: Vec<ShadowTable>,
+    ) -> Result<PosteriorModel, InferError> {
+        let checked = self.gr_model().with_tables(tables)?;
+        self.gr_tables = checked.tables;
+        Ok(self)
     }
 
     /// What the model assumes, in words: the parameters and their priors, each source's
@@ -527,11 +579,15 @@ impl PosteriorModel {
                 "curve-only solve at every sample, solver chosen automatically"
             }
         ));
-        for r in self.table_reports() {
+        for r in self
+            .table_reports()
+            .into_iter()
+            .chain(self.gr_table_reports())
+        {
             out.push(format!(
-                "table for source {}: {} nodes over {}; leave-one-out interpolation error of the \
+                "{}: {} nodes over {}; leave-one-out interpolation error of the \
                  size {:.2e} r_sh/M (at most a tenth of the measurement's sigma, {:.2e}){}",
-                r.source,
+                r.table,
                 r.nodes,
                 if r.axes.is_empty() {
                     "no sampled parameter".to_string()
@@ -665,6 +721,12 @@ impl PosteriorModel {
                     i.map_or(f64::NAN, |i| values[i])
                 })
                 .collect();
+            if !table.contains(&x) {
+                return Err(format!(
+                    "source {}: the point lies outside its table (no extrapolation)",
+                    k + 1
+                ));
+            }
             return Ok(term.log_likelihood(table.size(&x), table.circularity(&x), &ring));
         }
         // Outside the metric's domain (a prior wider than the domain) there is no metric.

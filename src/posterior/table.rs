@@ -198,7 +198,18 @@ impl ShadowTable {
         self.size.iter().copied().fold(f64::INFINITY, f64::min)
     }
 
-    /// The interpolated size at `x` (one coordinate per axis, inside the box).
+    /// Whether `x` (one coordinate per axis) lies in the table's box, to within 1e-12 of each
+    /// axis's span (outside it the cubic would extrapolate).
+    pub fn contains(&self, x: &[f64]) -> bool {
+        x.len() == self.axes.len()
+            && self.axes.iter().zip(x).all(|(a, &xi)| {
+                let slack = 1e-12 * (a.high - a.low);
+                xi >= a.low - slack && xi <= a.high + slack
+            })
+    }
+
+    /// The interpolated size at `x` (one coordinate per axis, inside the box: see
+    /// [`ShadowTable::contains`]).
     pub fn size(&self, x: &[f64]) -> f64 {
         self.interpolate(&self.size, x)
     }
