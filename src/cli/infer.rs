@@ -380,9 +380,12 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
     let dim = model.names().len();
     let settings = settings(args, dim)?;
-    settings
-        .check(&model.names())
-        .map_err(|e| CliError::usage(e.to_string()))?;
+    settings.check(&model.names()).map_err(|e| match e {
+        InferRunError::Quadrature(e) => {
+            CliError::usage(format!("--max-panels {}: {e}", args.max_panels))
+        }
+        e => CliError::usage(e.to_string()),
+    })?;
     if model.needs_tables() {
         model
             .table_plans()

@@ -285,7 +285,23 @@ impl InferSettings {
                 names.join(", ")
             )));
         }
+        if self.sampler == SamplerKind::Quadrature {
+            // Before any evaluation (or table) is made.
+            crate::sampling::quadrature::check_settings(&self.quadrature_settings(), names.len())?;
+        }
         Ok(())
+    }
+
+    /// The quadrature's settings these settings imply.
+    fn quadrature_settings(&self) -> QuadratureSettings {
+        QuadratureSettings {
+            max_panels: self.max_panels,
+            tolerance: self.tolerance,
+            levels: self.levels.clone(),
+            samples: self.samples,
+            seed: self.seed,
+            ..Default::default()
+        }
     }
 }
 
@@ -364,14 +380,7 @@ fn infer_by_quadrature(
     model: &PosteriorModel,
     settings: &InferSettings,
 ) -> Result<Inference, InferRunError> {
-    let quadrature_settings = QuadratureSettings {
-        max_panels: settings.max_panels,
-        tolerance: settings.tolerance,
-        levels: settings.levels.clone(),
-        samples: settings.samples,
-        seed: settings.seed,
-        ..Default::default()
-    };
+    let quadrature_settings = settings.quadrature_settings();
     let run = quadrature(&mut density, &model.priors(), &quadrature_settings)?;
     // The GR model's evidence alone: no draws.
     let gr_settings = QuadratureSettings {

@@ -652,7 +652,7 @@ fn change(coarse: &[(f64, f64)], fine: &[(f64, f64)]) -> f64 {
         )
 }
 
-fn check_settings(s: &QuadratureSettings, dims: usize) -> Result<(), QuadratureError> {
+pub(crate) fn check_settings(s: &QuadratureSettings, dims: usize) -> Result<(), QuadratureError> {
     let problem = if !(2..=64).contains(&s.nodes) {
         Some(format!("nodes per panel must be 2 to 64, got {}", s.nodes))
     } else if s.initial_panels == 0 || s.max_panels < 2 * s.initial_panels {
