@@ -281,33 +281,6 @@ fn a_correlated_gaussian_posterior_matches_its_closed_form() {
     }
 }
 
-/// The central 99 % band [lo, hi] of Binomial(n, p): P(X < lo) ≤ 0.005 and P(X > hi) ≤ 0.005,
-/// from the probabilities P(X = k + 1) = P(X = k) (n − k) p/((k + 1)(1 − p)).
-fn binomial_band(n: usize, p: f64) -> (usize, usize) {
-    let mut pmf = vec![(1.0 - p).powi(n as i32)];
-    for k in 0..n {
-        let next = pmf[k] * (n - k) as f64 * p / ((k + 1) as f64 * (1.0 - p));
-        pmf.push(next);
-    }
-    let (mut below, mut lo) = (0.0, 0);
-    while below + pmf[lo] <= 0.005 {
-        below += pmf[lo];
-        lo += 1;
-    }
-    let (mut above, mut hi) = (0.0, n);
-    while above + pmf[hi] <= 0.005 {
-        above += pmf[hi];
-        hi -= 1;
-    }
-    (lo, hi)
-}
-
-#[test]
-fn binomial_band_matches_a_hand_computed_case() {
-    // Binomial(10, 1/2): P(X ≤ 0) = 1/1024 ≤ 0.005 < P(X ≤ 1) = 11/1024, so the band is [1, 9].
-    assert_eq!(binomial_band(10, 0.5), (1, 9));
-}
-
 /// Simulation-based calibration on a real metric (Cook, Gelman & Rubin 2006, J. Comput.
 /// Graph. Stat. 15, 675; Talts et al. 2018, arXiv:1804.06788): the true Reissner–Nordström
 /// charge is drawn from the prior uniform:0:1, its shadow radius b_c(q) computed in closed
@@ -333,7 +306,7 @@ fn quadrature_intervals_cover_the_truth_at_their_nominal_rate() {
         assert_eq!((et68.confidence, et68.kind), (0.68, "equal-tailed"));
         covered += usize::from(et68.low <= q && q <= et68.high);
     }
-    let (lo, hi) = binomial_band(n, 0.68);
+    let (lo, hi) = common::binomial_band(n, 0.68);
     assert_eq!((lo, hi), (119, 153));
     println!("coverage: {covered} of {n} (99 % binomial band [{lo}, {hi}])");
     assert!(

@@ -2,6 +2,8 @@
 //! model, Gaussian evidences, bit-identical output at any thread count, and the coverage of
 //! posterior intervals over simulated measurements.
 
+mod common;
+
 use rand_chacha::rand_core::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rand_distr::{Distribution, StandardNormal};
@@ -387,27 +389,6 @@ fn same_seed_gives_identical_output_at_any_thread_count() {
     assert!(other.0 != one.0 && other.1 != one.1);
 }
 
-/// The central 99 % band [lo, hi] of Binomial(n, p): P(X < lo) ≤ 0.005 and P(X > hi) ≤ 0.005,
-/// from the probabilities P(X = k + 1) = P(X = k) (n − k) p/((k + 1)(1 − p)).
-fn binomial_band(n: usize, p: f64) -> (usize, usize) {
-    let mut pmf = vec![(1.0 - p).powi(n as i32)];
-    for k in 0..n {
-        let next = pmf[k] * (n - k) as f64 * p / ((k + 1) as f64 * (1.0 - p));
-        pmf.push(next);
-    }
-    let (mut below, mut lo) = (0.0, 0);
-    while below + pmf[lo] <= 0.005 {
-        below += pmf[lo];
-        lo += 1;
-    }
-    let (mut above, mut hi) = (0.0, n);
-    while above + pmf[hi] <= 0.005 {
-        above += pmf[hi];
-        hi -= 1;
-    }
-    (lo, hi)
-}
-
 #[test]
 fn posterior_intervals_cover_the_truth_at_their_nominal_rate() {
     // Coverage check (common practice, no source): with the truth drawn from the prior,
@@ -441,7 +422,7 @@ fn posterior_intervals_cover_the_truth_at_their_nominal_rate() {
         let [lo, hi] = Marginal::new(&x).unwrap().equal_tailed(0.68).unwrap();
         covered += usize::from(lo <= truth && truth <= hi);
     }
-    let (lo, hi) = binomial_band(n, 0.68);
+    let (lo, hi) = common::binomial_band(n, 0.68);
     assert!(
         (lo..=hi).contains(&covered),
         "{covered} of {n} covered; 99 % band [{lo}, {hi}]"
@@ -452,7 +433,7 @@ fn posterior_intervals_cover_the_truth_at_their_nominal_rate() {
 #[test]
 fn binomial_band_matches_a_hand_computed_case() {
     // Binomial(10, 1/2): P(X ≤ 0) = 1/1024 ≤ 0.005 < P(X ≤ 1) = 11/1024, so the band is [1, 9].
-    assert_eq!(binomial_band(10, 0.5), (1, 9));
+    assert_eq!(common::binomial_band(10, 0.5), (1, 9));
 }
 
 #[test]

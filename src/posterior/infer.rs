@@ -154,6 +154,21 @@ pub struct Evidence {
     pub log_bayes_factor_error: f64,
 }
 
+impl Evidence {
+    /// The evidence (ln Z, error) of a model against that of its GR limit: ln B = ln Z − ln Z_GR
+    /// with the errors added in quadrature.
+    pub fn against_gr(model: (f64, f64), gr: (f64, f64)) -> Evidence {
+        Evidence {
+            log_evidence: model.0,
+            log_evidence_error: model.1,
+            log_evidence_gr: gr.0,
+            log_evidence_gr_error: gr.1,
+            log_bayes_factor: model.0 - gr.0,
+            log_bayes_factor_error: model.1.hypot(gr.1),
+        }
+    }
+}
+
 /// The outcome of [`infer_on`].
 #[derive(Debug, Clone, PartialEq)]
 pub struct Inference {
@@ -338,14 +353,7 @@ pub fn infer_on(
             let run = nested(&mut density, &model.priors(), &nested_settings)?;
             let (gr, _) = gr_evidence(model, &GrMethod::Nested(&nested_settings), &mut density)?;
             let kish = run.equal_weight.len() as f64;
-            let evidence = Evidence {
-                log_evidence: run.log_evidence,
-                log_evidence_error: run.log_evidence_error,
-                log_evidence_gr: gr.0,
-                log_evidence_gr_error: gr.1,
-                log_bayes_factor: run.log_evidence - gr.0,
-                log_bayes_factor_error: run.log_evidence_error.hypot(gr.1),
-            };
+            let evidence = Evidence::against_gr((run.log_evidence, run.log_evidence_error), gr);
             let dims = model.names().len();
             (
                 run.equal_weight,
@@ -388,14 +396,7 @@ fn infer_by_quadrature(
         ..quadrature_settings
     };
     let (gr, gr_run) = gr_evidence(model, &GrMethod::Quadrature(&gr_settings), &mut density)?;
-    let evidence = Evidence {
-        log_evidence: run.log_evidence,
-        log_evidence_error: run.log_evidence_error,
-        log_evidence_gr: gr.0,
-        log_evidence_gr_error: gr.1,
-        log_bayes_factor: run.log_evidence - gr.0,
-        log_bayes_factor_error: run.log_evidence_error.hypot(gr.1),
-    };
+    let evidence = Evidence::against_gr((run.log_evidence, run.log_evidence_error), gr);
     let report = QuadratureReport {
         panels: run.panels,
         nodes_per_panel: run.nodes,

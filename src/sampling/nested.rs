@@ -39,6 +39,7 @@
 //! ```
 
 use super::batch::sanitise;
+use super::prior::Transform;
 use super::{index, log_add, stream, Halted, LogDensityBatch, Prior, PriorError};
 use nalgebra::{DMatrix, DVector};
 use rand_chacha::ChaCha8Rng;
@@ -153,23 +154,6 @@ struct Live {
     log_l: Vec<f64>,
 }
 
-/// The priors and which of them are sampled.
-struct Transform<'a> {
-    priors: &'a [Prior],
-    free: Vec<usize>,
-}
-
-impl Transform<'_> {
-    /// The parameters of the unit-cube point `u` (one coordinate per sampled parameter).
-    fn parameters(&self, u: &[f64]) -> Vec<f64> {
-        let mut theta: Vec<f64> = self.priors.iter().map(|p| p.from_unit(0.5)).collect();
-        for (&i, &ui) in self.free.iter().zip(u) {
-            theta[i] = self.priors[i].from_unit(ui);
-        }
-        theta
-    }
-}
-
 /// One dead point.
 struct Dead {
     theta: Vec<f64>,
@@ -239,12 +223,7 @@ pub fn nested(
     for p in priors {
         p.validate()?;
     }
-    let transform = Transform {
-        priors,
-        free: (0..priors.len())
-            .filter(|&i| !priors[i].is_fixed())
-            .collect(),
-    };
+    let transform = Transform::new(priors);
     if transform.free.is_empty() {
         return Err(NestedError::NothingToSample);
     }

@@ -303,6 +303,37 @@ impl Prior {
     }
 }
 
+/// A parameter vector seen from the unit cube of its sampled (not fixed) parameters, each
+/// mapped through its prior's quantile function ([`Prior::from_unit`]); fixed ones hold their
+/// value. Nested sampling and quadrature both work in this cube.
+pub(crate) struct Transform<'a> {
+    /// Every parameter's prior.
+    pub(crate) priors: &'a [Prior],
+    /// The indices of the sampled ones, in order.
+    pub(crate) free: Vec<usize>,
+}
+
+impl<'a> Transform<'a> {
+    /// The cube of `priors`' sampled parameters.
+    pub(crate) fn new(priors: &'a [Prior]) -> Self {
+        Transform {
+            priors,
+            free: (0..priors.len())
+                .filter(|&i| !priors[i].is_fixed())
+                .collect(),
+        }
+    }
+
+    /// Every parameter at the unit-cube point `u` (one coordinate per sampled parameter).
+    pub(crate) fn parameters(&self, u: &[f64]) -> Vec<f64> {
+        let mut theta: Vec<f64> = self.priors.iter().map(|p| p.from_unit(0.5)).collect();
+        for (&i, &ui) in self.free.iter().zip(u) {
+            theta[i] = self.priors[i].from_unit(ui);
+        }
+        theta
+    }
+}
+
 /// cos a − cos b = 2 sin((a + b)/2) sin((b − a)/2), without cancellation for close a, b.
 fn cos_difference(a: f64, b: f64) -> f64 {
     2.0 * (0.5 * (a + b)).sin() * (0.5 * (b - a)).sin()

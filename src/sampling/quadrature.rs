@@ -63,6 +63,7 @@
 //! ```
 
 use super::batch::sanitise;
+use super::prior::Transform;
 use super::summary::SummaryError;
 use super::{stream, Halted, LogDensityBatch, Prior, PriorError};
 use crate::numerics::{brent_minimise, gauss_legendre_unit, safeguarded_newton, NewtonEval};
@@ -432,23 +433,6 @@ fn check_level(level: f64) -> Result<(), SummaryError> {
     }
 }
 
-/// The priors and which of them are sampled.
-struct Transform<'a> {
-    priors: &'a [Prior],
-    free: Vec<usize>,
-}
-
-impl Transform<'_> {
-    /// Every parameter at the unit-cube point `u` (one coordinate per sampled parameter).
-    fn parameters(&self, u: &[f64]) -> Vec<f64> {
-        let mut theta: Vec<f64> = self.priors.iter().map(|p| p.from_unit(0.5)).collect();
-        for (&i, &ui) in self.free.iter().zip(u) {
-            theta[i] = self.priors[i].from_unit(ui);
-        }
-        theta
-    }
-}
-
 /// One grid: its panels' edges (the same in both dimensions), ln L at its nodes and
 /// L/max L (row-major in two dimensions), ln Z, the marginals and their tables.
 struct Grid {
@@ -697,12 +681,7 @@ pub fn quadrature(
     for p in priors {
         p.validate()?;
     }
-    let transform = Transform {
-        priors,
-        free: (0..priors.len())
-            .filter(|&i| !priors[i].is_fixed())
-            .collect(),
-    };
+    let transform = Transform::new(priors);
     let dims = transform.free.len();
     match dims {
         0 => return Err(QuadratureError::NothingToSample),

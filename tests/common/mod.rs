@@ -473,3 +473,24 @@ pub fn brent_root(
     };
     roots::find_root_brent(lo, hi, f, &mut conv)
 }
+
+/// The central 99 % band [lo, hi] of Binomial(n, p): P(X < lo) ≤ 0.005 and P(X > hi) ≤ 0.005,
+/// from the probabilities P(X = k + 1) = P(X = k) (n − k) p/((k + 1)(1 − p)).
+pub fn binomial_band(n: usize, p: f64) -> (usize, usize) {
+    let mut pmf = vec![(1.0 - p).powi(n as i32)];
+    for k in 0..n {
+        let next = pmf[k] * (n - k) as f64 * p / ((k + 1) as f64 * (1.0 - p));
+        pmf.push(next);
+    }
+    let (mut below, mut lo) = (0.0, 0);
+    while below + pmf[lo] <= 0.005 {
+        below += pmf[lo];
+        lo += 1;
+    }
+    let (mut above, mut hi) = (0.0, n);
+    while above + pmf[hi] <= 0.005 {
+        above += pmf[hi];
+        hi -= 1;
+    }
+    (lo, hi)
+}
