@@ -14,12 +14,12 @@
 //! use umbral::run::Controls;
 //! use umbral::sampling::Prior;
 //! let m = Measurement::from_toml_str("[size.shadow_radius]\nvalue = 5.0\nsigma = 0.2\n").unwrap();
-//! let mut request = InferenceRequest::new(
+//! let request = InferenceRequest::new(
 //!     MetricSource::builtin("johannsen-psaltis").unwrap(),
 //!     vec![
 //!         ("eps3".into(), Prior::parse("uniform:-1:1").unwrap()),
 //!         ("a".into(), Prior::parse("uniform:0:0.5").unwrap()),
-//!         ("inclination".into(), Prior::parse("fixed:1.0").unwrap()),
+//!         ("inclination".into(), Prior::parse("fixed:60").unwrap()), // degrees
 //!     ],
 //!     vec![m],
 //! );
