@@ -10,7 +10,7 @@
 //! a plain parallel loop; the run layer implements it on the executor (progress, Ctrl-C).
 
 use super::{Evaluation, Parameter, PosteriorModel, Role};
-use crate::sampling::summary::Marginal;
+use crate::sampling::summary::{Marginal, MarginalSummary};
 use crate::sampling::{
     ensemble, nested, quadrature, Convergence, EnsembleError, EnsembleRun, EnsembleSettings,
     Halted, LogDensityBatch, NestedError, NestedSettings, QuadratureError, QuadratureRun,
@@ -593,38 +593,11 @@ fn tabulated_summaries(
     draws: f64,
     levels: &[f64],
 ) -> Result<Vec<ParameterSummary>, InferRunError> {
-    let summary = |e: crate::sampling::summary::SummaryError| InferRunError::Summary(e.to_string());
-    let mut out = Vec::new();
-    for (p, m) in params.iter().zip(&run.marginals) {
-        let scale = display_scale(p);
-        let mut intervals = Vec::new();
-        for &level in levels {
-            let [low, high] = m.equal_tailed(level).map_err(summary)?;
-            intervals.push(CredibleInterval {
-                confidence: level,
-                kind: "equal-tailed",
-                low: low * scale,
-                high: high * scale,
-            });
-            let [low, high] = m.highest_density(level).map_err(summary)?;
-            intervals.push(CredibleInterval {
-                confidence: level,
-                kind: "highest-density",
-                low: low * scale,
-                high: high * scale,
-            });
-        }
-        out.push(ParameterSummary {
-            name: p.name.clone(),
-            prior: p.prior.to_string(),
-            median: m.median() * scale,
-            mean: m.mean() * scale,
-            intervals,
-            rhat: f64::NAN,
-            ess: draws,
-        });
-    }
-    Ok(out)
+    params
+        .iter()
+        .zip(&run.marginals)
+        .map(|(p, m)| parameter_summary(p, m, display_scale(p), levels, f64::NAN, draws))
+        .collect()
 }
 
 /// Median, mean and intervals of each sampled parameter (inclinations in degrees).
@@ -635,38 +608,58 @@ fn summarise(
     ess: &[f64],
     levels: &[f64],
 ) -> Result<Vec<ParameterSummary>, InferRunError> {
-    let summary = |e: crate::sampling::summary::SummaryError| InferRunError::Summary(e.to_string());
-    let mut out = Vec::new();
-    for (i, p) in params.iter().enumerate() {
-        let scale = display_scale(p);
-        let column: Vec<f64> = samples.iter().map(|s| s[i] * scale).collect();
-        let m = Marginal::new(&column).map_err(summary)?;
-        let mut intervals = Vec::new();
-        for &level in levels {
-            let [low, high] = m.equal_tailed(level).map_err(summary)?;
+    params
+        .iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let scale = display_scale(p);
+            let column: Vec<f64> = samples.iter().map(|s| s[i] * scale).collect();
+            let m = Marginal::new(&column).map_err(summary_error)?;
+            parameter_summary(p, &m, 1.0, levels, rhat[i], ess[i])
+        })
+        .collect()
+}
+
+fn summary_error(e: crate::sampling::summary::SummaryError) -> InferRunError {
+    InferRunError::Summary(e.to_string())
+}
+
+/// One parameter's summary from its marginal, every number times `scale`.
+fn parameter_summary(
+    p: &Parameter,
+    m: &impl MarginalSummary,
+    scale: f64,
+    levels: &[f64],
+    rhat: f64,
+    ess: f64,
+) -> Result<ParameterSummary, InferRunError> {
+    let mut intervals = Vec::new();
+    for &level in levels {
+        for (kind, [low, high]) in [
+            (
+                "equal-tailed",
+                m.equal_tailed(level).map_err(summary_error)?,
+            ),
+            (
+                "highest-density",
+                m.highest_density(level).map_err(summary_error)?,
+            ),
+        ] {
             intervals.push(CredibleInterval {
                 confidence: level,
-                kind: "equal-tailed",
-                low,
-                high,
-            });
-            let [low, high] = m.highest_density(level).map_err(summary)?;
-            intervals.push(CredibleInterval {
-                confidence: level,
-                kind: "highest-density",
-                low,
-                high,
+                kind,
+                low: low * scale,
+                high: high * scale,
             });
         }
-        out.push(ParameterSummary {
-            name: p.name.clone(),
-            prior: p.prior.to_string(),
-            median: m.median(),
-            mean: m.mean(),
-            intervals,
-            rhat: rhat[i],
-            ess: ess[i],
-        });
     }
-    Ok(out)
+    Ok(ParameterSummary {
+        name: p.name.clone(),
+        prior: p.prior.to_string(),
+        median: m.median() * scale,
+        mean: m.mean() * scale,
+        intervals,
+        rhat,
+        ess,
+    })
 }

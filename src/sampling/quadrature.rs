@@ -811,6 +811,21 @@ fn conditional(grid: &Grid, rule: &Rule, u1: f64) -> Table {
     }
 }
 
+impl super::summary::MarginalSummary for TabulatedMarginal {
+    fn median(&self) -> f64 {
+        TabulatedMarginal::median(self)
+    }
+    fn mean(&self) -> f64 {
+        TabulatedMarginal::mean(self)
+    }
+    fn equal_tailed(&self, level: f64) -> Result<[f64; 2], SummaryError> {
+        TabulatedMarginal::equal_tailed(self, level)
+    }
+    fn highest_density(&self, level: f64) -> Result<[f64; 2], SummaryError> {
+        TabulatedMarginal::highest_density(self, level)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

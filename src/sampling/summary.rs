@@ -205,6 +205,34 @@ fn check_level(level: f64) -> Result<(), SummaryError> {
     }
 }
 
+/// What a one-parameter posterior summary needs of a marginal: [`Marginal`] (from samples)
+/// and the quadrature's tabulated marginal both answer it.
+pub trait MarginalSummary {
+    /// The median.
+    fn median(&self) -> f64;
+    /// The mean.
+    fn mean(&self) -> f64;
+    /// The equal-tailed interval at `level`.
+    fn equal_tailed(&self, level: f64) -> Result<[f64; 2], SummaryError>;
+    /// The highest-density interval at `level`.
+    fn highest_density(&self, level: f64) -> Result<[f64; 2], SummaryError>;
+}
+
+impl MarginalSummary for Marginal {
+    fn median(&self) -> f64 {
+        Marginal::median(self)
+    }
+    fn mean(&self) -> f64 {
+        Marginal::mean(self)
+    }
+    fn equal_tailed(&self, level: f64) -> Result<[f64; 2], SummaryError> {
+        Marginal::equal_tailed(self, level)
+    }
+    fn highest_density(&self, level: f64) -> Result<[f64; 2], SummaryError> {
+        Marginal::highest_density(self, level)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
