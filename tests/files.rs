@@ -4,6 +4,8 @@
 
 #![cfg(unix)]
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output, Stdio};
 
@@ -89,16 +91,6 @@ fn assert_error(out: &Output, needles: &[&str], what: &str) -> String {
         assert!(stderr.contains(n), "{what}: '{stderr}' lacks '{n}'");
     }
     stderr
-}
-
-/// Every entry of `dir`, sorted.
-fn listing(dir: &Path) -> Vec<String> {
-    let mut names: Vec<String> = std::fs::read_dir(dir)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    names.sort();
-    names
 }
 
 /// A sparse file of `bytes` bytes.
@@ -252,7 +244,11 @@ fn ctrl_c_says_how_far_the_scan_got_and_how_to_resume() {
         .unwrap();
     assert!(done < 900, "{stderr}");
     assert_eq!(lines(), done + 1, "every finished point is on disk");
-    assert!(listing(&dir) == ["s.jsonl"], "{:?}", listing(&dir));
+    assert!(
+        common::listing(&dir) == ["s.jsonl"],
+        "{:?}",
+        common::listing(&dir)
+    );
     // The same command resumes, and the result equals an uninterrupted run.
     let resumed = run(&strs(&a));
     let stdout = String::from_utf8_lossy(&resumed.stdout);
@@ -343,7 +339,7 @@ fn csv_is_not_left_half_written_when_plot_fails() {
         "an earlier file\n",
         "the existing CSV is untouched"
     );
-    assert_eq!(listing(&dir), ["curve.csv"]);
+    assert_eq!(common::listing(&dir), ["curve.csv"]);
     // A failure after the CSV and figure were made (the table cannot be printed): neither
     // file appears; on success both appear, with nothing else beside them.
     let fresh = scratch("csv-plot-late");
@@ -357,9 +353,13 @@ fn csv_is_not_left_half_written_when_plot_fails() {
     );
     let out = run_to_full_disk(&strs(&one));
     assert_error(&out, &["cannot write to standard output"], "late failure");
-    assert!(listing(&fresh).is_empty(), "{:?}", listing(&fresh));
+    assert!(
+        common::listing(&fresh).is_empty(),
+        "{:?}",
+        common::listing(&fresh)
+    );
     assert_eq!(run(&strs(&one)).status.code(), Some(0));
-    assert_eq!(listing(&fresh), ["c.csv", "c.svg"]);
+    assert_eq!(common::listing(&fresh), ["c.csv", "c.svg"]);
 }
 
 #[test]
@@ -419,7 +419,7 @@ fn no_command_leaves_a_temporary_behind_on_failure() {
             &["cannot write to standard output"],
             &format!("{a:?}"),
         );
-        assert_eq!(&listing(&dir), survivors, "{a:?}");
+        assert_eq!(&common::listing(&dir), survivors, "{a:?}");
     }
     // The demo fails late when one of its files cannot be written: none of the others
     // appears, and the folder it created is removed again. (Quiet: its posterior runs long
@@ -428,10 +428,10 @@ fn no_command_leaves_a_temporary_behind_on_failure() {
     let demo_args = args("--quiet demo --out", &[&demo.display().to_string()]);
     std::fs::create_dir_all(demo.join("report.md")).unwrap();
     assert_error(&run(&strs(&demo_args)), &["report.md", "a folder"], "demo");
-    assert_eq!(listing(&demo), ["report.md"]);
+    assert_eq!(common::listing(&demo), ["report.md"]);
     std::fs::remove_dir(demo.join("report.md")).unwrap();
     std::fs::remove_dir(&demo).unwrap();
     let out = run_to_full_disk(&strs(&demo_args));
     assert_error(&out, &["cannot write to standard output"], "demo");
-    assert!(!demo.exists(), "{:?}", listing(&demo));
+    assert!(!demo.exists(), "{:?}", common::listing(&demo));
 }

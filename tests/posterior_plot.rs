@@ -30,16 +30,6 @@ fn infer(dir: &Path, extra: &[&str], seconds: u64) -> common::Outcome {
     out
 }
 
-/// The folder's file names, sorted (temporaries would show here).
-fn listing(dir: &Path) -> Vec<String> {
-    let mut names: Vec<String> = std::fs::read_dir(dir)
-        .unwrap()
-        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
-        .collect();
-    names.sort();
-    names
-}
-
 /// A converged run (6000 steps at seed 1 converge: split R-hat 1.004, ESS about 1500) writes
 /// an SVG with the parameter's axis label, the density axis and the key (the smoothed density
 /// over the histogram), the smoothing rule and the prior edges it reflects at in the notes;
@@ -107,8 +97,8 @@ fn a_converged_run_writes_the_corner_plot() {
         points >= Some(200),
         "the smoothed density's curve: {points:?} points"
     );
-    assert_eq!(listing(&dir), ["corner.svg", "r.toml", "run"]);
-    assert_eq!(listing(&dir.join("run")), ["samples.csv"]);
+    assert_eq!(common::listing(&dir), ["corner.svg", "r.toml", "run"]);
+    assert_eq!(common::listing(&dir.join("run")), ["samples.csv"]);
 }
 
 /// An unconverged run writes neither samples nor a plot, leaves no temporary and exits 3; an
@@ -124,7 +114,7 @@ fn an_unconverged_run_writes_no_plot() {
     );
     assert_eq!(out.code, Some(3), "{}", out.describe());
     assert!(out.stdout_text().starts_with("NOT CONVERGED"));
-    assert_eq!(listing(&dir), ["r.toml"]);
+    assert_eq!(common::listing(&dir), ["r.toml"]);
     std::fs::write(dir.join("old.svg"), "<svg>old</svg>").unwrap();
     let out = infer(
         &dir,
@@ -136,7 +126,7 @@ fn an_unconverged_run_writes_no_plot() {
         std::fs::read_to_string(dir.join("old.svg")).unwrap(),
         "<svg>old</svg>"
     );
-    assert_eq!(listing(&dir), ["old.svg", "r.toml"]);
+    assert_eq!(common::listing(&dir), ["old.svg", "r.toml"]);
 }
 
 /// A path that is not an SVG file name, or in a folder that does not exist, is a one-line
@@ -166,6 +156,6 @@ fn a_bad_plot_path_fails_before_sampling() {
             10,
         );
         out.assert_usage_error(needle);
-        assert_eq!(listing(&dir), ["r.toml"]);
+        assert_eq!(common::listing(&dir), ["r.toml"]);
     }
 }

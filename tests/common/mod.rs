@@ -494,3 +494,13 @@ pub fn binomial_band(n: usize, p: f64) -> (usize, usize) {
     }
     (lo, hi)
 }
+
+/// Every entry of `dir`, sorted by name (temporaries would show here).
+pub fn listing(dir: &Path) -> Vec<String> {
+    let mut names: Vec<String> = std::fs::read_dir(dir)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    names.sort();
+    names
+}
