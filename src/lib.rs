@@ -26,6 +26,7 @@
 pub mod bounds;
 pub mod error;
 pub mod geodesic;
+pub mod image;
 pub(crate) mod input;
 pub mod measurement;
 pub mod metric;

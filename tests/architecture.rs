@@ -21,6 +21,7 @@ const LAYERS: &[(&str, u8, &str)] = &[
     ("geodesic", 4, "geodesic"),
     ("shadow", 5, "shadow"),
     ("observables", 6, "observables"),
+    ("image", 6, "observables"),
     ("measurement", 7, "inference"),
     ("bounds", 8, "inference"),
     ("sampling", 7, "inference"),
