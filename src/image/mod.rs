@@ -15,6 +15,10 @@
 //! assert_eq!(image.beta(0), 3.0);
 //! ```
 
+pub mod emission;
+pub mod inner_shadow;
+pub mod trace;
+
 use serde::Serialize;
 
 /// Why an image could not be made or measured.

@@ -59,6 +59,7 @@ pub mod bound;
 mod checkpoint;
 mod file;
 mod header;
+pub mod image;
 pub mod infer;
 mod observe;
 

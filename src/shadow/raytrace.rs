@@ -518,6 +518,29 @@ impl<'a> Tracer<'a> {
                  are undefined on the spin axis), got {i}"
             )));
         }
+        Tracer::build(spacetime, observer, options)
+    }
+
+    /// [`Tracer::new`] for images: a distant observer may also sit on the spin axis
+    /// (θ_o = 0 or π, face-on), where every ray has p_φ = 0 and the screen axes are those
+    /// of φ = 0.
+    pub(crate) fn for_images(
+        spacetime: &'a dyn Spacetime,
+        observer: &Observer,
+        options: &RaytraceOptions,
+    ) -> Result<Self, ShadowError> {
+        if observer.radius.is_some() {
+            return Tracer::new(spacetime, observer, options);
+        }
+        observer.validate()?;
+        Tracer::build(spacetime, observer, options)
+    }
+
+    fn build(
+        spacetime: &'a dyn Spacetime,
+        observer: &Observer,
+        options: &RaytraceOptions,
+    ) -> Result<Self, ShadowError> {
         check_options(options)?;
         let d = options.start_radius;
         let horizon = spacetime.outer_horizon();
@@ -814,6 +837,21 @@ impl<'a> Tracer<'a> {
         } else {
             0.0
         }
+    }
+
+    /// A ray is captured at r ≤ this radius (in M).
+    pub(crate) fn capture_radius(&self) -> f64 {
+        self.capture_radius
+    }
+
+    /// An outgoing ray escapes beyond this radius (in M).
+    pub(crate) fn escape_radius(&self) -> f64 {
+        self.escape_radius
+    }
+
+    /// See [`Tracer::at_domain_edge`].
+    pub(crate) fn reached_domain_edge(&self, y: &PhaseState) -> bool {
+        self.at_domain_edge(y)
     }
 
     /// Whether a ray of a horizonless metric, moving inward, has reached the inner edge of the
