@@ -27,6 +27,7 @@ fn ring_chain_with_zero_errors_collapses_to_the_exact_value() {
             mass_msun: g(5.4e9, 0.0),
             distance_mpc: g(18.3, 0.0),
         },
+        kappa_origin: umbral::measurement::calibration::KappaOrigin::Given,
     };
     let p = chain.propagate(&[0.68, 0.95]).unwrap();
     let exact = 30.0 / (1.1 * 2.0 * theta_g_reference(5.4e9, 18.3));
@@ -55,6 +56,7 @@ fn monte_carlo_matches_linear_propagation_for_small_errors() {
             diameter_uas: g(30.0, 0.15),
             ring_to_shadow: g(1.1, 0.0022),
             scale,
+            kappa_origin: umbral::measurement::calibration::KappaOrigin::Given,
         };
         let p = chain.propagate(&[0.68, 0.95]).unwrap();
         for (mc, lin) in p.monte_carlo.iter().zip(&p.linear) {
@@ -77,6 +79,7 @@ fn too_wide_gaussians_are_refused() {
         scale: AngularScale::ThetaG {
             theta_g_uas: g(3.6, 0.1),
         },
+        kappa_origin: umbral::measurement::calibration::KappaOrigin::Given,
     };
     assert!(matches!(
         chain.propagate(&[0.68]),

@@ -403,8 +403,7 @@ mod tests {
     /// Kerr ISCO (Bardeen, Press & Teukolsky 1972, ApJ 178, 347, eq. 2.21), co-rotating.
     fn bpt_isco(a: f64) -> f64 {
         let a_abs = a.abs();
-        let z1 = 1.0
-            + (1.0 - a_abs * a_abs).cbrt() * ((1.0 + a_abs).cbrt() + (1.0 - a_abs).cbrt());
+        let z1 = 1.0 + (1.0 - a_abs * a_abs).cbrt() * ((1.0 + a_abs).cbrt() + (1.0 - a_abs).cbrt());
         let z2 = (3.0 * a_abs * a_abs + z1 * z1).sqrt();
         3.0 + z2 - ((3.0 - z1) * (3.0 + z1 + 2.0 * z2)).sqrt()
     }
@@ -413,7 +412,11 @@ mod tests {
     fn kerr_isco_matches_bardeen_press_teukolsky() {
         for a in [0.0, 0.3, 0.7, 0.9, 0.99, -0.5, -0.9] {
             let r = isco(&Kerr::new(a).unwrap()).unwrap();
-            assert!((r - bpt_isco(a)).abs() < 1e-8, "a = {a}: {r} vs {}", bpt_isco(a));
+            assert!(
+                (r - bpt_isco(a)).abs() < 1e-8,
+                "a = {a}: {r} vs {}",
+                bpt_isco(a)
+            );
         }
     }
 
@@ -438,9 +441,7 @@ mod tests {
     fn schwarzschild_infall_and_redshift_match_closed_forms() {
         // u^r = −√(2/r), u^t = 1/(1 − 2/r) (Falcke, Melia & Agol 2000 setting).
         let r: f64 = 5.0;
-        let u = Flow::Infall
-            .four_velocity(&Schwarzschild, r, 1.0)
-            .unwrap();
+        let u = Flow::Infall.four_velocity(&Schwarzschild, r, 1.0).unwrap();
         assert!((u[0] - 1.0 / (1.0 - 2.0 / r)).abs() < 1e-14);
         assert!((u[1] + (2.0 / r).sqrt()).abs() < 1e-14);
         // A radially outgoing photon, p = (−1, 1/(1 − 2/r), 0, 0): −p·u = u^t − p_r u^r

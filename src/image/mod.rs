@@ -17,6 +17,7 @@
 
 pub mod emission;
 pub mod inner_shadow;
+pub mod models;
 pub mod trace;
 
 use serde::Serialize;

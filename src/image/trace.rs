@@ -373,7 +373,10 @@ impl<'a> ImageTracer<'a> {
                             let end_rate = if k + 1 == parts && upto == 1.0 {
                                 rate
                             } else {
-                                self.infall_rate(&at((k + 1) as f64 * width), &mut record.unphysical)
+                                self.infall_rate(
+                                    &at((k + 1) as f64 * width),
+                                    &mut record.unphysical,
+                                )
                             };
                             total += (previous + 4.0 * mid_rate + end_rate) * h * width / 6.0;
                             previous = end_rate;
@@ -588,7 +591,9 @@ impl RenderedImage {
                     pixel.by_order.get(range).map_or(0.0, |v| v.iter().sum())
                 };
                 let nan_if_failed = |x: f64| if pixel.total.is_nan() { f64::NAN } else { x };
-                orders[0].push(nan_if_failed(pixel.by_order.first().copied().unwrap_or(0.0)));
+                orders[0].push(nan_if_failed(
+                    pixel.by_order.first().copied().unwrap_or(0.0),
+                ));
                 orders[1].push(nan_if_failed(pixel.by_order.get(1).copied().unwrap_or(0.0)));
                 orders[2].push(nan_if_failed(sum(2..)));
             }

@@ -34,6 +34,7 @@
 //! assert_eq!(derived.intervals.len(), 2); // 0.68 and 0.95 by default
 //! ```
 
+pub mod calibration;
 pub mod constants;
 pub mod gaussian;
 pub mod likelihood;
@@ -118,7 +119,8 @@ pub type FractionalDeviation = ValueErrors;
 #[serde(deny_unknown_fields)]
 struct FileRing {
     diameter_uas: Gaussian,
-    ring_to_shadow: Gaussian,
+    ring_to_shadow: toml::Value,
+    calibration: Option<calibration::CalibrationRequest>,
     mass_msun: Option<Gaussian>,
     theta_g_uas: Option<Gaussian>,
     distance_mpc: Option<Gaussian>,
@@ -368,8 +370,56 @@ fn circularity(c: FileCircularity) -> Result<CircularityLimit, MeasurementError>
     }
 }
 
+/// `ring_to_shadow`: a Gaussian, `"computed"` (with `[size.ring.calibration]`), or a
+/// calibration file's path (see [`calibration`]).
+fn kappa_of(
+    value: toml::Value,
+    request: Option<calibration::CalibrationRequest>,
+    base: &Path,
+) -> Result<(Gaussian, calibration::KappaOrigin), MeasurementError> {
+    use calibration::{CalibrationSummary, KappaOrigin};
+    let pending = Gaussian {
+        value: f64::NAN,
+        sigma: f64::NAN,
+    };
+    match value {
+        toml::Value::String(s) if s == "computed" => {
+            let mut request = request.ok_or_else(|| {
+                MeasurementError::Invalid(
+                    "ring_to_shadow = \"computed\" needs a [size.ring.calibration] table with \
+                     inclination_deg and resolution_uas"
+                        .into(),
+                )
+            })?;
+            request.validate()?;
+            request.models = request.models.map(|m| base.join(m));
+            Ok((pending, KappaOrigin::Pending(request)))
+        }
+        _ if request.is_some() => Err(MeasurementError::Invalid(
+            "[size.ring.calibration] is read only with ring_to_shadow = \"computed\"".into(),
+        )),
+        toml::Value::String(path) => {
+            let summary = CalibrationSummary::read(&base.join(&path))?;
+            Ok((
+                summary.kappa_gaussian(),
+                KappaOrigin::File { path, summary },
+            ))
+        }
+        other => {
+            let kappa: Gaussian = other.try_into().map_err(|e: toml::de::Error| {
+                MeasurementError::Parse(format!(
+                    "size.ring.ring_to_shadow must be {{ value = ..., sigma = ... }}, \
+                     \"computed\" or a calibration file's path: {}",
+                    e.message().trim()
+                ))
+            })?;
+            Ok((kappa, KappaOrigin::Given))
+        }
+    }
+}
+
 /// `[size.ring]`: the ring chain, with one angular scale (mass and distance, or θ_g).
-fn ring_chain(r: FileRing) -> Result<RingChain, MeasurementError> {
+fn ring_chain(r: FileRing, base: &Path) -> Result<RingChain, MeasurementError> {
     let scale = match (r.mass_msun, r.distance_mpc, r.theta_g_uas) {
         (Some(mass_msun), Some(distance_mpc), None) => AngularScale::MassDistance {
             mass_msun,
@@ -384,12 +434,16 @@ fn ring_chain(r: FileRing) -> Result<RingChain, MeasurementError> {
             ))
         }
     };
+    let (ring_to_shadow, kappa_origin) = kappa_of(r.ring_to_shadow, r.calibration, base)?;
     let chain = RingChain {
         diameter_uas: r.diameter_uas,
-        ring_to_shadow: r.ring_to_shadow,
+        ring_to_shadow,
         scale,
+        kappa_origin,
     };
-    chain.validate()?;
+    if chain.pending_calibration().is_none() {
+        chain.validate()?;
+    }
     Ok(chain)
 }
 
@@ -441,7 +495,7 @@ impl Measurement {
         } else if let Some(f) = file.size.fractional_deviation {
             SizeMeasurement::FractionalDeviation(value_errors("size.fractional_deviation", f)?)
         } else if let Some(r) = file.size.ring {
-            SizeMeasurement::Ring(ring_chain(r)?)
+            SizeMeasurement::Ring(ring_chain(r, base)?)
         } else if let Some(samples) = file.size.samples {
             SizeMeasurement::Samples(read_samples(samples, base)?)
         } else {
@@ -454,6 +508,31 @@ impl Measurement {
             circularity_max: circularity.map(|c| c.bound_cut()),
             circularity,
         })
+    }
+
+    /// The κ calibration this measurement still needs (`ring_to_shadow = "computed"`).
+    pub fn pending_calibration(&self) -> Option<&calibration::CalibrationRequest> {
+        match &self.size {
+            SizeMeasurement::Ring(chain) => chain.pending_calibration(),
+            _ => None,
+        }
+    }
+
+    /// Give a pending calibration its computed result (κ = its mean ± spread).
+    pub fn resolve_calibration(
+        &mut self,
+        summary: calibration::CalibrationSummary,
+    ) -> Result<(), MeasurementError> {
+        match &mut self.size {
+            SizeMeasurement::Ring(chain) if chain.pending_calibration().is_some() => {
+                chain.ring_to_shadow = summary.kappa_gaussian();
+                chain.kappa_origin = calibration::KappaOrigin::Computed(summary);
+                chain.validate()
+            }
+            _ => Err(MeasurementError::Invalid(
+                "this measurement has no pending ring-to-shadow calibration".into(),
+            )),
+        }
     }
 
     /// The r_sh/M intervals at `levels` (default: the file's levels for the shadow-radius
@@ -762,13 +841,10 @@ fn ring_intervals(
         ),
     };
     assumptions.push(format!(
-        "size: r_sh/M = d_ring / (kappa 2 theta_g) with d_ring = {} +- {} uas, \
-         kappa = ring/shadow diameter = {} +- {} (calibration from the user's \
-         emission modelling), {scale}",
+        "size: r_sh/M = d_ring / (kappa 2 theta_g) with d_ring = {} +- {} uas, {}, {scale}",
         chain.diameter_uas.value,
         chain.diameter_uas.sigma,
-        chain.ring_to_shadow.value,
-        chain.ring_to_shadow.sigma
+        chain.kappa_origin.describe(chain.ring_to_shadow),
     ));
     assumptions.push(format!(
         "priors: independent Gaussians truncated to positive values (draws <= 0 \

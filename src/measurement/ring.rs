@@ -5,6 +5,7 @@
 //! Gaussians; the distribution of r_sh/M is found by a seeded Monte Carlo and cross-checked
 //! against first-order error propagation, σ_r/r = √Σ(σ_i/x_i)² for a product of powers ±1.
 
+use super::calibration::{CalibrationRequest, KappaOrigin};
 use super::constants::theta_g_uas;
 use super::gaussian::two_sided_z;
 use super::{Gaussian, MeasurementError, RadiusInterval};
@@ -40,7 +41,7 @@ pub enum AngularScale {
 }
 
 /// The measured ring and its calibration.
-#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct RingChain {
     /// Emission-ring diameter in micro-arcseconds.
     pub diameter_uas: Gaussian,
@@ -48,6 +49,8 @@ pub struct RingChain {
     pub ring_to_shadow: Gaussian,
     /// The angular scale θ_g, given directly or through mass and distance.
     pub scale: AngularScale,
+    /// Where κ comes from.
+    pub kappa_origin: KappaOrigin,
 }
 
 /// Both propagations of the ring chain.
@@ -97,8 +100,34 @@ impl RingChain {
         x[0] / (x[1] * 2.0 * theta_g)
     }
 
+    /// The κ calibration still to be computed, if any.
+    pub fn pending_calibration(&self) -> Option<&CalibrationRequest> {
+        match &self.kappa_origin {
+            KappaOrigin::Pending(request) => Some(request),
+            _ => None,
+        }
+    }
+
+    /// θ_g at the central values, in μas.
+    pub fn central_theta_g_uas(&self) -> f64 {
+        match self.scale {
+            AngularScale::MassDistance {
+                mass_msun,
+                distance_mpc,
+            } => theta_g_uas(mass_msun.value, distance_mpc.value),
+            AngularScale::ThetaG { theta_g_uas } => theta_g_uas.value,
+        }
+    }
+
     /// Check that every value is positive and finite and every sigma non-negative and finite.
     pub fn validate(&self) -> Result<(), MeasurementError> {
+        if self.pending_calibration().is_some() {
+            return Err(MeasurementError::Invalid(
+                "ring_to_shadow = \"computed\": kappa has not been computed yet (the command \
+                 line computes it before a bound or posterior)"
+                    .into(),
+            ));
+        }
         for (name, g, _) in self.inputs() {
             if !(g.value.is_finite() && g.value > 0.0) {
                 return Err(MeasurementError::Invalid(format!(

@@ -8,6 +8,7 @@
 //! source (every black hole has its own); every other metric parameter is shared.
 
 use super::InferError;
+use crate::measurement::calibration::KappaOrigin;
 use crate::measurement::ring::AngularScale;
 use crate::measurement::{Gaussian, Measurement, SizeMeasurement};
 use crate::metric::MetricInfo;
@@ -122,6 +123,17 @@ pub fn parameters(
     for (k, m) in sources.iter().enumerate() {
         if let SizeMeasurement::Ring(chain) = &m.size {
             let mut ring = |what: &'static str, g: Gaussian| {
+                let origin = if what == KAPPA && chain.kappa_origin != KappaOrigin::Given {
+                    format!(
+                        "a Gaussian truncated to positive values: {}",
+                        chain.kappa_origin.describe(g)
+                    )
+                } else {
+                    format!(
+                        "the measurement file's Gaussian {} +- {}, truncated to positive values",
+                        g.value, g.sigma
+                    )
+                };
                 out.push(Parameter {
                     name: format!("{what}@{}", k + 1),
                     role: Role::Ring { source: k, what },
@@ -129,10 +141,7 @@ pub fn parameters(
                         mean: g.value,
                         sigma: g.sigma,
                     },
-                    origin: format!(
-                        "the measurement file's Gaussian {} +- {}, truncated to positive values",
-                        g.value, g.sigma
-                    ),
+                    origin,
                 });
             };
             ring(KAPPA, chain.ring_to_shadow);
