@@ -34,6 +34,21 @@
 //! β²; Carter 1968). Angles run in parallel; every angle is computed on its own, so the result
 //! does not depend on the number of threads.
 //!
+//! # Early end: a radial turning point decides escape
+//!
+//! For a distant observer of a metric declared separable or spherically symmetric, a ray
+//! that turns outward after moving inward is declared escaped at its turning point
+//! ([`RayOutcome::escaped_at_turning_point`]). The radial motion of such a metric obeys
+//! (dr/dσ)² = R(r) with R depending on r and the ray's constants of motion only (Carter
+//! 1968, Phys. Rev. 174, 1559; for ds² = −A dt² + B dr² + C dΩ², R ∝ E²/A − L²/C): the
+//! backward ray comes in from the start radius D, so R ≥ 0 on all of [r_min, D], and after
+//! its turning point r_min it cannot meet another zero of R before D. This holds at any
+//! turning point, inside or outside the photon region. Where it does not hold the ray is
+//! followed to the escape radius as before: a metric without declared separation (its rays
+//! may turn several times), and a finite observer (the range between r_o and the escape
+//! radius was never crossed). The photon-orbit check and the re-traced rays are always
+//! followed to the end, so that their windings keep their meaning.
+//!
 //! # Checks: photon orbits and accuracy
 //!
 //! A captured/escaping boundary is a shadow's edge only if it is formed by photon orbits:
@@ -275,6 +290,9 @@ pub struct RayOutcome {
     pub winding: f64,
     /// The smallest radius reached.
     pub min_radius: f64,
+    /// The ray was declared escaped at its radial turning point (module docs, "Early end"),
+    /// not followed out to the escape radius.
+    pub escaped_at_turning_point: bool,
 }
 
 /// The boundary crossings along one radial screen line.
@@ -368,6 +386,9 @@ pub struct Tracer<'a> {
     /// The winding is summed only while r exceeds this radius, so that rays traced with
     /// different capture margins compare.
     winding_radius: f64,
+    /// A ray that turns outward after moving inward escapes (module docs, "Early end"):
+    /// set for a distant observer of a metric declared separable or spherically symmetric.
+    turning_point_escapes: bool,
     quadrature: Vec<(f64, f64)>,
 }
 
@@ -378,6 +399,10 @@ struct PathRecord {
     min_radius: f64,
     last: PhaseState,
     inward: bool,
+    /// An inward step has been taken.
+    moved_inward: bool,
+    /// An outward step has followed an inward one: the ray passed a radial turning point.
+    turned: bool,
     /// The direction from the centre and the frame-dragging rate ω at the last point, when
     /// the winding is measured.
     direction: Option<([f64; 3], f64)>,
@@ -392,6 +417,8 @@ impl PathRecord {
             min_radius: y0[1],
             last: *y0,
             inward: false,
+            moved_inward: false,
+            turned: false,
             direction: measure.then(|| (direction(y0), 0.0)),
             winding_radius,
         }
@@ -408,6 +435,8 @@ impl PathRecord {
         self.min_radius = self.min_radius.min(new[1]);
         self.last = *new;
         self.inward = new[1] < old[1];
+        self.moved_inward |= self.inward;
+        self.turned |= self.moved_inward && new[1] > old[1];
         if let Some((previous, previous_omega)) = self.direction {
             // The direction relative to the locally non-rotating frames: rotated back about
             // the axis by the mean ω times the step in t.
@@ -548,6 +577,8 @@ impl<'a> Tracer<'a> {
             escape_radius,
             horizonless: horizon.is_none(),
             winding_radius: capture_radius,
+            turning_point_escapes: observer.radius.is_none()
+                && (spacetime.is_separable() || spacetime.symmetry() == Symmetry::Spherical),
             quadrature: crate::numerics::gauss_legendre_unit(options.correction_nodes),
         })
     }
@@ -672,23 +703,34 @@ impl<'a> Tracer<'a> {
         (dp, dl)
     }
 
-    /// Follow the ray through (α, β) backwards until capture, escape or failure.
+    /// Follow the ray through (α, β) backwards until capture, escape or failure; where the
+    /// metric and observer allow it, an escaping ray ends at its radial turning point (module
+    /// docs, "Early end").
     pub fn trace(&self, alpha: f64, beta: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, self.options.integrator.rtol, false)
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, false, true)
     }
 
-    /// [`Tracer::trace`] with relative tolerance `rtol`.
-    pub(crate) fn trace_with(&self, alpha: f64, beta: f64, rtol: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, rtol, false)
+    /// [`Tracer::trace`] with relative tolerance `rtol`, the winding measured when `measure`
+    /// (up to where the ray ends, its turning point for an early escape).
+    pub(crate) fn trace_with(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
+        self.trace_ray(alpha, beta, rtol, measure, true)
     }
 
-    /// [`Tracer::trace`] with the winding measured (see [`RayOutcome::winding`]).
+    /// [`Tracer::trace`] with the winding measured (see [`RayOutcome::winding`]), every ray
+    /// followed to the capture or escape radius (no early end).
     pub fn trace_measured(&self, alpha: f64, beta: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, self.options.integrator.rtol, true)
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, true, false)
     }
 
     // Long: one loop over the strict and relaxed phases of a ray, sharing the path record, the event and the integrator call; the ray tracer's hot path, kept whole for speed.
-    fn trace_ray(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
+    fn trace_ray(
+        &self,
+        alpha: f64,
+        beta: f64,
+        rtol: f64,
+        measure: bool,
+        early: bool,
+    ) -> RayOutcome {
         let y0 = match self.start_state(alpha, beta) {
             Ok(y) => y,
             Err(failure) => {
@@ -697,10 +739,12 @@ impl<'a> Tracer<'a> {
                     steps: 0,
                     winding: 0.0,
                     min_radius: f64::INFINITY,
+                    escaped_at_turning_point: false,
                 }
             }
         };
         let capture = self.capture_radius;
+        let early = early && self.turning_point_escapes;
         let strict_settings = IntegratorSettings {
             rtol,
             ..self.options.integrator
@@ -741,7 +785,11 @@ impl<'a> Tracer<'a> {
                         0.0
                     };
                     path.step(old, new, omega);
-                    event = self.step_event(old, new, strict);
+                    event = if early && path.turned {
+                        Some(Some(RayFate::Escaped))
+                    } else {
+                        self.step_event(old, new, strict)
+                    };
                     if event.is_some() {
                         Control::Stop
                     } else {
@@ -777,6 +825,7 @@ impl<'a> Tracer<'a> {
             steps: path.steps,
             winding: path.winding,
             min_radius: path.min_radius,
+            escaped_at_turning_point: early && path.turned && fate == RayFate::Escaped,
         }
     }
 
@@ -844,7 +893,13 @@ impl<'a> Tracer<'a> {
         let (sin, cos) = line.psi.sin_cos();
         let pair = |tracer: &Tracer, d: f64, rtol: f64, line: &mut LineBoundary| {
             let outcomes = [crossing - d, crossing + d].map(|rho| {
-                tracer.trace_ray(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true)
+                tracer.trace_ray(
+                    origin[0] + rho * cos,
+                    origin[1] + rho * sin,
+                    rtol,
+                    true,
+                    false,
+                )
             });
             for out in &outcomes {
                 line.rays += 1;
@@ -1068,7 +1123,7 @@ impl LineProbe<'_, '_> {
         let (origin, psi) = (self.origin, self.psi);
         let out =
             self.tracer
-                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol);
+                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol, false);
         line.rays += 1;
         line.steps += out.steps;
         match out.fate {
