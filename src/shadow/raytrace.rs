@@ -122,7 +122,6 @@ use crate::geodesic::{
     IntegrationFailure, IntegratorSettings, PhaseState,
 };
 use crate::metric::{Spacetime, Symmetry};
-use crate::numerics::try_bisect;
 use crate::scalar::DualScalar;
 use num_dual::Dual64;
 use rayon::prelude::*;
@@ -1104,8 +1103,142 @@ impl<'a> Tracer<'a> {
     }
 }
 
-/// A bracket of the scan along a line: (ρ_lo, ρ_hi, whether the ray at ρ_lo is captured).
-type LineBracket = (f64, f64, bool);
+/// A bracket of the scan along a line: ρ_lo < ρ_hi, whether the ray at ρ_lo is captured,
+/// and the windings of the two rays.
+#[derive(Debug, Clone, Copy)]
+struct LineBracket {
+    lo: f64,
+    hi: f64,
+    captured_lo: bool,
+    winding: [f64; 2],
+}
+
+/// A bracket being refined: `a` is on the side of the line's inner end (the side of
+/// [`LineBracket::captured_lo`]), `b` on the other; `wa`, `wb` are their rays' windings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Bracket {
+    a: f64,
+    wa: f64,
+    b: f64,
+    wb: f64,
+}
+
+impl Bracket {
+    fn width(&self) -> f64 {
+        (self.b - self.a).abs()
+    }
+}
+
+/// A classified ray of a bracket's refinement: (ρ, winding, on the side of `a`).
+type Probed = (f64, f64, bool);
+
+/// The logarithmic law of the winding on one side of a crossing near `centre`,
+/// w = c − k ln|ρ − ρ_c| (module docs, "Checks"): k by least squares over the rays of that
+/// side between `near` and `far` from `centre` (where the distance is known to a few per
+/// cent and the law holds), c from the two of them nearest the crossing (the law's
+/// corrections shrink with the distance); `None` without two such rays an e-fold apart or
+/// for an implausible slope.
+fn winding_law(probed: &[Probed], side: bool, centre: f64, near: f64, far: f64) -> Option<(f64, f64)> {
+    let mut points: Vec<(f64, f64)> = probed
+        .iter()
+        .filter(|p| p.2 == side)
+        .map(|p| ((p.0 - centre).abs(), p.1))
+        .filter(|&(d, w)| d >= near && d <= far && w.is_finite())
+        .map(|(d, w)| (d.ln(), w))
+        .collect();
+    if points.len() < 2 {
+        return None;
+    }
+    let n = points.len() as f64;
+    let mx = points.iter().map(|p| p.0).sum::<f64>() / n;
+    let my = points.iter().map(|p| p.1).sum::<f64>() / n;
+    let sxx: f64 = points.iter().map(|p| (p.0 - mx) * (p.0 - mx)).sum();
+    let sxy: f64 = points.iter().map(|p| (p.0 - mx) * (p.1 - my)).sum();
+    let (lo, hi) = points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.0), hi.max(p.0))
+        });
+    let k = -sxy / sxx;
+    points.sort_by(|p, q| p.0.total_cmp(&q.0));
+    let c = 0.5 * (points[0].1 + points[1].1 + k * (points[0].0 + points[1].0));
+    (hi - lo >= 1.0 && k.is_finite() && (1e-3..=1e3).contains(&k)).then_some((k, c))
+}
+
+/// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
+/// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
+/// (module docs, "Checks"), so a ray's winding says how far it is from the crossing:
+/// |ρ − ρ_c| = exp((c − w)/k), with (k, c) fitted per side to the rays met so far
+/// ([`winding_law`]). The next ray goes just beyond the crossing predicted from the nearer
+/// end, by a margin ε times the predicted distance (ε starts at 0.1, shrinks threefold after
+/// each ray on the expected side and grows threefold after a surprise), so each ray cuts
+/// the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
+/// fitted and after any two rays that did not halve the bracket, and every ray inside the
+/// bracket at least min(0.45 `width`, a quarter of the bracket) from its ends. The bracket
+/// always holds a change of fate, so the windings choose the rays but never weaken the
+/// result's guarantee. `probe(ρ)` classifies a ray (on the side of `a`?) and gives its
+/// winding; its error ends the refinement. Rays go into `probed`.
+fn guided_refine<E>(
+    mut bracket: Bracket,
+    width: f64,
+    probed: &mut Vec<Probed>,
+    mut probe: impl FnMut(f64) -> Result<(bool, f64), E>,
+) -> Result<Bracket, E> {
+    // The width two rays ago, for the bisection safeguard.
+    let mut widths = [f64::INFINITY; 2];
+    let mut eps: f64 = 0.1;
+    while bracket.width() > width {
+        let w = bracket.width();
+        let dir = (bracket.b - bracket.a).signum();
+        let centre = 0.5 * (bracket.a + bracket.b);
+        let (near, far) = (10.0 * w, 0.05 * centre.abs().max(1.0));
+        let distance = |side: bool, winding: f64| {
+            winding_law(probed, side, centre, near, far)
+                .map(|(k, c)| ((c - winding) / k).exp())
+                .filter(|d| d.is_finite() && *d < w)
+        };
+        // The crossing predicted from the nearer end, and the side the ray beyond it should
+        // fall on; none when the two ends disagree.
+        let guess = match (distance(true, bracket.wa), distance(false, bracket.wb)) {
+            (Some(da), Some(db)) if (da + db - w).abs() > 0.3 * w => None,
+            (Some(da), Some(db)) if da <= db => Some((bracket.a + dir * da, da, false)),
+            (Some(da), None) => Some((bracket.a + dir * da, da, false)),
+            (_, Some(db)) => Some((bracket.b - dir * db, db, true)),
+            (None, None) => None,
+        };
+        let guess = guess.filter(|_| widths[0] >= 2.0 * w);
+        let rho = match guess {
+            Some((estimate, d, beyond_a)) => {
+                let step = (eps * d).max(0.45 * width);
+                estimate + if beyond_a { -dir * step } else { dir * step }
+            }
+            None => centre,
+        };
+        let margin = (0.45 * width).min(0.25 * w);
+        let rho = rho.clamp(
+            bracket.a.min(bracket.b) + margin,
+            bracket.a.max(bracket.b) - margin,
+        );
+        let (side_a, winding) = probe(rho)?;
+        probed.push((rho, winding, side_a));
+        if let Some((_, _, expected)) = guess {
+            eps = if side_a == expected {
+                (eps / 3.0).max(1e-3)
+            } else {
+                (eps * 3.0).min(0.3)
+            };
+        }
+        widths = [widths[1], w];
+        if side_a {
+            bracket.a = rho;
+            bracket.wa = winding;
+        } else {
+            bracket.b = rho;
+            bracket.wb = winding;
+        }
+    }
+    Ok(bracket)
+}
 
 /// Rays along one screen line origin + ρ (cos ψ, sin ψ) ([`Tracer::scan_line`]).
 struct LineProbe<'t, 'a> {
@@ -1119,16 +1252,16 @@ struct LineProbe<'t, 'a> {
 impl LineProbe<'_, '_> {
     /// Whether the ray at ρ is captured (at relative tolerance `rtol`), counted in `line`;
     /// `None` for a failed ray, whose message `line` keeps (the first one).
-    fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<bool> {
+    fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<(bool, f64)> {
         let (origin, psi) = (self.origin, self.psi);
         let out =
             self.tracer
-                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol, false);
+                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol, true);
         line.rays += 1;
         line.steps += out.steps;
         match out.fate {
-            RayFate::Captured => Some(true),
-            RayFate::Escaped => Some(false),
+            RayFate::Captured => Some((true, out.winding)),
+            RayFate::Escaped => Some((false, out.winding)),
             RayFate::Failed(f) => {
                 line.failed_rays += 1;
                 if line.failure.is_none() {
@@ -1158,7 +1291,7 @@ impl LineProbe<'_, '_> {
             ..
         } = *scan;
         let mut brackets = Vec::new();
-        let mut previous = origin_captured;
+        let mut previous = (origin_captured, f64::NAN);
         let mut last_captured = 0.0;
         let mut j = 1usize;
         loop {
@@ -1170,9 +1303,14 @@ impl LineProbe<'_, '_> {
                 ));
                 return None;
             }
-            let captured = self.classify(rho, coarse, line)?;
-            if captured != previous {
-                brackets.push(((j - 1) as f64 * spacing, rho, previous));
+            let (captured, winding) = self.classify(rho, coarse, line)?;
+            if captured != previous.0 {
+                brackets.push(LineBracket {
+                    lo: (j - 1) as f64 * spacing,
+                    hi: rho,
+                    captured_lo: previous.0,
+                    winding: [previous.1, winding],
+                });
             }
             if captured {
                 last_captured = rho;
@@ -1181,49 +1319,62 @@ impl LineProbe<'_, '_> {
             {
                 return Some(brackets);
             }
-            previous = captured;
+            previous = (captured, winding);
             j += 1;
         }
     }
 
-    /// The crossing in one scan bracket, by bisection in three stages (coarse tolerance down
-    /// to the coarse width; the bracket confirmed at the strict tolerance; strict bisection to
-    /// `tolerance`). `Err(false)` for a failed ray, `Err(true)` if the strict tolerance does
-    /// not confirm the bracket (the reason is in `line`).
+    /// The crossing in one scan bracket, in three stages (coarse tolerance down to the coarse
+    /// width; the bracket confirmed at the strict tolerance; strict refinement to
+    /// `tolerance`), each refinement by [`guided_refine`]. `Err(false)` for a failed ray,
+    /// `Err(true)` if the strict tolerance does not confirm the bracket (the reason is in
+    /// `line`).
     fn crossing(
         &self,
-        (scan_lo, scan_hi, captured_lo): LineBracket,
+        scan_bracket: LineBracket,
         tolerance: f64,
         coarse: f64,
         line: &mut LineBoundary,
     ) -> Result<f64, bool> {
         let strict = self.tracer.options.integrator.rtol;
         let width = self.tracer.options.coarse_width;
+        let LineBracket {
+            lo: scan_lo,
+            hi: scan_hi,
+            captured_lo,
+            winding,
+        } = scan_bracket;
         let mut same_as_lo = |rho: f64, rtol: f64| {
             self.classify(rho, rtol, line)
-                .map(|captured| captured == captured_lo)
+                .map(|(captured, w)| (captured == captured_lo, w))
                 .ok_or(false)
         };
+        let mut probed: Vec<Probed> = vec![
+            (scan_lo, winding[0], true),
+            (scan_hi, winding[1], false),
+        ];
         // Stage 1, coarse tolerance: down to the coarse width.
-        let (lo, hi) = try_bisect(
-            |rho| same_as_lo(rho, coarse),
-            scan_lo,
-            scan_hi,
-            width,
-            usize::MAX,
-        )?;
+        let start = Bracket {
+            a: scan_lo,
+            wa: winding[0],
+            b: scan_hi,
+            wb: winding[1],
+        };
+        let coarse_bracket =
+            guided_refine(start, width, &mut probed, |rho| same_as_lo(rho, coarse))?;
+        let (lo, hi) = (coarse_bracket.a, coarse_bracket.b);
         // Stage 2: confirm a widened bracket with the strict tolerance (a coarse ray near
         // the boundary may be misclassified); fall back to the scan bracket.
         let mut confirmed = None;
         for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
-            let inside_a = same_as_lo(a, strict)?;
-            let inside_b = same_as_lo(b, strict)?;
+            let (inside_a, wa) = same_as_lo(a, strict)?;
+            let (inside_b, wb) = same_as_lo(b, strict)?;
             if inside_a && !inside_b {
-                confirmed = Some((a, b));
+                confirmed = Some(Bracket { a, wa, b, wb });
                 break;
             }
         }
-        let Some((lo, hi)) = confirmed else {
+        let Some(bracket) = confirmed else {
             line.failure = Some(format!(
                 "the crossing between screen radii {scan_lo} and {scan_hi} along psi = {} is \
                  not confirmed at the strict tolerance",
@@ -1233,14 +1384,10 @@ impl LineProbe<'_, '_> {
         };
         // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
         // point of the bracket.
-        let (lo, hi) = try_bisect(
-            |rho| same_as_lo(rho, strict),
-            lo,
-            hi,
-            2.0 * tolerance,
-            usize::MAX,
-        )?;
-        Ok(0.5 * (lo + hi))
+        let bracket = guided_refine(bracket, 2.0 * tolerance, &mut probed, |rho| {
+            same_as_lo(rho, strict)
+        })?;
+        Ok(0.5 * (bracket.a + bracket.b))
     }
 }
 
