@@ -14,6 +14,9 @@ use umbral::shadow::{
     solve, CriticalCurve, Observer, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice,
 };
 
+/// A metric by name, its parameter assignments and an inclination in degrees.
+type Case = (&'static str, Vec<(&'static str, f64)>, f64);
+
 fn build(name: &str, set: &[(&str, f64)]) -> Box<dyn Spacetime> {
     let a: Vec<(String, f64)> = set.iter().map(|(k, v)| (k.to_string(), *v)).collect();
     build_metric(name, &a).unwrap()
@@ -57,7 +60,7 @@ fn max_distance(traced: &CriticalCurve, reference: &CriticalCurve) -> f64 {
 /// interpolation error, bounded by comparing with 2048 points, is far below the tolerance.
 #[test]
 fn traced_kerr_and_kerr_newman_agree_with_the_separable_solver_to_1e_8() {
-    let mut cases: Vec<(&str, Vec<(&str, f64)>, f64)> = Vec::new();
+    let mut cases: Vec<Case> = Vec::new();
     for a in [0.0, 0.5, 0.9, 0.99, 0.998] {
         for deg in [17.0, 60.0, 90.0] {
             cases.push(("kerr", vec![("a", a)], deg));
@@ -72,8 +75,12 @@ fn traced_kerr_and_kerr_newman_agree_with_the_separable_solver_to_1e_8() {
             let raytrace = traced.diagnostics.raytrace.as_ref().unwrap();
             assert!(raytrace.tolerance_met, "{name} {set:?} {deg}: {raytrace:?}");
             let traced = traced.curve.unwrap();
-            let fine = shadow(m.as_ref(), *deg, "separable", 4096, 1e-10).curve.unwrap();
-            let coarse = shadow(m.as_ref(), *deg, "separable", 2048, 1e-10).curve.unwrap();
+            let fine = shadow(m.as_ref(), *deg, "separable", 4096, 1e-10)
+                .curve
+                .unwrap();
+            let coarse = shadow(m.as_ref(), *deg, "separable", 2048, 1e-10)
+                .curve
+                .unwrap();
             (
                 format!("{name} {set:?} at {deg} deg"),
                 max_distance(&traced, &fine),
@@ -85,7 +92,10 @@ fn traced_kerr_and_kerr_newman_agree_with_the_separable_solver_to_1e_8() {
         println!("{label}: {d:.2e} M (reference interpolation {interpolation:.1e})");
     }
     for (label, d, interpolation) in &results {
-        assert!(interpolation.abs() < 1e-10, "{label}: reference {interpolation:e}");
+        assert!(
+            interpolation.abs() < 1e-10,
+            "{label}: reference {interpolation:e}"
+        );
         assert!(*d < 1e-8, "{label}: {d:e} M");
     }
 }
@@ -117,7 +127,10 @@ fn traced_spherical_catalogue_metrics_agree_with_the_critical_impact_parameter_t
         .map(|(name, set)| {
             let m = build(name, set);
             let analysis = photon_sphere_analysis(m.as_ref()).unwrap();
-            let b_c = analysis.capture.expect("a capturing photon sphere").impact_parameter;
+            let b_c = analysis
+                .capture
+                .expect("a capturing photon sphere")
+                .impact_parameter;
             let traced = shadow(m.as_ref(), 60.0, "raytrace", 8, 1e-10);
             let curve = traced.curve.unwrap();
             let (alpha, beta) = curve.alpha_beta();
@@ -153,7 +166,13 @@ fn the_early_end_falls_back_to_full_integration_where_it_does_not_apply() {
     let opaque = Tracer::new(jp.as_ref(), &distant, &options).unwrap();
     let nearby = Tracer::new(&kerr, &finite, &options).unwrap();
     // Escaping (outside the curve, near it and far from it) and captured screen points.
-    for (alpha, beta) in [(7.0, 0.0), (-3.2, 0.5), (2.0, 5.5), (20.0, -3.0), (1.5, 0.0)] {
+    for (alpha, beta) in [
+        (7.0, 0.0),
+        (-3.2, 0.5),
+        (2.0, 5.5),
+        (20.0, -3.0),
+        (1.5, 0.0),
+    ] {
         let e = early.trace(alpha, beta);
         let o = opaque.trace(alpha, beta);
         assert_eq!(e.fate, o.fate, "({alpha}, {beta})");
@@ -161,7 +180,12 @@ fn the_early_end_falls_back_to_full_integration_where_it_does_not_apply() {
         assert!(!nearby.trace(alpha, beta).escaped_at_turning_point);
         if e.escaped_at_turning_point {
             // Ended at the closest approach, with fewer steps than the full ray.
-            assert!(e.steps < o.steps, "({alpha}, {beta}): {} vs {}", e.steps, o.steps);
+            assert!(
+                e.steps < o.steps,
+                "({alpha}, {beta}): {} vs {}",
+                e.steps,
+                o.steps
+            );
             assert!((e.min_radius - o.min_radius).abs() < 1e-6 * o.min_radius);
         }
     }
@@ -174,7 +198,10 @@ fn the_early_end_falls_back_to_full_integration_where_it_does_not_apply() {
 #[test]
 fn traced_curves_are_bit_identical_on_one_and_two_threads() {
     let cases: Vec<(Box<dyn Spacetime>, f64)> = vec![
-        (build("johannsen-psaltis", &[("a", 0.7), ("eps3", 1.0)]), 40.0),
+        (
+            build("johannsen-psaltis", &[("a", 0.7), ("eps3", 1.0)]),
+            40.0,
+        ),
         (build("kerr", &[("a", 0.95)]), 75.0),
     ];
     for (m, deg) in &cases {

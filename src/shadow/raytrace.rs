@@ -1138,7 +1138,13 @@ type Probed = (f64, f64, bool);
 /// cent and the law holds), c from the two of them nearest the crossing (the law's
 /// corrections shrink with the distance); `None` without two such rays an e-fold apart or
 /// for an implausible slope.
-fn winding_law(probed: &[Probed], side: bool, centre: f64, near: f64, far: f64) -> Option<(f64, f64)> {
+fn winding_law(
+    probed: &[Probed],
+    side: bool,
+    centre: f64,
+    near: f64,
+    far: f64,
+) -> Option<(f64, f64)> {
     let mut points: Vec<(f64, f64)> = probed
         .iter()
         .filter(|p| p.2 == side)
@@ -1254,9 +1260,12 @@ impl LineProbe<'_, '_> {
     /// `None` for a failed ray, whose message `line` keeps (the first one).
     fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<(bool, f64)> {
         let (origin, psi) = (self.origin, self.psi);
-        let out =
-            self.tracer
-                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol, true);
+        let out = self.tracer.trace_with(
+            origin[0] + rho * self.cos,
+            origin[1] + rho * self.sin,
+            rtol,
+            true,
+        );
         line.rays += 1;
         line.steps += out.steps;
         match out.fate {
@@ -1349,10 +1358,8 @@ impl LineProbe<'_, '_> {
                 .map(|(captured, w)| (captured == captured_lo, w))
                 .ok_or(false)
         };
-        let mut probed: Vec<Probed> = vec![
-            (scan_lo, winding[0], true),
-            (scan_hi, winding[1], false),
-        ];
+        let mut probed: Vec<Probed> =
+            vec![(scan_lo, winding[0], true), (scan_hi, winding[1], false)];
         // Stage 1, coarse tolerance: down to the coarse width.
         let start = Bracket {
             a: scan_lo,
