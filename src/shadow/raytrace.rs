@@ -34,6 +34,21 @@
 //! β²; Carter 1968). Angles run in parallel; every angle is computed on its own, so the result
 //! does not depend on the number of threads.
 //!
+//! # Early end: a radial turning point decides escape
+//!
+//! For a distant observer of a metric declared separable or spherically symmetric, a ray
+//! that turns outward after moving inward is declared escaped at its turning point
+//! ([`RayOutcome::escaped_at_turning_point`]). The radial motion of such a metric obeys
+//! (dr/dσ)² = R(r) with R depending on r and the ray's constants of motion only (Carter
+//! 1968, Phys. Rev. 174, 1559; for ds² = −A dt² + B dr² + C dΩ², R ∝ E²/A − L²/C): the
+//! backward ray comes in from the start radius D, so R ≥ 0 on all of [r_min, D], and after
+//! its turning point r_min it cannot meet another zero of R before D. This holds at any
+//! turning point, inside or outside the photon region. Where it does not hold the ray is
+//! followed to the escape radius as before: a metric without declared separation (its rays
+//! may turn several times), and a finite observer (the range between r_o and the escape
+//! radius was never crossed). The photon-orbit check and the re-traced rays are always
+//! followed to the end, so that their windings keep their meaning.
+//!
 //! # Checks: photon orbits and accuracy
 //!
 //! A captured/escaping boundary is a shadow's edge only if it is formed by photon orbits:
@@ -107,7 +122,6 @@ use crate::geodesic::{
     IntegrationFailure, IntegratorSettings, PhaseState,
 };
 use crate::metric::{Spacetime, Symmetry};
-use crate::numerics::try_bisect;
 use crate::scalar::DualScalar;
 use num_dual::Dual64;
 use rayon::prelude::*;
@@ -275,6 +289,9 @@ pub struct RayOutcome {
     pub winding: f64,
     /// The smallest radius reached.
     pub min_radius: f64,
+    /// The ray was declared escaped at its radial turning point (module docs, "Early end"),
+    /// not followed out to the escape radius.
+    pub escaped_at_turning_point: bool,
 }
 
 /// The boundary crossings along one radial screen line.
@@ -368,6 +385,9 @@ pub struct Tracer<'a> {
     /// The winding is summed only while r exceeds this radius, so that rays traced with
     /// different capture margins compare.
     winding_radius: f64,
+    /// A ray that turns outward after moving inward escapes (module docs, "Early end"):
+    /// set for a distant observer of a metric declared separable or spherically symmetric.
+    turning_point_escapes: bool,
     quadrature: Vec<(f64, f64)>,
 }
 
@@ -378,6 +398,10 @@ struct PathRecord {
     min_radius: f64,
     last: PhaseState,
     inward: bool,
+    /// An inward step has been taken.
+    moved_inward: bool,
+    /// An outward step has followed an inward one: the ray passed a radial turning point.
+    turned: bool,
     /// The direction from the centre and the frame-dragging rate ω at the last point, when
     /// the winding is measured.
     direction: Option<([f64; 3], f64)>,
@@ -392,6 +416,8 @@ impl PathRecord {
             min_radius: y0[1],
             last: *y0,
             inward: false,
+            moved_inward: false,
+            turned: false,
             direction: measure.then(|| (direction(y0), 0.0)),
             winding_radius,
         }
@@ -408,6 +434,8 @@ impl PathRecord {
         self.min_radius = self.min_radius.min(new[1]);
         self.last = *new;
         self.inward = new[1] < old[1];
+        self.moved_inward |= self.inward;
+        self.turned |= self.moved_inward && new[1] > old[1];
         if let Some((previous, previous_omega)) = self.direction {
             // The direction relative to the locally non-rotating frames: rotated back about
             // the axis by the mean ω times the step in t.
@@ -571,6 +599,8 @@ impl<'a> Tracer<'a> {
             escape_radius,
             horizonless: horizon.is_none(),
             winding_radius: capture_radius,
+            turning_point_escapes: observer.radius.is_none()
+                && (spacetime.is_separable() || spacetime.symmetry() == Symmetry::Spherical),
             quadrature: crate::numerics::gauss_legendre_unit(options.correction_nodes),
         })
     }
@@ -695,23 +725,34 @@ impl<'a> Tracer<'a> {
         (dp, dl)
     }
 
-    /// Follow the ray through (α, β) backwards until capture, escape or failure.
+    /// Follow the ray through (α, β) backwards until capture, escape or failure; where the
+    /// metric and observer allow it, an escaping ray ends at its radial turning point (module
+    /// docs, "Early end").
     pub fn trace(&self, alpha: f64, beta: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, self.options.integrator.rtol, false)
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, false, true)
     }
 
-    /// [`Tracer::trace`] with relative tolerance `rtol`.
-    pub(crate) fn trace_with(&self, alpha: f64, beta: f64, rtol: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, rtol, false)
+    /// [`Tracer::trace`] with relative tolerance `rtol`, the winding measured when `measure`
+    /// (up to where the ray ends, its turning point for an early escape).
+    pub(crate) fn trace_with(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
+        self.trace_ray(alpha, beta, rtol, measure, true)
     }
 
-    /// [`Tracer::trace`] with the winding measured (see [`RayOutcome::winding`]).
+    /// [`Tracer::trace`] with the winding measured (see [`RayOutcome::winding`]), every ray
+    /// followed to the capture or escape radius (no early end).
     pub fn trace_measured(&self, alpha: f64, beta: f64) -> RayOutcome {
-        self.trace_ray(alpha, beta, self.options.integrator.rtol, true)
+        self.trace_ray(alpha, beta, self.options.integrator.rtol, true, false)
     }
 
     // Long: one loop over the strict and relaxed phases of a ray, sharing the path record, the event and the integrator call; the ray tracer's hot path, kept whole for speed.
-    fn trace_ray(&self, alpha: f64, beta: f64, rtol: f64, measure: bool) -> RayOutcome {
+    fn trace_ray(
+        &self,
+        alpha: f64,
+        beta: f64,
+        rtol: f64,
+        measure: bool,
+        early: bool,
+    ) -> RayOutcome {
         let y0 = match self.start_state(alpha, beta) {
             Ok(y) => y,
             Err(failure) => {
@@ -720,10 +761,12 @@ impl<'a> Tracer<'a> {
                     steps: 0,
                     winding: 0.0,
                     min_radius: f64::INFINITY,
+                    escaped_at_turning_point: false,
                 }
             }
         };
         let capture = self.capture_radius;
+        let early = early && self.turning_point_escapes;
         let strict_settings = IntegratorSettings {
             rtol,
             ..self.options.integrator
@@ -764,7 +807,11 @@ impl<'a> Tracer<'a> {
                         0.0
                     };
                     path.step(old, new, omega);
-                    event = self.step_event(old, new, strict);
+                    event = if early && path.turned {
+                        Some(Some(RayFate::Escaped))
+                    } else {
+                        self.step_event(old, new, strict)
+                    };
                     if event.is_some() {
                         Control::Stop
                     } else {
@@ -800,6 +847,7 @@ impl<'a> Tracer<'a> {
             steps: path.steps,
             winding: path.winding,
             min_radius: path.min_radius,
+            escaped_at_turning_point: early && path.turned && fate == RayFate::Escaped,
         }
     }
 
@@ -882,7 +930,13 @@ impl<'a> Tracer<'a> {
         let (sin, cos) = line.psi.sin_cos();
         let pair = |tracer: &Tracer, d: f64, rtol: f64, line: &mut LineBoundary| {
             let outcomes = [crossing - d, crossing + d].map(|rho| {
-                tracer.trace_ray(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true)
+                tracer.trace_ray(
+                    origin[0] + rho * cos,
+                    origin[1] + rho * sin,
+                    rtol,
+                    true,
+                    false,
+                )
             });
             for out in &outcomes {
                 line.rays += 1;
@@ -1087,8 +1141,148 @@ impl<'a> Tracer<'a> {
     }
 }
 
-/// A bracket of the scan along a line: (ρ_lo, ρ_hi, whether the ray at ρ_lo is captured).
-type LineBracket = (f64, f64, bool);
+/// A bracket of the scan along a line: ρ_lo < ρ_hi, whether the ray at ρ_lo is captured,
+/// and the windings of the two rays.
+#[derive(Debug, Clone, Copy)]
+struct LineBracket {
+    lo: f64,
+    hi: f64,
+    captured_lo: bool,
+    winding: [f64; 2],
+}
+
+/// A bracket being refined: `a` is on the side of the line's inner end (the side of
+/// [`LineBracket::captured_lo`]), `b` on the other; `wa`, `wb` are their rays' windings.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct Bracket {
+    a: f64,
+    wa: f64,
+    b: f64,
+    wb: f64,
+}
+
+impl Bracket {
+    fn width(&self) -> f64 {
+        (self.b - self.a).abs()
+    }
+}
+
+/// A classified ray of a bracket's refinement: (ρ, winding, on the side of `a`).
+type Probed = (f64, f64, bool);
+
+/// The logarithmic law of the winding on one side of a crossing near `centre`,
+/// w = c − k ln|ρ − ρ_c| (module docs, "Checks"): k by least squares over the rays of that
+/// side between `near` and `far` from `centre` (where the distance is known to a few per
+/// cent and the law holds), c from the two of them nearest the crossing (the law's
+/// corrections shrink with the distance); `None` without two such rays an e-fold apart or
+/// for an implausible slope.
+fn winding_law(
+    probed: &[Probed],
+    side: bool,
+    centre: f64,
+    near: f64,
+    far: f64,
+) -> Option<(f64, f64)> {
+    let mut points: Vec<(f64, f64)> = probed
+        .iter()
+        .filter(|p| p.2 == side)
+        .map(|p| ((p.0 - centre).abs(), p.1))
+        .filter(|&(d, w)| d >= near && d <= far && w.is_finite())
+        .map(|(d, w)| (d.ln(), w))
+        .collect();
+    if points.len() < 2 {
+        return None;
+    }
+    let n = points.len() as f64;
+    let mx = points.iter().map(|p| p.0).sum::<f64>() / n;
+    let my = points.iter().map(|p| p.1).sum::<f64>() / n;
+    let sxx: f64 = points.iter().map(|p| (p.0 - mx) * (p.0 - mx)).sum();
+    let sxy: f64 = points.iter().map(|p| (p.0 - mx) * (p.1 - my)).sum();
+    let (lo, hi) = points
+        .iter()
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), p| {
+            (lo.min(p.0), hi.max(p.0))
+        });
+    let k = -sxy / sxx;
+    points.sort_by(|p, q| p.0.total_cmp(&q.0));
+    let c = 0.5 * (points[0].1 + points[1].1 + k * (points[0].0 + points[1].0));
+    (hi - lo >= 1.0 && k.is_finite() && (1e-3..=1e3).contains(&k)).then_some((k, c))
+}
+
+/// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
+/// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
+/// (module docs, "Checks"), so a ray's winding says how far it is from the crossing:
+/// |ρ − ρ_c| = exp((c − w)/k), with (k, c) fitted per side to the rays met so far
+/// ([`winding_law`]). The next ray goes just beyond the crossing predicted from the nearer
+/// end, by a margin ε times the predicted distance (ε starts at 0.1, shrinks threefold after
+/// each ray on the expected side and grows threefold after a surprise), so each ray cuts
+/// the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
+/// fitted and after any two rays that did not halve the bracket, and every ray inside the
+/// bracket at least min(0.45 `width`, a quarter of the bracket) from its ends. The bracket
+/// always holds a change of fate, so the windings choose the rays but never weaken the
+/// result's guarantee. `probe(ρ)` classifies a ray (on the side of `a`?) and gives its
+/// winding; its error ends the refinement. Rays go into `probed`.
+fn guided_refine<E>(
+    mut bracket: Bracket,
+    width: f64,
+    probed: &mut Vec<Probed>,
+    mut probe: impl FnMut(f64) -> Result<(bool, f64), E>,
+) -> Result<Bracket, E> {
+    // The width two rays ago, for the bisection safeguard.
+    let mut widths = [f64::INFINITY; 2];
+    let mut eps: f64 = 0.1;
+    while bracket.width() > width {
+        let w = bracket.width();
+        let dir = (bracket.b - bracket.a).signum();
+        let centre = 0.5 * (bracket.a + bracket.b);
+        let (near, far) = (10.0 * w, 0.05 * centre.abs().max(1.0));
+        let distance = |side: bool, winding: f64| {
+            winding_law(probed, side, centre, near, far)
+                .map(|(k, c)| ((c - winding) / k).exp())
+                .filter(|d| d.is_finite() && *d < w)
+        };
+        // The crossing predicted from the nearer end, and the side the ray beyond it should
+        // fall on; none when the two ends disagree.
+        let guess = match (distance(true, bracket.wa), distance(false, bracket.wb)) {
+            (Some(da), Some(db)) if (da + db - w).abs() > 0.3 * w => None,
+            (Some(da), Some(db)) if da <= db => Some((bracket.a + dir * da, da, false)),
+            (Some(da), None) => Some((bracket.a + dir * da, da, false)),
+            (_, Some(db)) => Some((bracket.b - dir * db, db, true)),
+            (None, None) => None,
+        };
+        let guess = guess.filter(|_| widths[0] >= 2.0 * w);
+        let rho = match guess {
+            Some((estimate, d, beyond_a)) => {
+                let step = (eps * d).max(0.45 * width);
+                estimate + if beyond_a { -dir * step } else { dir * step }
+            }
+            None => centre,
+        };
+        let margin = (0.45 * width).min(0.25 * w);
+        let rho = rho.clamp(
+            bracket.a.min(bracket.b) + margin,
+            bracket.a.max(bracket.b) - margin,
+        );
+        let (side_a, winding) = probe(rho)?;
+        probed.push((rho, winding, side_a));
+        if let Some((_, _, expected)) = guess {
+            eps = if side_a == expected {
+                (eps / 3.0).max(1e-3)
+            } else {
+                (eps * 3.0).min(0.3)
+            };
+        }
+        widths = [widths[1], w];
+        if side_a {
+            bracket.a = rho;
+            bracket.wa = winding;
+        } else {
+            bracket.b = rho;
+            bracket.wb = winding;
+        }
+    }
+    Ok(bracket)
+}
 
 /// Rays along one screen line origin + ρ (cos ψ, sin ψ) ([`Tracer::scan_line`]).
 struct LineProbe<'t, 'a> {
@@ -1102,16 +1296,19 @@ struct LineProbe<'t, 'a> {
 impl LineProbe<'_, '_> {
     /// Whether the ray at ρ is captured (at relative tolerance `rtol`), counted in `line`;
     /// `None` for a failed ray, whose message `line` keeps (the first one).
-    fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<bool> {
+    fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<(bool, f64)> {
         let (origin, psi) = (self.origin, self.psi);
-        let out =
-            self.tracer
-                .trace_with(origin[0] + rho * self.cos, origin[1] + rho * self.sin, rtol);
+        let out = self.tracer.trace_with(
+            origin[0] + rho * self.cos,
+            origin[1] + rho * self.sin,
+            rtol,
+            true,
+        );
         line.rays += 1;
         line.steps += out.steps;
         match out.fate {
-            RayFate::Captured => Some(true),
-            RayFate::Escaped => Some(false),
+            RayFate::Captured => Some((true, out.winding)),
+            RayFate::Escaped => Some((false, out.winding)),
             RayFate::Failed(f) => {
                 line.failed_rays += 1;
                 if line.failure.is_none() {
@@ -1141,7 +1338,7 @@ impl LineProbe<'_, '_> {
             ..
         } = *scan;
         let mut brackets = Vec::new();
-        let mut previous = origin_captured;
+        let mut previous = (origin_captured, f64::NAN);
         let mut last_captured = 0.0;
         let mut j = 1usize;
         loop {
@@ -1153,9 +1350,14 @@ impl LineProbe<'_, '_> {
                 ));
                 return None;
             }
-            let captured = self.classify(rho, coarse, line)?;
-            if captured != previous {
-                brackets.push(((j - 1) as f64 * spacing, rho, previous));
+            let (captured, winding) = self.classify(rho, coarse, line)?;
+            if captured != previous.0 {
+                brackets.push(LineBracket {
+                    lo: (j - 1) as f64 * spacing,
+                    hi: rho,
+                    captured_lo: previous.0,
+                    winding: [previous.1, winding],
+                });
             }
             if captured {
                 last_captured = rho;
@@ -1164,49 +1366,60 @@ impl LineProbe<'_, '_> {
             {
                 return Some(brackets);
             }
-            previous = captured;
+            previous = (captured, winding);
             j += 1;
         }
     }
 
-    /// The crossing in one scan bracket, by bisection in three stages (coarse tolerance down
-    /// to the coarse width; the bracket confirmed at the strict tolerance; strict bisection to
-    /// `tolerance`). `Err(false)` for a failed ray, `Err(true)` if the strict tolerance does
-    /// not confirm the bracket (the reason is in `line`).
+    /// The crossing in one scan bracket, in three stages (coarse tolerance down to the coarse
+    /// width; the bracket confirmed at the strict tolerance; strict refinement to
+    /// `tolerance`), each refinement by [`guided_refine`]. `Err(false)` for a failed ray,
+    /// `Err(true)` if the strict tolerance does not confirm the bracket (the reason is in
+    /// `line`).
     fn crossing(
         &self,
-        (scan_lo, scan_hi, captured_lo): LineBracket,
+        scan_bracket: LineBracket,
         tolerance: f64,
         coarse: f64,
         line: &mut LineBoundary,
     ) -> Result<f64, bool> {
         let strict = self.tracer.options.integrator.rtol;
         let width = self.tracer.options.coarse_width;
+        let LineBracket {
+            lo: scan_lo,
+            hi: scan_hi,
+            captured_lo,
+            winding,
+        } = scan_bracket;
         let mut same_as_lo = |rho: f64, rtol: f64| {
             self.classify(rho, rtol, line)
-                .map(|captured| captured == captured_lo)
+                .map(|(captured, w)| (captured == captured_lo, w))
                 .ok_or(false)
         };
+        let mut probed: Vec<Probed> =
+            vec![(scan_lo, winding[0], true), (scan_hi, winding[1], false)];
         // Stage 1, coarse tolerance: down to the coarse width.
-        let (lo, hi) = try_bisect(
-            |rho| same_as_lo(rho, coarse),
-            scan_lo,
-            scan_hi,
-            width,
-            usize::MAX,
-        )?;
+        let start = Bracket {
+            a: scan_lo,
+            wa: winding[0],
+            b: scan_hi,
+            wb: winding[1],
+        };
+        let coarse_bracket =
+            guided_refine(start, width, &mut probed, |rho| same_as_lo(rho, coarse))?;
+        let (lo, hi) = (coarse_bracket.a, coarse_bracket.b);
         // Stage 2: confirm a widened bracket with the strict tolerance (a coarse ray near
         // the boundary may be misclassified); fall back to the scan bracket.
         let mut confirmed = None;
         for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
-            let inside_a = same_as_lo(a, strict)?;
-            let inside_b = same_as_lo(b, strict)?;
+            let (inside_a, wa) = same_as_lo(a, strict)?;
+            let (inside_b, wb) = same_as_lo(b, strict)?;
             if inside_a && !inside_b {
-                confirmed = Some((a, b));
+                confirmed = Some(Bracket { a, wa, b, wb });
                 break;
             }
         }
-        let Some((lo, hi)) = confirmed else {
+        let Some(bracket) = confirmed else {
             line.failure = Some(format!(
                 "the crossing between screen radii {scan_lo} and {scan_hi} along psi = {} is \
                  not confirmed at the strict tolerance",
@@ -1216,14 +1429,10 @@ impl LineProbe<'_, '_> {
         };
         // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
         // point of the bracket.
-        let (lo, hi) = try_bisect(
-            |rho| same_as_lo(rho, strict),
-            lo,
-            hi,
-            2.0 * tolerance,
-            usize::MAX,
-        )?;
-        Ok(0.5 * (lo + hi))
+        let bracket = guided_refine(bracket, 2.0 * tolerance, &mut probed, |rho| {
+            same_as_lo(rho, strict)
+        })?;
+        Ok(0.5 * (bracket.a + bracket.b))
     }
 }
 
