@@ -6,6 +6,10 @@
 //! α_j = −F/2 + (j + ½) F/N, β_i = F/2 − (i + ½) F/N for N pixels across a field of F M.
 //! This is the order in which numpy and most image viewers show a 2-D array (first row on top).
 //!
+//! What can be done with an image: [`gaussian_blur`] to a resolution ([`blur`]),
+//! [`ring_features`] measured on it ([`features`]), and files: [`write_npy`], [`write_fits`] and
+//! [`write_png`] ([`files`]), the PNG in umbral's own colour map [`fathom`] ([`colormap`]).
+//!
 //! ```
 //! use umbral::image::Image;
 //!
@@ -22,12 +26,25 @@ pub mod trace;
 
 use serde::Serialize;
 
+pub mod blur;
+pub mod colormap;
+pub mod features;
+pub mod files;
+
+pub use blur::{gaussian_blur, uas_to_m};
+pub use colormap::{fathom, COLOUR_MAP_NAME};
+pub use features::{ring_features, FeatureSettings, RingFeatures};
+pub use files::{write_fits, write_npy, write_png, FitsCard, FitsHeader, FitsValue};
+
 /// Why an image could not be made or measured.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum ImageError {
     /// A request that cannot be honoured, with the reason (a one-line message).
     #[error("{0}")]
     BadRequest(String),
+    /// An image file could not be written, with the reason.
+    #[error("could not write the image: {0}")]
+    Write(String),
 }
 
 /// A square image on the screen: `pixels` × `pixels` values over a field of `field` M.
