@@ -194,13 +194,10 @@ fn angle_difference(a: f64, b: f64) -> f64 {
 fn a_lopsided_ring_has_its_asymmetry() {
     // About its own centre, a brightness 1 + c cos(ψ − ψ₀) gives S = Σ I_k e^{iψ_k} =
     // K (c/2) e^{iψ₀} (discrete orthogonality of harmonics, K ≥ 3): contrast c/2, angle ψ₀.
-    // But the centroid is pulled towards the bright side: for a Gaussian radial profile of
-    // σ = w ≪ R, Σ I α / Σ I = (c/2) ∫ρ² g dρ / ∫ρ g dρ = (c/2)(R² + w²)/R along ψ₀. Seen
-    // from there, the ray at angle ψ meets the ring at a point P of polar angle ψ_P ≠ ψ, so
-    // the measured brightness is 1 + c cos(ψ_P − ψ₀). With ε = d/R the law of sines gives
-    // cos(ψ_P − ψ₀) = cos x √(1 − ε² sin² x) + ε sin² x (x = ψ − ψ₀), hence in the
-    // thin-ring limit A = (c/2)(1 − ε²/8 + O(ε⁴)) / (1 + cε/2) and the angle ψ₀ exactly
-    // (mirror symmetry about ψ₀). `expected_asymmetry` evaluates the sums exactly.
+    // The brightness centroid is pulled towards the bright side, by (c/2)(R² + w²)/R along ψ₀
+    // for a Gaussian radial profile of σ = w ≪ R (Σ I α / Σ I = (c/2) ∫ρ² g dρ / ∫ρ g dρ);
+    // the circle fit moves the centre back to the ring's own. `expected_asymmetry` gives the
+    // exact sums seen from the measured centre.
     //
     // On the grid the per-angle peak brightness varies with the direction of the ray through
     // the pixels (by a few % for a ring 2 pixels wide), which leaves an absolute floor of a few
@@ -224,8 +221,13 @@ fn a_lopsided_ring_has_its_asymmetry() {
             (measured_d - d).abs() < 1e-6 * r,
             "c = {c}: centroid {measured_d} vs {d}"
         );
-        let (contrast, angle) = expected_asymmetry(r, c, psi0, f.centroid, 360);
-        assert!(angle_difference(angle, psi0_deg).abs() < 1e-6);
+        assert!(
+            f.centre[0].hypot(f.centre[1]) < 0.02 * image.pixel_size(),
+            "c = {c}: centre {:?}",
+            f.centre
+        );
+        let (contrast, angle) = expected_asymmetry(r, c, psi0, f.centre, 360);
+        assert!(angle_difference(angle, psi0_deg).abs() < 0.05);
         assert!(
             angle_difference(f.asymmetry_angle_deg, psi0_deg).abs() < 0.2,
             "c = {c}: angle {} vs {psi0_deg}",
@@ -236,24 +238,12 @@ fn a_lopsided_ring_has_its_asymmetry() {
             "c = {c}, {psi0_deg} deg: contrast {} vs {contrast}",
             f.asymmetry_contrast
         );
-        // The expansion above: the next term is −(c/2)(ε⁴/64)/(1 + cε/2) (from
-        // ⟨cos² x sin⁴ x⟩ = 1/16), so the difference stays below c ε⁴/64.
-        let eps = d / r;
-        let series = 0.5 * c * (1.0 - eps * eps / 8.0) / (1.0 + 0.5 * c * eps);
         assert!(
-            (contrast - series).abs() < c * eps.powi(4) / 64.0,
-            "{contrast} vs {series}"
+            (f.asymmetry_contrast - 0.5 * c).abs() < 1e-3,
+            "c = {c}: contrast {} vs c/2",
+            f.asymmetry_contrast
         );
         assert!(f.asymmetry_angle_deg > -180.0 && f.asymmetry_angle_deg <= 180.0);
-        // For a faint modulation the contrast is c/2 to O(c²) (here c/2 = 0.025, the exact
-        // expectation 0.02498).
-        if c < 0.1 {
-            assert!(
-                (f.asymmetry_contrast - 0.5 * c).abs() < 1e-3,
-                "{}",
-                f.asymmetry_contrast
-            );
-        }
     }
 }
 
@@ -265,6 +255,12 @@ fn an_off_centre_ring_has_its_centroid_and_size() {
         (f.centroid[0] - 2.5).abs() < 1e-9 && (f.centroid[1] + 1.75).abs() < 1e-9,
         "{:?}",
         f.centroid
+    );
+    assert!(
+        (f.centre[0] - 2.5).abs() < 0.02 * image.pixel_size()
+            && (f.centre[1] + 1.75).abs() < 0.02 * image.pixel_size(),
+        "{:?}",
+        f.centre
     );
     assert!(
         (f.diameter - 16.0).abs() < 0.02 * image.pixel_size(),
@@ -281,14 +277,18 @@ fn ring_features_do_not_depend_on_where_the_ring_sits() {
     let pixel = 0.25;
     let at = |a0: f64, b0: f64| features(&ring(128, 32.0, (a0, b0), 9.0, 0.6, 0.5, 1.0));
     let here = at(0.3, -0.2);
-    // A shift by whole pixels (3 right, 5 down) samples the same points: same figures.
+    // A shift by whole pixels (3 right, 5 down): the centroid moves with it exactly; the
+    // fitted centre, whose search starts at the field's centre, ends within its settling
+    // tolerance (0.01 pixel) of the shifted one, and the figures agree to that.
     let there = at(0.3 + 3.0 * pixel, -0.2 - 5.0 * pixel);
     assert!((there.centroid[0] - here.centroid[0] - 3.0 * pixel).abs() < 1e-9);
     assert!((there.centroid[1] - here.centroid[1] + 5.0 * pixel).abs() < 1e-9);
-    assert!((there.diameter - here.diameter).abs() < 1e-9);
-    assert!((there.width.unwrap() - here.width.unwrap()).abs() < 1e-9);
-    assert!((there.asymmetry_contrast - here.asymmetry_contrast).abs() < 1e-9);
-    assert!((there.asymmetry_angle_deg - here.asymmetry_angle_deg).abs() < 1e-7);
+    assert!((there.centre[0] - here.centre[0] - 3.0 * pixel).abs() < 0.02 * pixel);
+    assert!((there.centre[1] - here.centre[1] + 5.0 * pixel).abs() < 0.02 * pixel);
+    assert!((there.diameter - here.diameter).abs() < 0.01 * pixel);
+    assert!((there.width.unwrap() / here.width.unwrap() - 1.0).abs() < 1e-3);
+    assert!((there.asymmetry_contrast / here.asymmetry_contrast - 1.0).abs() < 1e-3);
+    assert!((there.asymmetry_angle_deg - here.asymmetry_angle_deg).abs() < 0.05);
     // A shift by a fraction of a pixel: the same to within the sampling.
     let off = at(0.3 + 0.37 * pixel, -0.2 + 0.61 * pixel);
     assert!(

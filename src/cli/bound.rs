@@ -120,7 +120,7 @@ pub fn parse_levels(text: &str) -> Result<Vec<f64>, CliError> {
         .collect()
 }
 
-fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
+fn request_from(args: &BoundArgs, progress: &ProgressArgs) -> Result<BoundRequest, CliError> {
     let vary = parse_named_range(&args.vary, "--vary")?;
     let fixed = parse_assignments(&args.set)?;
     let nuisance = args
@@ -162,8 +162,9 @@ fn request_from(args: &BoundArgs) -> Result<BoundRequest, CliError> {
         }
     };
     let levels = args.levels.as_deref().map(parse_levels).transpose()?;
-    let measurement = Measurement::from_path(Path::new(&args.measurement))
+    let mut measurement = Measurement::from_path(Path::new(&args.measurement))
         .map_err(|e| CliError::usage(e.to_string()))?;
+    super::calibrate::resolve_measurement(&mut measurement, progress)?;
     let radii = measurement
         .derive(levels.as_deref())
         .map_err(|e| CliError::usage(e.to_string()))?;
@@ -201,7 +202,7 @@ pub fn run(args: &BoundArgs, progress: &ProgressArgs) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         super::args::check_svg_path(path)?;
     }
-    let request = request_from(args)?;
+    let request = request_from(args, progress)?;
     // The figure appears only when the whole command succeeds; a bad path fails before work.
     let mut outputs = OutputTransaction::new();
     if let Some(path) = &args.plot {

@@ -15,6 +15,10 @@ use std::path::{Path, PathBuf};
 use umbral::bounds::{
     BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange, SizeMeasure,
 };
+use umbral::image::blur::gaussian_blur;
+use umbral::image::files::write_png;
+use umbral::image::models::ModelList;
+use umbral::image::trace::{ImageSettings, ImageTracer};
 use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
@@ -26,6 +30,8 @@ use umbral::posterior::{
     SamplerKind,
 };
 use umbral::run::bound::{bound_with, BoundRunError};
+use umbral::run::calibrate::{calibrate, CalibrateError, Calibration, CalibrationSettings};
+use umbral::run::image::render;
 use umbral::run::infer::{infer_with, InferStop};
 use umbral::run::{Controls, Executor, Observe, RunError, Selection, WorkList};
 use umbral::sampling::Prior;
@@ -36,6 +42,18 @@ use umbral::verify::{ChecksFile, VerifyReport};
 const MEASUREMENT: &str = include_str!("../../examples/measurement_ring.toml");
 /// The checks file the demo runs, shipped as examples/ci-checks.toml.
 const CHECKS: &str = include_str!("../../examples/ci-checks.toml");
+
+/// The demo's calibration: Kerr at this spin (the scenario's reference hole), images of
+/// this many pixels per side, blurred to this resolution (an invented array's beam).
+const DEMO_SPIN: f64 = 0.6;
+const DEMO_PIXELS: usize = 96;
+const DEMO_RESOLUTION_UAS: f64 = 10.0;
+/// The model whose image the report shows, its files, and the PNG's gamma (a square-root
+/// stretch, so that the faint lensed light shows beside the bright direct image).
+const DEMO_IMAGE_MODEL: &str = "disk-horizon";
+const DEMO_IMAGE: &str = "image-kerr.png";
+const DEMO_IMAGE_BLURRED: &str = "image-kerr-blurred.png";
+const DEMO_PNG_GAMMA: f64 = 0.5;
 
 /// The posterior set beside the first bound: the same metric and parameter, from the same
 /// measurement. The prior is uniform on the charges with a horizon, [0, 1]; the bound's
@@ -243,7 +261,8 @@ fn produce(
     kerr_horizon()?;
     let settings = ShadowSettings::default();
     let families = shadows(&sc, &settings, out, outputs, display)?;
-    let (measurement, radii, measurement_staged) = measurement(out, outputs)?;
+    let calibration = calibration(&sc, out, outputs, display)?;
+    let (measurement, radii, measurement_staged) = measurement(&calibration, out, outputs)?;
     let bounds = bounds(&sc, &radii, &measurement, out, outputs, display)?;
     let posterior = posterior(&measurement, out, outputs, display)?;
     exclusion_map(&sc, &measurement_staged, out, outputs, display)?;
@@ -259,6 +278,7 @@ fn produce(
         kerr_family: &families[0],
         rn_family: &families[1],
         radii: &radii,
+        calibration: &calibration,
         bounds: [&bounds[0], &bounds[1]],
         posterior: &posterior,
         verify: &verify,
@@ -321,16 +341,165 @@ fn shadows(
     Ok([kerr_family, rn_family])
 }
 
-/// Step 3, the measurement: the invented ring, pushed through the calibration chain. Returns
-/// it, its radius intervals and the staged copy the scan reads.
+/// The ring-to-shadow calibration of the scenario and an image of its reference metric.
+struct DemoCalibration {
+    calibration: Calibration,
+    /// The image's ring features and the critical curve it is compared with.
+    image: ImageSummary,
+}
+
+/// What the report says about the demo's image.
+#[derive(Debug, Serialize)]
+struct ImageSummary {
+    model: &'static str,
+    pixels: usize,
+    field_m: f64,
+    ring_diameter_native: f64,
+    ring_diameter_blurred: f64,
+    asymmetry_angle_deg: f64,
+    asymmetry_contrast: f64,
+    inner_shadow_mean_radius: Option<f64>,
+    critical_curve_mean_radius: f64,
+}
+
+/// Step 3, the ring-to-shadow calibration: κ over the built-in emission models around the
+/// reference Kerr hole at the scenario's inclination, blurred to the invented array's
+/// resolution; and an image of one model beside the critical curve.
+fn calibration(
+    sc: &Scenario,
+    out: &Path,
+    outputs: &mut OutputTransaction,
+    display: &mut dyn Observe,
+) -> Result<DemoCalibration, CliError> {
+    let kerr = build_metric("kerr", &[("a".to_string(), DEMO_SPIN)])?;
+    let parameters: std::collections::BTreeMap<String, f64> =
+        [("a".to_string(), DEMO_SPIN)].into_iter().collect();
+    let settings = CalibrationSettings {
+        inclination: sc.inclination_deg.to_radians(),
+        resolution_uas: DEMO_RESOLUTION_UAS,
+        theta_g_uas: sc.theta_g_uas,
+        pixels: DEMO_PIXELS,
+        field: None,
+    };
+    let calibration = {
+        let _graceful = interrupt::Graceful::enter("image rows");
+        calibrate(
+            kerr.as_ref(),
+            "kerr",
+            &parameters,
+            &settings,
+            &ModelList::built_in(),
+            Controls {
+                observers: vec![display],
+                stop: Some(interrupt::stop_flag()),
+            },
+        )
+        .map_err(|e| match e {
+            CalibrateError::Run(RunError::Interrupted { .. }) => {
+                CliError::interrupted("demo interrupted")
+            }
+            other => CliError::usage(format!("demo calibration: {other}")),
+        })?
+    };
+    let text = serde_json::to_string_pretty(&calibration).expect("serialisable");
+    outputs.write(
+        &out.join("calibration.json"),
+        format!("{text}\n").as_bytes(),
+    )?;
+    // The image of the model the report shows, native and blurred.
+    let model = ModelList::built_in()
+        .models
+        .into_iter()
+        .find(|m| m.name == DEMO_IMAGE_MODEL)
+        .expect("the demo's image model is in the built-in list");
+    let field = settings
+        .field_m()
+        .map_err(|e| CliError::usage(format!("demo image: {e}")))?;
+    let image_settings =
+        ImageSettings::new(Observer::distant(settings.inclination), DEMO_PIXELS, field);
+    let tracer = ImageTracer::new(kerr.as_ref(), &model.model, &image_settings)
+        .map_err(|e| CliError::usage(format!("demo image: {e}")))?;
+    let rendered = {
+        let _graceful = interrupt::Graceful::enter("image rows");
+        render(
+            &tracer,
+            Controls {
+                observers: vec![display],
+                stop: Some(interrupt::stop_flag()),
+            },
+        )
+        .map_err(super::image::render_error)?
+    };
+    let blurred = gaussian_blur(&rendered.total, settings.fwhm_m().expect("checked"))
+        .map_err(|e| CliError::usage(format!("demo image: {e}")))?;
+    for (image, name) in [
+        (&rendered.total, DEMO_IMAGE),
+        (&blurred, DEMO_IMAGE_BLURRED),
+    ] {
+        let mut bytes = Vec::new();
+        write_png(image, DEMO_PNG_GAMMA, &mut bytes)
+            .map_err(|e| CliError::usage(format!("demo image: {e}")))?;
+        outputs.write(&out.join(name), &bytes)?;
+    }
+    let calibrated = calibration
+        .models
+        .iter()
+        .find(|m| m.name == DEMO_IMAGE_MODEL)
+        .expect("the image model was calibrated");
+    let (Some(native), Some(blurred_ring)) = (&calibrated.native, &calibrated.blurred) else {
+        return Err(CliError::usage(format!(
+            "demo calibration: the {DEMO_IMAGE_MODEL} image shows no ring: {}",
+            calibrated.note.as_deref().unwrap_or("no reason given")
+        )));
+    };
+    let image = ImageSummary {
+        model: DEMO_IMAGE_MODEL,
+        pixels: DEMO_PIXELS,
+        field_m: field,
+        ring_diameter_native: native.diameter,
+        ring_diameter_blurred: blurred_ring.diameter,
+        asymmetry_angle_deg: native.asymmetry_angle_deg,
+        asymmetry_contrast: native.asymmetry_contrast,
+        inner_shadow_mean_radius: calibrated.inner_shadow.as_ref().map(|s| s.mean_radius),
+        critical_curve_mean_radius: calibration.critical_curve_mean_radius,
+    };
+    outln!(
+        "  calibration: kappa = {:.4} +- {:.4} over {} emission models (Kerr a = {DEMO_SPIN}, \
+         {DEMO_RESOLUTION_UAS} uas resolution)",
+        calibration.summary.kappa.mean,
+        calibration.summary.kappa.spread,
+        calibration.summary.kappa.models
+    )?;
+    Ok(DemoCalibration { calibration, image })
+}
+
+/// Step 4, the measurement: the invented ring, its κ from the calibration, pushed through the
+/// calibration chain. Returns it, its radius intervals and the staged copy the scan reads.
 fn measurement(
+    calibration: &DemoCalibration,
     out: &Path,
     outputs: &mut OutputTransaction,
 ) -> Result<(Measurement, DerivedRadii, PathBuf), CliError> {
+    let kappa = calibration.calibration.summary.kappa;
+    let given = "ring_to_shadow = { value = 1.10, sigma = 0.05 }  # ring diameter / shadow diameter (emission modelling)";
+    if !MEASUREMENT.contains(given) {
+        return Err(CliError::usage(
+            "internal: the demo measurement's ring_to_shadow line changed",
+        ));
+    }
+    let text = MEASUREMENT.replacen(
+        given,
+        &format!(
+            "ring_to_shadow = {{ value = {:.4}, sigma = {:.4} }}  # from calibration.json \
+             (umbral calibrate, {} emission models)",
+            kappa.mean, kappa.spread, kappa.models
+        ),
+        1,
+    );
     let measurement_path = out.join("measurement.toml");
     let staged = outputs.stage(&measurement_path)?;
-    outputs.write(&measurement_path, MEASUREMENT.as_bytes())?;
-    let measurement = Measurement::from_toml_str(MEASUREMENT)
+    outputs.write(&measurement_path, text.as_bytes())?;
+    let measurement = Measurement::from_toml_str(&text)
         .map_err(|e| CliError::usage(format!("demo measurement: {e}")))?;
     let radii = measurement
         .derive(None)
@@ -338,7 +507,7 @@ fn measurement(
     Ok((measurement, radii, staged))
 }
 
-/// Step 4, bounds: a spherical alternative, and a parametrized Kerr deviation with spin as
+/// Step 5, bounds: a spherical alternative, and a parametrized Kerr deviation with spin as
 /// nuisance, with their figures.
 fn bounds(
     sc: &Scenario,
@@ -389,7 +558,7 @@ impl DemoPosterior {
     }
 }
 
-/// Step 5, the posterior: the first bound's parameter from the same measurement, by the
+/// Step 6, the posterior: the first bound's parameter from the same measurement, by the
 /// ensemble sampler on the run executor (progress, Ctrl-C), written as `umbral infer` writes
 /// it: its JSON report, and for a converged run its samples and corner plot.
 fn posterior(
@@ -466,7 +635,7 @@ fn posterior(
     })
 }
 
-/// Step 6, a 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself
+/// Step 7, a 2-D exclusion map over (a, q) for Kerr-Newman, through the scan command itself
 /// (reading the staged measurement).
 fn exclusion_map(
     sc: &Scenario,
@@ -512,6 +681,7 @@ struct Results<'a> {
     kerr_family: &'a [ShadowReport],
     rn_family: &'a [ShadowReport],
     radii: &'a DerivedRadii,
+    calibration: &'a DemoCalibration,
     bounds: [&'a BoundResult; 2],
     posterior: &'a DemoPosterior,
     verify: &'a VerifyReport,
@@ -525,6 +695,8 @@ impl Results<'_> {
             scenario: &'a Scenario,
             kerr_family: &'a [ShadowReport],
             reissner_nordstrom_family: &'a [ShadowReport],
+            calibration: &'a Calibration,
+            image: &'a ImageSummary,
             measured_radius: &'a DerivedRadii,
             bounds: [&'a BoundResult; 2],
             posterior: &'a serde_json::Value,
@@ -536,6 +708,8 @@ impl Results<'_> {
             scenario: self.scenario,
             kerr_family: self.kerr_family,
             reissner_nordstrom_family: self.rn_family,
+            calibration: &self.calibration.calibration,
+            image: &self.calibration.image,
             measured_radius: self.radii,
             bounds: self.bounds,
             posterior: &self.posterior.json,
@@ -569,6 +743,9 @@ impl Results<'_> {
         for name in [
             "kerr-family.svg",
             "reissner-nordstrom-family.svg",
+            "calibration.json",
+            DEMO_IMAGE,
+            DEMO_IMAGE_BLURRED,
             "bound-reissner-nordstrom.svg",
             "bound-johannsen.svg",
             "exclusion-kerr-newman.svg",
@@ -915,6 +1092,59 @@ fn bound_section(b: &BoundResult, figure: &str) -> String {
     r
 }
 
+/// The report's section on the image and the ring-to-shadow calibration.
+fn calibration_section(c: &DemoCalibration) -> String {
+    let cal = &c.calibration;
+    let im = &c.image;
+    let mut r = format!(
+        "## Emission ring and calibration\n\n\
+         A telescope measures the bright emission ring, not the critical curve. Images of simple emission models \
+         around Kerr a = {DEMO_SPIN} at the scenario's inclination ({pixels} x {pixels} pixels over {field:.1} M) give the \
+         ring-to-shadow factor kappa (calibration.json). Left: the {model} model at full resolution (square-root \
+         brightness scale); right: the critical curves of the Kerr family.\n\n\
+         | image ({model}) | critical curves |\n| --- | --- |\n\
+         | ![image]({img}) | ![Kerr shadows](kerr-family.svg) |\n\n\
+         Blurred to {res} uas (FWHM {fwhm:.3} M): ![blurred image]({blurred})\n\n\
+         * ring diameter {dn:.4} M at full resolution, {db:.4} M blurred; critical-curve diameter {cd:.4} M;\n\
+         * brightness asymmetry at {angle:.0} deg from +alpha (the approaching side), contrast {contrast:.3};\n",
+        pixels = im.pixels,
+        field = im.field_m,
+        model = im.model,
+        img = DEMO_IMAGE,
+        blurred = DEMO_IMAGE_BLURRED,
+        res = DEMO_RESOLUTION_UAS,
+        fwhm = cal.fwhm_m,
+        dn = im.ring_diameter_native,
+        db = im.ring_diameter_blurred,
+        cd = 2.0 * im.critical_curve_mean_radius,
+        angle = im.asymmetry_angle_deg,
+        contrast = im.asymmetry_contrast,
+    );
+    if let Some(inner) = im.inner_shadow_mean_radius {
+        r.push_str(&format!(
+            "* inner shadow (the lensed image of the horizon) mean radius {inner:.4} M.\n"
+        ));
+    }
+    r.push_str(
+        "\n| model | ring diameter (M) | blurred (M) | kappa |\n| --- | --- | --- | --- |\n",
+    );
+    for m in &cal.models {
+        let cell = |x: Option<f64>| x.map_or("no ring".to_string(), |v| format!("{v:.4}"));
+        r.push_str(&format!(
+            "| {} | {} | {} | {} |\n",
+            m.name,
+            cell(m.native.as_ref().map(|r| r.diameter)),
+            cell(m.blurred.as_ref().map(|r| r.diameter)),
+            cell(m.kappa)
+        ));
+    }
+    r.push_str(&format!(
+        "\nkappa = {:.4} +- {:.4} (mean and standard deviation over the models): the measurement below uses it.\n\n",
+        cal.summary.kappa.mean, cal.summary.kappa.spread
+    ));
+    r
+}
+
 fn report_text(results: &Results) -> String {
     let Results {
         scenario: sc,
@@ -922,6 +1152,7 @@ fn report_text(results: &Results) -> String {
         kerr_family,
         rn_family,
         radii,
+        calibration,
         bounds,
         posterior,
         verify,
@@ -950,7 +1181,8 @@ fn report_text(results: &Results) -> String {
         rt = table(rn_family, "q", sc.theta_g_uas),
         gr = 2.0 * umbral::observables::SCHWARZSCHILD_SHADOW_RADIUS,
     );
-    r.push_str("## The measurement\n\nThe invented ring (measurement.toml) gives these shadow-radius intervals:\n\n");
+    r.push_str(&calibration_section(calibration));
+    r.push_str("## The measurement\n\nThe invented ring (measurement.toml), with kappa from the calibration, gives these shadow-radius intervals:\n\n");
     for iv in &radii.intervals {
         r.push_str(&format!(
             "* {:.0}%: r_sh/M in [{:.4}, {:.4}]\n",
@@ -978,8 +1210,10 @@ fn report_text(results: &Results) -> String {
         verify.render_table()
     ));
     r.push_str(
-        "## Caution\n\nA measured ring constrains the shadow only through the ring-to-shadow calibration (from emission \
-         modelling) and the mass-to-distance prior, both from outside this tool: the bounds are only as good as those.\n",
+        "## Caution\n\nA measured ring constrains the shadow only through the ring-to-shadow calibration and the \
+         mass-to-distance prior. Here kappa comes from eight simple emission models around Kerr; their spread stands \
+         for the modelling uncertainty, and a real analysis would use models fitted to its source. The bounds are \
+         only as good as those.\n",
     );
     r
 }

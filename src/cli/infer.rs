@@ -361,11 +361,14 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         super::args::check_svg_path(path)?;
     }
     let metric = args.metric.resolve()?;
-    let sources = args
+    let mut sources = args
         .measurement
         .iter()
         .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
         .collect::<Result<Vec<_>, _>>()?;
+    for source in &mut sources {
+        super::calibrate::resolve_measurement(source, progress)?;
+    }
     let mut request = InferenceRequest::new(metric, priors(&args.priors)?, sources);
     request.size_measure = args.size_measure.measure();
     request.require_horizon = args.require_horizon;

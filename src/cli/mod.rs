@@ -4,8 +4,10 @@
 mod out;
 mod args;
 mod bound;
+mod calibrate;
 mod demo;
 mod geometry;
+mod image;
 mod infer;
 mod interrupt;
 mod metrics;
@@ -49,6 +51,10 @@ enum Command {
     Infer(infer::InferArgs),
     /// Observables on a parameter grid, streamed to JSON lines (resumable).
     Scan(scan::ScanArgs),
+    /// An image of an emission model around a metric, and its ring.
+    Image(image::ImageArgs),
+    /// The ring-to-shadow factor kappa over a list of emission models.
+    Calibrate(calibrate::CalibrateArgs),
     /// Recompute pinned numbers from checks files; exit 1 if any drifted.
     Verify(verify::VerifyArgs),
 }
@@ -93,6 +99,8 @@ fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErr
         Command::Scan(a) => scan::run(&a, &cli.progress),
         Command::Verify(a) => return verify::run(&a, &cli.progress),
         Command::Infer(a) => return infer::run(&a, &cli.progress),
+        Command::Image(a) => return image::run(&a, &cli.progress),
+        Command::Calibrate(a) => calibrate::run(&a, &cli.progress),
     }?;
     Ok(ExitCode::SUCCESS)
 }

@@ -3,9 +3,23 @@
 //! Method of our own (the steps are the usual ones for ring images, put together here without a
 //! published recipe to follow):
 //!
-//! 1. The brightness centroid (α_c, β_c) = Σ I (α, β) / Σ I over the pixel centres.
+//! 1. The ring's centre. Start from the field's centre (the image is taken to be pointed at
+//!    the source, as umbral's images are at the hole); take the ring peaks (steps 2 and 3)
+//!    about the current centre, fit a
+//!    circle to the peak points by algebraic least squares (minimising
+//!    Σ (x² + y² + Dx + Ey + F)²; Kåsa 1976, IEEE Trans. Instrum. Meas. 25, 8), refit
+//!    without the peaks far off that circle (those that picked another ring), and move the
+//!    centre to the circle's centre (−D/2, −E/2); after 20 fits, by a fraction 1/(k − 19) of
+//!    the way at fit k (the running mean of the fitted centres, so that a centre hopping
+//!    between two choices of peaks settles between them); repeat until it moves less than
+//!    0.01 pixel
+//!    (at most [`MAX_CENTRE_ITERATIONS`] times, else an error). The brightness centroid
+//!    (α_c, β_c) = Σ I (α, β) / Σ I is reported too, but is no starting point: it is pulled
+//!    towards a lopsided ring's bright side (a Doppler-boosted disk image at 60° puts it
+//!    most of the way there), from where the profiles find the bright spot's own flanks
+//!    instead of the ring. Everything below is measured about the fitted centre.
 //! 2. For K angles ψ_k = 2πk/K (default K = 360), with ψ measured from the +α axis
-//!    counter-clockwise towards +β, the radial profile I(ψ_k, ρ) is sampled from the centroid
+//!    counter-clockwise towards +β, the radial profile I(ψ_k, ρ) is sampled from the centre
 //!    outwards at ρ_n = n·Δρ (default Δρ = ¼ pixel) by bilinear interpolation between the four
 //!    nearest pixel centres, as long as the point stays within the square of pixel centres (the
 //!    field's edge less half a pixel).
@@ -19,8 +33,9 @@
 //!    samples would find that kink, off the ring's peak by up to half a pixel (a ring of
 //!    known radius showed a spread of 0.15 pixel over the angles that way, 0.02 pixel with
 //!    the one-pixel lever). An angle whose largest sample is the first (at the centroid) or
-//!    the last (at the field's edge) has no ring peak and is left out of everything below;
-//!    [`RingFeatures::angles_with_peak`] counts the others.
+//!    the last (at the field's edge), or that peaks within a pixel of the centre, has no ring
+//!    peak and is left out of everything below; [`RingFeatures::angles_with_peak`] counts the
+//!    others. With peaks at fewer than half the angles the image has no ring (an error).
 //! 4. Diameter d = 2 × the mean of ρ_k; [`RingFeatures::radius_spread`] is their standard
 //!    deviation (a measure of how far the ring is from a circle about the centroid).
 //! 5. Width: at each angle, the full width at half maximum of the profile about its peak: the
@@ -31,12 +46,8 @@
 //! 6. Asymmetry: with S = Σ_k I_k e^{iψ_k}, the contrast is A = |S| / Σ_k I_k ∈ [0, 1] and the
 //!    position angle is arg S in degrees, in (−180°, 180°], measured from +α towards +β (so
 //!    90° means the ring is brightest towards +β). For a brightness I₀(1 + c cos(ψ − ψ₀)) about
-//!    the centroid, S = K I₀ (c/2) e^{iψ₀} exactly for K ≥ 3 (discrete orthogonality of the
-//!    harmonics), so A = c/2 and the angle is ψ₀. A lopsided ring pulls its centroid towards
-//!    its bright side, though, by d = (c/2)(R² + w²)/R for radius R and a Gaussian profile of
-//!    σ = w, and seen from there the contrast is a little lower, (c/2)(1 − ε²/8 + O(ε⁴)) /
-//!    (1 + cε/2) with ε = d/R (derived in `tests/image_products.rs`); the angle stays ψ₀.
-//!    The angle means nothing when A is near 0.
+//!    the centre, S = K I₀ (c/2) e^{iψ₀} exactly for K ≥ 3 (discrete orthogonality of the
+//!    harmonics), so A = c/2 and the angle is ψ₀. The angle means nothing when A is near 0.
 //!
 //! ```
 //! use umbral::image::{ring_features, FeatureSettings, Image};
@@ -96,6 +107,10 @@ pub struct RingFeatures {
     pub asymmetry_contrast: f64,
     /// Brightness centroid (α_c, β_c).
     pub centroid: [f64; 2],
+    /// The ring's centre (α, β), fitted to the ring peaks (module docs, step 1).
+    pub centre: [f64; 2],
+    /// Circle fits it took to settle the centre.
+    pub centre_iterations: usize,
     /// Standard deviation of the ring radius over the angles.
     pub radius_spread: f64,
     /// Angles whose profile has a ring peak (of the `angles` asked for).
@@ -122,27 +137,63 @@ pub fn ring_features(
     let centroid = centroid(image)?;
     let step = settings.step_pixels * image.pixel_size();
     let lever = ((1.0 / settings.step_pixels).round() as usize).max(1);
-    let k_total = settings.angles;
-
-    let mut radii = Vec::with_capacity(k_total);
-    let mut widths = Vec::with_capacity(k_total);
-    let (mut s_re, mut s_im, mut s_abs) = (0.0, 0.0, 0.0);
-    for k in 0..k_total {
-        let psi = std::f64::consts::TAU * k as f64 / k_total as f64;
-        let profile = radial_profile(image, centroid, psi, step);
-        let Some(peak) = peak(&profile, step, lever) else {
-            continue;
+    let mut centre = [0.0, 0.0];
+    let mut iterations = 0;
+    let peaks = loop {
+        let peaks = peaks_about(image, centre, settings.angles, step, lever);
+        if peaks.is_empty() {
+            return Err(ImageError::BadRequest(
+                "no ring found: at most angles the brightness profile peaks at the centre or at the field's edge".into(),
+            ));
+        }
+        iterations += 1;
+        let fitted = circle_centre(&peaks, centre, image.pixel_size()).ok_or_else(|| {
+            ImageError::BadRequest(
+                "no ring found: the brightness peaks do not lie on a circle".into(),
+            )
+        })?;
+        let moved = (fitted[0] - centre[0]).hypot(fitted[1] - centre[1]);
+        let inside = fitted[0].abs() < 0.5 * image.field && fitted[1].abs() < 0.5 * image.field;
+        if !inside {
+            return Err(ImageError::BadRequest(
+                "no ring found: the circle through the brightness peaks is centred outside the field".into(),
+            ));
+        }
+        // Averaged after a while, so that a centre hopping between two nearly equal choices
+        // of peaks settles between them.
+        let weight = if iterations > UNDAMPED_ITERATIONS {
+            1.0 / (iterations - UNDAMPED_ITERATIONS + 1) as f64
+        } else {
+            1.0
         };
+        centre = [
+            centre[0] + weight * (fitted[0] - centre[0]),
+            centre[1] + weight * (fitted[1] - centre[1]),
+        ];
+        if moved < CENTRE_TOLERANCE_PIXELS * image.pixel_size() {
+            break peaks_about(image, centre, settings.angles, step, lever);
+        }
+        if iterations >= MAX_CENTRE_ITERATIONS {
+            return Err(ImageError::BadRequest(format!(
+                "the ring's centre did not settle in {MAX_CENTRE_ITERATIONS} circle fits \
+                 (last move {moved:.2e} M)"
+            )));
+        }
+    };
+    if peaks.is_empty() {
+        return Err(ImageError::BadRequest(
+            "no ring found: at every angle the brightness profile peaks at the centre or at the field's edge".into(),
+        ));
+    }
+    let mut radii = Vec::with_capacity(peaks.len());
+    let mut widths = Vec::with_capacity(peaks.len());
+    let (mut s_re, mut s_im, mut s_abs) = (0.0, 0.0, 0.0);
+    for (psi, peak) in &peaks {
         radii.push(peak.radius);
         widths.extend(peak.width);
         s_re += peak.brightness * psi.cos();
         s_im += peak.brightness * psi.sin();
         s_abs += peak.brightness;
-    }
-    if radii.is_empty() {
-        return Err(ImageError::BadRequest(
-            "no ring found: at every angle the brightness profile peaks at the centroid or at the field's edge".into(),
-        ));
     }
     let mean_radius = mean(&radii);
     let variance =
@@ -157,10 +208,96 @@ pub fn ring_features(
         asymmetry_angle_deg: angle,
         asymmetry_contrast: s_re.hypot(s_im) / s_abs,
         centroid,
+        centre,
+        centre_iterations: iterations,
         radius_spread: variance.sqrt(),
         angles_with_peak: radii.len(),
         angles_with_width: widths.len(),
     })
+}
+
+/// The centre's fixed-point iteration stops when it moves less than this many pixels.
+const CENTRE_TOLERANCE_PIXELS: f64 = 1e-2;
+/// Most circle fits for the centre (module docs, step 1).
+pub const MAX_CENTRE_ITERATIONS: usize = 100;
+/// Circle fits before the centre's moves are halved (module docs, step 1).
+const UNDAMPED_ITERATIONS: usize = 20;
+
+/// The ring peak at each of `angles` angles about `centre` (angles without one left out, and
+/// peaks within a pixel of the centre: no ring is resolved there). Empty unless peaks are
+/// found at [`MIN_PEAK_FRACTION`] of the angles at least: a ring runs all the way round.
+fn peaks_about(
+    image: &Image,
+    centre: [f64; 2],
+    angles: usize,
+    step: f64,
+    lever: usize,
+) -> Vec<(f64, Peak)> {
+    let peaks: Vec<(f64, Peak)> = (0..angles)
+        .filter_map(|k| {
+            let psi = std::f64::consts::TAU * k as f64 / angles as f64;
+            let profile = radial_profile(image, centre, psi, step);
+            peak(&profile, step, lever)
+                .filter(|p| p.radius >= image.pixel_size())
+                .map(|p| (psi, p))
+        })
+        .collect();
+    if (peaks.len() as f64) < MIN_PEAK_FRACTION * angles as f64 {
+        Vec::new()
+    } else {
+        peaks
+    }
+}
+
+/// A ring must show a peak at this fraction of the angles at least.
+pub const MIN_PEAK_FRACTION: f64 = 0.5;
+
+/// The centre (−D/2, −E/2) of the circle x² + y² + Dx + Ey + F = 0 fitted to the peak points
+/// by linear least squares (Kåsa 1976), in coordinates relative to `about` for conditioning,
+/// then refitted without the outlying peaks (farther from the circle than three times the
+/// residuals' scaled median absolute deviation, or half a `pixel` if that is larger: peaks
+/// that picked another ring); `None` for fewer than three points or a singular fit.
+fn circle_centre(peaks: &[(f64, Peak)], about: [f64; 2], pixel: f64) -> Option<[f64; 2]> {
+    let points: Vec<[f64; 2]> = peaks
+        .iter()
+        .map(|(psi, p)| [p.radius * psi.cos(), p.radius * psi.sin()])
+        .collect();
+    let (centre, radius) = kasa_fit(&points)?;
+    let residuals: Vec<f64> = points
+        .iter()
+        .map(|q| ((q[0] - centre[0]).hypot(q[1] - centre[1]) - radius).abs())
+        .collect();
+    let mut sorted = residuals.clone();
+    sorted.sort_by(f64::total_cmp);
+    let mad = 1.4826 * sorted[sorted.len() / 2];
+    let cut = (3.0 * mad).max(0.5 * pixel);
+    let kept: Vec<[f64; 2]> = points
+        .iter()
+        .zip(&residuals)
+        .filter(|(_, r)| **r <= cut)
+        .map(|(q, _)| *q)
+        .collect();
+    let (centre, _) = kasa_fit(&kept)?;
+    let centre = [about[0] + centre[0], about[1] + centre[1]];
+    centre.iter().all(|c| c.is_finite()).then_some(centre)
+}
+
+/// The algebraic circle fit (Kåsa 1976): centre and radius.
+fn kasa_fit(points: &[[f64; 2]]) -> Option<([f64; 2], f64)> {
+    if points.len() < 3 {
+        return None;
+    }
+    let mut ata = nalgebra::Matrix3::<f64>::zeros();
+    let mut atb = nalgebra::Vector3::<f64>::zeros();
+    for &[x, y] in points {
+        let row = nalgebra::Vector3::new(x, y, 1.0);
+        ata += row * row.transpose();
+        atb += row * (-(x * x + y * y));
+    }
+    let s = ata.lu().solve(&atb)?;
+    let centre = [-0.5 * s[0], -0.5 * s[1]];
+    let r2 = centre[0] * centre[0] + centre[1] * centre[1] - s[2];
+    (r2 > 0.0).then(|| (centre, r2.sqrt()))
 }
 
 fn mean(values: &[f64]) -> f64 {

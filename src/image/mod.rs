@@ -19,17 +19,16 @@
 //! assert_eq!(image.beta(0), 3.0);
 //! ```
 
+pub mod blur;
+pub mod colormap;
 pub mod emission;
+pub mod features;
+pub mod files;
 pub mod inner_shadow;
 pub mod models;
 pub mod trace;
 
 use serde::Serialize;
-
-pub mod blur;
-pub mod colormap;
-pub mod features;
-pub mod files;
 
 pub use blur::{gaussian_blur, uas_to_m};
 pub use colormap::{fathom, COLOUR_MAP_NAME};

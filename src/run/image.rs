@@ -18,8 +18,8 @@ pub enum RenderError {
 }
 
 /// The rows of an image as work items.
-struct Rows<'t, 'm> {
-    tracer: &'t ImageTracer<'m>,
+pub(crate) struct Rows<'t, 'm> {
+    pub(crate) tracer: &'t ImageTracer<'m>,
 }
 
 impl WorkList for Rows<'_, '_> {

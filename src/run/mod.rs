@@ -56,6 +56,7 @@
 //! ```
 
 pub mod bound;
+pub mod calibrate;
 mod checkpoint;
 mod file;
 mod header;
