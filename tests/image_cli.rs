@@ -177,6 +177,30 @@ fn bad_image_and_calibration_requests_are_one_line_errors() {
             &[
                 "image",
                 "--metric",
+                "kerr",
+                "--inclination",
+                "30",
+                "--blur-m",
+                "-1",
+            ],
+            "--blur-m",
+        ),
+        (
+            &[
+                "image",
+                "--metric",
+                "kerr",
+                "--inclination",
+                "30",
+                "--observer-radius",
+                "1.5",
+            ],
+            "observer radius",
+        ),
+        (
+            &[
+                "image",
+                "--metric",
                 "schwarzschild",
                 "--inclination",
                 "30",

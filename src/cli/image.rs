@@ -47,6 +47,9 @@ pub struct ImageArgs {
     /// Observer inclination from the spin axis, in degrees (0 to 180; 0 is face-on).
     #[arg(long, allow_hyphen_values = true)]
     inclination: String,
+    /// Observer radius in M (default: a distant observer).
+    #[arg(long = "observer-radius", allow_hyphen_values = true)]
+    observer_radius: Option<String>,
     /// Emission model: disk-isco, disk-horizon, infall, or a name from --models.
     #[arg(long, default_value = "disk-isco")]
     emission: String,
@@ -62,6 +65,13 @@ pub struct ImageArgs {
     /// Blur to this FWHM in micro-arcseconds (needs --theta-g-uas).
     #[arg(long = "blur-uas", allow_hyphen_values = true)]
     blur_uas: Option<String>,
+    /// Blur to this FWHM in M (instead of --blur-uas).
+    #[arg(
+        long = "blur-m",
+        allow_hyphen_values = true,
+        conflicts_with = "blur_uas"
+    )]
+    blur_m: Option<String>,
     /// theta_g = GM/(c^2 D) in micro-arcseconds (for --blur-uas and the FITS sky scale).
     #[arg(long = "theta-g-uas", allow_hyphen_values = true)]
     theta_g_uas: Option<String>,
@@ -214,14 +224,25 @@ pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         .as_deref()
         .map(|t| parse_finite(t, "--blur-uas"))
         .transpose()?;
-    let fwhm_m = match (blur_uas, theta_g) {
-        (Some(b), Some(t)) => Some(uas_to_m(b, t).map_err(|e| CliError::usage(e.to_string()))?),
-        (Some(_), None) => {
+    let blur_m = args
+        .blur_m
+        .as_deref()
+        .map(|t| parse_finite(t, "--blur-m"))
+        .transpose()?;
+    let fwhm_m = match (blur_uas, theta_g, blur_m) {
+        (Some(b), Some(t), _) => Some(uas_to_m(b, t).map_err(|e| CliError::usage(e.to_string()))?),
+        (Some(_), None, _) => {
             return Err(CliError::usage(
                 "--blur-uas needs --theta-g-uas to convert micro-arcseconds to M",
             ))
         }
-        _ => None,
+        (None, _, Some(m)) if m <= 0.0 => {
+            return Err(CliError::usage(format!(
+                "--blur-m must be a positive FWHM in M, got {}",
+                Num(m)
+            )))
+        }
+        (None, _, m) => m,
     };
     if let Some(t) = theta_g {
         if t <= 0.0 {
@@ -236,7 +257,13 @@ pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     }
     let spacetime = metric_from_args(&args.metric, &args.set)?;
     let model = model_named(&args.emission, args.models.as_deref())?;
-    let observer = Observer::distant(inclination.to_radians());
+    let observer = match &args.observer_radius {
+        None => Observer::distant(inclination.to_radians()),
+        Some(r) => Observer::at_radius(
+            inclination.to_radians(),
+            parse_finite(r, "--observer-radius")?,
+        ),
+    };
     let settings = ImageSettings::new(observer, args.pixels, field);
     let tracer = ImageTracer::new(spacetime.as_ref(), &model, &settings)
         .map_err(|e| CliError::usage(e.to_string()))?;
