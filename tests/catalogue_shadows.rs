@@ -3,6 +3,8 @@
 
 mod common;
 
+use common::max_distance;
+
 use rayon::prelude::*;
 use umbral::metric::Spacetime;
 use umbral::metrics::build_metric;
@@ -23,22 +25,6 @@ fn curve(m: &dyn Spacetime, incl_deg: f64, solver: SolverChoice, points: usize) 
         .unwrap_or_else(|e| panic!("{} at {incl_deg} deg: {e}", m.info().name));
     assert_eq!(r.status, ShadowStatus::Shadow, "{}", m.info().name);
     r.curve.unwrap()
-}
-
-/// Largest screen distance of `points` from `reference` (measured radially from the
-/// reference's origin, through its spectral interpolant).
-fn max_distance(points: &CriticalCurve, reference: &CriticalCurve) -> f64 {
-    let interp = reference.interpolant();
-    let o = reference.origin;
-    let (alpha, beta) = points.alpha_beta();
-    alpha
-        .iter()
-        .zip(&beta)
-        .map(|(a, b)| {
-            let (dx, dy) = (a - o[0], b - o[1]);
-            ((dx * dx + dy * dy).sqrt() - interp.radius(dy.atan2(dx))).abs()
-        })
-        .fold(0.0, f64::max)
 }
 
 /// The separable curves of the separable catalogue metrics equal the ray-traced ones

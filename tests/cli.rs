@@ -385,12 +385,27 @@ fn demo_writes_its_figures_report_and_results() {
         "posterior-reissner-nordstrom.json",
         "samples-reissner-nordstrom.csv",
         "corner-reissner-nordstrom.svg",
+        "calibration.json",
+        "image-kerr.png",
+        "image-kerr-blurred.png",
     ] {
         assert!(dir.join(f).exists(), "{f} missing");
     }
+    // κ comes from the demo's own calibration, and the measurement it writes says so.
+    let calibration: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(dir.join("calibration.json")).unwrap())
+            .unwrap();
+    let kappa = calibration["kappa"]["mean"].as_f64().unwrap();
+    let measurement = std::fs::read_to_string(dir.join("measurement.toml")).unwrap();
+    assert!(
+        measurement.contains(&format!("ring_to_shadow = {{ value = {kappa:.4}")),
+        "{measurement}"
+    );
     let report = std::fs::read_to_string(dir.join("report.md")).unwrap();
     assert!(report.contains("invented"));
     assert!(report.contains("ring-to-shadow calibration"));
+    assert!(report.contains("## Emission ring and calibration"));
+    assert!(report.contains("![image](image-kerr.png)"));
     assert!(report.contains("## Bound and posterior from the same measurement"));
     assert!(report.contains("Posterior assumptions:"));
     assert!(report.contains("![corner plot](corner-reissner-nordstrom.svg)"));
@@ -404,7 +419,7 @@ fn demo_writes_its_figures_report_and_results() {
         .collect();
     assert_eq!(section.len(), 8, "no comparison in:\n{stdout}");
     assert!(
-        section[2].starts_with("  68%   [0.0000 (range edge), 0.9738]"),
+        section[2].starts_with("  68%   [0.3966, 1.0000 (horizon edge)]"),
         "{section:?}"
     );
     assert!(section[3].starts_with("  95%   [0.0000 (range edge), 1.0000 (horizon edge)]"));

@@ -154,6 +154,13 @@ fn a_thin_ring_has_its_diameter_and_width() {
         f.width.unwrap()
     );
     assert!(f.radius_spread < 0.05 * pixel, "spread {}", f.radius_spread);
+    // The dark centre's radius: the inner half maximum of the Gaussian, R − σ√(2 ln 2).
+    let inner = 10.0 - 0.5 * (2.0 * std::f64::consts::LN_2).sqrt();
+    assert!(
+        (f.dark_radius.unwrap() - inner).abs() < 0.05 * pixel,
+        "dark radius {} vs {inner}",
+        f.dark_radius.unwrap()
+    );
     assert_eq!((f.angles_with_peak, f.angles_with_width), (360, 360));
     assert!(f.asymmetry_contrast < 1e-10);
     assert!(f.centroid[0].abs() < 1e-12 && f.centroid[1].abs() < 1e-12);

@@ -4,6 +4,9 @@
 //! its critical impact parameter to 1e-9 M, the early end falling back to full integration
 //! where it does not apply, and results independent of the thread count.
 
+mod common;
+
+use common::max_distance;
 use rayon::prelude::*;
 use rayon::ThreadPoolBuilder;
 use umbral::metric::Spacetime;
@@ -36,22 +39,6 @@ fn shadow(m: &dyn Spacetime, deg: f64, name: &str, points: usize, tol: f64) -> S
         .unwrap_or_else(|e| panic!("{} at {deg} deg, {name}: {e}", m.info().name));
     assert_eq!(result.status, ShadowStatus::Shadow, "{}", m.info().name);
     result
-}
-
-/// Largest radial distance of the points of `traced` from the curve `reference`, measured
-/// from the reference's origin through its spectral interpolant.
-fn max_distance(traced: &CriticalCurve, reference: &CriticalCurve) -> f64 {
-    let interp = reference.interpolant();
-    let o = reference.origin;
-    let (alpha, beta) = traced.alpha_beta();
-    alpha
-        .iter()
-        .zip(&beta)
-        .map(|(a, b)| {
-            let (dx, dy) = (a - o[0], b - o[1]);
-            ((dx * dx + dy * dy).sqrt() - interp.radius(dy.atan2(dx))).abs()
-        })
-        .fold(0.0, f64::max)
 }
 
 /// Kerr a ∈ {0, 0.5, 0.9, 0.99, 0.998} at 17°, 60° and 90°, and Kerr–Newman a = q = 0.5 at

@@ -91,6 +91,7 @@ pub struct ImageArgs {
 struct RingJson {
     diameter: f64,
     width: Option<f64>,
+    dark_radius: Option<f64>,
     asymmetry_angle_deg: f64,
     asymmetry_contrast: f64,
     centroid: [f64; 2],
@@ -101,6 +102,7 @@ impl From<&RingFeatures> for RingJson {
         RingJson {
             diameter: f.diameter,
             width: f.width,
+            dark_radius: f.dark_radius,
             asymmetry_angle_deg: f.asymmetry_angle_deg,
             asymmetry_contrast: f.asymmetry_contrast,
             centroid: f.centroid,
@@ -510,6 +512,10 @@ fn print_report(r: &ImageJson, out: Option<&Path>) -> Result<(), CliError> {
             match ring.width {
                 Some(w) => outln!("    width (FWHM)                   {w:.6} M")?,
                 None => outln!("    width (FWHM)                   not measured")?,
+            }
+            match ring.dark_radius {
+                Some(d) => outln!("    dark centre radius (half max)  {d:.6} M")?,
+                None => outln!("    dark centre radius (half max)  not measured")?,
             }
             outln!(
                 "    brightness asymmetry           {:.1} deg from +alpha, contrast {:.4}",

@@ -43,7 +43,9 @@
 //!    interpolation between the samples on either side of I_k/2. An angle whose interval runs
 //!    into the centroid or the field's edge has no width; the width is the mean over the angles
 //!    that have one (`None` if none has).
-//! 6. Asymmetry: with S = Σ_k I_k e^{iψ_k}, the contrast is A = |S| / Σ_k I_k ∈ [0, 1] and the
+//! 6. The dark central region: the mean over the angles of the inner half-maximum point of
+//!    step 5 (at least half the angles must have one).
+//! 7. Asymmetry: with S = Σ_k I_k e^{iψ_k}, the contrast is A = |S| / Σ_k I_k ∈ [0, 1] and the
 //!    position angle is arg S in degrees, in (−180°, 180°], measured from +α towards +β (so
 //!    90° means the ring is brightest towards +β). For a brightness I₀(1 + c cos(ψ − ψ₀)) about
 //!    the centre, S = K I₀ (c/2) e^{iψ₀} exactly for K ≥ 3 (discrete orthogonality of the
@@ -111,6 +113,12 @@ pub struct RingFeatures {
     pub centre: [f64; 2],
     /// Circle fits it took to settle the centre.
     pub centre_iterations: usize,
+    /// The dark central region's size: the mean over the angles of the radius where the
+    /// profile first reaches half the ring's peak going out from the centre (`None` unless
+    /// at least half the angles have one). At full resolution with emission down to the
+    /// horizon the inner shadow's ray-traced edge is the sharper measure
+    /// ([`super::inner_shadow`]); after blurring this is the one an image gives.
+    pub dark_radius: Option<f64>,
     /// Standard deviation of the ring radius over the angles.
     pub radius_spread: f64,
     /// Angles whose profile has a ring peak (of the `angles` asked for).
@@ -124,6 +132,8 @@ struct Peak {
     radius: f64,
     brightness: f64,
     width: Option<f64>,
+    /// Where the profile first rises to half the peak, going out from the centre.
+    inner: Option<f64>,
 }
 
 /// Measures the ring of `image` (module docs). Errors for a grid below 3 × 3 pixels, bad
@@ -187,6 +197,7 @@ pub fn ring_features(
     }
     let mut radii = Vec::with_capacity(peaks.len());
     let mut widths = Vec::with_capacity(peaks.len());
+    let dark: Vec<f64> = peaks.iter().filter_map(|(_, p)| p.inner).collect();
     let (mut s_re, mut s_im, mut s_abs) = (0.0, 0.0, 0.0);
     for (psi, peak) in &peaks {
         radii.push(peak.radius);
@@ -210,6 +221,7 @@ pub fn ring_features(
         centroid,
         centre,
         centre_iterations: iterations,
+        dark_radius: (dark.len() * 2 >= peaks.len()).then(|| mean(&dark)),
         radius_spread: variance.sqrt(),
         angles_with_peak: radii.len(),
         angles_with_width: widths.len(),
@@ -432,6 +444,7 @@ fn peak(profile: &[f64], step: f64, lever: usize) -> Option<Peak> {
         radius: (m as f64 + delta) * step,
         brightness,
         width: inner.zip(outer).map(|(i, o)| (o - i) * step),
+        inner: inner.map(|i| i * step),
     })
 }
 

@@ -504,3 +504,22 @@ pub fn listing(dir: &Path) -> Vec<String> {
     names.sort();
     names
 }
+
+/// Largest screen distance of the points of `points` from the curve `reference`, measured
+/// radially from the reference's origin through its spectral interpolant.
+pub fn max_distance(
+    points: &umbral::shadow::CriticalCurve,
+    reference: &umbral::shadow::CriticalCurve,
+) -> f64 {
+    let interp = reference.interpolant();
+    let o = reference.origin;
+    let (alpha, beta) = points.alpha_beta();
+    alpha
+        .iter()
+        .zip(&beta)
+        .map(|(a, b)| {
+            let (dx, dy) = (a - o[0], b - o[1]);
+            ((dx * dx + dy * dy).sqrt() - interp.radius(dy.atan2(dx))).abs()
+        })
+        .fold(0.0, f64::max)
+}
