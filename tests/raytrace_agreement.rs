@@ -13,9 +13,7 @@ use umbral::metric::Spacetime;
 use umbral::metrics::{build_metric, Kerr};
 use umbral::shadow::raytrace::{RaytraceOptions, Tracer};
 use umbral::shadow::spherical::photon_sphere_analysis;
-use umbral::shadow::{
-    solve, CriticalCurve, Observer, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice,
-};
+use umbral::shadow::{solve, Observer, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice};
 
 /// A metric by name, its parameter assignments and an inclination in degrees.
 type Case = (&'static str, Vec<(&'static str, f64)>, f64);
