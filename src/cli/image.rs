@@ -92,7 +92,8 @@ struct RingJson {
     diameter: f64,
     width: Option<f64>,
     dark_radius: Option<f64>,
-    asymmetry_angle_deg: f64,
+    /// `None` when the contrast is below [`MIN_CONTRAST`]: the angle then means nothing.
+    asymmetry_angle_deg: Option<f64>,
     asymmetry_contrast: f64,
     centroid: [f64; 2],
 }
@@ -103,12 +104,17 @@ impl From<&RingFeatures> for RingJson {
             diameter: f.diameter,
             width: f.width,
             dark_radius: f.dark_radius,
-            asymmetry_angle_deg: f.asymmetry_angle_deg,
+            asymmetry_angle_deg: (f.asymmetry_contrast >= MIN_CONTRAST)
+                .then_some(f.asymmetry_angle_deg),
             asymmetry_contrast: f.asymmetry_contrast,
             centroid: f.centroid,
         }
     }
 }
+
+/// Below this contrast the asymmetry has no direction: the pixel grid alone leaves a few 1e-4
+/// (tests/image_products.rs).
+const MIN_CONTRAST: f64 = 1e-3;
 
 #[derive(Debug, Serialize)]
 struct MeanRadius {
@@ -517,11 +523,16 @@ fn print_report(r: &ImageJson, out: Option<&Path>) -> Result<(), CliError> {
                 Some(d) => outln!("    dark centre radius (half max)  {d:.6} M")?,
                 None => outln!("    dark centre radius (half max)  not measured")?,
             }
-            outln!(
-                "    brightness asymmetry           {:.1} deg from +alpha, contrast {:.4}",
-                ring.asymmetry_angle_deg,
-                ring.asymmetry_contrast
-            )?;
+            match ring.asymmetry_angle_deg {
+                Some(angle) => outln!(
+                    "    brightness asymmetry           {angle:.1} deg from +alpha, contrast {:.4}",
+                    ring.asymmetry_contrast
+                )?,
+                None => outln!(
+                    "    brightness asymmetry           none (contrast {:.1e}, below {MIN_CONTRAST})",
+                    ring.asymmetry_contrast
+                )?,
+            }
         }
         None => outln!(
             "  ring                             {}",
