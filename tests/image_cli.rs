@@ -15,6 +15,25 @@ fn umbral(dir: &std::path::Path, args: &[&str]) -> common::Outcome {
     outcome
 }
 
+/// `umbral bound` of the Reissner–Nordström charge at 25° from `measurement` in `dir`, JSON.
+fn bound_q(dir: &std::path::Path, measurement: &str) -> common::Outcome {
+    umbral(
+        dir,
+        &[
+            "bound",
+            "--metric",
+            "reissner-nordstrom",
+            "--vary",
+            "q=0:1",
+            "--inclination",
+            "25",
+            "--measurement",
+            measurement,
+            "--json",
+        ],
+    )
+}
+
 #[test]
 fn image_json_has_the_documented_keys_and_writes_every_file_kind() {
     let dir = scratch("image_cli", "keys");
@@ -318,21 +337,7 @@ fn a_calibration_file_feeds_kappa_to_a_bound_and_says_so() {
         common::repo_file("examples/measurement_ring_calibrated.toml"),
     )
     .unwrap();
-    let out = umbral(
-        &dir,
-        &[
-            "bound",
-            "--metric",
-            "reissner-nordstrom",
-            "--vary",
-            "q=0:1",
-            "--inclination",
-            "25",
-            "--measurement",
-            "measurement.toml",
-            "--json",
-        ],
-    );
+    let out = bound_q(&dir, "measurement.toml");
     assert_eq!(out.code, Some(0), "{}", out.describe());
     let text = out.stdout_text();
     assert!(
@@ -358,44 +363,16 @@ fn a_computed_kappa_is_calibrated_before_the_bound() {
         "[[model]]\nname = \"disk-horizon\"\n[[model]]\nname = \"infall\"\n",
     )
     .unwrap();
-    let out = umbral(
-        &dir,
-        &[
-            "bound",
-            "--metric",
-            "reissner-nordstrom",
-            "--vary",
-            "q=0:1",
-            "--inclination",
-            "25",
-            "--measurement",
-            "measurement.toml",
-            "--json",
-        ],
-    );
+    let out = bound_q(&dir, "measurement.toml");
     assert_eq!(out.code, Some(0), "{}", out.describe());
     assert!(out
         .stdout_text()
         .contains("computed by umbral (computed for this run)"));
-    // Without the calibration table, a one-line error.
-    let bad = common::edited(
-        &common::repo_file("examples/measurement_ring_computed.toml"),
-        &[("[size.ring.calibration]", "[unused]")],
-    );
-    std::fs::write(dir.join("bad.toml"), bad).unwrap();
-    let out = umbral(
-        &dir,
-        &[
-            "bound",
-            "--metric",
-            "reissner-nordstrom",
-            "--vary",
-            "q=0:1",
-            "--inclination",
-            "25",
-            "--measurement",
-            "bad.toml",
-        ],
-    );
-    assert_eq!(out.code, Some(2), "{}", out.describe());
+    // Without the calibration table, a one-line error naming it.
+    let full = common::repo_file("examples/measurement_ring_computed.toml");
+    let cut = full
+        .find("[size.ring.calibration]")
+        .expect("the example has the table");
+    std::fs::write(dir.join("bad.toml"), &full[..cut]).unwrap();
+    bound_q(&dir, "bad.toml").assert_usage_error("needs a [size.ring.calibration] table");
 }

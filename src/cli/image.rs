@@ -16,7 +16,6 @@ use umbral::image::emission::EmissionModel;
 use umbral::image::features::{ring_features, FeatureSettings, RingFeatures};
 use umbral::image::files::{write_fits, write_npy, write_png, FitsCard, FitsHeader, FitsValue};
 use umbral::image::inner_shadow::inner_shadow;
-use umbral::image::models::ModelList;
 use umbral::image::trace::{ImageSettings, ImageTracer};
 use umbral::image::Image;
 use umbral::numfmt::Num;
@@ -164,18 +163,10 @@ fn order_name(order: OrderArg) -> &'static str {
     }
 }
 
-/// Find `name` in the model list (built-in names first).
+/// Find `name` in the model list (`--models`, else the built-in list), then among the
+/// built-in names.
 pub fn model_named(name: &str, list: Option<&Path>) -> Result<EmissionModel, CliError> {
-    let models = match list {
-        Some(path) => {
-            let text = std::fs::read_to_string(path).map_err(|e| {
-                CliError::usage(format!("cannot read model list '{}': {e}", path.display()))
-            })?;
-            ModelList::from_toml(&text)
-                .map_err(|e| CliError::usage(format!("'{}': {e}", path.display())))?
-        }
-        None => ModelList::built_in(),
-    };
+    let models = super::calibrate::model_list(list)?;
     if let Some(m) = models.models.iter().find(|m| m.name == name) {
         return Ok(m.model);
     }
