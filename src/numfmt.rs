@@ -50,3 +50,23 @@ impl fmt::Display for Num {
 pub fn num(x: f64) -> String {
     Num(x).to_string()
 }
+
+/// `x` to at most `digits` significant digits, trailing zeros dropped, never a negative
+/// zero: for labels of values that were typed short (`0.27`, not `0.26999999999999996`).
+///
+/// ```
+/// use umbral::numfmt::short;
+/// assert_eq!(short(0.26999999999999996, 6), "0.27");
+/// assert_eq!(short(-1e-20, 6), "-1e-20");
+/// assert_eq!(short(-0.0, 6), "0");
+/// assert_eq!(short(17.0, 6), "17");
+/// assert_eq!(short(5.196152422706632, 4), "5.196");
+/// ```
+pub fn short(x: f64, digits: usize) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return num(x);
+    }
+    let digits = digits.clamp(1, 17);
+    let rounded: f64 = format!("{x:.*e}", digits - 1).parse().unwrap_or(x);
+    num(rounded)
+}

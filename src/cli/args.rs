@@ -183,17 +183,6 @@ pub fn parameter_summary(parameters: &std::collections::BTreeMap<String, f64>) -
         .join(", ")
 }
 
-/// A figure path must end in `.svg` (the only format written).
-pub fn check_svg_path(path: &str) -> Result<(), CliError> {
-    if path.to_ascii_lowercase().ends_with(".svg") {
-        Ok(())
-    } else {
-        Err(CliError::usage(format!(
-            "--plot writes SVG: give a file name ending in .svg, got '{path}'"
-        )))
-    }
-}
-
 /// A checkpoint error as the command line says it: the library's message with what to do
 /// about it on the command line (`flag` names the file's option, `--out`).
 pub fn checkpoint_message(e: &umbral::run::CheckpointError, flag: &str) -> String {

@@ -1,9 +1,10 @@
 //! `umbral bound`: allowed ranges of a metric parameter from a measured shadow or ring.
 
 use super::args::{checkpoint_message, parse_assignments, parse_finite, SizeMeasureArg};
+use super::figure::{write_figure, FigureStyle, Theme};
 use super::interrupt;
-use super::plot::{stage_plot, write_plot};
-use super::plot_bounds::bound_plot;
+use super::plot::stage_plot;
+use super::plot_bounds::{bound_plot, bound_title};
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::Args;
@@ -55,9 +56,12 @@ pub struct BoundArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     json: bool,
-    /// Write an SVG figure.
-    #[arg(long, value_name = "FILE.svg")]
+    /// Write a figure: SVG, PNG or PDF by the extension.
+    #[arg(long, value_name = "FILE")]
     plot: Option<String>,
+    /// Figure sizes: for a paper column or for a slide.
+    #[arg(long, value_enum, default_value = "paper")]
+    style: FigureStyle,
     /// Evaluate only values with a horizon (by default a horizonless object counts when a
     /// photon sphere bounds capture by its centre, and is labelled horizonless).
     #[arg(long = "require-horizon")]
@@ -199,9 +203,6 @@ fn ranges(r: &[[f64; 2]]) -> String {
 }
 
 pub fn run(args: &BoundArgs, progress: &ProgressArgs) -> Result<(), CliError> {
-    if let Some(path) = &args.plot {
-        super::args::check_svg_path(path)?;
-    }
     let request = request_from(args, progress)?;
     // The figure appears only when the whole command succeeds; a bad path fails before work.
     let mut outputs = OutputTransaction::new();
@@ -212,7 +213,15 @@ pub fn run(args: &BoundArgs, progress: &ProgressArgs) -> Result<(), CliError> {
     let result = run_bound(args, &request, display.as_mut())?;
     drop(display);
     if let Some(path) = &args.plot {
-        write_plot(&mut outputs, path, &bound_plot(path, &result)?)?;
+        let theme = Theme::new(args.style);
+        let metric_title = request
+            .metric
+            .build(&request.fixed)
+            .map(|m| m.info().title.clone())
+            .unwrap_or_else(|_| request.metric.name().to_string());
+        let title = bound_title(&metric_title, &result);
+        let svg = bound_plot(path, &theme, &title, &result)?;
+        write_figure(&mut outputs, path, &svg, &theme)?;
     }
     if args.json {
         let text = serde_json::to_string_pretty(&result)

@@ -3,9 +3,10 @@
 //! The scenario is fiction: the nucleus of an invented giant elliptical galaxy, "Harrow's Reach",
 //! with a made-up black-hole mass, distance and viewing angle. No real source or data is used.
 
+use super::figure::{symbol, write_figure_set, FigureStyle, Theme};
 use super::infer::{json_report, samples_csv, verdict, write_corner_plot};
 use super::interrupt;
-use super::plot::{screen_curves, ScreenCurve};
+use super::plot::{screen_curves, ScreenCurve, ScreenFigure};
 use super::progress::ProgressArgs;
 use super::shadow::{shadow_report, ShadowReport};
 use super::CliError;
@@ -165,7 +166,11 @@ fn curves(reports: &[ShadowReport], parameter: &str) -> Vec<ScreenCurve> {
         .iter()
         .filter_map(|r| {
             r.curve.as_ref().map(|c| ScreenCurve {
-                label: format!("{} = {}", parameter, r.parameters[parameter]),
+                label: format!(
+                    "{} = {}",
+                    symbol(parameter),
+                    umbral::numfmt::short(r.parameters[parameter], 6)
+                ),
                 alpha: c.alpha.clone(),
                 beta: c.beta.clone(),
             })
@@ -324,20 +329,29 @@ fn shadows(
         &of("reissner-nordstrom", "q", &[0.0, 0.5, 0.8, 1.0]),
         display,
     )?;
-    let kerr_svg = out.join("kerr-family.svg");
-    let svg = screen_curves(
-        &kerr_svg.to_string_lossy(),
-        &format!("Kerr shadows at {} deg", sc.inclination_deg),
-        &curves(&kerr_family, "a"),
-    )?;
-    outputs.write(&kerr_svg, svg.as_bytes())?;
-    let rn_svg = out.join("reissner-nordstrom-family.svg");
-    let svg = screen_curves(
-        &rn_svg.to_string_lossy(),
-        "Reissner-Nordstrom shadows",
-        &curves(&rn_family, "q"),
-    )?;
-    outputs.write(&rn_svg, svg.as_bytes())?;
+    let theme = Theme::new(FigureStyle::Paper);
+    for (stem, title, reports, parameter) in [
+        ("kerr-family", "Kerr", &kerr_family, "a"),
+        (
+            "reissner-nordstrom-family",
+            "Reissner–Nordström",
+            &rn_family,
+            "q",
+        ),
+    ] {
+        let title = format!(
+            "{title} critical curves, θₒ = {}°",
+            umbral::numfmt::short(sc.inclination_deg, 6)
+        );
+        let curves = curves(reports, parameter);
+        let figure = ScreenFigure {
+            title: &title,
+            curves: &curves,
+            theta_g_uas: None,
+        };
+        let svg = screen_curves(stem, &theme, &figure)?;
+        write_figure_set(outputs, out, stem, &svg, &theme)?;
+    }
     Ok([kerr_family, rn_family])
 }
 
@@ -527,10 +541,15 @@ fn bounds(
     };
     let rn_bound = on("reissner-nordstrom", ("q", 0.0, 1.2), &[]).run(display)?;
     let jo_bound = on("johannsen", ("alpha13", -2.0, 4.0), &[("a", 0.0, 0.95)]).run(display)?;
-    for (b, name) in [(&rn_bound, "reissner-nordstrom"), (&jo_bound, "johannsen")] {
-        let path = out.join(format!("bound-{name}.svg"));
-        let svg = super::plot_bounds::bound_plot(&path.to_string_lossy(), b)?;
-        outputs.write(&path, svg.as_bytes())?;
+    let theme = Theme::new(FigureStyle::Paper);
+    for (b, name, title) in [
+        (&rn_bound, "reissner-nordstrom", "Reissner–Nordström"),
+        (&jo_bound, "johannsen", "Johannsen"),
+    ] {
+        let stem = format!("bound-{name}");
+        let title = super::plot_bounds::bound_title(title, b);
+        let svg = super::plot_bounds::bound_plot(&stem, &theme, &title, b)?;
+        write_figure_set(outputs, out, &stem, &svg, &theme)?;
     }
     Ok([rn_bound, jo_bound])
 }
@@ -623,7 +642,13 @@ fn posterior(
         let csv = samples_csv(&inference, &assumptions);
         outputs.write(&out.join(POSTERIOR_SAMPLES), csv.as_bytes())?;
         let plot = out.join(POSTERIOR_PLOT);
-        write_corner_plot(outputs, &plot.to_string_lossy(), &model, &inference)?;
+        write_corner_plot(
+            outputs,
+            &plot.to_string_lossy(),
+            &model,
+            &inference,
+            &Theme::new(FigureStyle::Paper),
+        )?;
     }
     Ok(DemoPosterior {
         model,

@@ -1,8 +1,9 @@
 //! `umbral infer`: posteriors on a metric's parameters from one or several measurements.
 
 use super::args::{parse_finite, MetricChoice, SizeMeasureArg};
+use super::figure::{write_figure, FigureStyle, Theme};
 use super::interrupt;
-use super::plot::{stage_plot, write_plot};
+use super::plot::stage_plot;
 use super::plot_posterior::corner_plot;
 use super::progress::ProgressArgs;
 use super::CliError;
@@ -119,8 +120,11 @@ pub struct InferArgs {
     /// Write a corner plot of the posterior (SVG): every sampled parameter, or when there are
     /// more than 6 the shared ones and each source's spin and inclination. Like the samples,
     /// only a converged run writes it.
-    #[arg(long, value_name = "FILE.svg")]
+    #[arg(long, value_name = "FILE")]
     plot: Option<String>,
+    /// Figure sizes: for a paper column or for a slide.
+    #[arg(long, value_enum, default_value = "paper")]
+    style: FigureStyle,
 }
 
 /// Read `NAME=SPEC` priors.
@@ -357,9 +361,6 @@ fn stage_outputs(args: &InferArgs) -> Result<(OutputTransaction, StagedCsv), Cli
 }
 
 pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
-    if let Some(path) = &args.plot {
-        super::args::check_svg_path(path)?;
-    }
     let metric = args.metric.resolve()?;
     let mut sources = args
         .measurement
@@ -432,7 +433,13 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         }
     }
     if let (Some(path), None) = (&args.plot, &verdict) {
-        write_corner_plot(&mut outputs, path, &model, &inference)?;
+        write_corner_plot(
+            &mut outputs,
+            path,
+            &model,
+            &inference,
+            &Theme::new(args.style),
+        )?;
     }
     if args.json {
         let report = json_report(
@@ -515,14 +522,15 @@ pub(super) fn write_corner_plot(
     path: &str,
     model: &PosteriorModel,
     inference: &Inference,
+    theme: &Theme,
 ) -> Result<(), CliError> {
     let sources = match model.sources() {
         1 => "1 source".to_string(),
         k => format!("{k} sources"),
     };
-    let title = format!("{}: posterior from {sources}", model.metric_info().name);
+    let title = format!("{}: posterior from {sources}", model.metric_info().title);
     let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
-    write_plot(outputs, path, &svg)
+    write_figure(outputs, path, &svg, theme)
 }
 
 /// Why the run is not a posterior to report (`None`: it is).

@@ -1,48 +1,86 @@
-//! SVG figures of bounds: predicted size against the varied parameter, and exclusion maps.
+//! Figures of bounds: the predicted size against the varied parameter with the allowed
+//! ranges in a strip below, and exclusion maps over two parameters.
 
-use super::plot::{finish, plot_error};
+use super::figure::{
+    draw_line, draw_svg, symbol, Dash, Legend, Mark, SeriesLook, Theme, ALLOWED, EXCLUDED,
+    NO_HORIZON,
+};
+use super::plot::{draw_title, label_areas, plot_error, style_mesh, Chart};
 use super::CliError;
-use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
-use umbral::bounds::BoundResult;
+use umbral::bounds::{BoundResult, Inclination};
+use umbral::numfmt::short;
+use umbral::scan::refine::RefinedMap;
 
-const BAND: RGBColor = RGBColor(31, 78, 121);
+/// The prediction band's colour.
+const BAND: RGBColor = ALLOWED;
+/// The colours of the measured intervals and allowed ranges, one per confidence level.
 const LEVEL_COLOURS: [RGBColor; 4] = [
-    RGBColor(46, 125, 50),
-    RGBColor(196, 90, 17),
-    RGBColor(123, 31, 162),
-    RGBColor(0, 131, 143),
+    RGBColor(0, 158, 115),
+    RGBColor(204, 121, 167),
+    RGBColor(230, 159, 0),
+    RGBColor(86, 180, 233),
 ];
+/// No shadow although there is a horizon.
+const NO_SHADOW: RGBColor = RGBColor(90, 90, 90);
 
-/// Predicted r_sh/M (band over the nuisance box) against the varied parameter, the measured
-/// intervals as shaded horizontal bands and the allowed ranges as bars along the bottom;
-/// returns the SVG text (`path` names it in errors).
-pub fn bound_plot(path: &str, result: &BoundResult) -> Result<String, CliError> {
-    let mut svg = String::new();
-    draw_bound_plot(&mut svg, path, result)?;
-    Ok(svg)
+/// The title of a bound's figure: the metric's title, the varied parameter and the
+/// inclination (or its range).
+pub fn bound_title(metric_title: &str, result: &BoundResult) -> String {
+    let inclination = match result.inclination {
+        Inclination::Fixed { degrees } => format!("θₒ = {}°", short(degrees, 6)),
+        Inclination::Range {
+            low_degrees,
+            high_degrees,
+        } => format!(
+            "θₒ ∈ [{}°, {}°]",
+            short(low_degrees, 6),
+            short(high_degrees, 6)
+        ),
+    };
+    format!(
+        "{metric_title}: bound on {}, {inclination}",
+        symbol(&result.vary.name)
+    )
 }
 
-/// The size axis of [`bound_plot`]: every prediction and measured interval, padded (twice
-/// below, for the allowed bars); (low, high, pad).
-fn size_range(result: &BoundResult) -> (f64, f64, f64) {
-    let ok: Vec<(f64, f64, f64)> = result
-        .predicted
-        .iter()
-        .filter_map(|p| Some((p.value, p.size_min?, p.size_max?)))
-        .collect();
+/// A confidence level as a percentage, e.g. `68 %`.
+fn percent(confidence: f64) -> String {
+    format!("{} %", short(100.0 * confidence, 4))
+}
+
+/// Predicted r_sh/M (a band over the nuisance box, a line without one) against the varied
+/// parameter, the measured intervals as shaded horizontal bands, the ranges without a
+/// horizon or shadow shaded grey, and below, in a strip of their own, the allowed ranges at
+/// each level; returns the SVG text (`path` names it in errors).
+pub fn bound_plot(
+    path: &str,
+    theme: &Theme,
+    title: &str,
+    result: &BoundResult,
+) -> Result<String, CliError> {
+    draw_bound_plot(theme, title, result).map_err(|e| plot_error(path, e))
+}
+
+/// The size axis of [`bound_plot`]: every prediction and measured interval, padded.
+fn size_range(result: &BoundResult) -> (f64, f64) {
     let mut y_lo = f64::INFINITY;
     let mut y_hi = f64::NEG_INFINITY;
-    for &(_, a, b) in &ok {
-        y_lo = y_lo.min(a);
-        y_hi = y_hi.max(b);
+    for p in &result.predicted {
+        if let (Some(a), Some(b)) = (p.size_min, p.size_max) {
+            y_lo = y_lo.min(a);
+            y_hi = y_hi.max(b);
+        }
     }
     for l in &result.levels {
         y_lo = y_lo.min(l.radius_interval[0]);
         y_hi = y_hi.max(l.radius_interval[1]);
     }
+    if !y_lo.is_finite() {
+        return (0.0, 1.0);
+    }
     let pad = 0.08 * (y_hi - y_lo).max(1e-3);
-    (y_lo - 2.0 * pad, y_hi + pad, pad)
+    (y_lo - pad, y_hi + pad)
 }
 
 /// Contiguous runs of nodes with a prediction: (value, size_min, size_max).
@@ -66,16 +104,210 @@ fn prediction_runs(result: &BoundResult) -> Vec<Vec<(f64, f64, f64)>> {
     runs
 }
 
-/// The measured intervals of every level as shaded bands across the plot (widest first so
-/// narrower ones sit on top) and the allowed ranges as bars near the bottom, `pad` apart
-/// from `y_lo` up.
-fn draw_levels<'a>(
-    chart: &mut ChartContext<'a, SVGBackend<'a>, Cartesian2d<RangedCoordf64, RangedCoordf64>>,
-    result: &BoundResult,
-    (y_lo, pad): (f64, f64),
-    path: &str,
-) -> Result<(), CliError> {
+/// What the prediction band spans, for its legend entry: the nuisance parameters and an
+/// inclination range, or nothing (a single line).
+fn nuisance_words(result: &BoundResult) -> Option<String> {
+    let mut parts: Vec<String> = result
+        .nuisance
+        .iter()
+        .map(|n| {
+            format!(
+                "{} ∈ [{}, {}]",
+                symbol(&n.name),
+                short(n.low, 6),
+                short(n.high, 6)
+            )
+        })
+        .collect();
+    if let Inclination::Range {
+        low_degrees,
+        high_degrees,
+    } = result.inclination
+    {
+        parts.push(format!(
+            "θₒ ∈ [{}°, {}°]",
+            short(low_degrees, 6),
+            short(high_degrees, 6)
+        ));
+    }
+    (!parts.is_empty()).then(|| parts.join(", "))
+}
+
+fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<String, String> {
+    let (y_lo, y_hi) = size_range(result);
     let (x_lo, x_hi) = (result.vary.low, result.vary.high);
+    let x_name = symbol(&result.vary.name);
+    let size_name = format!("{} radius", result.size_measure.name());
+    let nuisance = nuisance_words(result);
+    let mut legend = Legend::default();
+    legend.add(
+        match nuisance {
+            Some(_) => Mark::Patch(BAND, 0.35),
+            None => Mark::Line(
+                SeriesLook {
+                    colour: BAND,
+                    dash: Dash::Solid,
+                },
+                theme.line,
+            ),
+        },
+        match &nuisance {
+            Some(words) => format!("predicted, over {words}"),
+            None => "predicted".to_string(),
+        },
+    );
+    for (i, l) in result.levels.iter().enumerate() {
+        legend.add(
+            Mark::Patch(LEVEL_COLOURS[i % LEVEL_COLOURS.len()], 0.3),
+            format!(
+                "measured at {}: [{}, {}] M",
+                percent(l.confidence),
+                short(l.radius_interval[0], 5),
+                short(l.radius_interval[1], 5)
+            ),
+        );
+    }
+    if !result.no_horizon.is_empty() {
+        legend.add(Mark::Patch(NO_HORIZON, 0.3), "no horizon (not evaluated)");
+    }
+    if !result.no_shadow.is_empty() {
+        legend.add(Mark::Patch(NO_SHADOW, 0.45), "no shadow");
+    }
+    if !result.horizonless.is_empty() {
+        legend.add(
+            Mark::Patch(NO_HORIZON, 0.12),
+            "horizonless, photon sphere bounds capture",
+        );
+    }
+    if !result.failures.is_empty() {
+        legend.add(Mark::Patch(EXCLUDED, 0.5), "solver failed (neither)");
+    }
+    let (left, bottom) = label_areas(theme);
+    let margin = 0.5 * theme.label;
+    let title_h = 2.0 * theme.title;
+    let w = 1.3 * theme.width;
+    let main_h = 0.62 * theme.width;
+    let strip_row = 1.5 * theme.label;
+    let strip_h = strip_row * result.levels.len().max(1) as f64 + bottom;
+    let legend_h = legend.rows_height(theme, w - left - margin) + 0.5 * theme.label;
+    let h = title_h + main_h + strip_h + legend_h + margin;
+    let levels = result.levels.len().max(1);
+    draw_svg(theme, (w, h), |root| {
+        let (top, rest) = root.split_vertically(theme.px(title_h));
+        draw_title(&top, theme, title, title_h)?;
+        let (main, rest) = rest.split_vertically(theme.px(main_h));
+        let (strip, legend_area) = rest.split_vertically(theme.px(strip_h));
+        let mut chart = ChartBuilder::on(&main)
+            .margin_right(theme.px(margin))
+            .x_label_area_size(theme.px(0.5 * theme.tick))
+            .y_label_area_size(theme.px(left))
+            .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
+            .map_err(|e| e.to_string())?;
+        chart
+            .configure_mesh()
+            .y_desc(format!("{size_name} r_sh / M"))
+            .x_labels(7)
+            .y_labels(6)
+            .x_label_formatter(&|_| String::new())
+            .label_style(theme.font(theme.tick))
+            .axis_desc_style(theme.font(theme.label))
+            .bold_line_style(
+                RGBColor(0, 0, 0)
+                    .mix(0.14)
+                    .stroke_width(theme.upx(theme.thin)),
+            )
+            .light_line_style(TRANSPARENT)
+            .axis_style(theme.hairline(RGBColor(60, 60, 60)))
+            .set_all_tick_mark_size(theme.px(3.0))
+            .draw()
+            .map_err(|e| e.to_string())?;
+        draw_measured(&mut chart, result, (x_lo, x_hi))?;
+        draw_regions(&mut chart, result, (y_lo, y_hi))?;
+        draw_prediction(&mut chart, theme, result, nuisance.is_some())?;
+        // The strip of allowed ranges: one row per level, the widest (highest confidence)
+        // at the bottom.
+        let mut strip_chart = ChartBuilder::on(&strip)
+            .margin_right(theme.px(margin))
+            .x_label_area_size(theme.px(bottom))
+            .y_label_area_size(theme.px(left))
+            .build_cartesian_2d(x_lo..x_hi, 0.0..levels as f64)
+            .map_err(|e| e.to_string())?;
+        let names: Vec<String> = result
+            .levels
+            .iter()
+            .map(|l| format!("{} allowed", percent(l.confidence)))
+            .collect();
+        let row_label = |y: &f64| -> String {
+            let k = (y - 0.5).round();
+            if (y - 0.5 - k).abs() < 1e-9 && k >= 0.0 {
+                names.get(k as usize).cloned().unwrap_or_default()
+            } else {
+                String::new()
+            }
+        };
+        strip_chart
+            .configure_mesh()
+            .x_desc(x_name.as_str())
+            .x_labels(7)
+            .y_labels(2 * levels + 1)
+            .y_label_formatter(&row_label)
+            .label_style(theme.font(theme.tick))
+            .axis_desc_style(theme.font(theme.label))
+            .bold_line_style(
+                RGBColor(0, 0, 0)
+                    .mix(0.14)
+                    .stroke_width(theme.upx(theme.thin)),
+            )
+            .light_line_style(TRANSPARENT)
+            .axis_style(theme.hairline(RGBColor(60, 60, 60)))
+            .set_all_tick_mark_size(theme.px(3.0))
+            .draw()
+            .map_err(|e| e.to_string())?;
+        for r in &result.no_horizon {
+            strip_chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(r[0], 0.0), (r[1], levels as f64)],
+                    NO_HORIZON.mix(0.3).filled(),
+                )))
+                .map_err(|e| e.to_string())?;
+        }
+        for (i, l) in result.levels.iter().enumerate() {
+            let colour = LEVEL_COLOURS[i % LEVEL_COLOURS.len()];
+            for a in &l.allowed {
+                // A single allowed point still shows as a short bar.
+                let min_w = 0.004 * (x_hi - x_lo);
+                let (a0, a1) = if a[1] - a[0] < min_w {
+                    (a[0] - 0.5 * min_w, a[1] + 0.5 * min_w)
+                } else {
+                    (a[0], a[1])
+                };
+                strip_chart
+                    .draw_series(std::iter::once(Rectangle::new(
+                        [(a0, i as f64 + 0.22), (a1, i as f64 + 0.78)],
+                        colour.filled(),
+                    )))
+                    .map_err(|e| e.to_string())?;
+            }
+        }
+        legend
+            .draw_rows(
+                &legend_area,
+                theme,
+                (left, 0.5 * theme.label),
+                w - left - margin,
+            )
+            .map(|_| ())
+            .map_err(|e| e.to_string())
+    })
+}
+
+/// The measured intervals as shaded bands across the plot (widest first, so narrower ones
+/// sit on top).
+fn draw_measured(
+    chart: &mut Chart<'_>,
+    result: &BoundResult,
+    (x_lo, x_hi): (f64, f64),
+) -> Result<(), String> {
     let mut order: Vec<usize> = (0..result.levels.len()).collect();
     order.sort_by(|&a, &b| {
         let w =
@@ -88,99 +320,82 @@ fn draw_levels<'a>(
         chart
             .draw_series(std::iter::once(Rectangle::new(
                 [(x_lo, l.radius_interval[0]), (x_hi, l.radius_interval[1])],
-                colour.mix(0.15).filled(),
+                colour.mix(0.3).filled(),
             )))
-            .map_err(|e| plot_error(path, e))?
-            .label(format!(
-                "measured r_sh/M at {} (allowed: bar {})",
-                l.confidence,
-                i + 1
-            ))
-            .legend(move |(x, y)| {
-                Rectangle::new([(x, y - 5), (x + 18, y + 5)], colour.mix(0.4).filled())
-            });
-        // Allowed ranges as bars near the bottom.
-        let y_bar = y_lo + pad * (0.4 + 0.5 * i as f64);
-        for a in &l.allowed {
-            chart
-                .draw_series(LineSeries::new(
-                    vec![(a[0], y_bar), (a[1], y_bar)],
-                    colour.stroke_width(5),
-                ))
-                .map_err(|e| plot_error(path, e))?;
-        }
+            .map_err(|e| e.to_string())?;
     }
     Ok(())
 }
 
-fn draw_bound_plot(svg: &mut String, path: &str, result: &BoundResult) -> Result<(), CliError> {
-    let (y_lo, y_hi, pad) = size_range(result);
-    let (x_lo, x_hi) = (result.vary.low, result.vary.high);
-    let root = SVGBackend::with_string(svg, (820, 560)).into_drawing_area();
-    root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
-    let mut chart = ChartBuilder::on(&root)
-        .caption(
-            format!("{}: bound on {}", result.metric, result.vary.name),
-            ("sans-serif", 20),
+/// Ranges of the varied parameter without a horizon, without a shadow, horizonless but
+/// evaluated, or failed, as vertical shaded bands.
+fn draw_regions(
+    chart: &mut Chart<'_>,
+    result: &BoundResult,
+    (y_lo, y_hi): (f64, f64),
+) -> Result<(), String> {
+    let bands = result
+        .no_horizon
+        .iter()
+        .map(|r| (*r, NO_HORIZON.mix(0.3)))
+        .chain(result.no_shadow.iter().map(|r| (*r, NO_SHADOW.mix(0.45))))
+        .chain(
+            result
+                .horizonless
+                .iter()
+                .map(|r| (*r, NO_HORIZON.mix(0.12))),
         )
-        .margin(16)
-        .x_label_area_size(44)
-        .y_label_area_size(56)
-        .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
-        .map_err(|e| plot_error(path, e))?;
-    chart
-        .configure_mesh()
-        .x_desc(result.vary.name.as_str())
-        .y_desc(format!(
-            "predicted {} radius r_sh / M",
-            result.size_measure.name()
-        ))
-        .draw()
-        .map_err(|e| plot_error(path, e))?;
-    draw_levels(&mut chart, result, (y_lo, pad), path)?;
-    // The prediction band.
-    let runs = prediction_runs(result);
-    for (k, run) in runs.iter().enumerate() {
-        let mut outline: Vec<(f64, f64)> = run.iter().map(|&(x, a, _)| (x, a)).collect();
-        outline.extend(run.iter().rev().map(|&(x, _, b)| (x, b)));
-        chart
-            .draw_series(std::iter::once(Polygon::new(
-                outline,
-                BAND.mix(0.3).filled(),
-            )))
-            .map_err(|e| plot_error(path, e))?;
-        let s = chart
-            .draw_series(LineSeries::new(
-                run.iter().map(|&(x, a, _)| (x, a)),
-                BAND.stroke_width(2),
-            ))
-            .map_err(|e| plot_error(path, e))?;
-        if k == 0 {
-            s.label("prediction over the nuisance box")
-                .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], BAND.stroke_width(2)));
-        }
-        chart
-            .draw_series(LineSeries::new(
-                run.iter().map(|&(x, _, b)| (x, b)),
-                BAND.stroke_width(2),
-            ))
-            .map_err(|e| plot_error(path, e))?;
-    }
-    for r in &result.no_horizon {
+        .chain(
+            result
+                .failures
+                .iter()
+                .map(|f| ([f.low, f.high], EXCLUDED.mix(0.5))),
+        );
+    for (r, colour) in bands {
         chart
             .draw_series(std::iter::once(Rectangle::new(
                 [(r[0], y_lo), (r[1], y_hi)],
-                BLACK.mix(0.08).filled(),
+                colour.filled(),
             )))
-            .map_err(|e| plot_error(path, e))?;
+            .map_err(|e| e.to_string())?;
     }
-    finish(&mut chart, &root, path)
+    Ok(())
 }
 
-/// One level of an exclusion map: the allowed region as polygons in parameter space.
-pub struct AllowedRegion {
-    pub confidence: f64,
-    pub polygons: Vec<Vec<(f64, f64)>>,
+/// The prediction: a band between the nuisance box's extremes, or a line.
+fn draw_prediction(
+    chart: &mut Chart<'_>,
+    theme: &Theme,
+    result: &BoundResult,
+    band: bool,
+) -> Result<(), String> {
+    let look = SeriesLook {
+        colour: BAND,
+        dash: Dash::Solid,
+    };
+    for run in prediction_runs(result) {
+        if band {
+            let mut outline: Vec<(f64, f64)> = run.iter().map(|&(x, a, _)| (x, a)).collect();
+            outline.extend(run.iter().rev().map(|&(x, _, b)| (x, b)));
+            chart
+                .draw_series(std::iter::once(Polygon::new(
+                    outline,
+                    BAND.mix(0.35).filled(),
+                )))
+                .map_err(|e| e.to_string())?;
+            for edge in [
+                run.iter().map(|&(x, a, _)| (x, a)).collect::<Vec<_>>(),
+                run.iter().map(|&(x, _, b)| (x, b)).collect(),
+            ] {
+                draw_line(chart, theme, edge, look, theme.thin.max(1.0))
+                    .map_err(|e| e.to_string())?;
+            }
+        } else {
+            let line: Vec<(f64, f64)> = run.iter().map(|&(x, a, _)| (x, a)).collect();
+            draw_line(chart, theme, line, look, theme.line).map_err(|e| e.to_string())?;
+        }
+    }
+    Ok(())
 }
 
 /// The allowed region at `threshold` of `values` (row-major, x fastest, `nx` × `ny` samples
@@ -196,7 +411,7 @@ pub fn allowed_polygons(
     dx: f64,
     y0: f64,
     dy: f64,
-) -> Result<Vec<Vec<(f64, f64)>>, CliError> {
+) -> Result<Regions, CliError> {
     let builder = contour::ContourBuilder::new(nx, ny, true)
         .x_origin(x0 - 0.5 * dx)
         .x_step(dx)
@@ -205,92 +420,225 @@ pub fn allowed_polygons(
     let contours = builder
         .contours(values, &[0.0])
         .map_err(|e| CliError::usage(format!("contouring failed: {e:?}")))?;
-    let mut out = Vec::new();
+    let mut out = Regions::default();
+    let ring = |r: &[contour::Pt]| -> Vec<(f64, f64)> { r.iter().map(|p| (p.x, p.y)).collect() };
     for c in contours {
         for polygon in c.geometry().0.iter() {
-            out.push(polygon.exterior().0.iter().map(|p| (p.x, p.y)).collect());
-            for hole in polygon.interiors() {
-                out.push(hole.0.iter().map(|p| (p.x, p.y)).collect());
-            }
+            let exterior = ring(&polygon.exterior().0);
+            let holes: Vec<Vec<(f64, f64)>> =
+                polygon.interiors().iter().map(|h| ring(&h.0)).collect();
+            out.fills.push(bridge_holes(exterior.clone(), &holes));
+            out.outlines.push(exterior);
+            out.outlines.extend(holes);
         }
     }
     Ok(out)
 }
 
-/// An exclusion map: allowed regions at each level as filled contours, no-horizon grid
-/// points as grey dots; returns the SVG text (`path` names it in errors).
+/// Filled regions as simple rings (holes joined to their exterior by a zero-width bridge,
+/// since a plotters polygon has no holes) and their outlines.
+#[derive(Debug, Default)]
+pub struct Regions {
+    pub fills: Vec<Vec<(f64, f64)>>,
+    pub outlines: Vec<Vec<(f64, f64)>>,
+}
+
+/// One ring that fills `exterior` less `holes`: each hole is spliced in at its vertex
+/// nearest to the ring, going round it and back along the same bridge.
+fn bridge_holes(mut ring: Vec<(f64, f64)>, holes: &[Vec<(f64, f64)>]) -> Vec<(f64, f64)> {
+    for hole in holes {
+        if hole.is_empty() || ring.is_empty() {
+            continue;
+        }
+        let d2 = |a: (f64, f64), b: (f64, f64)| (a.0 - b.0).powi(2) + (a.1 - b.1).powi(2);
+        let mut best = (0, 0, f64::INFINITY);
+        for (i, &p) in ring.iter().enumerate() {
+            for (j, &q) in hole.iter().enumerate() {
+                let d = d2(p, q);
+                if d < best.2 {
+                    best = (i, j, d);
+                }
+            }
+        }
+        let (i, j, _) = best;
+        let mut spliced = ring[..=i].to_vec();
+        spliced.extend_from_slice(&hole[j..]);
+        spliced.extend_from_slice(&hole[..=j]);
+        spliced.extend_from_slice(&ring[i..]);
+        ring = spliced;
+    }
+    ring
+}
+
+/// An exclusion map drawn from a refined scan (see [`umbral::scan::refine`]).
+pub struct ExclusionMap<'a> {
+    /// The title above the map.
+    pub title: &'a str,
+    /// The two axes' parameter names.
+    pub names: [&'a str; 2],
+    /// The refined grid and its fields.
+    pub map: &'a RefinedMap,
+    /// The confidence of each level, in the order of the map's allowed fields.
+    pub confidences: &'a [f64],
+}
+
+/// An exclusion map: the plane shaded as excluded where there is a horizon and no level
+/// allows the point, grey where there is no horizon, the allowed regions of each level from
+/// marching squares on the refined grid, the traced edge of the horizon's existence as a
+/// line, and no-shadow and failed points marked; every shade is in the legend. Returns the
+/// SVG text (`path` names it in errors).
 pub fn exclusion_map(
     path: &str,
-    title: &str,
-    axes: [(&str, f64, f64); 2],
-    regions: &[AllowedRegion],
-    no_horizon: &[(f64, f64)],
+    theme: &Theme,
+    map: &ExclusionMap<'_>,
 ) -> Result<String, CliError> {
-    let mut svg = String::new();
-    draw_exclusion_map(&mut svg, path, title, axes, regions, no_horizon)?;
-    Ok(svg)
+    let grid = map.map;
+    let (nx, ny) = (grid.x.len(), grid.y.len());
+    let step = |v: &[f64]| (v[v.len() - 1] - v[0]) / (v.len() - 1) as f64;
+    let (dx, dy) = (step(&grid.x), step(&grid.y));
+    let contour = |values: &[f64]| allowed_polygons(values, nx, ny, grid.x[0], dx, grid.y[0], dy);
+    let horizon = contour(grid.horizon_field())?;
+    let mut levels = Vec::new();
+    for (k, &confidence) in map.confidences.iter().enumerate() {
+        levels.push((confidence, contour(grid.allowed_field(k))?));
+    }
+    draw_exclusion_map(theme, map, &horizon, &levels).map_err(|e| plot_error(path, e))
 }
 
 fn draw_exclusion_map(
-    svg: &mut String,
-    path: &str,
-    title: &str,
-    axes: [(&str, f64, f64); 2],
-    regions: &[AllowedRegion],
-    no_horizon: &[(f64, f64)],
-) -> Result<(), CliError> {
-    let root = SVGBackend::with_string(svg, (760, 680)).into_drawing_area();
-    root.fill(&WHITE).map_err(|e| plot_error(path, e))?;
-    let mut chart = ChartBuilder::on(&root)
-        .caption(title, ("sans-serif", 20))
-        .margin(16)
-        .x_label_area_size(44)
-        .y_label_area_size(56)
-        .build_cartesian_2d(axes[0].1..axes[0].2, axes[1].1..axes[1].2)
-        .map_err(|e| plot_error(path, e))?;
-    chart
-        .configure_mesh()
-        .x_desc(axes[0].0)
-        .y_desc(axes[1].0)
-        .draw()
-        .map_err(|e| plot_error(path, e))?;
-    let mut order: Vec<usize> = (0..regions.len()).collect();
-    order.sort_by(|&a, &b| regions[b].confidence.total_cmp(&regions[a].confidence));
-    for &i in &order {
-        let colour = LEVEL_COLOURS[i % LEVEL_COLOURS.len()];
-        let r = &regions[i];
-        for (k, poly) in r.polygons.iter().enumerate() {
-            chart
-                .draw_series(std::iter::once(Polygon::new(
-                    poly.clone(),
-                    colour.mix(0.25).filled(),
-                )))
-                .map_err(|e| plot_error(path, e))?;
-            let mut closed = poly.clone();
-            if let Some(&first) = poly.first() {
-                closed.push(first);
+    theme: &Theme,
+    map: &ExclusionMap<'_>,
+    horizon: &Regions,
+    levels: &[(f64, Regions)],
+) -> Result<String, String> {
+    let grid = map.map;
+    let (x_lo, x_hi) = (grid.x[0], grid.x[grid.x.len() - 1]);
+    let (y_lo, y_hi) = (grid.y[0], grid.y[grid.y.len() - 1]);
+    let no_shadow = grid.points_with_status("no_shadow");
+    let failed = grid.points_with_status("failed");
+    let some_no_horizon = grid.horizon_field().iter().any(|&h| h < 0.0);
+    let mut legend = Legend::default();
+    // Widest (highest confidence) first, so narrower regions sit on top.
+    let mut order: Vec<usize> = (0..levels.len()).collect();
+    order.sort_by(|&a, &b| levels[b].0.total_cmp(&levels[a].0));
+    for (k, (confidence, _)) in levels.iter().enumerate() {
+        legend.add(
+            Mark::Patch(LEVEL_COLOURS[k % LEVEL_COLOURS.len()], 0.55),
+            format!("allowed at {}", percent(*confidence)),
+        );
+    }
+    legend.add(Mark::Patch(EXCLUDED, 0.22), "excluded");
+    if some_no_horizon {
+        legend.add(Mark::Patch(NO_HORIZON, 0.35), "no horizon");
+        legend.add(
+            Mark::Line(
+                SeriesLook {
+                    colour: RGBColor(30, 30, 30),
+                    dash: Dash::Solid,
+                },
+                theme.line,
+            ),
+            "horizon edge (traced)",
+        );
+    }
+    if !no_shadow.is_empty() {
+        legend.add(Mark::Patch(NO_SHADOW, 0.8), "no shadow (points)");
+    }
+    if !failed.is_empty() {
+        legend.add(
+            Mark::Patch(RGBColor(0, 0, 0), 1.0),
+            "solver failed (points)",
+        );
+    }
+    let (left, bottom) = label_areas(theme);
+    let margin = 0.5 * theme.label;
+    let title_h = 2.0 * theme.title;
+    let side = theme.width - left - 2.0 * margin;
+    let legend_w = legend.width(theme) + theme.label;
+    let (w, h) = (theme.width + legend_w, title_h + side + bottom + margin);
+    let [xn, yn] = map.names;
+    draw_svg(theme, (w, h), |root| {
+        let (top, rest) = root.split_vertically(theme.px(title_h));
+        draw_title(&top, theme, map.title, title_h)?;
+        let (plot_area, legend_area) = rest.split_horizontally(theme.px(theme.width));
+        let mut chart = ChartBuilder::on(&plot_area)
+            .margin_left(theme.px(margin))
+            .margin_right(theme.px(margin))
+            .x_label_area_size(theme.px(bottom))
+            .y_label_area_size(theme.px(left))
+            .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
+            .map_err(|e| e.to_string())?;
+        let background = if some_no_horizon {
+            NO_HORIZON.mix(0.35)
+        } else {
+            EXCLUDED.mix(0.22)
+        };
+        let fill = |chart: &mut Chart<'_>, polys: &[Vec<(f64, f64)>], colour: RGBAColor| {
+            for poly in polys {
+                chart
+                    .draw_series(std::iter::once(Polygon::new(poly.clone(), colour.filled())))
+                    .map_err(|e| e.to_string())?;
             }
-            let s = chart
-                .draw_series(LineSeries::new(closed, colour.stroke_width(2)))
-                .map_err(|e| plot_error(path, e))?;
-            if k == 0 {
-                s.label(format!("allowed at {}", r.confidence))
-                    .legend(move |(x, y)| {
-                        Rectangle::new([(x, y - 5), (x + 18, y + 5)], colour.mix(0.5).filled())
-                    });
+            Ok::<(), String>(())
+        };
+        chart
+            .draw_series(std::iter::once(Rectangle::new(
+                [(x_lo, y_lo), (x_hi, y_hi)],
+                background.filled(),
+            )))
+            .map_err(|e| e.to_string())?;
+        if some_no_horizon {
+            // Where there is a horizon: white, then the excluded shade.
+            fill(&mut chart, &horizon.fills, WHITE.mix(1.0))?;
+            fill(&mut chart, &horizon.fills, EXCLUDED.mix(0.22))?;
+        }
+        for &k in &order {
+            let colour = LEVEL_COLOURS[k % LEVEL_COLOURS.len()];
+            fill(&mut chart, &levels[k].1.fills, WHITE.mix(1.0))?;
+            fill(&mut chart, &levels[k].1.fills, colour.mix(0.55))?;
+        }
+        for &k in &order {
+            let colour = LEVEL_COLOURS[k % LEVEL_COLOURS.len()];
+            for poly in &levels[k].1.outlines {
+                let mut closed = poly.clone();
+                if let Some(&first) = poly.first() {
+                    closed.push(first);
+                }
+                chart
+                    .draw_series(LineSeries::new(
+                        closed,
+                        colour.stroke_width(theme.upx(theme.thin)),
+                    ))
+                    .map_err(|e| e.to_string())?;
             }
         }
-    }
-    if !no_horizon.is_empty() {
+        let edge_look = SeriesLook {
+            colour: RGBColor(30, 30, 30),
+            dash: Dash::Solid,
+        };
+        for line in &grid.horizon_edge {
+            draw_line(&mut chart, theme, line.clone(), edge_look, theme.line)
+                .map_err(|e| e.to_string())?;
+        }
+        let dot = theme.upx(1.6);
         chart
             .draw_series(
-                no_horizon
+                no_shadow
                     .iter()
-                    .map(|&p| Circle::new(p, 2, BLACK.mix(0.35).filled())),
+                    .map(|&p| Circle::new(p, dot, NO_SHADOW.filled())),
             )
-            .map_err(|e| plot_error(path, e))?
-            .label("no horizon")
-            .legend(|(x, y)| Circle::new((x + 9, y), 3, BLACK.mix(0.35).filled()));
-    }
-    finish(&mut chart, &root, path)
+            .map_err(|e| e.to_string())?;
+        chart
+            .draw_series(
+                failed
+                    .iter()
+                    .map(|&p| Cross::new(p, dot, BLACK.stroke_width(theme.upx(theme.thin)))),
+            )
+            .map_err(|e| e.to_string())?;
+        // The mesh last, so its grid and frame sit on top of the shades.
+        style_mesh(&mut chart, theme, (&symbol(xn), &symbol(yn)), (7, 7))?;
+        legend
+            .draw_column(&legend_area, theme, (0.0, 0.0))
+            .map_err(|e| e.to_string())
+    })
 }

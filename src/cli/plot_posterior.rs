@@ -123,7 +123,7 @@ pub fn chosen(names: &[String]) -> (Vec<usize>, Vec<String>) {
     (shown, left)
 }
 
-/// A parameter's axis label: a symbol for the model's names (θ_o for the inclination, κ for the
+/// A parameter's axis label: a symbol for the model's names (θₒ for the inclination, κ for the
 /// ring-to-shadow ratio), the unit in brackets, and `@K` kept when there are several sources.
 fn label(name: &str, several_sources: bool) -> String {
     let (base, source) = match name.split_once('@') {
@@ -136,7 +136,7 @@ fn label(name: &str, several_sources: bool) -> String {
         String::new()
     };
     let (symbol, unit) = match base {
-        "inclination" => ("θ_o", " (deg)"),
+        "inclination" => ("θₒ", " (deg)"),
         "kappa" => ("κ", ""),
         "mass_msun" => ("M", " (M☉)"),
         "distance_mpc" => ("D", " (Mpc)"),
@@ -416,6 +416,7 @@ pub fn corner_plot(
         keys: &keys,
         notes: &notes,
     };
+    super::figure::register_fonts();
     let mut svg = String::new();
     draw_corner(&mut svg, path, &header, (&cols, &smooth), &layout)?;
     // Every colour is opaque (see `blend`), and opacity 1 is SVG's default: without the
@@ -1065,7 +1066,7 @@ mod tests {
 
     #[test]
     fn labels_and_ticks_read_well() {
-        assert_eq!(label("inclination@1", false), "θ_o (deg)");
+        assert_eq!(label("inclination@1", false), "θₒ (deg)");
         assert_eq!(label("kappa@2", true), "κ@2");
         assert_eq!(label("mass_msun@1", false), "M (M☉)");
         assert_eq!(label("q", true), "q");

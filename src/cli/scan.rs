@@ -2,18 +2,21 @@
 
 use super::args::{checkpoint_message, parse_assignments, parse_finite, SizeMeasureArg};
 use super::bound::parse_levels;
+use super::figure::{write_figure, FigureStyle, Theme};
 use super::interrupt;
-use super::plot::{stage_plot, write_plot};
-use super::plot_bounds::{allowed_polygons, exclusion_map, AllowedRegion};
+use super::plot::stage_plot;
+use super::plot_bounds::{exclusion_map, ExclusionMap};
+use super::plot_scan::{observable_plot, ObservablePlot};
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::Args;
 use std::path::Path;
-use umbral::bounds::SizeMeasure;
-use umbral::measurement::{DerivedRadii, Measurement};
-use umbral::numfmt::Num;
+use umbral::measurement::Measurement;
+use umbral::numfmt::{short, Num};
+use umbral::observables::Quantity;
 use umbral::output::OutputTransaction;
 use umbral::run::Controls;
+use umbral::scan::refine::{RefineError, RefineRequest, RefinedMap};
 use umbral::scan::{GridAxis, ScanError, ScanRequest, ScanSummary};
 use umbral::shadow::ShadowSettings;
 
@@ -42,9 +45,23 @@ pub struct ScanArgs {
     /// Size of the critical curve compared with the measured radius.
     #[arg(long = "size-measure", value_enum, default_value = "mean")]
     size_measure: SizeMeasureArg,
-    /// Exclusion map SVG (needs --measurement and two grid axes).
-    #[arg(long, value_name = "FILE.svg")]
+    /// Figure (SVG, PNG or PDF by the extension): with one grid axis the observables against
+    /// the parameter; with two, an exclusion map (needs --measurement).
+    #[arg(long, value_name = "FILE")]
     plot: Option<String>,
+    /// Observables drawn by a one-axis plot, by name, one panel each.
+    #[arg(
+        long,
+        value_name = "NAME,NAME",
+        default_value = "mean_radius,circularity_deviation"
+    )]
+    observables: String,
+    /// Fine steps per grid step where an exclusion map's regions end (1: no refinement).
+    #[arg(long, default_value_t = 4)]
+    refine: usize,
+    /// Figure sizes: for a paper column or for a slide.
+    #[arg(long, value_enum, default_value = "paper")]
+    style: FigureStyle,
     /// Record every horizonless point as no horizon (by default a horizonless object counts
     /// when a photon sphere bounds capture by its centre, and is marked horizonless).
     #[arg(long = "require-horizon")]
@@ -116,9 +133,6 @@ pub fn run_in(
     outputs: &mut OutputTransaction,
     display: &mut dyn umbral::run::Observe,
 ) -> Result<(), CliError> {
-    if let Some(path) = &args.plot {
-        super::args::check_svg_path(path)?;
-    }
     let axes = args
         .grid
         .iter()
@@ -132,11 +146,18 @@ pub fn run_in(
         .as_deref()
         .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
         .transpose()?;
-    if args.plot.is_some() && (measurement.is_none() || axes.len() != 2) {
+    if args.plot.is_some() && measurement.is_none() && axes.len() == 2 {
         return Err(CliError::usage(
-            "--plot draws an exclusion map: it needs --measurement and two --grid axes",
+            "--plot with two --grid axes draws an exclusion map: it needs --measurement",
         ));
     }
+    if !(1..=16).contains(&args.refine) {
+        return Err(CliError::usage(format!(
+            "--refine must be from 1 to 16, got {}",
+            args.refine
+        )));
+    }
+    let observables = parse_observables(&args.observables)?;
     let levels = args.levels.as_deref().map(parse_levels).transpose()?;
     let radii = measurement
         .as_ref()
@@ -175,19 +196,99 @@ pub fn run_in(
         count("no_horizon"),
         count("failed")
     )?;
-    if let (Some(path), Some(radii), Some(m)) = (&args.plot, &radii, &measurement) {
-        let svg = exclusion_plot(
-            path,
-            args.size_measure.measure(),
-            &request,
-            &summary,
-            radii,
-            m,
-        )?;
-        write_plot(outputs, path, &svg)?;
-        outln!("  exclusion map written to '{path}'")?;
+    let theme = Theme::new(args.style);
+    let title_of = |request: &ScanRequest| -> Result<String, CliError> {
+        let metric = request.metric.build(&request.fixed)?;
+        Ok(metric.info().title.clone())
+    };
+    match (&args.plot, &radii, &measurement) {
+        (Some(path), Some(radii), Some(m)) if request.axes.len() == 2 => {
+            let refine = RefineRequest {
+                factor: args.refine,
+                measure: args.size_measure.measure(),
+                intervals: radii.intervals.iter().map(|iv| [iv.low, iv.high]).collect(),
+                circularity_max: m.circularity_max,
+            };
+            let map = refine_with_progress(&request, &summary, &refine, display)?;
+            outln!(
+                "  exclusion map: {} more points where regions end ({}x finer there)",
+                map.computed,
+                args.refine
+            )?;
+            let title = format!(
+                "{}, θₒ = {}°: {}",
+                title_of(&request)?,
+                short(request.inclination_deg, 6),
+                m.label
+            );
+            let confidences: Vec<f64> = radii.intervals.iter().map(|iv| iv.confidence).collect();
+            let figure = ExclusionMap {
+                title: &title,
+                names: [&request.axes[0].name, &request.axes[1].name],
+                map: &map,
+                confidences: &confidences,
+            };
+            let svg = exclusion_map(path, &theme, &figure)?;
+            write_figure(outputs, path, &svg, &theme)?;
+            outln!("  exclusion map written to '{path}'")?;
+        }
+        (Some(path), _, _) => {
+            let title = format!(
+                "{}, θₒ = {}°",
+                title_of(&request)?,
+                short(request.inclination_deg, 6)
+            );
+            let figure = ObservablePlot {
+                title: &title,
+                axis: &request.axes[0],
+                points: &summary.points,
+                observables: &observables,
+            };
+            let svg = observable_plot(path, &theme, &figure)?;
+            write_figure(outputs, path, &svg, &theme)?;
+            outln!("  figure written to '{path}'")?;
+        }
+        _ => {}
     }
     Ok(())
+}
+
+/// `--observables`: names of observables, each known.
+fn parse_observables(text: &str) -> Result<Vec<Quantity>, CliError> {
+    text.split(',')
+        .map(|name| {
+            name.trim().parse::<Quantity>().map_err(|_| {
+                CliError::usage(format!(
+                    "unknown observable '{}' in --observables; known: {}",
+                    name.trim(),
+                    Quantity::names().join(", ")
+                ))
+            })
+        })
+        .collect()
+}
+
+/// Refine a finished two-axis scan for its exclusion map, with progress and Ctrl-C.
+fn refine_with_progress(
+    request: &ScanRequest,
+    summary: &ScanSummary,
+    refine: &RefineRequest,
+    display: &mut dyn umbral::run::Observe,
+) -> Result<RefinedMap, CliError> {
+    let result = {
+        let _graceful = interrupt::Graceful::enter("points");
+        let controls = Controls {
+            observers: vec![display],
+            stop: Some(interrupt::stop_flag()),
+        };
+        umbral::scan::refine::refine(request, &summary.points, refine, controls)
+    };
+    result.map_err(|e| match e {
+        RefineError::Interrupted { .. } => CliError::interrupted(format!(
+            "{e}; the scan's points are kept, the exclusion map was not drawn"
+        )),
+        RefineError::NotTwoAxes => CliError::usage(e.to_string()),
+    })
 }
 
 /// Run the scan with its progress display; the first Ctrl-C stops it after the points in
@@ -218,49 +319,4 @@ fn scan_with_progress(
         ScanError::Checkpoint(e) => CliError::usage(checkpoint_message(&e, "--out")),
         other => CliError::usage(other.to_string()),
     })
-}
-
-/// The exclusion map of a finished two-axis scan, as SVG text.
-fn exclusion_plot(
-    path: &str,
-    size_measure: SizeMeasure,
-    request: &ScanRequest,
-    summary: &ScanSummary,
-    radii: &DerivedRadii,
-    m: &Measurement,
-) -> Result<String, CliError> {
-    let (ax, ay) = (&request.axes[0], &request.axes[1]);
-    let mut regions = Vec::new();
-    for iv in &radii.intervals {
-        let values =
-            summary.allowed_margins([ax, ay], size_measure, [iv.low, iv.high], m.circularity_max);
-        regions.push(AllowedRegion {
-            confidence: iv.confidence,
-            polygons: allowed_polygons(
-                &values,
-                ax.count,
-                ay.count,
-                ax.low,
-                (ax.high - ax.low) / (ax.count - 1) as f64,
-                ay.low,
-                (ay.high - ay.low) / (ay.count - 1) as f64,
-            )?,
-        });
-    }
-    let no_horizon: Vec<(f64, f64)> = summary
-        .points
-        .iter()
-        .filter(|p| p.status == "no_horizon")
-        .map(|p| (ax.value(p.index[0]), ay.value(p.index[1])))
-        .collect();
-    exclusion_map(
-        path,
-        &format!("{}: allowed regions ({})", request.metric.name(), m.label),
-        [
-            (ax.name.as_str(), ax.low, ax.high),
-            (ay.name.as_str(), ay.low, ay.high),
-        ],
-        &regions,
-        &no_horizon,
-    )
 }

@@ -1,7 +1,8 @@
 //! `umbral shadow`: the critical curve and its observables for one metric and observer.
 
 use super::args::{parse_finite, parse_set_family, MetricChoice};
-use super::plot::{screen_curves, stage_plot, write_plot, ScreenCurve};
+use super::figure::{symbol, write_figure, FigureStyle, Theme};
+use super::plot::{screen_curves, stage_plot, ScreenCurve, ScreenFigure};
 use super::CliError;
 use clap::{Args, ValueEnum};
 use serde::Serialize;
@@ -60,9 +61,12 @@ pub struct ShadowArgs {
     /// Write the curve(s) as CSV.
     #[arg(long, value_name = "FILE")]
     csv: Option<String>,
-    /// Write an SVG figure of the curve(s).
-    #[arg(long, value_name = "FILE.svg")]
+    /// Write a figure of the curve(s): SVG, PNG or PDF by the extension.
+    #[arg(long, value_name = "FILE")]
     plot: Option<String>,
+    /// Figure sizes: for a paper column or for a slide.
+    #[arg(long, value_enum, default_value = "paper")]
+    style: FigureStyle,
 }
 
 /// The curve's screen coordinates.
@@ -101,7 +105,7 @@ pub struct ShadowReport {
     pub photon_spheres: Vec<PhotonSphere>,
     pub curve: Option<CurveJson>,
     /// For an observer at finite radius: the curve in celestial angles (screen coordinates
-    /// are √g_θθ(r_o, θ_o) sin Θ along the direction Ψ).
+    /// are √g_θθ(r_o, θₒ) sin Θ along the direction Ψ).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub celestial: Option<CelestialJson>,
     pub diagnostics: Diagnostics,
@@ -335,7 +339,7 @@ fn screen_curves_of(reports: &[ShadowReport]) -> Vec<ScreenCurve> {
                 label: rep
                     .parameters
                     .iter()
-                    .map(|(k, v)| format!("{k} = {v}"))
+                    .map(|(k, v)| format!("{} = {}", symbol(k), umbral::numfmt::short(*v, 6)))
                     .collect::<Vec<_>>()
                     .join(", "),
                 alpha: c.alpha.clone(),
@@ -363,9 +367,6 @@ fn theta_g_from(text: Option<&str>) -> Result<Option<f64>, CliError> {
 }
 
 pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
-    if let Some(path) = &args.plot {
-        super::args::check_svg_path(path)?;
-    }
     let (inclination_deg, observer, settings) = settings_from(args)?;
     let theta_g = theta_g_from(args.mass_distance_uas.as_deref())?;
     let centre = match args.centre {
@@ -397,10 +398,19 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
     if let Some(path) = &args.plot {
         let curves = screen_curves_of(&reports);
         let title = format!(
-            "{} shadow, inclination {inclination_deg} deg",
-            source.name()
+            "{} critical curve{}, θₒ = {}°",
+            metrics[0].info().title,
+            if curves.len() > 1 { "s" } else { "" },
+            umbral::numfmt::short(inclination_deg, 6)
         );
-        write_plot(&mut outputs, path, &screen_curves(path, &title, &curves)?)?;
+        let theme = Theme::new(args.style);
+        let figure = ScreenFigure {
+            title: &title,
+            curves: &curves,
+            theta_g_uas: theta_g,
+        };
+        let svg = screen_curves(path, &theme, &figure)?;
+        write_figure(&mut outputs, path, &svg, &theme)?;
     }
     if args.json {
         let text = if reports.len() == 1 {

@@ -13,7 +13,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct Dilaton {
         name: "dilaton",
-        title: "Einstein-Maxwell-dilaton (GHS)",
+        title: "Einstein–Maxwell–dilaton (GHS)",
         reference: "Garfinkle, Horowitz & Strominger 1991, Phys. Rev. D 43, 3140",
         horizon: |m| (m.q * m.q < 2.0).then_some(2.0),
         parameters: {

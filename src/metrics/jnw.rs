@@ -14,7 +14,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct Jnw {
         name: "jnw",
-        title: "Janis-Newman-Winicour",
+        title: "Janis–Newman–Winicour",
         reference: "Janis, Newman & Winicour 1968, Phys. Rev. Lett. 20, 878; Virbhadra 1997, Int. J. Mod. Phys. A 12, 4831",
         horizon: |m| (m.nu == 1.0).then_some(2.0),
         parameters: {

@@ -18,7 +18,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct JohannsenPsaltis {
         name: "johannsen-psaltis",
-        title: "Johannsen-Psaltis",
+        title: "Johannsen–Psaltis",
         reference: "Johannsen & Psaltis 2011, Phys. Rev. D 83, 124015",
         horizon: |m| m.outer_horizon_over_theta(),
         parameters: {

@@ -28,7 +28,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct KerrNewman {
         name: "kerr-newman",
-        title: "Kerr-Newman",
+        title: "Kerr–Newman",
         reference: "Newman, Couch, Chinnapared, Exton, Prakash & Torrence 1965, J. Math. Phys. 6, 918",
         horizon: |m| super::horizon_root(1.0, m.a * m.a + m.q * m.q).map(|s| 1.0 + s),
         parameters: {

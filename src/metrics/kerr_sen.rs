@@ -23,7 +23,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct KerrSen {
         name: "kerr-sen",
-        title: "Kerr-Sen",
+        title: "Kerr–Sen",
         reference: "Sen 1992, Phys. Rev. Lett. 69, 1006",
         horizon: |m| m.outer_horizon_closed_form(),
         parameters: {

@@ -22,7 +22,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct Krz {
         name: "krz",
-        title: "Konoplya-Rezzolla-Zhidenko",
+        title: "Konoplya–Rezzolla–Zhidenko",
         reference: "Konoplya, Rezzolla & Zhidenko 2016, Phys. Rev. D 93, 064015; Ni, Jiang & Bambi 2016, JCAP 09, 014",
         parameters: {
             a: { default: 0.0, domain: Domain::closed(-1.0, 1.0), meaning: "spin a = J/M^2" },

@@ -23,7 +23,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct ReissnerNordstrom {
         name: "reissner-nordstrom",
-        title: "Reissner-Nordstrom",
+        title: "Reissner–Nordström",
         reference: "Reissner 1916, Ann. Phys. 355, 106; Nordstrom 1918, Proc. KNAW 20, 1238",
         horizon: |m| super::horizon_root(1.0, m.q * m.q).map(|s| 1.0 + s),
         parameters: {

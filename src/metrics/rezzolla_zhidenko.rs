@@ -16,7 +16,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct RezzollaZhidenko {
         name: "rezzolla-zhidenko",
-        title: "Rezzolla-Zhidenko parametrization",
+        title: "Rezzolla–Zhidenko parametrization",
         reference: "Rezzolla & Zhidenko 2014, Phys. Rev. D 90, 084009",
         parameters: {
             epsilon: {

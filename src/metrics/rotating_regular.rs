@@ -20,7 +20,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct RotatingBardeen {
         name: "rotating-bardeen",
-        title: "Rotating Bardeen (Bambi-Modesto)",
+        title: "Rotating Bardeen (Bambi–Modesto)",
         reference: "Bambi & Modesto 2013, Phys. Lett. B 721, 329",
         parameters: {
             a: { default: 0.0, domain: Domain::REAL, meaning: "spin a = J/M^2" },
@@ -39,7 +39,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct RotatingHayward {
         name: "rotating-hayward",
-        title: "Rotating Hayward (Bambi-Modesto)",
+        title: "Rotating Hayward (Bambi–Modesto)",
         reference: "Bambi & Modesto 2013, Phys. Lett. B 721, 329",
         parameters: {
             a: { default: 0.0, domain: Domain::REAL, meaning: "spin a = J/M^2" },

@@ -14,7 +14,7 @@ declare_metric! {
     #[derive(Debug, Clone, Copy, PartialEq)]
     pub struct SimpsonVisser {
         name: "simpson-visser",
-        title: "Simpson-Visser black bounce",
+        title: "Simpson–Visser black bounce",
         reference: "Simpson & Visser 2019, JCAP 02, 042",
         horizon: |m| (m.l < 2.0).then(|| (4.0 - m.l * m.l).sqrt()),
         parameters: {

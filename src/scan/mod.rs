@@ -35,6 +35,7 @@
 
 mod header;
 mod lines;
+pub mod refine;
 pub mod table;
 
 pub use header::FORMAT;
