@@ -404,7 +404,21 @@ where
     }
     let from = format!("width=\"{}\" height=\"{}\"", size.0, size.1);
     let to = format!("width=\"{}\" height=\"{}\"", fmt_px(w), fmt_px(h));
-    Ok(svg.replacen(&from, &to, 1))
+    Ok(plain_svg(&svg.replacen(&from, &to, 1)))
+}
+
+/// SVG that simple renderers draw right too: opacity 1 is SVG's default (without the
+/// attribute, renderers that mishandle it, such as ImageMagick's own, no longer fill
+/// polylines), polygons say they have no outline, and polylines of many short segments get
+/// round joins (the same look at these widths, without mitre spikes).
+pub fn plain_svg(svg: &str) -> String {
+    svg.replace(" opacity=\"1\"", "")
+        .replace("<polygon fill=", "<polygon stroke=\"none\" fill=")
+        .replace("<polygon opacity=", "<polygon stroke=\"none\" opacity=")
+        .replace(
+            "<polyline fill=\"none\"",
+            "<polyline fill=\"none\" stroke-linejoin=\"round\"",
+        )
 }
 
 fn fmt_px(v: f64) -> String {

@@ -136,7 +136,7 @@ fn draw_screen_curves(theme: &Theme, figure: &ScreenFigure<'_>) -> Result<String
     };
     legend.add(Mark::Line(reference, theme.thin.max(1.0)), reference_label);
     let (left, bottom) = label_areas(theme);
-    let margin = 0.5 * theme.label;
+    let margin = 1.2 * theme.tick;
     let title_h = 2.0 * theme.title;
     let side = theme.width - left - 2.0 * margin;
     let legend_w = legend.width(theme) + theme.label;

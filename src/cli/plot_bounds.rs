@@ -2,7 +2,7 @@
 //! ranges in a strip below, and exclusion maps over two parameters.
 
 use super::figure::{
-    draw_line, draw_svg, symbol, Dash, Legend, Mark, SeriesLook, Theme, ALLOWED, EXCLUDED,
+    draw_line, draw_svg, symbol, tick, Dash, Legend, Mark, SeriesLook, Theme, ALLOWED, EXCLUDED,
     NO_HORIZON,
 };
 use super::plot::{draw_title, label_areas, plot_error, style_mesh, Chart};
@@ -10,7 +10,7 @@ use super::CliError;
 use plotters::prelude::*;
 use umbral::bounds::{BoundResult, Inclination};
 use umbral::numfmt::short;
-use umbral::scan::refine::RefinedMap;
+use umbral::scan::refine::{FineNode, RefinedMap};
 
 /// The prediction band's colour.
 const BAND: RGBColor = ALLOWED;
@@ -183,7 +183,13 @@ fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<S
         legend.add(Mark::Patch(EXCLUDED, 0.5), "solver failed (neither)");
     }
     let (left, bottom) = label_areas(theme);
-    let margin = 0.5 * theme.label;
+    let strip_label_w = result
+        .levels
+        .iter()
+        .map(|l| theme.text_width(&format!("{} allowed", percent(l.confidence)), theme.tick))
+        .fold(0.0, f64::max);
+    let left = left.max(strip_label_w + 1.2 * theme.tick);
+    let margin = 1.5 * theme.tick;
     let title_h = 2.0 * theme.title;
     let w = 1.3 * theme.width;
     let main_h = 0.62 * theme.width;
@@ -205,10 +211,11 @@ fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<S
             .map_err(|e| e.to_string())?;
         chart
             .configure_mesh()
-            .y_desc(format!("{size_name} r_sh / M"))
+            .y_desc(format!("predicted {size_name} / M"))
             .x_labels(7)
             .y_labels(6)
             .x_label_formatter(&|_| String::new())
+            .y_label_formatter(&|v| tick(*v))
             .label_style(theme.font(theme.tick))
             .axis_desc_style(theme.font(theme.label))
             .bold_line_style(
@@ -250,6 +257,7 @@ fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<S
             .x_desc(x_name.as_str())
             .x_labels(7)
             .y_labels(2 * levels + 1)
+            .x_label_formatter(&|v| tick(*v))
             .y_label_formatter(&row_label)
             .label_style(theme.font(theme.tick))
             .axis_desc_style(theme.font(theme.label))
@@ -527,7 +535,20 @@ fn draw_exclusion_map(
             format!("allowed at {}", percent(*confidence)),
         );
     }
-    legend.add(Mark::Patch(EXCLUDED, 0.22), "excluded");
+    // Excluded: a node with a horizon that is a shadow point (or inside a cell of them)
+    // and allowed at no level.
+    let excluded = grid.nodes.iter().enumerate().any(|(k, node)| {
+        let shadow = match node {
+            FineNode::Point(p) => p.status == "shadow",
+            FineNode::Interpolated => true,
+        };
+        shadow
+            && grid.horizon_field()[k] > 0.0
+            && (0..levels.len()).all(|l| grid.allowed_field(l)[k] < 0.0)
+    });
+    if excluded || !some_no_horizon {
+        legend.add(Mark::Patch(EXCLUDED, 0.22), "excluded");
+    }
     if some_no_horizon {
         legend.add(Mark::Patch(NO_HORIZON, 0.35), "no horizon");
         legend.add(
@@ -551,7 +572,7 @@ fn draw_exclusion_map(
         );
     }
     let (left, bottom) = label_areas(theme);
-    let margin = 0.5 * theme.label;
+    let margin = 1.2 * theme.tick;
     let title_h = 2.0 * theme.title;
     let side = theme.width - left - 2.0 * margin;
     let legend_w = legend.width(theme) + theme.label;

@@ -419,18 +419,8 @@ pub fn corner_plot(
     super::figure::register_fonts();
     let mut svg = String::new();
     draw_corner(&mut svg, path, &header, (&cols, &smooth), &layout)?;
-    // Every colour is opaque (see `blend`), and opacity 1 is SVG's default: without the
-    // attribute the file is smaller and renderers that mishandle it (ImageMagick's own fills
-    // such polylines) draw it right. The same renderer outlines polygons unless told not to,
-    // and with mitred joins it draws a chord across a scaled polyline of many short segments
-    // (round joins look the same at these widths).
-    Ok(svg
-        .replace(" opacity=\"1\"", "")
-        .replace("<polygon fill=", "<polygon stroke=\"none\" fill=")
-        .replace(
-            "<polyline fill=\"none\"",
-            "<polyline fill=\"none\" stroke-linejoin=\"round\"",
-        ))
+    // Every colour is opaque (see `blend`), so the plain form changes no pixel.
+    Ok(super::figure::plain_svg(&svg))
 }
 
 /// The width of a character of the key's text in pixels, about (a generous estimate for a

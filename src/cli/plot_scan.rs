@@ -1,7 +1,7 @@
 //! Figures of one-axis scans: observables against the scanned parameter, one panel each.
 
 use super::figure::{
-    draw_line, draw_svg, series, symbol, Legend, Mark, Theme, EXCLUDED, NO_HORIZON,
+    draw_line, draw_svg, series, symbol, tick, Legend, Mark, Theme, EXCLUDED, NO_HORIZON,
 };
 use super::plot::{draw_title, label_areas, plot_error};
 use super::CliError;
@@ -108,7 +108,8 @@ fn draw_observables(theme: &Theme, figure: &ObservablePlot<'_>) -> Result<String
         );
     }
     let (left, bottom) = label_areas(theme);
-    let margin = 0.5 * theme.label;
+    let left = left.max(theme.text_width("−0.00000", theme.tick) + 2.2 * theme.label);
+    let margin = 1.5 * theme.tick;
     let title_h = 2.0 * theme.title;
     let w = 1.3 * theme.width;
     let panel_h = 0.42 * theme.width;
@@ -171,6 +172,8 @@ fn draw_observables(theme: &Theme, figure: &ObservablePlot<'_>) -> Result<String
                 .y_desc(quantity_label(q))
                 .x_labels(7)
                 .y_labels(5)
+                .x_label_formatter(&|v| tick(*v))
+                .y_label_formatter(&|v| tick(*v))
                 .label_style(theme.font(theme.tick))
                 .axis_desc_style(theme.font(theme.label))
                 .bold_line_style(

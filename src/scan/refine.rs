@@ -50,9 +50,9 @@ pub struct RefinedMap {
     /// The fine nodes, row-major with the first axis fastest.
     pub nodes: Vec<FineNode>,
     /// The allowed margin at each level on the fine grid (row-major, first axis fastest);
-    /// non-negative is allowed. Nodes without a shadow carry a negative value whose zero
-    /// crossing towards a shadow node lies where the horizon edge does, when that is the
-    /// reason (otherwise −1).
+    /// non-negative is allowed. Beside the horizon edge (nodes of no horizon, and nodes with
+    /// one within a fine step) the field follows the edge's distance instead, so that its
+    /// zero crossing there is the traced edge; other nodes without a shadow are −1.
     pub allowed: Vec<Vec<f64>>,
     /// The signed distance to the horizon edge along the grid lines, in fine steps, capped at
     /// ±1: positive where the metric has a horizon.
@@ -297,9 +297,13 @@ pub fn refine(
         for fj in 0..ny {
             for fi in 0..nx {
                 let k = fj * nx + fi;
+                let h = horizon_trace.field[k];
                 field[k] = match &nodes[k] {
-                    FineNode::Point(p) if p.status == "no_horizon" => {
-                        (scale * horizon_trace.field[k]).min(-1e-12)
+                    FineNode::Point(p) if p.status == "no_horizon" => (scale * h).min(-1e-12),
+                    // Beside the horizon edge: the edge's own distance, so the allowed
+                    // region ends where the horizon does, not at the next node.
+                    FineNode::Point(p) if h > 0.0 && h < 1.0 => {
+                        margin(p, refine, iv).min(scale * h)
                     }
                     FineNode::Point(p) => margin(p, refine, iv),
                     FineNode::Interpolated => {
