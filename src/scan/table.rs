@@ -57,15 +57,10 @@ pub fn table_scan(model: &PosteriorModel, plan: &TablePlan) -> ScanRequest {
         axes: plan
             .axes
             .iter()
-            .map(|(a, metric_name)| GridAxis {
-                name: metric_name.clone(),
-                low: a.low,
-                high: a.high,
-                count: a.count,
-            })
+            .map(|(a, metric_name)| GridAxis::new(metric_name, a.low, a.high, a.count))
             .collect(),
         fixed: plan.fixed.clone(),
-        inclination_deg: plan.inclination.to_degrees(),
+        inclination_deg: Some(plan.inclination.to_degrees()),
         settings: model.shadow_settings(),
         require_horizon: model.require_horizon(),
     }
