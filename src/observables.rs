@@ -28,9 +28,9 @@ use crate::shadow::{
     CriticalCurve, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowError, ShadowResult,
     ShadowSettings, ShadowStatus,
 };
-use std::collections::BTreeMap;
 use compensated_summation::KahanBabuskaNeumaier as Compensated;
 use serde::Serialize;
+use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
 
 /// Fewest samples a curve must have.

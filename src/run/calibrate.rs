@@ -16,13 +16,13 @@
 
 use super::image::Rows;
 use super::{Controls, Executor, RunError, Selection};
+use crate::error::MetricError;
 use crate::image::blur::{gaussian_blur, uas_to_m};
 use crate::image::features::{ring_features, FeatureSettings, RingFeatures};
 use crate::image::inner_shadow::{inner_shadow, InnerShadow};
 use crate::image::models::ModelList;
 use crate::image::trace::{ImageSettings, ImageTracer, RenderedImage};
 use crate::image::ImageError;
-use crate::error::MetricError;
 use crate::measurement::calibration::{CalibrationSummary, KappaSummary, CALIBRATION_FORMAT};
 use crate::measurement::{Measurement, MeasurementError, SizeMeasurement};
 use crate::metric::Spacetime;

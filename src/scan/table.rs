@@ -144,3 +144,37 @@ pub fn build_tables(
     }
     Ok(tables)
 }
+
+/// Why a model could not be given its tables.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum TabulateError {
+    /// A table could not be built (or its scan was stopped).
+    #[error(transparent)]
+    Build(#[from] TableBuildError),
+    /// The model refused its tables.
+    #[error(transparent)]
+    Model(InferError),
+    /// The GR limit refused its tables.
+    #[error("the GR limit's {0}")]
+    GrModel(InferError),
+}
+
+/// `model` with its tables built (or read) in `dir` by [`build_tables`], and with
+/// `gr_limit` (nested sampling and quadrature, whose Bayes factor needs the GR limit, which
+/// holds the shared parameters elsewhere) the GR limit's own tables too.
+pub fn tabulated(
+    model: PosteriorModel,
+    dir: &Path,
+    gr_limit: bool,
+    mut controls: Controls<'_>,
+) -> Result<PosteriorModel, TabulateError> {
+    let tables = build_tables(&model, dir, controls.reborrow())?;
+    let model = model.with_tables(tables).map_err(TabulateError::Model)?;
+    if !gr_limit {
+        return Ok(model);
+    }
+    let gr_tables = build_tables(&model.gr_model(), dir, controls)?;
+    model
+        .with_gr_tables(gr_tables)
+        .map_err(TabulateError::GrModel)
+}
