@@ -72,21 +72,11 @@ fn bounds(c: &mut Criterion) {
     let scan = ScanRequest {
         metric: MetricSource::builtin("kerr-newman").unwrap(),
         axes: vec![
-            GridAxis {
-                name: "a".into(),
-                low: 0.0,
-                high: 0.99,
-                count: 40,
-            },
-            GridAxis {
-                name: "q".into(),
-                low: 0.0,
-                high: 0.99,
-                count: 40,
-            },
+            GridAxis::new("a", 0.0, 0.99, 40),
+            GridAxis::new("q", 0.0, 0.99, 40),
         ],
         fixed: vec![],
-        inclination_deg: 60.0,
+        inclination_deg: Some(60.0),
         settings: Default::default(),
         require_horizon: false,
     };

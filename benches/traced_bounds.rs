@@ -84,21 +84,11 @@ fn traced_bounds(c: &mut Criterion) {
     let scan = ScanRequest {
         metric: MetricSource::builtin("johannsen-psaltis").unwrap(),
         axes: vec![
-            GridAxis {
-                name: "a".into(),
-                low: 0.0,
-                high: 0.9,
-                count: 10,
-            },
-            GridAxis {
-                name: "eps3".into(),
-                low: -1.0,
-                high: 1.0,
-                count: 10,
-            },
+            GridAxis::new("a", 0.0, 0.9, 10),
+            GridAxis::new("eps3", -1.0, 1.0, 10),
         ],
         fixed: vec![],
-        inclination_deg: 60.0,
+        inclination_deg: Some(60.0),
         settings: Default::default(),
         require_horizon: false,
     };

@@ -23,11 +23,14 @@ use crate::metric::Spacetime;
 use crate::numerics::{safeguarded_newton, NewtonEval};
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
 // Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
+use crate::shadow::observer::celestial_curve;
 use crate::shadow::{
-    CriticalCurve, Observer, ShadowError, ShadowResult, ShadowSettings, ShadowStatus,
+    CriticalCurve, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowError, ShadowResult,
+    ShadowSettings, ShadowStatus,
 };
 use compensated_summation::KahanBabuskaNeumaier as Compensated;
 use serde::Serialize;
+use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
 
 /// Fewest samples a curve must have.
@@ -875,5 +878,152 @@ pub fn shadow(spacetime: &dyn Spacetime, request: &ShadowRequest) -> Result<Shad
     Ok(Shadow {
         result,
         observables,
+    })
+}
+
+/// The curve's screen coordinates (α, β) in M.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CurvePoints {
+    /// α of each point.
+    pub alpha: Vec<f64>,
+    /// β of each point.
+    pub beta: Vec<f64>,
+}
+
+/// Celestial coordinates of the curve for an observer at finite radius: the angle Θ from
+/// the direction to the centre and the azimuth Ψ from +α towards +β, in radians.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CelestialCurve {
+    /// Θ of each point.
+    pub theta: Vec<f64>,
+    /// Ψ of each point.
+    pub psi: Vec<f64>,
+}
+
+/// One shadow as a report: what `umbral shadow --json` prints and the Python package returns.
+#[derive(Debug, Clone, Serialize)]
+pub struct ShadowReport {
+    /// The metric's name.
+    pub metric: String,
+    /// Every metric parameter, by name.
+    pub parameters: BTreeMap<String, f64>,
+    /// The observer's inclination in degrees.
+    pub inclination_deg: f64,
+    /// The observer's radius in M, `None` for a distant observer.
+    pub observer_radius: Option<f64>,
+    /// The solver that ran.
+    pub solver: &'static str,
+    /// `shadow` or `no_shadow`.
+    pub status: &'static str,
+    /// Why there is no shadow.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
+    /// The observables of the curve, when there is one.
+    pub observables: Option<Observables>,
+    /// Photon-ring exponents (Lyapunov exponent, demagnification γ per half orbit).
+    pub exponents: Option<RingExponents>,
+    /// Why the exponents are undefined for this shadow, when they are.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub exponents_undefined: Option<String>,
+    /// Every photon sphere found (spherical solver).
+    pub photon_spheres: Vec<PhotonSphere>,
+    /// The curve, when there is one.
+    pub curve: Option<CurvePoints>,
+    /// For an observer at finite radius: the curve in celestial angles (screen coordinates
+    /// are √g_θθ(r_o, θ_o) sin Θ along the direction Ψ).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub celestial: Option<CelestialCurve>,
+    /// The solver's diagnostics.
+    pub diagnostics: Diagnostics,
+}
+
+/// Why a shadow could not be reported.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ReportError {
+    /// The solver could not run or failed.
+    #[error(transparent)]
+    Shadow(#[from] ShadowError),
+    /// The curve's observables could not be read.
+    #[error(transparent)]
+    Observables(#[from] ObservablesError),
+}
+
+/// Solve one shadow with [`shadow`] and report it: the status, the observables (none without
+/// a curve; a curve they cannot be read from is an error), the curve, and for an observer at
+/// finite radius its celestial angles. `inclination_deg` is the observer's inclination as
+/// given, for the report.
+///
+/// ```
+/// use umbral::metrics::Kerr;
+/// use umbral::observables::{shadow_report, CentreChoice};
+/// use umbral::shadow::{Observer, ShadowSettings};
+///
+/// let kerr = Kerr::new(0.5).unwrap();
+/// let observer = Observer::distant(30f64.to_radians());
+/// let report =
+///     shadow_report(&kerr, 30.0, &observer, &ShadowSettings::default(), CentreChoice::Centroid)
+///         .unwrap();
+/// assert_eq!((report.status, report.solver), ("shadow", "separable"));
+/// assert_eq!(report.parameters["a"], 0.5);
+/// assert_eq!(report.curve.unwrap().alpha.len(), 256);
+/// ```
+pub fn shadow_report(
+    metric: &dyn Spacetime,
+    inclination_deg: f64,
+    observer: &Observer,
+    settings: &ShadowSettings,
+    centre: CentreChoice,
+) -> Result<ShadowReport, ReportError> {
+    let request = ShadowRequest {
+        observer: *observer,
+        settings: *settings,
+        centre,
+        curve_only: false,
+    };
+    let Shadow {
+        result,
+        observables,
+    } = shadow(metric, &request)?;
+    let info = metric.info();
+    let (status, reason) = match &result.status {
+        ShadowStatus::Shadow => ("shadow", None),
+        ShadowStatus::NoShadow { reason } => ("no_shadow", Some(reason.clone())),
+    };
+    // No curve means no observables; a curve they cannot be read from is an error.
+    let observables = match observables {
+        Ok(o) => Some(o),
+        Err(ObservablesError::NoShadow(_)) => None,
+        Err(e) => return Err(e.into()),
+    };
+    let curve = result.curve.as_ref().map(|c| {
+        let (alpha, beta) = c.alpha_beta();
+        CurvePoints { alpha, beta }
+    });
+    Ok(ShadowReport {
+        metric: info.name.clone(),
+        parameters: info
+            .parameters
+            .iter()
+            .map(|p| p.name.clone())
+            .zip(metric.parameter_values())
+            .collect(),
+        inclination_deg,
+        observer_radius: observer.radius,
+        solver: result.solver,
+        status,
+        reason,
+        observables,
+        exponents: result.exponents.clone(),
+        exponents_undefined: result.diagnostics.exponents_undefined.clone(),
+        photon_spheres: result.photon_spheres.clone(),
+        celestial: match (observer.radius, &curve) {
+            (Some(_), Some(c)) => {
+                let (theta, psi) = celestial_curve(metric, observer, &c.alpha, &c.beta)?;
+                Some(CelestialCurve { theta, psi })
+            }
+            _ => None,
+        },
+        curve,
+        diagnostics: result.diagnostics,
     })
 }

@@ -17,21 +17,11 @@ fn request() -> ScanRequest {
     ScanRequest {
         metric: MetricSource::builtin("kerr-newman").unwrap(),
         axes: vec![
-            GridAxis {
-                name: "a".into(),
-                low: 0.0,
-                high: 0.9,
-                count: 4,
-            },
-            GridAxis {
-                name: "q".into(),
-                low: 0.0,
-                high: 0.8,
-                count: 3,
-            },
+            GridAxis::new("a", 0.0, 0.9, 4),
+            GridAxis::new("q", 0.0, 0.8, 3),
         ],
         fixed: vec![],
-        inclination_deg: 60.0,
+        inclination_deg: Some(60.0),
         settings: Default::default(),
         require_horizon: false,
     }
@@ -99,7 +89,7 @@ fn a_file_from_other_arguments_is_refused() {
     run_scan(&request(), &path, &|_, _| {}).unwrap();
     let before = std::fs::read(&path).unwrap();
     let mut other = request();
-    other.inclination_deg = 30.0;
+    other.inclination_deg = Some(30.0);
     let e = run_scan(&other, &path, &|_, _| {}).unwrap_err();
     assert!(e.to_string().contains("different arguments"), "{e}");
     assert_eq!(
@@ -256,14 +246,9 @@ C = "r^2"
         metric: umbral::metrics::MetricSource::File(std::sync::Arc::new(
             umbral::metric_file::load_metric_file(file).unwrap(),
         )),
-        axes: vec![GridAxis {
-            name: "q2".into(),
-            low: -0.5,
-            high: 0.5,
-            count: 3,
-        }],
+        axes: vec![GridAxis::new("q2", -0.5, 0.5, 3)],
         fixed: vec![],
-        inclination_deg: 30.0,
+        inclination_deg: Some(30.0),
         settings: Default::default(),
         require_horizon: false,
     };
@@ -576,14 +561,9 @@ fn jnw_shadow(nu: f64) -> f64 {
 fn jnw_request(require_horizon: bool) -> ScanRequest {
     ScanRequest {
         metric: MetricSource::builtin("jnw").unwrap(),
-        axes: vec![GridAxis {
-            name: "nu".into(),
-            low: 0.3,
-            high: 1.0,
-            count: 5,
-        }],
+        axes: vec![GridAxis::new("nu", 0.3, 1.0, 5)],
         fixed: vec![],
-        inclination_deg: 30.0,
+        inclination_deg: Some(30.0),
         settings: Default::default(),
         require_horizon,
     }
@@ -679,4 +659,173 @@ fn scan_cli_require_horizon_and_horizonless_lines_are_checked() {
         err.contains("line 2") && err.contains("horizonless"),
         "{err}"
     );
+}
+
+/// Issue 14: the inclination as a grid axis. Kerr a = 0.9 over four inclinations: every point
+/// equals, to the bit, the point of a scan at that one inclination; the file records the axis
+/// in its header (no fixed inclination) and each point's inclination, and resumes.
+#[test]
+fn an_inclination_axis_gives_the_points_of_fixed_inclinations() {
+    use umbral::scan::scan_in_memory;
+    let axis = GridAxis::new("inclination", 0.0, 90.0, 4);
+    let request = ScanRequest {
+        metric: MetricSource::builtin("kerr").unwrap(),
+        axes: vec![axis.clone()],
+        fixed: vec![("a".into(), 0.9)],
+        inclination_deg: None,
+        settings: Default::default(),
+        require_horizon: false,
+    };
+    let path = temp("inclination-axis.jsonl");
+    let s = run_scan(&request, &path, &|_, _| {}).unwrap();
+    assert_eq!(s.points.len(), 4);
+    for (i, p) in s.points.iter().enumerate() {
+        let at = ScanRequest {
+            axes: vec![GridAxis::new("a", 0.0, 0.9, 2)],
+            fixed: vec![],
+            inclination_deg: Some(axis.value(i)),
+            ..request.clone()
+        };
+        let fixed = scan_in_memory(&at, Default::default()).unwrap();
+        let q = &fixed.points[1];
+        assert_eq!(p.inclination_deg, Some(axis.value(i)));
+        assert_eq!(q.inclination_deg, None);
+        assert_eq!(
+            (p.status.as_str(), &p.parameters),
+            (q.status.as_str(), &q.parameters)
+        );
+        assert_eq!(
+            p.observables,
+            q.observables,
+            "inclination {}",
+            axis.value(i)
+        );
+    }
+    // Face-on the curve is a circle (axisymmetry); edge-on a = 0.9 flattens it.
+    let circ = |k: usize| s.points[k].observable("circularity_deviation").unwrap();
+    assert!(circ(0) < 1e-6 && circ(3) > 1e-3, "{} {}", circ(0), circ(3));
+    let text = std::fs::read_to_string(&path).unwrap();
+    let header: serde_json::Value = serde_json::from_str(text.lines().next().unwrap()).unwrap();
+    assert_eq!(header["inclination_deg"], serde_json::Value::Null);
+    assert_eq!(header["axes"][0]["name"], "inclination");
+    assert!(header["axes"][0].get("values").is_none(), "{header}");
+    let line: serde_json::Value = serde_json::from_str(text.lines().nth(3).unwrap()).unwrap();
+    assert_eq!(line["inclination_deg"], 60.0);
+    let again = run_scan(&request, &path, &|_, _| {}).unwrap();
+    assert_eq!((again.reused, again.computed), (4, 0));
+    // An edited inclination is refused, naming the line.
+    std::fs::write(
+        &path,
+        text.replacen("\"inclination_deg\":60.0", "\"inclination_deg\":61.0", 1),
+    )
+    .unwrap();
+    let e = run_scan(&request, &path, &|_, _| {}).unwrap_err();
+    assert!(e.to_string().contains("line 4"), "{e}");
+}
+
+/// Axis values given one by one: the same points as evenly spaced ones when they are the same
+/// numbers, recorded in the header; values that do not increase, or both a fixed and a grid
+/// inclination, are refused with one line.
+#[test]
+fn axis_values_given_one_by_one() {
+    use umbral::scan::{scan_in_memory, ScanError};
+    let even = GridAxis::new("q", 0.0, 0.9, 4);
+    let given = GridAxis::from_values("q", even.all_values());
+    let of = |axis: GridAxis| ScanRequest {
+        axes: vec![axis],
+        ..umbral_scan_request()
+    };
+    let a = scan_in_memory(&of(even), Default::default()).unwrap();
+    let b = scan_in_memory(&of(given.clone()), Default::default()).unwrap();
+    assert_eq!(a.points, b.points);
+    let path = temp("given-values.jsonl");
+    run_scan(&of(given), &path, &|_, _| {}).unwrap();
+    let text = std::fs::read_to_string(&path).unwrap();
+    let header: serde_json::Value = serde_json::from_str(text.lines().next().unwrap()).unwrap();
+    assert_eq!(
+        header["axes"][0]["values"],
+        serde_json::json!([0.0, 0.3, 0.6, 0.9])
+    );
+    let refused = |request: ScanRequest| scan_in_memory(&request, Default::default()).unwrap_err();
+    let e = refused(of(GridAxis::from_values("q", vec![0.0, 0.5, 0.5])));
+    assert_eq!(
+        e.to_string(),
+        "grid axis q: the values must increase, got 0.5 then 0.5"
+    );
+    let e = refused(of(GridAxis::from_values("q", vec![0.2])));
+    assert_eq!(e.to_string(), "grid axis q: need at least 2 values, got 1");
+    let both = ScanRequest {
+        axes: vec![GridAxis::new("inclination", 0.0, 90.0, 3)],
+        ..umbral_scan_request()
+    };
+    assert!(matches!(
+        refused(both.clone()),
+        ScanError::InclinationChoice(_)
+    ));
+    let e = refused(ScanRequest {
+        axes: vec![GridAxis::new("inclination", 0.0, 190.0, 3)],
+        inclination_deg: None,
+        ..both
+    });
+    assert_eq!(
+        e.to_string(),
+        "the inclination must lie between 0 and 180 degrees, got 190"
+    );
+}
+
+fn umbral_scan_request() -> ScanRequest {
+    ScanRequest {
+        metric: MetricSource::builtin("reissner-nordstrom").unwrap(),
+        axes: vec![],
+        fixed: vec![],
+        inclination_deg: Some(30.0),
+        settings: Default::default(),
+        require_horizon: false,
+    }
+}
+
+/// `umbral scan --grid inclination=LO:HI:N`: without --inclination, and with a second axis.
+#[test]
+fn cli_scan_takes_an_inclination_axis() {
+    let out = temp("cli-inclination.jsonl");
+    let o = out.to_str().unwrap();
+    let (code, stdout, err) = umbral(&[
+        "scan",
+        "--metric",
+        "kerr",
+        "--grid",
+        "inclination=0:90:3",
+        "--grid",
+        "a=0:0.9:2",
+        "--out",
+        o,
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(stdout.contains("6 points"), "{stdout}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    let line: serde_json::Value = serde_json::from_str(text.lines().nth(4).unwrap()).unwrap();
+    assert_eq!(
+        (line["index"].clone(), line["inclination_deg"].clone()),
+        (serde_json::json!([1, 1]), serde_json::json!(45.0))
+    );
+    assert_eq!(line["parameters"]["a"], 0.9);
+    for (extra, needle) in [
+        (vec!["--inclination", "30"], "not both"),
+        (
+            vec![],
+            "give --inclination DEG, or --grid inclination=LO:HI:N",
+        ),
+    ] {
+        let mut args = vec!["scan", "--metric", "kerr", "--out", o];
+        if needle == "not both" {
+            args.extend(["--grid", "inclination=0:90:3"]);
+        } else {
+            args.extend(["--grid", "a=0:0.9:2"]);
+        }
+        args.extend(extra);
+        let (code, _, err) = umbral(&args);
+        assert_eq!(code, 2, "{args:?}");
+        assert_eq!(err.trim().lines().count(), 1, "{err}");
+        assert!(err.contains(needle), "'{err}' lacks '{needle}'");
+    }
 }

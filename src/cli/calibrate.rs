@@ -10,11 +10,10 @@ use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use umbral::image::models::ModelList;
 use umbral::measurement::Measurement;
-use umbral::metrics::MetricSource;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
 use umbral::run::calibrate::{
-    calibrate, CalibrateError, Calibration, CalibrationSettings, DEFAULT_PIXELS,
+    calibrate, CalibrateError, Calibration, CalibrationSettings, ResolveError, DEFAULT_PIXELS,
 };
 use umbral::run::{Controls, RunError};
 
@@ -53,16 +52,7 @@ pub struct CalibrateArgs {
 
 /// Read a model list, or the built-in one.
 pub fn model_list(path: Option<&Path>) -> Result<ModelList, CliError> {
-    match path {
-        None => Ok(ModelList::built_in()),
-        Some(path) => {
-            let text = std::fs::read_to_string(path).map_err(|e| {
-                CliError::usage(format!("cannot read model list '{}': {e}", path.display()))
-            })?;
-            ModelList::from_toml(&text)
-                .map_err(|e| CliError::usage(format!("'{}': {e}", path.display())))
-        }
-    }
+    umbral::run::calibrate::model_list(path).map_err(|e| CliError::usage(e.to_string()))
 }
 
 fn calibrate_error(e: CalibrateError) -> CliError {
@@ -246,35 +236,20 @@ fn print_calibration(c: &Calibration) -> Result<(), CliError> {
     Ok(())
 }
 
-/// Compute the κ of a measurement with `ring_to_shadow = "computed"` (nothing to do
-/// otherwise), showing the calibration's progress.
+/// Compute the κ calibration a measurement file asks for (`ring_to_shadow = "computed"`),
+/// with progress and Ctrl-C.
 pub fn resolve_measurement(m: &mut Measurement, progress: &ProgressArgs) -> Result<(), CliError> {
-    let Some(request) = m.pending_calibration().cloned() else {
+    if m.pending_calibration().is_none() {
         return Ok(());
+    }
+    let mut display = progress.display(Some("calibrate"))?;
+    let _graceful = interrupt::Graceful::enter("image rows");
+    let controls = Controls {
+        observers: vec![display.as_mut()],
+        stop: Some(interrupt::stop_flag()),
     };
-    let theta_g_uas = match &m.size {
-        umbral::measurement::SizeMeasurement::Ring(chain) => chain.central_theta_g_uas(),
-        _ => unreachable!("only a ring chain has a calibration"),
-    };
-    let source = MetricSource::builtin(&request.metric)?;
-    let assignments: Vec<(String, f64)> = request.parameters.clone().into_iter().collect();
-    let spacetime = source.build(&assignments)?;
-    let models = model_list(request.models.as_deref())?;
-    let settings = CalibrationSettings {
-        inclination: request.inclination_deg.to_radians(),
-        resolution_uas: request.resolution_uas,
-        theta_g_uas,
-        pixels: request.pixels.unwrap_or(DEFAULT_PIXELS),
-        field: request.field_m,
-    };
-    let calibration = run_calibration(
-        spacetime.as_ref(),
-        &spacetime.info().name.to_string(),
-        &request.parameters,
-        &settings,
-        &models,
-        progress,
-    )?;
-    m.resolve_calibration(calibration.summary)
-        .map_err(|e| CliError::usage(e.to_string()))
+    umbral::run::calibrate::resolve_measurement(m, controls).map_err(|e| match e {
+        ResolveError::Calibration(e) => calibrate_error(e),
+        other => CliError::usage(other.to_string()),
+    })
 }

@@ -8,36 +8,24 @@ use super::plot_posterior::corner_plot;
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
-use serde::Serialize;
-use std::collections::BTreeMap;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use umbral::measurement::Measurement;
 use umbral::output::OutputTransaction;
+pub(super) use umbral::posterior::report::{assumptions, verdict};
+use umbral::posterior::report::{is_nested, sample_columns, Choice, Report};
 use umbral::posterior::table::MIN_NODES;
 use umbral::posterior::{
-    Evidence, InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel,
-    QuadratureReport, SamplerKind, ShadowTable, TableReport,
+    InferRunError, InferSettings, Inference, InferenceRequest, PosteriorModel, SamplerKind,
 };
 use umbral::run::infer::{infer_with, InferStop};
 use umbral::run::Controls;
-use umbral::sampling::{Prior, QuadratureSettings};
-use umbral::scan::table::{build_tables, TableBuildError};
+use umbral::sampling::Prior;
+use umbral::scan::table::{tabulated, TableBuildError, TabulateError};
 use umbral::scan::ScanError;
-
-/// The fewest ensemble steps: split-R-hat below 1.01 needs each half of the kept steps to
-/// span about 50 autocorrelation times (R-hat - 1 is about (tau - 1)/(2 n) for halves of n
-/// steps), and the stretch move's tau is some tens of steps.
-const MIN_STEPS: usize = 10_000;
-
-/// How far an unconverged run is continued by default: this many times its first steps.
-const MAX_STEPS_FACTOR: usize = 16;
 
 /// Exit code of a run whose sampler did not converge.
 const NOT_CONVERGED: u8 = 3;
-
-/// Solver failures above this fraction of the evaluations make the posterior untrustworthy.
-const MAX_FAILURE_FRACTION: f64 = 0.01;
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum SamplerArg {
@@ -155,185 +143,24 @@ fn levels(text: &str) -> Result<Vec<f64>, CliError> {
     Ok(levels)
 }
 
-/// The walkers of each ensemble for `dim` sampled parameters: 2 dim + 2 (at least 4). Split
-/// R-hat over the ensembles depends on the number of steps, not of walkers, so few walkers and
-/// many steps reach a verdict for the fewest evaluations.
-fn walkers(dim: usize) -> usize {
-    (2 * dim + 2).max(4)
-}
-
 fn settings(args: &InferArgs, dim: usize) -> Result<InferSettings, CliError> {
-    let chains = 4;
-    if args.samples < 100 || args.samples > 10_000_000 {
-        return Err(CliError::usage(format!(
-            "--samples: give 100 to 10000000, got {}",
-            args.samples
-        )));
-    }
-    if !(8..=4096).contains(&args.max_panels) {
-        return Err(CliError::usage(format!(
-            "--max-panels: give 8 to 4096, got {}",
-            args.max_panels
-        )));
-    }
-    if !(20..=100_000).contains(&args.live_points) {
-        return Err(CliError::usage(format!(
-            "--live-points: give 20 to 100000, got {}",
-            args.live_points
-        )));
-    }
-    let per_step = chains * walkers(dim);
-    let steps = match args.steps {
-        Some(n) if (10..=10_000_000).contains(&n) => n,
-        Some(n) => {
-            return Err(CliError::usage(format!(
-                "--steps: give 10 to 10000000, got {n}"
-            )))
-        }
-        None => (2 * args.samples.div_ceil(per_step)).max(MIN_STEPS),
-    };
-    let max_steps = match args.max_steps {
-        Some(n) if n >= steps && n <= 100_000_000 => n,
-        Some(n) => {
-            return Err(CliError::usage(format!(
-                "--max-steps: give at least the first steps ({steps}) and at most 100000000, got \
-                 {n}"
-            )))
-        }
-        None => steps.saturating_mul(MAX_STEPS_FACTOR),
-    };
-    Ok(InferSettings {
+    let choice = Choice {
         sampler: match args.sampler {
             SamplerArg::Ensemble => SamplerKind::Ensemble,
             SamplerArg::Nested => SamplerKind::Nested,
             SamplerArg::Quadrature => SamplerKind::Quadrature,
         },
         seed: args.seed,
-        steps,
-        max_steps,
-        walkers: walkers(dim),
-        chains,
-        live_points: args.live_points,
-        levels: levels(&args.levels)?,
         samples: args.samples,
+        steps: args.steps,
+        max_steps: args.max_steps,
+        live_points: args.live_points,
         max_panels: args.max_panels,
-        ..InferSettings::default()
-    })
-}
-
-/// What the sampler did, in words.
-fn sampler_assumption(s: &InferSettings, i: &Inference) -> String {
-    let steps = i.steps;
-    match s.sampler {
-        SamplerKind::Ensemble => format!(
-            "sampler: affine-invariant ensemble (Goodman & Weare 2010), {} independent ensembles \
-             of {} walkers, {} steps (first {}, continued up to {} until converged) of which \
-             the first half is burn-in, seed {}; converged \
-             means split R-hat < 1.01 over the independent ensembles (each one's walker-mean \
-             trajectory; Vehtari et al. 2021) and bulk ESS >= 400",
-            s.chains, s.walkers, steps, s.steps, s.max_steps, s.seed
-        ),
-        SamplerKind::Nested => format!(
-            "sampler: nested sampling (Skilling 2006), {} live points, seed {}; the GR model \
-             holds the shared parameters at the metric's defaults; posterior samples are the \
-             equal-weight resampling of the dead and live points",
-            s.live_points, s.seed
-        ),
-        SamplerKind::Quadrature => {
-            let (panels, nodes, grids) = i
-                .quadrature
-                .as_ref()
-                .map_or((0, 0, 0), |q| (q.panels, q.nodes_per_panel, q.grids));
-            let boundaries = match (&i.quadrature, i.names.first()) {
-                (Some(q), Some(name)) if !q.boundaries.is_empty() => {
-                    let at: Vec<String> = q.boundaries.iter().map(|b| format!("{b:.9}")).collect();
-                    format!(
-                        "; the likelihood changes between zero and non-zero inside the prior at \
-                         {name} = {} (located by bisection; the panels are split there)",
-                        at.join(", ")
-                    )
-                }
-                _ => String::new(),
-            };
-            format!(
-                "sampler: quadrature of the posterior density in the priors' cumulative \
-                 probabilities (composite Gauss-Legendre, {nodes} nodes per panel), the panels \
-                 doubled from {} up to {} per parameter until ln Z, the 0.16/0.5/0.84 quantiles \
-                 and the intervals changed by at most {:e} (quantities in units of the prior's \
-                 mass, and at most 1% of the 68% width): {grids} grids, {panels} panels per \
-                 parameter at the end; the GR model holds the shared parameters at the \
-                 metric's defaults, its evidence by the same quadrature (or, with nothing left to \
-                 sample, its likelihood at that point); posterior samples are \
-                 {} independent draws by inverse CDF, seed {}{boundaries}",
-                QuadratureSettings::default().initial_panels,
-                s.max_panels,
-                s.tolerance,
-                i.samples.len(),
-                s.seed
-            )
-        }
-    }
-}
-
-/// Everything a posterior assumed: the model's priors and likelihoods, the sampler, and the
-/// solver failures given zero likelihood.
-pub(super) fn assumptions(
-    model: &PosteriorModel,
-    settings: &InferSettings,
-    inference: &Inference,
-) -> Vec<String> {
-    let mut assumptions = model.assumptions();
-    assumptions.push(sampler_assumption(settings, inference));
-    if inference.failures > 0 {
-        assumptions.push(format!(
-            "{} of {} model evaluations failed in the shadow solver and were given zero \
-             likelihood (first: {})",
-            inference.failures,
-            inference.evaluations,
-            inference.first_failure.as_deref().unwrap_or("no message")
-        ));
-    }
-    assumptions
-}
-
-#[derive(Serialize)]
-struct JsonInterval {
-    confidence: f64,
-    kind: &'static str,
-    low: f64,
-    high: f64,
-}
-
-#[derive(Serialize)]
-struct JsonParameter {
-    median: f64,
-    mean: f64,
-    intervals: Vec<JsonInterval>,
-}
-
-#[derive(Serialize)]
-struct JsonDiagnostics {
-    rhat: BTreeMap<String, Option<f64>>,
-    ess: BTreeMap<String, f64>,
-    acceptance: Option<f64>,
-    converged: bool,
-    evaluations: usize,
-    solver_failures: usize,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    quadrature: Option<QuadratureReport>,
-}
-
-#[derive(Serialize)]
-struct JsonReport<'a> {
-    metric: String,
-    priors: BTreeMap<String, String>,
-    measurements: &'a [String],
-    parameters: Option<BTreeMap<String, JsonParameter>>,
-    evidence: Option<Evidence>,
-    diagnostics: JsonDiagnostics,
-    /// The interpolation tables (ray-traced metrics or --tabulate), with their errors.
-    tables: Vec<TableReport>,
-    assumptions: &'a [String],
+        levels: levels(&args.levels)?,
+    };
+    choice
+        .settings(dim)
+        .map_err(|e| CliError::usage(format!("--{}: {}", e.setting.replace('_', "-"), e.problem)))
 }
 
 /// The samples' temporary and final paths, with `--out`.
@@ -474,26 +301,7 @@ fn with_tables(
     std::fs::create_dir_all(&dir).map_err(|e| {
         CliError::usage(format!("--table-dir {}: cannot create: {e}", dir.display()))
     })?;
-    let tables = build(&model, &dir, progress)?;
-    let model = model
-        .with_tables(tables)
-        .map_err(|e| CliError::usage(e.to_string()))?;
-    if !matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature) {
-        return Ok(model);
-    }
-    // The Bayes factor's GR limit holds the shared parameters elsewhere: its own tables.
-    let gr_tables = build(&model.gr_model(), &dir, progress)?;
-    model
-        .with_gr_tables(gr_tables)
-        .map_err(|e| CliError::usage(format!("the GR limit's {e}")))
-}
-
-/// Build (or read) a model's tables with progress; Ctrl-C keeps the finished nodes.
-fn build(
-    model: &PosteriorModel,
-    dir: &Path,
-    progress: &ProgressArgs,
-) -> Result<Vec<ShadowTable>, CliError> {
+    let gr_limit = matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature);
     let mut display = progress.display(None)?;
     let built = {
         let _graceful = interrupt::Graceful::enter("table nodes");
@@ -501,15 +309,15 @@ fn build(
             observers: vec![display.as_mut()],
             stop: Some(interrupt::stop_flag()),
         };
-        build_tables(model, dir, controls)
+        tabulated(model, &dir, gr_limit, controls)
     };
     drop(display);
     match built {
-        Ok(t) => Ok(t),
-        Err(TableBuildError::Scan {
+        Ok(model) => Ok(model),
+        Err(TabulateError::Build(TableBuildError::Scan {
             error: e @ ScanError::Interrupted { .. },
             number,
-        }) => Err(CliError::interrupted(format!(
+        })) => Err(CliError::interrupted(format!(
             "table for source {number}: {e}"
         ))),
         Err(e) => Err(CliError::usage(e.to_string())),
@@ -531,44 +339,6 @@ pub(super) fn write_corner_plot(
     let title = format!("{}: posterior from {sources}", model.metric_info().title);
     let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
     write_figure(outputs, path, &svg, theme)
-}
-
-/// Why the run is not a posterior to report (`None`: it is).
-/// Whether the inference is nested sampling's: the only sampler with an evidence and no
-/// quadrature report.
-fn nested(i: &Inference) -> bool {
-    i.evidence.is_some() && i.quadrature.is_none()
-}
-
-pub(super) fn verdict(i: &Inference) -> Option<String> {
-    let c = &i.convergence;
-    let mut why = Vec::new();
-    if let (Some(q), false) = (&i.quadrature, c.converged) {
-        why.push(format!(
-            "the quadrature did not converge: at {} panels of {} nodes per parameter the \
-             reported quantities still changed by {:.3} times their tolerance",
-            q.panels, q.nodes_per_panel, q.change
-        ));
-    } else if !c.converged && nested(i) {
-        why.push(format!(
-            "the effective sample size of the nested-sampling weights is {:.0} (needs >= 400)",
-            c.ess
-        ));
-    } else if !c.converged {
-        why.push(format!(
-            "split R-hat {:.4} (needs < 1.01) and effective sample size {:.0} (needs >= 400)",
-            c.rhat, c.ess
-        ));
-    }
-    if i.failures as f64 > MAX_FAILURE_FRACTION * i.evaluations as f64 {
-        why.push(format!(
-            "{} of {} evaluations failed in the shadow solver (more than {}%)",
-            i.failures,
-            i.evaluations,
-            100.0 * MAX_FAILURE_FRACTION
-        ));
-    }
-    (!why.is_empty()).then(|| why.join("; "))
 }
 
 fn print_text(
@@ -600,7 +370,7 @@ fn print_text(
                 q.grids,
                 q.change
             )?;
-        } else if nested(i) {
+        } else if is_nested(i) {
             outln!(
                 "posterior of {} from {} source(s): converged (nested sampling: effective \
                  sample size of the weights {:.0}, walk acceptance {:.3}; R-hat not applicable)",
@@ -688,7 +458,7 @@ fn print_text(
             i.evaluations,
             i.failures
         )?;
-    } else if nested(i) {
+    } else if is_nested(i) {
         for s in &i.summaries {
             outln!(
                 "  {}: split R-hat not applicable, ESS {:.0} (of the weights)",
@@ -729,66 +499,7 @@ pub(super) fn json_report(
     assumptions: &[String],
     converged: bool,
 ) -> Result<String, CliError> {
-    let parameters = converged.then(|| {
-        i.summaries
-            .iter()
-            .map(|s| {
-                let p = JsonParameter {
-                    median: s.median,
-                    mean: s.mean,
-                    intervals: s
-                        .intervals
-                        .iter()
-                        .map(|iv| JsonInterval {
-                            confidence: iv.confidence,
-                            kind: iv.kind,
-                            low: iv.low,
-                            high: iv.high,
-                        })
-                        .collect(),
-                };
-                (s.name.clone(), p)
-            })
-            .collect()
-    });
-    let report = JsonReport {
-        metric: model.metric_info().name,
-        priors: model
-            .parameters()
-            .iter()
-            .map(|p| (p.name.clone(), p.prior.to_string()))
-            .collect(),
-        measurements,
-        parameters,
-        evidence: if converged { i.evidence } else { None },
-        diagnostics: JsonDiagnostics {
-            rhat: i
-                .summaries
-                .iter()
-                .map(|s| (s.name.clone(), s.rhat.is_finite().then_some(s.rhat)))
-                .collect(),
-            ess: i
-                .summaries
-                .iter()
-                .map(|s| (s.name.clone(), s.ess))
-                .collect(),
-            acceptance: i
-                .convergence
-                .acceptance
-                .is_finite()
-                .then_some(i.convergence.acceptance),
-            converged,
-            evaluations: i.evaluations,
-            solver_failures: i.failures,
-            quadrature: i.quadrature.clone(),
-        },
-        tables: model
-            .table_reports()
-            .into_iter()
-            .chain(model.gr_table_reports())
-            .collect(),
-        assumptions,
-    };
+    let report = Report::new(measurements, model, i, assumptions, converged);
     serde_json::to_string_pretty(&report)
         .map_err(|e| CliError::usage(format!("cannot write JSON: {e}")))
 }
@@ -800,17 +511,7 @@ pub(super) fn samples_csv(i: &Inference, assumptions: &[String]) -> String {
     for a in assumptions {
         text.push_str(&format!("# {a}\n"));
     }
-    let degrees: Vec<bool> = i
-        .names
-        .iter()
-        .map(|n| n.starts_with("inclination"))
-        .collect();
-    let header: Vec<String> = i
-        .names
-        .iter()
-        .zip(&degrees)
-        .map(|(n, &d)| if d { format!("{n}_deg") } else { n.clone() })
-        .collect();
+    let (header, degrees): (Vec<String>, Vec<bool>) = sample_columns(i).into_iter().unzip();
     text.push_str(&header.join(","));
     text.push('\n');
     for row in &i.samples {

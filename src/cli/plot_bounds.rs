@@ -443,6 +443,20 @@ pub fn allowed_polygons(
     Ok(out)
 }
 
+/// The value at fractional index `u` of increasing `values`, linear between nodes (clamped to
+/// the ends).
+fn along(values: &[f64], u: f64) -> f64 {
+    let last = values.len() - 1;
+    let u = u.clamp(0.0, last as f64);
+    let i = (u.floor() as usize).min(last.saturating_sub(1));
+    let t = u - i as f64;
+    if last == 0 {
+        values[0]
+    } else {
+        values[i] + (values[i + 1] - values[i]) * t
+    }
+}
+
 /// Filled regions as simple rings (holes joined to their exterior by a zero-width bridge,
 /// since a plotters polygon has no holes) and their outlines.
 #[derive(Debug, Default)]
@@ -502,9 +516,17 @@ pub fn exclusion_map(
 ) -> Result<String, CliError> {
     let grid = map.map;
     let (nx, ny) = (grid.x.len(), grid.y.len());
-    let step = |v: &[f64]| (v[v.len() - 1] - v[0]) / (v.len() - 1) as f64;
-    let (dx, dy) = (step(&grid.x), step(&grid.y));
-    let contour = |values: &[f64]| allowed_polygons(values, nx, ny, grid.x[0], dx, grid.y[0], dy);
+    // Contours in index space, then to parameter space along each axis (which may be
+    // unevenly spaced).
+    let contour = |values: &[f64]| -> Result<Regions, CliError> {
+        let mut regions = allowed_polygons(values, nx, ny, 0.0, 1.0, 0.0, 1.0)?;
+        for ring in regions.fills.iter_mut().chain(regions.outlines.iter_mut()) {
+            for p in ring.iter_mut() {
+                *p = (along(&grid.x, p.0), along(&grid.y, p.1));
+            }
+        }
+        Ok(regions)
+    };
     let horizon = contour(grid.horizon_field())?;
     let mut levels = Vec::new();
     for (k, &confidence) in map.confidences.iter().enumerate() {

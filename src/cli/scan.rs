@@ -24,15 +24,17 @@ use umbral::shadow::ShadowSettings;
 pub struct ScanArgs {
     #[command(flatten)]
     metric: super::args::MetricChoice,
-    /// Grid axis PARAM=LO:HI:N (once or twice).
+    /// Grid axis PARAM=LO:HI:N (once or twice); PARAM `inclination` varies the observer's
+    /// inclination in degrees.
     #[arg(long, value_name = "PARAM=LO:HI:N", allow_hyphen_values = true)]
     grid: Vec<String>,
     /// Fixed parameter NAME=VALUE (repeatable).
     #[arg(long = "set", value_name = "NAME=VALUE", allow_hyphen_values = true)]
     set: Vec<String>,
-    /// Observer inclination in degrees (0 to 180).
+    /// Observer inclination in degrees (0 to 180); leave it out when a grid axis is the
+    /// inclination (`--grid inclination=LO:HI:N`).
     #[arg(long, allow_hyphen_values = true)]
-    inclination: String,
+    inclination: Option<String>,
     /// Output file, one JSON line per grid point (resumed if it exists).
     #[arg(long, value_name = "FILE.jsonl")]
     out: String,
@@ -103,7 +105,22 @@ fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
         low,
         high,
         count,
+        values: None,
     })
+}
+
+/// `--inclination`, given unless a grid axis is the inclination.
+fn inclination(text: Option<&str>, axes: &[GridAxis]) -> Result<Option<f64>, CliError> {
+    match (text, axes.iter().any(GridAxis::is_inclination)) {
+        (Some(text), false) => Ok(Some(parse_finite(text, "--inclination")?)),
+        (None, true) => Ok(None),
+        (Some(_), true) => Err(CliError::usage(
+            "give either --inclination or --grid inclination=LO:HI:N, not both",
+        )),
+        (None, false) => Err(CliError::usage(
+            "give --inclination DEG, or --grid inclination=LO:HI:N to scan it",
+        )),
+    }
 }
 
 /// Parse `umbral scan` arguments given as words (for the demo, which runs a scan itself).
@@ -166,11 +183,12 @@ pub fn run_in(
                 .map_err(|e| CliError::usage(e.to_string()))
         })
         .transpose()?;
+    let inclination_deg = inclination(args.inclination.as_deref(), &axes)?;
     let request = ScanRequest {
         metric: args.metric.resolve()?,
         axes,
         fixed: parse_assignments(&args.set)?,
-        inclination_deg: parse_finite(&args.inclination, "--inclination")?,
+        inclination_deg,
         settings: ShadowSettings::default(),
         require_horizon: args.require_horizon,
     };
@@ -216,9 +234,9 @@ pub fn run_in(
                 args.refine
             )?;
             let title = format!(
-                "{}, θₒ = {}°: {}",
+                "{}{}: {}",
                 title_of(&request)?,
-                short(request.inclination_deg, 6),
+                inclination_words(&request),
                 m.label
             );
             let confidences: Vec<f64> = radii.intervals.iter().map(|iv| iv.confidence).collect();
@@ -233,11 +251,7 @@ pub fn run_in(
             outln!("  exclusion map written to '{path}'")?;
         }
         (Some(path), _, _) => {
-            let title = format!(
-                "{}, θₒ = {}°",
-                title_of(&request)?,
-                short(request.inclination_deg, 6)
-            );
+            let title = format!("{}{}", title_of(&request)?, inclination_words(&request));
             let figure = ObservablePlot {
                 title: &title,
                 axis: &request.axes[0],
@@ -251,6 +265,14 @@ pub fn run_in(
         _ => {}
     }
     Ok(())
+}
+
+/// `, θₒ = 17°` for a fixed inclination; nothing when the inclination is a grid axis.
+fn inclination_words(request: &ScanRequest) -> String {
+    request
+        .inclination_deg
+        .map(|d| format!(", θₒ = {}°", short(d, 6)))
+        .unwrap_or_default()
 }
 
 /// `--observables`: names of observables, each known.

@@ -5,20 +5,13 @@ use super::figure::{symbol, write_figure, FigureStyle, Theme};
 use super::plot::{screen_curves, stage_plot, ScreenCurve, ScreenFigure};
 use super::CliError;
 use clap::{Args, ValueEnum};
-use serde::Serialize;
-use std::collections::BTreeMap;
 use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::numfmt::Num;
-use umbral::observables::{
-    CentreChoice, Observables, ObservablesError, Quantity, Shadow, ShadowRequest,
-};
+pub use umbral::observables::ShadowReport;
+use umbral::observables::{CentreChoice, Observables, Quantity};
 use umbral::output::OutputTransaction;
-use umbral::shadow::observer::celestial_curve;
-use umbral::shadow::{
-    self, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowSettings, ShadowStatus,
-    SolverChoice,
-};
+use umbral::shadow::{self, Observer, ShadowSettings, SolverChoice};
 
 #[derive(Debug, Clone, Copy, ValueEnum)]
 enum CentreArg {
@@ -69,49 +62,7 @@ pub struct ShadowArgs {
     style: FigureStyle,
 }
 
-/// The curve's screen coordinates.
-#[derive(Debug, Serialize)]
-pub struct CurveJson {
-    pub alpha: Vec<f64>,
-    pub beta: Vec<f64>,
-}
-
-/// Celestial coordinates of the curve for an observer at finite radius: the angle Θ from
-/// the direction to the centre and the azimuth Ψ from +α towards +β, in radians.
-#[derive(Debug, Serialize)]
-pub struct CelestialJson {
-    pub theta: Vec<f64>,
-    pub psi: Vec<f64>,
-}
-
-/// One shadow, as printed in JSON.
-#[derive(Debug, Serialize)]
-pub struct ShadowReport {
-    pub metric: String,
-    pub parameters: BTreeMap<String, f64>,
-    pub inclination_deg: f64,
-    pub observer_radius: Option<f64>,
-    pub solver: &'static str,
-    pub status: &'static str,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub reason: Option<String>,
-    pub observables: Option<Observables>,
-    /// Photon-ring exponents (Lyapunov exponent, demagnification γ per half orbit).
-    pub exponents: Option<RingExponents>,
-    /// Why the exponents are undefined for this shadow, when they are.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub exponents_undefined: Option<String>,
-    /// Every photon sphere found (spherical solver).
-    pub photon_spheres: Vec<PhotonSphere>,
-    pub curve: Option<CurveJson>,
-    /// For an observer at finite radius: the curve in celestial angles (screen coordinates
-    /// are √g_θθ(r_o, θₒ) sin Θ along the direction Ψ).
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub celestial: Option<CelestialJson>,
-    pub diagnostics: Diagnostics,
-}
-
-/// Solve one shadow and reduce it to observables.
+/// Solve one shadow and reduce it to observables ([`umbral::observables::shadow_report`]).
 pub fn shadow_report(
     metric: &dyn Spacetime,
     inclination_deg: f64,
@@ -119,60 +70,8 @@ pub fn shadow_report(
     settings: &ShadowSettings,
     centre: CentreChoice,
 ) -> Result<ShadowReport, CliError> {
-    let request = ShadowRequest {
-        observer: *observer,
-        settings: *settings,
-        centre,
-        curve_only: false,
-    };
-    let Shadow {
-        result,
-        observables,
-    } = umbral::observables::shadow(metric, &request)
-        .map_err(|e| CliError::usage(e.to_string()))?;
-    let info = metric.info();
-    let (status, reason) = match &result.status {
-        ShadowStatus::Shadow => ("shadow", None),
-        ShadowStatus::NoShadow { reason } => ("no_shadow", Some(reason.clone())),
-    };
-    // No curve means no observables; a curve they cannot be read from is an error.
-    let observables = match observables {
-        Ok(o) => Some(o),
-        Err(ObservablesError::NoShadow(_)) => None,
-        Err(e) => return Err(CliError::usage(e.to_string())),
-    };
-    let curve = result.curve.as_ref().map(|c| {
-        let (alpha, beta) = c.alpha_beta();
-        CurveJson { alpha, beta }
-    });
-    Ok(ShadowReport {
-        metric: info.name.clone(),
-        parameters: info
-            .parameters
-            .iter()
-            .map(|p| p.name.clone())
-            .zip(metric.parameter_values())
-            .collect(),
-        inclination_deg,
-        observer_radius: observer.radius,
-        solver: result.solver,
-        status,
-        reason,
-        observables,
-        exponents: result.exponents.clone(),
-        exponents_undefined: result.diagnostics.exponents_undefined.clone(),
-        photon_spheres: result.photon_spheres.clone(),
-        celestial: match (observer.radius, &curve) {
-            (Some(_), Some(c)) => {
-                let (theta, psi) = celestial_curve(metric, observer, &c.alpha, &c.beta)
-                    .map_err(|e| CliError::usage(e.to_string()))?;
-                Some(CelestialJson { theta, psi })
-            }
-            _ => None,
-        },
-        curve,
-        diagnostics: result.diagnostics,
-    })
+    umbral::observables::shadow_report(metric, inclination_deg, observer, settings, centre)
+        .map_err(|e| CliError::usage(e.to_string()))
 }
 
 fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), CliError> {

@@ -40,6 +40,7 @@
 
 pub mod infer;
 pub mod parameters;
+pub mod report;
 pub mod source;
 pub mod table;
 

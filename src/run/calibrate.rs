@@ -16,6 +16,7 @@
 
 use super::image::Rows;
 use super::{Controls, Executor, RunError, Selection};
+use crate::error::MetricError;
 use crate::image::blur::{gaussian_blur, uas_to_m};
 use crate::image::features::{ring_features, FeatureSettings, RingFeatures};
 use crate::image::inner_shadow::{inner_shadow, InnerShadow};
@@ -23,11 +24,14 @@ use crate::image::models::ModelList;
 use crate::image::trace::{ImageSettings, ImageTracer, RenderedImage};
 use crate::image::ImageError;
 use crate::measurement::calibration::{CalibrationSummary, KappaSummary, CALIBRATION_FORMAT};
+use crate::measurement::{Measurement, MeasurementError, SizeMeasurement};
 use crate::metric::Spacetime;
+use crate::metrics::MetricSource;
 use crate::observables::{shadow, ShadowRequest};
 use crate::shadow::Observer;
 use serde::Serialize;
 use std::collections::BTreeMap;
+use std::path::Path;
 
 /// A calibration needs a ring from at least this many models (or from all, if fewer).
 pub const MIN_MODELS: usize = 2;
@@ -291,4 +295,70 @@ pub fn calibrate(
         models: results,
         assumptions,
     })
+}
+
+/// A model list read from a file (TOML), or the built-in list.
+pub fn model_list(path: Option<&Path>) -> Result<ModelList, CalibrateError> {
+    let Some(path) = path else {
+        return Ok(ModelList::built_in());
+    };
+    let text = crate::input::read_text(path).map_err(|e| {
+        CalibrateError::BadRequest(format!("cannot read model list '{}': {e}", path.display()))
+    })?;
+    ModelList::from_toml(&text)
+        .map_err(|e| CalibrateError::BadRequest(format!("'{}': {e}", path.display())))
+}
+
+/// Why a measurement's pending κ calibration could not be computed.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ResolveError {
+    /// The calibration's metric.
+    #[error(transparent)]
+    Metric(#[from] MetricError),
+    /// The calibration's model list.
+    #[error(transparent)]
+    Models(CalibrateError),
+    /// The calibration failed or was stopped.
+    #[error("calibration: {0}")]
+    Calibration(CalibrateError),
+    /// The measurement refused the result.
+    #[error(transparent)]
+    Measurement(#[from] MeasurementError),
+}
+
+/// Compute the κ calibration a measurement file asks for (`ring_to_shadow = "computed"`) on an
+/// executor carrying `controls`, and give the measurement its result; nothing to do for a
+/// measurement without one.
+pub fn resolve_measurement(
+    m: &mut Measurement,
+    controls: Controls<'_>,
+) -> Result<(), ResolveError> {
+    let Some(request) = m.pending_calibration().cloned() else {
+        return Ok(());
+    };
+    let SizeMeasurement::Ring(chain) = &m.size else {
+        unreachable!("only a ring chain has a calibration")
+    };
+    let theta_g_uas = chain.central_theta_g_uas();
+    let source = MetricSource::builtin(&request.metric)?;
+    let assignments: Vec<(String, f64)> = request.parameters.clone().into_iter().collect();
+    let spacetime = source.build(&assignments)?;
+    let models = model_list(request.models.as_deref()).map_err(ResolveError::Models)?;
+    let settings = CalibrationSettings {
+        inclination: request.inclination_deg.to_radians(),
+        resolution_uas: request.resolution_uas,
+        theta_g_uas,
+        pixels: request.pixels.unwrap_or(DEFAULT_PIXELS),
+        field: request.field_m,
+    };
+    let calibration = calibrate(
+        spacetime.as_ref(),
+        &spacetime.info().name.to_string(),
+        &request.parameters,
+        &settings,
+        &models,
+        controls,
+    )
+    .map_err(ResolveError::Calibration)?;
+    Ok(m.resolve_calibration(calibration.summary)?)
 }

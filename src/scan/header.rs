@@ -24,7 +24,8 @@ pub(crate) struct Header {
     metric_sha256: String,
     axes: Vec<GridAxis>,
     fixed: BTreeMap<String, f64>,
-    inclination_deg: f64,
+    /// `null` when an axis is the inclination.
+    inclination_deg: Option<f64>,
     points: usize,
     tolerance: f64,
     solver: String,

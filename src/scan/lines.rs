@@ -9,7 +9,7 @@
 //! with the fields that status has, finite observables for a shadow, a matching checksum and
 //! the canonical JSON text.
 
-use super::{expected_parameters, PointObservables, ScanPoint, ScanRequest};
+use super::{axis_inclination, expected_parameters, PointObservables, ScanPoint, ScanRequest};
 use crate::observables::Quantity;
 use crate::run::RecordFormat;
 use serde::Deserialize;
@@ -39,6 +39,8 @@ const REQUIRED_OBSERVABLES: [Quantity; 4] = [
 struct StoredPoint {
     index: Vec<usize>,
     parameters: BTreeMap<String, f64>,
+    #[serde(default)]
+    inclination_deg: Option<f64>,
     status: String,
     #[serde(default)]
     horizonless: bool,
@@ -164,6 +166,7 @@ impl RecordFormat for ScanFormat<'_> {
         let p = ScanPoint {
             index: stored.index,
             parameters: stored.parameters,
+            inclination_deg: stored.inclination_deg,
             status: stored.status,
             horizonless: stored.horizonless,
             reason: stored.reason,
@@ -206,6 +209,17 @@ impl RecordFormat for ScanFormat<'_> {
                     want[name]
                 ));
             }
+        }
+        match (p.inclination_deg, axis_inclination(self.request, &p.index)) {
+            (None, None) => {}
+            (Some(got), Some(want)) if got.to_bits() == want.to_bits() => {}
+            (Some(got), Some(want)) => {
+                return Err(format!(
+                    "inclination_deg = {got:e} is not the grid point's value {want:e}"
+                ))
+            }
+            (None, Some(_)) => return Err("the inclination axis needs an inclination_deg".into()),
+            (Some(_), None) => return Err("an inclination_deg without an inclination axis".into()),
         }
         check_status(p)
     }

@@ -12,7 +12,12 @@
 //! file is refused while the first runs.
 //!
 //! The grid points are the work items of a [`crate::run::Executor`] and the file is its
-//! [`crate::run::JsonlCheckpoint`]; [`scan`] takes the observers and stop flag to attach.
+//! [`crate::run::JsonlCheckpoint`]; [`scan`] takes the observers and stop flag to attach, and
+//! [`scan_in_memory`] runs the same points without a file.
+//!
+//! An axis is a metric parameter or, named [`INCLINATION_AXIS`], the observer's inclination in
+//! degrees (the request's `inclination_deg` is then `None`). Its values are evenly spaced
+//! ([`GridAxis::new`]) or given one by one ([`GridAxis::from_values`]).
 //!
 //! ```
 //! use umbral::metrics::MetricSource;
@@ -21,9 +26,9 @@
 //! let _ = std::fs::remove_file(&path);
 //! let request = ScanRequest {
 //!     metric: MetricSource::builtin("reissner-nordstrom").unwrap(),
-//!     axes: vec![GridAxis { name: "q".into(), low: 0.0, high: 1.2, count: 4 }],
+//!     axes: vec![GridAxis::new("q", 0.0, 1.2, 4)],
 //!     fixed: vec![],
-//!     inclination_deg: 17.0,
+//!     inclination_deg: Some(17.0),
 //!     settings: Default::default(),
 //!     require_horizon: false,
 //! };
@@ -55,10 +60,25 @@ use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::Path;
 
-/// One grid axis: `count` points from `low` to `high` inclusive.
+/// The name of the axis that varies the observer's inclination, in degrees, instead of a
+/// metric parameter.
+pub const INCLINATION_AXIS: &str = "inclination";
+
+/// One grid axis: `count` points from `low` to `high` inclusive, evenly spaced, or the
+/// increasing `values` given one by one.
+///
+/// ```
+/// use umbral::scan::GridAxis;
+/// let even = GridAxis::new("a", 0.0, 0.9, 4);
+/// assert_eq!(even.all_values(), vec![0.0, 0.3, 0.6, 0.9]);
+/// let given = GridAxis::from_values("inclination", vec![0.0, 17.0, 60.0]);
+/// assert_eq!((given.low, given.high, given.count), (0.0, 60.0, 3));
+/// assert_eq!(given.value(1), 17.0);
+/// assert!(given.is_inclination());
+/// ```
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct GridAxis {
-    /// The metric parameter on this axis.
+    /// The metric parameter on this axis, or [`INCLINATION_AXIS`].
     pub name: String,
     /// First grid value.
     pub low: f64,
@@ -66,12 +86,50 @@ pub struct GridAxis {
     pub high: f64,
     /// Number of grid values (at least 2).
     pub count: usize,
+    /// The grid values one by one (`count` of them, increasing, from `low` to `high`); `None`
+    /// for evenly spaced values.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub values: Option<Vec<f64>>,
 }
 
 impl GridAxis {
+    /// `count` evenly spaced values from `low` to `high` inclusive.
+    pub fn new(name: &str, low: f64, high: f64, count: usize) -> GridAxis {
+        GridAxis {
+            name: name.to_string(),
+            low,
+            high,
+            count,
+            values: None,
+        }
+    }
+
+    /// The values given one by one (checked when a scan starts: increasing and finite).
+    pub fn from_values(name: &str, values: Vec<f64>) -> GridAxis {
+        GridAxis {
+            name: name.to_string(),
+            low: values.first().copied().unwrap_or(f64::NAN),
+            high: values.last().copied().unwrap_or(f64::NAN),
+            count: values.len(),
+            values: Some(values),
+        }
+    }
+
+    /// Whether this axis is the observer's inclination ([`INCLINATION_AXIS`]).
+    pub fn is_inclination(&self) -> bool {
+        self.name == INCLINATION_AXIS
+    }
+
+    /// Every grid value, in order.
+    pub fn all_values(&self) -> Vec<f64> {
+        (0..self.count).map(|i| self.value(i)).collect()
+    }
+
     /// The i-th grid value.
     pub fn value(&self, i: usize) -> f64 {
-        if self.count <= 1 {
+        if let Some(values) = &self.values {
+            values[i]
+        } else if self.count <= 1 {
             self.low
         } else if i + 1 == self.count {
             self.high
@@ -90,8 +148,9 @@ pub struct ScanRequest {
     pub axes: Vec<GridAxis>,
     /// Other parameters held fixed, by name.
     pub fixed: Vec<(String, f64)>,
-    /// The observer's inclination, in degrees from the spin axis (0 to 180).
-    pub inclination_deg: f64,
+    /// The observer's inclination, in degrees from the spin axis (0 to 180); `None` when an
+    /// axis is the inclination ([`INCLINATION_AXIS`]).
+    pub inclination_deg: Option<f64>,
     /// Shadow solver settings.
     pub settings: ShadowSettings,
     /// Record every horizonless point as `no_horizon`. By default a horizonless object whose
@@ -107,6 +166,10 @@ pub struct ScanPoint {
     pub index: Vec<usize>,
     /// Every metric parameter at this point.
     pub parameters: BTreeMap<String, f64>,
+    /// The observer's inclination in degrees, when an axis is the inclination (a scan at one
+    /// inclination records it once, in its header).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub inclination_deg: Option<f64>,
     /// `shadow`, `no_shadow`, `no_horizon` or `failed`.
     pub status: String,
     /// A `shadow` of an object without a horizon (a photon sphere bounds capture by its
@@ -233,10 +296,11 @@ impl ScanSummary {
     /// ```
     /// use umbral::bounds::SizeMeasure;
     /// use umbral::scan::{GridAxis, PointObservables, ScanPoint, ScanSummary};
-    /// let axis = |name: &str| GridAxis { name: name.into(), low: 0.0, high: 1.0, count: 2 };
+    /// let axis = |name: &str| GridAxis::new(name, 0.0, 1.0, 2);
     /// let point = |i: usize, j: usize, status: &str, r: f64| ScanPoint {
     ///     index: vec![i, j],
     ///     parameters: Default::default(),
+    ///     inclination_deg: None,
     ///     status: status.into(),
     ///     horizonless: false,
     ///     reason: None,
@@ -298,6 +362,20 @@ pub enum ScanError {
     /// Not one or two axes.
     #[error("give one or two grid axes, not {0}")]
     AxisCount(usize),
+    /// Values given one by one that are not finite and increasing.
+    #[error("grid axis {name}: {problem}")]
+    BadValues {
+        /// The axis's parameter.
+        name: String,
+        /// What is wrong with them.
+        problem: String,
+    },
+    /// The inclination is both an axis and fixed, or neither.
+    #[error("{0}")]
+    InclinationChoice(&'static str),
+    /// An inclination axis while the metric has a parameter of that name.
+    #[error("the metric has a parameter named '{INCLINATION_AXIS}': a scan's '{INCLINATION_AXIS}' axis is the observer's inclination, so this metric's parameter cannot be scanned")]
+    InclinationParameter,
     /// An axis without finite ends in increasing order or with fewer than 2 points.
     #[error("grid axis {name}: need finite ends, the low below the high, and at least 2 points, got {}:{}:{count}", Num(*.low), Num(*.high))]
     BadAxis {
@@ -338,6 +416,16 @@ pub enum ScanError {
         /// Points in the grid.
         total: usize,
     },
+    /// A scan without a file ([`scan_in_memory`]) stopped on request; nothing is kept.
+    #[error(
+        "interrupted after {done} of {total} points; a scan without a file keeps none of them"
+    )]
+    Stopped {
+        /// Points finished.
+        done: usize,
+        /// Points in the grid.
+        total: usize,
+    },
 }
 
 /// Most grid points a scan may have.
@@ -348,14 +436,7 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
         return Err(ScanError::AxisCount(request.axes.len()));
     }
     for a in &request.axes {
-        if !(a.low.is_finite() && a.high.is_finite()) || a.low >= a.high || a.count < 2 {
-            return Err(ScanError::BadAxis {
-                name: a.name.clone(),
-                low: a.low,
-                high: a.high,
-                count: a.count,
-            });
-        }
+        check_axis(a)?;
     }
     let total: f64 = request.axes.iter().map(|a| a.count as f64).product();
     if total > MAX_SCAN_POINTS as f64 {
@@ -364,19 +445,81 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
     if request.axes.len() == 2 && request.axes[0].name == request.axes[1].name {
         return Err(ScanError::SameAxis(request.axes[0].name.clone()));
     }
-    if !(0.0..=180.0).contains(&request.inclination_deg) {
-        return Err(ScanError::Inclination(request.inclination_deg));
+    let inclination_axis = request.axes.iter().find(|a| a.is_inclination());
+    let inclinations = match (inclination_axis, request.inclination_deg) {
+        (Some(a), None) => [a.low, a.high],
+        (None, Some(i)) => [i, i],
+        (Some(_), Some(_)) => {
+            return Err(ScanError::InclinationChoice(
+                "the inclination is a grid axis: give no fixed inclination as well",
+            ))
+        }
+        (None, None) => {
+            return Err(ScanError::InclinationChoice(
+                "give an inclination, or an 'inclination' grid axis",
+            ))
+        }
+    };
+    if let Some(&bad) = inclinations.iter().find(|i| !(0.0..=180.0).contains(*i)) {
+        return Err(ScanError::Inclination(bad));
     }
     // Domains are intervals: building at both corners checks names and values.
     for pick in [false, true] {
         let mut a = request.fixed.clone();
-        for axis in &request.axes {
+        for axis in request.axes.iter().filter(|a| !a.is_inclination()) {
             if a.iter().any(|(n, _)| *n == axis.name) {
                 return Err(ScanError::FixedAndGrid(axis.name.clone()));
             }
             a.push((axis.name.clone(), if pick { axis.high } else { axis.low }));
         }
-        request.metric.build(&a)?;
+        let built = request.metric.build(&a)?;
+        let named = |p: &crate::metric::ParameterSpec| p.name == INCLINATION_AXIS;
+        if inclination_axis.is_some() && built.info().parameters.iter().any(named) {
+            return Err(ScanError::InclinationParameter);
+        }
+    }
+    Ok(())
+}
+
+/// An axis's ends and count, and values given one by one: finite and increasing.
+fn check_axis(a: &GridAxis) -> Result<(), ScanError> {
+    if let Some(values) = &a.values {
+        let bad = |problem: String| ScanError::BadValues {
+            name: a.name.clone(),
+            problem,
+        };
+        if values.len() < 2 {
+            return Err(bad(format!("need at least 2 values, got {}", values.len())));
+        }
+        if let Some(v) = values.iter().find(|v| !v.is_finite()) {
+            return Err(bad(format!("the values must be finite, got {v}")));
+        }
+        if let Some(w) = values.windows(2).find(|w| w[0] >= w[1]) {
+            return Err(bad(format!(
+                "the values must increase, got {} then {}",
+                Num(w[0]),
+                Num(w[1])
+            )));
+        }
+        let ends = [values[0], values[values.len() - 1]];
+        if values.len() != a.count || ends != [a.low, a.high] {
+            return Err(bad(format!(
+                "the ends and count {}:{}:{} are not those of its {} values",
+                Num(a.low),
+                Num(a.high),
+                a.count,
+                values.len()
+            )));
+        }
+        return Ok(());
+    }
+    if !(a.low.is_finite() && a.high.is_finite()) || a.low >= a.high || a.count < 2 {
+        return Err(ScanError::BadAxis {
+            name: a.name.clone(),
+            low: a.low,
+            high: a.high,
+            count: a.count,
+        });
     }
     Ok(())
 }
@@ -409,7 +552,9 @@ type GridPoint = (
 fn grid_point(request: &ScanRequest, index: &[usize]) -> GridPoint {
     let mut assignments = request.fixed.clone();
     for (a, &i) in request.axes.iter().zip(index) {
-        assignments.push((a.name.clone(), a.value(i)));
+        if !a.is_inclination() {
+            assignments.push((a.name.clone(), a.value(i)));
+        }
     }
     let built = request.metric.build(&assignments);
     let parameters = match &built {
@@ -430,6 +575,16 @@ pub(crate) fn expected_parameters(request: &ScanRequest, index: &[usize]) -> BTr
     grid_point(request, index).0
 }
 
+/// The inclination of the point at `index`, in degrees, when an axis is the inclination.
+pub(crate) fn axis_inclination(request: &ScanRequest, index: &[usize]) -> Option<f64> {
+    request
+        .axes
+        .iter()
+        .zip(index)
+        .find(|(a, _)| a.is_inclination())
+        .map(|(a, &i)| a.value(i))
+}
+
 /// Compute one grid point.
 pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
     let mut point = solve_point(request, index);
@@ -443,9 +598,11 @@ pub fn compute_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
 
 fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
     let (parameters, built) = grid_point(request, index);
+    let inclination_deg = axis_inclination(request, index);
     let mut point = ScanPoint {
         index: index.to_vec(),
         parameters,
+        inclination_deg,
         status: "failed".into(),
         horizonless: false,
         reason: None,
@@ -459,7 +616,11 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
             return point;
         }
     };
-    let observer = Observer::distant(request.inclination_deg.to_radians());
+    // `validate` made sure that one of the two is there.
+    let degrees = inclination_deg
+        .or(request.inclination_deg)
+        .unwrap_or(f64::NAN);
+    let observer = Observer::distant(degrees.to_radians());
     let classified = shadow::solve_classified(
         spacetime.as_ref(),
         &observer,
@@ -573,6 +734,55 @@ pub fn scan(
         }),
         Err(RunError::Interrupted { done, .. }) => Err(ScanError::Interrupted {
             path: path.display().to_string(),
+            done,
+            total: grid.len(),
+        }),
+        Err(RunError::Checkpoint(e)) => Err(e.into()),
+    }
+}
+
+/// Run a scan without a file (nothing to resume from), with the observers and stop flag of
+/// `controls`: the same points, computed the same way, as [`scan`]'s. A stop request ends it
+/// with [`ScanError::Stopped`] once the points in progress finish.
+///
+/// ```
+/// use umbral::metrics::MetricSource;
+/// use umbral::scan::{scan_in_memory, GridAxis, ScanRequest};
+/// let request = ScanRequest {
+///     metric: MetricSource::builtin("schwarzschild").unwrap(),
+///     axes: vec![GridAxis::from_values("inclination", vec![0.0, 45.0, 90.0])],
+///     fixed: vec![],
+///     inclination_deg: None,
+///     settings: Default::default(),
+///     require_horizon: false,
+/// };
+/// let summary = scan_in_memory(&request, Default::default()).unwrap();
+/// assert_eq!(summary.points[1].inclination_deg, Some(45.0));
+/// // Spherical symmetry: the same shadow, 3√3 M (Synge 1966), at every inclination.
+/// for p in &summary.points {
+///     let r = p.observable("mean_radius").unwrap();
+///     assert!((r - 27f64.sqrt()).abs() < 1e-6, "{r}");
+/// }
+/// ```
+pub fn scan_in_memory(
+    request: &ScanRequest,
+    controls: Controls<'_>,
+) -> Result<ScanSummary, ScanError> {
+    validate(request)?;
+    let grid = Grid {
+        request,
+        indices: indices(&request.axes),
+    };
+    let run = Executor::new("scan", "points")
+        .with(controls)
+        .run(&grid, &Selection::All);
+    match run {
+        Ok(batch) => Ok(ScanSummary {
+            points: batch.outputs,
+            computed: batch.computed,
+            reused: batch.kept,
+        }),
+        Err(RunError::Interrupted { done, .. }) => Err(ScanError::Stopped {
             done,
             total: grid.len(),
         }),

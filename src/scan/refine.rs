@@ -134,18 +134,8 @@ fn cell_request(request: &ScanRequest, (ci, cj): (usize, usize), factor: usize) 
     let (ax, ay) = (&request.axes[0], &request.axes[1]);
     let mut cell = request.clone();
     cell.axes = vec![
-        GridAxis {
-            name: ax.name.clone(),
-            low: ax.value(ci),
-            high: ax.value(ci + 1),
-            count: factor + 1,
-        },
-        GridAxis {
-            name: ay.name.clone(),
-            low: ay.value(cj),
-            high: ay.value(cj + 1),
-            count: factor + 1,
-        },
+        GridAxis::new(&ax.name, ax.value(ci), ax.value(ci + 1), factor + 1),
+        GridAxis::new(&ay.name, ay.value(cj), ay.value(cj + 1), factor + 1),
     ];
     cell
 }
@@ -154,18 +144,8 @@ fn cell_request(request: &ScanRequest, (ci, cj): (usize, usize), factor: usize) 
 fn has_horizon_at(request: &ScanRequest, (x, y): (f64, f64)) -> bool {
     let mut single = request.clone();
     single.axes = vec![
-        GridAxis {
-            name: request.axes[0].name.clone(),
-            low: x,
-            high: x,
-            count: 1,
-        },
-        GridAxis {
-            name: request.axes[1].name.clone(),
-            low: y,
-            high: y,
-            count: 1,
-        },
+        GridAxis::new(&request.axes[0].name, x, x, 1),
+        GridAxis::new(&request.axes[1].name, y, y, 1),
     ];
     match grid_point(&single, &[0, 0]).1 {
         Ok(m) => matches!(m.classify(), Classification::BlackHole { .. }),

@@ -57,15 +57,10 @@ pub fn table_scan(model: &PosteriorModel, plan: &TablePlan) -> ScanRequest {
         axes: plan
             .axes
             .iter()
-            .map(|(a, metric_name)| GridAxis {
-                name: metric_name.clone(),
-                low: a.low,
-                high: a.high,
-                count: a.count,
-            })
+            .map(|(a, metric_name)| GridAxis::new(metric_name, a.low, a.high, a.count))
             .collect(),
         fixed: plan.fixed.clone(),
-        inclination_deg: plan.inclination.to_degrees(),
+        inclination_deg: Some(plan.inclination.to_degrees()),
         settings: model.shadow_settings(),
         require_horizon: model.require_horizon(),
     }
@@ -148,4 +143,38 @@ pub fn build_tables(
         tables.push(table);
     }
     Ok(tables)
+}
+
+/// Why a model could not be given its tables.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum TabulateError {
+    /// A table could not be built (or its scan was stopped).
+    #[error(transparent)]
+    Build(#[from] TableBuildError),
+    /// The model refused its tables.
+    #[error(transparent)]
+    Model(InferError),
+    /// The GR limit refused its tables.
+    #[error("the GR limit's {0}")]
+    GrModel(InferError),
+}
+
+/// `model` with its tables built (or read) in `dir` by [`build_tables`], and with
+/// `gr_limit` (nested sampling and quadrature, whose Bayes factor needs the GR limit, which
+/// holds the shared parameters elsewhere) the GR limit's own tables too.
+pub fn tabulated(
+    model: PosteriorModel,
+    dir: &Path,
+    gr_limit: bool,
+    mut controls: Controls<'_>,
+) -> Result<PosteriorModel, TabulateError> {
+    let tables = build_tables(&model, dir, controls.reborrow())?;
+    let model = model.with_tables(tables).map_err(TabulateError::Model)?;
+    if !gr_limit {
+        return Ok(model);
+    }
+    let gr_tables = build_tables(&model.gr_model(), dir, controls)?;
+    model
+        .with_gr_tables(gr_tables)
+        .map_err(TabulateError::GrModel)
 }

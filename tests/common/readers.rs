@@ -64,14 +64,9 @@ pub fn checks_file(bytes: &[u8]) -> Verdict {
 pub fn scan_request() -> ScanRequest {
     ScanRequest {
         metric: umbral::metrics::MetricSource::builtin("reissner-nordstrom").unwrap(),
-        axes: vec![GridAxis {
-            name: "q".into(),
-            low: 0.0,
-            high: 0.9,
-            count: 4,
-        }],
+        axes: vec![GridAxis::new("q", 0.0, 0.9, 4)],
         fixed: vec![],
-        inclination_deg: 30.0,
+        inclination_deg: Some(30.0),
         settings: Default::default(),
         require_horizon: false,
     }
