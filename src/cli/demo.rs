@@ -1,7 +1,10 @@
 //! `umbral demo`: the job on the built-in invented scenario.
 //!
-//! The scenario is fiction: the nucleus of an invented giant elliptical galaxy, "Harrow's Reach",
-//! with a made-up black-hole mass, distance and viewing angle. No real source or data is used.
+//! The scenario is fiction: the nucleus of an invented nearby disk galaxy, "Lowmere", with a
+//! made-up black-hole mass, distance and viewing angle, seen by an invented space-ground array.
+//! The numbers were chosen to resemble no observed source: a mass (1.2e8 Msun) and distance
+//! (2.2 Mpc) that no imaged black hole has, a ring of about 6 μas that only an array with
+//! space baselines would resolve, and an inclination of 52°. No real source or data is used.
 
 use super::figure::{symbol, write_figure_set, FigureStyle, Theme};
 use super::infer::{json_report, samples_csv, verdict, write_corner_plot};
@@ -48,7 +51,7 @@ const CHECKS: &str = include_str!("../../examples/ci-checks.toml");
 /// this many pixels per side, blurred to this resolution (an invented array's beam).
 const DEMO_SPIN: f64 = 0.6;
 const DEMO_PIXELS: usize = 96;
-const DEMO_RESOLUTION_UAS: f64 = 10.0;
+const DEMO_RESOLUTION_UAS: f64 = 2.0;
 /// The model whose image the report shows, its files, and the PNG's gamma (a square-root
 /// stretch, so that the faint lensed light shows beside the bright direct image).
 const DEMO_IMAGE_MODEL: &str = "disk-horizon";
@@ -97,14 +100,17 @@ struct Scenario {
 }
 
 fn scenario() -> Scenario {
-    let (mass_msun, distance_mpc) = (5.4e9, 18.3);
+    let (mass_msun, distance_mpc) = (1.2e8, 2.2);
     Scenario {
-        name: "Harrow's Reach nucleus (an invented galaxy)",
+        name: "Lowmere nucleus (an invented galaxy)",
         mass_msun,
         distance_mpc,
-        inclination_deg: 25.0,
+        inclination_deg: 52.0,
         theta_g_uas: theta_g_uas(mass_msun, distance_mpc),
-        note: "all numbers are invented for this demonstration",
+        note: "all numbers are invented for this demonstration, and chosen to resemble no \
+               observed source: a mass and distance that no imaged black hole has, a ring of \
+               about 6 uas that only an invented array with space baselines (2 uas beam) \
+               resolves, and an inclination of 52 deg",
     }
 }
 
@@ -642,13 +648,12 @@ fn posterior(
         let csv = samples_csv(&inference, &assumptions);
         outputs.write(&out.join(POSTERIOR_SAMPLES), csv.as_bytes())?;
         let plot = out.join(POSTERIOR_PLOT);
-        write_corner_plot(
-            outputs,
-            &plot.to_string_lossy(),
-            &model,
-            &inference,
-            &Theme::new(FigureStyle::Paper),
-        )?;
+        let theme = Theme::new(FigureStyle::Paper);
+        let svg = write_corner_plot(outputs, &plot.to_string_lossy(), &model, &inference, &theme)?;
+        for ext in ["png", "pdf"] {
+            let path = plot.with_extension(ext);
+            super::figure::write_figure(outputs, &path.to_string_lossy(), &svg, &theme)?;
+        }
     }
     Ok(DemoPosterior {
         model,
@@ -696,7 +701,16 @@ fn exclusion_map(
     // The points go to a staged file (a fresh scan each time); the map is staged by the scan.
     let scan_staged = outputs.stage(&scan_path)?;
     let scan_args = super::scan::parse_args(&scan_args)?;
-    super::scan::run_in(&scan_args, &scan_staged, outputs, display)
+    let svg = super::scan::run_in(&scan_args, &scan_staged, outputs, display)?;
+    // The scan wrote the SVG; the same figure as PNG and PDF beside it.
+    if let Some(svg) = svg {
+        let theme = Theme::new(FigureStyle::Paper);
+        for ext in ["png", "pdf"] {
+            let path = out.join(format!("exclusion-kerr-newman.{ext}"));
+            super::figure::write_figure(outputs, &path.to_string_lossy(), &svg, &theme)?;
+        }
+    }
+    Ok(())
 }
 
 /// Everything the demo computed, for its files and its summary.

@@ -324,21 +324,22 @@ fn with_tables(
     }
 }
 
-/// Write the corner plot of a converged run to its staged file.
+/// Write the corner plot of a converged run to its staged file; returns its SVG text.
 pub(super) fn write_corner_plot(
     outputs: &mut OutputTransaction,
     path: &str,
     model: &PosteriorModel,
     inference: &Inference,
     theme: &Theme,
-) -> Result<(), CliError> {
+) -> Result<String, CliError> {
     let sources = match model.sources() {
         1 => "1 source".to_string(),
         k => format!("{k} sources"),
     };
     let title = format!("{}: posterior from {sources}", model.metric_info().title);
     let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
-    write_figure(outputs, path, &svg, theme)
+    write_figure(outputs, path, &svg, theme)?;
+    Ok(svg)
 }
 
 fn print_text(

@@ -6,6 +6,7 @@ use super::figure::{
     NO_HORIZON,
 };
 use super::plot::{draw_title, label_areas, plot_error, style_mesh, Chart};
+use super::plot_scan::axis_label;
 use super::CliError;
 use plotters::prelude::*;
 use umbral::bounds::{BoundResult, Inclination};
@@ -679,7 +680,12 @@ fn draw_exclusion_map(
             )
             .map_err(|e| e.to_string())?;
         // The mesh last, so its grid and frame sit on top of the shades.
-        style_mesh(&mut chart, theme, (&symbol(xn), &symbol(yn)), (7, 7))?;
+        style_mesh(
+            &mut chart,
+            theme,
+            (&axis_label(xn), &axis_label(yn)),
+            (7, 7),
+        )?;
         legend
             .draw_column(&legend_area, theme, (0.0, 0.0))
             .map_err(|e| e.to_string())

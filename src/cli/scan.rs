@@ -142,14 +142,15 @@ pub fn run(args: &ScanArgs, progress: &ProgressArgs) -> Result<(), CliError> {
 }
 
 /// The scan, writing its points to `points_file` (named `--out` in messages) and its figure
-/// into `outputs`, its progress shown by `display`. The points file is the scan's checkpoint,
-/// kept even if a later step fails; the figure appears only with the caller's commit.
+/// into `outputs`, its progress shown by `display`; returns the figure's SVG text, if any.
+/// The points file is the scan's checkpoint, kept even if a later step fails; the figure
+/// appears only with the caller's commit.
 pub fn run_in(
     args: &ScanArgs,
     points_file: &Path,
     outputs: &mut OutputTransaction,
     display: &mut dyn umbral::run::Observe,
-) -> Result<(), CliError> {
+) -> Result<Option<String>, CliError> {
     let axes = args
         .grid
         .iter()
@@ -249,6 +250,7 @@ pub fn run_in(
             let svg = exclusion_map(path, &theme, &figure)?;
             write_figure(outputs, path, &svg, &theme)?;
             outln!("  exclusion map written to '{path}'")?;
+            Ok(Some(svg))
         }
         (Some(path), _, _) => {
             let title = format!("{}{}", title_of(&request)?, inclination_words(&request));
@@ -261,10 +263,10 @@ pub fn run_in(
             let svg = observable_plot(path, &theme, &figure)?;
             write_figure(outputs, path, &svg, &theme)?;
             outln!("  figure written to '{path}'")?;
+            Ok(Some(svg))
         }
-        _ => {}
+        _ => Ok(None),
     }
-    Ok(())
 }
 
 /// `, θₒ = 17°` for a fixed inclination; nothing when the inclination is a grid axis.
