@@ -929,6 +929,10 @@ pub struct ShadowReport {
     pub photon_spheres: Vec<PhotonSphere>,
     /// The curve, when there is one.
     pub curve: Option<CurvePoints>,
+    /// Each curve point's photon orbit (radius, and γ when computed), when the solver knows
+    /// it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub orbits: Option<Vec<crate::shadow::CurveOrbit>>,
     /// For an observer at finite radius: the curve in celestial angles (screen coordinates
     /// are √g_θθ(r_o, θ_o) sin Θ along the direction Ψ).
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -1024,6 +1028,7 @@ pub fn shadow_report(
             _ => None,
         },
         curve,
+        orbits: result.orbits.clone(),
         diagnostics: result.diagnostics,
     })
 }

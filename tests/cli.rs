@@ -194,7 +194,10 @@ fn shadow_json_has_the_documented_keys() {
         "{}",
         String::from_utf8_lossy(&out.stderr)
     );
-    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    // Always a list, one element per parameter value.
+    let list: Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(list.as_array().map(Vec::len), Some(1));
+    let v = &list[0];
     for key in [
         "metric",
         "parameters",
@@ -238,7 +241,7 @@ fn shadow_json_has_the_documented_keys() {
         "10",
         "--json",
     ]);
-    let w: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let w: Value = serde_json::from_slice::<Value>(&out.stdout).unwrap()[0].clone();
     let theta = w["celestial"]["theta"][0].as_f64().unwrap();
     assert!(
         (theta - (4.0f64 * 0.9 / 10.0).asin()).abs() < 1e-12,
@@ -282,9 +285,16 @@ fn shadow_family_writes_csv_and_plot() {
     let v: Value = serde_json::from_slice(&out.stdout).unwrap();
     assert_eq!(v.as_array().unwrap().len(), 3);
     let text = std::fs::read_to_string(&csv).unwrap();
-    assert_eq!(text.lines().count(), 1 + 3 * 32);
+    // Three comment lines (version, command, assumptions), the heading, a row per point.
+    assert_eq!(text.lines().count(), 4 + 3 * 32);
+    assert!(text.starts_with("# umbral "), "{text}");
+    let heading = text.lines().nth(3).unwrap();
+    assert!(
+        heading.contains("alpha,beta,orbit_radius,gamma,mean_radius"),
+        "{heading}"
+    );
     let svg_text = std::fs::read_to_string(&svg).unwrap();
-    assert!(svg_text.starts_with("<svg") && svg_text.contains("alpha / M"));
+    assert!(svg_text.starts_with("<svg") && svg_text.contains("α / M"));
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -662,6 +672,100 @@ fn sizes_and_paths_are_checked_before_work() {
             "1",
         ],
         "horizon expression gives r = -1",
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn shadow_family_prints_one_row_per_member_and_latex() {
+    let args = [
+        "shadow",
+        "--metric",
+        "kerr",
+        "--set",
+        "a=0,0.5,0.9",
+        "--inclination",
+        "60",
+        "--points",
+        "32",
+    ];
+    let out = umbral(&args);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let text = String::from_utf8_lossy(&out.stdout);
+    let lines: Vec<&str> = text.lines().collect();
+    // The assumptions, the heading, one row per member.
+    assert_eq!(lines.len(), 5, "{text}");
+    assert!(lines[0].contains("boundary tolerance 1e-8 M"), "{text}");
+    assert!(
+        lines[1].starts_with("a ") && lines[1].contains("mean radius (M)"),
+        "{text}"
+    );
+    // Kerr a = 0 is Schwarzschild: 3√3 M to the tolerance's 8 decimals, no negative zero.
+    assert!(lines[2].contains("5.19615242"), "{text}");
+    assert!(!text.contains("-0.0000"), "{text}");
+    let mut latex_args = args.to_vec();
+    latex_args.push("--latex");
+    let out = umbral(&latex_args);
+    let latex = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        latex.contains("\\toprule") && latex.contains("\\bottomrule"),
+        "{latex}"
+    );
+    assert_eq!(
+        latex.lines().filter(|l| l.starts_with("$0.")).count(),
+        2,
+        "{latex}"
+    );
+}
+
+#[test]
+fn figures_are_written_as_svg_png_and_pdf_by_extension() {
+    let dir = std::env::temp_dir().join(format!("umbral-cli-fig-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    for (name, magic) in [
+        ("k.svg", &b"<svg"[..]),
+        ("k.png", &b"\x89PNG"[..]),
+        ("k.pdf", &b"%PDF-"[..]),
+    ] {
+        let path = dir.join(name);
+        let out = umbral(&[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--set",
+            "a=0.5",
+            "--inclination",
+            "30",
+            "--points",
+            "32",
+            "--style",
+            "slide",
+            "--plot",
+            path.to_str().unwrap(),
+        ]);
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let bytes = std::fs::read(&path).unwrap();
+        assert!(bytes.starts_with(magic), "{name}");
+    }
+    assert_one_line_error(
+        &[
+            "shadow",
+            "--metric",
+            "kerr",
+            "--inclination",
+            "30",
+            "--plot",
+            dir.join("k.jpg").to_str().unwrap(),
+        ],
+        ".svg, .png or .pdf",
     );
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -59,6 +59,7 @@ impl ShadowSolver for SchwarzschildCircle {
                 gamma_min: PI,
                 gamma_max: PI,
             }),
+            orbits: None,
             diagnostics: Diagnostics {
                 star_shaped: true,
                 ..Diagnostics::default()

@@ -829,3 +829,88 @@ fn cli_scan_takes_an_inclination_axis() {
         assert!(err.contains(needle), "'{err}' lacks '{needle}'");
     }
 }
+
+/// An exclusion map's refinement: the traced edge of the horizon's existence lies on the
+/// Kerr–Newman extremal curve a² + q² = 1 (horizons at r± = 1 ± √(1 − a² − q²): Newman et al.
+/// 1965, J. Math. Phys. 6, 918), and the refined allowed region of a measured mean radius
+/// ends where the shadow's mean radius crosses the interval's edge, to well within a fine step.
+#[test]
+fn refinement_traces_the_horizon_edge_and_the_allowed_edge() {
+    use umbral::bounds::SizeMeasure;
+    use umbral::run::Controls;
+    use umbral::scan::refine::{refine, RefineRequest};
+    let request = ScanRequest {
+        metric: MetricSource::builtin("kerr-newman").unwrap(),
+        axes: vec![
+            GridAxis::new("a", 0.0, 0.98, 8),
+            GridAxis::new("q", 0.0, 1.0, 8),
+        ],
+        fixed: vec![],
+        inclination_deg: Some(17.0),
+        settings: Default::default(),
+        require_horizon: false,
+    };
+    let path = temp("refine.jsonl");
+    let summary = run_scan(&request, &path, &|_, _| {}).unwrap();
+    let interval = [4.9, 6.0];
+    let map = refine(
+        &request,
+        &summary.points,
+        &RefineRequest {
+            factor: 4,
+            measure: SizeMeasure::Mean,
+            intervals: vec![interval],
+            circularity_max: None,
+        },
+        Controls::default(),
+    )
+    .unwrap();
+    assert_eq!((map.x.len(), map.y.len()), (29, 29));
+    assert!(map.computed > 0);
+    let edge: Vec<(f64, f64)> = map.horizon_edge.iter().flatten().copied().collect();
+    assert!(edge.len() > 20, "{edge:?}");
+    for (a, q) in &edge {
+        assert!((a * a + q * q - 1.0).abs() < 1e-9, "({a}, {q})");
+    }
+    // Along q at a = x[i]: where the allowed field changes sign between computed nodes, the
+    // linear crossing matches the mean radius's crossing of 4.9 to a small part of a step.
+    let nx = map.x.len();
+    let field = map.allowed_field(0);
+    let mut checked = 0;
+    for i in (0..nx).step_by(4) {
+        for j in 0..map.y.len() - 1 {
+            let (f0, f1) = (field[j * nx + i], field[(j + 1) * nx + i]);
+            let computed = |k: usize| matches!(map.nodes[k], umbral::scan::refine::FineNode::Point(ref p) if p.status == "shadow");
+            if f0 >= 0.0 && f1 < 0.0 && computed(j * nx + i) && computed((j + 1) * nx + i) {
+                let t = f0 / (f0 - f1);
+                let q = map.y[j] + t * (map.y[j + 1] - map.y[j]);
+                let metric = umbral::metrics::KerrNewman::new(map.x[i], q).unwrap();
+                let observer = umbral::shadow::Observer::distant(17f64.to_radians());
+                let r = umbral::observables::shadow(
+                    &metric,
+                    &umbral::observables::ShadowRequest {
+                        observer,
+                        settings: Default::default(),
+                        centre: umbral::observables::CentreChoice::Centroid,
+                        curve_only: false,
+                    },
+                )
+                .unwrap()
+                .observables
+                .unwrap()
+                .mean_radius;
+                let step = map.y[j + 1] - map.y[j];
+                // The mean radius changes by about 0.02 M per fine step here: 1e-3 M is a
+                // twentieth of a step.
+                assert!(
+                    (r - interval[0]).abs() < 1e-3,
+                    "a = {}, q = {q}: {r} (step {step})",
+                    map.x[i]
+                );
+                checked += 1;
+            }
+        }
+    }
+    assert!(checked >= 3, "{checked}");
+    std::fs::remove_file(&path).ok();
+}

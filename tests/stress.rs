@@ -191,8 +191,9 @@ fn run_probe(p: &Probe) -> (Option<Value>, Vec<String>) {
             return (None, problems);
         }
     }
-    let v: Value = match serde_json::from_slice(&json.stdout) {
-        Ok(v) => v,
+    // `shadow --json` prints a list of one element per parameter value.
+    let v: Value = match serde_json::from_slice::<Value>(&json.stdout) {
+        Ok(v) => v[0].clone(),
         Err(e) => {
             problems.push(format!("stdout is not JSON: {e}"));
             return (None, problems);
@@ -1032,7 +1033,11 @@ fn raytracer_against_exact_solvers() {
         let ex = Invocation::new(&dir, shadow_args(ex_metric, ex_sets, incl, &common_args)).run();
         let mut problems = printed_problems(&rt);
         problems.extend(printed_problems(&ex));
-        let parse = |o: &Outcome| serde_json::from_slice::<Value>(&o.stdout).ok();
+        let parse = |o: &Outcome| {
+            serde_json::from_slice::<Value>(&o.stdout)
+                .ok()
+                .map(|v| v[0].clone())
+        };
         let (status, diff) = match (rt.code, parse(&rt), parse(&ex)) {
             (Some(2), _, _) if rt.stderr_text().lines().count() == 1 => {
                 ("refused".to_string(), None)

@@ -19,6 +19,7 @@ mod plot_scan;
 mod progress;
 mod scan;
 mod shadow;
+mod tables;
 mod verify;
 
 use clap::{Parser, Subcommand};

@@ -3,11 +3,12 @@
 use super::args::{parse_finite, parse_set_family, MetricChoice};
 use super::figure::{symbol, write_figure, FigureStyle, Theme};
 use super::plot::{screen_curves, stage_plot, ScreenCurve, ScreenFigure};
+use super::tables::{decimals_for, fixed, Column, Table};
 use super::CliError;
 use clap::{Args, ValueEnum};
 use std::path::Path;
 use umbral::metric::Spacetime;
-use umbral::numfmt::Num;
+use umbral::numfmt::{short, Num};
 pub use umbral::observables::ShadowReport;
 use umbral::observables::{CentreChoice, Observables, Quantity};
 use umbral::output::OutputTransaction;
@@ -48,10 +49,15 @@ pub struct ShadowArgs {
     /// Angular gravitational radius theta_g = GM/(c^2 D) in micro-arcseconds, to print sizes in uas.
     #[arg(long = "mass-distance-uas", allow_hyphen_values = true)]
     mass_distance_uas: Option<String>,
-    /// Print JSON instead of a table.
+    /// Print JSON instead of a table: always a list, one element per parameter value.
     #[arg(long)]
     json: bool,
-    /// Write the curve(s) as CSV.
+    /// Print the observables as a LaTeX (booktabs) table, one row per parameter value.
+    #[arg(long, conflicts_with = "json")]
+    latex: bool,
+    /// Write the curve(s) as CSV: one row per curve point with the parameters, the point,
+    /// its photon orbit where the solver knows it, and the curve's observables; a comment
+    /// header names umbral's version, the command and the assumptions.
     #[arg(long, value_name = "FILE")]
     csv: Option<String>,
     /// Write a figure of the curve(s): SVG, PNG or PDF by the extension.
@@ -216,14 +222,192 @@ fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError>
     Ok(())
 }
 
-/// The curves as CSV text.
-fn csv_text(reports: &[ShadowReport]) -> String {
-    let mut text = String::from("curve,alpha,beta\n");
-    for (i, rep) in reports.iter().enumerate() {
-        if let Some(c) = &rep.curve {
-            for (a, b) in c.alpha.iter().zip(&c.beta) {
-                text.push_str(&format!("{i},{a:.17e},{b:.17e}\n"));
+/// What every curve of a run assumed, in words.
+fn assumptions(rep: &ShadowReport, settings: &ShadowSettings, centre: CentreChoice) -> String {
+    format!(
+        "inclination {} deg, {}, solver {} ({} points, boundary tolerance {} M), radii about the {}",
+        short(rep.inclination_deg, 6),
+        match rep.observer_radius {
+            Some(r) => format!("observer at r = {} M", short(r, 6)),
+            None => "distant observer".to_string(),
+        },
+        rep.solver,
+        settings.points,
+        Num(settings.tolerance),
+        match centre {
+            CentreChoice::Centroid => "area centroid",
+            CentreChoice::Midpoint => "horizontal midpoint",
+        }
+    )
+}
+
+/// The parameters that differ between the members of a family (all of them for one member).
+fn varying(reports: &[ShadowReport]) -> Vec<String> {
+    let first = &reports[0].parameters;
+    let names: Vec<String> = first
+        .keys()
+        .filter(|k| {
+            reports
+                .iter()
+                .any(|r| r.parameters.get(*k) != first.get(*k))
+        })
+        .cloned()
+        .collect();
+    if names.is_empty() {
+        first.keys().cloned().collect()
+    } else {
+        names
+    }
+}
+
+/// One row per family member: the varied parameters, the solver, and the observables to the
+/// decimals the boundary tolerance supports.
+fn family_table(
+    reports: &[ShadowReport],
+    settings: &ShadowSettings,
+    theta_g: Option<f64>,
+) -> Table {
+    let names = varying(reports);
+    let d = decimals_for(settings.tolerance);
+    let mut columns: Vec<Column> = names
+        .iter()
+        .map(|n| Column::new(n.clone(), format!("${}$", latex_symbol(n))))
+        .collect();
+    columns.extend([
+        Column::new("solver", "solver"),
+        Column::new("mean radius (M)", "$\\bar r/M$"),
+        Column::new("area radius (M)", "$r_A/M$"),
+        Column::new("circularity deviation", "$\\Delta C$"),
+        Column::new("centroid offset (M)", "$\\delta\\alpha/M$"),
+        Column::new("fractional deviation", "$\\delta$"),
+        Column::new("gamma", "$\\gamma$"),
+    ]);
+    if theta_g.is_some() {
+        columns.push(Column::new("mean diameter (uas)", "$2\\bar r$ ($\\mu$as)"));
+    }
+    let mut rows = Vec::new();
+    for rep in reports {
+        let mut row: Vec<String> = names
+            .iter()
+            .map(|n| short(rep.parameters.get(n).copied().unwrap_or(f64::NAN), 12))
+            .collect();
+        row.push(rep.solver.to_string());
+        match &rep.observables {
+            Some(o) => {
+                row.push(fixed(o.mean_radius, d));
+                row.push(fixed(o.area_radius, d));
+                // Pure numbers of order r/M's relative accuracy, tolerance / 5 M.
+                row.push(fixed(
+                    o.circularity_deviation,
+                    decimals_for(settings.tolerance / 5.0),
+                ));
+                row.push(fixed(o.centroid_offset, d));
+                row.push(fixed(
+                    o.fractional_deviation_mean,
+                    decimals_for(settings.tolerance / 5.0),
+                ));
+                row.push(match &rep.exponents {
+                    Some(e) if e.gamma_min == e.gamma_max => fixed(e.gamma_min, 6),
+                    Some(e) => format!("{}..{}", fixed(e.gamma_min, 6), fixed(e.gamma_max, 6)),
+                    None => "-".to_string(),
+                });
+                if let Some(t) = theta_g {
+                    row.push(fixed(
+                        2.0 * o.mean_radius * t,
+                        decimals_for(settings.tolerance * t),
+                    ));
+                }
             }
+            None => {
+                let blanks = if theta_g.is_some() { 7 } else { 6 };
+                row.extend(std::iter::repeat_n("-".to_string(), blanks));
+                if let Some(cell) = row.get_mut(names.len() + 1) {
+                    *cell = rep.status.to_string();
+                }
+            }
+        }
+        rows.push(row);
+    }
+    Table { columns, rows }
+}
+
+/// A parameter name in LaTeX math: Greek names as commands, trailing digits as a subscript.
+fn latex_symbol(name: &str) -> String {
+    let split = name.trim_end_matches(|c: char| c.is_ascii_digit()).len();
+    let (stem, digits) = name.split_at(split);
+    let greek = [
+        "alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda",
+        "mu", "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega",
+    ];
+    let stem = match stem {
+        "eps" => "\\epsilon".to_string(),
+        s if greek.contains(&s) => format!("\\{s}"),
+        s => s.replace('_', "\\_"),
+    };
+    if digits.is_empty() {
+        stem
+    } else {
+        format!("{stem}_{{{digits}}}")
+    }
+}
+
+/// The curves as CSV: a comment header (umbral's version, the command, the assumptions),
+/// then one row per curve point with its family member's parameters, the point, its photon
+/// orbit (radius and γ, empty where the solver does not know them) and the member's
+/// observables.
+fn csv_text(reports: &[ShadowReport], settings: &ShadowSettings, centre: CentreChoice) -> String {
+    let command: Vec<String> = std::iter::once("umbral".to_string())
+        .chain(std::env::args().skip(1))
+        .map(|a| {
+            if a.contains([' ', '"', '\'']) {
+                format!("'{a}'")
+            } else {
+                a
+            }
+        })
+        .collect();
+    let mut text = format!(
+        "# umbral {} critical curves\n# command: {}\n# assumptions: {}\n",
+        env!("CARGO_PKG_VERSION"),
+        command.join(" "),
+        assumptions(&reports[0], settings, centre)
+    );
+    let names: Vec<String> = reports[0].parameters.keys().cloned().collect();
+    let quantities = [
+        Quantity::MeanRadius,
+        Quantity::AreaRadius,
+        Quantity::CircularityDeviation,
+        Quantity::CentroidOffset,
+        Quantity::FractionalDeviationMean,
+    ];
+    let mut head: Vec<String> = vec!["member".into()];
+    head.extend(names.iter().cloned());
+    head.extend(["point", "alpha", "beta", "orbit_radius", "gamma"].map(String::from));
+    head.extend(quantities.iter().map(|q| q.name().to_string()));
+    text.push_str(&head.join(","));
+    text.push('\n');
+    let num = |x: f64| format!("{x:.17e}");
+    for (i, rep) in reports.iter().enumerate() {
+        let Some(c) = &rep.curve else { continue };
+        let observed: Vec<String> = quantities
+            .iter()
+            .map(|q| {
+                rep.observables
+                    .as_ref()
+                    .map(|o| num(o.get(*q)))
+                    .unwrap_or_default()
+            })
+            .collect();
+        for (k, (a, b)) in c.alpha.iter().zip(&c.beta).enumerate() {
+            let mut row = vec![i.to_string()];
+            row.extend(names.iter().map(|n| umbral::numfmt::num(rep.parameters[n])));
+            row.extend([k.to_string(), num(*a), num(*b)]);
+            let orbit = rep.orbits.as_ref().and_then(|o| o.get(k));
+            row.push(orbit.map(|o| num(o.radius)).unwrap_or_default());
+            row.push(orbit.and_then(|o| o.gamma).map(num).unwrap_or_default());
+            row.extend(observed.iter().cloned());
+            text.push_str(&row.join(","));
+            text.push('\n');
         }
     }
     text
@@ -292,7 +476,8 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         .map(|m| shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre))
         .collect::<Result<_, _>>()?;
     if let Some(path) = &args.csv {
-        outputs.write(Path::new(path), csv_text(&reports).as_bytes())?;
+        let text = csv_text(&reports, &settings, centre);
+        outputs.write(Path::new(path), text.as_bytes())?;
     }
     if let Some(path) = &args.plot {
         let curves = screen_curves_of(&reports);
@@ -312,15 +497,30 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
         write_figure(&mut outputs, path, &svg, &theme)?;
     }
     if args.json {
-        let text = if reports.len() == 1 {
-            serde_json::to_string_pretty(&reports[0])
-        } else {
-            serde_json::to_string_pretty(&reports)
-        };
-        outln!("{}", text.expect("serialisable"))?;
+        let text = serde_json::to_string_pretty(&reports).expect("serialisable");
+        outln!("{text}")?;
+    } else if args.latex {
+        let caption = format!(
+            "{}: observables of the critical curve, {}",
+            metrics[0].info().title,
+            assumptions(&reports[0], &settings, centre)
+        );
+        super::out::write_text(&family_table(&reports, &settings, theta_g).latex(&caption))?;
+    } else if reports.len() == 1 {
+        print_table(&reports[0], theta_g)?;
     } else {
-        for rep in &reports {
-            print_table(rep, theta_g)?;
+        outln!(
+            "{}: {}",
+            metrics[0].info().title,
+            assumptions(&reports[0], &settings, centre)
+        )?;
+        super::out::write_text(&family_table(&reports, &settings, theta_g).terminal())?;
+        for rep in reports.iter().filter(|r| r.reason.is_some()) {
+            outln!(
+                "  {}: {}",
+                super::args::parameter_summary(&rep.parameters),
+                rep.reason.as_deref().unwrap_or_default()
+            )?;
         }
     }
     outputs.commit()?;

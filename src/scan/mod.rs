@@ -126,6 +126,12 @@ impl GridAxis {
     }
 
     /// The i-th grid value.
+    ///
+    /// ```
+    /// use umbral::scan::GridAxis;
+    /// assert_eq!(GridAxis::new("q", 0.0, 0.9, 10).value(3), 0.3);
+    /// assert_eq!(GridAxis::new("q", 0.0, 1.0, 4).value(1), 1.0 / 3.0);
+    /// ```
     pub fn value(&self, i: usize) -> f64 {
         if let Some(values) = &self.values {
             values[i]
@@ -134,9 +140,38 @@ impl GridAxis {
         } else if i + 1 == self.count {
             self.high
         } else {
-            self.low + (self.high - self.low) * i as f64 / (self.count - 1) as f64
+            let x = self.low + (self.high - self.low) * i as f64 / (self.count - 1) as f64;
+            // Rounded to the grid's own decimals (those of its ends and step), so that
+            // 0:0.9:10 gives 0.3, not 0.30000000000000004; a step without a short decimal
+            // form (0:1:4) leaves the values as computed.
+            let step = (self.high - self.low) / (self.count - 1) as f64;
+            let decimals = [self.low, self.high, step]
+                .iter()
+                .map(|v| short_decimals(*v))
+                .collect::<Option<Vec<usize>>>()
+                .and_then(|d| d.into_iter().max());
+            match decimals {
+                Some(d) if d <= 12 => format!("{x:.d$}").parse().unwrap_or(x),
+                _ => x,
+            }
         }
     }
+}
+
+/// The decimals of the shortest decimal form of `x` (`0.3` → 1, `2` → 0, `1e-3` → 3), or
+/// `None` if it needs more than 15 significant digits (no short form).
+fn short_decimals(x: f64) -> Option<usize> {
+    if x == 0.0 {
+        return Some(0);
+    }
+    let s = format!("{:e}", x.abs());
+    let (mantissa, exponent) = s.split_once('e')?;
+    let exponent: i32 = exponent.parse().ok()?;
+    let digits = mantissa.replace('.', "").len() as i32;
+    if digits > 15 {
+        return None;
+    }
+    Some((digits - 1 - exponent).max(0) as usize)
 }
 
 /// What to scan.

@@ -117,6 +117,7 @@ pub fn singular_exterior(
         photon_orbit_radii: None,
         photon_spheres: Vec::new(),
         exponents: None,
+        orbits: None,
         diagnostics: Diagnostics::default(),
     })
 }
@@ -216,9 +217,26 @@ pub struct ShadowResult {
     /// Photon-ring exponents; `None` when the solver does not compute them or they are
     /// undefined for this curve (the reason is in `diagnostics.exponents_undefined`).
     pub exponents: Option<RingExponents>,
+    /// Each curve point's photon orbit, in the order of the curve's points, when the solver
+    /// knows it (the spherical and separable solvers; a ray tracer does not).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub orbits: Option<Vec<CurveOrbit>>,
     /// Counts, timing and checks of the run.
     pub diagnostics: Diagnostics,
 }
+
+/// The bound photon orbit behind one curve point.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct CurveOrbit {
+    /// Its Boyer–Lindquist-like radius r, in M.
+    pub radius: f64,
+    /// Its demagnification exponent γ per half orbit (Johnson et al. 2020), when computed.
+    pub gamma: Option<f64>,
+}
+
+/// Curves with at most this many points get γ at every point (beyond, only γ's range: one
+/// evaluation per point would dominate the cost of long curves).
+pub const POINT_GAMMA_MAX: usize = 4096;
 
 /// A parameter point classified by whether it casts a shadow (issue 10, item 7): what the
 /// bound engine and scans record for it.

@@ -1502,6 +1502,7 @@ impl RaytraceReport {
             photon_orbit_radii: None,
             photon_spheres: Vec::new(),
             exponents: None,
+            orbits: None,
             diagnostics,
         };
         if let Some(failure) = self.first_failure() {

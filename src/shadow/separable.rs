@@ -70,8 +70,8 @@
 use super::exponents::separable_gamma;
 use super::observer::{zamo_tetrad, Observer, Tetrad};
 use super::{
-    structure_why, CriticalCurve, Diagnostics, RingExponents, ShadowError, ShadowResult,
-    ShadowSettings, ShadowStatus,
+    structure_why, CriticalCurve, CurveOrbit, Diagnostics, RingExponents, ShadowError,
+    ShadowResult, ShadowSettings, ShadowStatus, POINT_GAMMA_MAX,
 };
 use crate::geodesic::null_radial_momentum;
 use crate::metric::{PotentialJet, Spacetime};
@@ -246,6 +246,8 @@ struct Sampled {
     extra_crossings: Vec<(f64, Vec<f64>)>,
     /// Where γ is evaluated.
     gamma_source: GammaSource,
+    /// The orbit parameter s of each curve point's photon orbit (the outer crossing's).
+    orbit_s: Vec<f64>,
 }
 
 fn not_converged(what: String) -> ShadowError {
@@ -260,6 +262,7 @@ fn no_shadow(reason: String) -> ShadowResult {
         photon_orbit_radii: None,
         photon_spheres: Vec::new(),
         exponents: None,
+        orbits: None,
         diagnostics: Diagnostics::default(),
     }
 }
@@ -949,6 +952,7 @@ impl<'a> Problem<'a> {
             star_shaped: true,
             extra_crossings: Vec::new(),
             gamma_source: GammaSource::Single(orbit),
+            orbit_s: Vec::new(),
         };
         self.finish(sampled, radii)
     }
@@ -993,13 +997,14 @@ impl<'a> Problem<'a> {
         let radius_of = |(x, y): (f64, f64)| (x - x0).hypot(y);
 
         let mut radii = vec![0.0; n];
+        let mut orbit_s = vec![f64::NAN; n];
         let mut extra_crossings = Vec::new();
         for (k, radius) in radii.iter_mut().enumerate().take(n / 2 + 1) {
             let target = TAU * k as f64 / n as f64;
             let mut crossings = Vec::new();
             for (j, &psi) in psis.iter().enumerate() {
                 if psi == target {
-                    crossings.push(radius_of(points[j]));
+                    crossings.push((radius_of(points[j]), s_of(angle(j))));
                 }
             }
             for j in 0..TABLE_INTERVALS {
@@ -1054,20 +1059,27 @@ impl<'a> Problem<'a> {
                         settings.tolerance
                     )));
                 }
-                crossings.push(r);
+                crossings.push((r, s));
             }
-            let Some(outer) = crossings.iter().copied().reduce(f64::max) else {
+            let Some((outer, outer_s)) =
+                crossings
+                    .iter()
+                    .copied()
+                    .reduce(|a, b| if b.0 > a.0 { b } else { a })
+            else {
                 return Err(not_converged(format!(
                     "no curve point at screen angle {target}: the origin lies outside the curve"
                 )));
             };
             *radius = outer;
+            orbit_s[k] = outer_s;
             if crossings.len() > 1 {
-                extra_crossings.push((target, crossings));
+                extra_crossings.push((target, crossings.iter().map(|c| c.0).collect()));
             }
         }
         for k in n / 2 + 1..n {
             radii[k] = radii[n - k];
+            orbit_s[k] = orbit_s[n - k];
         }
         Ok(Sampled {
             origin: [x0, 0.0],
@@ -1075,6 +1087,7 @@ impl<'a> Problem<'a> {
             star_shaped: star_shaped && extra_crossings.is_empty(),
             extra_crossings,
             gamma_source: GammaSource::Along { family, s_lo, s_hi },
+            orbit_s,
         })
     }
 
@@ -1127,6 +1140,32 @@ impl<'a> Problem<'a> {
         Ok((range[0], range[1]))
     }
 
+    /// Each curve point's photon orbit: its radius, and its γ when the exponents are wanted
+    /// and the curve has at most [`POINT_GAMMA_MAX`] points (beyond, only γ's range). `None`
+    /// if any orbit cannot be re-solved (the curve itself stands).
+    fn point_orbits(&self, sampled: &Sampled, with_gamma: bool) -> Option<Vec<CurveOrbit>> {
+        let n = sampled.radii.len();
+        let with_gamma = with_gamma && n <= POINT_GAMMA_MAX;
+        let orbit_at = |s: f64| -> Result<SphericalOrbit, ShadowError> {
+            match sampled.gamma_source {
+                GammaSource::Single(o) => Ok(o),
+                GammaSource::Along { family, .. } => self.orbit(family, s),
+            }
+        };
+        let mut out = Vec::with_capacity(n);
+        for k in 0..n {
+            let s = sampled.orbit_s.get(k).copied().unwrap_or(f64::NAN);
+            let o = orbit_at(s).ok()?;
+            let gamma = if with_gamma {
+                separable_gamma(self.spacetime, o.r, o.lambda, o.eta).ok()
+            } else {
+                None
+            };
+            out.push(CurveOrbit { radius: o.r, gamma });
+        }
+        Some(out)
+    }
+
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
         // The curve does not depend on γ: `None`, with the reason, if any evaluation fails.
         let (range, undefined) = if !self.with_exponents {
@@ -1142,6 +1181,7 @@ impl<'a> Problem<'a> {
             gamma_min: lo,
             gamma_max: hi,
         });
+        let orbits = self.point_orbits(&sampled, exponents.is_some());
         Ok(ShadowResult {
             solver: NAME,
             status: ShadowStatus::Shadow,
@@ -1152,6 +1192,7 @@ impl<'a> Problem<'a> {
             photon_orbit_radii: Some(radii),
             photon_spheres: Vec::new(),
             exponents,
+            orbits,
             diagnostics: Diagnostics {
                 star_shaped: sampled.star_shaped,
                 extra_crossings: sampled.extra_crossings,

@@ -464,6 +464,7 @@ pub fn solve(
             photon_orbit_radii: None,
             photon_spheres: analysis.spheres,
             exponents: None,
+            orbits: None,
             diagnostics: diagnostics(start),
         });
     };
@@ -493,6 +494,14 @@ pub fn solve(
         }),
         photon_orbit_radii: Some([capture.radius, capture.radius]),
         photon_spheres: analysis.spheres,
+        // Every point of the circle comes from the photon sphere that bounds capture.
+        orbits: Some(vec![
+            super::CurveOrbit {
+                radius: capture.radius,
+                gamma: exponents.as_ref().map(|e| e.gamma_min),
+            };
+            settings.points
+        ]),
         exponents,
         diagnostics: Diagnostics {
             exponents_undefined: undefined,
