@@ -599,3 +599,52 @@ fn jnw_bound_counts_horizonless_shadows() {
         "{strict}"
     );
 }
+
+/// A horizon edge with a short decimal form is printed as that edge: Reissner–Nordström has a
+/// horizon exactly for |q| ≤ 1 (r± = 1 ± √(1 − q²); e.g. Wald 1984, General Relativity, §12.2),
+/// so the no-horizon range starts at 1 exactly, not at a bisection's 0.999999998.
+#[test]
+fn a_horizon_edge_on_a_short_decimal_is_exact() {
+    let file = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/examples/measurement_deviation.toml"
+    );
+    let (code, out, err) = umbral(&[
+        "bound",
+        "--metric",
+        "reissner-nordstrom",
+        "--vary",
+        "q=0:1.2",
+        "--inclination",
+        "17",
+        "--measurement",
+        file,
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let v: serde_json::Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(v["no_horizon"][0][0].as_f64(), Some(1.0), "{out}");
+    // The same bound as a booktabs table, its assumptions as comment lines above it.
+    let (code, latex, err) = umbral(&[
+        "bound",
+        "--metric",
+        "reissner-nordstrom",
+        "--vary",
+        "q=0:1.2",
+        "--inclination",
+        "17",
+        "--measurement",
+        file,
+        "--latex",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    assert!(
+        latex.contains("% bound on q of reissner-nordstrom; no horizon: [1, 1.2]"),
+        "{latex}"
+    );
+    assert!(latex.contains("% - size measure:"), "{latex}");
+    assert!(
+        latex.contains("\\toprule") && latex.contains("$0.68$ &"),
+        "{latex}"
+    );
+}

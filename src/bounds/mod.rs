@@ -300,6 +300,21 @@ pub struct BoundResult {
     pub predicted: Vec<PredictedPoint>,
 }
 
+/// An end of a range: exactly when it is a short decimal (a range edge as given, or a horizon
+/// edge moved onto its exact value), else to `digits` decimals; never a negative zero.
+pub fn end_value(x: f64, digits: usize) -> String {
+    let short = crate::numfmt::short(x, 8);
+    if short.parse::<f64>() == Ok(x) {
+        short
+    } else {
+        let s = format!("{x:.digits$}");
+        match s.strip_prefix('-') {
+            Some(rest) if rest.chars().all(|c| c == '0' || c == '.') => rest.to_string(),
+            _ => s,
+        }
+    }
+}
+
 impl BoundResult {
     /// What an end `x` of an allowed range stands on, when it is not a crossing of the measured
     /// interval: `range edge` (the end of the varied range: the bound may go further),
@@ -330,8 +345,8 @@ impl BoundResult {
             return "none".into();
         }
         let end = |x: f64| match self.end_kind(x) {
-            Some(kind) => format!("{x:.digits$} ({kind})"),
-            None => format!("{x:.digits$}"),
+            Some(kind) => format!("{} ({kind})", end_value(x, digits)),
+            None => end_value(x, digits),
         };
         let text = allowed
             .iter()

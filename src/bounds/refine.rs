@@ -519,5 +519,64 @@ pub(super) fn result(
     for (level, only) in result.levels.iter_mut().zip(ends) {
         level.only_range_ends = only;
     }
+    snap_horizon_edges(prep, &mut result);
     result
+}
+
+/// A horizon edge found by bisection (to about 1e-8) that sits on a short decimal (7
+/// significant digits, e.g. the extremal q = 1 of Reissner–Nordström) is moved onto it when
+/// the metric confirms it there: a horizon at the decimal and none just past it (1e-10
+/// further). Ends of allowed ranges on that edge move with it. Only without nuisance
+/// parameters, where the edge is the metric's own and not the edge of a nuisance box.
+fn snap_horizon_edges(prep: &Prepared, result: &mut BoundResult) {
+    let request = prep.request;
+    if !request.nuisance.is_empty() {
+        return;
+    }
+    let has_horizon = |x: f64| {
+        let mut assignments = request.fixed.clone();
+        assignments.push((request.vary.name.clone(), x));
+        request
+            .metric
+            .build(&assignments)
+            .map(|m| {
+                matches!(
+                    m.classify(),
+                    crate::metric::Classification::BlackHole { .. }
+                )
+            })
+            .unwrap_or(false)
+    };
+    let (lo, hi) = (request.vary.low, request.vary.high);
+    let mut moved: Vec<(f64, f64)> = Vec::new();
+    for range in result.no_horizon.iter_mut() {
+        for (k, outward) in [(0usize, 1.0f64), (1, -1.0)] {
+            let y = range[k];
+            if y == lo || y == hi {
+                continue;
+            }
+            let Ok(c) = format!("{y:.6e}").parse::<f64>() else {
+                continue;
+            };
+            // `outward` points into the range without a horizon.
+            let step = 1e-10 * (1.0 + c.abs());
+            if c != y
+                && (c - y).abs() <= 1e-7 * (1.0 + y.abs())
+                && has_horizon(c)
+                && !has_horizon(c + outward * step)
+            {
+                range[k] = c;
+                moved.push((y, c));
+            }
+        }
+    }
+    for level in result.levels.iter_mut() {
+        for range in level.allowed.iter_mut() {
+            for end in range.iter_mut() {
+                if let Some(&(_, c)) = moved.iter().find(|(y, _)| y == end) {
+                    *end = c;
+                }
+            }
+        }
+    }
 }

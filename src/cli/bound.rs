@@ -6,14 +6,17 @@ use super::interrupt;
 use super::plot::stage_plot;
 use super::plot_bounds::{bound_plot, bound_title};
 use super::progress::ProgressArgs;
+use super::tables::{fixed, Column, Table};
 use super::CliError;
 use clap::Args;
 use std::io::Write;
 use std::path::{Path, PathBuf};
+use umbral::bounds::end_value;
 use umbral::bounds::{
     BoundError, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange,
 };
 use umbral::measurement::Measurement;
+use umbral::numfmt::short;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
 use umbral::run::bound::{
@@ -56,6 +59,10 @@ pub struct BoundArgs {
     /// Print JSON instead of a table.
     #[arg(long)]
     json: bool,
+    /// Print the bound as a LaTeX (booktabs) table, one row per confidence level, with its
+    /// assumptions as comment lines above it.
+    #[arg(long, conflicts_with = "json")]
+    latex: bool,
     /// Write a figure: SVG, PNG or PDF by the extension.
     #[arg(long, value_name = "FILE")]
     plot: Option<String>,
@@ -196,7 +203,7 @@ fn ranges(r: &[[f64; 2]]) -> String {
         "none".into()
     } else {
         r.iter()
-            .map(|[a, b]| format!("[{a:.9}, {b:.9}]"))
+            .map(|[a, b]| format!("[{}, {}]", end_value(*a, 8), end_value(*b, 8)))
             .collect::<Vec<_>>()
             .join(" U ")
     }
@@ -227,6 +234,8 @@ pub fn run(args: &BoundArgs, progress: &ProgressArgs) -> Result<(), CliError> {
         let text = serde_json::to_string_pretty(&result)
             .map_err(|e| CliError::usage(format!("cannot serialise the result: {e}")))?;
         outln!("{text}")?;
+    } else if args.latex {
+        super::out::write_text(&latex_result(&result))?;
     } else {
         print_result(&result)?;
     }
@@ -334,6 +343,43 @@ fn bound_error(e: BoundRunError) -> CliError {
     }
 }
 
+/// The bound as a booktabs table: confidence, the measured interval of the size, the allowed
+/// ranges; the assumptions above it as comment lines.
+fn latex_result(result: &BoundResult) -> String {
+    let columns = vec![
+        Column::new("confidence", "confidence"),
+        Column::new("r_sh/M low", "$r_{\\rm sh}/M$ low"),
+        Column::new("r_sh/M high", "$r_{\\rm sh}/M$ high"),
+        Column::new(
+            format!("allowed {}", result.vary.name),
+            format!("allowed ${}$", result.vary.name),
+        ),
+    ];
+    let rows = result
+        .levels
+        .iter()
+        .map(|l| {
+            vec![
+                short(l.confidence, 6),
+                fixed(l.radius_interval[0], 6),
+                fixed(l.radius_interval[1], 6),
+                result.describe_allowed(&l.allowed, 8),
+            ]
+        })
+        .collect();
+    let mut text = format!(
+        "% bound on {} of {}; no horizon: {}; no shadow: {}\n% assumptions:\n",
+        result.vary.name,
+        result.metric,
+        ranges(&result.no_horizon),
+        ranges(&result.no_shadow)
+    );
+    for a in &result.assumptions {
+        text.push_str(&format!("% - {a}\n"));
+    }
+    text + &Table { columns, rows }.latex(&format!("bound on {}", result.vary.name))
+}
+
 fn print_result(result: &BoundResult) -> Result<(), CliError> {
     outln!(
         "bound on {} for metric {} over [{}, {}]",
@@ -348,7 +394,7 @@ fn print_result(result: &BoundResult) -> Result<(), CliError> {
             l.confidence,
             l.radius_interval[0],
             l.radius_interval[1],
-            result.describe_allowed(&l.allowed, 9)
+            result.describe_allowed(&l.allowed, 8)
         )?;
     }
     if !result.horizonless.is_empty() {

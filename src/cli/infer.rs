@@ -6,11 +6,13 @@ use super::interrupt;
 use super::plot::stage_plot;
 use super::plot_posterior::corner_plot;
 use super::progress::ProgressArgs;
+use super::tables::{fixed, Column, Table};
 use super::CliError;
 use clap::{Args, ValueEnum};
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use umbral::measurement::Measurement;
+use umbral::numfmt::short;
 use umbral::output::OutputTransaction;
 pub(super) use umbral::posterior::report::{assumptions, verdict};
 use umbral::posterior::report::{is_nested, sample_columns, Choice, Report};
@@ -110,6 +112,10 @@ pub struct InferArgs {
     /// only a converged run writes it.
     #[arg(long, value_name = "FILE")]
     plot: Option<String>,
+    /// Print the posterior summary as a LaTeX (booktabs) table, one row per sampled
+    /// parameter and interval, with the assumptions as comment lines above it.
+    #[arg(long, conflicts_with = "json")]
+    latex: bool,
     /// Figure sizes: for a paper column or for a slide.
     #[arg(long, value_enum, default_value = "paper")]
     style: FigureStyle,
@@ -277,6 +283,8 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
             verdict.is_none(),
         )?;
         outln!("{report}")?;
+    } else if let (true, None) = (args.latex, &verdict) {
+        super::out::write_text(&latex_summary(&model, &inference, &assumptions))?;
     } else {
         print_text(&model, &inference, &assumptions, verdict.as_deref())?;
     }
@@ -340,6 +348,47 @@ pub(super) fn write_corner_plot(
     let svg = corner_plot(path, &title, inference, &model.priors(), model.sources())?;
     write_figure(outputs, path, &svg, theme)?;
     Ok(svg)
+}
+
+/// A converged posterior's summary as a booktabs table (parameter, median, mean, each
+/// credible interval), the assumptions above it as comment lines.
+fn latex_summary(model: &PosteriorModel, i: &Inference, assumptions: &[String]) -> String {
+    let mut columns = vec![
+        Column::new("parameter", "parameter"),
+        Column::new("median", "median"),
+        Column::new("mean", "mean"),
+    ];
+    if let Some(first) = i.summaries.first() {
+        for iv in &first.intervals {
+            let head = format!("{}% {}", short(100.0 * iv.confidence, 4), iv.kind);
+            columns.push(Column::new(
+                head.clone(),
+                format!("{}\\% {}", short(100.0 * iv.confidence, 4), iv.kind),
+            ));
+        }
+    }
+    let rows = i
+        .summaries
+        .iter()
+        .map(|s| {
+            let mut row = vec![s.name.clone(), fixed(s.median, 6), fixed(s.mean, 6)];
+            row.extend(
+                s.intervals
+                    .iter()
+                    .map(|iv| format!("[{}, {}]", fixed(iv.low, 6), fixed(iv.high, 6))),
+            );
+            row
+        })
+        .collect();
+    let mut text = format!(
+        "% posterior of {} from {} source(s) (inclinations in degrees)\n% assumptions:\n",
+        model.metric_info().name,
+        model.sources()
+    );
+    for a in assumptions {
+        text.push_str(&format!("% - {a}\n"));
+    }
+    text + &Table { columns, rows }.latex("posterior summary")
 }
 
 fn print_text(
