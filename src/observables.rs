@@ -929,6 +929,10 @@ pub struct ShadowReport {
     pub photon_spheres: Vec<PhotonSphere>,
     /// The curve, when there is one.
     pub curve: Option<CurvePoints>,
+    /// Spherical metrics: the strong-deflection coefficient and the areal radii (see
+    /// [`SphericalExtras`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub spherical: Option<SphericalExtras>,
     /// Each curve point's photon orbit (radius, and γ when computed), when the solver knows
     /// it.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -939,6 +943,43 @@ pub struct ShadowReport {
     pub celestial: Option<CelestialCurve>,
     /// The solver's diagnostics.
     pub diagnostics: Diagnostics,
+}
+
+/// What a spherical metric's shadow adds: Bozza's strong-deflection coefficient, and where
+/// the areal radius √C differs from r, the areal radii of the horizon and photon sphere.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SphericalExtras {
+    /// ā of the strong-deflection limit α(b) = −ā ln(b/b_c − 1) + b̄ (Bozza 2002, Phys. Rev. D
+    /// 66, 103001), from the photon-ring exponent: ā = π/γ. Derivation: one more half orbit
+    /// (Δα = π) multiplies b/b_c − 1 by e^(−π/ā), which is γ's definition (Johnson et al.
+    /// 2020, Sci. Adv. 6, eaaz1310). Schwarzschild: ā = 1.
+    pub strong_deflection_coefficient: f64,
+    /// √C at the photon sphere that bounds capture, in M, when C ≠ r² there.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub areal_photon_sphere_radius: Option<f64>,
+    /// √C at the outer horizon, in M, when C ≠ r² there.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub areal_horizon_radius: Option<f64>,
+}
+
+/// The spherical extras of a spherical solver's shadow with an exponent (`None` otherwise).
+fn spherical_extras(metric: &dyn Spacetime, result: &ShadowResult) -> Option<SphericalExtras> {
+    if result.solver != "spherical" {
+        return None;
+    }
+    let gamma = result.exponents.as_ref()?.gamma_min;
+    let [r_ph, _] = result.photon_orbit_radii?;
+    metric.spherical_jet(r_ph).ok()?;
+    let areal = |r: f64| -> Option<f64> {
+        let c = metric.spherical_jet(r).ok()?.c[0];
+        let root = c.sqrt();
+        (c > 0.0 && (root - r).abs() > 1e-12 * r).then_some(root)
+    };
+    Some(SphericalExtras {
+        strong_deflection_coefficient: std::f64::consts::PI / gamma,
+        areal_photon_sphere_radius: areal(r_ph),
+        areal_horizon_radius: metric.outer_horizon().and_then(areal),
+    })
 }
 
 /// Why a shadow could not be reported.
@@ -1027,6 +1068,7 @@ pub fn shadow_report(
             }
             _ => None,
         },
+        spherical: spherical_extras(metric, &result),
         curve,
         orbits: result.orbits.clone(),
         diagnostics: result.diagnostics,

@@ -491,3 +491,53 @@ fn simpson_visser_l3_shadow_with_undefined_exponent() {
         .as_str()
         .is_some_and(|s| s.contains("marginally stable")));
 }
+
+/// The strong-deflection coefficient ā and the areal radii against the mpmath generator
+/// tests/generate_strong_deflection.py, which measures ā from the logarithmic divergence of
+/// the deflection angle by quadrature (Bozza 2002, Phys. Rev. D 66, 103001, defines ā by
+/// α = −ā ln(b/b_c − 1) + b̄); the areal radii √C are reported only where C ≠ r².
+#[test]
+fn strong_deflection_coefficient_and_areal_radii_match_mpmath() {
+    use umbral::observables::{shadow_report, CentreChoice};
+    let table: serde_json::Value =
+        serde_json::from_str(include_str!("data/strong_deflection.json")).unwrap();
+    for case in table["cases"].as_array().unwrap() {
+        let name = case["metric"].as_str().unwrap();
+        let parameters: Vec<(String, f64)> = case["parameters"]
+            .as_object()
+            .unwrap()
+            .iter()
+            .map(|(k, v)| (k.clone(), v.as_f64().unwrap()))
+            .collect();
+        let metric = umbral::metrics::build_metric(name, &parameters).unwrap();
+        let observer = Observer::distant(0.5);
+        let report = shadow_report(
+            metric.as_ref(),
+            0.5f64.to_degrees(),
+            &observer,
+            &ShadowSettings::default(),
+            CentreChoice::Centroid,
+        )
+        .unwrap();
+        let extras = report.spherical.expect(name);
+        let abar = case["abar"].as_f64().unwrap();
+        // The reference is good to about 2e-8 (its neglected O(ε ln ε) term).
+        assert!(
+            (extras.strong_deflection_coefficient - abar).abs() < 1e-6,
+            "{name}: {} vs {abar}",
+            extras.strong_deflection_coefficient
+        );
+        let r_ph = case["photon_sphere"].as_f64().unwrap();
+        let areal = case["areal_photon_sphere"].as_f64().unwrap();
+        match extras.areal_photon_sphere_radius {
+            Some(got) => assert!((got - areal).abs() < 1e-9, "{name}: {got} vs {areal}"),
+            None => assert!((areal - r_ph).abs() < 1e-12, "{name}: C = r² expected"),
+        }
+        if let (Some(got), Some(want)) = (
+            extras.areal_horizon_radius,
+            case.get("areal_horizon").and_then(|v| v.as_f64()),
+        ) {
+            assert!((got - want).abs() < 1e-9, "{name}: horizon {got} vs {want}");
+        }
+    }
+}

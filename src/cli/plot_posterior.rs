@@ -314,15 +314,15 @@ impl Layout {
     /// The layout of `n` panels under a header with `keys` rows of key and `notes` lines of
     /// notes.
     fn new(n: usize, keys: usize, notes: usize) -> Layout {
-        let panel = (880 / n.max(1) as i32).clamp(160, 440);
+        let panel = (880 / n.max(1) as i32).clamp(160, 440) * U;
         Layout {
             n,
             panel,
-            gap: 10,
-            left: 72,
-            top: KEY_TOP - 2 + KEY_ROW * keys as i32 + NOTE_ROW * notes as i32,
-            bottom: 58,
-            right: 24,
+            gap: 10 * U,
+            left: 72 * U,
+            top: (KEY_TOP - 2 + KEY_ROW * keys as i32 + NOTE_ROW * notes as i32) * U,
+            bottom: 58 * U,
+            right: 24 * U,
         }
     }
 
@@ -330,7 +330,7 @@ impl Layout {
         let grid = self.n as i32 * self.panel + (self.n as i32 - 1) * self.gap;
         (
             (self.left + grid + self.right) as u32,
-            (self.top + grid + self.bottom + 8) as u32,
+            (self.top + grid + self.bottom + 8 * U) as u32,
         )
     }
 
@@ -362,7 +362,7 @@ pub fn corner_plot(
 ) -> Result<String, CliError> {
     let (shown, left_out) = chosen(&inference.names);
     let n_eff = effective_size(inference, &shown);
-    let ticks = (Layout::new(shown.len(), 0, 0).panel / 80).max(3) as usize;
+    let ticks = (Layout::new(shown.len(), 0, 0).panel / (80 * U)).max(3) as usize;
     let cols = columns(inference, (&shown, priors, sources), n_eff, ticks)?;
     let mut notes = vec![format!(
         "{} samples, {:.0} effective. Smoothed with Gaussian kernels, bandwidth 0.9 \
@@ -396,7 +396,7 @@ pub fn corner_plot(
             left_out.join(", ")
         ));
     }
-    let width = Layout::new(cols.len(), 0, 0).size().0 as usize;
+    let width = (Layout::new(cols.len(), 0, 0).size().0 / U as u32) as usize;
     let keys = key_rows(&keys(cols.len() > 1), width);
     let notes = wrap(&notes, width);
     let layout = Layout::new(cols.len(), keys.len(), notes.len());
@@ -419,9 +419,20 @@ pub fn corner_plot(
     super::figure::register_fonts();
     let mut svg = String::new();
     draw_corner(&mut svg, path, &header, (&cols, &smooth), &layout)?;
+    // Drawn at U units per pixel (paths placed to a tenth of a pixel): the file's size in
+    // pixels.
+    let (w, h) = layout.size();
+    let svg = svg.replacen(
+        &format!("width=\"{w}\" height=\"{h}\""),
+        &format!("width=\"{}\" height=\"{}\"", w / U as u32, h / U as u32),
+        1,
+    );
     // Every colour is opaque (see `blend`), so the plain form changes no pixel.
     Ok(super::figure::plain_svg(&svg))
 }
+
+/// Drawing units per output pixel: paths are placed to a tenth of a pixel.
+const U: i32 = super::figure::SUBPIXEL as i32;
 
 /// The width of a character of the key's text in pixels, about (a generous estimate for a
 /// sans-serif font; plotters' size 13 is 10.5 px in SVG).
@@ -572,66 +583,80 @@ fn band() -> RGBColor {
 fn draw_header<'a>(root: &Area<'a>, header: &Header) -> Result<(), DrawError> {
     // Text is placed by its middle: renderers agree on that more than on its top.
     let left = Pos::new(HPos::Left, VPos::Center);
-    let text =
-        |size: u32, colour: RGBColor| ("sans-serif", size).into_font().color(&colour).pos(left);
-    root.draw_text(header.title, &text(20, BLACK), (16, 18))?;
+    let text = |size: u32, colour: RGBColor| {
+        ("sans-serif", size * U as u32)
+            .into_font()
+            .color(&colour)
+            .pos(left)
+    };
+    root.draw_text(header.title, &text(20, BLACK), (16 * U, 18 * U))?;
     for (r, row) in header.keys.iter().enumerate() {
-        let y = KEY_TOP + KEY_ROW * r as i32;
-        let mut x = 16;
+        let y = (KEY_TOP + KEY_ROW * r as i32) * U;
+        let mut x = 16 * U;
         for (mark, key) in row {
             match mark {
                 Mark::Interval => {
                     root.draw(&Rectangle::new(
-                        [(x, y - 6), (x + 22, y + 6)],
+                        [(x, y - 6 * U), (x + 22 * U, y + 6 * U)],
                         band().filled(),
                     ))?;
                     root.draw(&PathElement::new(
-                        vec![(x + 11, y - 7), (x + 11, y + 7)],
-                        ORANGE.stroke_width(2),
+                        vec![(x + 11 * U, y - 7 * U), (x + 11 * U, y + 7 * U)],
+                        ORANGE.stroke_width(2 * U as u32),
                     ))?;
                 }
                 Mark::Density => {
                     root.draw(&PathElement::new(
-                        vec![(x, y + 5), (x + 8, y - 4), (x + 14, y - 4), (x + 22, y + 5)],
-                        BLUE.stroke_width(2),
+                        vec![
+                            (x, y + 5 * U),
+                            (x + 8 * U, y - 4 * U),
+                            (x + 14 * U, y - 4 * U),
+                            (x + 22 * U, y + 5 * U),
+                        ],
+                        BLUE.stroke_width(2 * U as u32),
                     ))?;
                 }
                 Mark::Histogram => {
                     root.draw(&PathElement::new(
                         vec![
-                            (x, y + 6),
+                            (x, y + 6 * U),
                             (x, y),
-                            (x + 8, y),
-                            (x + 8, y - 6),
-                            (x + 15, y - 6),
-                            (x + 15, y + 1),
-                            (x + 22, y + 1),
-                            (x + 22, y + 6),
+                            (x + 8 * U, y),
+                            (x + 8 * U, y - 6 * U),
+                            (x + 15 * U, y - 6 * U),
+                            (x + 15 * U, y + U),
+                            (x + 22 * U, y + U),
+                            (x + 22 * U, y + 6 * U),
                         ],
-                        GREY.stroke_width(1),
+                        GREY.stroke_width(U as u32),
                     ))?;
                 }
                 Mark::Region(level) => {
                     root.draw(&Rectangle::new(
-                        [(x, y - 6), (x + 22, y + 6)],
+                        [(x, y - 6 * U), (x + 22 * U, y + 6 * U)],
                         region_shade(*level).filled(),
                     ))?;
-                    let line = vec![(x, y), (x + 22, y)];
+                    let line = vec![(x, y), (x + 22 * U, y)];
                     if *level == 0 {
-                        root.draw(&PathElement::new(line, BLACK.stroke_width(2)))?;
+                        root.draw(&PathElement::new(line, BLACK.stroke_width(2 * U as u32)))?;
                     } else {
-                        root.draw(&DashedPathElement::new(line, 5, 3, BLACK.stroke_width(1)))?;
+                        root.draw(&DashedPathElement::new(
+                            line,
+                            5 * U,
+                            3 * U,
+                            BLACK.stroke_width(U as u32),
+                        ))?;
                     }
                 }
             }
-            root.draw_text(key, &text(13, BLACK), (x + SWATCH, y))?;
-            x += key_width(key);
+            root.draw_text(key, &text(13, BLACK), (x + SWATCH * U, y))?;
+            x += key_width(key) * U;
         }
     }
     let grey = text(12, blend(WHITE, BLACK, 0.7));
     let notes_top = KEY_TOP + KEY_ROW * header.keys.len() as i32;
     for (k, note) in header.notes.iter().enumerate() {
-        root.draw_text(note, &grey, (16, notes_top + NOTE_ROW * k as i32))?;
+        root.draw_text(note, &grey, (16 * U, (notes_top + NOTE_ROW * k as i32) * U))?;
     }
     Ok(())
 }
@@ -649,8 +674,8 @@ fn panel<'a>(
     let (col, (x_lo, x_hi)) = x;
     let (y_name, (y_lo, y_hi), y_ticks) = y;
     let mut chart = ChartBuilder::on(area)
-        .x_label_area_size(if bottom { 58 } else { 0 })
-        .y_label_area_size(if left { 72 } else { 0 })
+        .x_label_area_size(if bottom { 58 * U } else { 0 })
+        .y_label_area_size(if left { 72 * U } else { 0 })
         .build_cartesian_2d(
             Ticked {
                 low: x_lo,
@@ -667,10 +692,12 @@ fn panel<'a>(
     let x_format = move |v: &f64| tick_label(*v, &x_ticks);
     let y_format = move |v: &f64| tick_label(*v, &y_ticks);
     let mut mesh = chart.configure_mesh();
-    mesh.bold_line_style(blend(WHITE, BLACK, 0.08))
+    mesh.bold_line_style(blend(WHITE, BLACK, 0.08).stroke_width(U as u32))
         .light_line_style(TRANSPARENT)
-        .label_style(("sans-serif", 12))
-        .axis_desc_style(("sans-serif", 15))
+        .axis_style(BLACK.stroke_width(U as u32))
+        .set_all_tick_mark_size(5 * U)
+        .label_style(("sans-serif", 12 * U))
+        .axis_desc_style(("sans-serif", 15 * U))
         .x_label_formatter(&x_format)
         .y_label_formatter(&y_format);
     if !grid {
@@ -691,7 +718,7 @@ fn frame<'a>(chart: &mut Panel<'a>, x: (f64, f64), y: (f64, f64)) -> Result<(), 
     let corners = vec![(x.0, y.0), (x.1, y.0), (x.1, y.1), (x.0, y.1), (x.0, y.0)];
     chart.draw_series(LineSeries::new(
         corners,
-        blend(WHITE, BLACK, 0.6).stroke_width(1),
+        blend(WHITE, BLACK, 0.6).stroke_width(U as u32),
     ))?;
     Ok(())
 }
@@ -793,13 +820,13 @@ fn draw_diagonal<'a>(
         let fill = blend(base, BLUE, 0.3);
         chart.draw_series(std::iter::once(Polygon::new(outline, fill.filled())))?;
     }
-    chart.draw_series(LineSeries::new(steps, GREY.stroke_width(1)))?;
+    chart.draw_series(LineSeries::new(steps, GREY.stroke_width(U as u32)))?;
     if let Some(c) = curve {
-        chart.draw_series(LineSeries::new(c.to_vec(), BLUE.stroke_width(2)))?;
+        chart.draw_series(LineSeries::new(c.to_vec(), BLUE.stroke_width(2 * U as u32)))?;
     }
     chart.draw_series(LineSeries::new(
         vec![(col.median, 0.0), (col.median, top)],
-        ORANGE.stroke_width(2),
+        ORANGE.stroke_width(2 * U as u32),
     ))?;
     frame(&mut chart, (col.low, col.high), (0.0, top))
 }
@@ -1005,13 +1032,16 @@ fn draw_pair<'a>(
     for (k, level) in levels.iter().enumerate() {
         for line in &level.outlines {
             if k == 0 {
-                chart.draw_series(LineSeries::new(line.clone(), BLACK.stroke_width(2)))?;
+                chart.draw_series(LineSeries::new(
+                    line.clone(),
+                    BLACK.stroke_width(2 * U as u32),
+                ))?;
             } else {
                 chart.draw_series(DashedLineSeries::new(
                     line.clone(),
-                    5,
-                    3,
-                    BLACK.stroke_width(1),
+                    5 * U,
+                    3 * U,
+                    BLACK.stroke_width(U as u32),
                 ))?;
             }
         }

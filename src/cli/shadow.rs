@@ -219,6 +219,19 @@ fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError>
     if let Some([lo, hi]) = o.photon_orbit_radii {
         outln!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii")?;
     }
+    if let Some(x) = &rep.spherical {
+        row(
+            "strong deflection abar",
+            x.strong_deflection_coefficient,
+            "",
+        )?;
+        if let Some(r) = x.areal_photon_sphere_radius {
+            row("photon sphere, areal", r, "M")?;
+        }
+        if let Some(r) = x.areal_horizon_radius {
+            row("horizon, areal", r, "M")?;
+        }
+    }
     Ok(())
 }
 
