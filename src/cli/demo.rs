@@ -3,7 +3,7 @@
 //! The scenario is fiction: the nucleus of an invented nearby disk galaxy, "Lowmere", with a
 //! made-up black-hole mass, distance and viewing angle, seen by an invented space-ground array.
 //! The numbers were chosen to resemble no observed source: a mass (1.2e8 Msun) and distance
-//! (2.2 Mpc) that no imaged black hole has, a ring of about 6 μas that only an array with
+//! (2.2 Mpc) that no imaged black hole has, a ring of about 7 μas that only an array with
 //! space baselines would resolve, and an inclination of 52°. No real source or data is used.
 
 use super::figure::{symbol, write_figure_set, FigureStyle, Theme};
@@ -109,7 +109,7 @@ fn scenario() -> Scenario {
         theta_g_uas: theta_g_uas(mass_msun, distance_mpc),
         note: "all numbers are invented for this demonstration, and chosen to resemble no \
                observed source: a mass and distance that no imaged black hole has, a ring of \
-               about 6 uas that only an invented array with space baselines (2 uas beam) \
+               about 7 uas that only an invented array with space baselines (2 uas beam) \
                resolves, and an inclination of 52 deg",
     }
 }

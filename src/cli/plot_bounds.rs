@@ -552,11 +552,23 @@ fn draw_exclusion_map(
     // Widest (highest confidence) first, so narrower regions sit on top.
     let mut order: Vec<usize> = (0..levels.len()).collect();
     order.sort_by(|&a, &b| levels[b].0.total_cmp(&levels[a].0));
+    // A level is in the legend only where it shows: allowed at some node where no level of
+    // lower confidence (drawn on top) is.
     for (k, (confidence, _)) in levels.iter().enumerate() {
-        legend.add(
-            Mark::Patch(LEVEL_COLOURS[k % LEVEL_COLOURS.len()], 0.55),
-            format!("allowed at {}", percent(*confidence)),
-        );
+        let shows = (0..grid.nodes.len()).any(|n| {
+            grid.allowed_field(k)[n] >= 0.0
+                && levels
+                    .iter()
+                    .enumerate()
+                    .filter(|(j, (c, _))| *j != k && c < confidence)
+                    .all(|(j, _)| grid.allowed_field(j)[n] < 0.0)
+        });
+        if shows {
+            legend.add(
+                Mark::Patch(LEVEL_COLOURS[k % LEVEL_COLOURS.len()], 0.55),
+                format!("allowed at {}", percent(*confidence)),
+            );
+        }
     }
     // Excluded: a node with a horizon that is a shadow point (or inside a cell of them)
     // and allowed at no level.

@@ -41,11 +41,11 @@ use umbral::sampling::Prior;
 pub const MAX_PARAMETERS: usize = 6;
 
 /// Densities and highest-density regions.
-const BLUE: RGBColor = RGBColor(31, 78, 121);
+const BLUE: RGBColor = super::figure::CYCLE[0];
 /// The histogram behind a smoothed density.
 const GREY: RGBColor = RGBColor(150, 150, 150);
 /// The median and the equal-tailed interval.
-const ORANGE: RGBColor = RGBColor(196, 90, 17);
+const ORANGE: RGBColor = super::figure::CYCLE[1];
 /// The highest-density regions shaded and outlined below the diagonal.
 const HPD_LEVELS: [f64; 2] = [0.68, 0.95];
 /// An axis ends at a prior edge within this fraction of its span.
