@@ -35,6 +35,7 @@
 
 mod header;
 mod lines;
+pub mod shard;
 pub mod table;
 
 pub use header::FORMAT;
@@ -526,6 +527,10 @@ impl WorkList for Grid<'_> {
 
     fn run(&self, index: usize) -> ScanPoint {
         compute_point(self.request, &self.indices[index])
+    }
+
+    fn wire(&self) -> Option<&dyn crate::run::Wire<ScanPoint>> {
+        Some(self) // shard.rs
     }
 }
 

@@ -1,0 +1,226 @@
+//! The cluster protocol ([`super::cluster`]) over MPI (the `mpi` feature): rank 0 is the
+//! master, every other rank a worker.
+//!
+//! Messages are byte strings: rank 0 sends a chunk (`W`, the list's identity, the indices as
+//! little-endian u64) or the end of the program (`E`) with tag 1; a worker answers with tag 2,
+//! the outputs (`D`, each as a little-endian u32 length and its UTF-8 text) or `U` for a list
+//! it does not know. Only the thread that runs a batch on rank 0 calls MPI (the executor's
+//! own computing thread does not), so MPI is initialised at the `Serialized` level.
+//!
+//! Waiting workers poll for the next message with a growing sleep (up to 2 ms) instead of a
+//! blocking receive: Open MPI's blocking receive spins a core, which a worker waiting while
+//! rank 0 does work of its own would take from the ranks that compute.
+
+use super::cluster::{Chunk, Master, Reply, WorkerLink};
+use mpi::topology::SimpleCommunicator;
+use mpi::traits::*;
+use std::time::Duration;
+
+const TO_WORKER: i32 = 1;
+const TO_MASTER: i32 = 2;
+
+/// An MPI job this process belongs to (MPI is finalised when it is dropped).
+pub struct Job {
+    _universe: mpi::environment::Universe,
+    rank: usize,
+    size: usize,
+}
+
+/// Whether this process was started by an MPI launcher (`mpirun`, `mpiexec`, `srun`): the
+/// launchers' environment variables (Open MPI's `OMPI_COMM_WORLD_SIZE`, PMI's `PMI_SIZE`,
+/// PMIx's `PMIX_RANK`).
+pub fn launched() -> bool {
+    ["OMPI_COMM_WORLD_SIZE", "PMI_SIZE", "PMIX_RANK"]
+        .iter()
+        .any(|v| std::env::var_os(v).is_some())
+}
+
+/// Join the MPI job, if this process was started by an MPI launcher and MPI initialises;
+/// `None` otherwise (a process on its own).
+pub fn join() -> Option<Job> {
+    if !launched() {
+        return None;
+    }
+    let (universe, _) = mpi::initialize_with_threading(mpi::Threading::Serialized)?;
+    let world = universe.world();
+    let (rank, size) = (world.rank() as usize, world.size() as usize);
+    Some(Job {
+        _universe: universe,
+        rank,
+        size,
+    })
+}
+
+impl Job {
+    /// This process's rank, from 0.
+    pub fn rank(&self) -> usize {
+        self.rank
+    }
+
+    /// The number of processes.
+    pub fn size(&self) -> usize {
+        self.size
+    }
+
+    /// Rank 0's end of the messages ([`super::cluster::install`] it).
+    pub fn master(&self) -> Box<dyn Master> {
+        Box::new(MpiMaster {
+            workers: self.size.saturating_sub(1),
+        })
+    }
+
+    /// A worker's end of the messages ([`super::cluster::serve`] on it).
+    pub fn link(&self) -> MpiWorker {
+        MpiWorker { _private: () }
+    }
+}
+
+fn world() -> SimpleCommunicator {
+    SimpleCommunicator::world()
+}
+
+fn put_u32(bytes: &mut Vec<u8>, n: usize) {
+    bytes.extend_from_slice(&(n as u32).to_le_bytes());
+}
+
+fn chunk_bytes(chunk: &Chunk) -> Vec<u8> {
+    let mut bytes = Vec::with_capacity(5 + chunk.id.len() + 8 * chunk.indices.len());
+    bytes.push(b'W');
+    put_u32(&mut bytes, chunk.id.len());
+    bytes.extend_from_slice(chunk.id.as_bytes());
+    for &i in &chunk.indices {
+        bytes.extend_from_slice(&(i as u64).to_le_bytes());
+    }
+    bytes
+}
+
+/// Read a chunk message (`None`: the end, or a message not understood).
+fn read_chunk(bytes: &[u8]) -> Option<Chunk> {
+    let rest = bytes.strip_prefix(b"W")?;
+    let n = u32::from_le_bytes(rest.get(..4)?.try_into().ok()?) as usize;
+    let id = std::str::from_utf8(rest.get(4..4 + n)?).ok()?.to_string();
+    let indices = rest
+        .get(4 + n..)?
+        .chunks_exact(8)
+        .map(|b| u64::from_le_bytes(b.try_into().unwrap_or_default()) as usize)
+        .collect();
+    Some(Chunk { id, indices })
+}
+
+fn reply_bytes(reply: &Reply) -> Vec<u8> {
+    match reply {
+        Reply::Unknown => b"U".to_vec(),
+        Reply::Done(outs) => {
+            let mut bytes = Vec::with_capacity(1 + outs.iter().map(|o| 4 + o.len()).sum::<usize>());
+            bytes.push(b'D');
+            for o in outs {
+                put_u32(&mut bytes, o.len());
+                bytes.extend_from_slice(o.as_bytes());
+            }
+            bytes
+        }
+    }
+}
+
+/// Read a reply (a damaged one reads as [`Reply::Unknown`]: the chunk is computed elsewhere).
+fn read_reply(bytes: &[u8]) -> Reply {
+    let Some(mut rest) = bytes.strip_prefix(b"D") else {
+        return Reply::Unknown;
+    };
+    let mut outs = Vec::new();
+    while !rest.is_empty() {
+        let Some(n) = rest.get(..4).and_then(|b| b.try_into().ok()) else {
+            return Reply::Unknown;
+        };
+        let n = u32::from_le_bytes(n) as usize;
+        let Some(text) = rest.get(4..4 + n).and_then(|t| std::str::from_utf8(t).ok()) else {
+            return Reply::Unknown;
+        };
+        outs.push(text.to_string());
+        rest = &rest[4 + n..];
+    }
+    Reply::Done(outs)
+}
+
+/// Rank 0's end.
+struct MpiMaster {
+    workers: usize,
+}
+
+impl Master for MpiMaster {
+    fn workers(&self) -> usize {
+        self.workers
+    }
+
+    fn send(&mut self, worker: usize, chunk: &Chunk) {
+        let bytes = chunk_bytes(chunk);
+        world()
+            .process_at_rank(worker as i32 + 1)
+            .send_with_tag(&bytes[..], TO_WORKER);
+    }
+
+    fn try_receive(&mut self) -> Option<(usize, Reply)> {
+        let (message, status) = world()
+            .any_process()
+            .immediate_matched_probe_with_tag(TO_MASTER)?;
+        let (bytes, _) = message.matched_receive_vec::<u8>();
+        let worker = (status.source_rank() as usize).checked_sub(1)?;
+        Some((worker, read_reply(&bytes)))
+    }
+
+    fn end(&mut self) {
+        for w in 0..self.workers {
+            world()
+                .process_at_rank(w as i32 + 1)
+                .send_with_tag(&b"E"[..], TO_WORKER);
+        }
+    }
+}
+
+/// A worker's end.
+pub struct MpiWorker {
+    _private: (),
+}
+
+impl WorkerLink for MpiWorker {
+    fn receive(&mut self) -> Option<Chunk> {
+        let mut wait = Duration::from_micros(20);
+        loop {
+            if let Some((message, _)) = world()
+                .process_at_rank(0)
+                .immediate_matched_probe_with_tag(TO_WORKER)
+            {
+                let (bytes, _) = message.matched_receive_vec::<u8>();
+                return read_chunk(&bytes);
+            }
+            std::thread::sleep(wait);
+            wait = (wait * 2).min(Duration::from_millis(2));
+        }
+    }
+
+    fn reply(&mut self, reply: Reply) {
+        let bytes = reply_bytes(&reply);
+        world()
+            .process_at_rank(0)
+            .send_with_tag(&bytes[..], TO_MASTER);
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn messages_read_back_as_written() {
+        let chunk = Chunk {
+            id: "abc".into(),
+            indices: vec![3, 7, 1 << 40],
+        };
+        assert_eq!(read_chunk(&chunk_bytes(&chunk)), Some(chunk));
+        assert_eq!(read_chunk(b"E"), None);
+        let reply = Reply::Done(vec!["{\"x\":1.5}".into(), String::new(), "ü".into()]);
+        assert_eq!(read_reply(&reply_bytes(&reply)), reply);
+        assert_eq!(read_reply(&reply_bytes(&Reply::Unknown)), Reply::Unknown);
+        assert_eq!(read_reply(b"D\x05\x00\x00\x00ab"), Reply::Unknown);
+    }
+}
