@@ -236,7 +236,8 @@ where
         next: 0,
     });
     let halt = AtomicBool::new(false);
-    let stopped = || halt.load(Ordering::Relaxed) || stop.is_some_and(|s| s.load(Ordering::Relaxed));
+    let stopped =
+        || halt.load(Ordering::Relaxed) || stop.is_some_and(|s| s.load(Ordering::Relaxed));
     let take = || -> Option<Vec<usize>> {
         if stopped() {
             return None;
@@ -516,14 +517,20 @@ mod tests {
         let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
         assert_eq!(bits(&got), bits(&local.outputs));
         assert_eq!(computed, sent);
-        assert!(sent.iter().all(|&s| s > 0), "every worker got work: {sent:?}");
+        assert!(
+            sent.iter().all(|&s| s > 0),
+            "every worker got work: {sent:?}"
+        );
     }
 
     #[test]
     fn a_worker_without_the_list_leaves_its_chunk_to_the_others() {
         let list = Squares { n: 120, tag: "a" };
         let (mut master, handles) = job(vec![
-            Squares { n: 120, tag: "other" },
+            Squares {
+                n: 120,
+                tag: "other",
+            },
             Squares { n: 120, tag: "a" },
         ]);
         let mut got = vec![0usize; 120];
@@ -570,7 +577,10 @@ mod tests {
         .unwrap();
         let sent = master.sent[0];
         master.end();
-        let computed = handles.into_iter().map(|h| h.join().unwrap()).sum::<usize>();
+        let computed = handles
+            .into_iter()
+            .map(|h| h.join().unwrap())
+            .sum::<usize>();
         assert!(delivered < 2000, "the stop ended the batch early");
         // Every chunk handed out came back and was delivered.
         assert_eq!(computed, sent);

@@ -383,8 +383,7 @@ impl<'a, O: Send> Executor<'a, O> {
                 slots[p] = Some(out);
                 Ok(())
             };
-            if let Some(result) =
-                cluster::run_distributed(work, indices, todo, stop, &mut deliver)
+            if let Some(result) = cluster::run_distributed(work, indices, todo, stop, &mut deliver)
             {
                 result?;
                 return Ok(todo.iter().map(|&p| slots[p].take()).collect());

@@ -12,6 +12,7 @@
 //! rank 0 does work of its own would take from the ranks that compute.
 
 use super::cluster::{Chunk, Master, Reply, WorkerLink};
+use mpi::point_to_point::MatchedReceiveVec;
 use mpi::topology::SimpleCommunicator;
 use mpi::traits::*;
 use std::time::Duration;
@@ -160,10 +161,10 @@ impl Master for MpiMaster {
     }
 
     fn try_receive(&mut self) -> Option<(usize, Reply)> {
-        let (message, status) = world()
+        let probed = world()
             .any_process()
             .immediate_matched_probe_with_tag(TO_MASTER)?;
-        let (bytes, _) = message.matched_receive_vec::<u8>();
+        let (bytes, status) = probed.matched_receive_vec::<u8>();
         let worker = (status.source_rank() as usize).checked_sub(1)?;
         Some((worker, read_reply(&bytes)))
     }
@@ -186,11 +187,11 @@ impl WorkerLink for MpiWorker {
     fn receive(&mut self) -> Option<Chunk> {
         let mut wait = Duration::from_micros(20);
         loop {
-            if let Some((message, _)) = world()
+            if let Some(probed) = world()
                 .process_at_rank(0)
                 .immediate_matched_probe_with_tag(TO_WORKER)
             {
-                let (bytes, _) = message.matched_receive_vec::<u8>();
+                let (bytes, _) = probed.matched_receive_vec::<u8>();
                 return read_chunk(&bytes);
             }
             std::thread::sleep(wait);

@@ -409,7 +409,7 @@ impl<O> Checkpoint<O> for Recalled<'_, O> {
 }
 
 /// A shard file's header, read without its items.
-fn read_header(path: &Path) -> Result<ShardHeader, MergeError> {
+pub fn read_header(path: &Path) -> Result<ShardHeader, MergeError> {
     let shown = path.display();
     let cant = |e: String| MergeError(format!("cannot read '{shown}': {e}"));
     crate::input::check_regular(path).map_err(|e| cant(e.to_string()))?;
@@ -499,7 +499,9 @@ pub fn read_shards(paths: &[PathBuf], one_run: bool) -> Result<Vec<Merged>, Merg
             .shard
             .parse()
             .map_err(|e| MergeError(format!("'{shown}' line 1: shard {e}")))?;
-        let same = runs.iter().position(|(h, _)| differences(h, &head).is_empty());
+        let same = runs
+            .iter()
+            .position(|(h, _)| differences(h, &head).is_empty());
         let at = match same {
             Some(at) => at,
             None if one_run && !runs.is_empty() => {
@@ -530,11 +532,7 @@ pub fn read_shards(paths: &[PathBuf], one_run: bool) -> Result<Vec<Merged>, Merg
 
 /// Join the files of one run.
 fn join(head: ShardHeader, files: BTreeMap<usize, PathBuf>) -> Result<Merged, MergeError> {
-    let count = head
-        .shard
-        .parse::<Shard>()
-        .map_err(MergeError)?
-        .count;
+    let count = head.shard.parse::<Shard>().map_err(MergeError)?.count;
     let items = head.items;
     let of_shard = |k: usize| -> Vec<usize> { (k..items).step_by(count).collect() };
     let missing: Vec<usize> = (0..count).filter(|k| !files.contains_key(k)).collect();

@@ -104,7 +104,10 @@ pub fn scan_shard(
 /// be the grid's point at its place, written the way umbral writes it.
 pub fn merged_scan_file(merged: &Merged) -> Result<String, String> {
     if merged.kind != "scan" && merged.kind != "table" {
-        return Err(format!("these are shards of a {}, not of a scan", merged.kind));
+        return Err(format!(
+            "these are shards of a {}, not of a scan",
+            merged.kind
+        ));
     }
     let head: Header = serde_json::from_value(merged.run.clone())
         .map_err(|e| format!("the shards' scan header cannot be read: {e}"))?;
@@ -123,8 +126,8 @@ pub fn merged_scan_file(merged: &Merged) -> Result<String, String> {
         ));
     }
     for (i, (text, index)) in merged.outputs.iter().zip(&grid).enumerate() {
-        let point: ScanPoint = serde_json::from_str(text)
-            .map_err(|e| format!("item {i} is not a scan point: {e}"))?;
+        let point: ScanPoint =
+            serde_json::from_str(text).map_err(|e| format!("item {i} is not a scan point: {e}"))?;
         let canonical = serde_json::to_string(&point).unwrap_or_default();
         if point.index != *index || *text != canonical || merged.keys[i] != lines::key(index) {
             return Err(format!(
