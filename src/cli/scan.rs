@@ -49,6 +49,12 @@ pub struct ScanArgs {
     /// when a photon sphere bounds capture by its centre, and is marked horizonless).
     #[arg(long = "require-horizon")]
     require_horizon: bool,
+    /// Number of points of each critical curve (uniform in screen polar angle).
+    #[arg(long, default_value_t = 256)]
+    points: usize,
+    /// Boundary tolerance of each critical curve in M, from 1e-12 to 1e-3.
+    #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
+    tolerance: String,
     /// Compute only shard K of N (K from 0 to N-1: every N-th point from the K-th) into
     /// --out, a shard file for `umbral merge` (resumed if it exists; docs/cluster.md).
     #[arg(long, value_name = "K/N")]
@@ -103,12 +109,34 @@ fn scan_request(args: &ScanArgs) -> Result<ScanRequest, CliError> {
     if axes.is_empty() || axes.len() > 2 {
         return Err(CliError::usage("give --grid once or twice"));
     }
+    let tolerance = parse_finite(&args.tolerance, "--tolerance")?;
+    let [low, high] = umbral::shadow::TOLERANCE_RANGE;
+    if !(low..=high).contains(&tolerance) {
+        return Err(CliError::usage(format!(
+            "--tolerance must lie between {} and {} M, got {}",
+            Num(low),
+            Num(high),
+            Num(tolerance)
+        )));
+    }
+    if umbral::shadow::check_points(args.points).is_err() {
+        return Err(CliError::usage(format!(
+            "--points must lie between {} and {}, got {}",
+            umbral::shadow::MIN_POINTS,
+            umbral::shadow::MAX_POINTS,
+            args.points
+        )));
+    }
     Ok(ScanRequest {
         metric: args.metric.resolve()?,
         axes,
         fixed: parse_assignments(&args.set)?,
         inclination_deg: parse_finite(&args.inclination, "--inclination")?,
-        settings: ShadowSettings::default(),
+        settings: ShadowSettings {
+            points: args.points,
+            tolerance,
+            ..ShadowSettings::default()
+        },
         require_horizon: args.require_horizon,
     })
 }
