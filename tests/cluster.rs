@@ -39,16 +39,16 @@ const SEPARABLE: &[&str] = &[
     "60",
 ];
 
-/// 6 points of Johannsen–Psaltis across eps3 at a = 0.5: the last ones have no horizon
-/// (instant), the others are traced.
+/// 7 points of Johannsen–Psaltis across eps3 at a = 0.9: from eps3 = 2 on there is no
+/// horizon (instant), the others are traced.
 const RAYTRACED: &[&str] = &[
     "scan",
     "--metric",
     "johannsen-psaltis",
     "--grid",
-    "eps3=-2:3:6",
+    "eps3=-2:4:7",
     "--set",
-    "a=0.5",
+    "a=0.9",
     "--inclination",
     "50",
     "--points",

@@ -142,6 +142,73 @@ pub fn serve(link: &mut dyn WorkerLink, lists: &[&dyn Served]) -> usize {
     computed
 }
 
+fn put_u32(bytes: &mut Vec<u8>, n: usize) {
+    bytes.extend_from_slice(&(n as u32).to_le_bytes());
+}
+
+/// A chunk as a message: `W`, the identity's length (u32) and bytes, the indices (u64),
+/// little-endian.
+pub fn chunk_bytes(chunk: &Chunk) -> Vec<u8> {
+    let mut bytes = Vec::with_capacity(5 + chunk.id.len() + 8 * chunk.indices.len());
+    bytes.push(b'W');
+    put_u32(&mut bytes, chunk.id.len());
+    bytes.extend_from_slice(chunk.id.as_bytes());
+    for &i in &chunk.indices {
+        bytes.extend_from_slice(&(i as u64).to_le_bytes());
+    }
+    bytes
+}
+
+/// Read a chunk message (`None`: the end, `E`, or a message not understood).
+pub fn read_chunk(bytes: &[u8]) -> Option<Chunk> {
+    let rest = bytes.strip_prefix(b"W")?;
+    let n = u32::from_le_bytes(rest.get(..4)?.try_into().ok()?) as usize;
+    let id = std::str::from_utf8(rest.get(4..4 + n)?).ok()?.to_string();
+    let indices = rest
+        .get(4 + n..)?
+        .chunks_exact(8)
+        .map(|b| u64::from_le_bytes(b.try_into().unwrap_or_default()) as usize)
+        .collect();
+    Some(Chunk { id, indices })
+}
+
+/// A reply as a message: `U` (unknown list), or `D` and each output as its length (u32,
+/// little-endian) and UTF-8 text.
+pub fn reply_bytes(reply: &Reply) -> Vec<u8> {
+    match reply {
+        Reply::Unknown => b"U".to_vec(),
+        Reply::Done(outs) => {
+            let mut bytes = Vec::with_capacity(1 + outs.iter().map(|o| 4 + o.len()).sum::<usize>());
+            bytes.push(b'D');
+            for o in outs {
+                put_u32(&mut bytes, o.len());
+                bytes.extend_from_slice(o.as_bytes());
+            }
+            bytes
+        }
+    }
+}
+
+/// Read a reply (a damaged one reads as [`Reply::Unknown`]: the chunk is computed elsewhere).
+pub fn read_reply(bytes: &[u8]) -> Reply {
+    let Some(mut rest) = bytes.strip_prefix(b"D") else {
+        return Reply::Unknown;
+    };
+    let mut outs = Vec::new();
+    while !rest.is_empty() {
+        let Some(n) = rest.get(..4).and_then(|b| b.try_into().ok()) else {
+            return Reply::Unknown;
+        };
+        let n = u32::from_le_bytes(n) as usize;
+        let Some(text) = rest.get(4..4 + n).and_then(|t| std::str::from_utf8(t).ok()) else {
+            return Reply::Unknown;
+        };
+        outs.push(text.to_string());
+        rest = &rest[4 + n..];
+    }
+    Reply::Done(outs)
+}
+
 /// Chunks are at most this many items per thread of the master.
 pub const MAX_CHUNK_PER_THREAD: usize = 16;
 
@@ -584,5 +651,19 @@ mod tests {
         assert!(delivered < 2000, "the stop ended the batch early");
         // Every chunk handed out came back and was delivered.
         assert_eq!(computed, sent);
+    }
+
+    #[test]
+    fn messages_read_back_as_written() {
+        let chunk = Chunk {
+            id: "abc".into(),
+            indices: vec![3, 7, 1 << 40],
+        };
+        assert_eq!(read_chunk(&chunk_bytes(&chunk)), Some(chunk));
+        assert_eq!(read_chunk(b"E"), None);
+        let reply = Reply::Done(vec!["{\"x\":1.5}".into(), String::new(), "ü".into()]);
+        assert_eq!(read_reply(&reply_bytes(&reply)), reply);
+        assert_eq!(read_reply(&reply_bytes(&Reply::Unknown)), Reply::Unknown);
+        assert_eq!(read_reply(b"D\x05\x00\x00\x00ab"), Reply::Unknown);
     }
 }

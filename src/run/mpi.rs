@@ -1,17 +1,18 @@
 //! The cluster protocol ([`super::cluster`]) over MPI (the `mpi` feature): rank 0 is the
 //! master, every other rank a worker.
 //!
-//! Messages are byte strings: rank 0 sends a chunk (`W`, the list's identity, the indices as
-//! little-endian u64) or the end of the program (`E`) with tag 1; a worker answers with tag 2,
-//! the outputs (`D`, each as a little-endian u32 length and its UTF-8 text) or `U` for a list
-//! it does not know. Only the thread that runs a batch on rank 0 calls MPI (the executor's
+//! Messages are byte strings ([`super::cluster::chunk_bytes`], [`super::cluster::reply_bytes`]):
+//! rank 0 sends a chunk or the end of the program (`E`) with tag 1; a worker answers with
+//! tag 2. Only the thread that runs a batch on rank 0 calls MPI (the executor's
 //! own computing thread does not), so MPI is initialised at the `Serialized` level.
 //!
 //! Waiting workers poll for the next message with a growing sleep (up to 2 ms) instead of a
 //! blocking receive: Open MPI's blocking receive spins a core, which a worker waiting while
 //! rank 0 does work of its own would take from the ranks that compute.
 
-use super::cluster::{Chunk, Master, Reply, WorkerLink};
+use super::cluster::{
+    chunk_bytes, read_chunk, read_reply, reply_bytes, Chunk, Master, Reply, WorkerLink,
+};
 use mpi::point_to_point::MatchedReceiveVec;
 use mpi::topology::SimpleCommunicator;
 use mpi::traits::*;
@@ -80,69 +81,6 @@ fn world() -> SimpleCommunicator {
     SimpleCommunicator::world()
 }
 
-fn put_u32(bytes: &mut Vec<u8>, n: usize) {
-    bytes.extend_from_slice(&(n as u32).to_le_bytes());
-}
-
-fn chunk_bytes(chunk: &Chunk) -> Vec<u8> {
-    let mut bytes = Vec::with_capacity(5 + chunk.id.len() + 8 * chunk.indices.len());
-    bytes.push(b'W');
-    put_u32(&mut bytes, chunk.id.len());
-    bytes.extend_from_slice(chunk.id.as_bytes());
-    for &i in &chunk.indices {
-        bytes.extend_from_slice(&(i as u64).to_le_bytes());
-    }
-    bytes
-}
-
-/// Read a chunk message (`None`: the end, or a message not understood).
-fn read_chunk(bytes: &[u8]) -> Option<Chunk> {
-    let rest = bytes.strip_prefix(b"W")?;
-    let n = u32::from_le_bytes(rest.get(..4)?.try_into().ok()?) as usize;
-    let id = std::str::from_utf8(rest.get(4..4 + n)?).ok()?.to_string();
-    let indices = rest
-        .get(4 + n..)?
-        .chunks_exact(8)
-        .map(|b| u64::from_le_bytes(b.try_into().unwrap_or_default()) as usize)
-        .collect();
-    Some(Chunk { id, indices })
-}
-
-fn reply_bytes(reply: &Reply) -> Vec<u8> {
-    match reply {
-        Reply::Unknown => b"U".to_vec(),
-        Reply::Done(outs) => {
-            let mut bytes = Vec::with_capacity(1 + outs.iter().map(|o| 4 + o.len()).sum::<usize>());
-            bytes.push(b'D');
-            for o in outs {
-                put_u32(&mut bytes, o.len());
-                bytes.extend_from_slice(o.as_bytes());
-            }
-            bytes
-        }
-    }
-}
-
-/// Read a reply (a damaged one reads as [`Reply::Unknown`]: the chunk is computed elsewhere).
-fn read_reply(bytes: &[u8]) -> Reply {
-    let Some(mut rest) = bytes.strip_prefix(b"D") else {
-        return Reply::Unknown;
-    };
-    let mut outs = Vec::new();
-    while !rest.is_empty() {
-        let Some(n) = rest.get(..4).and_then(|b| b.try_into().ok()) else {
-            return Reply::Unknown;
-        };
-        let n = u32::from_le_bytes(n) as usize;
-        let Some(text) = rest.get(4..4 + n).and_then(|t| std::str::from_utf8(t).ok()) else {
-            return Reply::Unknown;
-        };
-        outs.push(text.to_string());
-        rest = &rest[4 + n..];
-    }
-    Reply::Done(outs)
-}
-
 /// Rank 0's end.
 struct MpiMaster {
     workers: usize,
@@ -204,24 +142,5 @@ impl WorkerLink for MpiWorker {
         world()
             .process_at_rank(0)
             .send_with_tag(&bytes[..], TO_MASTER);
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn messages_read_back_as_written() {
-        let chunk = Chunk {
-            id: "abc".into(),
-            indices: vec![3, 7, 1 << 40],
-        };
-        assert_eq!(read_chunk(&chunk_bytes(&chunk)), Some(chunk));
-        assert_eq!(read_chunk(b"E"), None);
-        let reply = Reply::Done(vec!["{\"x\":1.5}".into(), String::new(), "ü".into()]);
-        assert_eq!(read_reply(&reply_bytes(&reply)), reply);
-        assert_eq!(read_reply(&reply_bytes(&Reply::Unknown)), Reply::Unknown);
-        assert_eq!(read_reply(b"D\x05\x00\x00\x00ab"), Reply::Unknown);
     }
 }

@@ -24,15 +24,18 @@ check() { # check NAME FILE-A FILE-B
   fi
 }
 
-# 12 points of Johannsen-Psaltis: eps3 from -2 to 3 at a = 0 and 0.5; the largest eps3 have
-# no horizon (instant), the others are ray traced with 16 curve points.
-scan=(scan --metric johannsen-psaltis --grid eps3=-2:3:6 --grid a=0:0.5:2 --inclination 50
+# 14 points of Johannsen-Psaltis: eps3 from -2 to 4 at a = 0.5 and 0.9; at a = 0.9 the largest
+# eps3 have no horizon (instant), the others are ray traced with 16 curve points.
+scan=(scan --metric johannsen-psaltis --grid eps3=-2:4:7 --grid a=0.5:0.9:2 --inclination 50
   --points 16 --tolerance 1e-6 --quiet)
 "$umbral" "${scan[@]}" --out single.jsonl > /dev/null
 "${ranks[@]}" "$umbral" "${scan[@]}" --out ranks.jsonl > ranks.txt
-grep -q "12 points" ranks.txt
+if ! grep -q "14 points" ranks.txt || ! grep -q '"no_horizon"' single.jsonl ||
+  ! grep -q '"raytrace"' single.jsonl; then
+  echo "FAILED: the scan is not the mix of instant and ray-traced points it should be"
+  failed=$((failed + 1))
+fi
 check "2-rank scan (instant and ray-traced points)" single.jsonl ranks.jsonl
-grep -q '"no_horizon"' single.jsonl && grep -q '"raytrace"' single.jsonl
 
 image=(image --metric kerr --set a=0.5 --inclination 60 --pixels 24 --blur-m 2)
 "$umbral" "${image[@]}" --out single.fits > /dev/null
