@@ -224,7 +224,7 @@ fn a_killed_shard_rerun_completes_the_merge_with_nothing_lost_or_repeated() {
     let args = with(LONG, &["--out", "part-0.jsonl", "--shard", "0/2"]);
     let mut inv = Invocation::new(&own, &args);
     inv.timeout = Duration::from_secs(120);
-    let mut running = inv.spawn();
+    let running = inv.spawn();
     let reached = wait_for(|| point_lines_on_disk(&own) >= 10, Duration::from_secs(60));
     running.signal(libc::SIGKILL);
     let killed = running.finish();

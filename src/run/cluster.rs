@@ -357,10 +357,10 @@ where
                 }
             }
         });
-        for w in 0..master.workers() {
+        for (w, slot) in out.iter_mut().enumerate() {
             if let Some(chunk) = take() {
                 send(master, w, &chunk);
-                out[w] = Some(chunk);
+                *slot = Some(chunk);
             }
         }
         let mut local_done = false;
@@ -472,7 +472,7 @@ mod tests {
             index.to_string()
         }
         fn run(&self, index: usize) -> f64 {
-            if index % 7 == 0 {
+            if index.is_multiple_of(7) {
                 std::thread::sleep(Duration::from_millis(2));
             }
             (index as f64).sqrt() / 3.0
