@@ -48,8 +48,8 @@ calibrate=(calibrate --metric schwarzschild --inclination 30 --resolution-uas 10
 "${ranks[@]}" "$umbral" "${calibrate[@]}" --out ranks.json > /dev/null
 check "2-rank calibration" single.json ranks.json
 
-# A dead rank: 400 separable points, the worker rank killed once 40 are in the file.
-long=(scan --metric kerr-newman --grid a=0:0.9:20 --grid q=0:0.5:20 --inclination 60 --quiet)
+# A dead rank: 900 separable points, the worker rank killed once 40 are in the file.
+long=(scan --metric kerr-newman --grid a=0:0.9:30 --grid q=0:0.5:30 --inclination 60 --quiet)
 "$umbral" "${long[@]}" --out long-single.jsonl > /dev/null
 "${ranks[@]}" "$umbral" "${long[@]}" --out long.jsonl > /dev/null 2>&1 &
 launcher=$!
@@ -71,7 +71,7 @@ on_disk=$(($(wc -l < long.jsonl) - 1))
 "${ranks[@]}" "$umbral" "${long[@]}" --out long.jsonl > resumed.txt
 kept=$(sed -n 's/.*computed, \([0-9]*\) kept.*/\1/p' resumed.txt)
 echo "killed the worker rank with $kept_before points in the file ($on_disk when the job ended); the rerun kept $kept"
-if [ -n "$worker" ] && [ "$on_disk" -lt 400 ] && [ "$kept" -ge "$kept_before" ]; then
+if [ -n "$worker" ] && [ "$on_disk" -lt 900 ] && [ "$kept" -ge "$kept_before" ]; then
   passed=$((passed + 1))
   echo "ok: the rerun kept every point that was in the file"
 else
