@@ -48,6 +48,16 @@ calibrate=(calibrate --metric schwarzschild --inclination 30 --resolution-uas 10
 "${ranks[@]}" "$umbral" "${calibrate[@]}" --out ranks.json > /dev/null
 check "2-rank calibration" single.json ranks.json
 
+# A posterior whose table (Kerr-Newman over q, --tabulate) the ranks trace: the same table
+# file and the same report.
+printf '[size.shadow_radius]\nvalue = 5.0\nsigma = 0.2\n' > r.toml
+infer=(infer --metric kerr-newman --measurement r.toml --quiet --tabulate --table-nodes 9
+  --prior q=uniform:0:0.5 --prior inclination=fixed:40 --sampler quadrature --samples 200 --json)
+"$umbral" "${infer[@]}" --table-dir single-tables > single-infer.json
+"${ranks[@]}" "$umbral" "${infer[@]}" --table-dir ranks-tables > ranks-infer.json
+check "2-rank posterior table" single-tables/umbral-table-*.jsonl ranks-tables/umbral-table-*.jsonl
+check "2-rank posterior report" single-infer.json ranks-infer.json
+
 # A dead rank: 900 separable points, the worker rank killed once 40 are in the file.
 long=(scan --metric kerr-newman --grid a=0:0.9:30 --grid q=0:0.5:30 --inclination 60 --quiet)
 "$umbral" "${long[@]}" --out long-single.jsonl > /dev/null
