@@ -539,6 +539,7 @@ fn join(head: ShardHeader, files: BTreeMap<usize, PathBuf>) -> Result<Merged, Me
     if let Some(&k) = missing.first() {
         let also = match missing.len() {
             1 => String::new(),
+            2 => format!(" (and shard {}/{count})", missing[1]),
             n => format!(" (and {} more shards: {})", n - 1, some(&missing[1..], 8)),
         };
         let what = match of_shard(k).as_slice() {
