@@ -3,18 +3,23 @@
 
 use super::args::{metric_from_args, parse_assignments, parse_finite, MetricChoice};
 use super::interrupt;
+use super::merge::{check_metric, parse_shard, report_shard, rows_job, shard_file, Rows};
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::Args;
 use std::collections::BTreeMap;
+use std::ffi::OsString;
 use std::path::{Path, PathBuf};
 use umbral::image::models::ModelList;
 use umbral::measurement::Measurement;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
 use umbral::run::calibrate::{
-    calibrate, CalibrateError, Calibration, CalibrationSettings, ResolveError, DEFAULT_PIXELS,
+    calibrate_from, calibrate_shard, CalibrateError, Calibration, CalibrationSettings,
+    ResolveError, DEFAULT_PIXELS,
 };
+use umbral::run::image::RowSource;
+use umbral::run::shard::Shard;
 use umbral::run::{Controls, RunError};
 
 #[derive(Debug, Args)]
@@ -48,6 +53,11 @@ pub struct CalibrateArgs {
     /// Print JSON instead of text.
     #[arg(long)]
     json: bool,
+    /// Trace only shard K of N of the image rows of every model (K from 0 to N-1: every N-th
+    /// row from the K-th) into --out, a shard file (.jsonl) for `umbral merge`, which writes
+    /// the calibration (docs/cluster.md).
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
 }
 
 /// Read a model list, or the built-in one.
@@ -64,7 +74,7 @@ fn calibrate_error(e: CalibrateError) -> CliError {
     }
 }
 
-/// Run a calibration with progress and Ctrl-C.
+/// Run a calibration with progress and Ctrl-C, its image rows from `source`.
 fn run_calibration(
     spacetime: &dyn umbral::metric::Spacetime,
     metric: &str,
@@ -72,10 +82,11 @@ fn run_calibration(
     settings: &CalibrationSettings,
     models: &ModelList,
     progress: &ProgressArgs,
+    source: RowSource<'_>,
 ) -> Result<Calibration, CliError> {
     let mut display = progress.display(Some("calibrate"))?;
     let _graceful = interrupt::Graceful::enter("image rows");
-    calibrate(
+    calibrate_from(
         spacetime,
         metric,
         parameters,
@@ -85,11 +96,57 @@ fn run_calibration(
             observers: vec![display.as_mut()],
             stop: Some(interrupt::stop_flag()),
         },
+        source,
     )
     .map_err(calibrate_error)
 }
 
-pub fn run(args: &CalibrateArgs, progress: &ProgressArgs) -> Result<(), CliError> {
+/// `umbral calibrate` as the command line gives it (`argv`: the words, for a shard file).
+pub fn run(
+    args: &CalibrateArgs,
+    progress: &ProgressArgs,
+    argv: &[OsString],
+) -> Result<(), CliError> {
+    let rows = match &args.shard {
+        Some(s) => Rows::Shard {
+            shard: parse_shard(s)?,
+            argv,
+        },
+        None => Rows::Trace,
+    };
+    run_from(args, progress, rows)
+}
+
+/// A shard's run: trace its rows of every model's image into the shard file.
+fn run_shard(
+    args: &CalibrateArgs,
+    progress: &ProgressArgs,
+    spacetime: &dyn umbral::metric::Spacetime,
+    settings: &CalibrationSettings,
+    models: &ModelList,
+    (shard, argv): (Shard, &[OsString]),
+) -> Result<(), CliError> {
+    let path = shard_file(args.out.as_deref(), "calibration")?;
+    let job = rows_job("calibrate", shard, argv, &args.metric.resolve()?)?;
+    let mut display = progress.display(Some("calibrate"))?;
+    let result = {
+        let _graceful = interrupt::Graceful::enter("image rows");
+        let controls = Controls {
+            observers: vec![display.as_mut()],
+            stop: Some(interrupt::stop_flag()),
+        };
+        calibrate_shard(spacetime, settings, models, &job, path, controls)
+    };
+    drop(display);
+    let summary = result.map_err(|e| match e {
+        CalibrateError::Run(e) => super::image::shard_error(e, path),
+        other => CliError::usage(format!("calibration: {other}")),
+    })?;
+    report_shard("calibration", shard, "image rows", path, &summary)
+}
+
+/// The calibration's settings from the arguments.
+fn settings(args: &CalibrateArgs) -> Result<CalibrationSettings, CliError> {
     let inclination = parse_finite(&args.inclination, "--inclination")?;
     if !(0.0..=180.0).contains(&inclination) {
         return Err(CliError::usage(format!(
@@ -129,7 +186,39 @@ pub fn run(args: &CalibrateArgs, progress: &ProgressArgs) -> Result<(), CliError
             args.pixels
         )));
     }
-    if let Some(out) = &args.out {
+    Ok(CalibrationSettings {
+        inclination: inclination.to_radians(),
+        resolution_uas,
+        theta_g_uas,
+        pixels: args.pixels,
+        field,
+    })
+}
+
+/// A worker rank of an MPI job: serve the calibration's image rows until rank 0 ends the
+/// program.
+#[cfg(feature = "mpi")]
+pub fn serve(
+    args: &CalibrateArgs,
+    link: &mut dyn umbral::run::cluster::WorkerLink,
+) -> Result<usize, CliError> {
+    let settings = settings(args)?;
+    let models = model_list(args.models.as_deref())?;
+    let spacetime = metric_from_args(&args.metric, &args.set)?;
+    umbral::run::calibrate::serve_calibration(spacetime.as_ref(), &settings, &models, link)
+        .map_err(|e| CliError::usage(e.to_string()))
+}
+
+/// `umbral calibrate` with its image rows from `rows`.
+pub fn run_from(
+    args: &CalibrateArgs,
+    progress: &ProgressArgs,
+    rows: Rows<'_>,
+) -> Result<(), CliError> {
+    let settings = settings(args)?;
+    if let Rows::Shard { .. } = rows {
+        shard_file(args.out.as_deref(), "calibration")?;
+    } else if let Some(out) = &args.out {
         if out.extension().and_then(|e| e.to_str()) != Some("json") {
             return Err(CliError::usage(format!(
                 "--out writes JSON: give a file name ending in .json, got '{}'",
@@ -140,12 +229,23 @@ pub fn run(args: &CalibrateArgs, progress: &ProgressArgs) -> Result<(), CliError
     let models = model_list(args.models.as_deref())?;
     let spacetime = metric_from_args(&args.metric, &args.set)?;
     let parameters: BTreeMap<String, f64> = parse_assignments(&args.set)?.into_iter().collect();
-    let settings = CalibrationSettings {
-        inclination: inclination.to_radians(),
-        resolution_uas,
-        theta_g_uas,
-        pixels: args.pixels,
-        field,
+    let source = match rows {
+        Rows::Shard { shard, argv } => {
+            let shard = (shard, argv);
+            return run_shard(
+                args,
+                progress,
+                spacetime.as_ref(),
+                &settings,
+                &models,
+                shard,
+            );
+        }
+        Rows::Merged(merged) => {
+            check_metric(merged, &args.metric.resolve()?)?;
+            RowSource::Merged(merged)
+        }
+        Rows::Trace => RowSource::Trace,
     };
     let metric = spacetime.info().name.to_string();
     let calibration = run_calibration(
@@ -155,6 +255,7 @@ pub fn run(args: &CalibrateArgs, progress: &ProgressArgs) -> Result<(), CliError
         &settings,
         &models,
         progress,
+        source,
     )?;
     let text = serde_json::to_string_pretty(&calibration).expect("serialisable");
     if let Some(out) = &args.out {

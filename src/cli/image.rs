@@ -3,11 +3,13 @@
 
 use super::args::{metric_from_args, parse_assignments, parse_finite, MetricChoice};
 use super::interrupt;
+use super::merge::{check_metric, parse_shard, report_shard, rows_job, shard_file, Rows};
 use super::progress::ProgressArgs;
 use super::CliError;
 use clap::{Args, ValueEnum};
 use serde::Serialize;
 use std::collections::BTreeMap;
+use std::ffi::OsString;
 use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use std::time::Instant;
@@ -21,7 +23,8 @@ use umbral::image::Image;
 use umbral::numfmt::Num;
 use umbral::output::OutputTransaction;
 use umbral::run::calibrate::critical_mean_radius;
-use umbral::run::image::{render, RenderError};
+use umbral::run::image::{render_from, render_shard, RenderError, RowSource};
+use umbral::run::shard::Shard;
 use umbral::run::{Controls, RunError};
 use umbral::shadow::Observer;
 
@@ -83,6 +86,11 @@ pub struct ImageArgs {
     /// Print JSON instead of text.
     #[arg(long)]
     json: bool,
+    /// Trace only shard K of N of the rows (K from 0 to N-1: every N-th row from the K-th)
+    /// into --out, a shard file (.jsonl) for `umbral merge`, which writes the image
+    /// (docs/cluster.md).
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
 }
 
 /// The ring as the JSON reports it.
@@ -191,8 +199,62 @@ pub fn render_error(e: RenderError) -> CliError {
     }
 }
 
-// Long: reads the options, renders, measures and reports in one pass; each step is a call.
-pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
+/// `umbral image` as the command line gives it (`argv`: the words, for a shard file).
+pub fn run(
+    args: &ImageArgs,
+    progress: &ProgressArgs,
+    argv: &[OsString],
+) -> Result<ExitCode, CliError> {
+    let rows = match &args.shard {
+        Some(s) => Rows::Shard {
+            shard: parse_shard(s)?,
+            argv,
+        },
+        None => Rows::Trace,
+    };
+    run_from(args, progress, rows)
+}
+
+/// A shard's run: trace its rows into the shard file.
+fn run_shard(
+    args: &ImageArgs,
+    progress: &ProgressArgs,
+    tracer: &ImageTracer,
+    shard: Shard,
+    argv: &[OsString],
+) -> Result<ExitCode, CliError> {
+    let path = shard_file(args.out.as_deref(), "image")?;
+    let job = rows_job("image", shard, argv, &args.metric.resolve()?)?;
+    let mut display = progress.display(None)?;
+    let result = {
+        let _graceful = interrupt::Graceful::enter("image rows");
+        let controls = Controls {
+            observers: vec![display.as_mut()],
+            stop: Some(interrupt::stop_flag()),
+        };
+        render_shard(tracer, &job, path, controls)
+    };
+    drop(display);
+    let summary = result.map_err(|e| shard_error(e, path))?;
+    report_shard("image", shard, "rows", path, &summary)?;
+    Ok(ExitCode::SUCCESS)
+}
+
+/// A shard's run error on the command line (Ctrl-C exits 130; the finished rows are kept).
+pub fn shard_error(e: RunError, path: &Path) -> CliError {
+    match e {
+        RunError::Interrupted { done, total } => CliError::interrupted(format!(
+            "interrupted after {done} of {} image rows; the finished rows are kept in '{}': \
+             rerun the same command to resume",
+            total.unwrap_or(0),
+            path.display()
+        )),
+        RunError::Checkpoint(e) => CliError::usage(super::args::checkpoint_message(&e, "--out")),
+    }
+}
+
+/// The inclination in degrees and the field of view in M, checked with the pixel count.
+fn geometry(args: &ImageArgs) -> Result<(f64, f64), CliError> {
     let inclination = parse_finite(&args.inclination, "--inclination")?;
     if !(0.0..=180.0).contains(&inclination) {
         return Err(CliError::usage(format!(
@@ -213,6 +275,48 @@ pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
             args.pixels
         )));
     }
+    Ok((inclination, field))
+}
+
+/// How the image is traced.
+fn image_settings(
+    args: &ImageArgs,
+    inclination: f64,
+    field: f64,
+) -> Result<ImageSettings, CliError> {
+    let observer = match &args.observer_radius {
+        None => Observer::distant(inclination.to_radians()),
+        Some(r) => Observer::at_radius(
+            inclination.to_radians(),
+            parse_finite(r, "--observer-radius")?,
+        ),
+    };
+    Ok(ImageSettings::new(observer, args.pixels, field))
+}
+
+/// A worker rank of an MPI job: serve the image's rows until rank 0 ends the program.
+#[cfg(feature = "mpi")]
+pub fn serve(
+    args: &ImageArgs,
+    link: &mut dyn umbral::run::cluster::WorkerLink,
+) -> Result<usize, CliError> {
+    let (inclination, field) = geometry(args)?;
+    let spacetime = metric_from_args(&args.metric, &args.set)?;
+    let model = model_named(&args.emission, args.models.as_deref())?;
+    let settings = image_settings(args, inclination, field)?;
+    let tracer = ImageTracer::new(spacetime.as_ref(), &model, &settings)
+        .map_err(|e| CliError::usage(e.to_string()))?;
+    Ok(umbral::run::image::serve_image(&tracer, link))
+}
+
+/// `umbral image` with its rows from `rows`.
+// Long: reads the options, renders, measures and reports in one pass; each step is a call.
+pub fn run_from(
+    args: &ImageArgs,
+    progress: &ProgressArgs,
+    rows: Rows<'_>,
+) -> Result<ExitCode, CliError> {
+    let (inclination, field) = geometry(args)?;
     let theta_g = args
         .theta_g_uas
         .as_deref()
@@ -251,19 +355,19 @@ pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
             )));
         }
     }
-    if let Some(path) = &args.out {
-        file_kind(path)?;
+    match (&rows, &args.out) {
+        (Rows::Shard { .. }, out) => {
+            shard_file(out.as_deref(), "image")?;
+        }
+        (_, Some(path)) => {
+            file_kind(path)?;
+        }
+        (_, None) => {}
     }
     let spacetime = metric_from_args(&args.metric, &args.set)?;
     let model = model_named(&args.emission, args.models.as_deref())?;
-    let observer = match &args.observer_radius {
-        None => Observer::distant(inclination.to_radians()),
-        Some(r) => Observer::at_radius(
-            inclination.to_radians(),
-            parse_finite(r, "--observer-radius")?,
-        ),
-    };
-    let settings = ImageSettings::new(observer, args.pixels, field);
+    let settings = image_settings(args, inclination, field)?;
+    let observer = settings.observer;
     let tracer = ImageTracer::new(spacetime.as_ref(), &model, &settings)
         .map_err(|e| CliError::usage(e.to_string()))?;
     if args.order != OrderArg::All && !tracer.has_orders() {
@@ -273,16 +377,25 @@ pub fn run(args: &ImageArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
             args.emission
         )));
     }
+    let source = match rows {
+        Rows::Shard { shard, argv } => return run_shard(args, progress, &tracer, shard, argv),
+        Rows::Merged(merged) => {
+            check_metric(merged, &args.metric.resolve()?)?;
+            RowSource::Merged(merged)
+        }
+        Rows::Trace => RowSource::Trace,
+    };
     let started = Instant::now();
     let rendered = {
         let mut display = progress.display(None)?;
         let _graceful = interrupt::Graceful::enter("image rows");
-        render(
+        render_from(
             &tracer,
             Controls {
                 observers: vec![display.as_mut()],
                 stop: Some(interrupt::stop_flag()),
             },
+            source,
         )
         .map_err(render_error)?
     };

@@ -119,6 +119,11 @@ pub struct InferArgs {
     /// Figure sizes: for a paper column or for a slide.
     #[arg(long, value_enum, default_value = "paper")]
     style: FigureStyle,
+    /// Trace only shard K of N of the tables' nodes (K from 0 to N-1: every N-th node from
+    /// the K-th) into shard files in the table folder, and stop: `umbral merge` writes the
+    /// tables, which a run without --shard then reads (docs/cluster.md).
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
 }
 
 /// Read `NAME=SPEC` priors.
@@ -193,16 +198,12 @@ fn stage_outputs(args: &InferArgs) -> Result<(OutputTransaction, StagedCsv), Cli
     Ok((outputs, csv_path))
 }
 
-pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
-    let metric = args.metric.resolve()?;
-    let mut sources = args
-        .measurement
-        .iter()
-        .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
-        .collect::<Result<Vec<_>, _>>()?;
-    for source in &mut sources {
-        super::calibrate::resolve_measurement(source, progress)?;
-    }
+/// The posterior's model from the arguments and the (calibrated) measurements.
+fn posterior_model(
+    args: &InferArgs,
+    metric: umbral::metrics::MetricSource,
+    sources: Vec<Measurement>,
+) -> Result<PosteriorModel, CliError> {
     let mut request = InferenceRequest::new(metric, priors(&args.priors)?, sources);
     request.size_measure = args.size_measure.measure();
     request.require_horizon = args.require_horizon;
@@ -214,7 +215,50 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         )));
     }
     request.table_nodes = args.table_nodes;
-    let model = PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))?;
+    PosteriorModel::new(&request).map_err(|e| CliError::usage(e.to_string()))
+}
+
+/// A worker rank of an MPI job: serve the grids of the tables the run builds (its own and,
+/// for nested sampling and quadrature, the GR limit's) until rank 0 ends the program. A
+/// measurement whose kappa is computed leaves the worker nothing to serve (rank 0 computes
+/// the calibration and the tables alone).
+#[cfg(feature = "mpi")]
+pub fn serve(
+    args: &InferArgs,
+    link: &mut dyn umbral::run::cluster::WorkerLink,
+) -> Result<usize, CliError> {
+    use umbral::scan::shard::{served_tables, table_requests};
+    let metric = args.metric.resolve()?;
+    let sources = args
+        .measurement
+        .iter()
+        .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
+        .collect::<Result<Vec<_>, _>>()?;
+    let model = posterior_model(args, metric, sources)?;
+    let mut requests = Vec::new();
+    if model.needs_tables() {
+        let layout = |e: umbral::posterior::InferError| CliError::usage(e.to_string());
+        requests = table_requests(&model).map_err(layout)?;
+        if matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature) {
+            requests.extend(table_requests(&model.gr_model()).map_err(layout)?);
+        }
+    }
+    let grids = served_tables(&requests);
+    let lists: Vec<&dyn umbral::run::cluster::Served> = grids.iter().map(|g| g.as_ref()).collect();
+    Ok(umbral::run::cluster::serve(link, &lists))
+}
+
+pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliError> {
+    let metric = args.metric.resolve()?;
+    let mut sources = args
+        .measurement
+        .iter()
+        .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
+        .collect::<Result<Vec<_>, _>>()?;
+    for source in &mut sources {
+        super::calibrate::resolve_measurement(source, progress)?;
+    }
+    let model = posterior_model(args, metric, sources)?;
     let dim = model.names().len();
     let settings = settings(args, dim)?;
     settings.check(&model.names()).map_err(|e| match e {
@@ -227,6 +271,9 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
         model
             .table_plans()
             .map_err(|e| CliError::usage(e.to_string()))?;
+    }
+    if let Some(shard) = &args.shard {
+        return table_shards(&model, args, super::merge::parse_shard(shard)?, progress);
     }
     let (mut outputs, csv_path) = stage_outputs(args)?;
     let model = if model.needs_tables() {
@@ -295,13 +342,8 @@ pub fn run(args: &InferArgs, progress: &ProgressArgs) -> Result<ExitCode, CliErr
     Ok(ExitCode::SUCCESS)
 }
 
-/// The model with its tables, built (or read) on the executor with progress; Ctrl-C keeps
-/// the finished nodes in the table file.
-fn with_tables(
-    model: PosteriorModel,
-    args: &InferArgs,
-    progress: &ProgressArgs,
-) -> Result<PosteriorModel, CliError> {
+/// The folder of the table files: --table-dir, else --out, else the current folder.
+fn table_dir(args: &InferArgs) -> Result<PathBuf, CliError> {
     let dir = match (&args.table_dir, &args.out) {
         (Some(dir), _) | (None, Some(dir)) => dir.clone(),
         (None, None) => PathBuf::from("."),
@@ -309,6 +351,58 @@ fn with_tables(
     std::fs::create_dir_all(&dir).map_err(|e| {
         CliError::usage(format!("--table-dir {}: cannot create: {e}", dir.display()))
     })?;
+    Ok(dir)
+}
+
+/// `--shard K/N`: shard K of every table the run needs (the GR limit's too, for nested
+/// sampling and quadrature), one shard file per table in the table folder.
+fn table_shards(
+    model: &PosteriorModel,
+    args: &InferArgs,
+    shard: umbral::run::shard::Shard,
+    progress: &ProgressArgs,
+) -> Result<ExitCode, CliError> {
+    if !model.needs_tables() {
+        return Err(CliError::usage(
+            "--shard shares out the tables infer builds, and this model needs none (an exact \
+             solver applies; --tabulate tabulates it all the same)",
+        ));
+    }
+    let dir = table_dir(args)?;
+    let mut models = vec![model.clone()];
+    if matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature) {
+        models.push(model.gr_model());
+    }
+    for m in &models {
+        let mut display = progress.display(None)?;
+        let built = {
+            let _graceful = interrupt::Graceful::enter("table nodes");
+            let controls = Controls {
+                observers: vec![display.as_mut()],
+                stop: Some(interrupt::stop_flag()),
+            };
+            umbral::scan::shard::table_shards(m, shard, &dir, controls)
+        };
+        drop(display);
+        let files = built.map_err(|e| match e {
+            TableBuildError::Scan { error, .. } => super::merge::scan_error(error, "--table-dir"),
+            other => CliError::usage(other.to_string()),
+        })?;
+        for (path, summary) in files {
+            super::merge::report_shard("table", shard, "nodes", &path, &summary)?;
+        }
+    }
+    Ok(ExitCode::SUCCESS)
+}
+
+/// The model with its tables, built (or read) on the executor with progress; Ctrl-C keeps
+/// the finished nodes in the table file.
+fn with_tables(
+    model: PosteriorModel,
+    args: &InferArgs,
+    progress: &ProgressArgs,
+) -> Result<PosteriorModel, CliError> {
+    let dir = table_dir(args)?;
     let gr_limit = matches!(args.sampler, SamplerArg::Nested | SamplerArg::Quadrature);
     let mut display = progress.display(None)?;
     let built = {

@@ -5,12 +5,15 @@ mod out;
 mod args;
 mod bound;
 mod calibrate;
+#[cfg(feature = "mpi")]
+mod cluster;
 mod demo;
 mod figure;
 mod geometry;
 mod image;
 mod infer;
 mod interrupt;
+mod merge;
 mod metrics;
 mod plot;
 mod plot_bounds;
@@ -58,6 +61,8 @@ enum Command {
     Image(image::ImageArgs),
     /// The ring-to-shadow factor kappa over a list of emission models.
     Calibrate(calibrate::CalibrateArgs),
+    /// Join the shard files of a job array (--shard K/N) into what one process writes.
+    Merge(merge::MergeArgs),
     /// Recompute pinned numbers from checks files; exit 1 if any drifted.
     Verify(verify::VerifyArgs),
 }
@@ -65,13 +70,18 @@ enum Command {
 /// Parse the arguments and run a subcommand.
 pub fn run(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliError> {
     interrupt::install();
-    let code = dispatch(args)?;
+    let argv: Vec<OsString> = args.into_iter().collect();
+    #[cfg(feature = "mpi")]
+    if let Some(job) = umbral::run::mpi::join() {
+        return cluster::run(job, &argv);
+    }
+    let code = dispatch(&argv)?;
     out::flush()?;
     Ok(code)
 }
 
-fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliError> {
-    let cli = match Cli::try_parse_from(args) {
+fn dispatch(argv: &[OsString]) -> Result<ExitCode, CliError> {
+    let cli = match Cli::try_parse_from(argv) {
         Ok(cli) => cli,
         Err(e) => {
             use clap::error::ErrorKind;
@@ -102,8 +112,9 @@ fn dispatch(args: impl IntoIterator<Item = OsString>) -> Result<ExitCode, CliErr
         Command::Scan(a) => scan::run(&a, &cli.progress),
         Command::Verify(a) => return verify::run(&a, &cli.progress),
         Command::Infer(a) => return infer::run(&a, &cli.progress),
-        Command::Image(a) => return image::run(&a, &cli.progress),
-        Command::Calibrate(a) => calibrate::run(&a, &cli.progress),
+        Command::Image(a) => return image::run(&a, &cli.progress, argv),
+        Command::Calibrate(a) => calibrate::run(&a, &cli.progress, argv),
+        Command::Merge(a) => return merge::run(&a, &cli.progress),
     }?;
     Ok(ExitCode::SUCCESS)
 }

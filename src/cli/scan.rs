@@ -68,6 +68,16 @@ pub struct ScanArgs {
     /// when a photon sphere bounds capture by its centre, and is marked horizonless).
     #[arg(long = "require-horizon")]
     require_horizon: bool,
+    /// Number of points of each critical curve (uniform in screen polar angle).
+    #[arg(long, default_value_t = 256)]
+    points: usize,
+    /// Boundary tolerance of each critical curve in M, from 1e-12 to 1e-3.
+    #[arg(long, default_value = "1e-8", allow_hyphen_values = true)]
+    tolerance: String,
+    /// Compute only shard K of N (K from 0 to N-1: every N-th point from the K-th) into
+    /// --out, a shard file for `umbral merge` (resumed if it exists; docs/cluster.md).
+    #[arg(long, value_name = "K/N")]
+    shard: Option<String>,
 }
 
 fn parse_axis(text: &str) -> Result<GridAxis, CliError> {
@@ -123,6 +133,61 @@ fn inclination(text: Option<&str>, axes: &[GridAxis]) -> Result<Option<f64>, Cli
     }
 }
 
+/// The scan the arguments ask for.
+fn scan_request(args: &ScanArgs) -> Result<ScanRequest, CliError> {
+    let axes = args
+        .grid
+        .iter()
+        .map(|g| parse_axis(g))
+        .collect::<Result<Vec<_>, _>>()?;
+    if axes.is_empty() || axes.len() > 2 {
+        return Err(CliError::usage("give --grid once or twice"));
+    }
+    let tolerance = parse_finite(&args.tolerance, "--tolerance")?;
+    let [low, high] = umbral::shadow::TOLERANCE_RANGE;
+    if !(low..=high).contains(&tolerance) {
+        return Err(CliError::usage(format!(
+            "--tolerance must lie between {} and {} M, got {}",
+            Num(low),
+            Num(high),
+            Num(tolerance)
+        )));
+    }
+    if umbral::shadow::check_points(args.points).is_err() {
+        return Err(CliError::usage(format!(
+            "--points must lie between {} and {}, got {}",
+            umbral::shadow::MIN_POINTS,
+            umbral::shadow::MAX_POINTS,
+            args.points
+        )));
+    }
+    let inclination_deg = inclination(args.inclination.as_deref(), &axes)?;
+    Ok(ScanRequest {
+        metric: args.metric.resolve()?,
+        axes,
+        fixed: parse_assignments(&args.set)?,
+        inclination_deg,
+        settings: ShadowSettings {
+            points: args.points,
+            tolerance,
+            ..ShadowSettings::default()
+        },
+        require_horizon: args.require_horizon,
+    })
+}
+
+/// A worker rank of an MPI job: serve the scan's grid until rank 0 ends the program.
+#[cfg(feature = "mpi")]
+pub fn serve(
+    args: &ScanArgs,
+    link: &mut dyn umbral::run::cluster::WorkerLink,
+) -> Result<usize, CliError> {
+    let request = scan_request(args)?;
+    let grid = umbral::scan::shard::served_scan(&request);
+    let lists: Vec<&dyn umbral::run::cluster::Served> = grid.iter().map(|g| g.as_ref()).collect();
+    Ok(umbral::run::cluster::serve(link, &lists))
+}
+
 /// Parse `umbral scan` arguments given as words (for the demo, which runs a scan itself).
 pub fn parse_args(words: &[std::ffi::OsString]) -> Result<ScanArgs, CliError> {
     use clap::FromArgMatches;
@@ -151,20 +216,22 @@ pub fn run_in(
     outputs: &mut OutputTransaction,
     display: &mut dyn umbral::run::Observe,
 ) -> Result<Option<String>, CliError> {
-    let axes = args
-        .grid
-        .iter()
-        .map(|g| parse_axis(g))
-        .collect::<Result<Vec<_>, _>>()?;
-    if axes.is_empty() || axes.len() > 2 {
-        return Err(CliError::usage("give --grid once or twice"));
+    let shard = args
+        .shard
+        .as_deref()
+        .map(super::merge::parse_shard)
+        .transpose()?;
+    if shard.is_some() && (args.plot.is_some() || args.measurement.is_some()) {
+        return Err(CliError::usage(
+            "--shard computes points only: draw the figure from the merged file",
+        ));
     }
     let measurement = args
         .measurement
         .as_deref()
         .map(|m| Measurement::from_path(Path::new(m)).map_err(|e| CliError::usage(e.to_string())))
         .transpose()?;
-    if args.plot.is_some() && measurement.is_none() && axes.len() == 2 {
+    if args.plot.is_some() && measurement.is_none() && args.grid.len() == 2 {
         return Err(CliError::usage(
             "--plot with two --grid axes draws an exclusion map: it needs --measurement",
         ));
@@ -184,15 +251,11 @@ pub fn run_in(
                 .map_err(|e| CliError::usage(e.to_string()))
         })
         .transpose()?;
-    let inclination_deg = inclination(args.inclination.as_deref(), &axes)?;
-    let request = ScanRequest {
-        metric: args.metric.resolve()?,
-        axes,
-        fixed: parse_assignments(&args.set)?,
-        inclination_deg,
-        settings: ShadowSettings::default(),
-        require_horizon: args.require_horizon,
-    };
+    let request = scan_request(args)?;
+    if let Some(shard) = shard {
+        super::merge::scan_shard(&request, shard, "scan", points_file, &args.out, display)?;
+        return Ok(None);
+    }
     if let Some(path) = &args.plot {
         stage_plot(outputs, path)?;
     }

@@ -247,6 +247,19 @@ impl<'a> ImageTracer<'a> {
         &self.settings
     }
 
+    /// Everything the pixels depend on, as text (the metric's description and parameter
+    /// values, the settings, the prepared emission): two tracers with the same identity
+    /// trace the same image, in any process of the same umbral version.
+    pub fn identity(&self) -> String {
+        format!(
+            "{:?}|{:?}|{:?}|{:?}",
+            self.spacetime.info(),
+            self.spacetime.parameter_values(),
+            self.settings,
+            self.emitter
+        )
+    }
+
     /// The disk's inner edge in M (thin disks), e.g. the ISCO found for `disk-isco`.
     pub fn disk_inner_edge(&self) -> Option<f64> {
         match self.emitter {

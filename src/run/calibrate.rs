@@ -2,8 +2,9 @@
 //! blurred to an observation's resolution, their ring diameters measured and divided by the
 //! critical curve's diameter.
 //!
-//! For each model: the image ([`crate::image::trace`]) on the executor (one stage per model,
-//! its rows the work items), blurred with a circular Gaussian of the resolution's FWHM
+//! For each model: the image ([`crate::image::trace`]) on the executor (the rows of every
+//! model's image are the work items of one run, model after model, so that the ranks of an
+//! MPI job or the shards of a job array share all of them out at once), blurred with a circular Gaussian of the resolution's FWHM
 //! converted to M with θ_g ([`crate::image::blur`]); the ring features at the native
 //! resolution and after blurring ([`crate::image::features`]); κ = blurred ring diameter /
 //! (2 R̄), with R̄ the mean radius of the critical curve about its area centroid from the
@@ -14,14 +15,16 @@
 //! by a coarse beam) has no κ: it is left out of the summary, listed in the assumptions, and
 //! fewer than [`MIN_MODELS`] models with a ring is an error.
 
-use super::image::Rows;
-use super::{Controls, Executor, RunError, Selection};
+use super::cluster::{served, Served, WorkerLink};
+use super::image::{decode_row, encode_row, RowSource};
+use super::shard::{run_shard, MergeError, ShardJob, ShardSummary};
+use super::{sha256_hex, Controls, Executor, RunError, Selection, Wire, WorkList};
 use crate::error::MetricError;
 use crate::image::blur::{gaussian_blur, uas_to_m};
 use crate::image::features::{ring_features, FeatureSettings, RingFeatures};
 use crate::image::inner_shadow::{inner_shadow, InnerShadow};
 use crate::image::models::ModelList;
-use crate::image::trace::{ImageSettings, ImageTracer, RenderedImage};
+use crate::image::trace::{ImageSettings, ImageTracer, PixelRecord, RenderedImage};
 use crate::image::ImageError;
 use crate::measurement::calibration::{CalibrationSummary, KappaSummary, CALIBRATION_FORMAT};
 use crate::measurement::{Measurement, MeasurementError, SizeMeasurement};
@@ -132,6 +135,9 @@ pub enum CalibrateError {
     /// The run stopped.
     #[error(transparent)]
     Run(#[from] RunError),
+    /// Merged shards do not hold this calibration's images.
+    #[error(transparent)]
+    Merge(#[from] MergeError),
 }
 
 impl From<ImageError> for CalibrateError {
@@ -156,8 +162,132 @@ pub fn critical_mean_radius(
     Ok((o.mean_radius, solver))
 }
 
+/// Every model's image rows as one work list: model after model, row after row (the key of
+/// row `r` of model `NAME` is `NAME row r`).
+struct ModelRows<'t, 'm> {
+    tracers: &'t [ImageTracer<'m>],
+    models: &'t ModelList,
+    pixels: usize,
+}
+
+impl WorkList for ModelRows<'_, '_> {
+    type Output = Vec<PixelRecord>;
+    fn len(&self) -> usize {
+        self.tracers.len() * self.pixels
+    }
+    fn key(&self, index: usize) -> String {
+        let name = &self.models.models[index / self.pixels].name;
+        format!("{name} row {}", index % self.pixels)
+    }
+    fn run(&self, index: usize) -> Vec<PixelRecord> {
+        self.tracers[index / self.pixels].trace_row(index % self.pixels)
+    }
+    fn wire(&self) -> Option<&dyn Wire<Vec<PixelRecord>>> {
+        Some(self)
+    }
+}
+
+impl Wire<Vec<PixelRecord>> for ModelRows<'_, '_> {
+    fn id(&self) -> String {
+        let mut text = String::from("calibration rows");
+        for (named, tracer) in self.models.models.iter().zip(self.tracers) {
+            text.push_str(&format!("|{}|{}", named.name, tracer.identity()));
+        }
+        sha256_hex(text.as_bytes())
+    }
+    fn encode(&self, row: &Vec<PixelRecord>) -> String {
+        encode_row(row)
+    }
+    fn decode(&self, text: &str) -> Result<Vec<PixelRecord>, String> {
+        decode_row(text)
+    }
+}
+
+/// The settings of every image of a calibration.
+fn image_settings(settings: &CalibrationSettings) -> Result<ImageSettings, CalibrateError> {
+    if !(settings.theta_g_uas.is_finite() && settings.theta_g_uas > 0.0) {
+        return Err(CalibrateError::BadRequest(format!(
+            "theta_g must be a positive number of uas, got {}",
+            settings.theta_g_uas
+        )));
+    }
+    settings.fwhm_m()?;
+    let observer = Observer::distant(settings.inclination);
+    Ok(ImageSettings::new(
+        observer,
+        settings.pixels,
+        settings.field_m()?,
+    ))
+}
+
+/// Each model's tracer, in the list's order.
+fn tracers<'m>(
+    spacetime: &'m dyn Spacetime,
+    models: &ModelList,
+    image_settings: &ImageSettings,
+) -> Result<Vec<ImageTracer<'m>>, CalibrateError> {
+    models
+        .models
+        .iter()
+        .map(|named| {
+            ImageTracer::new(spacetime, &named.model, image_settings).map_err(|e| {
+                CalibrateError::Model {
+                    model: named.name.clone(),
+                    message: e.to_string(),
+                }
+            })
+        })
+        .collect()
+}
+
+/// Trace shard `job.shard` of a calibration's image rows (every model's) into the shard file
+/// `path`.
+pub fn calibrate_shard(
+    spacetime: &dyn Spacetime,
+    settings: &CalibrationSettings,
+    models: &ModelList,
+    job: &ShardJob,
+    path: &Path,
+    controls: Controls<'_>,
+) -> Result<ShardSummary, CalibrateError> {
+    let image_settings = image_settings(settings)?;
+    let tracers = tracers(spacetime, models, &image_settings)?;
+    let rows = ModelRows {
+        tracers: &tracers,
+        models,
+        pixels: settings.pixels,
+    };
+    Ok(run_shard(
+        &rows,
+        job,
+        path,
+        "calibrate",
+        "image rows",
+        controls,
+    )?)
+}
+
+/// Serve a calibration's image rows to the master of an MPI job until it ends the program;
+/// returns the rows traced here.
+pub fn serve_calibration(
+    spacetime: &dyn Spacetime,
+    settings: &CalibrationSettings,
+    models: &ModelList,
+    link: &mut dyn WorkerLink,
+) -> Result<usize, CalibrateError> {
+    let image_settings = image_settings(settings)?;
+    let tracers = tracers(spacetime, models, &image_settings)?;
+    let rows = ModelRows {
+        tracers: &tracers,
+        models,
+        pixels: settings.pixels,
+    };
+    let lists: Vec<Box<dyn Served + '_>> = served(rows).into_iter().collect();
+    let lists: Vec<&dyn Served> = lists.iter().map(|b| b.as_ref()).collect();
+    Ok(super::cluster::serve(link, &lists))
+}
+
 /// Calibrate κ for `spacetime` (named `metric` with `parameters`) over `models`.
-// Long: one loop over the models (render, blur, measure) with the run's bookkeeping around it; each step is a call.
 pub fn calibrate(
     spacetime: &dyn Spacetime,
     metric: &str,
@@ -166,31 +296,57 @@ pub fn calibrate(
     models: &ModelList,
     controls: Controls<'_>,
 ) -> Result<Calibration, CalibrateError> {
-    if !(settings.theta_g_uas.is_finite() && settings.theta_g_uas > 0.0) {
-        return Err(CalibrateError::BadRequest(format!(
-            "theta_g must be a positive number of uas, got {}",
-            settings.theta_g_uas
-        )));
-    }
-    let fwhm = settings.fwhm_m()?;
-    let field = settings.field_m()?;
-    let observer = Observer::distant(settings.inclination);
+    calibrate_from(
+        spacetime,
+        metric,
+        parameters,
+        settings,
+        models,
+        controls,
+        RowSource::Trace,
+    )
+}
+
+/// [`calibrate`] with the image rows from `source`.
+// Long: one loop over the models (assemble, blur, measure) with the run's bookkeeping around it; each step is a call.
+pub fn calibrate_from(
+    spacetime: &dyn Spacetime,
+    metric: &str,
+    parameters: &BTreeMap<String, f64>,
+    settings: &CalibrationSettings,
+    models: &ModelList,
+    controls: Controls<'_>,
+    source: RowSource<'_>,
+) -> Result<Calibration, CalibrateError> {
+    let image_settings = image_settings(settings)?;
+    let (fwhm, field) = (settings.fwhm_m()?, settings.field_m()?);
+    let observer = image_settings.observer;
     let (mean_radius, solver) = critical_mean_radius(spacetime, &observer)
         .map_err(|e| CalibrateError::BadRequest(format!("no critical curve to compare: {e}")))?;
-    let image_settings = ImageSettings::new(observer, settings.pixels, field);
     let features = FeatureSettings::default();
-    let mut exec = Executor::new("calibrate", "image rows").with(controls);
+    let tracers = tracers(spacetime, models, &image_settings)?;
+    let rows = ModelRows {
+        tracers: &tracers,
+        models,
+        pixels: settings.pixels,
+    };
+    let exec = Executor::new("calibrate", "image rows").with(controls);
+    let batch = match source {
+        RowSource::Trace => exec.run(&rows, &Selection::All)?,
+        RowSource::Merged(merged) => {
+            let mut recalled = merged.recall(&rows)?;
+            exec.checkpoint(&mut recalled).run(&rows, &Selection::All)?
+        }
+    };
+    let mut outputs = batch.outputs.into_iter();
     let mut results = Vec::new();
-    for named in &models.models {
+    for (named, tracer) in models.models.iter().zip(&tracers) {
         let fail = |message: String| CalibrateError::Model {
             model: named.name.clone(),
             message,
         };
-        let tracer = ImageTracer::new(spacetime, &named.model, &image_settings)
-            .map_err(|e| fail(e.to_string()))?;
-        exec.stage(&named.name);
-        let rows = exec.batch(&Rows { tracer: &tracer }, &Selection::All)?;
-        let image = RenderedImage::assemble(&tracer, rows.outputs)?;
+        let image_rows: Vec<Vec<PixelRecord>> = outputs.by_ref().take(settings.pixels).collect();
+        let image = RenderedImage::assemble(tracer, image_rows)?;
         if image.failed > 0 {
             return Err(fail(format!(
                 "{} of {} rays failed ({})",
@@ -210,7 +366,7 @@ pub fn calibrate(
         let (native, blurred) = (native.ok(), blurred.ok());
         let inner = tracer
             .reaches_horizon()
-            .then(|| inner_shadow(&tracer, &image))
+            .then(|| inner_shadow(tracer, &image))
             .flatten();
         results.push(ModelCalibration {
             name: named.name.clone(),
@@ -224,7 +380,6 @@ pub fn calibrate(
             steps: image.steps,
         });
     }
-    exec.finish()?;
     let kappas: Vec<f64> = results.iter().filter_map(|m| m.kappa).collect();
     let left_out: Vec<String> = results
         .iter()

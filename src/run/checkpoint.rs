@@ -144,6 +144,27 @@ fn encode_body(head_text: &str, body: &str) -> String {
     format!("{open},\"checksum\":\"{}\"}}", checksum(head_text, body))
 }
 
+/// The text of a completed checkpoint: the header line `head_text`, then one line per record
+/// body (a record's JSON without its checksum), in the order given, each with its checksum.
+/// This is what [`JsonlCheckpoint`] writes when a run completes, for a program that joins
+/// records computed elsewhere (the merge of shard files).
+///
+/// ```
+/// let text = umbral::run::checkpoint_text("{\"umbral_x\":1}", ["{\"n\":1}"].into_iter());
+/// assert!(text.starts_with("{\"umbral_x\":1}\n{\"n\":1,\"checksum\":\""));
+/// assert_eq!(text.lines().count(), 2);
+/// ```
+pub fn checkpoint_text<'b>(head_text: &str, bodies: impl Iterator<Item = &'b str>) -> String {
+    let mut text = String::with_capacity(head_text.len() + 1);
+    text.push_str(head_text);
+    text.push('\n');
+    for body in bodies {
+        text.push_str(&encode_body(head_text, body));
+        text.push('\n');
+    }
+    text
+}
+
 /// The line of a record (without the newline).
 fn encode<F: RecordFormat>(
     format: &F,

@@ -58,16 +58,23 @@
 pub mod bound;
 pub mod calibrate;
 mod checkpoint;
+pub mod cluster;
 mod file;
 mod header;
 pub mod image;
 pub mod infer;
+#[cfg(feature = "mpi")]
+pub mod mpi;
 mod observe;
+pub mod shard;
 
 pub use bound::{
     bound_with, checkpoint_name, open_checkpoint, BoundCheckpoint, BoundRunError, NodeFormat,
 };
-pub use checkpoint::{remedy, Checkpoint, CheckpointError, JsonlCheckpoint, RecordFormat};
+pub use checkpoint::{
+    checkpoint_text, remedy, Checkpoint, CheckpointError, JsonlCheckpoint, RecordFormat,
+};
+pub use cluster::Wire;
 pub use header::{metric_sha256, sha256_hex, MetricHashError};
 pub use observe::{clock, LineProgress, Observe, Outcome, ProgressFn, Status};
 
@@ -92,6 +99,11 @@ pub trait WorkList: Sync {
     /// Compute item `index`. No printing, no files, no clocks: observers and checkpoints do
     /// that.
     fn run(&self, index: usize) -> Self::Output;
+    /// How the outputs travel to other processes and shard files, for a list that can be run
+    /// past one process ([`cluster`], [`shard`]); `None` (the default) keeps it here.
+    fn wire(&self) -> Option<&dyn Wire<Self::Output>> {
+        None
+    }
 }
 
 /// Which items of a work list to run.
@@ -334,8 +346,10 @@ impl<'a, O: Send> Executor<'a, O> {
         })
     }
 
-    /// The local parallel loop over the positions `todo` of `indices`: each item computed,
-    /// recorded and reported as it finishes; `None` for items not started after a stop.
+    /// The loop over the positions `todo` of `indices`: each item computed, recorded and
+    /// reported as it finishes; `None` for items not started after a stop. Lists with a
+    /// wire go to the installed cluster master if there is one ([`cluster`]), others run
+    /// here in parallel.
     fn compute<W: WorkList<Output = O>>(
         &mut self,
         work: &W,
@@ -349,21 +363,39 @@ impl<'a, O: Send> Executor<'a, O> {
             observers: &mut self.observers,
             checkpoint: self.checkpoint.as_deref_mut(),
         });
+        let finish = |p: usize, out: &O| -> Result<(), RunError> {
+            let mut guard = shared.lock().unwrap_or_else(|e| e.into_inner());
+            let s = &mut *guard;
+            if let Some(c) = s.checkpoint.as_deref_mut() {
+                c.record(&keys[p], out)?;
+            }
+            s.status.done += 1;
+            for o in s.observers.iter_mut() {
+                o.item_done(s.status);
+            }
+            Ok(())
+        };
+        if work.wire().is_some() && cluster::active() {
+            let mut slots: Vec<Option<O>> = (0..keys.len()).map(|_| None).collect();
+            let mut deliver = |q: usize, out: O| -> Result<(), RunError> {
+                let p = todo[q];
+                finish(p, &out)?;
+                slots[p] = Some(out);
+                Ok(())
+            };
+            if let Some(result) = cluster::run_distributed(work, indices, todo, stop, &mut deliver)
+            {
+                result?;
+                return Ok(todo.iter().map(|&p| slots[p].take()).collect());
+            }
+        }
         todo.par_iter()
             .map(|&p| -> Result<Option<O>, RunError> {
                 if stop.is_some_and(|s| s.load(Ordering::Relaxed)) {
                     return Ok(None);
                 }
                 let out = work.run(indices[p]);
-                let mut guard = shared.lock().unwrap_or_else(|e| e.into_inner());
-                let s = &mut *guard;
-                if let Some(c) = s.checkpoint.as_deref_mut() {
-                    c.record(&keys[p], &out)?;
-                }
-                s.status.done += 1;
-                for o in s.observers.iter_mut() {
-                    o.item_done(s.status);
-                }
+                finish(p, &out)?;
                 Ok(Some(out))
             })
             .collect()

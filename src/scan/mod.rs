@@ -41,6 +41,7 @@
 mod header;
 mod lines;
 pub mod refine;
+pub mod shard;
 pub mod table;
 
 pub use header::FORMAT;
@@ -723,6 +724,10 @@ impl WorkList for Grid<'_> {
 
     fn run(&self, index: usize) -> ScanPoint {
         compute_point(self.request, &self.indices[index])
+    }
+
+    fn wire(&self) -> Option<&dyn crate::run::Wire<ScanPoint>> {
+        Some(self) // shard.rs
     }
 }
 

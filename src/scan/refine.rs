@@ -153,11 +153,14 @@ fn has_horizon_at(request: &ScanRequest, (x, y): (f64, f64)) -> bool {
     }
 }
 
-/// The fine nodes to compute, as (fine index, cell, local index).
+/// A fine node to compute: its fine index, its coarse cell and its index in the cell.
+type FineTask = (usize, (usize, usize), (usize, usize));
+
+/// The fine nodes to compute.
 struct Refinement<'r> {
     request: &'r ScanRequest,
     factor: usize,
-    nodes: Vec<(usize, (usize, usize), (usize, usize))>,
+    nodes: Vec<FineTask>,
 }
 
 impl WorkList for Refinement<'_> {
@@ -236,7 +239,7 @@ pub fn refine(
     let mut todo = Vec::new();
     for fj in 0..ny {
         for fi in 0..nx {
-            if fi % r == 0 && fj % r == 0 {
+            if fi.is_multiple_of(r) && fj.is_multiple_of(r) {
                 continue;
             }
             let touching = cells_touching(fi, fj, r, (ax.count, ay.count));
@@ -316,7 +319,7 @@ pub fn refine(
 fn cells_touching(fi: usize, fj: usize, r: usize, (cx, cy): (usize, usize)) -> Vec<(usize, usize)> {
     let range = |f: usize, count: usize| -> Vec<usize> {
         let c = f / r;
-        if f % r == 0 {
+        if f.is_multiple_of(r) {
             [c.checked_sub(1), (c < count - 1).then_some(c)]
                 .into_iter()
                 .flatten()
@@ -416,7 +419,7 @@ fn trace_horizon(
                     }
                     has[k] = Some(if !mixed {
                         corners[0]
-                    } else if li % r == 0 && lj % r == 0 {
+                    } else if li.is_multiple_of(r) && lj.is_multiple_of(r) {
                         c(ci + li / r, cj + lj / r)
                     } else {
                         has_horizon_at(request, (x[ci * r + li], y[cj * r + lj]))
