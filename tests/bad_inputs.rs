@@ -335,7 +335,7 @@ fn table() -> Vec<Case> {
         c("shadow: two comma lists", 0, "shadow --metric kerr-newman --inclination 30 --set a=0.1,0.2 --set q=0.1,0.2", &[], Error("only one parameter")),
         c("shadow: empty list member", 0, "shadow --metric kerr --inclination 30 --set a=0.1,,0.2", &[], Error("number")),
         c("shadow: family member outside the domain", 0, "shadow --metric johannsen --inclination 30 --set a=0.1,2", &[], Error("domain")),
-        c("shadow: plot not SVG", 0, "shadow --metric kerr --inclination 30 --plot x.png", &[], Error(".svg")),
+        c("shadow: plot neither SVG, PNG nor PDF", 0, "shadow --metric kerr --inclination 30 --plot x.jpg", &[], Error(".svg, .png or .pdf")),
         c("shadow: csv into a missing folder", 0, "shadow --metric kerr --inclination 30 --points 16 --csv nodir/x.csv", &[], Error("x.csv")),
         c("shadow: plot into a missing folder", 0, "shadow --metric kerr --inclination 30 --points 16 --plot nodir/x.svg", &[], Error("x.svg")),
         c("shadow: csv written, then the plot fails", 19, "shadow --metric kerr --inclination 30 --points 16 --csv c.csv --plot nodir/x.svg", &[], Error("x.svg")),
@@ -380,7 +380,7 @@ fn table() -> Vec<Case> {
         c("bound: inclination range reversed", 0, "bound --metric kerr --vary a=0:0.9 --inclination-range 30:10 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("LO < HI")),
         c("bound: both inclination forms", 0, "bound --metric kerr --vary a=0:0.9 --inclination 30 --inclination-range 10:30 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("cannot be used with|not both")),
         c("bound: rotating metric without inclination", 0, "bound --metric kerr --vary a=0:0.9 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("--inclination")),
-        c("bound: plot not SVG", 0, "bound --metric reissner-nordstrom --vary q=0:1 --measurement m.toml --plot b.png", &[("m.toml", Repo(MEAS_FILE, &[]))], Error(".svg")),
+        c("bound: plot neither SVG, PNG nor PDF", 0, "bound --metric reissner-nordstrom --vary q=0:1 --measurement m.toml --plot b.gif", &[("m.toml", Repo(MEAS_FILE, &[]))], Error(".svg, .png or .pdf")),
         c("bound: --json to a full disk", 14, "bound --metric reissner-nordstrom --vary q=0:1 --measurement m.toml --json >/dev/full", &[("m.toml", Repo(MEAS_FILE, &[]))], Error("write|space")),
         c("bound: JNW horizonless values are evaluated", 7, "bound --metric jnw --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[]))], Success("horizonless")),
         c("bound: JNW metric file, horizonless values evaluated", 7, "bound --metric-file j.toml --vary nu=0.3:1 --measurement m.toml", &[("m.toml", Repo(MEAS_FILE, &[])), ("j.toml", Repo("metrics/jnw.toml", &[]))], Success("horizonless")),
@@ -424,7 +424,7 @@ fn table() -> Vec<Case> {
         c("scan: --out is a FIFO", 12, "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out p.jsonl", &[("p.jsonl", Fifo)], Error("regular file")),
         c("scan: measurement /dev/zero", 12, "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out s.jsonl --measurement /dev/zero", &[], Error("regular file")),
         c("scan: plot without measurement", 0, "scan --metric kerr-newman --grid a=0:0.5:3 --grid q=0:0.5:3 --inclination 30 --out s.jsonl --plot m.svg", &[], Error("--measurement")),
-        c("scan: plot not SVG", 0, "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out s.jsonl --plot m.png", &[], Error(".svg")),
+        c("scan: plot neither SVG, PNG nor PDF", 0, "scan --metric kerr --grid a=0:0.5:3 --inclination 30 --out s.jsonl --plot m.eps", &[], Error(".svg, .png or .pdf")),
         c("scan file: written with other arguments", 0, "scan --metric reissner-nordstrom --grid q=0:0.9:4 --inclination 45 --out s.jsonl", &[("s.jsonl", Scan(ScanBase::Rn, unchanged))], Error("different arguments")),
         c("scan file: not a scan file", 0, SCAN_RN, &[("s.jsonl", Text("not a scan\n", &[]))], Error("s.jsonl")),
         c("scan file: metric file edited since", 1, SCAN_RN_FILE, &[("m.toml", Repo("metrics/reissner-nordstrom.toml", &[("C = \"r^2\"", "C = \"r^2 + q^2\"")])), ("s.jsonl", Scan(ScanBase::RnFile, unchanged))], Error("s.jsonl|m.toml")),
@@ -824,8 +824,9 @@ fn named_outputs(args: &[String]) -> BTreeSet<PathBuf> {
 }
 
 fn mean_radius(stdout: &[u8]) -> Option<f64> {
+    // `shadow --json` prints a list, one element per parameter value.
     let v: serde_json::Value = serde_json::from_slice(stdout).ok()?;
-    v["observables"]["mean_radius"].as_f64()
+    v[0]["observables"]["mean_radius"].as_f64()
 }
 
 /// Run one row; the list of what went wrong (empty when the row holds).

@@ -299,7 +299,11 @@ fn cli_bound_json_has_the_documented_keys() {
     assert_eq!(level["radius_interval"].as_array().unwrap().len(), 2);
     assert!(level["allowed"][0].as_array().unwrap().len() == 2);
     let svg = std::fs::read_to_string(&plot).unwrap();
-    assert!(svg.contains("<svg") && svg.contains("measured r_sh/M"));
+    assert!(
+        svg.contains("<svg") && svg.contains("measured at 68 %"),
+        "{svg}"
+    );
+    assert!(svg.contains("predicted mean radius / M"), "{svg}");
     let _ = std::fs::remove_file(plot);
 }
 

@@ -331,7 +331,7 @@ fn csv_is_not_left_half_written_when_plot_fails() {
     )));
     assert_error(
         &out,
-        &["cannot write plot '/nonexistent-dir/x.svg'"],
+        &["cannot write figure '/nonexistent-dir/x.svg'"],
         "plot",
     );
     assert_eq!(

@@ -139,7 +139,7 @@ fn a_bad_plot_path_fails_before_sampling() {
         ("corner.png", "give a file name ending in .svg"),
         (
             "no-such-folder/corner.svg",
-            "cannot write plot 'no-such-folder/corner.svg'",
+            "cannot write figure 'no-such-folder/corner.svg'",
         ),
     ] {
         // Killed (and failed) after 10 s if it started sampling.

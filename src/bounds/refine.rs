@@ -573,7 +573,9 @@ fn snap_horizon_edges(prep: &Prepared, result: &mut BoundResult) {
     for level in result.levels.iter_mut() {
         for range in level.allowed.iter_mut() {
             for end in range.iter_mut() {
-                if let Some(&(_, c)) = moved.iter().find(|(y, _)| y == end) {
+                // The same nearness as `BoundResult::end_kind` uses for a horizon edge.
+                let near = |y: f64| (*end - y).abs() <= 1e-6 * (1.0 + y.abs());
+                if let Some(&(_, c)) = moved.iter().find(|(y, _)| near(*y)) {
                     *end = c;
                 }
             }

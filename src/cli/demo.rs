@@ -799,6 +799,7 @@ impl Results<'_> {
         {
             outln!("  {}", out.join(name).display())?;
         }
+        outln!("  and every .svg figure also as .png and .pdf")?;
         Ok(())
     }
 }

@@ -535,9 +535,60 @@ pub fn encode(svg: &str, format: FigureFormat, theme: &Theme) -> Result<Vec<u8>,
             svg2pdf::ConversionOptions::default(),
             svg2pdf::PageOptions::default(),
         )
+        .map(|pdf| sorted_resources(&pdf))
         .map_err(|e| e.to_string()),
         FigureFormat::Svg => unreachable!("returned above"),
     }
+}
+
+/// The PDF with the entries of its resource dictionaries in sorted order. svg2pdf writes them
+/// in a hash map's order, which changes from run to run; the entries are lines of the form
+/// `/name N 0 R`, and sorting a run of them keeps its length, so every object's offset in the
+/// cross-reference table stays right. The same figure then gives the same bytes every time.
+fn sorted_resources(pdf: &[u8]) -> Vec<u8> {
+    fn entry(line: &[u8]) -> bool {
+        let text = match std::str::from_utf8(line) {
+            Ok(t) => t.trim_start_matches(' '),
+            Err(_) => return false,
+        };
+        let mut words = text.split(' ');
+        let (Some(name), Some(number), Some("0"), Some("R"), None) = (
+            words.next(),
+            words.next(),
+            words.next(),
+            words.next(),
+            words.next(),
+        ) else {
+            return false;
+        };
+        name.starts_with('/')
+            && name.len() > 1
+            && name[1..].chars().all(|c| c.is_ascii_alphanumeric())
+            && !number.is_empty()
+            && number.chars().all(|c| c.is_ascii_digit())
+    }
+    let mut out = Vec::with_capacity(pdf.len());
+    let lines: Vec<&[u8]> = pdf.split_inclusive(|&b| b == b'\n').collect();
+    let mut k = 0;
+    while k < lines.len() {
+        let body = |l: &[u8]| l.strip_suffix(b"\n").unwrap_or(l).to_vec();
+        if entry(&body(lines[k])) && lines[k].ends_with(b"\n") {
+            let mut end = k;
+            while end < lines.len() && lines[end].ends_with(b"\n") && entry(&body(lines[end])) {
+                end += 1;
+            }
+            let mut run: Vec<&[u8]> = lines[k..end].to_vec();
+            run.sort();
+            for line in run {
+                out.extend_from_slice(line);
+            }
+            k = end;
+        } else {
+            out.extend_from_slice(lines[k]);
+            k += 1;
+        }
+    }
+    out
 }
 
 /// Write the figure `svg` to its staged file `path` in the format its extension names.
