@@ -39,3 +39,13 @@ def test_image_files_read_back_with_numpy_and_astropy(tmp_path):
     assert check.returncode == 0, check.stdout + check.stderr
     last = check.stdout.strip().splitlines()[-1]
     assert last.endswith(" 0 failed") and not last.startswith("0 passed"), last
+
+
+def test_the_readme_python_example_runs_and_prints_what_it_says():
+    text = (ROOT / "README.md").read_text()
+    code = text.split("```python\n", 1)[1].split("```", 1)[0]
+    run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=300)
+    assert run.returncode == 0, run.stderr
+    printed = run.stdout.splitlines()
+    said = [line.split("# ", 1)[1] for line in code.splitlines() if "print(" in line]
+    assert printed == said
