@@ -147,11 +147,11 @@ fn size_measure(name: &str) -> Result<SizeMeasure, Fail> {
     }
 }
 
-/// `PARAM=LO:HI` with LO < HI, both finite.
+/// `PARAM=LO:HI` with LO < HI, both finite (`what` names it in the message: `vary q`).
 fn range(name: &str, (low, high): (f64, f64), what: &str) -> Result<ParameterRange, Fail> {
     if !(low.is_finite() && high.is_finite()) || low >= high {
         return Err(Fail::Input(format!(
-            "{what} {name}: need LO < HI, got {}:{}",
+            "{what}: need LO < HI, got {}:{}",
             Num(low),
             Num(high)
         )));
@@ -182,16 +182,16 @@ pub fn bound_json(
     progress: bool,
 ) -> PyResult<String> {
     let run = |stop: &std::sync::atomic::AtomicBool| -> Result<String, Fail> {
-        let vary = range(&vary.0, vary.1, "vary")?;
+        let vary = range(&vary.0, vary.1, &format!("vary {}", vary.0))?;
         let nuisance = nuisance
             .iter()
-            .map(|(n, r)| range(n, *r, "nuisance"))
+            .map(|(n, r)| range(n, *r, &format!("nuisance {n}")))
             .collect::<Result<Vec<_>, _>>()?;
         let fixed = metric.assignments.clone();
         let inclination = match (inclination, inclination_range) {
             (Some(degrees), None) => Inclination::Fixed { degrees },
             (None, Some((low_degrees, high_degrees))) => {
-                range("", (low_degrees, high_degrees), "inclination")?;
+                range("inclination", (low_degrees, high_degrees), "inclination")?;
                 Inclination::Range {
                     low_degrees,
                     high_degrees,

@@ -167,12 +167,8 @@ impl Metric {
 impl Metric {
     /// Every parameter's name and value.
     fn values(&self) -> Vec<(String, f64)> {
-        let info = self.built.info();
-        info.parameters
-            .iter()
-            .map(|p| p.name.clone())
-            .zip(self.built.parameter_values())
-            .collect()
+        let names = self.built.info().parameters.iter().map(|p| p.name.clone());
+        names.zip(self.built.parameter_values()).collect()
     }
 
     /// The catalogue entry as JSON.

@@ -151,3 +151,27 @@ def test_errors_carry_the_cli_message(cli, tmp_path, call, args):
     with pytest.raises(umbral.InputError) as raised:
         call()
     assert str(raised.value) == err.strip().removeprefix("error: ")
+
+
+@pytest.mark.parametrize(
+    "call, args",
+    [
+        (lambda: umbral.shadow("kerr", inclination=200), ["shadow", "--metric", "kerr", "--inclination", "200"]),
+        (
+            lambda: umbral.bound("kerr", vary={"a": (0.9, 0.0)}, inclination=30, measurement=EXAMPLES / "measurement_radius.toml"),
+            ["bound", "--metric", "kerr", "--vary", "a=0.9:0", "--inclination", "30", "--measurement", EXAMPLES / "measurement_radius.toml"],
+        ),
+        (
+            lambda: umbral.infer("reissner-nordstrom", EXAMPLES / "infer_source_alder.toml", priors={"q": "uniform:0:1"}, samples=5),
+            ["infer", "--metric", "reissner-nordstrom", "--prior", "q=uniform:0:1", "--measurement", EXAMPLES / "infer_source_alder.toml", "--samples", "5"],
+        ),
+    ],
+    ids=["shadow inclination", "bound range", "infer samples"],
+)
+def test_errors_about_an_option_name_the_keyword(cli, call, args):
+    """Where the command line names its option (`--inclination`), Python names the keyword."""
+    code, _, err = cli(*args)
+    assert code == 2
+    with pytest.raises(umbral.InputError) as raised:
+        call()
+    assert str(raised.value) == err.strip().removeprefix("error: --")

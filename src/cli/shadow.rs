@@ -7,8 +7,7 @@ use clap::{Args, ValueEnum};
 use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::numfmt::Num;
-pub use umbral::observables::ShadowReport;
-use umbral::observables::{CentreChoice, Observables, Quantity};
+use umbral::observables::{shadow_report, CentreChoice, Observables, Quantity, ShadowReport};
 use umbral::output::OutputTransaction;
 use umbral::shadow::{self, Observer, ShadowSettings, SolverChoice};
 
@@ -56,18 +55,6 @@ pub struct ShadowArgs {
     /// Write an SVG figure of the curve(s).
     #[arg(long, value_name = "FILE.svg")]
     plot: Option<String>,
-}
-
-/// Solve one shadow and reduce it to observables ([`umbral::observables::shadow_report`]).
-pub fn shadow_report(
-    metric: &dyn Spacetime,
-    inclination_deg: f64,
-    observer: &Observer,
-    settings: &ShadowSettings,
-    centre: CentreChoice,
-) -> Result<ShadowReport, CliError> {
-    umbral::observables::shadow_report(metric, inclination_deg, observer, settings, centre)
-        .map_err(|e| CliError::usage(e.to_string()))
 }
 
 fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), CliError> {
@@ -288,7 +275,10 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
     }
     let reports: Vec<ShadowReport> = metrics
         .iter()
-        .map(|m| shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre))
+        .map(|m| {
+            shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre)
+                .map_err(|e| CliError::usage(e.to_string()))
+        })
         .collect::<Result<_, _>>()?;
     if let Some(path) = &args.csv {
         outputs.write(Path::new(path), csv_text(&reports).as_bytes())?;
