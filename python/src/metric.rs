@@ -167,7 +167,8 @@ impl Metric {
 impl Metric {
     /// Every parameter's name and value.
     fn values(&self) -> Vec<(String, f64)> {
-        let names = self.built.info().parameters.iter().map(|p| p.name.clone());
+        let info = self.built.info();
+        let names = info.parameters.iter().map(|p| p.name.clone());
         names.zip(self.built.parameter_values()).collect()
     }
 
