@@ -152,3 +152,13 @@ def test_the_error_classes():
 def test_the_docstring_examples_run():
     result = doctest.testmod(umbral, extraglobs={"umbral": umbral}, optionflags=doctest.NORMALIZE_WHITESPACE)
     assert result.attempted >= 3 and result.failed == 0
+
+
+def test_progress_lines_go_to_standard_error():
+    import subprocess
+    import sys
+
+    code = "import umbral; umbral.scan('kerr', grid={'a': [0.0, 0.5]}, inclination=30, progress=True)"
+    run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
+    assert run.returncode == 0 and run.stdout == ""
+    assert run.stderr.splitlines()[-1].startswith("scan: 2/2 points (100%)"), run.stderr
