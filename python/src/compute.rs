@@ -119,7 +119,7 @@ pub fn shadow_json(
 fn measurement(
     path: &Path,
     stop: &std::sync::atomic::AtomicBool,
-    progress: bool,
+    progress: Option<f64>,
 ) -> Result<Measurement, Fail> {
     let mut m = Measurement::from_path(path).map_err(input)?;
     let mut line = progress_lines(progress);
@@ -179,7 +179,7 @@ pub fn bound_json(
     levels: Option<Vec<f64>>,
     require_horizon: bool,
     checkpoint: Option<PathBuf>,
-    progress: bool,
+    progress: Option<f64>,
 ) -> PyResult<String> {
     let run = |stop: &std::sync::atomic::AtomicBool| -> Result<String, Fail> {
         let vary = range(&vary.0, vary.1, &format!("vary {}", vary.0))?;
@@ -271,7 +271,7 @@ pub struct InferOptions {
     tabulate: bool,
     table_nodes: usize,
     table_dir: PathBuf,
-    progress: bool,
+    progress: Option<f64>,
 }
 
 /// A posterior: its report (as `umbral infer --json`, JSON), the sample columns and the
@@ -409,7 +409,7 @@ pub struct ImageOptions {
     blur_m: Option<f64>,
     theta_g_uas: Option<f64>,
     order: String,
-    progress: bool,
+    progress: Option<f64>,
 }
 
 /// An image (row 0 at the top), as `umbral image --out FILE.npy` writes it.

@@ -33,9 +33,10 @@ fn axis(name: String, values: Vec<f64>) -> GridAxis {
     GridAxis::from_values(&name, values)
 }
 
-/// The progress observer the `progress` argument asks for.
-pub fn progress_lines(progress: bool) -> Option<LineProgress> {
-    progress.then(|| LineProgress::stderr(std::time::Duration::from_secs(5)))
+/// The progress observer the `progress` argument asks for: a line on standard error at most
+/// every so many seconds.
+pub fn progress_lines(every: Option<f64>) -> Option<LineProgress> {
+    every.map(|s| LineProgress::stderr(std::time::Duration::from_secs_f64(s.clamp(0.0, 1e6))))
 }
 
 /// The observers of a run.
@@ -57,7 +58,7 @@ pub fn scan<'py>(
     settings: (usize, String, f64),
     require_horizon: bool,
     out: Option<PathBuf>,
-    progress: bool,
+    progress: Option<f64>,
 ) -> PyResult<Bound<'py, PyDict>> {
     let request = ScanRequest {
         metric: metric.source.clone(),

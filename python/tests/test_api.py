@@ -158,7 +158,7 @@ def test_progress_lines_go_to_standard_error():
     import subprocess
     import sys
 
-    code = "import umbral; umbral.scan('kerr', grid={'a': [0.0, 0.5]}, inclination=30, progress=True)"
+    code = "import umbral; umbral.scan('kerr', grid={'a': [0.0, 0.5]}, inclination=30, progress=0)"
     run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=120)
     assert run.returncode == 0 and run.stdout == ""
     assert run.stderr.splitlines()[-1].startswith("scan: 2/2 points (100%)"), run.stderr

@@ -60,6 +60,15 @@ PathLike = Union[str, "os.PathLike[str]"]
 Range = Tuple[float, float]
 
 
+def _progress(progress: Union[bool, float]) -> Optional[float]:
+    """Seconds between progress lines, or None for none."""
+    if progress is True:
+        return 5.0
+    if progress is False or progress is None:
+        return None
+    return float(progress)
+
+
 def _metric(metric: Union[Metric, str]) -> Metric:
     """A Metric from a Metric or a built-in name."""
     if isinstance(metric, str):
@@ -223,7 +232,7 @@ def scan(
     tolerance: float = 1e-8,
     require_horizon: bool = False,
     out: Optional[PathLike] = None,
-    progress: bool = False,
+    progress: Union[bool, float] = False,
 ) -> ScanResult:
     """Observables on a grid of one or two axes (``umbral scan``).
 
@@ -246,8 +255,9 @@ def scan(
     out : path, optional
         Also write the points to this JSON-lines scan file, resumable: a call stopped by
         Ctrl-C keeps its finished points there and the same call continues.
-    progress : bool
-        Print a progress line on standard error every 5 seconds.
+    progress : bool or float
+        Print a progress line on standard error every 5 seconds (or every so many seconds),
+        and a last one at the end of a run that printed any.
 
     Returns
     -------
@@ -261,7 +271,7 @@ def scan(
         _metric(metric), [(n, v.tolist()) for n, v in axes],
         None if inclination is None else float(inclination),
         (int(points), str(solver), float(tolerance)), bool(require_horizon),
-        None if out is None else os.fspath(out), bool(progress),
+        None if out is None else os.fspath(out), _progress(progress),
     )
     shape = tuple(len(v) for _, v in axes)
     result = ScanResult()
@@ -294,7 +304,7 @@ def bound(
     levels: Optional[Sequence[float]] = None,
     require_horizon: bool = False,
     checkpoint: Optional[PathLike] = None,
-    progress: bool = False,
+    progress: Union[bool, float] = False,
 ) -> dict[str, Any]:
     """Allowed ranges of a parameter from a measured shadow or ring (``umbral bound``).
 
@@ -318,8 +328,9 @@ def bound(
         Evaluate only values with a horizon.
     checkpoint : path, optional
         Keep every nuisance evaluation in this JSON-lines file and resume from it.
-    progress : bool
-        Print a progress line on standard error every 5 seconds.
+    progress : bool or float
+        Print a progress line on standard error every 5 seconds (or every so many seconds),
+        and a last one at the end of a run that printed any.
 
     Returns
     -------
@@ -342,7 +353,7 @@ def bound(
         fixed_inclination, inclination_range,
         [(str(n), (float(lo), float(hi))) for n, (lo, hi) in (nuisance or {}).items()],
         str(size_measure), None if levels is None else [float(x) for x in levels],
-        bool(require_horizon), None if checkpoint is None else os.fspath(checkpoint), bool(progress),
+        bool(require_horizon), None if checkpoint is None else os.fspath(checkpoint), _progress(progress),
     )
     return json.loads(text)
 
@@ -396,7 +407,7 @@ def infer(
     tabulate: bool = False,
     table_nodes: int = 9,
     table_dir: PathLike = ".",
-    progress: bool = False,
+    progress: Union[bool, float] = False,
 ) -> Posterior:
     """The posterior of a metric's parameters from measured sources (``umbral infer``).
 
@@ -420,8 +431,9 @@ def infer(
         As the command line's options of the same names.
     table_dir : path
         Folder of the interpolation tables (ray-traced metrics, or ``tabulate``).
-    progress : bool
-        Print a progress line on standard error every 5 seconds.
+    progress : bool or float
+        Print a progress line on standard error every 5 seconds (or every so many seconds),
+        and a last one at the end of a run that printed any.
 
     Returns
     -------
@@ -449,7 +461,7 @@ def infer(
         "tabulate": bool(tabulate),
         "table_nodes": int(table_nodes),
         "table_dir": os.fspath(table_dir),
-        "progress": bool(progress),
+        "progress": _progress(progress),
     }
     report, names, rows = _umbral.infer(_metric(metric), [os.fspath(m) for m in measurements], _Options(options))
     return Posterior(json.loads(report), names, rows)
@@ -474,7 +486,7 @@ def image(
     blur_m: Optional[float] = None,
     theta_g_uas: Optional[float] = None,
     order: Union[str, int] = "all",
-    progress: bool = False,
+    progress: Union[bool, float] = False,
 ) -> np.ndarray:
     """An image of an emission model around a metric (``umbral image``).
 
@@ -500,8 +512,9 @@ def image(
         Blur to this FWHM in M instead.
     order : str or int
         ``"all"``, or the light crossing the equator 0, 1 or 2 (and more) times.
-    progress : bool
-        Print a progress line on standard error every 5 seconds.
+    progress : bool or float
+        Print a progress line on standard error every 5 seconds (or every so many seconds),
+        and a last one at the end of a run that printed any.
 
     Returns
     -------
@@ -525,6 +538,6 @@ def image(
         "blur_m": None if blur_m is None else float(blur_m),
         "theta_g_uas": None if theta_g_uas is None else float(theta_g_uas),
         "order": str(order),
-        "progress": bool(progress),
+        "progress": _progress(progress),
     }
     return _umbral.image(_metric(metric), _Options(options))

@@ -42,7 +42,7 @@ def scan(
     settings: _Settings,
     require_horizon: bool,
     out: Optional[_Path],
-    progress: bool,
+    progress: Optional[float],
 ) -> dict[str, Any]: ...
 def bound_json(
     metric: Metric,
@@ -55,7 +55,7 @@ def bound_json(
     levels: Optional[Sequence[float]],
     require_horizon: bool,
     checkpoint: Optional[_Path],
-    progress: bool,
+    progress: Optional[float],
 ) -> str: ...
 def infer(
     metric: Metric, measurements: Sequence[_Path], options: Any
