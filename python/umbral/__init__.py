@@ -329,8 +329,7 @@ def bound(
     checkpoint : path, optional
         Keep every nuisance evaluation in this JSON-lines file and resume from it.
     progress : bool or float
-        Print a progress line on standard error every 5 seconds (or every so many seconds),
-        and a last one at the end of a run that printed any.
+        As in :func:`scan`.
 
     Returns
     -------
@@ -432,8 +431,7 @@ def infer(
     table_dir : path
         Folder of the interpolation tables (ray-traced metrics, or ``tabulate``).
     progress : bool or float
-        Print a progress line on standard error every 5 seconds (or every so many seconds),
-        and a last one at the end of a run that printed any.
+        As in :func:`scan`.
 
     Returns
     -------
@@ -513,8 +511,7 @@ def image(
     order : str or int
         ``"all"``, or the light crossing the equator 0, 1 or 2 (and more) times.
     progress : bool or float
-        Print a progress line on standard error every 5 seconds (or every so many seconds),
-        and a last one at the end of a run that printed any.
+        As in :func:`scan`.
 
     Returns
     -------
