@@ -1029,7 +1029,6 @@ pub fn shadow_report(
         result,
         observables,
     } = shadow(metric, &request)?;
-    let info = metric.info();
     let (status, reason) = match &result.status {
         ShadowStatus::Shadow => ("shadow", None),
         ShadowStatus::NoShadow { reason } => ("no_shadow", Some(reason.clone())),
@@ -1045,13 +1044,8 @@ pub fn shadow_report(
         CurvePoints { alpha, beta }
     });
     Ok(ShadowReport {
-        metric: info.name.clone(),
-        parameters: info
-            .parameters
-            .iter()
-            .map(|p| p.name.clone())
-            .zip(metric.parameter_values())
-            .collect(),
+        metric: metric.info().name.clone(),
+        parameters: crate::metric::parameter_map(metric),
         inclination_deg,
         observer_radius: observer.radius,
         solver: result.solver,

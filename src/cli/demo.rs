@@ -11,7 +11,6 @@ use super::infer::{json_report, samples_csv, verdict, write_corner_plot};
 use super::interrupt;
 use super::plot::{screen_curves, ScreenCurve, ScreenFigure};
 use super::progress::ProgressArgs;
-use super::shadow::{shadow_report, ShadowReport};
 use super::CliError;
 use clap::Args;
 use serde::Serialize;
@@ -27,7 +26,7 @@ use umbral::measurement::constants::theta_g_uas;
 use umbral::measurement::{DerivedRadii, Measurement};
 use umbral::metric::Classification;
 use umbral::metrics::{build_metric, MetricSource};
-use umbral::observables::CentreChoice;
+use umbral::observables::{shadow_report, CentreChoice, ShadowReport};
 use umbral::output::OutputTransaction;
 use umbral::posterior::{
     InferRunError, InferSettings, Inference, InferenceRequest, ParameterSummary, PosteriorModel,
@@ -147,6 +146,7 @@ impl WorkList for Family<'_> {
             self.settings,
             CentreChoice::Centroid,
         )
+        .map_err(|e| CliError::usage(e.to_string()))
     }
 }
 

@@ -78,12 +78,7 @@ fn report(
     };
     Ok(GeometryReport {
         metric: info.name.clone(),
-        parameters: info
-            .parameters
-            .iter()
-            .map(|p| p.name.clone())
-            .zip(metric.parameter_values())
-            .collect(),
+        parameters: umbral::metric::parameter_map(metric),
         point: Point { r, theta },
         g: rows(&g),
         g_inverse: rows(&g_inv),

@@ -174,18 +174,7 @@ fn order_name(order: OrderArg) -> &'static str {
 /// Find `name` in the model list (`--models`, else the built-in list), then among the
 /// built-in names.
 pub fn model_named(name: &str, list: Option<&Path>) -> Result<EmissionModel, CliError> {
-    let models = super::calibrate::model_list(list)?;
-    if let Some(m) = models.models.iter().find(|m| m.name == name) {
-        return Ok(m.model);
-    }
-    if let Some(m) = EmissionModel::built_in(name) {
-        return Ok(m);
-    }
-    let names: Vec<&str> = models.models.iter().map(|m| m.name.as_str()).collect();
-    Err(CliError::usage(format!(
-        "unknown emission model '{name}' (known: {})",
-        names.join(", ")
-    )))
+    umbral::run::calibrate::emission_model(name, list).map_err(|e| CliError::usage(e.to_string()))
 }
 
 /// A run error on the command line (Ctrl-C exits 130).

@@ -4,11 +4,8 @@ use super::CliError;
 use clap::Args;
 use serde::Serialize;
 use std::path::{Path, PathBuf};
-use umbral::metric::Spacetime;
-use umbral::metric::{ParameterSpec, Symmetry};
 use umbral::metric_file::list_metric_dir;
-use umbral::metrics::builtin_metrics;
-use umbral::shadow::auto_solver;
+use umbral::shadow::catalogue::{builtin_catalogue, CatalogueEntry as MetricRow};
 
 #[derive(Debug, Args)]
 pub struct MetricsArgs {
@@ -19,61 +16,6 @@ pub struct MetricsArgs {
     /// exists (the project's own folder when run from the repository).
     #[arg(long = "metrics-dir", value_name = "DIR")]
     metrics_dir: Vec<PathBuf>,
-}
-
-#[derive(Serialize)]
-struct ParameterRow {
-    name: String,
-    default: f64,
-    domain: String,
-    meaning: String,
-}
-
-#[derive(Serialize)]
-struct MetricRow {
-    /// `builtin`, or the metric file it was read from.
-    source: String,
-    name: String,
-    title: String,
-    symmetry: Symmetry,
-    separable: bool,
-    auto_solver: &'static str,
-    reference: String,
-    parameters: Vec<ParameterRow>,
-}
-
-fn row(p: &ParameterSpec) -> ParameterRow {
-    ParameterRow {
-        name: p.name.clone(),
-        default: p.default,
-        domain: p.domain.to_string(),
-        meaning: p.meaning.clone(),
-    }
-}
-
-/// Every built-in metric, described by its default instance.
-fn rows() -> Result<Vec<MetricRow>, CliError> {
-    builtin_metrics()
-        .iter()
-        .map(|entry| {
-            let metric = entry.build(&[])?;
-            Ok(describe("builtin".into(), metric.as_ref()))
-        })
-        .collect()
-}
-
-fn describe(source: String, metric: &dyn Spacetime) -> MetricRow {
-    let info = metric.info();
-    MetricRow {
-        source,
-        name: info.name.clone(),
-        title: info.title.clone(),
-        symmetry: metric.symmetry(),
-        separable: metric.is_separable(),
-        auto_solver: auto_solver(metric).name(),
-        reference: info.reference.clone(),
-        parameters: info.parameters.iter().map(row).collect(),
-    }
 }
 
 /// A metric file that could not be read: listed with its error, not fatal for the listing.
@@ -96,7 +38,7 @@ fn file_rows(dirs: &[PathBuf]) -> Result<(Vec<MetricRow>, Vec<BrokenFile>), CliE
         for (path, spec) in list_metric_dir(dir) {
             let source = path.display().to_string();
             match spec {
-                Ok(spec) => good.push(describe(source, &spec.instantiate_defaults())),
+                Ok(spec) => good.push(MetricRow::describe(source, &spec.instantiate_defaults())),
                 Err(e) => bad.push(BrokenFile {
                     source,
                     error: e.summary(),
@@ -108,7 +50,7 @@ fn file_rows(dirs: &[PathBuf]) -> Result<(Vec<MetricRow>, Vec<BrokenFile>), CliE
 }
 
 pub fn run(args: &MetricsArgs) -> Result<(), CliError> {
-    let mut rows = rows()?;
+    let mut rows = builtin_catalogue()?;
     let dirs = if args.metrics_dir.is_empty() && Path::new("metrics").is_dir() {
         vec![PathBuf::from("metrics")]
     } else {

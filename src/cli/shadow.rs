@@ -10,7 +10,7 @@ use std::path::Path;
 use umbral::metric::Spacetime;
 use umbral::numfmt::{short, Num};
 pub use umbral::observables::ShadowReport;
-use umbral::observables::{CentreChoice, Observables, Quantity};
+use umbral::observables::{shadow_report, CentreChoice, Observables, Quantity};
 use umbral::output::OutputTransaction;
 use umbral::shadow::{self, Observer, ShadowSettings, SolverChoice};
 
@@ -66,18 +66,6 @@ pub struct ShadowArgs {
     /// Figure sizes: for a paper column or for a slide.
     #[arg(long, value_enum, default_value = "paper")]
     style: FigureStyle,
-}
-
-/// Solve one shadow and reduce it to observables ([`umbral::observables::shadow_report`]).
-pub fn shadow_report(
-    metric: &dyn Spacetime,
-    inclination_deg: f64,
-    observer: &Observer,
-    settings: &ShadowSettings,
-    centre: CentreChoice,
-) -> Result<ShadowReport, CliError> {
-    umbral::observables::shadow_report(metric, inclination_deg, observer, settings, centre)
-        .map_err(|e| CliError::usage(e.to_string()))
 }
 
 fn settings_from(args: &ShadowArgs) -> Result<(f64, Observer, ShadowSettings), CliError> {
@@ -486,7 +474,10 @@ pub fn run(args: &ShadowArgs) -> Result<(), CliError> {
     }
     let reports: Vec<ShadowReport> = metrics
         .iter()
-        .map(|m| shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre))
+        .map(|m| {
+            shadow_report(m.as_ref(), inclination_deg, &observer, &settings, centre)
+                .map_err(|e| CliError::usage(e.to_string()))
+        })
         .collect::<Result<_, _>>()?;
     if let Some(path) = &args.csv {
         let text = csv_text(&reports, &settings, centre);

@@ -49,8 +49,8 @@ pub use separation::{
     SEPARATION_TOLERANCE,
 };
 pub use spacetime::{
-    Christoffel, Classification, PhaseGradient, PotentialJet, RadialLambdaJet, Spacetime,
-    SphericalJet,
+    parameter_map, Christoffel, Classification, PhaseGradient, PotentialJet, RadialLambdaJet,
+    Spacetime, SphericalJet,
 };
 pub use spherical::{SphericalFunctions, SphericalMetric};
 

@@ -452,3 +452,21 @@ impl<M: Metric> Spacetime for M {
         .ok_or_else(|| missing(self, SEPARABLE, "polar_potential"))
     }
 }
+
+/// Every parameter of a metric instance by name, with its value.
+///
+/// ```
+/// use umbral::metric::parameter_map;
+/// use umbral::metrics::KerrNewman;
+/// let m = parameter_map(&KerrNewman::new(0.5, 0.3).unwrap());
+/// assert_eq!((m["a"], m["q"]), (0.5, 0.3));
+/// ```
+pub fn parameter_map(spacetime: &dyn Spacetime) -> std::collections::BTreeMap<String, f64> {
+    spacetime
+        .info()
+        .parameters
+        .iter()
+        .map(|p| p.name.clone())
+        .zip(spacetime.parameter_values())
+        .collect()
+}

@@ -21,6 +21,7 @@ use super::shard::{run_shard, MergeError, ShardJob, ShardSummary};
 use super::{sha256_hex, Controls, Executor, RunError, Selection, Wire, WorkList};
 use crate::error::MetricError;
 use crate::image::blur::{gaussian_blur, uas_to_m};
+use crate::image::emission::EmissionModel;
 use crate::image::features::{ring_features, FeatureSettings, RingFeatures};
 use crate::image::inner_shadow::{inner_shadow, InnerShadow};
 use crate::image::models::ModelList;
@@ -462,6 +463,23 @@ pub fn model_list(path: Option<&Path>) -> Result<ModelList, CalibrateError> {
     })?;
     ModelList::from_toml(&text)
         .map_err(|e| CalibrateError::BadRequest(format!("'{}': {e}", path.display())))
+}
+
+/// The emission model `name`: from the model list `list` (a file, else the built-in list),
+/// else among the built-in names (`disk-isco`, `disk-horizon`, `infall`).
+pub fn emission_model(name: &str, list: Option<&Path>) -> Result<EmissionModel, CalibrateError> {
+    let models = model_list(list)?;
+    if let Some(m) = models.models.iter().find(|m| m.name == name) {
+        return Ok(m.model);
+    }
+    if let Some(m) = EmissionModel::built_in(name) {
+        return Ok(m);
+    }
+    let names: Vec<&str> = models.models.iter().map(|m| m.name.as_str()).collect();
+    Err(CalibrateError::BadRequest(format!(
+        "unknown emission model '{name}' (known: {})",
+        names.join(", ")
+    )))
 }
 
 /// Why a measurement's pending κ calibration could not be computed.

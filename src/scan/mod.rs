@@ -52,8 +52,8 @@ use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::observables::{CentreChoice, Observables, Quantity};
 use crate::run::{
-    CheckpointError, Controls, Executor, JsonlCheckpoint, MetricHashError, ProgressFn, RunError,
-    Selection, WorkList,
+    Checkpoint, CheckpointError, Controls, Executor, JsonlCheckpoint, MetricHashError, ProgressFn,
+    RunError, Selection, WorkList,
 };
 use crate::shadow::{self, Observer, PointShadow, ShadowSettings};
 use lines::ScanFormat;
@@ -594,13 +594,7 @@ fn grid_point(request: &ScanRequest, index: &[usize]) -> GridPoint {
     }
     let built = request.metric.build(&assignments);
     let parameters = match &built {
-        Ok(spacetime) => spacetime
-            .info()
-            .parameters
-            .iter()
-            .map(|p| p.name.clone())
-            .zip(spacetime.parameter_values())
-            .collect(),
+        Ok(spacetime) => crate::metric::parameter_map(spacetime.as_ref()),
         Err(_) => assignments.iter().cloned().collect(),
     };
     (parameters, built)
@@ -757,26 +751,39 @@ pub fn scan(
 ) -> Result<ScanSummary, ScanError> {
     validate(request)?;
     let head = header::header(request)?;
+    let mut file = JsonlCheckpoint::open(path, ScanFormat { request }, &head)?;
+    run_grid(request, controls, Some(&mut file), |done, total| {
+        ScanError::Interrupted {
+            path: path.display().to_string(),
+            done,
+            total,
+        }
+    })
+}
+
+/// Run the grid of a checked request on an executor carrying `controls` and, when given, the
+/// scan file; `stopped(done, total)` is the error of a stopped run.
+fn run_grid(
+    request: &ScanRequest,
+    controls: Controls<'_>,
+    file: Option<&mut dyn Checkpoint<ScanPoint>>,
+    stopped: impl FnOnce(usize, usize) -> ScanError,
+) -> Result<ScanSummary, ScanError> {
     let grid = Grid {
         request,
         indices: indices(&request.axes),
     };
-    let mut file = JsonlCheckpoint::open(path, ScanFormat { request }, &head)?;
-    let run = Executor::new("scan", "points")
-        .with(controls)
-        .checkpoint(&mut file)
-        .run(&grid, &Selection::All);
-    match run {
+    let mut exec = Executor::new("scan", "points").with(controls);
+    if let Some(file) = file {
+        exec = exec.checkpoint(file);
+    }
+    match exec.run(&grid, &Selection::All) {
         Ok(batch) => Ok(ScanSummary {
             points: batch.outputs,
             computed: batch.computed,
             reused: batch.kept,
         }),
-        Err(RunError::Interrupted { done, .. }) => Err(ScanError::Interrupted {
-            path: path.display().to_string(),
-            done,
-            total: grid.len(),
-        }),
+        Err(RunError::Interrupted { done, .. }) => Err(stopped(done, grid.len())),
         Err(RunError::Checkpoint(e)) => Err(e.into()),
     }
 }
@@ -809,25 +816,10 @@ pub fn scan_in_memory(
     controls: Controls<'_>,
 ) -> Result<ScanSummary, ScanError> {
     validate(request)?;
-    let grid = Grid {
-        request,
-        indices: indices(&request.axes),
-    };
-    let run = Executor::new("scan", "points")
-        .with(controls)
-        .run(&grid, &Selection::All);
-    match run {
-        Ok(batch) => Ok(ScanSummary {
-            points: batch.outputs,
-            computed: batch.computed,
-            reused: batch.kept,
-        }),
-        Err(RunError::Interrupted { done, .. }) => Err(ScanError::Stopped {
-            done,
-            total: grid.len(),
-        }),
-        Err(RunError::Checkpoint(e)) => Err(e.into()),
-    }
+    run_grid(request, controls, None, |done, total| ScanError::Stopped {
+        done,
+        total,
+    })
 }
 
 /// Read and check the points an earlier run of `request` left in `path`, computing nothing:

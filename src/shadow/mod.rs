@@ -10,6 +10,7 @@
 //! Screen convention (Bardeen 1973): α = −λ / sin θ_o, β = ±√(η + a² cos²θ_o − λ² cot²θ_o)
 //! for a distant observer at inclination θ_o, in units of M. See docs/conventions.md.
 
+pub mod catalogue;
 pub mod curve;
 pub mod exponents;
 pub mod observer;
