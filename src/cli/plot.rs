@@ -46,21 +46,51 @@ pub fn stage_plot(outputs: &mut OutputTransaction, path: &str) -> Result<(), Cli
 /// A cartesian chart with f64 axes on the SVG backend.
 pub type Chart<'a> = ChartContext<'a, SVGBackend<'a>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
 
-/// Axis labels, tick labels and a light major grid in the theme's sizes (no minor grid).
-pub fn style_mesh(
-    chart: &mut Chart<'_>,
-    theme: &Theme,
-    (x_desc, y_desc): (&str, &str),
-    (x_ticks, y_ticks): (usize, usize),
-) -> Result<(), String> {
+/// What a chart's axes show: their names, about how many ticks, whether the x ticks are
+/// labelled (not on a panel above another), and the y tick labels when they are not numbers.
+pub struct Mesh<'a> {
+    pub x_desc: &'a str,
+    pub y_desc: &'a str,
+    pub ticks: (usize, usize),
+    pub x_labels: bool,
+    pub y_label: Option<&'a dyn Fn(&f64) -> String>,
+}
+
+impl<'a> Mesh<'a> {
+    /// Both axes named and labelled with numbers, about seven ticks each.
+    pub fn new(x_desc: &'a str, y_desc: &'a str) -> Mesh<'a> {
+        Mesh {
+            x_desc,
+            y_desc,
+            ticks: (7, 7),
+            x_labels: true,
+            y_label: None,
+        }
+    }
+}
+
+/// Axis names, tick labels and a light major grid in the theme's sizes (no minor grid): the
+/// one look of every chart's axes.
+pub fn style_mesh(chart: &mut Chart<'_>, theme: &Theme, mesh: &Mesh<'_>) -> Result<(), String> {
+    let x_format = |v: &f64| {
+        if mesh.x_labels {
+            tick(*v)
+        } else {
+            String::new()
+        }
+    };
+    let y_format = |v: &f64| match mesh.y_label {
+        Some(f) => f(v),
+        None => tick(*v),
+    };
     chart
         .configure_mesh()
-        .x_desc(x_desc)
-        .y_desc(y_desc)
-        .x_labels(x_ticks)
-        .y_labels(y_ticks)
-        .x_label_formatter(&|v| tick(*v))
-        .y_label_formatter(&|v| tick(*v))
+        .x_desc(mesh.x_desc)
+        .y_desc(mesh.y_desc)
+        .x_labels(mesh.ticks.0)
+        .y_labels(mesh.ticks.1)
+        .x_label_formatter(&x_format)
+        .y_label_formatter(&y_format)
         .label_style(theme.font(theme.tick))
         .axis_desc_style(theme.font(theme.label))
         .bold_line_style(
@@ -156,7 +186,7 @@ fn draw_screen_curves(theme: &Theme, figure: &ScreenFigure<'_>) -> Result<String
             .y_label_area_size(theme.px(left))
             .build_cartesian_2d(-extent..extent, -extent..extent)
             .map_err(|e| e.to_string())?;
-        style_mesh(&mut chart, theme, (x_desc, y_desc), (7, 7))?;
+        style_mesh(&mut chart, theme, &Mesh::new(x_desc, y_desc))?;
         for (i, c) in figure.curves.iter().enumerate() {
             let mut points: Vec<(f64, f64)> = c
                 .alpha

@@ -2,10 +2,10 @@
 //! ranges in a strip below, and exclusion maps over two parameters.
 
 use super::figure::{
-    draw_line, draw_svg, symbol, tick, Dash, Legend, Mark, SeriesLook, Theme, ALLOWED, EXCLUDED,
+    draw_line, draw_svg, symbol, Dash, Legend, Mark, SeriesLook, Theme, ALLOWED, EXCLUDED,
     NO_HORIZON,
 };
-use super::plot::{draw_title, label_areas, plot_error, style_mesh, Chart};
+use super::plot::{draw_title, label_areas, plot_error, style_mesh, Chart, Mesh};
 use super::plot_scan::axis_label;
 use super::CliError;
 use plotters::prelude::*;
@@ -210,25 +210,16 @@ fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<S
             .y_label_area_size(theme.px(left))
             .build_cartesian_2d(x_lo..x_hi, y_lo..y_hi)
             .map_err(|e| e.to_string())?;
-        chart
-            .configure_mesh()
-            .y_desc(format!("predicted {size_name} / M"))
-            .x_labels(7)
-            .y_labels(6)
-            .x_label_formatter(&|_| String::new())
-            .y_label_formatter(&|v| tick(*v))
-            .label_style(theme.font(theme.tick))
-            .axis_desc_style(theme.font(theme.label))
-            .bold_line_style(
-                RGBColor(0, 0, 0)
-                    .mix(0.14)
-                    .stroke_width(theme.upx(theme.thin)),
-            )
-            .light_line_style(TRANSPARENT)
-            .axis_style(theme.hairline(RGBColor(60, 60, 60)))
-            .set_all_tick_mark_size(theme.px(3.0))
-            .draw()
-            .map_err(|e| e.to_string())?;
+        let y_desc = format!("predicted {size_name} / M");
+        style_mesh(
+            &mut chart,
+            theme,
+            &Mesh {
+                ticks: (7, 6),
+                x_labels: false,
+                ..Mesh::new("", &y_desc)
+            },
+        )?;
         draw_measured(&mut chart, result, (x_lo, x_hi))?;
         draw_regions(&mut chart, result, (y_lo, y_hi))?;
         draw_prediction(&mut chart, theme, result, nuisance.is_some())?;
@@ -253,25 +244,15 @@ fn draw_bound_plot(theme: &Theme, title: &str, result: &BoundResult) -> Result<S
                 String::new()
             }
         };
-        strip_chart
-            .configure_mesh()
-            .x_desc(x_name.as_str())
-            .x_labels(7)
-            .y_labels(2 * levels + 1)
-            .x_label_formatter(&|v| tick(*v))
-            .y_label_formatter(&row_label)
-            .label_style(theme.font(theme.tick))
-            .axis_desc_style(theme.font(theme.label))
-            .bold_line_style(
-                RGBColor(0, 0, 0)
-                    .mix(0.14)
-                    .stroke_width(theme.upx(theme.thin)),
-            )
-            .light_line_style(TRANSPARENT)
-            .axis_style(theme.hairline(RGBColor(60, 60, 60)))
-            .set_all_tick_mark_size(theme.px(3.0))
-            .draw()
-            .map_err(|e| e.to_string())?;
+        style_mesh(
+            &mut strip_chart,
+            theme,
+            &Mesh {
+                ticks: (7, 2 * levels + 1),
+                y_label: Some(&row_label),
+                ..Mesh::new(&x_name, "")
+            },
+        )?;
         for r in &result.no_horizon {
             strip_chart
                 .draw_series(std::iter::once(Rectangle::new(
@@ -692,12 +673,8 @@ fn draw_exclusion_map(
             )
             .map_err(|e| e.to_string())?;
         // The mesh last, so its grid and frame sit on top of the shades.
-        style_mesh(
-            &mut chart,
-            theme,
-            (&axis_label(xn), &axis_label(yn)),
-            (7, 7),
-        )?;
+        let (x_desc, y_desc) = (axis_label(xn), axis_label(yn));
+        style_mesh(&mut chart, theme, &Mesh::new(&x_desc, &y_desc))?;
         legend
             .draw_column(&legend_area, theme, (0.0, 0.0))
             .map_err(|e| e.to_string())

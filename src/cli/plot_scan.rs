@@ -1,9 +1,9 @@
 //! Figures of one-axis scans: observables against the scanned parameter, one panel each.
 
 use super::figure::{
-    draw_line, draw_svg, series, symbol, tick, Legend, Mark, Theme, EXCLUDED, NO_HORIZON,
+    draw_line, draw_svg, series, symbol, Legend, Mark, Theme, EXCLUDED, NO_HORIZON,
 };
-use super::plot::{draw_title, label_areas, plot_error};
+use super::plot::{draw_title, label_areas, plot_error, style_mesh, Mesh};
 use super::CliError;
 use plotters::prelude::*;
 use umbral::observables::Quantity;
@@ -167,27 +167,16 @@ fn draw_observables(theme: &Theme, figure: &ObservablePlot<'_>) -> Result<String
             } else {
                 String::new()
             };
-            let mut mesh = chart.configure_mesh();
-            mesh.x_desc(x_desc)
-                .y_desc(quantity_label(q))
-                .x_labels(7)
-                .y_labels(5)
-                .x_label_formatter(&|v| tick(*v))
-                .y_label_formatter(&|v| tick(*v))
-                .label_style(theme.font(theme.tick))
-                .axis_desc_style(theme.font(theme.label))
-                .bold_line_style(
-                    RGBColor(0, 0, 0)
-                        .mix(0.14)
-                        .stroke_width(theme.upx(theme.thin)),
-                )
-                .light_line_style(TRANSPARENT)
-                .axis_style(theme.hairline(RGBColor(60, 60, 60)))
-                .set_all_tick_mark_size(theme.px(3.0));
-            if !last {
-                mesh.x_label_formatter(&|_| String::new());
-            }
-            mesh.draw().map_err(|e| e.to_string())?;
+            let y_desc = quantity_label(q);
+            style_mesh(
+                &mut chart,
+                theme,
+                &Mesh {
+                    ticks: (7, 5),
+                    x_labels: last,
+                    ..Mesh::new(&x_desc, &y_desc)
+                },
+            )?;
             for (s, colour) in &bands {
                 for &(a, b) in s {
                     chart
