@@ -139,12 +139,13 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
         return Ok(());
     };
     let uas = |x: f64| match theta_g {
-        Some(t) => format!("  ({:.4} uas)", x * t),
+        Some(t) => format!("  ({} uas)", fixed(x * t, 4)),
         None => String::new(),
     };
     let row = |name: &str, x: f64, unit: &str, scaled: bool| {
         outln!(
-            "  {name:<28}{x:>20.12} {unit}{}",
+            "  {name:<28}{:>20} {unit}{}",
+            fixed(x, 12),
             if scaled { uas(x) } else { String::new() }
         )
     };
@@ -182,7 +183,7 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
 /// The rows about the horizon and the photon orbits: horizon radius, Lyapunov and ring
 /// exponents (or why γ is undefined), photon orbit radii.
 fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError> {
-    let row = |name: &str, x: f64, unit: &str| outln!("  {name:<28}{x:>20.12} {unit}");
+    let row = |name: &str, x: f64, unit: &str| outln!("  {name:<28}{:>20} {unit}", fixed(x, 12));
     if let Some(h) = o.horizon_radius {
         row("horizon radius", h, "M")?;
     }
@@ -194,10 +195,10 @@ fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError>
             row("ring exponent gamma", e.gamma_min, "")?;
         } else {
             outln!(
-                "  {:<28}{:>20.12} .. {:.12}",
+                "  {:<28}{:>20} .. {}",
                 "ring exponent gamma",
-                e.gamma_min,
-                e.gamma_max
+                fixed(e.gamma_min, 12),
+                fixed(e.gamma_max, 12)
             )?;
         }
     }
@@ -205,7 +206,12 @@ fn print_orbit_rows(rep: &ShadowReport, o: &Observables) -> Result<(), CliError>
         println!("  {:<28}{:>20} ({why})", "ring exponent gamma", "undefined");
     }
     if let Some([lo, hi]) = o.photon_orbit_radii {
-        outln!("  {:<28}{lo:>20.12} .. {hi:.12} M", "photon orbit radii")?;
+        outln!(
+            "  {:<28}{:>20} .. {} M",
+            "photon orbit radii",
+            fixed(lo, 12),
+            fixed(hi, 12)
+        )?;
     }
     if let Some(x) = &rep.spherical {
         row(
