@@ -90,7 +90,8 @@ fn a_converged_run_writes_the_corner_plot() {
     );
     let points = svg
         .lines()
-        .filter(|l| l.contains("<polyline") && l.contains("stroke=\"#1F4E79\" stroke-width=\"2\""))
+        // The figure cycle's blue, 2 px wide (drawn at ten units per pixel).
+        .filter(|l| l.contains("<polyline") && l.contains("stroke=\"#0072B2\" stroke-width=\"20\""))
         .map(|l| l.matches(',').count())
         .max();
     assert!(
@@ -136,7 +137,7 @@ fn a_bad_plot_path_fails_before_sampling() {
     let dir = common::scratch("posterior_plot", "bad");
     std::fs::write(dir.join("r.toml"), RADIUS).unwrap();
     for (path, needle) in [
-        ("corner.png", "give a file name ending in .svg"),
+        ("corner.jpg", "the extension must be .svg, .png or .pdf"),
         (
             "no-such-folder/corner.svg",
             "cannot write figure 'no-such-folder/corner.svg'",
