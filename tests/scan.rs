@@ -130,7 +130,10 @@ fn cli_scan_with_exclusion_map() {
     assert!(stdout.contains("36 points"), "{stdout}");
     assert!(err.is_empty(), "no progress bar off a terminal: {err}");
     let map = std::fs::read_to_string(&svg).unwrap();
-    assert!(map.contains("allowed at 0.68") && map.contains("<polygon"));
+    assert!(
+        map.contains("allowed at 68 %") && map.contains("<polygon"),
+        "{map}"
+    );
 }
 
 #[test]

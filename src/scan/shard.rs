@@ -16,9 +16,9 @@
 //! std::fs::create_dir_all(&dir).unwrap();
 //! let request = ScanRequest {
 //!     metric: MetricSource::builtin("reissner-nordstrom").unwrap(),
-//!     axes: vec![GridAxis { name: "q".into(), low: 0.0, high: 0.9, count: 5 }],
+//!     axes: vec![GridAxis::new("q", 0.0, 0.9, 5)],
 //!     fixed: vec![],
-//!     inclination_deg: 17.0,
+//!     inclination_deg: Some(17.0),
 //!     settings: Default::default(),
 //!     require_horizon: false,
 //! };

@@ -231,7 +231,9 @@ pub struct ShadowResult {
 pub struct CurveOrbit {
     /// Its Boyer–Lindquist-like radius r, in M.
     pub radius: f64,
-    /// Its demagnification exponent γ per half orbit (Johnson et al. 2020), when computed.
+    /// Its demagnification exponent γ per half orbit (Johnson et al. 2020), when computed
+    /// (left out, not null, when it is not).
+    #[serde(skip_serializing_if = "Option::is_none")]
     pub gamma: Option<f64>,
 }
 
