@@ -14,9 +14,11 @@ use umbral::scan::{
     scan as scan_to_file, scan_in_memory, GridAxis, ScanError, ScanRequest, ScanSummary,
 };
 
-/// An axis from its values: evenly spaced ones (as `umbral scan --grid` makes them, to the
-/// bit) are recorded as such, any other increasing values one by one; either way the points
-/// are at exactly these values.
+/// An axis from its values: evenly spaced ones (as `umbral scan --grid` makes them, within
+/// rounding: numpy's `linspace(0, 1.2, 5)` has 0.8999999999999999 where the command line's
+/// grid, rounded to its own decimals, has 0.9) are recorded as the command line's grid and
+/// computed at its values; any other increasing values are recorded one by one and computed at
+/// exactly those values.
 fn axis(name: String, values: Vec<f64>) -> GridAxis {
     let n = values.len();
     if n >= 2 {
@@ -25,7 +27,7 @@ fn axis(name: String, values: Vec<f64>) -> GridAxis {
             .all_values()
             .iter()
             .zip(&values)
-            .all(|(a, b)| a.to_bits() == b.to_bits())
+            .all(|(a, b)| (a - b).abs() <= 4.0 * f64::EPSILON * a.abs().max(b.abs()))
         {
             return even;
         }
