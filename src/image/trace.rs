@@ -44,6 +44,7 @@ use super::emission::{redshift, EmissionModel, Flow, InnerEdge};
 use super::{Image, ImageError};
 use crate::geodesic::{
     hamilton_rhs, integrate_with_norm, Control, ErrorNorm, IntegratorSettings, PhaseState,
+    RungeKuttaPair,
 };
 use crate::metric::Spacetime;
 use crate::shadow::raytrace::{RaytraceOptions, Tracer};
@@ -331,6 +332,7 @@ impl<'a> ImageTracer<'a> {
             min_step: 1e-14,
             max_step: f64::INFINITY,
             max_steps: self.settings.max_steps,
+            pair: RungeKuttaPair::DormandPrince54,
         };
         let mut fate = None;
         let mut total = 0.0;
