@@ -14,9 +14,9 @@
 //! (step-size underflow, non-finite state, step limit), and allocate nothing.
 
 use crate::metric::Spacetime;
+use serde::Serialize;
 
 mod dop853;
-use serde::Serialize;
 
 /// Phase-space state (t, r, θ, φ, p_t, p_r, p_θ, p_φ).
 pub type PhaseState = [f64; 8];
