@@ -131,6 +131,8 @@ use serde::Serialize;
 use std::f64::consts::{FRAC_PI_2, PI, TAU};
 use std::time::Instant;
 
+mod seeding;
+
 /// The solver's name on the command line and in results.
 pub const NAME: &str = "raytrace";
 
@@ -159,6 +161,10 @@ pub struct RaytraceOptions {
     pub domain_edge: f64,
     /// Pre-scan samples per curve radius along each radial line.
     pub scan_samples: usize,
+    /// Every `anchor_every`-th curve angle is scanned in full; the others are bracketed from
+    /// the crossing their finished neighbours predict (module docs, "Neighbour seeding").
+    /// 1 scans every angle.
+    pub anchor_every: usize,
     /// While a ray moves outward beyond this radius (in M) only its escape is left to detect,
     /// and the relative tolerance is relaxed to `relaxed_rtol`; strict control resumes if it
     /// turns inward again.
@@ -220,6 +226,7 @@ impl Default for RaytraceOptions {
             capture_margin: 1.0e-3,
             horizonless_capture_radius: 0.05,
             scan_samples: 8,
+            anchor_every: 4,
             relaxed_radius: 25.0,
             relaxed_rtol: 1.0e-7,
             coarse_rtol: 1.0e-7,
@@ -316,6 +323,9 @@ pub struct LineBoundary {
     /// The photon-orbit check and accuracy estimate of the outermost crossing (curve lines
     /// only, see [`Tracer::check_crossing`]).
     pub check: Option<LineCheck>,
+    /// Whether the crossing was bracketed from the neighbouring lines' prediction, without
+    /// a scan for further crossings along this line (module docs, "Neighbour seeding").
+    pub seeded: bool,
 }
 
 /// The photon-orbit check and the accuracy estimate of one crossing (module docs).
@@ -511,11 +521,12 @@ fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
         || options.validation_start_radius < d
         || options.scan_samples < 2
         || options.correction_nodes < 2
+        || options.anchor_every < 1
     {
         return Err(ShadowError::BadRequest(
             "capture margins and radii, widths, tolerances and scan lengths must be \
              positive, the validation start radius at least the start radius, scan \
-             samples and correction nodes at least 2"
+             samples and correction nodes at least 2, the anchor spacing at least 1"
                 .into(),
         ));
     }
@@ -1142,6 +1153,51 @@ impl<'a> Tracer<'a> {
         again
     }
 
+    /// The crossing along the line origin + ρ (cos ψ, sin ψ) near the one `seed` predicts
+    /// (module docs, "Neighbour seeding"): a bracket about the guess, widened fourfold on the
+    /// side the crossing lies (at most three times), refined as a scan bracket is. A line
+    /// whose bracket is not found or not confirmed, or one with a failed ray, is scanned in
+    /// full ([`Tracer::boundary_along_line`]); its rays count on the line.
+    pub(crate) fn boundary_near(
+        &self,
+        origin: [f64; 2],
+        psi: f64,
+        seed: seeding::Seed,
+        scan: &LineScan,
+    ) -> LineBoundary {
+        let coarse = self.options.coarse_rtol.max(self.options.integrator.rtol);
+        let mut line = LineBoundary {
+            psi,
+            crossings: Vec::new(),
+            failure: None,
+            rays: 0,
+            failed_rays: 0,
+            steps: 0,
+            check: None,
+            seeded: true,
+        };
+        let (sin, cos) = psi.sin_cos();
+        let probe = LineProbe {
+            tracer: self,
+            origin,
+            psi,
+            sin,
+            cos,
+        };
+        let crossing = probe
+            .seeded_bracket(seed, coarse, &mut line)
+            .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok());
+        if let (Some(rho), None) = (crossing, &line.failure) {
+            line.crossings.push(rho);
+            return line;
+        }
+        let mut full = self.boundary_along_line(origin, true, psi, scan);
+        full.rays += line.rays;
+        full.failed_rays += line.failed_rays;
+        full.steps += line.steps;
+        full
+    }
+
     /// [`Tracer::boundary_along_line`] with the scan and first bisection stage at relative
     /// tolerance `coarse`; also says whether a crossing was not confirmed at the strict one.
     fn scan_line(
@@ -1160,6 +1216,7 @@ impl<'a> Tracer<'a> {
             failed_rays: 0,
             steps: 0,
             check: None,
+            seeded: false,
         };
         let (sin, cos) = psi.sin_cos();
         let probe = LineProbe {
@@ -1250,6 +1307,100 @@ fn winding_law(
     (hi - lo >= 1.0 && k.is_finite() && (1e-3..=1e3).contains(&k)).then_some((k, c))
 }
 
+/// The crossing ρ_c in the open bracket that best fits the law w = c_s − k_s ln|ρ − ρ_c| to
+/// the windings on both sides at once (module docs, "Checks"): ρ_c shared, (c_s, k_s) per
+/// side by linear least squares for each trial ρ_c, ρ_c minimising the summed squared
+/// residuals. The fit uses up to four rays per side, the nearest to the bracket that lie on
+/// their own side of it and within `far` of its centre; it needs three on one side (one more
+/// ray than the two constants it fits) and a positive slope on every side with two or more.
+/// Because ρ_c is fitted, the rays nearest the crossing, whose distances are known only to
+/// the bracket's width, take part; the law's constants are not extrapolated over decades of
+/// distance from far rays. `None` without enough rays or when no trial point fits.
+fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64> {
+    let dir = (bracket.b - bracket.a).signum();
+    let centre = 0.5 * (bracket.a + bracket.b);
+    let side_rays = |side: bool| -> Vec<(f64, f64)> {
+        let end = if side { bracket.a } else { bracket.b };
+        let outward = if side { -dir } else { dir };
+        let mut rays: Vec<(f64, f64)> = probed
+            .iter()
+            .filter(|p| p.2 == side && p.1.is_finite())
+            .filter(|p| outward * (p.0 - end) >= 0.0 && (p.0 - centre).abs() <= far)
+            .map(|p| (p.0, p.1))
+            .collect();
+        rays.sort_by(|p, q| (p.0 - end).abs().total_cmp(&(q.0 - end).abs()));
+        rays.dedup_by(|p, q| p.0 == q.0);
+        rays.truncate(4);
+        rays
+    };
+    let sides = [side_rays(true), side_rays(false)];
+    if sides.iter().all(|r| r.len() < 3) {
+        return None;
+    }
+    // Residual of the fit with the crossing at ρ_c, or None for a non-positive slope.
+    let residual = |rho_c: f64| -> Option<f64> {
+        let mut total = 0.0;
+        for rays in sides.iter().filter(|r| r.len() >= 2) {
+            let n = rays.len() as f64;
+            let xs: Vec<f64> = rays.iter().map(|p| (p.0 - rho_c).abs().ln()).collect();
+            let mx = xs.iter().sum::<f64>() / n;
+            let my = rays.iter().map(|p| p.1).sum::<f64>() / n;
+            let (mut sxx, mut sxy, mut syy) = (0.0, 0.0, 0.0);
+            for (x, p) in xs.iter().zip(rays) {
+                sxx += (x - mx) * (x - mx);
+                sxy += (x - mx) * (p.1 - my);
+                syy += (p.1 - my) * (p.1 - my);
+            }
+            // The winding grows towards the crossing: slope −k = sxy/sxx < 0.
+            if !(sxx > 0.0 && sxy < 0.0) {
+                return None;
+            }
+            total += (syy - sxy * sxy / sxx).max(0.0);
+        }
+        Some(total)
+    };
+    // The crossing is often far closer to one end than the bracket is wide: trial points at
+    // distances w·10^(−j/4) from either end, then golden-section search between the best
+    // trial point's neighbours.
+    let w = bracket.width();
+    let mut trials: Vec<f64> = (1..=48)
+        .flat_map(|j| {
+            let d = w * 10f64.powf(-(j as f64) / 4.0);
+            [bracket.a + dir * d, bracket.b - dir * d]
+        })
+        .collect();
+    trials.push(centre);
+    trials.sort_by(f64::total_cmp);
+    trials.dedup();
+    let scored: Vec<(f64, f64)> = trials
+        .iter()
+        .filter_map(|&t| residual(t).map(|r| (t, r)))
+        .collect();
+    let best = (0..scored.len()).min_by(|&i, &j| scored[i].1.total_cmp(&scored[j].1))?;
+    let lo = if best > 0 {
+        scored[best - 1].0
+    } else {
+        bracket.a.min(bracket.b)
+    };
+    let hi = scored
+        .get(best + 1)
+        .map_or(bracket.a.max(bracket.b), |p| p.0);
+    let (mut x0, mut x1) = (lo, hi);
+    let golden = 0.5 * (5f64.sqrt() - 1.0);
+    for _ in 0..40 {
+        let (m0, m1) = (x1 - golden * (x1 - x0), x0 + golden * (x1 - x0));
+        let (r0, r1) = (residual(m0), residual(m1));
+        match (r0, r1) {
+            (Some(r0), Some(r1)) if r0 <= r1 => x1 = m1,
+            (Some(_), Some(_)) => x0 = m0,
+            _ => break,
+        }
+    }
+    let rho_c = 0.5 * (x0 + x1);
+    let inside = rho_c > bracket.a.min(bracket.b) && rho_c < bracket.a.max(bracket.b);
+    (inside && residual(rho_c).is_some()).then_some(rho_c)
+}
+
 /// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
 /// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
 /// (module docs, "Checks"), so a ray's winding says how far it is from the crossing:
@@ -1284,13 +1435,24 @@ fn guided_refine<E>(
         };
         // The crossing predicted from the nearer end, and the side the ray beyond it should
         // fall on; none when the two ends disagree.
-        let guess = match (distance(true, bracket.wa), distance(false, bracket.wb)) {
-            (Some(da), Some(db)) if (da + db - w).abs() > 0.3 * w => None,
-            (Some(da), Some(db)) if da <= db => Some((bracket.a + dir * da, da, false)),
-            (Some(da), None) => Some((bracket.a + dir * da, da, false)),
-            (_, Some(db)) => Some((bracket.b - dir * db, db, true)),
-            (None, None) => None,
-        };
+        let from_fit = fitted_crossing(probed, &bracket, far).map(|rc| {
+            let (da, db) = ((rc - bracket.a).abs(), (bracket.b - rc).abs());
+            if da <= db {
+                (rc, da, false)
+            } else {
+                (rc, db, true)
+            }
+        });
+        let guess =
+            from_fit.or_else(
+                || match (distance(true, bracket.wa), distance(false, bracket.wb)) {
+                    (Some(da), Some(db)) if (da + db - w).abs() > 0.3 * w => None,
+                    (Some(da), Some(db)) if da <= db => Some((bracket.a + dir * da, da, false)),
+                    (Some(da), None) => Some((bracket.a + dir * da, da, false)),
+                    (_, Some(db)) => Some((bracket.b - dir * db, db, true)),
+                    (None, None) => None,
+                },
+            );
         let guess = guess.filter(|_| widths[0] >= 2.0 * w);
         let rho = match guess {
             Some((estimate, d, beyond_a)) => {
@@ -1412,6 +1574,54 @@ impl LineProbe<'_, '_> {
         }
     }
 
+    /// A bracket of the seeded crossing (captured inside, escaping outside) at relative
+    /// tolerance `coarse`, starting from guess ∓ half-width and widening fourfold towards the
+    /// crossing at most three times; `None` if none is found within the line's captured
+    /// origin side (ρ > 0), the rays disagree with a single crossing, or a ray failed.
+    fn seeded_bracket(
+        &self,
+        seed: seeding::Seed,
+        coarse: f64,
+        line: &mut LineBoundary,
+    ) -> Option<LineBracket> {
+        let mut width = seed.half_width;
+        let (mut lo, mut hi) = (seed.guess - width, seed.guess + width);
+        if lo <= 0.0 {
+            return None;
+        }
+        let mut at_lo = self.classify(lo, coarse, line)?;
+        let mut at_hi = self.classify(hi, coarse, line)?;
+        for _ in 0..3 {
+            match (at_lo.0, at_hi.0) {
+                (true, false) => break,
+                (true, true) => {
+                    // The crossing lies beyond hi.
+                    width *= 4.0;
+                    (lo, at_lo) = (hi, at_hi);
+                    hi = lo + width;
+                    at_hi = self.classify(hi, coarse, line)?;
+                }
+                (false, false) => {
+                    // The crossing lies before lo.
+                    width *= 4.0;
+                    (hi, at_hi) = (lo, at_lo);
+                    lo = hi - width;
+                    if lo <= 0.0 {
+                        return None;
+                    }
+                    at_lo = self.classify(lo, coarse, line)?;
+                }
+                (false, true) => return None,
+            }
+        }
+        (at_lo.0 && !at_hi.0).then_some(LineBracket {
+            lo,
+            hi,
+            captured_lo: true,
+            winding: [at_lo.1, at_hi.1],
+        })
+    }
+
     /// The crossing in one scan bracket, in three stages (coarse tolerance down to the coarse
     /// width; the bracket confirmed at the strict tolerance; strict refinement to
     /// `tolerance`), each refinement by [`guided_refine`]. `Err(false)` for a failed ray,
@@ -1498,6 +1708,9 @@ pub struct RaytraceChecks {
     /// boundary, over all curve angles and both sides, in radians (π/γ for a spherical
     /// photon sphere with ring exponent γ; 1 for Schwarzschild).
     pub winding_growth: [f64; 2],
+    /// Curve angles whose crossing was bracketed from their neighbours' prediction and not
+    /// scanned for further crossings (module docs, "Neighbour seeding"); mirror images count.
+    pub seeded_lines: usize,
 }
 
 /// The full outcome of a ray-traced critical curve, including per-angle failures.
@@ -1688,6 +1901,7 @@ impl RaytraceReport {
             estimated_error,
             accuracy_note,
             winding_growth,
+            seeded_lines: self.lines.iter().filter(|l| l.seeded).count(),
         }
     }
 }
@@ -1773,15 +1987,22 @@ pub fn trace_curve(
         max_radius: 0.25 * tracer.escape_radius,
     };
     let traced = if mirror { n / 2 + 1 } else { n };
-    let lines: Vec<LineBoundary> = (0..traced)
-        .into_par_iter()
-        .map(|k| {
+    let lines = seeding::trace_in_levels(
+        n,
+        traced,
+        mirror,
+        options.anchor_every,
+        options.coarse_width,
+        |k, seed| {
             let psi = TAU * k as f64 / n as f64;
-            let mut line = tracer.boundary_along_line(origin, true, psi, &scan);
+            let mut line = match seed {
+                Some(seed) => tracer.boundary_near(origin, psi, seed, &scan),
+                None => tracer.boundary_along_line(origin, true, psi, &scan),
+            };
             tracer.check_crossing(&validator, origin, &mut line, target);
             line
-        })
-        .collect();
+        },
+    );
     report.add_lines(lines, n, mirror);
     finish(report)
 }

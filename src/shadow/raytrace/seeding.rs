@@ -1,0 +1,254 @@
+//! Neighbour seeding: the curve's screen lines in levels, each bracketed from a prediction by
+//! the lines already finished.
+//!
+//! Every `anchor_every`-th line (the anchors) is scanned and refined in full
+//! ([`super::Tracer::boundary_along_line`]). The other lines follow in levels of halving
+//! stride (with the default 4: the lines k ≡ 2 mod 4, then the odd ones); each starts from
+//! the crossing predicted by cubic Lagrange interpolation in the screen angle through the two
+//! nearest finished lines on either side, with a first bracket of half-width twice the
+//! difference between that cubic and the linear interpolation between the nearest two (the
+//! usual estimate of an interpolant's error by the next lower order; e.g. Press et al.,
+//! *Numerical Recipes*, 3rd ed., §3.2). Bisection and the winding-guided refinement then
+//! proceed as on a scanned line, so the crossing is as accurate as before; what a seeded
+//! line does not do is the scan for further crossings along it. Seeding is therefore used
+//! only while the curve looks star-shaped: every anchor must have exactly one crossing, and a
+//! line is predicted only from lines with one crossing; a line whose predicted bracket cannot
+//! be confirmed within a few widenings is scanned in full after all.
+//!
+//! Each level depends only on the levels before it, and each line of a level is computed on
+//! its own, so the result does not depend on the number of threads.
+
+use super::LineBoundary;
+use rayon::prelude::*;
+
+/// A line's predicted crossing (in M from the curve origin) and the half-width of the first
+/// bracket to try around it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Seed {
+    /// Predicted crossing.
+    pub guess: f64,
+    /// Half-width of the first bracket.
+    pub half_width: f64,
+}
+
+/// Trace the first `traced` of `n` curve lines in levels (module docs): `line(k, seed)` traces
+/// line k, scanning it in full when `seed` is `None`. With `mirror`, line n − k is the mirror
+/// image of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around
+/// the curve, traces every line in full. `min_half_width` is the smallest first bracket.
+pub(crate) fn trace_in_levels<F>(
+    n: usize,
+    traced: usize,
+    mirror: bool,
+    every: usize,
+    min_half_width: f64,
+    line: F,
+) -> Vec<LineBoundary>
+where
+    F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
+{
+    let seeding = every > 1 && n >= 4 * every;
+    let mut stride = if seeding { every } else { 1 };
+    let mut slots: Vec<Option<LineBoundary>> = vec![None; traced];
+    let anchors: Vec<(usize, Option<Seed>)> =
+        (0..traced).step_by(stride).map(|k| (k, None)).collect();
+    fill(&mut slots, &anchors, &line);
+    let star_shaped = anchors
+        .iter()
+        .all(|&(k, _)| slots[k].as_ref().is_some_and(single_crossing));
+    while stride > 1 {
+        stride /= 2;
+        let level: Vec<(usize, Option<Seed>)> = (0..traced)
+            .filter(|&k| k % stride == 0 && slots[k].is_none())
+            .map(|k| {
+                let seed = star_shaped
+                    .then(|| predict(&slots, k, n, mirror, min_half_width))
+                    .flatten();
+                (k, seed)
+            })
+            .collect();
+        fill(&mut slots, &level, &line);
+    }
+    slots.into_iter().flatten().collect()
+}
+
+/// Trace the lines `ks` (each with its seed) in parallel into their slots.
+fn fill<F>(slots: &mut [Option<LineBoundary>], ks: &[(usize, Option<Seed>)], line: &F)
+where
+    F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
+{
+    let traced: Vec<LineBoundary> = ks.par_iter().map(|&(k, seed)| line(k, seed)).collect();
+    for (&(k, _), l) in ks.iter().zip(traced) {
+        slots[k] = Some(l);
+    }
+}
+
+/// A converged line with exactly one crossing.
+fn single_crossing(line: &LineBoundary) -> bool {
+    line.failure.is_none() && line.crossings.len() == 1
+}
+
+/// The crossing of line k predicted from the two nearest finished single-crossing lines on
+/// either side (module docs); `None` without them, or when the predicted bracket would reach
+/// a quarter of the way to the origin (the curve is not smooth on this scale).
+pub(crate) fn predict(
+    slots: &[Option<LineBoundary>],
+    k: usize,
+    n: usize,
+    mirror: bool,
+    min_half_width: f64,
+) -> Option<Seed> {
+    let n_signed = n as isize;
+    let rho = |j: isize| -> Option<f64> {
+        let m = j.rem_euclid(n_signed) as usize;
+        let index = if mirror && m > n / 2 { n - m } else { m };
+        slots
+            .get(index)?
+            .as_ref()
+            .filter(|l| single_crossing(l))
+            .map(|l| l.crossings[0])
+    };
+    let k = k as isize;
+    let side = |direction: isize| -> Vec<(f64, f64)> {
+        (1..n_signed)
+            .map(|d| k + direction * d)
+            .filter_map(|j| rho(j).map(|r| (j as f64, r)))
+            .take(2)
+            .collect()
+    };
+    let (below, above) = (side(-1), side(1));
+    if below.len() < 2 || above.len() < 2 {
+        return None;
+    }
+    let x = k as f64;
+    let nodes = [below[1], below[0], above[0], above[1]];
+    let cubic = lagrange(&nodes, x);
+    let linear = lagrange(&nodes[1..3], x);
+    let half_width = (2.0 * (cubic - linear).abs()).max(min_half_width);
+    (cubic.is_finite() && half_width < 0.25 * cubic).then_some(Seed {
+        guess: cubic,
+        half_width,
+    })
+}
+
+/// The Lagrange interpolating polynomial through `nodes` (x, y), at `x`.
+fn lagrange(nodes: &[(f64, f64)], x: f64) -> f64 {
+    nodes
+        .iter()
+        .enumerate()
+        .map(|(i, &(xi, yi))| {
+            let weight: f64 = nodes
+                .iter()
+                .enumerate()
+                .filter(|&(j, _)| j != i)
+                .map(|(_, &(xj, _))| (x - xj) / (xi - xj))
+                .product();
+            weight * yi
+        })
+        .sum()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn line(k: usize, n: usize, rho: f64) -> LineBoundary {
+        LineBoundary {
+            psi: std::f64::consts::TAU * k as f64 / n as f64,
+            crossings: vec![rho],
+            failure: None,
+            rays: 1,
+            failed_rays: 0,
+            steps: 1,
+            check: None,
+            seeded: false,
+        }
+    }
+
+    #[test]
+    fn a_cubic_is_predicted_exactly_and_its_error_estimate_is_the_cubic_term() {
+        // Lagrange interpolation through four nodes reproduces a cubic (Press et al., Numerical
+        // Recipes, 3rd ed., section 3.2).
+        let f = |x: f64| 5.0 + 0.01 * x - 0.002 * x * x + 1e-4 * x * x * x;
+        let n = 64;
+        let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
+        for k in [0usize, 4, 8, 12, 16] {
+            slots[k] = Some(line(k, n, f(k as f64)));
+        }
+        let seed = predict(&slots, 6, n, false, 1e-12).unwrap();
+        assert!((seed.guess - f(6.0)).abs() < 1e-12);
+        let linear = 0.5 * (f(4.0) + f(8.0));
+        assert!((seed.half_width - 2.0 * (f(6.0) - linear).abs()).abs() < 1e-12);
+    }
+
+    #[test]
+    fn lines_wrap_around_and_mirror() {
+        // Without a mirror, line 62 of 64 is predicted from 56, 60, 0 (= 64) and 4 (= 68).
+        let n = 64;
+        let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
+        let f = |x: f64| 5.0 + 1e-3 * x;
+        for (k, x) in [(56usize, 56.0), (60, 60.0), (0, 64.0), (4, 68.0)] {
+            slots[k] = Some(line(k, n, f(x)));
+        }
+        let seed = predict(&slots, 62, n, false, 1e-12).unwrap();
+        assert!((seed.guess - f(62.0)).abs() < 1e-12);
+        // With a mirror only lines 0..=32 exist; line 2 is predicted from 4, 8 and their
+        // images at -4 and -8 (lines 60 and 56): an even function of the angle.
+        let mut half: Vec<Option<LineBoundary>> = vec![None; n / 2 + 1];
+        let g = |x: f64| 5.0 + 1e-3 * x * x;
+        for k in [0usize, 4, 8] {
+            half[k] = Some(line(k, n, g(k as f64)));
+        }
+        let seed = predict(&half, 2, n, true, 1e-12).unwrap();
+        assert!((seed.guess - g(2.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn no_prediction_across_a_line_with_several_crossings_or_too_few_neighbours() {
+        let n = 64;
+        let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
+        // One finished line: seen once below line 6 (at 4) and once above (at 68 = 4 + 64).
+        slots[4] = Some(line(4, n, 5.0));
+        assert_eq!(predict(&slots, 6, n, false, 1e-12), None);
+        // Two: each is seen twice around the circle (4, 8 and their images at -56 and 68).
+        slots[8] = Some(line(8, n, 5.1));
+        assert!(predict(&slots, 6, n, false, 1e-12).is_some());
+        // A line with two crossings is not used: one line left again.
+        let mut two = line(4, n, 5.0);
+        two.crossings = vec![2.0, 5.0];
+        slots[4] = Some(two);
+        assert_eq!(predict(&slots, 6, n, false, 1e-12), None);
+    }
+
+    #[test]
+    fn every_line_is_traced_once_in_levels_and_seeded_only_after_the_anchors() {
+        let n = 64;
+        let calls = std::sync::Mutex::new(Vec::new());
+        let lines = trace_in_levels(n, n, false, 4, 1e-6, |k, seed| {
+            calls.lock().unwrap().push((k, seed.is_some()));
+            line(
+                k,
+                n,
+                5.0 + 0.1 * (std::f64::consts::TAU * k as f64 / n as f64).cos(),
+            )
+        });
+        assert_eq!(lines.len(), n);
+        for (k, l) in lines.iter().enumerate() {
+            assert!((l.psi - std::f64::consts::TAU * k as f64 / n as f64).abs() < 1e-15);
+        }
+        let calls = calls.into_inner().unwrap();
+        assert_eq!(calls.len(), n);
+        for (k, seeded) in calls {
+            assert_eq!(seeded, k % 4 != 0, "line {k}");
+        }
+        // A failed anchor turns seeding off.
+        let lines = trace_in_levels(n, n, false, 4, 1e-6, |k, seed| {
+            assert!(seed.is_none());
+            let mut l = line(k, n, 5.0);
+            if k == 8 {
+                l.failure = Some("failed".into());
+            }
+            l
+        });
+        assert_eq!(lines.len(), n);
+    }
+}
