@@ -33,8 +33,24 @@
 //! β → −β, the midpoint of the boundary along the vertical line through it. The β mirror
 //! symmetry is used when it is exact: for an equatorially symmetric metric seen edge-on, and
 //! for a separable metric at any inclination (capture then depends on λ and η only, and η on
-//! β²; Carter 1968). Angles run in parallel; every angle is computed on its own, so the result
-//! does not depend on the number of threads.
+//! β²; Carter 1968). Angles run in parallel, in the levels of the neighbour seeding below;
+//! every angle depends only on the levels before it, so the result does not depend on the
+//! number of threads.
+//!
+//! # Neighbour seeding
+//!
+//! Only every `anchor_every`-th angle (4 by default) is scanned as above. The others are
+//! traced afterwards, in levels of halving stride, each from the crossing that Lagrange
+//! interpolation through its finished neighbours predicts, with a first bracket twice the
+//! interpolant's estimated error (widened fourfold towards the crossing at most three times;
+//! strict rays throughout when it is narrower than `coarse_width`). Their crossings are as
+//! accurate as a scanned line's, and checked in the same way; what a seeded line does not do
+//! is scan for further crossings along it, so the star-shape diagnostic
+//! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
+//! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
+//! whose bracket is not found is scanned in full ([`RaytraceChecks::seeded_lines`] counts the
+//! seeded angles). On a 256-angle Johannsen–Psaltis curve a seeded line takes 6 rays to place
+//! its crossing against 28 for a scanned one (module `seeding`).
 //!
 //! # Early end: a radial turning point decides escape
 //!
@@ -1184,9 +1200,17 @@ impl<'a> Tracer<'a> {
             sin,
             cos,
         };
-        let crossing = probe
-            .seeded_bracket(seed, coarse, &mut line)
-            .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok());
+        let strict = self.options.integrator.rtol;
+        let crossing = if seed.half_width <= self.options.coarse_width {
+            // Within the coarse stage's final width: strict rays throughout.
+            probe
+                .seeded_bracket(seed, strict, &mut line)
+                .and_then(|b| probe.strict_crossing(b, scan.tolerance, &mut line))
+        } else {
+            probe
+                .seeded_bracket(seed, coarse, &mut line)
+                .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok())
+        };
         if let (Some(rho), None) = (crossing, &line.failure) {
             line.crossings.push(rho);
             return line;
@@ -1403,10 +1427,11 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
 
 /// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
 /// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
-/// (module docs, "Checks"), so a ray's winding says how far it is from the crossing:
-/// |ρ − ρ_c| = exp((c − w)/k), with (k, c) fitted per side to the rays met so far
-/// ([`winding_law`]). The next ray goes just beyond the crossing predicted from the nearer
-/// end, by a margin ε times the predicted distance (ε starts at 0.1, shrinks threefold after
+/// (module docs, "Checks"), so the windings say where the crossing is: ρ_c fitted jointly
+/// with both sides' (k, c) once one side has three rays ([`fitted_crossing`]); before that,
+/// |ρ − ρ_c| = exp((c − w)/k) from the nearer end, with (k, c) fitted per side to the rays
+/// farther out ([`winding_law`]). The next ray goes just beyond the predicted crossing, on the
+/// far side from the nearer end, by a margin ε times the predicted distance (ε starts at 0.1, shrinks threefold after
 /// each ray on the expected side and grows threefold after a surprise), so each ray cuts
 /// the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
 /// fitted and after any two rays that did not halve the bracket, and every ray inside the
@@ -1620,6 +1645,35 @@ impl LineProbe<'_, '_> {
             captured_lo: true,
             winding: [at_lo.1, at_hi.1],
         })
+    }
+
+    /// The crossing in a bracket whose rays were traced at the strict tolerance, refined to
+    /// `tolerance` by [`guided_refine`]; `None` for a failed ray.
+    fn strict_crossing(
+        &self,
+        bracket: LineBracket,
+        tolerance: f64,
+        line: &mut LineBoundary,
+    ) -> Option<f64> {
+        let strict = self.tracer.options.integrator.rtol;
+        let captured_lo = bracket.captured_lo;
+        let mut probed: Vec<Probed> = vec![
+            (bracket.lo, bracket.winding[0], true),
+            (bracket.hi, bracket.winding[1], false),
+        ];
+        let start = Bracket {
+            a: bracket.lo,
+            wa: bracket.winding[0],
+            b: bracket.hi,
+            wb: bracket.winding[1],
+        };
+        let refined = guided_refine(start, 2.0 * tolerance, &mut probed, |rho| {
+            self.classify(rho, strict, line)
+                .map(|(captured, w)| (captured == captured_lo, w))
+                .ok_or(())
+        })
+        .ok()?;
+        Some(0.5 * (refined.a + refined.b))
     }
 
     /// The crossing in one scan bracket, in three stages (coarse tolerance down to the coarse
@@ -1992,7 +2046,7 @@ pub fn trace_curve(
         traced,
         mirror,
         options.anchor_every,
-        options.coarse_width,
+        target,
         |k, seed| {
             let psi = TAU * k as f64 / n as f64;
             let mut line = match seed {
