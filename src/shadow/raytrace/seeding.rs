@@ -5,7 +5,7 @@
 //! ([`super::Tracer::boundary_along_line`]). The other lines follow in levels of halving
 //! stride (with the default 4: the lines k ≡ 2 mod 4, then the odd ones); each starts from
 //! the crossing predicted by Lagrange interpolation in the screen angle through the three
-//! nearest finished lines on either side (quintic), with a first bracket of half-width twice
+//! nearest finished lines on either side (quintic; lines at most three anchor spacings away), with a first bracket of half-width twice
 //! the difference between that quintic and the cubic through the nearest two on either side
 //! (the usual estimate of an interpolant's error by the next lower order; e.g. Press et al.,
 //! *Numerical Recipes*, 3rd ed., §3.2). With only two finished lines on a side, the cubic
@@ -64,7 +64,7 @@ where
             .filter(|&k| k % stride == 0 && slots[k].is_none())
             .map(|k| {
                 let seed = star_shaped
-                    .then(|| predict(&slots, k, n, mirror, min_half_width))
+                    .then(|| predict(&slots, k, n, mirror, 3 * every, min_half_width))
                     .flatten();
                 (k, seed)
             })
@@ -91,7 +91,8 @@ fn single_crossing(line: &LineBoundary) -> bool {
 }
 
 /// The crossing of line k predicted from the three (at least two) nearest finished
-/// single-crossing lines on either side (module docs); `None` without two on each side, or when
+/// single-crossing lines on either side within `reach` lines of it (module docs); `None`
+/// without two on each side, or when
 /// the predicted bracket would reach a quarter of the way to the origin (the curve is not
 /// smooth on this scale).
 pub(crate) fn predict(
@@ -99,6 +100,7 @@ pub(crate) fn predict(
     k: usize,
     n: usize,
     mirror: bool,
+    reach: usize,
     min_half_width: f64,
 ) -> Option<Seed> {
     let n_signed = n as isize;
@@ -113,7 +115,7 @@ pub(crate) fn predict(
     };
     let k = k as isize;
     let side = |direction: isize| -> Vec<(f64, f64)> {
-        (1..n_signed)
+        (1..=(reach as isize).min(n_signed - 1))
             .map(|d| k + direction * d)
             .filter_map(|j| rho(j).map(|r| (j as f64, r)))
             .take(3)
@@ -172,71 +174,92 @@ mod tests {
         }
     }
 
+    /// A smooth closed curve ρ(ψ_k), ψ_k = 2πk/n.
+    fn curve(k: f64, n: usize) -> f64 {
+        let psi = std::f64::consts::TAU * k / n as f64;
+        5.0 + 0.1 * psi.cos() + 0.02 * (2.0 * psi).cos() + 0.01 * (3.0 * psi).sin()
+    }
+
     #[test]
-    fn a_cubic_is_predicted_exactly_and_its_error_estimate_is_the_cubic_term() {
-        // Lagrange interpolation through four nodes reproduces a cubic, through six a quintic
-        // (Press et al., Numerical Recipes, 3rd ed., section 3.2).
-        let f = |x: f64| 5.0 + 0.01 * x - 0.002 * x * x + 1e-4 * x * x * x;
+    fn the_prediction_is_the_quintic_through_three_lines_on_either_side() {
+        // Lagrange interpolation (Press et al., Numerical Recipes, 3rd ed., section 3.2):
+        // line 6 of 64 from lines 60 (at -4), 0, 4 and 8, 12, 16; the estimate is twice the
+        // difference from the cubic through 0, 4, 8 and 12.
         let n = 64;
         let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
-        for k in [0usize, 4, 8, 12, 16] {
-            slots[k] = Some(line(k, n, f(k as f64)));
+        for k in (0..n).step_by(4) {
+            slots[k] = Some(line(k, n, curve(k as f64, n)));
         }
-        // Two lines below line 6 (4, 0; line 60 is not finished), so a cubic through 0..12.
-        let seed = predict(&slots, 6, n, false, 1e-12).unwrap();
-        assert!((seed.guess - f(6.0)).abs() < 1e-12);
-        let linear = 0.5 * (f(4.0) + f(8.0));
-        assert!((seed.half_width - 2.0 * (f(6.0) - linear).abs()).abs() < 1e-12);
-        // Three on either side of line 10 (0, 4, 8 and 12, 16, 20): a quintic, and its
-        // estimate is twice its difference from the cubic through 4..16.
-        let g = |x: f64| f(x) + 1e-7 * x.powi(5);
-        for k in [0usize, 4, 8, 12, 16, 20] {
-            slots[k] = Some(line(k, n, g(k as f64)));
+        let seed = predict(&slots, 6, n, false, 12, 1e-12).unwrap();
+        let nodes = |ks: &[f64]| ks.iter().map(|&k| (k, curve(k, n))).collect::<Vec<_>>();
+        let quintic = lagrange(&nodes(&[-4.0, 0.0, 4.0, 8.0, 12.0, 16.0]), 6.0);
+        let cubic = lagrange(&nodes(&[0.0, 4.0, 8.0, 12.0]), 6.0);
+        assert_eq!(seed.guess, quintic);
+        assert!((seed.half_width - 2.0 * (quintic - cubic).abs()).abs() < 1e-15);
+        let error = (seed.guess - curve(6.0, n)).abs();
+        assert!(error < seed.half_width, "{error:e} {seed:?}");
+        // With two finished lines on a side, the cubic and its distance from the linear
+        // interpolation: line 6 when only 0, 4, 8 and 12 are finished (16 and 60 missing; the
+        // lines beyond the reach of 12, such as 12 itself seen at -52, are not used).
+        let mut four: Vec<Option<LineBoundary>> = vec![None; n];
+        for k in [0usize, 4, 8, 12] {
+            four[k] = slots[k].clone();
         }
-        let seed = predict(&slots, 10, n, false, 1e-12).unwrap();
-        assert!((seed.guess - g(10.0)).abs() < 1e-10, "{seed:?}");
-        let cubic = lagrange(&[4.0, 8.0, 12.0, 16.0].map(|x| (x, g(x))), 10.0);
-        assert!((seed.half_width - 2.0 * (g(10.0) - cubic).abs()).abs() < 1e-10);
-        assert!(seed.half_width > 1e-4, "the quintic term is seen: {seed:?}");
+        let seed = predict(&four, 6, n, false, 12, 1e-12).unwrap();
+        let linear = lagrange(&nodes(&[4.0, 8.0]), 6.0);
+        assert_eq!(seed.guess, cubic);
+        assert!((seed.half_width - 2.0 * (cubic - linear).abs()).abs() < 1e-15);
+        // The smallest half-width is kept.
+        assert_eq!(
+            predict(&slots, 6, n, false, 12, 0.5).unwrap().half_width,
+            0.5
+        );
     }
 
     #[test]
     fn lines_wrap_around_and_mirror() {
-        // Without a mirror, line 62 of 64 is predicted from 56, 60, 0 (= 64) and 4 (= 68).
+        // Without a mirror, line 62 of 64 is predicted from 52, 56, 60 and 0, 4, 8 (as 64,
+        // 68, 72).
         let n = 64;
         let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
-        let f = |x: f64| 5.0 + 1e-3 * x;
-        for (k, x) in [(56usize, 56.0), (60, 60.0), (0, 64.0), (4, 68.0)] {
-            slots[k] = Some(line(k, n, f(x)));
+        for k in (0..n).step_by(4) {
+            slots[k] = Some(line(k, n, curve(k as f64, n)));
         }
-        let seed = predict(&slots, 62, n, false, 1e-12).unwrap();
-        assert!((seed.guess - f(62.0)).abs() < 1e-12);
-        // With a mirror only lines 0..=32 exist; line 2 is predicted from 4, 8 and their
-        // images at -4 and -8 (lines 60 and 56): an even function of the angle.
+        let seed = predict(&slots, 62, n, false, 12, 1e-12).unwrap();
+        let error = (seed.guess - curve(62.0, n)).abs();
+        assert!(error < seed.half_width, "{error:e} {seed:?}");
+        // With a mirror only lines 0..=32 exist and the curve is even in ψ: line 2 is
+        // predicted from 0, 4, 8 and the images of 4 and 8 (at -4 and -8).
+        let even = |k: f64| 5.0 + 0.1 * (std::f64::consts::TAU * k / n as f64).cos();
         let mut half: Vec<Option<LineBoundary>> = vec![None; n / 2 + 1];
-        let g = |x: f64| 5.0 + 1e-3 * x * x;
-        for k in [0usize, 4, 8] {
-            half[k] = Some(line(k, n, g(k as f64)));
+        for k in (0..=n / 2).step_by(4) {
+            half[k] = Some(line(k, n, even(k as f64)));
         }
-        let seed = predict(&half, 2, n, true, 1e-12).unwrap();
-        assert!((seed.guess - g(2.0)).abs() < 1e-12);
+        let seed = predict(&half, 2, n, true, 12, 1e-12).unwrap();
+        let nodes: Vec<(f64, f64)> = [-8.0, -4.0, 0.0, 4.0, 8.0, 12.0]
+            .iter()
+            .map(|&k| (k, even(k)))
+            .collect();
+        assert_eq!(seed.guess, lagrange(&nodes, 2.0));
+        assert!((seed.guess - even(2.0)).abs() < seed.half_width);
     }
 
     #[test]
     fn no_prediction_across_a_line_with_several_crossings_or_too_few_neighbours() {
         let n = 64;
         let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
-        // One finished line: seen once below line 6 (at 4) and once above (at 68 = 4 + 64).
+        // Lines 4 and 8 only: one on either side of line 6 within the reach of 12 lines.
         slots[4] = Some(line(4, n, 5.0));
-        assert_eq!(predict(&slots, 6, n, false, 1e-12), None);
-        // Two: each is seen twice around the circle (4, 8 and their images at -56 and 68).
         slots[8] = Some(line(8, n, 5.1));
-        assert!(predict(&slots, 6, n, false, 1e-12).is_some());
-        // A line with two crossings is not used: one line left again.
+        assert_eq!(predict(&slots, 6, n, false, 12, 1e-12), None);
+        slots[0] = Some(line(0, n, 4.9));
+        slots[12] = Some(line(12, n, 5.2));
+        assert!(predict(&slots, 6, n, false, 12, 1e-12).is_some());
+        // A line with two crossings is not used: one line below again.
         let mut two = line(4, n, 5.0);
         two.crossings = vec![2.0, 5.0];
         slots[4] = Some(two);
-        assert_eq!(predict(&slots, 6, n, false, 1e-12), None);
+        assert_eq!(predict(&slots, 6, n, false, 12, 1e-12), None);
     }
 
     #[test]
