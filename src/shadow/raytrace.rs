@@ -1384,12 +1384,12 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
         Some(total)
     };
     // The crossing is often far closer to one end than the bracket is wide: trial points at
-    // distances w·10^(−j/4) from either end, then golden-section search between the best
-    // trial point's neighbours.
+    // distances w·10^(−j/3) (down to 1e-8 w) from either end, then golden-section search
+    // between the best trial point's neighbours (to about 1e-3 of their spacing).
     let w = bracket.width();
-    let mut trials: Vec<f64> = (1..=48)
+    let mut trials: Vec<f64> = (1..=24)
         .flat_map(|j| {
-            let d = w * 10f64.powf(-(j as f64) / 4.0);
+            let d = w * 10f64.powf(-(j as f64) / 3.0);
             [bracket.a + dir * d, bracket.b - dir * d]
         })
         .collect();
@@ -1411,7 +1411,7 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
         .map_or(bracket.a.max(bracket.b), |p| p.0);
     let (mut x0, mut x1) = (lo, hi);
     let golden = 0.5 * (5f64.sqrt() - 1.0);
-    for _ in 0..40 {
+    for _ in 0..16 {
         let (m0, m1) = (x1 - golden * (x1 - x0), x0 + golden * (x1 - x0));
         let (r0, r1) = (residual(m0), residual(m1));
         match (r0, r1) {
@@ -2049,13 +2049,12 @@ pub fn trace_curve(
         target,
         |k, seed| {
             let psi = TAU * k as f64 / n as f64;
-            let mut line = match seed {
+            match seed {
                 Some(seed) => tracer.boundary_near(origin, psi, seed, &scan),
                 None => tracer.boundary_along_line(origin, true, psi, &scan),
-            };
-            tracer.check_crossing(&validator, origin, &mut line, target);
-            line
+            }
         },
+        |line| tracer.check_crossing(&validator, origin, line, target),
     );
     report.add_lines(lines, n, mirror);
     finish(report)

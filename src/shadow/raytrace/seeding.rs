@@ -34,27 +34,34 @@ pub(crate) struct Seed {
     pub half_width: f64,
 }
 
-/// Trace the first `traced` of `n` curve lines in levels (module docs): `line(k, seed)` traces
-/// line k, scanning it in full when `seed` is `None`. With `mirror`, line n − k is the mirror
+/// Trace the first `traced` of `n` curve lines in levels (module docs): `locate(k, seed)`
+/// finds line k's crossings, scanning it in full when `seed` is `None`, and `finish` then
+/// completes a line (its checks), which the predictions do not need: the lines of one level
+/// are finished while the next level is located. With `mirror`, line n − k is the mirror
 /// image of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around
 /// the curve, traces every line in full. `min_half_width` is the smallest first bracket.
-pub(crate) fn trace_in_levels<F>(
+pub(crate) fn trace_in_levels<F, G>(
     n: usize,
     traced: usize,
     mirror: bool,
     every: usize,
     min_half_width: f64,
-    line: F,
+    locate: F,
+    finish: G,
 ) -> Vec<LineBoundary>
 where
     F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
+    G: Fn(&mut LineBoundary) + Sync,
 {
     let seeding = every > 1 && n >= 4 * every;
     let mut stride = if seeding { every } else { 1 };
     let mut slots: Vec<Option<LineBoundary>> = vec![None; traced];
+    // Lines located but not yet finished.
+    let mut pending = vec![false; traced];
     let anchors: Vec<(usize, Option<Seed>)> =
         (0..traced).step_by(stride).map(|k| (k, None)).collect();
-    fill(&mut slots, &anchors, &line);
+    let located = locate_level(&anchors, &locate);
+    store(&mut slots, &mut pending, &anchors, located);
     let star_shaped = anchors
         .iter()
         .all(|&(k, _)| slots[k].as_ref().is_some_and(single_crossing));
@@ -69,20 +76,51 @@ where
                 (k, seed)
             })
             .collect();
-        fill(&mut slots, &level, &line);
+        let ((), located) = rayon::join(
+            || finish_pending(&mut slots, &mut pending, &finish),
+            || locate_level(&level, &locate),
+        );
+        store(&mut slots, &mut pending, &level, located);
     }
+    finish_pending(&mut slots, &mut pending, &finish);
     slots.into_iter().flatten().collect()
 }
 
-/// Trace the lines `ks` (each with its seed) in parallel into their slots.
-fn fill<F>(slots: &mut [Option<LineBoundary>], ks: &[(usize, Option<Seed>)], line: &F)
+/// Locate the lines `ks` (each with its seed) in parallel.
+fn locate_level<F>(ks: &[(usize, Option<Seed>)], locate: &F) -> Vec<LineBoundary>
 where
     F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
 {
-    let traced: Vec<LineBoundary> = ks.par_iter().map(|&(k, seed)| line(k, seed)).collect();
-    for (&(k, _), l) in ks.iter().zip(traced) {
-        slots[k] = Some(l);
+    ks.par_iter().map(|&(k, seed)| locate(k, seed)).collect()
+}
+
+/// Put located lines into their slots, to be finished.
+fn store(
+    slots: &mut [Option<LineBoundary>],
+    pending: &mut [bool],
+    ks: &[(usize, Option<Seed>)],
+    located: Vec<LineBoundary>,
+) {
+    for (&(k, _), line) in ks.iter().zip(located) {
+        slots[k] = Some(line);
+        pending[k] = true;
     }
+}
+
+/// Finish every pending line, in parallel.
+fn finish_pending<G>(slots: &mut [Option<LineBoundary>], pending: &mut [bool], finish: &G)
+where
+    G: Fn(&mut LineBoundary) + Sync,
+{
+    slots
+        .par_iter_mut()
+        .zip(pending.par_iter_mut())
+        .for_each(|(slot, pending)| {
+            if let (true, Some(line)) = (*pending, slot.as_mut()) {
+                finish(line);
+            }
+            *pending = false;
+        });
 }
 
 /// A converged line with exactly one crossing.
@@ -266,14 +304,25 @@ mod tests {
     fn every_line_is_traced_once_in_levels_and_seeded_only_after_the_anchors() {
         let n = 64;
         let calls = std::sync::Mutex::new(Vec::new());
-        let lines = trace_in_levels(n, n, false, 4, 1e-6, |k, seed| {
-            calls.lock().unwrap().push((k, seed.is_some()));
-            line(
-                k,
-                n,
-                5.0 + 0.1 * (std::f64::consts::TAU * k as f64 / n as f64).cos(),
-            )
-        });
+        let finished = std::sync::Mutex::new(Vec::new());
+        let lines = trace_in_levels(
+            n,
+            n,
+            false,
+            4,
+            1e-6,
+            |k, seed| {
+                calls.lock().unwrap().push((k, seed.is_some()));
+                line(k, n, curve(k as f64, n))
+            },
+            |l| {
+                finished.lock().unwrap().push(l.psi);
+                l.steps += 10;
+            },
+        );
+        // Every line finished once.
+        assert_eq!(finished.into_inner().unwrap().len(), n);
+        assert!(lines.iter().all(|l| l.steps == 11));
         assert_eq!(lines.len(), n);
         for (k, l) in lines.iter().enumerate() {
             assert!((l.psi - std::f64::consts::TAU * k as f64 / n as f64).abs() < 1e-15);
@@ -284,14 +333,22 @@ mod tests {
             assert_eq!(seeded, k % 4 != 0, "line {k}");
         }
         // A failed anchor turns seeding off.
-        let lines = trace_in_levels(n, n, false, 4, 1e-6, |k, seed| {
-            assert!(seed.is_none());
-            let mut l = line(k, n, 5.0);
-            if k == 8 {
-                l.failure = Some("failed".into());
-            }
-            l
-        });
+        let lines = trace_in_levels(
+            n,
+            n,
+            false,
+            4,
+            1e-6,
+            |k, seed| {
+                assert!(seed.is_none());
+                let mut l = line(k, n, 5.0);
+                if k == 8 {
+                    l.failure = Some("failed".into());
+                }
+                l
+            },
+            |_| {},
+        );
         assert_eq!(lines.len(), n);
     }
 }
