@@ -2,8 +2,12 @@
 
 use serde_json::Value;
 use std::process::Command;
+use umbral::bounds::nuisance::{
+    extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue,
+};
 use umbral::bounds::{
-    bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+    bound, bound_on, BoundRequest, BoundSettings, Evaluate, Halted, Inclination, Node,
+    ParameterRange, SizeMeasure,
 };
 use umbral::measurement::{DerivedRadii, Measurement, RadiusInterval};
 
@@ -650,5 +654,318 @@ fn a_horizon_edge_on_a_short_decimal_is_exact() {
     assert!(
         latex.contains("\\toprule") && latex.contains("$0.68$ &"),
         "{latex}"
+    );
+}
+
+/// An evaluator that stands in for the metric: every value asked for is answered by
+/// `model` (the request's metric only passes the request checks), and every request is
+/// recorded with its stage.
+struct Synthetic {
+    model: fn(f64) -> Aggregate,
+    asked: Vec<(String, f64)>,
+}
+
+impl Evaluate for Synthetic {
+    fn evaluate(
+        &mut self,
+        stage: &str,
+        xs: &[f64],
+        _node: &(dyn Fn(f64) -> Node + Sync),
+    ) -> Result<Vec<Node>, Halted> {
+        Ok(xs
+            .iter()
+            .map(|&x| {
+                self.asked.push((stage.to_string(), x));
+                Node {
+                    x,
+                    value: (self.model)(x),
+                }
+            })
+            .collect())
+    }
+
+    fn finish(&mut self) -> Result<(), Halted> {
+        Ok(())
+    }
+}
+
+/// A prediction of size 5 + 0.2 x (no nuisance spread).
+fn linear_size(x: f64) -> Aggregate {
+    let size = 5.0 + 0.2 * x;
+    Aggregate::Ok(Extremes {
+        size_min: size,
+        size_max: size,
+        circularity_min: 0.0,
+        partial: false,
+        horizonless: false,
+        wall_backoff: 0.0,
+        refinement_cut: None,
+    })
+}
+
+/// No horizon below 0.2161 (a physical edge), a solver failure above 0.8659.
+fn horizon_then_failure(x: f64) -> Aggregate {
+    if x < 0.2161 {
+        Aggregate::NoHorizon
+    } else if x > 0.8659 {
+        Aggregate::Failed("synthetic solver failure".into())
+    } else {
+        linear_size(x)
+    }
+}
+
+/// A synthetic bound over [0, 1] (the metric and its parameter only pass the checks).
+fn synthetic_request(intervals: &[(f64, f64, f64)]) -> BoundRequest {
+    request("reissner-nordstrom", ("q", 0.0, 1.0), intervals)
+}
+
+/// Where the solver fails is located only to the failure-edge tolerance (1e-3 of the range),
+/// the physical horizon edge still to 1e-8; the unevaluated gap is reported with the failure,
+/// the allowed range stops at the last success beside it, and the assumptions say so.
+#[test]
+fn failure_edges_are_located_coarsely_and_the_gap_is_reported() {
+    let r = synthetic_request(&[(0.95, 4.9, 5.5)]);
+    assert_eq!(r.settings.failure_edge_relative_tolerance, 1e-3);
+    let mut eval = Synthetic {
+        model: horizon_then_failure,
+        asked: Vec::new(),
+    };
+    let result = bound_on(&r, &mut eval).unwrap();
+    // The failure edge lies between grid nodes 0.85 and 0.9: bisected from 0.05 down to
+    // 0.05/64 < 1e-3 in 6 steps (1e-8 would take 23); the horizon edge between 0.2 and 0.25
+    // still takes 23 steps.
+    let edge_steps = |lo: f64, hi: f64| {
+        eval.asked
+            .iter()
+            .filter(|(stage, x)| stage == "category edges" && *x > lo && *x < hi)
+            .count()
+    };
+    assert_eq!(edge_steps(0.85, 0.9), 6, "{:?}", eval.asked);
+    assert_eq!(edge_steps(0.2, 0.25), 23, "{:?}", eval.asked);
+    assert_eq!(result.no_horizon.len(), 1);
+    let horizon_edge = result.no_horizon[0][1];
+    assert!(horizon_edge < 0.2161, "{horizon_edge}");
+    assert!(0.2161 - horizon_edge <= 1e-8, "{horizon_edge}");
+
+    assert_eq!(result.failures.len(), 1, "{:?}", result.failures);
+    let f = &result.failures[0];
+    assert_eq!(f.high, 1.0);
+    assert_eq!(f.evaluated_above, None);
+    let last_success = f.evaluated_below.expect("a success below the failure");
+    assert!(last_success <= 0.8659 && f.low > 0.8659, "{f:?}");
+    let gap = f.low - last_success;
+    assert!(gap <= 1e-3 && gap > 1e-8, "gap {gap}");
+    assert_eq!(f.unknown(&r.vary), [last_success, 1.0]);
+
+    // The allowed range stops at the last success: nothing in the gap is claimed.
+    let allowed = &result.levels[0].allowed;
+    assert_eq!(allowed.len(), 1, "{allowed:?}");
+    assert_eq!(allowed[0][1], last_success);
+    assert_eq!(result.end_kind(last_success), Some("solver-failure edge"));
+    assert_eq!(result.end_kind(allowed[0][0]), Some("horizon edge"));
+    let said = |text: &str| result.assumptions.iter().any(|a| a.contains(text));
+    assert!(
+        said("solver-failure edges (a failed evaluation next to one that did not fail) located by bisection only to 1e-3"),
+        "{:#?}",
+        result.assumptions
+    );
+    assert!(
+        said("category changes (no horizon, no shadow) located"),
+        "{:#?}",
+        result.assumptions
+    );
+
+    // Asked to locate failure edges as finely as physical ones, the search does as before.
+    let mut fine = r.clone();
+    fine.settings.failure_edge_relative_tolerance = 1e-8;
+    let mut again = Synthetic {
+        model: horizon_then_failure,
+        asked: Vec::new(),
+    };
+    let result = bound_on(&fine, &mut again).unwrap();
+    let f = &result.failures[0];
+    assert!(f.low - f.evaluated_below.unwrap() <= 1e-8, "{f:?}");
+}
+
+/// Linear size with a failure in a narrow window around x = 0.3731, where a bound end of the
+/// interval [4.9, 5.07462] lies and no grid node does (they are 0.05 apart).
+fn failure_at_a_bound_end(x: f64) -> Aggregate {
+    if (0.372..=0.374).contains(&x) {
+        Aggregate::Failed("synthetic solver failure".into())
+    } else {
+        linear_size(x)
+    }
+}
+
+/// A failure met while a bound end is refined is reported as the whole cell, as before, and
+/// ends the refinement: nothing more is evaluated there (once the cell's fate is known, the
+/// root search used to go on asking for values, the not-a-number among them).
+#[test]
+fn a_failure_inside_a_bound_end_refinement_stops_it() {
+    let r = synthetic_request(&[(0.68, 4.9, 5.07462)]);
+    let mut eval = Synthetic {
+        model: failure_at_a_bound_end,
+        asked: Vec::new(),
+    };
+    let result = bound_on(&r, &mut eval).unwrap();
+    assert_eq!(result.failures.len(), 1, "{:?}", result.failures);
+    let f = &result.failures[0];
+    // The cell between the grid nodes 7/20 and 8/20.
+    assert_eq!([f.low, f.high], [7.0 / 20.0, 8.0 / 20.0]);
+    assert_eq!(
+        [f.evaluated_below, f.evaluated_above],
+        [Some(f.low), Some(f.high)]
+    );
+    assert!(f.error.contains("synthetic solver failure"), "{f:?}");
+    assert_eq!(result.levels[0].allowed, vec![[0.0, 7.0 / 20.0]]);
+    let refinement: Vec<f64> = eval
+        .asked
+        .iter()
+        .filter(|(stage, _)| stage == "bound ends")
+        .map(|&(_, x)| x)
+        .collect();
+    assert!(refinement.iter().all(|x| x.is_finite()), "{refinement:?}");
+    // The bracket's two ends and the first step, which meets the failure.
+    assert_eq!(refinement.len(), 3, "{refinement:?}");
+}
+
+/// A metric file whose shadow solver fails beyond k = 0.7317 (the horizon 2m moves past the
+/// photon-sphere scan, whose radius is finite); below that a Schwarzschild metric of mass
+/// m = 1 + 0.05 k, b_c = 3√3 m (Synge 1966). The failure edge is reported with its gap.
+#[test]
+fn cli_bound_reports_the_gap_before_a_solver_failure() {
+    let metric = write_measurement(
+        "failing-mass.toml",
+        r#"name = "failing-mass"
+title = "Schwarzschild with a mass that jumps past k = 0.7317 (test only)"
+reference = "Schwarzschild 1916, Sitzungsber. Preuss. Akad. Wiss., 189"
+symmetry = "spherical"
+helpers = ["d = k - 0.7317", "m = 1 + 0.05*k + 1e12*(d + abs(d))/2", "f = 1 - 2*m/r"]
+horizon = "2*m"
+
+[[parameters]]
+name = "k"
+default = 0.0
+meaning = "test parameter"
+
+[line_element]
+A = "f"
+B = "1/f"
+C = "r^2"
+"#,
+    );
+    let measurement = write_measurement(
+        "failing-mass-measurement.toml",
+        "[size.shadow_radius]\nintervals = [ { confidence = 0.95, low = 4.9, high = 5.5 } ]\n",
+    );
+    let args = |json: bool| {
+        let mut a = vec![
+            "bound",
+            "--metric-file",
+            metric.to_str().unwrap(),
+            "--vary",
+            "k=-1:1",
+            "--measurement",
+            measurement.to_str().unwrap(),
+            "--no-checkpoint",
+        ];
+        if json {
+            a.push("--json");
+        }
+        umbral(&a)
+    };
+    let (code, out, err) = args(true);
+    assert_eq!(code, 0, "{err}");
+    let v: Value = serde_json::from_str(&out).unwrap();
+    let failures = v["failures"].as_array().unwrap();
+    let first = &failures[0];
+    let last_success = first["evaluated_below"].as_f64().unwrap();
+    let low = first["low"].as_f64().unwrap();
+    assert!(last_success < 0.7317 && low > 0.7317, "{first}");
+    // 1e-3 of the range's width 2.
+    assert!(
+        low - last_success <= 2e-3 && low - last_success > 1e-8,
+        "{first}"
+    );
+    assert_eq!(
+        v["levels"][0]["allowed"][0][1].as_f64(),
+        Some(last_success),
+        "{out}"
+    );
+    for f in failures {
+        assert_eq!(f["evaluated_below"].as_f64(), Some(last_success), "{f}");
+        assert!(f["evaluated_above"].is_null(), "{f}");
+    }
+    // Fewer than 10 evaluations beyond the starting grid: 6 bisection steps (1e-8 took 24).
+    assert!(v["predicted"].as_array().unwrap().len() <= 21 + 10, "{out}");
+
+    let (code, text, err) = args(false);
+    assert_eq!(code, 0, "{err}");
+    let gap = format!(
+        "not evaluated (neither allowed nor excluded): between the last success at {last_success:.9} and the first failure at {low:.9}"
+    );
+    assert_eq!(text.matches(&gap).count(), 1, "{text}");
+    assert!(text.contains("(solver-failure edge)]"), "{text}");
+    assert!(
+        text.contains("solver-failure edges (a failed evaluation next to one that did not fail) located by bisection only to 2e-3 (1e-3 of the range of k)"),
+        "{text}"
+    );
+}
+
+/// A one-dimensional nuisance model, size 5 + (n − 0.4)², whose solver fails on
+/// (0.39, 0.41) around the minimum; every point asked for is recorded.
+struct FailingNearMinimum {
+    asked: std::sync::Mutex<Vec<f64>>,
+}
+
+impl PointModel for FailingNearMinimum {
+    fn value(&self, n: &[f64]) -> PointValue {
+        self.asked.lock().unwrap().push(n[0]);
+        if n[0] > 0.39 && n[0] < 0.41 {
+            PointValue::Failed("synthetic solver failure".into())
+        } else {
+            PointValue::Valid {
+                size: 5.0 + (n[0] - 0.4).powi(2),
+                circularity: 0.0,
+                horizon: true,
+            }
+        }
+    }
+
+    fn passes_horizon_test(&self, _: &[f64]) -> bool {
+        true
+    }
+}
+
+/// A failure met by the Brent minimisation of a nuisance extreme ends that refinement (the
+/// best grid value is kept and the cut reported, as before) without further solves.
+#[test]
+fn a_failure_inside_a_nuisance_minimisation_stops_it() {
+    let model = FailingNearMinimum {
+        asked: std::sync::Mutex::new(Vec::new()),
+    };
+    let search = NuisanceSearch {
+        grid: 7,
+        relative_tolerance: 1e-10,
+    };
+    let Aggregate::Ok(e) = extremes(&model, &[(0.0, 1.0)], None, &search) else {
+        panic!("expected extremes");
+    };
+    // The grid minimum at n = 1/3 (the grid is 0, 1/6, ..., 1), the maximum at n = 1.
+    assert_eq!(e.size_min, 5.0 + (1.0f64 / 3.0 - 0.4).powi(2));
+    assert_eq!(e.size_max, 5.0 + 0.36);
+    assert_eq!(
+        e.refinement_cut.as_deref(),
+        Some("synthetic solver failure")
+    );
+    let asked = model.asked.into_inner().unwrap();
+    // The 7 grid points, then the minimisation's steps up to its first failure, which is
+    // its last solve.
+    let last = asked.last().copied().unwrap();
+    assert!(last > 0.39 && last < 0.41, "{asked:?}");
+    assert_eq!(
+        asked.iter().filter(|&&n| n > 0.39 && n < 0.41).count(),
+        1,
+        "{asked:?}"
     );
 }

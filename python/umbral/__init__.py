@@ -335,7 +335,10 @@ def bound(
     -------
     dict
         The result as ``umbral bound --json`` prints it: ``levels`` (each with its
-        ``allowed`` intervals), ``no_horizon``, ``no_shadow``, ``failures``, ``assumptions``...
+        ``allowed`` intervals), ``no_horizon``, ``no_shadow``, ``failures`` (each with
+        ``evaluated_below`` and ``evaluated_above``, the nearest values whose evaluation did
+        not fail: nothing between them and the failure is allowed or excluded),
+        ``assumptions``...
     """
     if not isinstance(vary, Mapping) or len(vary) != 1:
         raise InputError("vary: give one parameter and its range, e.g. {'q': (0.0, 1.2)}")

@@ -433,14 +433,21 @@ fn refine_line(
     }
     if interior {
         if let (Some(a), Some(b)) = (lo, hi) {
-            // A failure inside the bracket must be reported, not skipped.
+            // A failure inside the bracket must be reported, not skipped. It ends the
+            // refinement (the minimum found is not used), so after it no further solves are
+            // spent: the minimisation runs out on +inf, as where the function is undefined.
             let mut err = None;
             let (t, v) = brent_minimise(
-                |t| match eval(t) {
-                    Ok(v) => v,
-                    Err(m) => {
-                        err.get_or_insert(m);
-                        f64::INFINITY
+                |t| {
+                    if err.is_some() {
+                        return f64::INFINITY;
+                    }
+                    match eval(t) {
+                        Ok(v) => v,
+                        Err(m) => {
+                            err.get_or_insert(m);
+                            f64::INFINITY
+                        }
                     }
                 },
                 a,

@@ -15,6 +15,11 @@ fn horizonless(a: &Aggregate) -> bool {
     matches!(a, Aggregate::Ok(e) if e.horizonless)
 }
 
+/// Whether a node's evaluation failed.
+fn is_failed(a: &Aggregate) -> bool {
+    matches!(a, Aggregate::Failed(_))
+}
+
 fn category(a: &Aggregate) -> u8 {
     match a {
         Aggregate::Ok(_) => 0,
@@ -87,7 +92,6 @@ impl Search<'_, '_> {
     pub(super) fn refined_nodes(&mut self) -> Result<Vec<Node>, BoundError> {
         let request = self.prep.request;
         let s = &request.settings;
-        let tol = s.parameter_tolerance;
         let (lo, hi) = (request.vary.low, request.vary.high);
         let n0 = s.initial_grid;
         let xs: Vec<f64> = (0..n0)
@@ -100,7 +104,7 @@ impl Search<'_, '_> {
             })
             .collect();
         let mut nodes = self.nodes(&xs, "starting grid")?;
-        self.locate_category_boundaries(&mut nodes, tol)?;
+        self.locate_category_boundaries(&mut nodes)?;
         for _ in 0..s.refinement_rounds {
             let extra = hidden_crossing_candidates(&nodes, &self.levels, self.cmax);
             if extra.is_empty() {
@@ -110,23 +114,28 @@ impl Search<'_, '_> {
             nodes.append(&mut new);
             nodes.sort_by(|a, b| a.x.total_cmp(&b.x));
             nodes.dedup_by(|a, b| a.x == b.x);
-            self.locate_category_boundaries(&mut nodes, tol)?;
+            self.locate_category_boundaries(&mut nodes)?;
         }
         Ok(nodes)
     }
 
-    /// Bisect every pair of adjacent nodes of different categories down to `tol`, inserting
-    /// the evaluated midpoints.
-    fn locate_category_boundaries(
-        &mut self,
-        nodes: &mut Vec<Node>,
-        tol: f64,
-    ) -> Result<(), BoundError> {
+    /// Bisect every pair of adjacent nodes of different categories, inserting the evaluated
+    /// midpoints: down to the parameter tolerance at a physical edge (no horizon, no shadow,
+    /// horizonless), down to the coarser failure-edge tolerance where one side failed
+    /// ([`super::BoundSettings::failure_edge_relative_tolerance`]).
+    fn locate_category_boundaries(&mut self, nodes: &mut Vec<Node>) -> Result<(), BoundError> {
+        let tol = self.prep.request.settings.parameter_tolerance;
+        let failure_tol = self.prep.failure_edge_tolerance();
         loop {
             let pair = (0..nodes.len().saturating_sub(1)).find(|&i| {
-                (category(&nodes[i].value) != category(&nodes[i + 1].value)
-                    || horizonless(&nodes[i].value) != horizonless(&nodes[i + 1].value))
-                    && nodes[i + 1].x - nodes[i].x > tol
+                let (a, b) = (&nodes[i].value, &nodes[i + 1].value);
+                let edge_tol = if is_failed(a) || is_failed(b) {
+                    failure_tol
+                } else {
+                    tol
+                };
+                (category(a) != category(b) || horizonless(a) != horizonless(b))
+                    && nodes[i + 1].x - nodes[i].x > edge_tol
                     && 0.5 * (nodes[i].x + nodes[i + 1].x) != nodes[i].x
             });
             let Some(i) = pair else {
@@ -166,6 +175,8 @@ impl Search<'_, '_> {
                     Err(other) => cells.failures.push(Failure {
                         low: a,
                         high: b,
+                        evaluated_below: Some(a),
+                        evaluated_above: Some(b),
                         error: format!(
                             "the prediction changed to '{}' between grid points while refining a \
                              bound end",
@@ -196,16 +207,21 @@ impl Search<'_, '_> {
         let mut inner_failure = None;
         let mut stopped = None;
         let root = brent_root(
-            |x| match self.value(x, "bound ends") {
-                Ok(Aggregate::Ok(e)) => margins(&e, &levels, cmax)[j],
-                Ok(other) => {
-                    inner_failure.get_or_insert(other);
-                    f64::NAN
-                }
-                Err(e) => {
-                    stopped.get_or_insert(e);
-                    f64::NAN
-                }
+            // Once another category was met (the cell is then reported whole) or the
+            // evaluator stopped, the root is not used: nothing more is evaluated.
+            |x| match (&inner_failure, &stopped) {
+                (None, None) => match self.value(x, "bound ends") {
+                    Ok(Aggregate::Ok(e)) => margins(&e, &levels, cmax)[j],
+                    Ok(other) => {
+                        inner_failure.get_or_insert(other);
+                        f64::NAN
+                    }
+                    Err(e) => {
+                        stopped.get_or_insert(e);
+                        f64::NAN
+                    }
+                },
+                _ => f64::NAN,
             },
             a,
             b,
@@ -376,17 +392,26 @@ fn runs_of(nodes: &[Node], pick: &dyn Fn(&Aggregate) -> bool) -> Vec<[f64; 2]> {
 }
 
 /// The cells' failures and the failed nodes, adjacent failed nodes with the same message
-/// joined, in increasing order.
+/// joined, each with the nearest values around it whose evaluation did not fail, in
+/// increasing order.
 fn all_failures(nodes: &[Node], mut failures: Vec<Failure>) -> Vec<Failure> {
+    let evaluated = |i: usize| (!is_failed(&nodes[i].value)).then_some(nodes[i].x);
+    let below = |i: usize| (0..i).rev().find_map(evaluated);
+    let above = |i: usize| (i + 1..nodes.len()).find_map(evaluated);
     let mut prev_failed = false;
-    for n in nodes {
+    for (i, n) in nodes.iter().enumerate() {
         if let Aggregate::Failed(m) = &n.value {
             match failures.last_mut() {
-                Some(f) if prev_failed && f.error == *m => f.high = n.x,
+                Some(f) if prev_failed && f.error == *m => {
+                    f.high = n.x;
+                    f.evaluated_above = above(i);
+                }
                 _ => failures.push(Failure {
                     low: n.x,
                     high: n.x,
                     error: m.clone(),
+                    evaluated_below: below(i),
+                    evaluated_above: above(i),
                 }),
             }
             prev_failed = true;
@@ -412,7 +437,10 @@ fn assumptions(prep: &Prepared, nodes: &[Node]) -> (Vec<String>, Vec<f64>) {
             _ => 0.0,
         })
         .fold(0.0, f64::max);
-    let mut assumptions = describe(prep, partial, nodes.len());
+    let failure_edge = nodes
+        .windows(2)
+        .any(|w| is_failed(&w[0].value) != is_failed(&w[1].value));
+    let mut assumptions = describe(prep, partial, nodes.len(), failure_edge);
     let cut: Vec<(f64, &str)> = nodes
         .iter()
         .filter_map(|n| match &n.value {

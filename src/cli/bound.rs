@@ -13,7 +13,7 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 use umbral::bounds::end_value;
 use umbral::bounds::{
-    BoundError, BoundRequest, BoundResult, BoundSettings, Inclination, ParameterRange,
+    BoundError, BoundRequest, BoundResult, BoundSettings, Failure, Inclination, ParameterRange,
 };
 use umbral::measurement::Measurement;
 use umbral::numfmt::short;
@@ -368,16 +368,60 @@ fn latex_result(result: &BoundResult) -> String {
         })
         .collect();
     let mut text = format!(
-        "% bound on {} of {}; no horizon: {}; no shadow: {}\n% assumptions:\n",
+        "% bound on {} of {}; no horizon: {}; no shadow: {}\n",
         result.vary.name,
         result.metric,
         ranges(&result.no_horizon),
         ranges(&result.no_shadow)
     );
+    for f in &result.failures {
+        text.push_str(&format!(
+            "% solver failure on [{:.9}, {:.9}] (neither allowed nor excluded): {}\n",
+            f.low, f.high, f.error
+        ));
+        if let Some(gap) = failure_gaps(f, &result.failures) {
+            text.push_str(&format!("%   {gap}\n"));
+        }
+    }
+    text.push_str("% assumptions:\n");
     for a in &result.assumptions {
         text.push_str(&format!("% - {a}\n"));
     }
     text + &Table { columns, rows }.latex(&format!("bound on {}", result.vary.name))
+}
+
+/// The unevaluated gaps beside a failure, in words: below it when it is the first of a run
+/// of failures (with different messages, listed separately) after a value that did not fail,
+/// above it when it is the last; `None` when there is no such gap (a failure met inside a
+/// cell between two values that did not fail is that whole cell).
+fn failure_gaps(f: &Failure, all: &[Failure]) -> Option<String> {
+    let other_between = |a: f64, b: f64| {
+        all.iter()
+            .any(|g| !std::ptr::eq(g, f) && g.low > a && g.high < b)
+    };
+    let mut gaps = Vec::new();
+    if let Some(x) = f.evaluated_below.filter(|&x| x < f.low) {
+        if !other_between(x, f.low) {
+            gaps.push(format!(
+                "between the last success at {x:.9} and the first failure at {:.9}",
+                f.low
+            ));
+        }
+    }
+    if let Some(x) = f.evaluated_above.filter(|&x| x > f.high) {
+        if !other_between(f.high, x) {
+            gaps.push(format!(
+                "between the last failure at {:.9} and the next success at {x:.9}",
+                f.high
+            ));
+        }
+    }
+    (!gaps.is_empty()).then(|| {
+        format!(
+            "not evaluated (neither allowed nor excluded): {}",
+            gaps.join("; ")
+        )
+    })
 }
 
 fn print_result(result: &BoundResult) -> Result<(), CliError> {
@@ -423,6 +467,9 @@ fn print_result(result: &BoundResult) -> Result<(), CliError> {
                 f.high,
                 f.error
             )?;
+            if let Some(gap) = failure_gaps(f, &result.failures) {
+                outln!("    {gap}")?;
+            }
         }
     }
     outln!("assumptions:")?;
