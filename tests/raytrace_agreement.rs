@@ -56,9 +56,16 @@ fn traced_kerr_and_kerr_newman_agree_with_the_separable_solver_to_1e_8() {
         .par_iter()
         .map(|(name, set, deg)| {
             let m = build(name, set);
-            let traced = shadow(m.as_ref(), *deg, "raytrace", 8, 1e-8);
+            // 16 angles: 4 anchors; of the other 12, those whose predicted bracket holds the
+            // crossing are seeded, the rest scanned (the β mirror halves the lines traced for
+            // these separable metrics).
+            let traced = shadow(m.as_ref(), *deg, "raytrace", 16, 1e-8);
             let raytrace = traced.diagnostics.raytrace.as_ref().unwrap();
             assert!(raytrace.tolerance_met, "{name} {set:?} {deg}: {raytrace:?}");
+            assert!(
+                raytrace.seeded_lines >= 4,
+                "{name} {set:?} {deg}: {raytrace:?}"
+            );
             let traced = traced.curve.unwrap();
             let fine = shadow(m.as_ref(), *deg, "separable", 4096, 1e-10)
                 .curve
@@ -195,9 +202,13 @@ fn traced_curves_are_bit_identical_on_one_and_two_threads() {
                 .num_threads(threads)
                 .build()
                 .unwrap();
-            pool.install(|| shadow(m.as_ref(), *deg, "raytrace", 12, 1e-8))
+            // 24 angles: 6 anchors and up to 18 lines seeded from them in two levels
+            // (neighbour seeding needs at least 16).
+            pool.install(|| shadow(m.as_ref(), *deg, "raytrace", 24, 1e-8))
         };
         let (one, two) = (run(1), run(2));
+        let checks = one.diagnostics.raytrace.as_ref().unwrap();
+        assert!(checks.seeded_lines >= 6, "{checks:?}");
         let (c1, c2) = (one.curve.unwrap(), two.curve.unwrap());
         let bits = |r: &[f64]| r.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
         assert_eq!(bits(&c1.origin), bits(&c2.origin));

@@ -263,9 +263,11 @@ fn result_is_bit_identical_for_one_and_two_threads() {
             .num_threads(threads)
             .build()
             .unwrap();
-        pool.install(|| solve(&kerr, &observer, &settings(12)).unwrap())
+        // 16 angles: neighbour seeding in use (4 anchors, up to 12 seeded lines).
+        pool.install(|| solve(&kerr, &observer, &settings(16)).unwrap())
     };
     let (one, two) = (run(1), run(2));
+    assert!(one.diagnostics.raytrace.as_ref().unwrap().seeded_lines >= 4);
     let (c1, c2) = (one.curve.unwrap(), two.curve.unwrap());
     assert_eq!(c1.origin.map(f64::to_bits), c2.origin.map(f64::to_bits));
     let bits = |r: &[f64]| r.iter().map(|x| x.to_bits()).collect::<Vec<_>>();

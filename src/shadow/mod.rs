@@ -181,7 +181,9 @@ pub struct Diagnostics {
     pub rays_traced: usize,
     /// Rays that failed (step-size underflow, non-finite state, step limit).
     pub failed_rays: usize,
-    /// Whether every radial line from the curve's origin crosses the boundary once.
+    /// Whether every radial line from the curve's origin crosses the boundary once (for the
+    /// ray tracer: every line scanned along its length, i.e. the anchors of its neighbour
+    /// seeding and any line that fell back to the scan).
     pub star_shaped: bool,
     /// For a curve that is not star-shaped: (screen polar angle, every crossing radius).
     pub extra_crossings: Vec<(f64, Vec<f64>)>,

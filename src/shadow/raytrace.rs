@@ -41,16 +41,17 @@
 //!
 //! Only every `anchor_every`-th angle (4 by default) is scanned as above. The others are
 //! traced afterwards, in levels of halving stride, each from the crossing that Lagrange
-//! interpolation through its finished neighbours predicts, with a first bracket twice the
-//! interpolant's estimated error (widened fourfold towards the crossing at most three times;
-//! strict rays throughout when it is narrower than `coarse_width`). Their crossings are as
-//! accurate as a scanned line's, and checked in the same way; what a seeded line does not do
-//! is scan for further crossings along it, so the star-shape diagnostic
+//! interpolation through its finished neighbours predicts, with a first bracket whose
+//! half-width h is twice the interpolant's estimated error (then searched outward on the
+//! crossing's side in steps of 4h, 16h and 64h; strict rays throughout when h is at most
+//! `coarse_width`). Their crossings are as accurate as a scanned line's, and checked in the
+//! same way. A seeded line does not scan for further crossings along it: one loose ray where
+//! a scan would have stopped must escape, and the star-shape diagnostic
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
 //! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
 //! whose bracket is not found is scanned in full ([`RaytraceChecks::seeded_lines`] counts the
-//! seeded angles). On a 256-angle Johannsen–Psaltis curve a seeded line takes 6 rays to place
-//! its crossing against 28 for a scanned one (module `seeding`).
+//! seeded angles). Measured on a 256-angle Johannsen–Psaltis curve (a = 0.5, ε₃ = 0, 60°): a
+//! seeded line takes 6 rays to place its crossing, a scanned one 28.
 //!
 //! # Early end: a radial turning point decides escape
 //!
@@ -332,7 +333,8 @@ pub struct LineBoundary {
     pub failure: Option<String>,
     /// Rays traced on this line.
     pub rays: usize,
-    /// Rays that failed on this line.
+    /// Rays that failed on this line, including those of an abandoned seeded attempt (whose
+    /// message is not kept when the scan that replaced it converged).
     pub failed_rays: usize,
     /// Accepted integrator steps on this line.
     pub steps: usize,
@@ -1170,10 +1172,12 @@ impl<'a> Tracer<'a> {
     }
 
     /// The crossing along the line origin + ρ (cos ψ, sin ψ) near the one `seed` predicts
-    /// (module docs, "Neighbour seeding"): a bracket about the guess, widened fourfold on the
-    /// side the crossing lies (at most three times), refined as a scan bracket is. A line
-    /// whose bracket is not found or not confirmed, or one with a failed ray, is scanned in
-    /// full ([`Tracer::boundary_along_line`]); its rays count on the line.
+    /// (module docs, "Neighbour seeding"): a bracket of the seed's half-width h about the
+    /// guess, searched outward on the crossing's side in steps of 4h, 16h and 64h, refined as
+    /// a scan bracket is; then one loose ray where a scan would stop, at ρ + max(3 spacings,
+    /// ρ/2), must escape. A line whose bracket is not found or not confirmed, whose outer ray
+    /// is captured, or one with a failed ray, is scanned in full
+    /// ([`Tracer::boundary_along_line`]); its rays count on the line.
     pub(crate) fn boundary_near(
         &self,
         origin: [f64; 2],
@@ -1212,8 +1216,12 @@ impl<'a> Tracer<'a> {
                 .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok())
         };
         if let (Some(rho), None) = (crossing, &line.failure) {
-            line.crossings.push(rho);
-            return line;
+            // No captured ray where the scan would have ended (an outer captured region).
+            let outer = rho + (3.0 * scan.spacing).max(0.5 * rho);
+            if matches!(probe.classify(outer, coarse, &mut line), Some((false, _))) {
+                line.crossings.push(rho);
+                return line;
+            }
         }
         let mut full = self.boundary_along_line(origin, true, psi, scan);
         full.rays += line.rays;
@@ -1335,8 +1343,9 @@ fn winding_law(
 /// the windings on both sides at once (module docs, "Checks"): ρ_c shared, (c_s, k_s) per
 /// side by linear least squares for each trial ρ_c, ρ_c minimising the summed squared
 /// residuals. The fit uses up to four rays per side, the nearest to the bracket that lie on
-/// their own side of it and within `far` of its centre; it needs three on one side (one more
-/// ray than the two constants it fits) and a positive slope on every side with two or more.
+/// their own side of it and within `far` of its centre; it needs three on one side (with that
+/// side's two constants they determine ρ_c; a side of two rays fits any ρ_c exactly and adds
+/// nothing) and a positive slope on every side with two or more.
 /// Because ρ_c is fitted, the rays nearest the crossing, whose distances are known only to
 /// the bracket's width, take part; the law's constants are not extrapolated over decades of
 /// distance from far rays. `None` without enough rays or when no trial point fits.
@@ -1385,7 +1394,8 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
     };
     // The crossing is often far closer to one end than the bracket is wide: trial points at
     // distances w·10^(−j/3) (down to 1e-8 w) from either end, then golden-section search
-    // between the best trial point's neighbours (to about 1e-3 of their spacing).
+    // (Press et al., Numerical Recipes, 3rd ed., §10.2) between the best trial point's
+    // neighbours (to about 1e-3 of their spacing); the best point evaluated is returned.
     let w = bracket.width();
     let mut trials: Vec<f64> = (1..=24)
         .flat_map(|j| {
@@ -1410,19 +1420,26 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
         .get(best + 1)
         .map_or(bracket.a.max(bracket.b), |p| p.0);
     let (mut x0, mut x1) = (lo, hi);
+    let mut best = scored[best];
     let golden = 0.5 * (5f64.sqrt() - 1.0);
     for _ in 0..16 {
         let (m0, m1) = (x1 - golden * (x1 - x0), x0 + golden * (x1 - x0));
-        let (r0, r1) = (residual(m0), residual(m1));
-        match (r0, r1) {
-            (Some(r0), Some(r1)) if r0 <= r1 => x1 = m1,
-            (Some(_), Some(_)) => x0 = m0,
-            _ => break,
+        let (Some(r0), Some(r1)) = (residual(m0), residual(m1)) else {
+            break;
+        };
+        for candidate in [(m0, r0), (m1, r1)] {
+            if candidate.1 < best.1 {
+                best = candidate;
+            }
+        }
+        if r0 <= r1 {
+            x1 = m1;
+        } else {
+            x0 = m0;
         }
     }
-    let rho_c = 0.5 * (x0 + x1);
-    let inside = rho_c > bracket.a.min(bracket.b) && rho_c < bracket.a.max(bracket.b);
-    (inside && residual(rho_c).is_some()).then_some(rho_c)
+    let rho_c = best.0;
+    (rho_c > bracket.a.min(bracket.b) && rho_c < bracket.a.max(bracket.b)).then_some(rho_c)
 }
 
 /// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
@@ -1600,8 +1617,8 @@ impl LineProbe<'_, '_> {
     }
 
     /// A bracket of the seeded crossing (captured inside, escaping outside) at relative
-    /// tolerance `coarse`, starting from guess ∓ half-width and widening fourfold towards the
-    /// crossing at most three times; `None` if none is found within the line's captured
+    /// tolerance `coarse`, starting from guess ∓ h (the seed's half-width) and searching
+    /// outward on the crossing's side in steps of 4h, 16h and 64h; `None` if none is found within the line's captured
     /// origin side (ρ > 0), the rays disagree with a single crossing, or a ray failed.
     fn seeded_bracket(
         &self,
