@@ -1448,9 +1448,9 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
 /// with both sides' (k, c) once one side has three rays ([`fitted_crossing`]); before that,
 /// |ρ − ρ_c| = exp((c − w)/k) from the nearer end, with (k, c) fitted per side to the rays
 /// farther out ([`winding_law`]). The next ray goes just beyond the predicted crossing, on the
-/// far side from the nearer end, by a margin ε times the predicted distance (ε starts at 0.1, shrinks threefold after
-/// each ray on the expected side and grows threefold after a surprise), so each ray cuts
-/// the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
+/// far side from the nearer end, by a margin ε times the predicted distance (ε starts at 0.1,
+/// shrinks threefold after each ray on the expected side and grows threefold after a
+/// surprise), so each ray cuts the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
 /// fitted and after any two rays that did not halve the bracket, and every ray inside the
 /// bracket at least min(0.45 `width`, a quarter of the bracket) from its ends. The bracket
 /// always holds a change of fate, so the windings choose the rays but never weaken the
@@ -1618,8 +1618,9 @@ impl LineProbe<'_, '_> {
 
     /// A bracket of the seeded crossing (captured inside, escaping outside) at relative
     /// tolerance `coarse`, starting from guess ∓ h (the seed's half-width) and searching
-    /// outward on the crossing's side in steps of 4h, 16h and 64h; `None` if none is found within the line's captured
-    /// origin side (ρ > 0), the rays disagree with a single crossing, or a ray failed.
+    /// outward on the crossing's side in steps of 4h, 16h and 64h; `None` if none is found
+    /// within the line's captured origin side (ρ > 0), the rays disagree with a single
+    /// crossing, or a ray failed.
     fn seeded_bracket(
         &self,
         seed: seeding::Seed,

@@ -13,8 +13,10 @@
 //! the prediction and its difference from the linear interpolation between the nearest two
 //! the estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°):
 //! the quintic of the last level is within 4e-9 M of the traced crossing, the cubic within
-//! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line, so the crossing is as accurate as before; what a seeded
-//! line does not do is the scan for further crossings along it. Seeding is therefore used
+//! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line,
+//! so the crossing is as accurate as before; what a seeded line does not do is the scan for
+//! further crossings along it (one loose ray where that scan would have stopped must
+//! escape). Seeding is therefore used
 //! only while the curve looks star-shaped: every anchor must have exactly one crossing, and a
 //! line is predicted only from lines with one crossing; a line whose predicted bracket cannot
 //! be confirmed within a few widenings is scanned in full after all.
