@@ -381,6 +381,28 @@ pub struct LineCheck {
 const WINDING_NEAR_MIN: f64 = 1.0e-8;
 
 impl LineBoundary {
+    /// A line at screen angle `psi` with nothing traced yet.
+    fn empty(psi: f64, seeded: bool) -> Self {
+        LineBoundary {
+            psi,
+            crossings: Vec::new(),
+            failure: None,
+            rays: 0,
+            failed_rays: 0,
+            steps: 0,
+            check: None,
+            seeded,
+        }
+    }
+
+    /// Count the rays of an abandoned attempt at this line (its crossings and failure are not
+    /// kept).
+    fn add_rays_of(&mut self, attempt: &LineBoundary) {
+        self.rays += attempt.rays;
+        self.failed_rays += attempt.failed_rays;
+        self.steps += attempt.steps;
+    }
+
     /// The outermost crossing, if the line converged.
     pub fn outermost(&self) -> Option<f64> {
         if self.failure.is_some() {
@@ -1165,9 +1187,7 @@ impl<'a> Tracer<'a> {
             return line;
         }
         let (mut again, _) = self.scan_line(origin, origin_captured, psi, scan, strict);
-        again.rays += line.rays;
-        again.failed_rays += line.failed_rays;
-        again.steps += line.steps;
+        again.add_rays_of(&line);
         again
     }
 
@@ -1186,24 +1206,8 @@ impl<'a> Tracer<'a> {
         scan: &LineScan,
     ) -> LineBoundary {
         let coarse = self.options.coarse_rtol.max(self.options.integrator.rtol);
-        let mut line = LineBoundary {
-            psi,
-            crossings: Vec::new(),
-            failure: None,
-            rays: 0,
-            failed_rays: 0,
-            steps: 0,
-            check: None,
-            seeded: true,
-        };
-        let (sin, cos) = psi.sin_cos();
-        let probe = LineProbe {
-            tracer: self,
-            origin,
-            psi,
-            sin,
-            cos,
-        };
+        let mut line = LineBoundary::empty(psi, true);
+        let probe = LineProbe::new(self, origin, psi);
         let strict = self.options.integrator.rtol;
         let crossing = if seed.half_width <= self.options.coarse_width {
             // Within the coarse stage's final width: strict rays throughout.
@@ -1224,9 +1228,7 @@ impl<'a> Tracer<'a> {
             }
         }
         let mut full = self.boundary_along_line(origin, true, psi, scan);
-        full.rays += line.rays;
-        full.failed_rays += line.failed_rays;
-        full.steps += line.steps;
+        full.add_rays_of(&line);
         full
     }
 
@@ -1240,24 +1242,8 @@ impl<'a> Tracer<'a> {
         scan: &LineScan,
         coarse: f64,
     ) -> (LineBoundary, bool) {
-        let mut line = LineBoundary {
-            psi,
-            crossings: Vec::new(),
-            failure: None,
-            rays: 0,
-            failed_rays: 0,
-            steps: 0,
-            check: None,
-            seeded: false,
-        };
-        let (sin, cos) = psi.sin_cos();
-        let probe = LineProbe {
-            tracer: self,
-            origin,
-            psi,
-            sin,
-            cos,
-        };
+        let mut line = LineBoundary::empty(psi, false);
+        let probe = LineProbe::new(self, origin, psi);
         let Some(brackets) = probe.brackets(origin_captured, scan, coarse, &mut line) else {
             return (line, false);
         };
@@ -1538,7 +1524,19 @@ struct LineProbe<'t, 'a> {
     cos: f64,
 }
 
-impl LineProbe<'_, '_> {
+impl<'t, 'a> LineProbe<'t, 'a> {
+    /// The line origin + ρ (cos ψ, sin ψ) of `tracer`'s screen.
+    fn new(tracer: &'t Tracer<'a>, origin: [f64; 2], psi: f64) -> Self {
+        let (sin, cos) = psi.sin_cos();
+        LineProbe {
+            tracer,
+            origin,
+            psi,
+            sin,
+            cos,
+        }
+    }
+
     /// Whether the ray at ρ is captured (at relative tolerance `rtol`), counted in `line`;
     /// `None` for a failed ray, whose message `line` keeps (the first one).
     fn classify(&self, rho: f64, rtol: f64, line: &mut LineBoundary) -> Option<(bool, f64)> {
