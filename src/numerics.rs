@@ -34,15 +34,17 @@ pub enum RootError {
     },
 }
 
-/// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`).
+/// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`), or when
+/// a value is within `ftol` of zero.
 struct FullPrecision {
     xtol: f64,
+    ftol: f64,
     max_iter: usize,
 }
 
 impl Convergency<f64> for FullPrecision {
     fn is_root_found(&mut self, y: f64) -> bool {
-        y == 0.0
+        y.abs() <= self.ftol
     }
     fn is_converged(&mut self, x1: f64, x2: f64) -> bool {
         (x1 - x2).abs() <= 4.0 * f64::EPSILON * x1.abs().max(x2.abs()) + self.xtol
@@ -60,11 +62,37 @@ pub fn brent_root<F: FnMut(f64) -> f64>(
     hi: f64,
     xtol: f64,
 ) -> Result<f64, RootError> {
+    brent_root_within(f, lo, hi, xtol, 0.0)
+}
+
+/// Root of `f` in `[lo, hi]` by Brent's method, stopping when the bracket is `xtol` wide or
+/// at the first value with |f| ≤ `ftol` (a function known only to within `ftol`, whose
+/// root is then located to about `ftol / |f'|`). `f` is called once per distinct argument:
+/// the `roots` crate's iteration (0.0.8) evaluates a bracket end again on every step, which
+/// for an expensive `f` (a bound's nuisance search) doubled the cost.
+pub fn brent_root_within<F: FnMut(f64) -> f64>(
+    mut f: F,
+    lo: f64,
+    hi: f64,
+    xtol: f64,
+    ftol: f64,
+) -> Result<f64, RootError> {
     let mut conv = FullPrecision {
         xtol,
+        ftol,
         max_iter: 200,
     };
-    find_root_brent(lo, hi, f, &mut conv).map_err(|e| match e {
+    // Every value asked for so far, by the argument's bits (at most two per iteration).
+    let mut seen: Vec<(u64, f64)> = Vec::new();
+    let once = |x: f64| match seen.iter().find(|(k, _)| *k == x.to_bits()) {
+        Some(&(_, y)) => y,
+        None => {
+            let y = f(x);
+            seen.push((x.to_bits(), y));
+            y
+        }
+    };
+    find_root_brent(lo, hi, once, &mut conv).map_err(|e| match e {
         roots::SearchError::NoBracketing => RootError::NotBracketed { lo, hi },
         _ => RootError::NoConvergence { lo, hi },
     })
@@ -545,6 +573,42 @@ mod tests {
     fn brent_root_example() {
         let r = brent_root(|x| x * x - 2.0, 0.0, 2.0, 0.0).unwrap();
         assert!((r - 2f64.sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn brent_root_asks_for_each_value_once_and_stops_within_ftol() {
+        // A smooth root: the crate's iteration asks for a bracket end again on every step.
+        let mut xs = Vec::new();
+        let r = brent_root(
+            |x| {
+                xs.push(x);
+                x.exp() - 2.0
+            },
+            0.0,
+            2.0,
+            0.0,
+        )
+        .unwrap();
+        assert!((r - 2f64.ln()).abs() < 1e-15);
+        let mut distinct = xs.clone();
+        distinct.sort_by(f64::total_cmp);
+        distinct.dedup();
+        assert_eq!(distinct.len(), xs.len(), "{xs:?}");
+        // Known only to within 1e-6: stop at the first value that small, fewer calls.
+        let mut calls = 0;
+        let r = brent_root_within(
+            |x| {
+                calls += 1;
+                x.exp() - 2.0
+            },
+            0.0,
+            2.0,
+            0.0,
+            1e-6,
+        )
+        .unwrap();
+        assert!((r.exp() - 2.0).abs() <= 1e-6, "{r}");
+        assert!(calls < xs.len(), "{calls} against {}", xs.len());
     }
 
     #[test]

@@ -666,6 +666,9 @@ struct Prepared<'a> {
     ranges: Vec<(f64, f64)>,
     fixed_inclination: f64,
     spherical: bool,
+    /// How close to an interval's end a size is indistinguishable from it, in M (the
+    /// solver's [`shadow::ShadowSolver::curve_resolution`]; 0 for exact solvers).
+    size_resolution: f64,
 }
 
 impl Prepared<'_> {
@@ -821,12 +824,21 @@ fn prepare(request: &BoundRequest) -> Result<Prepared<'_>, BoundError> {
     request.metric.build(&corner(true))?;
     let spherical = low_metric.symmetry() == Symmetry::Spherical;
     let (dims, ranges, fixed_inclination) = nuisance_dimensions(request, spherical)?;
+    let size_resolution = request
+        .settings
+        .shadow
+        .solver
+        .resolve(low_metric.as_ref())
+        .map_or(0.0, |solver| {
+            solver.curve_resolution(&request.settings.shadow)
+        });
     Ok(Prepared {
         request,
         dims,
         ranges,
         fixed_inclination,
         spherical,
+        size_resolution,
     })
 }
 
@@ -990,11 +1002,23 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize, failure_edges: bo
     } else {
         "no horizon, no shadow, failure"
     };
+    // Exact solvers: the end is located to the parameter tolerance (and the text is what it
+    // always was).
+    let end_stop = if prep.size_resolution > 0.0 {
+        format!(
+            " or until the size is within {:e} M of the interval's end (the curves' \
+             resolution: the end is then known to about that over the size's slope)",
+            prep.size_resolution
+        )
+    } else {
+        String::new()
+    };
     a.push(format!(
         "varied parameter: {} over [{}, {}], uniform starting grid of {} points ({} nodes \
          after refinement), category changes ({categories}) located by \
-         bisection and bound ends by Brent's method to {:e}; values with no shadow (or, when \
-         a horizon is required, no horizon) are reported as such, never as allowed or excluded",
+         bisection and bound ends by Brent's method to {:e}{end_stop}; values with no shadow \
+         (or, when a horizon is required, no horizon) are reported as such, never as allowed \
+         or excluded",
         r.vary.name, r.vary.low, r.vary.high, s.initial_grid, node_count, s.parameter_tolerance
     ));
     if failure_edges {

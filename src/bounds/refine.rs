@@ -8,7 +8,7 @@
 use super::nuisance::{Aggregate, Extremes};
 use super::{describe, BoundError, BoundResult, Failure, LevelBound, PredictedPoint, Prepared};
 use super::{Evaluate, Node};
-use crate::numerics::brent_root;
+use crate::numerics::brent_root_within;
 
 /// Whether a node's prediction includes horizonless objects.
 fn horizonless(a: &Aggregate) -> bool {
@@ -204,9 +204,16 @@ impl Search<'_, '_> {
         xtol: f64,
     ) -> Result<Result<f64, Aggregate>, BoundError> {
         let (levels, cmax) = (self.levels.clone(), self.cmax);
+        // A size within the curves' resolution of the interval's end is at it (the
+        // circularity margin, last, is searched to `xtol`).
+        let ftol = if j < 2 * levels.len() {
+            self.prep.size_resolution
+        } else {
+            0.0
+        };
         let mut inner_failure = None;
         let mut stopped = None;
-        let root = brent_root(
+        let root = brent_root_within(
             // Once another category was met (the cell is then reported whole) or the
             // evaluator stopped, the root is not used: nothing more is evaluated.
             |x| match (&inner_failure, &stopped) {
@@ -226,6 +233,7 @@ impl Search<'_, '_> {
             a,
             b,
             xtol,
+            ftol,
         );
         if let Some(e) = stopped {
             return Err(e);

@@ -343,21 +343,33 @@ impl<M: Metric> Spacetime for M {
         self.components(r, theta).inverse().hamiltonian(p)
     }
 
+    /// With u^μ = g^{μν} p_ν: ∂H/∂p_μ = u^μ and ∂H/∂x = −½ u^α u^β ∂_x g_αβ (from
+    /// ∂g^{μν} = −g^{μα} ∂g_αβ g^{βν}), so only the covariant components carry derivatives and
+    /// the inverse is taken on their values.
     #[inline]
     fn hamiltonian_gradient(&self, r: f64, theta: f64, p: &[f64; 4]) -> PhaseGradient {
-        let inv = components_with_gradient(self, r, theta).inverse();
-        let h = inv.hamiltonian(p);
-        let [dh_dr, dh_dtheta] = eps2(&h);
+        let g = components_with_gradient(self, r, theta);
+        let inv = g.map(|x| x.re).inverse();
         let [pt, pr, pth, pph] = *p;
+        let u = [
+            inv.g_tt * pt + inv.g_tphi * pph,
+            inv.g_rr * pr,
+            inv.g_thth * pth,
+            inv.g_tphi * pt + inv.g_phph * pph,
+        ];
+        let [d_tt, d_tphi, d_rr, d_thth, d_phph] =
+            [g.g_tt, g.g_tphi, g.g_rr, g.g_thth, g.g_phph].map(|x| eps2(&x));
+        let force = |k: usize| {
+            -0.5 * (u[0] * u[0] * d_tt[k]
+                + 2.0 * u[0] * u[3] * d_tphi[k]
+                + u[3] * u[3] * d_phph[k]
+                + u[1] * u[1] * d_rr[k]
+                + u[2] * u[2] * d_thth[k])
+        };
         PhaseGradient {
-            h: h.re,
-            dh_dx: [0.0, dh_dr, dh_dtheta, 0.0],
-            dh_dp: [
-                inv.g_tt.re * pt + inv.g_tphi.re * pph,
-                inv.g_rr.re * pr,
-                inv.g_thth.re * pth,
-                inv.g_tphi.re * pt + inv.g_phph.re * pph,
-            ],
+            h: inv.hamiltonian(p),
+            dh_dx: [0.0, force(0), force(1), 0.0],
+            dh_dp: u,
         }
     }
 

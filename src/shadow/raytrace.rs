@@ -2364,6 +2364,10 @@ impl super::ShadowSolver for RaytraceSolver {
     ) -> Result<ShadowResult, ShadowError> {
         solve_with(spacetime, observer, settings, &self.options)
     }
+    /// Each point is bracketed to the boundary tolerance, and no better.
+    fn curve_resolution(&self, settings: &ShadowSettings) -> f64 {
+        settings.tolerance
+    }
 }
 
 #[cfg(test)]

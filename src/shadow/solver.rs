@@ -120,6 +120,15 @@ pub trait ShadowSolver: Send + Sync {
     fn bounds_capture_without_horizon(&self) -> bool {
         false
     }
+
+    /// How far its curve points may move under a change of its numerics, in M: the boundary
+    /// tolerance for a solver that brackets each point to it (a ray tracer); 0, the default,
+    /// for one exact to rounding or far better than the tolerance. A bound stops refining an
+    /// end once the size is this close to the interval's end (differences below it are noise).
+    fn curve_resolution(&self, settings: &ShadowSettings) -> f64 {
+        let _ = settings;
+        0.0
+    }
 }
 
 /// The registered solvers, in the order `auto` tries them. Registered solvers live for the
