@@ -1,8 +1,10 @@
 //! One-dimensional root finding, minimisation and bisection: every 1-D search umbral makes
 //! goes through this module.
 //!
-//! Root finding is Brent's method from the `roots` crate ([`brent_root`], and
-//! [`fallible_root`] for functions that can fail). The minimisers are written here, from
+//! Root finding is Brent's method from the `roots` crate ([`brent_root`];
+//! [`brent_root_within`] for expensive or noisy functions: each value asked for once, known
+//! bracket ends never evaluated again, a stop at the noise level; [`fallible_root`] for
+//! functions that can fail). The minimisers are written here, from
 //! Brent (1973), "Algorithms for Minimization without Derivatives", ch. 5: the crates
 //! considered do not fit. `roots` has no minimiser; argmin's `BrentOpt` (0.11) starts from
 //! the golden-section point of the bracket instead of the best grid point the caller already
@@ -34,17 +36,15 @@ pub enum RootError {
     },
 }
 
-/// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`), or when
-/// a value is within `ftol` of zero.
+/// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`).
 struct FullPrecision {
     xtol: f64,
-    ftol: f64,
     max_iter: usize,
 }
 
 impl Convergency<f64> for FullPrecision {
     fn is_root_found(&mut self, y: f64) -> bool {
-        y.abs() <= self.ftol
+        y == 0.0
     }
     fn is_converged(&mut self, x1: f64, x2: f64) -> bool {
         (x1 - x2).abs() <= 4.0 * f64::EPSILON * x1.abs().max(x2.abs()) + self.xtol
@@ -62,33 +62,46 @@ pub fn brent_root<F: FnMut(f64) -> f64>(
     hi: f64,
     xtol: f64,
 ) -> Result<f64, RootError> {
-    brent_root_within(f, lo, hi, xtol, 0.0)
+    brent_root_within(f, (lo, None), (hi, None), xtol, 0.0)
 }
 
-/// Root of `f` in `[lo, hi]` by Brent's method, stopping when the bracket is `xtol` wide or
-/// at the first value with |f| ≤ `ftol` (a function known only to within `ftol`, whose
-/// root is then located to about `ftol / |f'|`). `f` is called once per distinct argument:
-/// the `roots` crate's iteration (0.0.8) evaluates a bracket end again on every step, which
-/// for an expensive `f` (a bound's nuisance search) doubled the cost.
+/// Root of `f` between two bracket ends `(x, f(x) if already known)`, by Brent's method:
+/// stops when the bracket is `xtol` wide, or at the first point inside the bracket with
+/// |f| ≤ `ftol` (a function known only to within `ftol`, whose root is then located to about
+/// `ftol / |f'|`; stopping at the noise level is common practice, no source). The ends are
+/// never taken as the root on that ground: an end's own sign stands. `f` is called once per
+/// distinct argument and never at an end whose value is given: the `roots` crate's iteration
+/// (0.0.8) evaluates a bracket end again on every step, which for an expensive `f` (a bound's
+/// nuisance search) doubled the cost.
 pub fn brent_root_within<F: FnMut(f64) -> f64>(
     mut f: F,
-    lo: f64,
-    hi: f64,
+    (lo, f_lo): (f64, Option<f64>),
+    (hi, f_hi): (f64, Option<f64>),
     xtol: f64,
     ftol: f64,
 ) -> Result<f64, RootError> {
     let mut conv = FullPrecision {
         xtol,
-        ftol,
         max_iter: 200,
     };
-    // Every value asked for so far, by the argument's bits (at most two per iteration).
-    let mut seen: Vec<(u64, f64)> = Vec::new();
-    let once = |x: f64| match seen.iter().find(|(k, _)| *k == x.to_bits()) {
-        Some(&(_, y)) => y,
-        None => {
-            let y = f(x);
-            seen.push((x.to_bits(), y));
+    // Every value known so far, by the argument's bits (at most two new ones per iteration).
+    let mut seen: Vec<(u64, f64)> = [(lo, f_lo), (hi, f_hi)]
+        .into_iter()
+        .filter_map(|(x, y)| y.map(|y| (x.to_bits(), y)))
+        .collect();
+    let once = |x: f64| {
+        let y = match seen.iter().find(|(k, _)| *k == x.to_bits()) {
+            Some(&(_, y)) => y,
+            None => {
+                let y = f(x);
+                seen.push((x.to_bits(), y));
+                y
+            }
+        };
+        // Inside the bracket, a value within the noise is the root (the crate stops at 0).
+        if x != lo && x != hi && y.abs() <= ftol {
+            0.0
+        } else {
             y
         }
     };
@@ -601,14 +614,30 @@ mod tests {
                 calls += 1;
                 x.exp() - 2.0
             },
-            0.0,
-            2.0,
+            (0.0, None),
+            (2.0, None),
             0.0,
             1e-6,
         )
         .unwrap();
         assert!((r.exp() - 2.0).abs() <= 1e-6, "{r}");
         assert!(calls < xs.len(), "{calls} against {}", xs.len());
+        // Given ends are not evaluated again, and an end within ftol is not taken as the
+        // root: the root of x − 0.3 − 1e-9 lies inside, 1e-9 above the end 0.3.
+        let mut asked = Vec::new();
+        let r = brent_root_within(
+            |x| {
+                asked.push(x);
+                x - 0.3 - 1e-9
+            },
+            (0.3, Some(-1e-9)),
+            (1.0, Some(0.7 - 1e-9)),
+            1e-12,
+            1e-6,
+        )
+        .unwrap();
+        assert!(!asked.is_empty() && asked.iter().all(|&x| x != 0.3 && x != 1.0));
+        assert!(r > 0.3 && (r - 0.3 - 1e-9).abs() <= 1e-6, "{r}");
     }
 
     #[test]

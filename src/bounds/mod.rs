@@ -7,7 +7,7 @@
 //! (see [`nuisance`]), and assuming the size takes every value in between, x is allowed iff
 //! s₋(x) ≤ H, s₊(x) ≥ L and min ΔC(x) ≤ limit. The allowed set is a union of intervals whose
 //! ends are sign changes of these margins, bracketed on an adaptive grid and refined by
-//! Brent's method ([`crate::numerics::brent_root`]).
+//! Brent's method ([`crate::numerics::brent_root_within`]).
 //!
 //! Values are classified by whether a shadow exists. A horizonless object is evaluated like a
 //! black hole when the spherical solver finds a photon sphere that bounds capture (a JNW naked

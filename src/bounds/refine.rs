@@ -169,14 +169,14 @@ impl Search<'_, '_> {
                 if !(ma[j].is_finite() && mb[j].is_finite()) || passes(ma[j]) == passes(mb[j]) {
                     continue;
                 }
-                let (a, b) = (nodes[i].x, nodes[i + 1].x);
+                let (a, b) = ((nodes[i].x, ma[j]), (nodes[i + 1].x, mb[j]));
                 match self.margin_root(j, a, b, 0.25 * tol)? {
                     Ok(r) => cells.roots[i][j] = Some(r),
                     Err(other) => cells.failures.push(Failure {
-                        low: a,
-                        high: b,
-                        evaluated_below: Some(a),
-                        evaluated_above: Some(b),
+                        low: a.0,
+                        high: b.0,
+                        evaluated_below: Some(a.0),
+                        evaluated_above: Some(b.0),
                         error: format!(
                             "the prediction changed to '{}' between grid points while refining a \
                              bound end",
@@ -194,18 +194,20 @@ impl Search<'_, '_> {
         Ok(cells)
     }
 
-    /// Where margin `j` crosses zero in (a, b): the root, or the other category met on the
-    /// way (the outer error is an interruption or a search that did not converge).
+    /// Where margin `j` crosses zero between the nodes `a` and `b` (each with its margin):
+    /// the root, or the other category met on the way (the outer error is an interruption or
+    /// a search that did not converge).
     fn margin_root(
         &mut self,
         j: usize,
-        a: f64,
-        b: f64,
+        (a, margin_a): (f64, f64),
+        (b, margin_b): (f64, f64),
         xtol: f64,
     ) -> Result<Result<f64, Aggregate>, BoundError> {
         let (levels, cmax) = (self.levels.clone(), self.cmax);
-        // A size within the curves' resolution of the interval's end is at it (the
-        // circularity margin, last, is searched to `xtol`).
+        // A size within the curves' resolution of the interval's end is at it (stopping at
+        // the noise level: common practice, no source); the circularity margin, last, is
+        // searched to `xtol`.
         let ftol = if j < 2 * levels.len() {
             self.prep.size_resolution
         } else {
@@ -230,8 +232,9 @@ impl Search<'_, '_> {
                 },
                 _ => f64::NAN,
             },
-            a,
-            b,
+            // The nodes' margins are known: neither is evaluated again.
+            (a, Some(margin_a)),
+            (b, Some(margin_b)),
             xtol,
             ftol,
         );

@@ -54,7 +54,9 @@ impl<D: DualScalar> MetricComponents<D> {
     /// of g_φφ/Δ₂ is a difference of two terms ~ 2 cot θ g^tt that cancel, leaving a spurious
     /// force ~ 1e-16 cot θ on rays passing close to the axis; there the block is written with
     /// k = g_tφ/g_φφ as g^tt = 1/(g_tt − k g_tφ), g^tφ = −k g^tt, g^φφ = g_tt g^tt/g_φφ (the
-    /// same algebra, one reciprocal more), where the sin²θ of g_φφ never cancels.
+    /// same algebra, one reciprocal more), where the sin²θ of g_φφ never cancels. (This matters
+    /// where the inverse is taken in dual numbers, as for the Hessian of H; the gradient of H
+    /// inverts values only, `Spacetime::hamiltonian_gradient`.)
     #[inline]
     pub fn inverse(&self) -> InverseComponents<D> {
         let near_axis =

@@ -343,9 +343,12 @@ impl<M: Metric> Spacetime for M {
         self.components(r, theta).inverse().hamiltonian(p)
     }
 
-    /// With u^μ = g^{μν} p_ν: ∂H/∂p_μ = u^μ and ∂H/∂x = −½ u^α u^β ∂_x g_αβ (from
-    /// ∂g^{μν} = −g^{μα} ∂g_αβ g^{βν}), so only the covariant components carry derivatives and
-    /// the inverse is taken on their values.
+    /// With u^μ = g^{μν} p_ν: ∂H/∂p_μ = u^μ and ∂H/∂x = −½ u^α u^β ∂_x g_αβ, from the
+    /// derivative of a matrix inverse, ∂g^{μν} = −g^{μα} ∂g_αβ g^{βν} (Petersen & Pedersen,
+    /// "The Matrix Cookbook", 2012, eq. 59; equation number from memory). Only the covariant
+    /// components carry derivatives; the inverse is taken on their values. Near the axis the
+    /// p_t² parts of the θ-force are each O(sin θ) (g^tt and g^tφ stay finite there), and the
+    /// centrifugal p_φ² cos θ/sin³θ part is one product, so nothing cancels.
     #[inline]
     fn hamiltonian_gradient(&self, r: f64, theta: f64, p: &[f64; 4]) -> PhaseGradient {
         let g = components_with_gradient(self, r, theta);

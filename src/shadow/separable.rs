@@ -1013,8 +1013,8 @@ impl<'a> Problem<'a> {
                     continue;
                 }
                 let mut failure = None;
-                // Brent's method (the `roots` crate) re-evaluates the bracket ends at every
-                // step: remember the last few points, starting with the table nodes.
+                // Remember the last few points, starting with the table nodes (known, so not
+                // solved again), so that the point at the root is recovered afterwards.
                 let mut memo = [
                     (s_of(angle(j)), points[j]),
                     (s_of(angle(j + 1)), points[j + 1]),
