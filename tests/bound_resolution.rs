@@ -1,5 +1,6 @@
 //! A bound refines its ends only down to the resolution its solver declares
-//! (`ShadowSolver::curve_resolution`): a size within it of an interval's end is at the end.
+//! (`ShadowSolver::curve_resolution`): a size within it of an interval's end is at the end,
+//! and the bound states how far that leaves its ends uncertain.
 //!
 //! The solver here is the built-in spherical one with a deterministic perturbation of 1e-6 M
 //! on every radius, as a ray tracer's curve moves under a change of its numerics. Registered
@@ -167,4 +168,26 @@ fn a_bound_end_is_refined_to_the_solvers_resolution_and_says_so() {
     };
     assert!(said(&result), "{:?}", result.assumptions);
     assert!(!said(&reference), "{:?}", reference.assumptions);
+    // The spread it states is the resolution over the slope, estimated across the grid cell:
+    // within a factor of two of the closed form's at the end.
+    let spread: f64 = result
+        .assumptions
+        .iter()
+        .find_map(|a| a.split("known to about ±").nth(1))
+        .and_then(|rest| rest.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no spread stated: {:?}", result.assumptions));
+    let exact = RESOLUTION / slope.abs();
+    assert!(
+        spread > 0.5 * exact && spread < 2.0 * exact,
+        "stated ±{spread:e}, closed form {exact:e}"
+    );
+    assert!(
+        !reference
+            .assumptions
+            .iter()
+            .any(|a| a.contains("known to about")),
+        "{:?}",
+        reference.assumptions
+    );
 }

@@ -69,6 +69,10 @@ pub(super) struct Cells {
     /// `roots[i][j]`: where margin j crosses zero in (nodes[i], nodes[i+1]).
     roots: Vec<Vec<Option<f64>>>,
     failures: Vec<Failure>,
+    /// How far a size-margin root may sit from the true end when the search stopped at the
+    /// curves' resolution: the resolution over the size's slope across the root's grid cell,
+    /// the largest over the roots (0 for exact solvers).
+    end_spread: f64,
 }
 
 impl Search<'_, '_> {
@@ -155,6 +159,7 @@ impl Search<'_, '_> {
         let mut cells = Cells {
             roots: vec![vec![None; count]; nodes.len().saturating_sub(1)],
             failures: Vec::new(),
+            end_spread: 0.0,
         };
         for i in 0..nodes.len().saturating_sub(1) {
             let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
@@ -171,7 +176,14 @@ impl Search<'_, '_> {
                 }
                 let (a, b) = ((nodes[i].x, ma[j]), (nodes[i + 1].x, mb[j]));
                 match self.margin_root(j, a, b, 0.25 * tol)? {
-                    Ok(r) => cells.roots[i][j] = Some(r),
+                    Ok(r) => {
+                        cells.roots[i][j] = Some(r);
+                        if j < 2 * self.levels.len() {
+                            let slope = (mb[j] - ma[j]).abs() / (b.0 - a.0);
+                            let spread = self.prep.size_resolution / slope;
+                            cells.end_spread = cells.end_spread.max(spread);
+                        }
+                    }
                     Err(other) => cells.failures.push(Failure {
                         low: a.0,
                         high: b.0,
@@ -531,7 +543,15 @@ pub(super) fn result(
         .enumerate()
         .map(|(l, iv)| frame.level_bound(l, [iv.low, iv.high], iv.confidence))
         .collect();
-    let (assumptions, refinement_cut) = assumptions(prep, nodes);
+    let (mut assumptions, refinement_cut) = assumptions(prep, nodes);
+    if cells.end_spread > 0.0 {
+        assumptions.push(format!(
+            "bound ends of {} from a size margin: known to about ±{:.1e} (the curves' \
+             resolution {:e} M over the smallest slope of the size at such an end, estimated \
+             across its grid cell), whatever the number of decimals printed",
+            request.vary.name, cells.end_spread, prep.size_resolution
+        ));
+    }
     let mut result = BoundResult {
         metric: request.metric.name(),
         vary: request.vary.clone(),
