@@ -84,7 +84,7 @@ pub fn brent_root_within<F: FnMut(f64) -> f64>(
         xtol,
         max_iter: 200,
     };
-    // Every value known so far, by the argument's bits (at most two new ones per iteration).
+    // Every value known so far, by the argument's bits (one new one per iteration).
     let mut seen: Vec<(u64, f64)> = [(lo, f_lo), (hi, f_hi)]
         .into_iter()
         .filter_map(|(x, y)| y.map(|y| (x.to_bits(), y)))
