@@ -43,15 +43,21 @@
 //! traced afterwards, in levels of halving stride, each from the crossing that Lagrange
 //! interpolation through its finished neighbours predicts, with a first bracket whose
 //! half-width h is twice the interpolant's estimated error (then searched outward on the
-//! crossing's side in steps of 4h, 16h and 64h; strict rays throughout when h is at most
-//! `coarse_width`). Their crossings are as accurate as a scanned line's, and checked in the
-//! same way. A seeded line does not scan for further crossings along it: one loose ray where
+//! crossing's side in steps of 4h, 16h and 64h). The logarithmic winding law beside the
+//! crossing (section "Checks"), fitted on each side to the rays of the finished neighbours
+//! on either side and interpolated linearly between them, places the seeded line's rays from
+//! its first bracket on: with the neighbours' slope k fixed, two rays on one side determine
+//! the crossing. Such a line is then traced with strict rays throughout (their windings are
+//! reliable to ~1e-8 M from the crossing, the loose tolerance's only to ~1e-5 M); without a
+//! law, strict rays are used when h is at most `coarse_width`. Their crossings are as accurate
+//! as a scanned line's, and checked in the same way. A seeded line does not scan for further crossings along it: one loose ray where
 //! a scan would have stopped must escape, and the star-shape diagnostic
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
 //! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
 //! whose bracket is not found is scanned in full ([`RaytraceChecks::seeded_lines`] counts the
 //! seeded angles). Measured on a 256-angle Johannsen–Psaltis curve (a = 0.5, ε₃ = 0, 60°): a
-//! seeded line takes 6 rays to place its crossing, a scanned one 28.
+//! seeded line takes 6.6 rays to place its crossing, a scanned one 27; on a 64-angle Kerr
+//! curve (a = 0.9, 60°), whose anchors are farther apart, 8.5 and 26 (15 before the law).
 //!
 //! # Early end: a radial turning point decides escape
 //!
@@ -65,8 +71,12 @@
 //! turning point, inside or outside the photon region. Where it does not hold the ray is
 //! followed to the escape radius as before: a metric without declared separation (its rays
 //! may turn several times), and a finite observer (the range between r_o and the escape
-//! radius was never crossed). The photon-orbit check and the re-traced rays are always
-//! followed to the end, so that their windings keep their meaning.
+//! radius was never crossed). The photon-orbit check and the re-traced rays end at the turning
+//! point too; the winding of such a ray is then the one at its turning point (the step that
+//! passes it counted up to the sign change of p_r, interpolated linearly), which does not
+//! depend on where the steps fall. Beside a photon orbit it grows about half as fast as the
+//! whole ray's (the orbit is symmetric about its turning point), and each side of a crossing
+//! is compared only with itself.
 //!
 //! # Checks: photon orbits and accuracy
 //!
@@ -78,10 +88,13 @@
 //! Phys. Rev. D 66, 103001). The winding of a ray ([`RayOutcome::winding`]) is the angle
 //! swept by its direction from the centre relative to the locally non-rotating frames, so
 //! that it stays finite as a captured ray approaches a horizon. For each curve crossing,
-//! strict rays at distances far = min(`winding_far`, crossing/2), mid and near (geometric
+//! rays at distances far = min(`winding_far`, crossing/2), mid and near (geometric
 //! steps) on both sides must show a winding that keeps growing per e-fold of distance: by at
 //! least `winding_floor`, and near the crossing by at least `winding_ratio` times its growth
-//! farther out. Beside a surface that rays merely graze (the absorbing core, the outline of a
+//! farther out. The far and mid rays are those the refinement of the crossing traced, where
+//! one lies on the right side within a sixth of the ladder's span in ln(distance) of the
+//! wanted distance (a factor of 10 by default) and was traced at a tolerance that serves
+//! there; the others are traced for the check. Beside a surface that rays merely graze (the absorbing core, the outline of a
 //! singularity, or the capture radius when photon orbits lie within the capture margin of
 //! the horizon) the winding converges instead. Without a horizon such a boundary means no
 //! shadow; with one, that the ray tracer does not resolve the curve (an error).
@@ -310,8 +323,9 @@ pub struct RayOutcome {
     /// The angle (radians) swept by the ray's direction from the centre, (sin θ cos φ,
     /// sin θ sin φ, cos θ), relative to the locally non-rotating frames (each step's change
     /// of φ less ω Δt, ω = −g_tφ/g_φφ), summed while r exceeds the tracer's capture radius;
-    /// 0 unless measured ([`Tracer::trace_measured`]). For a planar orbit of a static metric
-    /// it is the angle swept in the orbital plane. Measured relative to those frames it stays
+    /// 0 unless measured ([`Tracer::trace_measured`]); for a ray that ends at its radial
+    /// turning point, the winding there (module docs, "Early end"). For a planar orbit of a
+    /// static metric it is the angle swept in the orbital plane. Measured relative to those frames it stays
     /// finite near a horizon, where φ itself winds without bound.
     pub winding: f64,
     /// The smallest radius reached.
@@ -344,7 +358,33 @@ pub struct LineBoundary {
     /// Whether the crossing was bracketed from the neighbouring lines' prediction, without
     /// a scan for further crossings along this line (module docs, "Neighbour seeding").
     pub seeded: bool,
+    /// The logarithmic winding law beside the outermost crossing, fitted to this line's rays
+    /// on its captured and escaping sides; guides the refinement of the neighbouring lines
+    /// (module docs, "Neighbour seeding"). Not part of any result.
+    #[serde(skip)]
+    pub(crate) law: Option<SideLaws>,
+    /// The rays that refined the outermost crossing, for its winding check (which takes
+    /// them where they lie at the distances it needs). Not part of any result.
+    #[serde(skip)]
+    pub(crate) nearby: Vec<NearbyRay>,
 }
+
+/// A ray traced while a crossing was refined, kept for the crossing's winding check.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct NearbyRay {
+    /// Its distance from the line's origin, in M.
+    pub rho: f64,
+    /// Its winding ([`RayOutcome::winding`]).
+    pub winding: f64,
+    /// Captured (else escaped).
+    pub captured: bool,
+    /// Traced at the strict tolerance (else the coarse one).
+    pub strict: bool,
+}
+
+/// The winding law w = c − k ln|ρ − ρ_c| beside a crossing ([`winding_law`]): (k, c) on the
+/// captured side, then on the escaping side.
+pub(crate) type SideLaws = [(f64, f64); 2];
 
 /// The photon-orbit check and the accuracy estimate of one crossing (module docs).
 #[derive(Debug, Clone, PartialEq, Serialize)]
@@ -355,9 +395,14 @@ pub struct LineCheck {
     /// numerics: the refined rays at crossing ∓ this distance are captured and escape.
     /// `None` if not within the largest distance tried or if a refined ray failed (`note`).
     pub validated_within: Option<f64>,
-    /// Distances (far, mid, near) from the crossing of the rays whose winding is compared;
-    /// this and the windings and growths below are NaN where not measured (`winding_note`).
+    /// Distances (far, mid, near) from the crossing of the rays whose winding is compared,
+    /// on the captured side; this and the windings and growths below are NaN where not
+    /// measured (`winding_note`).
     pub distances: [f64; 3],
+    /// The same on the escaping side. The far and mid rays are the refinement's own where
+    /// it traced rays near those distances (module docs, "Checks"), so the two sides' may
+    /// differ.
+    pub distances_outside: [f64; 3],
     /// Their winding ([`RayOutcome::winding`]) on the captured side of the crossing.
     pub winding_inside: [f64; 3],
     /// Their winding on the escaping side.
@@ -392,6 +437,8 @@ impl LineBoundary {
             steps: 0,
             check: None,
             seeded,
+            law: None,
+            nearby: Vec::new(),
         }
     }
 
@@ -459,10 +506,17 @@ struct PathRecord {
     /// the winding is measured.
     direction: Option<([f64; 3], f64)>,
     winding_radius: f64,
+    /// The ray ends at its radial turning point: its winding is then the one at the turning
+    /// point, `winding_at_turn`.
+    ends_at_turn: bool,
+    /// The winding at the first sign change of p_r (∝ dr/dτ), the radial turning point,
+    /// with the step that passes it counted up to it (interpolated linearly in p_r), so
+    /// that it does not depend on where the steps fall.
+    winding_at_turn: Option<f64>,
 }
 
 impl PathRecord {
-    fn new(y0: &PhaseState, measure: bool, winding_radius: f64) -> Self {
+    fn new(y0: &PhaseState, measure: bool, winding_radius: f64, ends_at_turn: bool) -> Self {
         PathRecord {
             steps: 0,
             winding: 0.0,
@@ -473,6 +527,8 @@ impl PathRecord {
             turned: false,
             direction: measure.then(|| (direction(y0), 0.0)),
             winding_radius,
+            ends_at_turn,
+            winding_at_turn: None,
         }
     }
 
@@ -506,10 +562,16 @@ impl PathRecord {
             } else {
                 0.0
             };
+            let mut sweep = 0.0;
             if above > 0.0 {
                 let c = cross(&previous, &current);
-                self.winding += above * dot(&c, &c).sqrt().atan2(dot(&previous, &current));
+                sweep = above * dot(&c, &c).sqrt().atan2(dot(&previous, &current));
             }
+            if self.ends_at_turn && self.winding_at_turn.is_none() && old[5] * new[5] < 0.0 {
+                let before = old[5] / (old[5] - new[5]);
+                self.winding_at_turn = Some(self.winding + before * sweep);
+            }
+            self.winding += sweep;
             self.direction = Some((direction(new), omega));
         }
     }
@@ -869,7 +931,7 @@ impl<'a> Tracer<'a> {
         };
         let mut y = y0;
         let mut strict = true;
-        let mut path = PathRecord::new(&y0, measure, self.winding_radius);
+        let mut path = PathRecord::new(&y0, measure, self.winding_radius, early);
         // Phases: strict error control, except while moving outward beyond the relaxed radius
         // (then only the escape is left to detect); the ray returns to strict control as soon
         // as it turns inward again.
@@ -934,12 +996,16 @@ impl<'a> Tracer<'a> {
                 }
             }
         };
+        let escaped_at_turning_point = early && path.turned && fate == RayFate::Escaped;
         RayOutcome {
             fate,
             steps: path.steps,
-            winding: path.winding,
+            winding: match path.winding_at_turn {
+                Some(winding) if escaped_at_turning_point => winding,
+                _ => path.winding,
+            },
             min_radius: path.min_radius,
-            escaped_at_turning_point: early && path.turned && fate == RayFate::Escaped,
+            escaped_at_turning_point,
         }
     }
 
@@ -1007,7 +1073,7 @@ impl<'a> Tracer<'a> {
     /// Check the outermost crossing of a converged `line` about `origin` and store the result
     /// in `line.check` (module docs, "Checks"): re-trace it with `validator` at distances
     /// δ = `width` · 10^{k/2} until the refined rays bracket it, then compare the winding of
-    /// strict rays at three distances (far, mid, near) on both sides. The crossing should be
+    /// rays at three distances (far, mid, near) on both sides. The crossing should be
     /// bisected to well below `width` (the ray tracer uses half).
     pub(crate) fn check_crossing(
         &self,
@@ -1016,32 +1082,27 @@ impl<'a> Tracer<'a> {
         line: &mut LineBoundary,
         width: f64,
     ) {
+        let nearby = std::mem::take(&mut line.nearby);
         let Some(crossing) = line.outermost() else {
             return;
         };
         let (sin, cos) = line.psi.sin_cos();
-        let pair = |tracer: &Tracer, d: f64, rtol: f64, line: &mut LineBoundary| {
-            let outcomes = [crossing - d, crossing + d].map(|rho| {
-                tracer.trace_ray(
-                    origin[0] + rho * cos,
-                    origin[1] + rho * sin,
-                    rtol,
-                    true,
-                    false,
-                )
-            });
-            for out in &outcomes {
-                line.rays += 1;
-                line.steps += out.steps;
-                line.failed_rays += usize::from(matches!(out.fate, RayFate::Failed(_)));
-            }
-            outcomes
+        // The ray `offset` M from the crossing along the line (inside for offset < 0), its
+        // winding measured up to where it ends.
+        let ray = |tracer: &Tracer, offset: f64, rtol: f64, line: &mut LineBoundary| {
+            let rho = crossing + offset;
+            let out = tracer.trace_with(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true);
+            line.rays += 1;
+            line.steps += out.steps;
+            line.failed_rays += usize::from(matches!(out.fate, RayFate::Failed(_)));
+            out
         };
         let far = self.options.winding_far.min(0.5 * crossing);
         let mut check = LineCheck {
             crossing,
             validated_within: None,
             distances: [far, f64::NAN, f64::NAN],
+            distances_outside: [far, f64::NAN, f64::NAN],
             winding_inside: [f64::NAN; 3],
             winding_outside: [f64::NAN; 3],
             growth_inside: [f64::NAN; 2],
@@ -1054,7 +1115,8 @@ impl<'a> Tracer<'a> {
         let mut near = None;
         let mut delta = width;
         while delta <= 0.01 * far {
-            let [inside, outside] = pair(validator, delta, validator.options.integrator.rtol, line);
+            let rtol = validator.options.integrator.rtol;
+            let [inside, outside] = [-delta, delta].map(|d| ray(validator, d, rtol, line));
             match (inside.fate, outside.fate) {
                 (RayFate::Captured, RayFate::Escaped) => {
                     check.validated_within = Some(delta);
@@ -1077,8 +1139,9 @@ impl<'a> Tracer<'a> {
                 delta / 10f64.sqrt()
             ));
         }
-        let ladder = |d: f64, rtol: f64, line: &mut LineBoundary| pair(self, d, rtol, line);
-        self.winding_ladder(&mut check, near, width, ladder, line);
+        let ladder =
+            |offset: f64, rtol: f64, line: &mut LineBoundary| ray(self, offset, rtol, line);
+        self.winding_ladder(&mut check, near, width, &nearby, ladder, line);
         line.check = Some(check);
     }
 
@@ -1086,13 +1149,19 @@ impl<'a> Tracer<'a> {
     /// tolerance when it is at least 1e-3 M), the mid one and the near one (strict, unless the
     /// validation supplied it) on both sides; the
     /// winding must keep growing per e-fold of distance near the crossing, by at least
-    /// `winding_floor` and at least `winding_ratio` times its growth farther out.
+    /// `winding_floor` and at least `winding_ratio` times its growth farther out. A far or
+    /// mid ray is taken from `nearby` (the refinement's rays) where one lies on its side within
+    /// a sixth of the ladder's span in ln(distance) of where it is wanted (a factor of 10 with
+    /// the defaults), traced at a tolerance that serves there, and at least 20 `width` from
+    /// the crossing (so that its distance is known to 5 %); the windows keep the three
+    /// distances at least a sixth of that span apart.
     fn winding_ladder(
         &self,
         check: &mut LineCheck,
         near: Option<(f64, [RayOutcome; 2])>,
         width: f64,
-        mut pair: impl FnMut(f64, f64, &mut LineBoundary) -> [RayOutcome; 2],
+        nearby: &[NearbyRay],
+        mut ray: impl FnMut(f64, f64, &mut LineBoundary) -> RayOutcome,
         line: &mut LineBoundary,
     ) {
         let far = check.distances[0];
@@ -1104,10 +1173,11 @@ impl<'a> Tracer<'a> {
         };
         // Without validated rays to reuse, strict rays as near as WINDING_NEAR_MIN, moved out
         // tenfold (twice at most) until they bracket the crossing.
+        let strict = self.options.integrator.rtol;
         let near = near.or_else(|| {
             (0..3).find_map(|k| {
                 let d = width.max(WINDING_NEAR_MIN) * 10f64.powi(k);
-                let rays = pair(d, self.options.integrator.rtol, line);
+                let rays = [-d, d].map(|offset| ray(offset, strict, line));
                 bracketing(&rays).then_some((d, rays))
             })
         });
@@ -1131,37 +1201,75 @@ impl<'a> Tracer<'a> {
         // more for rays that run close to the axis: at 179.99° rays 1e-5 M from the crossing
         // were misclassified.)
         let mid = (far * near.0).sqrt();
-        let strict = self.options.integrator.rtol;
+        let loose_from = 1e-3;
         let rtol = |d: f64| {
-            if d >= 1e-3 {
+            if d >= loose_from {
                 self.options.coarse_rtol.max(strict)
             } else {
                 strict
             }
         };
-        let rays = [
-            pair(far, rtol(far), line),
-            pair(mid, rtol(mid), line),
-            near.1,
-        ];
-        if let Some(k) = rays.iter().position(|o| !bracketing(o)) {
-            let d = [far, mid, near.0][k];
+        let window = ((far / near.0).ln() / 6.0).exp();
+        let crossing = check.crossing;
+        // (distance, winding, on its side of the crossing) of the ray wanted at distance d on
+        // one side: a nearby ray within [lo, hi], else a new one.
+        let mut rung = |d: f64, lo: f64, hi: f64, inside: bool, line: &mut LineBoundary| {
+            let reused = nearby
+                .iter()
+                .filter(|r| r.captured == inside && (r.rho < crossing) == inside)
+                .map(|r| ((r.rho - crossing).abs(), r))
+                .filter(|&(dist, r)| {
+                    dist >= lo.max(20.0 * width) && dist <= hi && (r.strict || dist >= loose_from)
+                })
+                .min_by(|p, q| (p.0 / d).ln().abs().total_cmp(&(q.0 / d).ln().abs()));
+            match reused {
+                Some((dist, r)) => (dist, r.winding, true),
+                None => {
+                    let out = ray(if inside { -d } else { d }, rtol(d), line);
+                    let expected = if inside {
+                        RayFate::Captured
+                    } else {
+                        RayFate::Escaped
+                    };
+                    (d, out.winding, out.fate == expected)
+                }
+            }
+        };
+        let sides = [true, false].map(|inside| {
+            [
+                rung(far, far / window, far, inside, line),
+                rung(mid, mid / window, mid * window, inside, line),
+            ]
+        });
+        if let Some(k) = sides.iter().flatten().position(|r| !r.2) {
+            let d = [far, mid][k % 2];
             check.winding_note = Some(format!(
                 "the rays {d:.1e} M on either side of the crossing do not bracket it (another \
                  crossing nearby, or a failed ray)"
             ));
             return;
         }
-        check.distances = [far, mid, near.0];
-        check.winding_inside = rays.map(|o| o[0].winding);
-        check.winding_outside = rays.map(|o| o[1].winding);
-        let step = (far / mid).ln();
-        let growth = |w: [f64; 3]| [(w[1] - w[0]) / step, (w[2] - w[1]) / step];
-        check.growth_inside = growth(check.winding_inside);
-        check.growth_outside = growth(check.winding_outside);
+        let ladder = |side: usize| {
+            let [f, m] = sides[side];
+            let distances = [f.0, m.0, near.0];
+            let windings = [f.1, m.1, near.1[side].winding];
+            let growth = [
+                (windings[1] - windings[0]) / (distances[0] / distances[1]).ln(),
+                (windings[2] - windings[1]) / (distances[1] / distances[2]).ln(),
+            ];
+            (distances, windings, growth)
+        };
+        let (d_in, w_in, g_in) = ladder(0);
+        let (d_out, w_out, g_out) = ladder(1);
+        check.distances = d_in;
+        check.distances_outside = d_out;
+        check.winding_inside = w_in;
+        check.winding_outside = w_out;
+        check.growth_inside = g_in;
+        check.growth_outside = g_out;
         let (floor, ratio) = (self.options.winding_floor, self.options.winding_ratio);
         let winds = |g: [f64; 2]| g[1] >= floor && g[1] >= ratio * g[0];
-        check.photon_orbit = Some(winds(check.growth_inside) && winds(check.growth_outside));
+        check.photon_orbit = Some(winds(g_in) && winds(g_out));
     }
 
     /// All boundary crossings along the line origin + ρ (cos ψ, sin ψ), ρ > 0, given whether
@@ -1209,15 +1317,17 @@ impl<'a> Tracer<'a> {
         let mut line = LineBoundary::empty(psi, true);
         let probe = LineProbe::new(self, origin, psi);
         let strict = self.options.integrator.rtol;
-        let crossing = if seed.half_width <= self.options.coarse_width {
+        let crossing = if seed.half_width <= self.options.coarse_width || seed.law.is_some() {
             // Within the coarse stage's final width: strict rays throughout.
             probe
                 .seeded_bracket(seed, strict, &mut line)
-                .and_then(|b| probe.strict_crossing(b, scan.tolerance, &mut line))
+                .and_then(|b| probe.strict_crossing(b, scan.tolerance, seed.law, &mut line))
         } else {
-            probe
-                .seeded_bracket(seed, coarse, &mut line)
-                .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok())
+            probe.seeded_bracket(seed, coarse, &mut line).and_then(|b| {
+                probe
+                    .crossing(b, scan.tolerance, coarse, seed.law, &mut line)
+                    .ok()
+            })
         };
         if let (Some(rho), None) = (crossing, &line.failure) {
             // No captured ray where the scan would have ended (an outer captured region).
@@ -1248,7 +1358,7 @@ impl<'a> Tracer<'a> {
             return (line, false);
         };
         for bracket in brackets {
-            match probe.crossing(bracket, scan.tolerance, coarse, &mut line) {
+            match probe.crossing(bracket, scan.tolerance, coarse, None, &mut line) {
                 Ok(rho) => line.crossings.push(rho),
                 Err(unconfirmed) => return (line, unconfirmed),
             }
@@ -1331,11 +1441,18 @@ fn winding_law(
 /// residuals. The fit uses up to four rays per side, the nearest to the bracket that lie on
 /// their own side of it and within `far` of its centre; it needs three on one side (with that
 /// side's two constants they determine ρ_c; a side of two rays fits any ρ_c exactly and adds
-/// nothing) and a positive slope on every side with two or more.
+/// nothing) and a positive slope on every side with two or more. Where `slopes` gives a
+/// side's k_s (the neighbouring lines' law, side of `a` first), only c_s is fitted there,
+/// and two rays on that side suffice.
 /// Because ρ_c is fitted, the rays nearest the crossing, whose distances are known only to
 /// the bracket's width, take part; the law's constants are not extrapolated over decades of
 /// distance from far rays. `None` without enough rays or when no trial point fits.
-fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64> {
+fn fitted_crossing(
+    probed: &[Probed],
+    bracket: &Bracket,
+    far: f64,
+    slopes: Option<[f64; 2]>,
+) -> Option<f64> {
     let dir = (bracket.b - bracket.a).signum();
     let centre = 0.5 * (bracket.a + bracket.b);
     let side_rays = |side: bool| -> Vec<(f64, f64)> {
@@ -1353,13 +1470,15 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
         rays
     };
     let sides = [side_rays(true), side_rays(false)];
-    if sides.iter().all(|r| r.len() < 3) {
+    let slope = |side: usize| slopes.map(|k| k[side]);
+    let determines = |side: usize| sides[side].len() >= if slope(side).is_some() { 2 } else { 3 };
+    if !determines(0) && !determines(1) {
         return None;
     }
     // Residual of the fit with the crossing at ρ_c, or None for a non-positive slope.
     let residual = |rho_c: f64| -> Option<f64> {
         let mut total = 0.0;
-        for rays in sides.iter().filter(|r| r.len() >= 2) {
+        for (side, rays) in sides.iter().enumerate().filter(|(_, r)| r.len() >= 2) {
             let n = rays.len() as f64;
             let xs: Vec<f64> = rays.iter().map(|p| (p.0 - rho_c).abs().ln()).collect();
             let mx = xs.iter().sum::<f64>() / n;
@@ -1370,11 +1489,13 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
                 sxy += (x - mx) * (p.1 - my);
                 syy += (p.1 - my) * (p.1 - my);
             }
-            // The winding grows towards the crossing: slope −k = sxy/sxx < 0.
-            if !(sxx > 0.0 && sxy < 0.0) {
-                return None;
-            }
-            total += (syy - sxy * sxy / sxx).max(0.0);
+            total += match slope(side) {
+                // Residuals of w + k ln d about their mean, the fitted c.
+                Some(k) => (syy + 2.0 * k * sxy + k * k * sxx).max(0.0),
+                // The winding grows towards the crossing: slope −k = sxy/sxx < 0.
+                None if sxx > 0.0 && sxy < 0.0 => (syy - sxy * sxy / sxx).max(0.0),
+                None => return None,
+            };
         }
         Some(total)
     };
@@ -1428,12 +1549,51 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
     (rho_c > bracket.a.min(bracket.b) && rho_c < bracket.a.max(bracket.b)).then_some(rho_c)
 }
 
+/// The winding law on either side of a crossing at `rho_c` bisected to `tolerance`, fitted
+/// ([`winding_law`]) to the rays farther than 20 `tolerance` from it (whose distances are
+/// then known to 5 %) and within 5 % of the crossing's distance from the origin; (k, c) on
+/// the side of `a`, then of `b`. `None` unless both sides fit.
+fn fitted_laws(probed: &[Probed], rho_c: f64, tolerance: f64) -> Option<SideLaws> {
+    let (near, far) = (20.0 * tolerance, 0.05 * rho_c.abs().max(1.0));
+    Some([
+        winding_law(probed, true, rho_c, near, far)?,
+        winding_law(probed, false, rho_c, near, far)?,
+    ])
+}
+
+/// The rays of a refinement for the crossing's winding check: those from index `first_strict`
+/// on were traced at the strict tolerance; a ray on the side of `a` is captured when the
+/// ray at `a` is.
+fn nearby_rays(probed: &[Probed], captured_a: bool, first_strict: usize) -> Vec<NearbyRay> {
+    probed
+        .iter()
+        .enumerate()
+        .map(|(i, &(rho, winding, side_a))| NearbyRay {
+            rho,
+            winding,
+            captured: side_a == captured_a,
+            strict: i >= first_strict,
+        })
+        .collect()
+}
+
+/// Swap a pair of side laws between (captured, escaping) and (side of `a`, side of `b`) order:
+/// the two agree when the ray at `a` is captured.
+fn by_side(laws: SideLaws, captured_a: bool) -> SideLaws {
+    if captured_a {
+        laws
+    } else {
+        [laws[1], laws[0]]
+    }
+}
+
 /// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
 /// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
 /// (module docs, "Checks"), so the windings say where the crossing is: ρ_c fitted jointly
 /// with both sides' (k, c) once one side has three rays ([`fitted_crossing`]); before that,
 /// |ρ − ρ_c| = exp((c − w)/k) from the nearer end, with (k, c) fitted per side to the rays
-/// farther out ([`winding_law`]). The next ray goes just beyond the predicted crossing, on the
+/// farther out ([`winding_law`]), or else `prior` ((k, c) on the side of `a`, then of `b`:
+/// the law interpolated from the neighbouring lines). The next ray goes just beyond the predicted crossing, on the
 /// far side from the nearer end, by a margin ε times the predicted distance (ε starts at 0.1,
 /// shrinks threefold after each ray on the expected side and grows threefold after a
 /// surprise), so each ray cuts the bracket by about ε where bisection halves it. Safeguards: bisection while no law is
@@ -1445,6 +1605,7 @@ fn fitted_crossing(probed: &[Probed], bracket: &Bracket, far: f64) -> Option<f64
 fn guided_refine<E>(
     mut bracket: Bracket,
     width: f64,
+    prior: Option<SideLaws>,
     probed: &mut Vec<Probed>,
     mut probe: impl FnMut(f64) -> Result<(bool, f64), E>,
 ) -> Result<Bracket, E> {
@@ -1458,12 +1619,14 @@ fn guided_refine<E>(
         let (near, far) = (10.0 * w, 0.05 * centre.abs().max(1.0));
         let distance = |side: bool, winding: f64| {
             winding_law(probed, side, centre, near, far)
+                .or_else(|| prior.map(|laws| laws[usize::from(!side)]))
                 .map(|(k, c)| ((c - winding) / k).exp())
                 .filter(|d| d.is_finite() && *d < w)
         };
         // The crossing predicted from the nearer end, and the side the ray beyond it should
         // fall on; none when the two ends disagree.
-        let from_fit = fitted_crossing(probed, &bracket, far).map(|rc| {
+        let slopes = prior.map(|laws| [laws[0].0, laws[1].0]);
+        let from_fit = fitted_crossing(probed, &bracket, far, slopes).map(|rc| {
             let (da, db) = ((rc - bracket.a).abs(), (bracket.b - rc).abs());
             if da <= db {
                 (rc, da, false)
@@ -1669,6 +1832,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         &self,
         bracket: LineBracket,
         tolerance: f64,
+        prior: Option<SideLaws>,
         line: &mut LineBoundary,
     ) -> Option<f64> {
         let strict = self.tracer.options.integrator.rtol;
@@ -1683,13 +1847,17 @@ impl<'t, 'a> LineProbe<'t, 'a> {
             b: bracket.hi,
             wb: bracket.winding[1],
         };
-        let refined = guided_refine(start, 2.0 * tolerance, &mut probed, |rho| {
+        let prior = prior.map(|laws| by_side(laws, captured_lo));
+        let refined = guided_refine(start, 2.0 * tolerance, prior, &mut probed, |rho| {
             self.classify(rho, strict, line)
                 .map(|(captured, w)| (captured == captured_lo, w))
                 .ok_or(())
         })
         .ok()?;
-        Some(0.5 * (refined.a + refined.b))
+        let rho = 0.5 * (refined.a + refined.b);
+        line.law = fitted_laws(&probed, rho, tolerance).map(|laws| by_side(laws, captured_lo));
+        line.nearby = nearby_rays(&probed, captured_lo, 0);
+        Some(rho)
     }
 
     /// The crossing in one scan bracket, in three stages (coarse tolerance down to the coarse
@@ -1702,6 +1870,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         scan_bracket: LineBracket,
         tolerance: f64,
         coarse: f64,
+        prior: Option<SideLaws>,
         line: &mut LineBoundary,
     ) -> Result<f64, bool> {
         let strict = self.tracer.options.integrator.rtol;
@@ -1726,15 +1895,19 @@ impl<'t, 'a> LineProbe<'t, 'a> {
             b: scan_hi,
             wb: winding[1],
         };
-        let coarse_bracket =
-            guided_refine(start, width, &mut probed, |rho| same_as_lo(rho, coarse))?;
+        let prior = prior.map(|laws| by_side(laws, captured_lo));
+        let coarse_bracket = guided_refine(start, width, prior, &mut probed, |rho| {
+            same_as_lo(rho, coarse)
+        })?;
         let (lo, hi) = (coarse_bracket.a, coarse_bracket.b);
+        let coarse_rays = probed.len();
         // Stage 2: confirm a widened bracket with the strict tolerance (a coarse ray near
         // the boundary may be misclassified); fall back to the scan bracket.
         let mut confirmed = None;
         for (a, b) in [((lo - width).max(0.0), hi + width), (scan_lo, scan_hi)] {
             let (inside_a, wa) = same_as_lo(a, strict)?;
             let (inside_b, wb) = same_as_lo(b, strict)?;
+            probed.extend([(a, wa, inside_a), (b, wb, inside_b)]);
             if inside_a && !inside_b {
                 confirmed = Some(Bracket { a, wa, b, wb });
                 break;
@@ -1750,10 +1923,13 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         };
         // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
         // point of the bracket.
-        let bracket = guided_refine(bracket, 2.0 * tolerance, &mut probed, |rho| {
+        let bracket = guided_refine(bracket, 2.0 * tolerance, prior, &mut probed, |rho| {
             same_as_lo(rho, strict)
         })?;
-        Ok(0.5 * (bracket.a + bracket.b))
+        let rho = 0.5 * (bracket.a + bracket.b);
+        line.law = fitted_laws(&probed, rho, tolerance).map(|laws| by_side(laws, captured_lo));
+        line.nearby = nearby_rays(&probed, captured_lo, coarse_rays);
+        Ok(rho)
     }
 }
 
@@ -1775,8 +1951,9 @@ pub struct RaytraceChecks {
     /// Why the tolerance is not met (`None` when it is).
     pub accuracy_note: Option<String>,
     /// Smallest and largest growth of the winding per e-fold of distance next to the
-    /// boundary, over all curve angles and both sides, in radians (π/γ for a spherical
-    /// photon sphere with ring exponent γ; 1 for Schwarzschild).
+    /// boundary on its captured side, over all curve angles, in radians (π/γ for a spherical
+    /// photon sphere with ring exponent γ; 1 for Schwarzschild). (On the escaping side it is
+    /// about half that where rays end at their turning point, module docs "Early end".)
     pub winding_growth: [f64; 2],
     /// Curve angles whose crossing was bracketed from their neighbours' prediction and not
     /// scanned for further crossings (module docs, "Neighbour seeding"); mirror images count.
@@ -1954,9 +2131,7 @@ impl RaytraceReport {
                     )
                 })
         });
-        let growth = checks
-            .iter()
-            .flat_map(|c| [c.growth_inside[1], c.growth_outside[1]]);
+        let growth = checks.iter().map(|c| c.growth_inside[1]);
         let winding_growth = growth.fold([f64::INFINITY, f64::NEG_INFINITY], |[lo, hi], g| {
             [lo.min(g), hi.max(g)]
         });

@@ -24,7 +24,7 @@
 //! Each level depends only on the levels before it, and each line of a level is computed on
 //! its own, so the result does not depend on the number of threads.
 
-use super::LineBoundary;
+use super::{LineBoundary, SideLaws};
 use rayon::prelude::*;
 
 /// A line's predicted crossing (in M from the curve origin) and the half-width of the first
@@ -35,6 +35,10 @@ pub(crate) struct Seed {
     pub guess: f64,
     /// Half-width of the first bracket.
     pub half_width: f64,
+    /// The winding law beside the crossing, interpolated linearly in the screen angle between
+    /// the nearest finished lines on either side (when both have one), to guide the
+    /// refinement.
+    pub law: Option<SideLaws>,
 }
 
 /// Trace the first `traced` of `n` curve lines in levels (module docs): `locate(k, seed)`
@@ -145,15 +149,12 @@ pub(crate) fn predict(
     min_half_width: f64,
 ) -> Option<Seed> {
     let n_signed = n as isize;
-    let rho = |j: isize| -> Option<f64> {
+    let finished = |j: isize| -> Option<&LineBoundary> {
         let m = j.rem_euclid(n_signed) as usize;
         let index = if mirror && m > n / 2 { n - m } else { m };
-        slots
-            .get(index)?
-            .as_ref()
-            .filter(|l| single_crossing(l))
-            .map(|l| l.crossings[0])
+        slots.get(index)?.as_ref().filter(|l| single_crossing(l))
     };
+    let rho = |j: isize| finished(j).map(|l| l.crossings[0]);
     let k = k as isize;
     let side = |direction: isize| -> Vec<(f64, f64)> {
         (1..=(reach as isize).min((n_signed - 1) / 2))
@@ -178,7 +179,21 @@ pub(crate) fn predict(
     let guess = lagrange(&nodes, x);
     let lower = lagrange(&nodes[1..nodes.len() - 1], x);
     let half_width = (2.0 * (guess - lower).abs()).max(min_half_width);
-    (guess.is_finite() && half_width < 0.25 * guess).then_some(Seed { guess, half_width })
+    // The law between the nearest finished line on either side (it is mirrored with them).
+    let (j0, j1) = (below[0].0, above[0].0);
+    let law = finished(j0 as isize)
+        .and_then(|l| l.law)
+        .zip(finished(j1 as isize).and_then(|l| l.law))
+        .map(|(l0, l1)| {
+            let t = (x - j0) / (j1 - j0);
+            let mix = |a: f64, b: f64| a + t * (b - a);
+            [0, 1].map(|s| (mix(l0[s].0, l1[s].0), mix(l0[s].1, l1[s].1)))
+        });
+    (guess.is_finite() && half_width < 0.25 * guess).then_some(Seed {
+        guess,
+        half_width,
+        law,
+    })
 }
 
 /// The Lagrange interpolating polynomial through `nodes` (x, y), at `x`.
@@ -212,6 +227,8 @@ mod tests {
             steps: 1,
             check: None,
             seeded: false,
+            law: None,
+            nearby: Vec::new(),
         }
     }
 
@@ -219,6 +236,31 @@ mod tests {
     fn curve(k: f64, n: usize) -> f64 {
         let psi = std::f64::consts::TAU * k / n as f64;
         5.0 + 0.1 * psi.cos() + 0.02 * (2.0 * psi).cos() + 0.01 * (3.0 * psi).sin()
+    }
+
+    #[test]
+    fn the_winding_law_is_interpolated_between_the_nearest_lines_and_needs_both() {
+        // Line 6 of 64, halfway between lines 4 and 8: (k, c) on each side interpolated
+        // linearly in the line index.
+        let n = 64;
+        let law = |k: usize| [(1.0 + 0.01 * k as f64, 3.0), (0.5, 2.0 + 0.1 * k as f64)];
+        let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
+        for k in (0..n).step_by(4) {
+            let mut l = line(k, n, curve(k as f64, n));
+            l.law = Some(law(k));
+            slots[k] = Some(l);
+        }
+        let seed = predict(&slots, 6, n, false, 12, 1e-12).unwrap();
+        let got = seed.law.unwrap();
+        let want = law(6);
+        for s in 0..2 {
+            assert!((got[s].0 - want[s].0).abs() < 1e-14 && (got[s].1 - want[s].1).abs() < 1e-14);
+        }
+        // Without a law on the nearest line of one side: no law, the same crossing.
+        slots[8].as_mut().unwrap().law = None;
+        let without = predict(&slots, 6, n, false, 12, 1e-12).unwrap();
+        assert_eq!(without.law, None);
+        assert_eq!(without.guess, seed.guess);
     }
 
     #[test]

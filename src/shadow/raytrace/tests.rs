@@ -74,7 +74,11 @@ fn a_seeded_line_finds_the_crossing_near_its_guess_and_falls_back_to_the_scan_fa
     let tracer = Tracer::new(&Schwarzschild, &observer, &RaytraceOptions::default()).unwrap();
     let b_c = 27f64.sqrt();
     let line = |guess: f64, half_width: f64| {
-        let seed = seeding::Seed { guess, half_width };
+        let seed = seeding::Seed {
+            guess,
+            half_width,
+            law: None,
+        };
         tracer.boundary_near([0.0, 0.0], 0.7, seed, &scan(0.0, 1e-9))
     };
     // A guess 1e-3 M off with a bracket of 1e-4 M: widened fourfold twice, then refined.
@@ -136,5 +140,108 @@ fn seeded_and_fully_scanned_curves_agree_within_the_tolerance() {
             // Each is within 1e-8 M of the boundary (the re-traced check above).
             assert!((a - b).abs() < 2e-8, "{a} against {b}");
         }
+    }
+}
+
+#[test]
+fn the_winding_of_a_ray_ending_at_its_turning_point_is_the_angle_swept_to_it() {
+    // Schwarzschild rays of impact parameter b from the start radius D = 3e4 to their radial
+    // turning point sweep phi(b; D) = int du / sqrt(1/b^2 - u^2 + 2u^3) (Chandrasekhar 1983,
+    // The Mathematical Theory of Black Holes, ch. 3), computed with mpmath by
+    // tests/generate_turning_windings.py. The step that passes the turning point counts only
+    // up to it, so the winding does not depend on where the steps fall: the whole step would
+    // add up to a step's sweep.
+    let table: serde_json::Value =
+        serde_json::from_str(include_str!("../../../tests/data/turning_windings.json")).unwrap();
+    assert_eq!(
+        table["start_radius"],
+        RaytraceOptions::default().start_radius
+    );
+    let observer = Observer::distant(1.0);
+    let tracer = Tracer::new(&Schwarzschild, &observer, &RaytraceOptions::default()).unwrap();
+    for case in table["cases"].as_array().unwrap() {
+        let b = case["impact_parameter"].as_f64().unwrap();
+        let reference = case["swept_angle"].as_f64().unwrap();
+        for rtol in [1e-7, 1e-10] {
+            let out = tracer.trace_with(b, 0.0, rtol, true);
+            assert!(out.escaped_at_turning_point, "b = {b}: {out:?}");
+            // Measured: at most 7e-4 rad at rtol 1e-7 and 5e-5 rad at 1e-10 (the linear
+            // interpolation within the last step); counting that whole step gave up to 6e-2.
+            let error = (out.winding - reference).abs();
+            assert!(error < 2e-3, "b = {b}, rtol {rtol:e}: error {error:e} rad");
+        }
+    }
+}
+
+#[test]
+fn with_the_neighbours_slope_two_rays_on_one_side_place_the_crossing() {
+    // Windings on the law w = c − k ln|ρ − ρ_c| (Bozza 2002, Phys. Rev. D 66, 103001: the
+    // deflection diverges logarithmically at the critical impact parameter), two rays on each
+    // side. With the slopes given, the fit recovers ρ_c; without them (a side of two rays fits
+    // any ρ_c) there is no fit.
+    let rho_c = 5.0 + 3.3e-6;
+    let (k, c) = ([1.0, 0.5], [3.7, 2.3]);
+    let ray = |rho: f64, side_a: bool| {
+        let s = usize::from(!side_a);
+        (rho, c[s] - k[s] * (rho - rho_c).abs().ln(), side_a)
+    };
+    let probed = vec![
+        ray(5.0 - 7e-4, true),
+        ray(5.0, true),
+        ray(5.0 + 7e-4, false),
+        ray(5.0 + 1e-4, false),
+    ];
+    let bracket = Bracket {
+        a: 5.0,
+        wa: probed[1].1,
+        b: 5.0 + 1e-4,
+        wb: probed[3].1,
+    };
+    assert_eq!(fitted_crossing(&probed, &bracket, 0.25, None), None);
+    let fitted = fitted_crossing(&probed, &bracket, 0.25, Some(k)).unwrap();
+    // To the golden-section search's resolution, about 1e-3 of the distance to the nearer end.
+    assert!(
+        (fitted - rho_c).abs() < 1e-3 * (rho_c - bracket.a),
+        "{fitted} vs {rho_c}"
+    );
+}
+
+#[test]
+fn the_winding_check_takes_the_refinements_rays_and_finds_schwarzschilds_growth() {
+    // Schwarzschild: beside the critical impact parameter 3√3 the deflection diverges like
+    // −ln(b/b_c − 1) (Darwin 1959, Proc. R. Soc. A 249, 180), so a captured ray's winding grows
+    // by 1 rad per e-fold of distance; an escaping ray that ends at its turning point sweeps
+    // half of its orbit, 1/2 rad per e-fold.
+    let observer = Observer::distant(f64::to_radians(60.0));
+    let options = RaytraceOptions::default();
+    let tracer = Tracer::new(&Schwarzschild, &observer, &options).unwrap();
+    let validator = tracer.validator().unwrap();
+    let mut line = tracer.boundary_along_line([0.0, 0.0], true, 0.7, &scan(0.0, 5e-9));
+    assert_eq!(line.crossings.len(), 1);
+    let nearby = line.nearby.len();
+    assert!(nearby > 5, "{nearby} refinement rays");
+    let (rays, steps) = (line.rays, line.steps);
+    tracer.check_crossing(&validator, [0.0, 0.0], &mut line, 1e-8);
+    let check = line.check.as_ref().unwrap();
+    assert_eq!(check.photon_orbit, Some(true), "{check:?}");
+    // The validation pair always; at most two of the four far and mid rays are new.
+    let traced = line.rays - rays;
+    assert!(
+        (2..=4).contains(&traced),
+        "{traced} rays traced for the check"
+    );
+    assert!(line.steps > steps);
+    let nominal_mid = (check.distances[0].max(check.distances_outside[0]) * 1e-8).sqrt();
+    let reused = [check.distances, check.distances_outside]
+        .iter()
+        .flat_map(|d| [d[0], d[1]])
+        .filter(|&d| d != options.winding_far && d != nominal_mid)
+        .count();
+    assert!(reused >= 2, "{check:?}");
+    for g in check.growth_inside {
+        assert!((g - 1.0).abs() < 0.01, "captured side: {check:?}");
+    }
+    for g in check.growth_outside {
+        assert!((g - 0.5).abs() < 0.01, "escaping side: {check:?}");
     }
 }
