@@ -1089,12 +1089,18 @@ impl<'a> Tracer<'a> {
         let (sin, cos) = line.psi.sin_cos();
         // The ray `offset` M from the crossing along the line (inside for offset < 0), its
         // winding measured up to where it ends.
-        let ray = |tracer: &Tracer, offset: f64, rtol: f64, line: &mut LineBoundary| {
+        let trace = |tracer: &Tracer, offset: f64, rtol: f64| {
             let rho = crossing + offset;
-            let out = tracer.trace_with(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true);
+            tracer.trace_with(origin[0] + rho * cos, origin[1] + rho * sin, rtol, true)
+        };
+        let count = |out: &RayOutcome, line: &mut LineBoundary| {
             line.rays += 1;
             line.steps += out.steps;
             line.failed_rays += usize::from(matches!(out.fate, RayFate::Failed(_)));
+        };
+        let ray = |tracer: &Tracer, offset: f64, rtol: f64, line: &mut LineBoundary| {
+            let out = trace(tracer, offset, rtol);
+            count(&out, line);
             out
         };
         let far = self.options.winding_far.min(0.5 * crossing);
@@ -1116,7 +1122,13 @@ impl<'a> Tracer<'a> {
         let mut delta = width;
         while delta <= 0.01 * far {
             let rtol = validator.options.integrator.rtol;
-            let [inside, outside] = [-delta, delta].map(|d| ray(validator, d, rtol, line));
+            // The two rays side by side: the last level's checks are few per thread.
+            let (inside, outside) = rayon::join(
+                || trace(validator, -delta, rtol),
+                || trace(validator, delta, rtol),
+            );
+            count(&inside, line);
+            count(&outside, line);
             match (inside.fate, outside.fate) {
                 (RayFate::Captured, RayFate::Escaped) => {
                     check.validated_within = Some(delta);
