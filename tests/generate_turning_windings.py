@@ -4,8 +4,8 @@ turning point, from mpmath, for the ray tracer's winding of rays that end at the
 point (src/shadow/raytrace/tests.rs).
 
 A ray of impact parameter b in the Schwarzschild metric (M = 1) obeys
-(du/dphi)^2 = 1/b^2 - u^2 + 2 u^3 with u = 1/r (e.g. Chandrasekhar 1983, The Mathematical Theory
-of Black Holes, ch. 3, eq. 19 with E/L = 1/b). It turns at r0, the largest root of
+(du/dphi)^2 = 1/b^2 - u^2 + 2 u^3 with u = 1/r (Chandrasekhar 1983, The Mathematical Theory
+of Black Holes, ch. 3, the null geodesics of the Schwarzschild metric; section from memory). It turns at r0, the largest root of
 r^3 - b^2 (r - 2) = 0, and sweeps
 
     phi(b; D) = int_{1/D}^{1/r0} du / sqrt(1/b^2 - u^2 + 2 u^3)

@@ -13,8 +13,10 @@
 //! the prediction and its difference from the linear interpolation between the nearest two
 //! the estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°):
 //! the quintic of the last level is within 4e-9 M of the traced crossing, the cubic within
-//! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line,
-//! so the crossing is as accurate as before; what a seeded line does not do is the scan for
+//! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line
+//! (with strict rays throughout, and guided from the first bracket on by the winding law of
+//! the nearest finished lines on either side, when both have one), so the crossing is as
+//! accurate as before; what a seeded line does not do is the scan for
 //! further crossings along it (one loose ray where that scan would have stopped must
 //! escape). Seeding is therefore used
 //! only while the curve looks star-shaped: every anchor must have exactly one crossing, and a
@@ -27,8 +29,8 @@
 use super::{LineBoundary, SideLaws};
 use rayon::prelude::*;
 
-/// A line's predicted crossing (in M from the curve origin) and the half-width of the first
-/// bracket to try around it.
+/// A line's predicted crossing (in M from the curve origin), the half-width of the first
+/// bracket to try around it, and the winding law to guide its refinement.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub(crate) struct Seed {
     /// Predicted crossing.
