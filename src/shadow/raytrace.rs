@@ -51,15 +51,15 @@
 //! follow the law to ~1e-8 M from the crossing, the loose tolerance's only to ~1e-5 M:
 //! measured on Kerr a = 0.9, 60°, where the loose rays' classification noise of ~1e-6 M
 //! shifts their distances); without a law, strict rays are used when h is at most
-//! `coarse_width`. Their crossings are as accurate
-//! as a scanned line's, and checked in the same way. A seeded line does not scan for further crossings along it: one loose ray where
+//! `coarse_width`. Their crossings are as accurate as a scanned line's, and checked in the
+//! same way. A seeded line does not scan for further crossings along it: one loose ray where
 //! a scan would have stopped must escape, and the star-shape diagnostic
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
 //! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
 //! whose bracket is not found is scanned in full ([`RaytraceChecks::seeded_lines`] counts the
 //! seeded angles). Measured on a 256-angle Johannsen–Psaltis curve (a = 0.5, ε₃ = 0, 60°): a
 //! seeded line takes 6.6 rays to place its crossing, a scanned one 27; on a 64-angle Kerr
-//! curve (a = 0.9, 60°), whose anchors are farther apart, 8.5 and 26 (15 before the law).
+//! curve (a = 0.9, 60°), whose anchors are farther apart, 8.3 and 26 (15 before the law).
 //!
 //! # Early end: a radial turning point decides escape
 //!
@@ -77,9 +77,9 @@
 //! point too; the winding of such a ray is then the one at its turning point (the step that
 //! passes it counted up to the sign change of p_r, interpolated linearly), which depends on
 //! where the steps fall only at second order (7e-4 rad at the loose tolerance, measured on
-//! Schwarzschild rays; counting that whole step gave up to 6e-2 rad). Beside a photon orbit it grows about half as fast as the
-//! whole ray's (the orbit is symmetric about its turning point), and each side of a crossing
-//! is compared only with itself.
+//! Schwarzschild rays; counting that whole step gave up to 6e-2 rad). Beside a photon orbit
+//! it grows about half as fast as the whole ray's (the orbit is symmetric about its turning
+//! point), and each side of a crossing is compared only with itself.
 //!
 //! # Checks: photon orbits and accuracy
 //!
@@ -94,16 +94,18 @@
 //! rays at distances far = min(`winding_far`, crossing/2), mid and near (geometric
 //! steps) on both sides must show a winding that keeps growing per e-fold of distance: by at
 //! least `winding_floor`, and near the crossing by at least `winding_ratio` times its growth
-//! farther out. The far and mid rays are those the refinement of the crossing traced, where
-//! one lies on the right side within a twelfth of the ladder's span in ln(distance) of the
-//! wanted distance (a factor of 3.2 by default) and was traced at a tolerance that serves
-//! there; the others are traced for the check. The windows are narrow enough that the ratio
-//! test below still tells a grazed surface: for a captured-side winding that converges like
-//! √d the worst placement within them gives a ratio of 0.06 with near rays at 1e-8 M and 0.23
-//! at 1e-5 M, against 0.03 and 0.18 on the nominal ladder (computed here, not measured). Beside a surface that rays merely graze (the absorbing core, the outline of a
+//! farther out. Beside a surface that rays merely graze (the absorbing core, the outline of a
 //! singularity, or the capture radius when photon orbits lie within the capture margin of
 //! the horizon) the winding converges instead. Without a horizon such a boundary means no
 //! shadow; with one, that the ray tracer does not resolve the curve (an error).
+//!
+//! The far and mid rays are those the refinement of the crossing traced, where one lies on
+//! the right side within a twelfth of the ladder's span in ln(distance) of the wanted
+//! distance (a factor of 3.2 by default) and was traced at a tolerance that serves there;
+//! the others are traced for the check. The windows are narrow enough that the ratio test
+//! still tells a grazed surface: for a captured-side winding that converges like √d, the
+//! worst placement within them gives a ratio of 0.06 with near rays at 1e-8 M and 0.23 at
+//! 1e-5 M, against 0.03 and 0.18 on the nominal ladder (computed here, not measured).
 //!
 //! Each crossing is also re-traced with refined numerics (`validation_rtol`, capture margin
 //! `validation_capture_margin`, start radius `validation_start_radius`): the refined rays at
