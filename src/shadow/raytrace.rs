@@ -1347,11 +1347,9 @@ impl<'a> Tracer<'a> {
                 .seeded_bracket(seed, strict, &mut line)
                 .and_then(|b| probe.strict_crossing(b, scan.tolerance, seed.law, &mut line))
         } else {
-            probe.seeded_bracket(seed, coarse, &mut line).and_then(|b| {
-                probe
-                    .crossing(b, scan.tolerance, coarse, None, &mut line)
-                    .ok()
-            })
+            probe
+                .seeded_bracket(seed, coarse, &mut line)
+                .and_then(|b| probe.crossing(b, scan.tolerance, coarse, &mut line).ok())
         };
         if let (Some(rho), None) = (crossing, &line.failure) {
             // No captured ray where the scan would have ended (an outer captured region).
@@ -1382,7 +1380,7 @@ impl<'a> Tracer<'a> {
             return (line, false);
         };
         for bracket in brackets {
-            match probe.crossing(bracket, scan.tolerance, coarse, None, &mut line) {
+            match probe.crossing(bracket, scan.tolerance, coarse, &mut line) {
                 Ok(rho) => line.crossings.push(rho),
                 Err(unconfirmed) => return (line, unconfirmed),
             }
@@ -1909,7 +1907,6 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         scan_bracket: LineBracket,
         tolerance: f64,
         coarse: f64,
-        prior: Option<SideLaws>,
         line: &mut LineBoundary,
     ) -> Result<f64, bool> {
         let strict = self.tracer.options.integrator.rtol;
@@ -1934,8 +1931,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
             b: scan_hi,
             wb: winding[1],
         };
-        let prior = prior.map(|laws| by_side(laws, captured_lo));
-        let coarse_bracket = guided_refine(start, width, prior, &mut probed, |rho| {
+        let coarse_bracket = guided_refine(start, width, None, &mut probed, |rho| {
             same_as_lo(rho, coarse)
         })?;
         let (lo, hi) = (coarse_bracket.a, coarse_bracket.b);
@@ -1962,7 +1958,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         };
         // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
         // point of the bracket.
-        let bracket = guided_refine(bracket, 2.0 * tolerance, prior, &mut probed, |rho| {
+        let bracket = guided_refine(bracket, 2.0 * tolerance, None, &mut probed, |rho| {
             same_as_lo(rho, strict)
         })?;
         let rho = 0.5 * (bracket.a + bracket.b);
