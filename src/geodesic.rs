@@ -7,7 +7,9 @@
 //! Two embedded pairs share one step loop ([`RungeKuttaPair`]): the 5(4) pair of Dormand &
 //! Prince (1980, J. Comput. Appl. Math. 6, 19) and the eighth-order "DOP853" pair of Hairer,
 //! Nørsett & Wanner (1993, *Solving Ordinary Differential Equations I*, §II.10), both with the
-//! step-size control of Hairer, Nørsett & Wanner (§II.4). At the tolerances of the shadow
+//! step-size control of Hairer, Nørsett & Wanner (§II.4), taking the smaller of its step and
+//! the one Gustafsson's predictive controller gives (Gustafsson 1994, ACM TOMS 20, 496), and
+//! no growth right after a rejected trial. At the tolerances of the shadow
 //! tracer (1e-10, 1e-11) the eighth-order pair takes about a quarter of the steps at twice the
 //! gradient evaluations per step (docs/performance.md). The loop is written here rather than
 //! taken from a crate so that every ray can stop on a physical event, report its own failure
@@ -154,6 +156,11 @@ pub struct IntegrationEnd {
 trait EmbeddedPair {
     /// Exponent of the step-size controller, −1/(q + 1) for an error estimate of order q.
     const ERROR_EXPONENT: f64;
+    /// err^ERROR_EXPONENT, the controller's step factor before its safety factor and limits.
+    #[inline(always)]
+    fn error_power(err: f64) -> f64 {
+        err.powf(Self::ERROR_EXPONENT)
+    }
     /// The trial step of size `hs` from `y` with derivative `k1`: the new state, the
     /// derivative there when the pair needs it for its error estimate (first same as last;
     /// else the loop evaluates it once the step is accepted), and the error norm
@@ -273,6 +280,13 @@ struct DormandPrince853;
 
 impl EmbeddedPair for DormandPrince853 {
     const ERROR_EXPONENT: f64 = -1.0 / 8.0;
+
+    /// err^(−1/8) by three square roots: the same value to a few ulps, at a fraction of the
+    /// cost of `powf` (which took 3 % of a ray-traced curve's time).
+    #[inline(always)]
+    fn error_power(err: f64) -> f64 {
+        1.0 / err.sqrt().sqrt().sqrt()
+    }
 
     #[inline(always)]
     fn trial(
@@ -400,6 +414,9 @@ fn step_loop<P: EmbeddedPair>(
     let mut k1 = f(&y);
     let mut steps = 0;
     let mut rejected = 0;
+    // (step size, error) of the last accepted step, and whether the last trial failed.
+    let mut previous_accepted: Option<(f64, f64)> = None;
+    let mut last_rejected = false;
     while tau < tau_max.abs() {
         if steps + rejected >= settings.max_steps {
             return Err(IntegrationFailure::TooManySteps { steps });
@@ -430,9 +447,31 @@ fn step_loop<P: EmbeddedPair>(
         let factor = if err == 0.0 {
             5.0
         } else {
-            (0.9 * err.powf(P::ERROR_EXPONENT)).clamp(0.2, 5.0)
+            (0.9 * P::error_power(err)).clamp(0.2, 5.0)
         };
         if err <= 1.0 {
+            let factor = match previous_accepted {
+                // Gustafsson's predictive controller (Gustafsson 1994, ACM TOMS 20, 496; as
+                // in Hairer & Wanner 1996, *Solving ODEs II*, §IV.8, code RADAU5): the factor
+                // times (h/h_prev)(err_prev/err)^(1/k), when smaller. It follows an error
+                // that grows from step to step, as on a ray falling inward, where the
+                // factor alone let every second trial step fail (measured: rejected trials
+                // were 55 % of the accepted steps on a ray-traced Kerr curve, 10 % with it).
+                Some((h_prev, err_prev)) if err > 0.0 => {
+                    let trend = (h / h_prev) * P::error_power(err / err_prev);
+                    factor.min((factor * trend).max(0.2))
+                }
+                _ => factor,
+            };
+            // No growth right after a rejected trial (Hairer, Nørsett & Wanner 1993, §II.4).
+            let factor = if last_rejected {
+                factor.min(1.0)
+            } else {
+                factor
+            };
+            // The error floor of RADAU5: a nearly exact step predicts no trend.
+            previous_accepted = Some((h, err.max(1.0e-2)));
+            last_rejected = false;
             let y_old = y;
             y = y_new;
             k1 = match k_new {
@@ -450,6 +489,7 @@ fn step_loop<P: EmbeddedPair>(
             h *= factor;
         } else {
             rejected += 1;
+            last_rejected = true;
             h *= factor.min(1.0);
         }
         if h < settings.min_step {

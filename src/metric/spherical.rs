@@ -5,7 +5,7 @@
 //! and horizon rule come from [`Declared`], as for every metric.
 
 use super::{Capabilities, Declared, Metric, MetricComponents};
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 
 /// The functions A, B, C of a spherically symmetric line element at one radius.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -51,7 +51,7 @@ impl<S: SphericalMetric> Metric for S {
     #[inline]
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         let c = self.c(r);
-        let s = theta.sin();
+        let s = sin_cos(theta).0;
         MetricComponents {
             g_tt: -self.a(r),
             g_tphi: D::from(0.0),

@@ -8,7 +8,7 @@ use crate::metric::{
     check_separation, numerical_outer_horizon, Capabilities, Declared, DeclaredHorizon, Metric,
     MetricComponents, MetricInfo, SphericalFunctions, Symmetry,
 };
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 use std::path::{Path, PathBuf};
 
 /// A published value a metric file states for a regression check (parsed, not evaluated).
@@ -232,7 +232,7 @@ impl Metric for FileMetric {
         match self.symmetry {
             Symmetry::Spherical => {
                 let [a, b, c] = self.line.run::<D, 1, 3>([r]);
-                let s = theta.sin();
+                let s = sin_cos(theta).0;
                 MetricComponents {
                     g_tt: -a,
                     g_tphi: D::from(0.0),

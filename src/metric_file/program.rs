@@ -10,7 +10,7 @@
 
 use super::parser::{BinOp, Func};
 use super::resolve::{Node, Var};
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 use std::collections::HashMap;
 
 /// One operation; operands are register numbers, constants are `f64`.
@@ -146,8 +146,8 @@ fn fold_unary(f: Func, x: f64) -> f64 {
         Func::Sqrt => x.sqrt(),
         Func::Exp => x.exp(),
         Func::Ln => x.ln(),
-        Func::Sin => x.sin(),
-        Func::Cos => x.cos(),
+        Func::Sin => sin_cos(x).0,
+        Func::Cos => sin_cos(x).1,
         Func::Tan => x.tan(),
         Func::Sinh => x.sinh(),
         Func::Cosh => x.cosh(),
@@ -403,8 +403,8 @@ fn step<D: DualScalar>(regs: &[D], op: Op) -> D {
                 Func::Sqrt => v.sqrt(),
                 Func::Exp => v.exp(),
                 Func::Ln => v.ln(),
-                Func::Sin => v.sin(),
-                Func::Cos => v.cos(),
+                Func::Sin => sin_cos(v).0,
+                Func::Cos => sin_cos(v).1,
                 Func::Tan => v.tan(),
                 Func::Sinh => v.sinh(),
                 Func::Cosh => v.cosh(),

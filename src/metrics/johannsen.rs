@@ -33,7 +33,7 @@ use super::kerr_like;
 use crate::declare_metric;
 use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
 use crate::numfmt::Num;
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 use roots::find_roots_quartic;
 
 declare_metric! {
@@ -152,7 +152,7 @@ impl Johannsen {
 impl Metric for Johannsen {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         let a = self.a;
-        let (s, c) = theta.sin_cos();
+        let (s, c) = sin_cos(theta);
         let s2 = s * s;
         let r2a2 = r * r + a * a;
         let sigma_t = r * r + c * c * (a * a) + r.recip() * self.eps3;

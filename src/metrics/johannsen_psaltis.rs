@@ -11,7 +11,7 @@
 use crate::declare_metric;
 use crate::metric::{numerical_outer_horizon, Capabilities, Domain, Metric, MetricComponents};
 use crate::numerics::brent_root;
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 
 declare_metric! {
     /// The Johannsen–Psaltis metric with spin `a` and deviation `eps3`.
@@ -60,7 +60,7 @@ impl JohannsenPsaltis {
 impl Metric for JohannsenPsaltis {
     fn components<D: DualScalar>(&self, r: D, theta: D) -> MetricComponents<D> {
         let a = self.a;
-        let (s, c) = theta.sin_cos();
+        let (s, c) = sin_cos(theta);
         let s2 = s * s;
         let sigma = r * r + c * c * (a * a);
         let delta = r * r - r * 2.0 + a * a;

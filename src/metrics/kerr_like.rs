@@ -11,7 +11,7 @@
 //! μ = 2 m(r) r. Null geodesics separate (Carter 1968) with the potentials below.
 
 use crate::metric::{Capabilities, MetricComponents};
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 
 /// What every metric of the family declares (and Johannsen's, which shares Θ): separation
 /// data (the potentials below) and θ → π − θ symmetry (Σ and Θ depend on θ through cos²θ).
@@ -22,7 +22,7 @@ pub(crate) const CAPABILITIES: Capabilities = Capabilities::NONE
 /// Components of the Kerr-like line element for spin `a`, ρ²(r) = `rho2`, μ(r) = `mu`.
 #[inline(always)]
 pub(crate) fn components<D: DualScalar>(a: f64, rho2: D, mu: D, theta: D) -> MetricComponents<D> {
-    let (s, c) = theta.sin_cos();
+    let (s, c) = sin_cos(theta);
     let s2 = s * s;
     let sigma = rho2 + c * c * (a * a);
     let delta = rho2 + a * a - mu;
@@ -49,7 +49,7 @@ pub(crate) fn radial_potential<D: DualScalar>(a: f64, rho2: D, mu: D, lambda: D,
 /// Carter's polar potential Θ = η + a² cos²θ − λ² cot²θ; (Σ dθ/dτ)² = Θ.
 #[inline(always)]
 pub(crate) fn polar_potential<D: DualScalar>(a: f64, theta: D, lambda: D, eta: D) -> D {
-    let (s, c) = theta.sin_cos();
+    let (s, c) = sin_cos(theta);
     let cot = c / s;
     eta + c * c * (a * a) - lambda * lambda * cot * cot
 }

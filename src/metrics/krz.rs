@@ -15,7 +15,7 @@
 
 use crate::declare_metric;
 use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 
 declare_metric! {
     /// The KRZ metric with spin `a` and deviations δ1 … δ6.
@@ -82,7 +82,7 @@ impl Metric for Krz {
         let k23 = a2 / (r0 * r0);
         let w00 = 2.0 * a / (r0 * r0);
 
-        let (s, y) = theta.sin_cos();
+        let (s, y) = sin_cos(theta);
         let s2 = s * s;
         let y2 = y * y;
         let u = r.recip() * r0; // r0/r

@@ -162,7 +162,7 @@ use crate::geodesic::{
     IntegrationFailure, IntegratorSettings, PhaseState, RungeKuttaPair,
 };
 use crate::metric::{Spacetime, Symmetry};
-use crate::scalar::DualScalar;
+use crate::scalar::{sin_cos, DualScalar};
 use num_dual::Dual64;
 use rayon::prelude::*;
 use serde::Serialize;
@@ -558,8 +558,8 @@ impl PathRecord {
             // The direction relative to the locally non-rotating frames: rotated back about
             // the axis by the mean ω times the step in t.
             let turn = -0.5 * (omega + previous_omega) * (new[0] - old[0]);
-            let (st, ct) = new[2].sin_cos();
-            let (sp, cp) = (new[3] + turn).sin_cos();
+            let (st, ct) = sin_cos(new[2]);
+            let (sp, cp) = sin_cos(new[3] + turn);
             let current = [st * cp, st * sp, ct];
             // The part of the step above the winding radius, interpolated linearly in r, so
             // that the winding does not depend on where the steps happen to fall.
@@ -599,8 +599,8 @@ fn regular_at(spacetime: &dyn Spacetime, r: f64, theta: f64) -> bool {
 
 /// The unit vector (sin θ cos φ, sin θ sin φ, cos θ) of a phase point.
 fn direction(y: &PhaseState) -> [f64; 3] {
-    let (st, ct) = y[2].sin_cos();
-    let (sp, cp) = y[3].sin_cos();
+    let (st, ct) = sin_cos(y[2]);
+    let (sp, cp) = sin_cos(y[3]);
     [st * cp, st * sp, ct]
 }
 
