@@ -254,6 +254,12 @@ pub struct RaytraceOptions {
     /// interior search on curves known exactly (tests/raytrace_photon_orbits.rs).
     pub screen_offset: [f64; 2],
     /// Integrator tolerances and limits; the sign and size of `initial_step` are set per ray.
+    /// Each ray uses an absolute tolerance of min(`atol`, its relative tolerance). The state's
+    /// components (θ, p_r, p_θ, and r in M) are of order one in units G = c = M = E = 1, so the
+    /// default atol = 1e-10 = rtol is mixed error control on that unit scale; an atol far
+    /// below rtol (1e-12 before) demanded a hundred times the accuracy for the few steps
+    /// around every sign change of p_r or p_θ (measured: 15 % more steps on a Kerr curve,
+    /// for no change in its agreement with the separable solver beyond 1e-9 M).
     pub integrator: IntegratorSettings,
 }
 
@@ -284,7 +290,7 @@ impl Default for RaytraceOptions {
             screen_offset: [0.0, 0.0],
             integrator: IntegratorSettings {
                 rtol: 1.0e-10,
-                atol: 1.0e-12,
+                atol: 1.0e-10,
                 initial_step: -1.0,
                 min_step: 1.0e-14,
                 max_step: f64::INFINITY,
@@ -930,8 +936,10 @@ impl<'a> Tracer<'a> {
         };
         let capture = self.capture_radius;
         let early = early && self.turning_point_escapes;
+        // The absolute tolerance is at most the relative one (see `RaytraceOptions::integrator`).
         let strict_settings = IntegratorSettings {
             rtol,
+            atol: self.options.integrator.atol.min(rtol),
             pair,
             ..self.options.integrator
         };

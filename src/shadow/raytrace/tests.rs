@@ -232,10 +232,14 @@ fn the_winding_check_takes_the_refinements_rays_and_finds_schwarzschilds_growth(
         "{traced} rays traced for the check"
     );
     assert!(line.steps > steps);
-    for g in check.growth_inside {
-        assert!((g - 1.0).abs() < 0.01, "captured side: {check:?}");
+    // From the far to the mid rays to 0.01 rad per e-fold. From the mid to the near rays
+    // (1e-8 M), a strict ray's classification noise ε ~ 1e-9 M shifts each winding by up to
+    // ε/1e-8 rad, so the growth over ln(1000) e-folds is good to 2ε/(1e-8 · ln 1000) ≈ 0.03.
+    let limits = [0.01, 0.03];
+    for (g, limit) in check.growth_inside.iter().zip(limits) {
+        assert!((g - 1.0).abs() < limit, "captured side: {check:?}");
     }
-    for g in check.growth_outside {
-        assert!((g - 0.5).abs() < 0.01, "escaping side: {check:?}");
+    for (g, limit) in check.growth_outside.iter().zip(limits) {
+        assert!((g - 0.5).abs() < limit, "escaping side: {check:?}");
     }
 }
