@@ -433,6 +433,7 @@ fn step_loop<P: EmbeddedPair>(
         if !err.is_finite() {
             // A trial step landed on a singular point: shrink and try again.
             rejected += 1;
+            last_rejected = true;
             h *= 0.2;
             if h < settings.min_step {
                 return Err(if y.iter().all(|x| x.is_finite()) {

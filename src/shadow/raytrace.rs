@@ -254,12 +254,14 @@ pub struct RaytraceOptions {
     /// interior search on curves known exactly (tests/raytrace_photon_orbits.rs).
     pub screen_offset: [f64; 2],
     /// Integrator tolerances and limits; the sign and size of `initial_step` are set per ray.
-    /// Each ray uses an absolute tolerance of min(`atol`, its relative tolerance). The state's
-    /// components (θ, p_r, p_θ, and r in M) are of order one in units G = c = M = E = 1, so the
-    /// default atol = 1e-10 = rtol is mixed error control on that unit scale; an atol far
-    /// below rtol (1e-12 before) demanded a hundred times the accuracy for the few steps
-    /// around every sign change of p_r or p_θ (measured: 15 % more steps on a Kerr curve,
-    /// for no change in its agreement with the separable solver beyond 1e-9 M).
+    /// Each ray uses an absolute tolerance of min(`atol`, its relative tolerance), so the
+    /// validation rays (`validation_rtol`) stay stricter than the others. The absolute term
+    /// matters only where a controlled component passes through zero: p_r and p_θ at turning
+    /// points (θ and r stay away from zero). Those momenta are of order one in units
+    /// G = c = M = E = 1, so atol = rtol there asks for the same accuracy as elsewhere along
+    /// the ray; an atol far below rtol (1e-12 before) asked for a hundred times more on the
+    /// few steps around every sign change. Measured on a Kerr curve: 12 % fewer steps with the
+    /// default 1e-10, and its agreement with the separable solver unchanged within 1e-9 M.
     pub integrator: IntegratorSettings,
 }
 

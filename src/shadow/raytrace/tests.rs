@@ -232,13 +232,18 @@ fn the_winding_check_takes_the_refinements_rays_and_finds_schwarzschilds_growth(
         "{traced} rays traced for the check"
     );
     assert!(line.steps > steps);
-    // From the far to the mid rays to 0.01 rad per e-fold. From the mid to the near rays
-    // (1e-8 M), a strict ray's classification noise ε ~ 1e-9 M shifts each winding by up to
-    // ε/1e-8 rad, so the growth over ln(1000) e-folds is good to 2ε/(1e-8 · ln 1000) ≈ 0.03.
+    // From the far to the mid rays to 0.01 rad per e-fold. The near rays (1e-8 M) are the
+    // validation pair, and their distance from the true crossing is uncertain by about
+    // ε = 2e-9 M: the crossing's placement (half the bisection's last bracket plus the strict
+    // rays' noise of ~1e-9 M) and the pair's own offset. A winding w = c − k ln d then moves by
+    // up to k ε/1e-8, so the growth over the ln 1000 e-folds from the mid rays is good to
+    // k ε/(1e-8 · ln 1000) ≈ 0.03 k: k = 1 on the captured side, 1/2 on the escaping side
+    // (the mid rays' own shift, k ε/1e-5, is negligible).
     let limits = [0.01, 0.03];
     for (g, limit) in check.growth_inside.iter().zip(limits) {
         assert!((g - 1.0).abs() < limit, "captured side: {check:?}");
     }
+    let limits = [0.01, 0.015];
     for (g, limit) in check.growth_outside.iter().zip(limits) {
         assert!((g - 0.5).abs() < limit, "escaping side: {check:?}");
     }
