@@ -590,7 +590,9 @@ impl PathRecord {
                 self.winding_at_turn = Some(self.winding + before * sweep);
             }
             self.winding += sweep;
-            self.direction = Some((direction(new), omega));
+            // direction(new), with the polar sine and cosine computed above.
+            let (sp, cp) = sin_cos(new[3]);
+            self.direction = Some(([st * cp, st * sp, ct], omega));
         }
     }
 }
