@@ -14,7 +14,8 @@ use umbral::metrics::{Kerr, KerrNewman, ReissnerNordstrom, Schwarzschild};
 use umbral::scalar::DualScalar;
 use umbral::shadow::raytrace::{solve, solve_with, trace_curve, RaytraceOptions};
 use umbral::shadow::{
-    Observer, ShadowError, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice,
+    solve_classified, Observer, PointShadow, ShadowError, ShadowResult, ShadowSettings,
+    ShadowStatus, SolverChoice,
 };
 
 fn settings(points: usize) -> ShadowSettings {
@@ -516,6 +517,41 @@ fn raytrace_tolerance_below_its_noise_is_labelled_not_met() {
             assert!(checks.accuracy_note.unwrap().contains("refined numerics"));
         }
     }
+}
+
+/// What bounds, scans and posteriors take (`solve_classified`): a traced curve asked for
+/// 1e-11 M, below the strict rays' noise, is not known to meet its tolerance (the test
+/// above), so it is refused with the tracer's note; at 1e-8 M it is a shadow.
+#[test]
+fn classified_solve_refuses_a_curve_short_of_its_tolerance() {
+    let kerr = Kerr::new(0.9).unwrap();
+    let observer = Observer::distant(60f64.to_radians());
+    let raytrace: SolverChoice = "raytrace".parse().unwrap();
+    let classify = |tolerance: f64| {
+        let settings = ShadowSettings {
+            points: 8,
+            tolerance,
+            solver: raytrace,
+        };
+        solve_classified(&kerr, &observer, &settings, false)
+    };
+    match classify(1e-11) {
+        Err(ShadowError::NotConverged(why)) => {
+            assert!(
+                why.contains("not known to lie within the boundary tolerance")
+                    && why.contains("refined numerics"),
+                "{why}"
+            );
+        }
+        other => panic!("expected a refusal, got {other:?}"),
+    }
+    assert!(matches!(
+        classify(1e-8),
+        Ok(PointShadow::Shadow {
+            horizonless: false,
+            ..
+        })
+    ));
 }
 
 /// Issue 10, item 5: the dilaton black hole at q = 1.41421356 (q² = 2 − 1e-8) has its photon

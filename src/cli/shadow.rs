@@ -149,13 +149,7 @@ fn print_table(rep: &ShadowReport, theta_g: Option<f64>) -> Result<(), CliError>
             if scaled { uas(x) } else { String::new() }
         )
     };
-    if let Some(checks) = rep
-        .diagnostics
-        .raytrace
-        .as_ref()
-        .filter(|c| !c.tolerance_met)
-    {
-        let why = checks.accuracy_note.as_deref().unwrap_or("no estimate");
+    if let Some(why) = rep.diagnostics.tolerance_shortfall() {
         outln!("  TOLERANCE NOT MET: {why}")?;
     }
     outln!("  centre: {}", o.centre.name())?;

@@ -204,6 +204,21 @@ pub struct Diagnostics {
     pub raytrace: Option<raytrace::RaytraceChecks>,
 }
 
+impl Diagnostics {
+    /// Why the curve is not known to lie within the requested boundary tolerance (the ray
+    /// tracer's re-traced check, [`raytrace::RaytraceChecks::accuracy_note`]); `None` when it
+    /// is, and for the exact solvers.
+    pub fn tolerance_shortfall(&self) -> Option<&str> {
+        let checks = self.raytrace.as_ref().filter(|c| !c.tolerance_met)?;
+        Some(
+            checks
+                .accuracy_note
+                .as_deref()
+                .unwrap_or("no accuracy estimate"),
+        )
+    }
+}
+
 /// What a solver returns.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct ShadowResult {
@@ -275,8 +290,10 @@ pub enum PointShadow {
 /// the curve is the edge of capture). With `require_horizon`, every horizonless point is
 /// `NoHorizon` without being solved.
 ///
-/// For bounds and scans, which need the curve only: it runs [`solve_curve`], so the
-/// photon-ring exponents may be absent.
+/// For bounds, scans and posteriors, which need the curve only: it runs [`solve_curve`], so
+/// the photon-ring exponents may be absent. A curve that is not known to lie within the
+/// requested boundary tolerance ([`Diagnostics::tolerance_shortfall`]) is an error
+/// ([`ShadowError::NotConverged`]), never a value.
 ///
 /// ```
 /// use umbral::metrics::Jnw;
@@ -301,6 +318,11 @@ pub fn solve_classified(
     }
     let solver = settings.solver.resolve(spacetime)?;
     let result = solve_curve(spacetime, observer, settings)?;
+    if let Some(why) = result.diagnostics.tolerance_shortfall() {
+        return Err(ShadowError::NotConverged(format!(
+            "the curve is not known to lie within the boundary tolerance: {why}"
+        )));
+    }
     Ok(match &result.status {
         ShadowStatus::NoShadow { .. } if !horizon => PointShadow::NoHorizon,
         ShadowStatus::NoShadow { reason } => PointShadow::NoShadow {
