@@ -172,13 +172,21 @@ trait EmbeddedPair {
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
+        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64);
 }
 
-/// The weight of the error scale of component `i`: atol + rtol max(|y_i|, |y_new,i|).
+/// The error scale of component `i`: (atol + rtol max(|y_i|, |y_new,i|)) times the chart's
+/// weight of that component ([`Variables::error_weights`]).
 #[inline(always)]
-fn error_scale(settings: &IntegratorSettings, y: &PhaseState, y_new: &PhaseState, i: usize) -> f64 {
-    settings.atol + settings.rtol * y[i].abs().max(y_new[i].abs())
+fn error_scale(
+    settings: &IntegratorSettings,
+    y: &PhaseState,
+    y_new: &PhaseState,
+    weights: &PhaseState,
+    i: usize,
+) -> f64 {
+    (settings.atol + settings.rtol * y[i].abs().max(y_new[i].abs())) * weights[i]
 }
 
 /// Dormand & Prince (1980, J. Comput. Appl. Math. 6, 19), the 5(4) pair of Table 2; the
@@ -237,6 +245,7 @@ impl EmbeddedPair for DormandPrince54 {
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
+        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64) {
         let k2 = f(&combine(y, hs, &[(A21, k1)]));
         let k3 = f(&combine(y, hs, &[(A31, k1), (A32, &k2)]));
@@ -261,7 +270,7 @@ impl EmbeddedPair for DormandPrince54 {
         for &i in controlled {
             let e =
                 hs * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
-            let scale = error_scale(settings, y, &y_new, i);
+            let scale = error_scale(settings, y, &y_new, weights, i);
             err2 += (e / scale) * (e / scale);
         }
         let err = (err2 / controlled.len() as f64).sqrt();
@@ -296,6 +305,7 @@ impl EmbeddedPair for DormandPrince853 {
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
+        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64) {
         use dop853::{A, B, E3, E5, STAGES};
         // Σ_j w_j k_j over the non-zero weights, vectorised over the eight components.
@@ -326,7 +336,7 @@ impl EmbeddedPair for DormandPrince853 {
         let (e5, e3) = (weighted(&E5, &k, STAGES), weighted(&E3, &k, STAGES));
         let (mut e5_2, mut e3_2) = (0.0, 0.0);
         for &i in controlled {
-            let scale = error_scale(settings, y, &y_new, i);
+            let scale = error_scale(settings, y, &y_new, weights, i);
             e5_2 += (e5[i] / scale) * (e5[i] / scale);
             e3_2 += (e3[i] / scale) * (e3[i] / scale);
         }
@@ -350,6 +360,104 @@ pub enum ErrorNorm {
     /// saves steps where only the path in (r, θ) matters (e.g. capture versus escape), and
     /// avoids the logarithmic divergence of t and φ at a Boyer–Lindquist horizon.
     Dynamical,
+}
+
+/// The variables an integration advances ([`integrate_in_chart`]). Both give the same rays;
+/// they differ in how many steps a ray takes where.
+#[derive(Debug, Clone, Copy, Default, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Chart {
+    /// The phase state itself, in the affine parameter τ.
+    #[default]
+    Affine,
+    /// Far from the centre: u = 1/r in place of r, in the parameter σ with dτ = r² dσ (a
+    /// Sundman time transformation; Hairer, Lubich & Wanner 2006, *Geometric Numerical
+    /// Integration*, §VIII.2). A ray coming in from far away is a nearly straight line: r(τ)
+    /// has complex singularities about r away from the real axis (r² = τ² + b² in flat
+    /// space), so an explicit pair advances r by a fixed factor per step and needs a fixed
+    /// number of steps per e-fold of r. In (u, σ) the same line is u = sin(bσ)/b (the form of
+    /// Binet's orbit equation; e.g. Goldstein, *Classical Mechanics*, 3rd ed., §3.7) and the
+    /// momenta are smooth in σ on a scale 1/b, so a few steps cover the whole far leg.
+    /// The equations: du/dσ = −dr/dτ, and r² times Hamilton's right-hand side for every
+    /// other component. For rays that stay where r is bounded away from zero.
+    InverseRadius,
+}
+
+/// The integration variables z of a [`Chart`] and their right-hand side.
+trait Variables {
+    /// The phase state of z.
+    fn to_phase(z: &PhaseState) -> PhaseState;
+    /// z of a phase state.
+    fn from_phase(y: &PhaseState) -> PhaseState;
+    /// dz/d(parameter).
+    fn rhs(spacetime: &dyn Spacetime, z: &PhaseState) -> PhaseState;
+    /// Factors of the components' error scales at z.
+    fn error_weights(z: &PhaseState) -> PhaseState;
+}
+
+/// [`Chart::Affine`].
+struct AffineVariables;
+
+impl Variables for AffineVariables {
+    #[inline(always)]
+    fn to_phase(z: &PhaseState) -> PhaseState {
+        *z
+    }
+    #[inline(always)]
+    fn from_phase(y: &PhaseState) -> PhaseState {
+        *y
+    }
+    #[inline(always)]
+    fn rhs(spacetime: &dyn Spacetime, z: &PhaseState) -> PhaseState {
+        hamilton_rhs(spacetime, z)
+    }
+    #[inline(always)]
+    fn error_weights(_: &PhaseState) -> PhaseState {
+        [1.0; 8]
+    }
+}
+
+/// [`Chart::InverseRadius`].
+struct InverseRadiusVariables;
+
+impl Variables for InverseRadiusVariables {
+    #[inline(always)]
+    fn to_phase(z: &PhaseState) -> PhaseState {
+        let mut y = *z;
+        y[1] = 1.0 / z[1];
+        y
+    }
+    #[inline(always)]
+    fn from_phase(y: &PhaseState) -> PhaseState {
+        Self::to_phase(y)
+    }
+    #[inline(always)]
+    fn rhs(spacetime: &dyn Spacetime, z: &PhaseState) -> PhaseState {
+        let r = 1.0 / z[1];
+        let f = hamilton_rhs(spacetime, &Self::to_phase(z));
+        let s = r * r;
+        [
+            s * f[0],
+            -f[1],
+            s * f[2],
+            s * f[3],
+            s * f[4],
+            s * f[5],
+            s * f[6],
+            s * f[7],
+        ]
+    }
+    /// θ in units of transverse distance: an error δθ far out displaces the ray sideways by
+    /// r δθ, which changes its impact parameter by as much, so θ's scale is divided by r
+    /// (multiplied by u). The other components keep theirs: p_θ and p_r carry their own
+    /// scale (the angular and radial momentum), and an error δr along the nearly radial far
+    /// leg moves the ray along itself.
+    #[inline(always)]
+    fn error_weights(z: &PhaseState) -> PhaseState {
+        let mut w = [1.0; 8];
+        w[2] = z[1];
+        w
+    }
 }
 
 /// Integrate Hamilton's equations from `y0` in the direction of `settings.initial_step`'s
@@ -379,12 +487,37 @@ pub fn integrate_with_norm(
     norm: ErrorNorm,
     stop: impl FnMut(&PhaseState, &PhaseState, f64) -> Control,
 ) -> Result<IntegrationEnd, IntegrationFailure> {
-    match settings.pair {
-        RungeKuttaPair::DormandPrince54 => {
-            step_loop::<DormandPrince54>(spacetime, y0, tau_max, settings, norm, stop)
+    integrate_in_chart(spacetime, y0, tau_max, settings, norm, Chart::Affine, stop)
+}
+
+/// [`integrate_with_norm`] advancing the variables of `chart`. `y0`, the states passed to
+/// `stop` and the final state are phase states whatever the chart; the parameter (`tau_max`,
+/// the steps in `settings`, the τ passed to `stop`, [`IntegrationEnd::tau`]) is the chart's
+/// own (σ for [`Chart::InverseRadius`]), and so are the controlled components (u for r).
+#[inline]
+pub fn integrate_in_chart(
+    spacetime: &dyn Spacetime,
+    y0: PhaseState,
+    tau_max: f64,
+    settings: &IntegratorSettings,
+    norm: ErrorNorm,
+    chart: Chart,
+    stop: impl FnMut(&PhaseState, &PhaseState, f64) -> Control,
+) -> Result<IntegrationEnd, IntegrationFailure> {
+    use {AffineVariables as A, InverseRadiusVariables as U};
+    use {DormandPrince54 as P5, DormandPrince853 as P8};
+    match (settings.pair, chart) {
+        (RungeKuttaPair::DormandPrince54, Chart::Affine) => {
+            step_loop::<P5, A>(spacetime, y0, tau_max, settings, norm, stop)
         }
-        RungeKuttaPair::DormandPrince853 => {
-            step_loop::<DormandPrince853>(spacetime, y0, tau_max, settings, norm, stop)
+        (RungeKuttaPair::DormandPrince853, Chart::Affine) => {
+            step_loop::<P8, A>(spacetime, y0, tau_max, settings, norm, stop)
+        }
+        (RungeKuttaPair::DormandPrince54, Chart::InverseRadius) => {
+            step_loop::<P5, U>(spacetime, y0, tau_max, settings, norm, stop)
+        }
+        (RungeKuttaPair::DormandPrince853, Chart::InverseRadius) => {
+            step_loop::<P8, U>(spacetime, y0, tau_max, settings, norm, stop)
         }
     }
 }
@@ -392,7 +525,7 @@ pub fn integrate_with_norm(
 /// The adaptive step loop shared by the pairs.
 // Long: the step loop (trial, error norm, step control, the caller's stop test) shares its state and is the ray tracer's inner loop; kept whole for speed and to read as in Hairer et al.
 #[inline]
-fn step_loop<P: EmbeddedPair>(
+fn step_loop<P: EmbeddedPair, V: Variables>(
     spacetime: &dyn Spacetime,
     y0: PhaseState,
     tau_max: f64,
@@ -408,9 +541,9 @@ fn step_loop<P: EmbeddedPair>(
     };
     let direction = settings.initial_step.signum();
     let mut h = settings.initial_step.abs();
-    let mut y = y0;
+    let mut y = V::from_phase(&y0);
     let mut tau = 0.0;
-    let f = |y: &PhaseState| hamilton_rhs(spacetime, y);
+    let f = |y: &PhaseState| V::rhs(spacetime, y);
     let mut k1 = f(&y);
     let mut steps = 0;
     let mut rejected = 0;
@@ -423,7 +556,8 @@ fn step_loop<P: EmbeddedPair>(
         }
         h = h.min(settings.max_step).min(tau_max.abs() - tau);
         let hs = h * direction;
-        let (y_new, k_new, err) = P::trial(&f, &y, &k1, hs, settings, controlled);
+        let weights = V::error_weights(&y);
+        let (y_new, k_new, err) = P::trial(&f, &y, &k1, hs, settings, controlled, &weights);
         // A non-finite component outside the norm must still reject the step.
         let err = if y_new.iter().all(|x| x.is_finite()) {
             err
@@ -437,7 +571,9 @@ fn step_loop<P: EmbeddedPair>(
             h *= 0.2;
             if h < settings.min_step {
                 return Err(if y.iter().all(|x| x.is_finite()) {
-                    IntegrationFailure::StepSizeUnderflow { r: y[1] }
+                    IntegrationFailure::StepSizeUnderflow {
+                        r: V::to_phase(&y)[1],
+                    }
                 } else {
                     IntegrationFailure::NonFinite { steps }
                 });
@@ -484,7 +620,7 @@ fn step_loop<P: EmbeddedPair>(
             if !y.iter().all(|x| x.is_finite()) {
                 return Err(IntegrationFailure::NonFinite { steps });
             }
-            if stop(&y_old, &y, tau) == Control::Stop {
+            if stop(&V::to_phase(&y_old), &V::to_phase(&y), tau) == Control::Stop {
                 break;
             }
             h *= factor;
@@ -494,11 +630,13 @@ fn step_loop<P: EmbeddedPair>(
             h *= factor.min(1.0);
         }
         if h < settings.min_step {
-            return Err(IntegrationFailure::StepSizeUnderflow { r: y[1] });
+            return Err(IntegrationFailure::StepSizeUnderflow {
+                r: V::to_phase(&y)[1],
+            });
         }
     }
     Ok(IntegrationEnd {
-        state: y,
+        state: V::to_phase(&y),
         tau,
         steps,
         rejected,

@@ -61,6 +61,20 @@
 //! seeded line takes 6.6 rays to place its crossing, a scanned one 27; on a 64-angle Kerr
 //! curve (a = 0.9, 60°), whose anchors are farther apart, 8.3 and 26 (15 before the law).
 //!
+//! # Far legs in the inverse radius
+//!
+//! A ray moving inward beyond `far_radius` (50 M) is integrated in u = 1/r and the parameter
+//! σ with dτ = r² dσ ([`Chart::InverseRadius`]; a Sundman time transformation, Hairer,
+//! Lubich & Wanner 2006, *Geometric Numerical Integration*, §VIII.2). There the ray is nearly
+//! a straight line, u = sin(bσ)/b, smooth on the scale 1/b, while r(τ) needs a fixed number of
+//! steps per e-fold of r: on a straight line from 3e4 M to 50 M it takes 3 steps instead of
+//! 32, and ends closer to the line (`tests/far_chart.rs`: θ's error is weighed in units of
+//! transverse distance, r δθ). A far step that
+//! enters the near region ends at r ≥ R/2, and its frame-dragging rotation for the winding is
+//! the integral of ω ∝ r⁻ᵏ between its ends. Outgoing legs keep the affine chart (u would
+//! reach zero, r = ∞, at finite σ). The refined re-tracing of the checks never uses the far
+//! chart, so every curve's accuracy estimate compares it with the affine one.
+//!
 //! # Early end: a radial turning point decides escape
 //!
 //! For a distant observer of a metric declared separable or spherically symmetric, a ray
@@ -158,7 +172,7 @@ use super::{
     ShadowStatus,
 };
 use crate::geodesic::{
-    hamilton_rhs, integrate_with_norm, null_radial_momentum, Control, ErrorNorm,
+    hamilton_rhs, integrate_in_chart, null_radial_momentum, Chart, Control, ErrorNorm,
     IntegrationFailure, IntegratorSettings, PhaseState, RungeKuttaPair,
 };
 use crate::metric::{Spacetime, Symmetry};
@@ -209,6 +223,12 @@ pub struct RaytraceOptions {
     pub relaxed_radius: f64,
     /// Relative tolerance on outgoing rays beyond `relaxed_radius`.
     pub relaxed_rtol: f64,
+    /// Beyond this radius (in M) a ray moving inward is integrated in u = 1/r and the
+    /// parameter σ with dτ = r² dσ ([`Chart::InverseRadius`]), where the nearly straight
+    /// incoming leg takes a few steps instead of a fixed number per e-fold of r. The refined re-tracing of the checks
+    /// never uses it (its `far_radius` is infinite), so every curve's accuracy estimate
+    /// compares the two. Infinite: never.
+    pub far_radius: f64,
     /// Relative tolerance of the pre-scan and of the first bisection stage, which stops at a
     /// bracket of width `coarse_width` (in M); the bracket widened by `coarse_width` on both
     /// sides is then confirmed with the strict tolerance before the final bisection.
@@ -277,6 +297,7 @@ impl Default for RaytraceOptions {
             anchor_every: 4,
             relaxed_radius: 25.0,
             relaxed_rtol: 1.0e-7,
+            far_radius: 50.0,
             coarse_rtol: 1.0e-7,
             coarse_width: 3.0e-5,
             domain_edge: 1.0e-6,
@@ -301,6 +322,15 @@ impl Default for RaytraceOptions {
             },
         }
     }
+}
+
+/// How a ray is integrated on one leg ([`Tracer::trace_ray_with`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+struct Phase {
+    /// Strict relative tolerance (else `relaxed_rtol`).
+    strict: bool,
+    /// In the far chart ([`Chart::InverseRadius`]).
+    far: bool,
 }
 
 /// Why a single ray has no fate.
@@ -554,8 +584,8 @@ impl PathRecord {
     }
 
     /// Record an accepted step; `omega` is the frame-dragging rate at `new` (used only when
-    /// the winding is measured).
-    fn step(&mut self, old: &PhaseState, new: &PhaseState, omega: f64) {
+    /// the winding is measured), and `far` says the step was taken in the far chart.
+    fn step(&mut self, old: &PhaseState, new: &PhaseState, omega: f64, far: bool) {
         self.steps += 1;
         self.min_radius = self.min_radius.min(new[1]);
         self.last = *new;
@@ -565,7 +595,7 @@ impl PathRecord {
         if let Some((previous, previous_omega)) = self.direction {
             // The direction relative to the locally non-rotating frames: rotated back about
             // the axis by the mean ω times the step in t.
-            let turn = -0.5 * (omega + previous_omega) * (new[0] - old[0]);
+            let turn = -frame_rotation(old, new, previous_omega, omega, far);
             let (st, ct) = sin_cos(new[2]);
             let (sp, cp) = sin_cos(new[3] + turn);
             let current = [st * cp, st * sp, ct];
@@ -597,6 +627,32 @@ impl PathRecord {
     }
 }
 
+/// ∫ω dt over an accepted step from `old` to `new`, with ω = `omega_old`, `omega_new` at its
+/// ends: the trapezoidal rule, except on a step of the far chart (`far`). Such a step spans
+/// a range of r over which ω changes by orders of magnitude (ω = 2J/r³ + O(r⁻⁴) for an
+/// asymptotically flat metric; Bardeen, Press & Teukolsky 1972), where the trapezoid would
+/// be wrong by more than the whole rotation. There ω ∝ r⁻ᵏ is taken between the ends (k from
+/// their ratio; exact for the asymptotic law), and t linear in r across the step (it moves
+/// inward monotonically there): ∫ω dt = (Δt/Δr) (ω_old r_old − ω_new r_new)/(k − 1).
+fn frame_rotation(
+    old: &PhaseState,
+    new: &PhaseState,
+    omega_old: f64,
+    omega_new: f64,
+    far: bool,
+) -> f64 {
+    let trapezoid = 0.5 * (omega_old + omega_new) * (new[0] - old[0]);
+    if !far || omega_old * omega_new <= 0.0 || new[1] == old[1] {
+        return trapezoid;
+    }
+    let k = (omega_new / omega_old).ln() / (old[1] / new[1]).ln();
+    if !k.is_finite() || (k - 1.0).abs() < 1e-3 {
+        return trapezoid;
+    }
+    let over_r = (omega_old * old[1] - omega_new * new[1]) / (k - 1.0);
+    (new[0] - old[0]) / (new[1] - old[1]) * over_r
+}
+
 /// Whether the metric is a regular Lorentzian metric at (r, θ): finite components,
 /// g_rr, g_θθ > 0 and a (t, φ) block of negative determinant.
 fn regular_at(spacetime: &dyn Spacetime, r: f64, theta: f64) -> bool {
@@ -616,7 +672,7 @@ fn direction(y: &PhaseState) -> [f64; 3] {
 
 /// Refuse options the tracer cannot use: a start radius below 100 M, non-positive lengths,
 /// widths and tolerances, a validation start radius inside the start radius, too few scan
-/// samples or correction nodes, a non-finite screen offset.
+/// samples or correction nodes, a far radius below 10 M, a non-finite screen offset.
 fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
     let d = options.start_radius;
     if !(d.is_finite() && d >= 100.0) {
@@ -651,6 +707,14 @@ fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
              samples and correction nodes at least 2, the anchor spacing at least 1"
                 .into(),
         ));
+    }
+    // The far chart's step bound assumes |dr/dτ| ≤ 1, as far out in any asymptotically flat
+    // metric (E = 1); infinite turns the chart off.
+    if !(options.far_radius >= 10.0) {
+        return Err(ShadowError::BadRequest(format!(
+            "the far radius must be at least 10 M (or infinite), got {}",
+            options.far_radius
+        )));
     }
     if !options.screen_offset.iter().all(|x| x.is_finite()) {
         return Err(ShadowError::BadRequest(format!(
@@ -749,6 +813,7 @@ impl<'a> Tracer<'a> {
         let refined = RaytraceOptions {
             start_radius: o.validation_start_radius,
             capture_margin: o.validation_capture_margin,
+            far_radius: f64::INFINITY,
             integrator: IntegratorSettings {
                 rtol: o.validation_rtol,
                 ..o.integrator
@@ -952,41 +1017,61 @@ impl<'a> Tracer<'a> {
             ..strict_settings
         };
         let mut y = y0;
-        let mut strict = true;
+        // Strict from the start; in the far chart if moving inward (g^rr > 0 there, so
+        // dr/dτ has the sign of p_r).
+        let mut phase = Phase {
+            strict: true,
+            far: self.phase_after(&y0, y0[5] > 0.0).far,
+        };
         let mut path = PathRecord::new(&y0, measure, self.winding_radius, early);
-        // Phases: strict error control, except while moving outward beyond the relaxed radius
-        // (then only the escape is left to detect); the ray returns to strict control as soon
-        // as it turns inward again.
+        // Phases ([`Phase`]): strict error control, except while moving outward beyond the
+        // relaxed radius (then only the escape is left to detect), and the far chart beyond
+        // the far radius; the ray returns to strict control as soon as it turns inward again.
         let fate = loop {
-            let base = if strict {
+            let base = if phase.strict {
                 &strict_settings
             } else {
                 &relaxed_settings
             };
             let first_step = 0.01 * (y[1] - capture).abs().max(0.1);
+            // dσ = dτ/r² in the far chart.
+            // In the far chart, no step longer than 1/R in σ: u grows by at most
+            // |dr/dτ| Δσ ≤ 1/R (|dr/dτ| ≤ 1 for E = 1 far out), so a step that enters the
+            // near region ends at r ≥ R/2. The far leg spans Δσ = ψ/b ≈ 1/R from far away
+            // (the angle ψ = b/R it sweeps, over b), so the first trial step is a tenth of
+            // that; the τ-chart's first step (1 % of r), in σ = τ/r², would need a dozen
+            // steps of growth to get there.
+            let (chart, first_step, max_step) = if phase.far {
+                let cap = 1.0 / self.options.far_radius;
+                (Chart::InverseRadius, 0.1 * cap, base.max_step.min(cap))
+            } else {
+                (Chart::Affine, first_step, base.max_step)
+            };
             let settings = IntegratorSettings {
                 initial_step: -first_step,
+                max_step,
                 max_steps: base.max_steps.saturating_sub(path.steps).max(1),
                 ..*base
             };
             let mut event = None;
-            let end = integrate_with_norm(
+            let end = integrate_in_chart(
                 self.spacetime,
                 y,
                 f64::INFINITY,
                 &settings,
                 ErrorNorm::Dynamical,
+                chart,
                 |old, new, _| {
                     let omega = if path.measuring() {
                         self.frame_dragging(new)
                     } else {
                         0.0
                     };
-                    path.step(old, new, omega);
+                    path.step(old, new, omega, phase.far);
                     event = if early && path.turned {
                         Some(Some(RayFate::Escaped))
                     } else {
-                        self.step_event(old, new, strict)
+                        self.step_event(old, new, phase)
                     };
                     if event.is_some() {
                         Control::Stop
@@ -1003,7 +1088,7 @@ impl<'a> Tracer<'a> {
                 (Ok(_), Some(Some(fate))) => break fate,
                 (Ok(end), Some(None)) => {
                     y = end.state;
-                    strict = !strict;
+                    phase = self.phase_after(&path.last, !path.inward);
                     if path.steps >= strict_settings.max_steps {
                         break RayFate::Failed(RayFailure::Integration(
                             IntegrationFailure::TooManySteps { steps: path.steps },
@@ -1038,7 +1123,7 @@ impl<'a> Tracer<'a> {
         &self,
         old: &PhaseState,
         new: &PhaseState,
-        strict: bool,
+        phase: Phase,
     ) -> Option<Option<RayFate>> {
         let outward = new[1] > old[1];
         let small_inward_step = !outward && old[1] - new[1] < self.options.domain_edge * new[1];
@@ -1049,10 +1134,20 @@ impl<'a> Tracer<'a> {
         } else if self.horizonless && small_inward_step && self.at_domain_edge(new) {
             // Small inward steps: the domain edge may be near.
             Some(Some(RayFate::Captured))
-        } else if strict == (new[1] > self.options.relaxed_radius && outward) {
+        } else if phase != self.phase_after(new, outward) {
             Some(None)
         } else {
             None
+        }
+    }
+
+    /// The phase a ray at `y` moving outward or not belongs in. The far chart is for inward
+    /// legs only: outward, u = 1/r falls to zero at finite σ (r = ∞), and a step that passed
+    /// it would leave the escape radius behind by an arbitrary angle.
+    fn phase_after(&self, y: &PhaseState, outward: bool) -> Phase {
+        Phase {
+            strict: !(outward && y[1] > self.options.relaxed_radius),
+            far: !outward && y[1] > self.options.far_radius,
         }
     }
 

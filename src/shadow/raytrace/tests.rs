@@ -248,3 +248,64 @@ fn the_winding_check_takes_the_refinements_rays_and_finds_schwarzschilds_growth(
         assert!((g - 0.5).abs() < limit, "escaping side: {check:?}");
     }
 }
+
+#[test]
+fn a_far_step_rotates_by_the_integral_of_the_asymptotic_frame_dragging() {
+    // ω = 2J/r³ far out (Bardeen, Press & Teukolsky 1972), and t linear in r along the step:
+    // ∫ω dt = (Δt/Δr) J (r_old⁻² − r_new⁻²) exactly; the trapezoid over a far step from
+    // 3e4 M to 30 M is off by orders of magnitude, which is why far steps use the power law.
+    let j = 0.45;
+    let omega = |r: f64| 2.0 * j / r.powi(3);
+    let mut old = [0.0f64; 8];
+    let mut new = [0.0f64; 8];
+    (old[0], old[1]) = (100.0, 3.0e4);
+    (new[0], new[1]) = (100.0 + 1.02 * (3.0e4 - 30.0), 30.0);
+    let exact = -1.02 * j * (old[1].powi(-2) - new[1].powi(-2));
+    let far = frame_rotation(&old, &new, omega(old[1]), omega(new[1]), true);
+    assert!((far / exact - 1.0).abs() < 1e-12, "{far} against {exact}");
+    let trapezoid = frame_rotation(&old, &new, omega(old[1]), omega(new[1]), false);
+    assert!(
+        (trapezoid / exact).abs() > 100.0,
+        "{trapezoid} against {exact}"
+    );
+    // A near step keeps the trapezoid, and ω = 0 (no rotation) gives none either way.
+    assert_eq!(frame_rotation(&old, &new, 0.0, 0.0, true), 0.0);
+}
+
+#[test]
+fn a_far_radius_below_ten_m_is_refused_and_infinity_turns_the_far_chart_off() {
+    let observer = Observer::distant(1.0);
+    for (far_radius, ok) in [
+        (5.0, false),
+        (f64::NAN, false),
+        (10.0, true),
+        (f64::INFINITY, true),
+    ] {
+        let options = RaytraceOptions {
+            far_radius,
+            ..Default::default()
+        };
+        let built = Tracer::new(&Schwarzschild, &observer, &options);
+        assert_eq!(built.is_ok(), ok, "far radius {far_radius}");
+        if let Err(e) = built {
+            assert!(e.to_string().contains("far radius"), "{e}");
+        }
+    }
+    // Off: a ray takes the affine chart throughout, and classifies as with it on.
+    let off = RaytraceOptions {
+        far_radius: f64::INFINITY,
+        ..Default::default()
+    };
+    let tracer_off = Tracer::new(&Schwarzschild, &observer, &off).unwrap();
+    let tracer_on = Tracer::new(&Schwarzschild, &observer, &RaytraceOptions::default()).unwrap();
+    for b in [5.0, 5.4] {
+        let (a, c) = (tracer_off.trace(b, 0.0), tracer_on.trace(b, 0.0));
+        assert_eq!(a.fate, c.fate, "b = {b}");
+        assert!(
+            c.steps < a.steps,
+            "b = {b}: {} against {} steps",
+            c.steps,
+            a.steps
+        );
+    }
+}
