@@ -710,7 +710,7 @@ fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
     }
     // The far chart's step bound assumes |dr/dτ| ≤ 1, as far out in any asymptotically flat
     // metric (E = 1); infinite turns the chart off.
-    if !(options.far_radius >= 10.0) {
+    if options.far_radius.is_nan() || options.far_radius < 10.0 {
         return Err(ShadowError::BadRequest(format!(
             "the far radius must be at least 10 M (or infinite), got {}",
             options.far_radius
