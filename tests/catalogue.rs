@@ -195,6 +195,22 @@ fn horizons_of_the_spherical_catalogue() {
     // Johannsen–Psaltis at a = 0: Δ = 0 at r = 2 whatever ε3.
     let jp = JohannsenPsaltis::new(0.0, 2.0).unwrap();
     assert!((horizon(&jp).unwrap() - 2.0).abs() < 1e-12);
+    // For a ≠ 0 the surface Δ + a² h sin²θ = 0 depends on θ. With ε3 > 0 (h > 0) it lies
+    // inside the Kerr radius except on the axis, where sin θ = 0 leaves Δ = 0: the outermost
+    // point is the pole, r = 1 + √(1 − a²) (derived here from the g_rr of Johannsen &
+    // Psaltis 2011). A θ grid that skipped the pole reported 2e-5 M less, and rays near the
+    // axis met the horizon before the capture radius.
+    for (a, eps3) in [(0.7, 0.5), (0.9, 0.2), (0.3, 2.0)] {
+        let jp = JohannsenPsaltis::new(a, eps3).unwrap();
+        let kerr = 1.0 + (1.0f64 - a * a).sqrt();
+        assert!(
+            (horizon(&jp).unwrap() - kerr).abs() < 1e-12,
+            "a = {a}, eps3 = {eps3}"
+        );
+    }
+    // With ε3 < 0 the equator's root is the outermost, beyond the Kerr radius.
+    let jp = JohannsenPsaltis::new(0.7, -1.0).unwrap();
+    assert!(horizon(&jp).unwrap() > 1.0 + 0.51f64.sqrt() + 1e-3);
 }
 
 #[test]

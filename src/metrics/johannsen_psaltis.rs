@@ -39,11 +39,12 @@ impl JohannsenPsaltis {
     }
 
     /// The equatorial horizon from the default finder, then the largest root of
-    /// Δ + a² h sin²θ over a grid of θ, each refined by Brent's method.
+    /// Δ + a² h sin²θ over a grid of θ from the pole (where it is the Kerr radius
+    /// 1 + √(1 − a²), the largest for ε3 > 0) to the equator, each refined by Brent's method.
     fn outer_horizon_over_theta(&self) -> Option<f64> {
         let equatorial = numerical_outer_horizon(self)?;
         let mut outer = equatorial;
-        for k in 1..=32 {
+        for k in 0..=32 {
             let theta = std::f64::consts::FRAC_PI_2 * k as f64 / 32.0;
             let f = |r: f64| self.horizon_function(r, theta);
             let hi = 4.0 * equatorial.max(2.0);
