@@ -144,7 +144,7 @@ pub enum Control {
 pub struct IntegrationEnd {
     /// The final state.
     pub state: PhaseState,
-    /// The affine parameter reached.
+    /// The parameter reached: the affine parameter, or σ in [`Chart::InverseRadius`].
     pub tau: f64,
     /// Accepted steps.
     pub steps: usize,
@@ -165,14 +165,13 @@ trait EmbeddedPair {
     /// derivative there when the pair needs it for its error estimate (first same as last;
     /// else the loop evaluates it once the step is accepted), and the error norm
     /// (≤ 1 accepts) over the `controlled` components.
-    fn trial(
+    fn trial<V: Variables>(
         f: &impl Fn(&PhaseState) -> PhaseState,
         y: &PhaseState,
         k1: &PhaseState,
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
-        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64);
 }
 
@@ -238,14 +237,13 @@ impl EmbeddedPair for DormandPrince54 {
     const ERROR_EXPONENT: f64 = -0.2;
 
     #[inline(always)]
-    fn trial(
+    fn trial<V: Variables>(
         f: &impl Fn(&PhaseState) -> PhaseState,
         y: &PhaseState,
         k1: &PhaseState,
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
-        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64) {
         let k2 = f(&combine(y, hs, &[(A21, k1)]));
         let k3 = f(&combine(y, hs, &[(A31, k1), (A32, &k2)]));
@@ -267,10 +265,11 @@ impl EmbeddedPair for DormandPrince54 {
         );
         let k7 = f(&y_new);
         let mut err2 = 0.0;
+        let weights = V::error_weights(y, &y_new);
         for &i in controlled {
             let e =
                 hs * (E1 * k1[i] + E3 * k3[i] + E4 * k4[i] + E5 * k5[i] + E6 * k6[i] + E7 * k7[i]);
-            let scale = error_scale(settings, y, &y_new, weights, i);
+            let scale = error_scale(settings, y, &y_new, &weights, i);
             err2 += (e / scale) * (e / scale);
         }
         let err = (err2 / controlled.len() as f64).sqrt();
@@ -298,14 +297,13 @@ impl EmbeddedPair for DormandPrince853 {
     }
 
     #[inline(always)]
-    fn trial(
+    fn trial<V: Variables>(
         f: &impl Fn(&PhaseState) -> PhaseState,
         y: &PhaseState,
         k1: &PhaseState,
         hs: f64,
         settings: &IntegratorSettings,
         controlled: &[usize],
-        weights: &PhaseState,
     ) -> (PhaseState, Option<PhaseState>, f64) {
         use dop853::{A, B, E3, E5, STAGES};
         // Σ_j w_j k_j over the non-zero weights, vectorised over the eight components.
@@ -335,8 +333,9 @@ impl EmbeddedPair for DormandPrince853 {
         let y_new = advance(&weighted(&B, &k, STAGES));
         let (e5, e3) = (weighted(&E5, &k, STAGES), weighted(&E3, &k, STAGES));
         let (mut e5_2, mut e3_2) = (0.0, 0.0);
+        let weights = V::error_weights(y, &y_new);
         for &i in controlled {
-            let scale = error_scale(settings, y, &y_new, weights, i);
+            let scale = error_scale(settings, y, &y_new, &weights, i);
             e5_2 += (e5[i] / scale) * (e5[i] / scale);
             e3_2 += (e3[i] / scale) * (e3[i] / scale);
         }
@@ -391,8 +390,10 @@ trait Variables {
     fn from_phase(y: &PhaseState) -> PhaseState;
     /// dz/d(parameter).
     fn rhs(spacetime: &dyn Spacetime, z: &PhaseState) -> PhaseState;
-    /// Factors of the components' error scales at z.
-    fn error_weights(z: &PhaseState) -> PhaseState;
+    /// Factors of the components' error scales over a trial step from z to z_new.
+    fn error_weights(z: &PhaseState, z_new: &PhaseState) -> PhaseState;
+    /// Whether a trial step may end at z (else it is shrunk, like a non-finite one).
+    fn admissible(z: &PhaseState) -> bool;
 }
 
 /// [`Chart::Affine`].
@@ -412,8 +413,12 @@ impl Variables for AffineVariables {
         hamilton_rhs(spacetime, z)
     }
     #[inline(always)]
-    fn error_weights(_: &PhaseState) -> PhaseState {
+    fn error_weights(_: &PhaseState, _: &PhaseState) -> PhaseState {
         [1.0; 8]
+    }
+    #[inline(always)]
+    fn admissible(_: &PhaseState) -> bool {
+        true
     }
 }
 
@@ -449,14 +454,20 @@ impl Variables for InverseRadiusVariables {
     }
     /// θ in units of transverse distance: an error δθ far out displaces the ray sideways by
     /// r δθ, which changes its impact parameter by as much, so θ's scale is divided by r
-    /// (multiplied by u). The other components keep theirs: p_θ and p_r carry their own
-    /// scale (the angular and radial momentum), and an error δr along the nearly radial far
-    /// leg moves the ray along itself.
+    /// (multiplied by the larger u of the step's ends). The other components keep theirs:
+    /// p_θ and p_r carry their own scale (the angular and radial momentum), and an error δr
+    /// along the nearly radial far leg moves the ray along itself (at fixed momenta its
+    /// angular momentum does not depend on r), so u's scale is set by atol.
     #[inline(always)]
-    fn error_weights(z: &PhaseState) -> PhaseState {
+    fn error_weights(z: &PhaseState, z_new: &PhaseState) -> PhaseState {
         let mut w = [1.0; 8];
-        w[2] = z[1];
+        w[2] = z[1].abs().max(z_new[1].abs());
         w
+    }
+    /// u > 0: a step to u ≤ 0 would pass r = ∞ (or r = 0).
+    #[inline(always)]
+    fn admissible(z: &PhaseState) -> bool {
+        z[1] > 0.0
     }
 }
 
@@ -556,10 +567,10 @@ fn step_loop<P: EmbeddedPair, V: Variables>(
         }
         h = h.min(settings.max_step).min(tau_max.abs() - tau);
         let hs = h * direction;
-        let weights = V::error_weights(&y);
-        let (y_new, k_new, err) = P::trial(&f, &y, &k1, hs, settings, controlled, &weights);
-        // A non-finite component outside the norm must still reject the step.
-        let err = if y_new.iter().all(|x| x.is_finite()) {
+        let (y_new, k_new, err) = P::trial::<V>(&f, &y, &k1, hs, settings, controlled);
+        // A non-finite component outside the norm, or a state outside the chart, must still
+        // reject the step.
+        let err = if y_new.iter().all(|x| x.is_finite()) && V::admissible(&y_new) {
             err
         } else {
             f64::NAN

@@ -32,7 +32,7 @@ import mpmath as mp
 mp.mp.dps = 40
 CHECK_RELATIVE = 1e-12
 START_RADIUS = mp.mpf(30000)
-IMPACT_PARAMETERS = ["5.3", "5.5", "6", "8", "12", "30"]
+IMPACT_PARAMETERS = ["5.3", "5.5", "6", "8", "12", "30", "80"]
 
 
 def swept_angle(b):

@@ -147,7 +147,8 @@ impl From<ImageError> for CalibrateError {
     }
 }
 
-/// The critical curve's mean radius about its area centroid and the solver's name.
+/// The critical curve's mean radius about its area centroid and the solver's name; an error
+/// for a curve that is not known to meet its boundary tolerance.
 pub fn critical_mean_radius(
     spacetime: &dyn Spacetime,
     observer: &Observer,
@@ -158,6 +159,11 @@ pub fn critical_mean_radius(
     }
     .curve_only();
     let s = shadow(spacetime, &request).map_err(|e| e.to_string())?;
+    if let Some(why) = s.result.diagnostics.tolerance_shortfall() {
+        return Err(format!(
+            "the critical curve is not known to lie within the boundary tolerance: {why}"
+        ));
+    }
     let solver = s.result.solver.to_string();
     let o = s.observables.map_err(|e| e.to_string())?;
     Ok((o.mean_radius, solver))

@@ -67,11 +67,11 @@
 //! σ with dτ = r² dσ ([`Chart::InverseRadius`]; a Sundman time transformation, Hairer,
 //! Lubich & Wanner 2006, *Geometric Numerical Integration*, §VIII.2). There the ray is nearly
 //! a straight line, u = sin(bσ)/b, smooth on the scale 1/b, while r(τ) needs a fixed number of
-//! steps per e-fold of r: on a straight line from 3e4 M to 50 M it takes 3 steps instead of
-//! 32, and ends closer to the line (`tests/far_chart.rs`: θ's error is weighed in units of
-//! transverse distance, r δθ). A far step that
-//! enters the near region ends at r ≥ R/2, and its frame-dragging rotation for the winding is
-//! the integral of ω ∝ r⁻ᵏ between its ends. Outgoing legs keep the affine chart (u would
+//! steps per e-fold of r: on a straight line from 3e4 M to 50 M the bare integrator takes 3
+//! steps instead of 32, and ends closer to the line (`tests/far_chart.rs`: θ's error is
+//! weighed in units of transverse distance, r δθ). The tracer caps a far step at 1/R in σ, so
+//! one that enters the near region ends at about r ≥ R/2, and a far step's frame-dragging
+//! rotation for the winding is the integral of ω ∝ r⁻ᵏ between its ends. Outgoing legs keep the affine chart (u would
 //! reach zero, r = ∞, at finite σ). The refined re-tracing of the checks never uses the far
 //! chart, so every curve's accuracy estimate compares it with the affine one.
 //!
@@ -225,9 +225,10 @@ pub struct RaytraceOptions {
     pub relaxed_rtol: f64,
     /// Beyond this radius (in M) a ray moving inward is integrated in u = 1/r and the
     /// parameter σ with dτ = r² dσ ([`Chart::InverseRadius`]), where the nearly straight
-    /// incoming leg takes a few steps instead of a fixed number per e-fold of r. The refined re-tracing of the checks
-    /// never uses it (its `far_radius` is infinite), so every curve's accuracy estimate
-    /// compares the two. Infinite: never.
+    /// incoming leg takes a few steps instead of a fixed number per e-fold of r (the
+    /// integrator's step limits are then in σ). The refined re-tracing of the checks never
+    /// uses it (its `far_radius` is infinite), so every curve's accuracy estimate compares
+    /// the two. Infinite: never.
     pub far_radius: f64,
     /// Relative tolerance of the pre-scan and of the first bisection stage, which stops at a
     /// bracket of width `coarse_width` (in M); the bracket widened by `coarse_width` on both
@@ -281,7 +282,10 @@ pub struct RaytraceOptions {
     /// G = c = M = E = 1, so atol = rtol there asks for the same accuracy as elsewhere along
     /// the ray; an atol far below rtol (1e-12 before) asked for a hundred times more on the
     /// few steps around every sign change. Measured on a Kerr curve: 12 % fewer steps with the
-    /// default 1e-10, and its agreement with the separable solver unchanged within 1e-9 M.
+    /// default 1e-10, and its agreement with the separable solver unchanged within 1e-9 M. In
+    /// the far chart ([`RaytraceOptions::far_radius`]) atol alone sets the scale of u = 1/r
+    /// (at most 0.02 there): an error in r along the nearly radial far leg moves the ray
+    /// along itself, and θ's scale is weighed by u.
     pub integrator: IntegratorSettings,
 }
 
@@ -632,8 +636,9 @@ impl PathRecord {
 /// a range of r over which ω changes by orders of magnitude (ω = 2J/r³ + O(r⁻⁴) for an
 /// asymptotically flat metric; Bardeen, Press & Teukolsky 1972), where the trapezoid would
 /// be wrong by more than the whole rotation. There ω ∝ r⁻ᵏ is taken between the ends (k from
-/// their ratio; exact for the asymptotic law), and t linear in r across the step (it moves
-/// inward monotonically there): ∫ω dt = (Δt/Δr) (ω_old r_old − ω_new r_new)/(k − 1).
+/// their ratio; exact for the asymptotic law), and t linear in r across the step:
+/// ∫ω dt = (Δt/Δr) (ω_old r_old − ω_new r_new)/(k − 1). A far step that passes a radial
+/// turning point (t is then not a function of r) keeps the trapezoid.
 fn frame_rotation(
     old: &PhaseState,
     new: &PhaseState,
@@ -642,14 +647,22 @@ fn frame_rotation(
     far: bool,
 ) -> f64 {
     let trapezoid = 0.5 * (omega_old + omega_new) * (new[0] - old[0]);
-    if !far || omega_old * omega_new <= 0.0 || new[1] == old[1] {
+    // Only a step that moves inward without a radial turning point has t monotone in r.
+    let monotone = new[1] < old[1] && old[5] * new[5] > 0.0;
+    if !far || !monotone || omega_old * omega_new <= 0.0 {
         return trapezoid;
     }
-    let k = (omega_new / omega_old).ln() / (old[1] / new[1]).ln();
-    if !k.is_finite() || (k - 1.0).abs() < 1e-3 {
+    let log_ratio = (old[1] / new[1]).ln();
+    let k = (omega_new / omega_old).ln() / log_ratio;
+    if !k.is_finite() {
         return trapezoid;
     }
-    let over_r = (omega_old * old[1] - omega_new * new[1]) / (k - 1.0);
+    // ∫ω dr from r_old to r_new; its limit at k = 1 is −ω_old r_old ln(r_old/r_new).
+    let over_r = if (k - 1.0).abs() < 1e-6 {
+        -omega_old * old[1] * log_ratio
+    } else {
+        (omega_old * old[1] - omega_new * new[1]) / (k - 1.0)
+    };
     (new[0] - old[0]) / (new[1] - old[1]) * over_r
 }
 
@@ -1017,11 +1030,12 @@ impl<'a> Tracer<'a> {
             ..strict_settings
         };
         let mut y = y0;
-        // Strict from the start; in the far chart if moving inward (g^rr > 0 there, so
-        // dr/dτ has the sign of p_r).
+        // Strict from the start; in the far chart if moving inward. The ray is traced
+        // backward (negative steps) and g^rr > 0 there, so r grows along the integration
+        // where p_r < 0.
         let mut phase = Phase {
             strict: true,
-            far: self.phase_after(&y0, y0[5] > 0.0).far,
+            far: self.phase_after(&y0, y0[5] < 0.0).far,
         };
         let mut path = PathRecord::new(&y0, measure, self.winding_radius, early);
         // Phases ([`Phase`]): strict error control, except while moving outward beyond the
@@ -1034,13 +1048,12 @@ impl<'a> Tracer<'a> {
                 &relaxed_settings
             };
             let first_step = 0.01 * (y[1] - capture).abs().max(0.1);
-            // dσ = dτ/r² in the far chart.
-            // In the far chart, no step longer than 1/R in σ: u grows by at most
-            // |dr/dτ| Δσ ≤ 1/R (|dr/dτ| ≤ 1 for E = 1 far out), so a step that enters the
-            // near region ends at r ≥ R/2. The far leg spans Δσ = ψ/b ≈ 1/R from far away
-            // (the angle ψ = b/R it sweeps, over b), so the first trial step is a tenth of
-            // that; the τ-chart's first step (1 % of r), in σ = τ/r², would need a dozen
-            // steps of growth to get there.
+            // In the far chart (dσ = dτ/r²; the step limits are in σ there), no step longer
+            // than 1/R in σ: u grows by at most |dr/dτ| Δσ ≤ (1 + O(M/R))/R (|dr/dτ| ≤ 1
+            // for E = 1 in flat space), so a step that enters the near region ends at about
+            // r ≥ R/2. The far leg spans Δσ = ψ/b ≈ 1/R from far away (the angle ψ = b/R
+            // it sweeps, over b), so the first trial step is a tenth of that; the τ-chart's
+            // first step (1 % of r), in σ = τ/r², would need a dozen steps of growth.
             let (chart, first_step, max_step) = if phase.far {
                 let cap = 1.0 / self.options.far_radius;
                 (Chart::InverseRadius, 0.1 * cap, base.max_step.min(cap))
@@ -1054,6 +1067,7 @@ impl<'a> Tracer<'a> {
                 ..*base
             };
             let mut event = None;
+            let mut next = phase;
             let end = integrate_in_chart(
                 self.spacetime,
                 y,
@@ -1068,6 +1082,7 @@ impl<'a> Tracer<'a> {
                         0.0
                     };
                     path.step(old, new, omega, phase.far);
+                    next = self.phase_after(new, new[1] > old[1]);
                     event = if early && path.turned {
                         Some(Some(RayFate::Escaped))
                     } else {
@@ -1088,7 +1103,7 @@ impl<'a> Tracer<'a> {
                 (Ok(_), Some(Some(fate))) => break fate,
                 (Ok(end), Some(None)) => {
                     y = end.state;
-                    phase = self.phase_after(&path.last, !path.inward);
+                    phase = next;
                     if path.steps >= strict_settings.max_steps {
                         break RayFate::Failed(RayFailure::Integration(
                             IntegrationFailure::TooManySteps { steps: path.steps },

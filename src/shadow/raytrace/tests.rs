@@ -150,7 +150,8 @@ fn the_winding_of_a_ray_ending_at_its_turning_point_is_the_angle_swept_to_it() {
     // The Mathematical Theory of Black Holes, ch. 3), computed with mpmath by
     // tests/generate_turning_windings.py. The step that passes the turning point counts only
     // up to it, so the winding does not depend on where the steps fall: the whole step would
-    // add up to a step's sweep.
+    // add up to a step's sweep. The ray of b = 80 turns beyond the far radius (50 M), inside
+    // the far chart.
     let table: serde_json::Value =
         serde_json::from_str(include_str!("../../../tests/data/turning_windings.json")).unwrap();
     assert_eq!(
@@ -258,8 +259,8 @@ fn a_far_step_rotates_by_the_integral_of_the_asymptotic_frame_dragging() {
     let omega = |r: f64| 2.0 * j / r.powi(3);
     let mut old = [0.0f64; 8];
     let mut new = [0.0f64; 8];
-    (old[0], old[1]) = (100.0, 3.0e4);
-    (new[0], new[1]) = (100.0 + 1.02 * (3.0e4 - 30.0), 30.0);
+    (old[0], old[1], old[5]) = (100.0, 3.0e4, 1.0);
+    (new[0], new[1], new[5]) = (100.0 + 1.02 * (3.0e4 - 30.0), 30.0, 1.0);
     let exact = -1.02 * j * (old[1].powi(-2) - new[1].powi(-2));
     let far = frame_rotation(&old, &new, omega(old[1]), omega(new[1]), true);
     assert!((far / exact - 1.0).abs() < 1e-12, "{far} against {exact}");
@@ -268,8 +269,17 @@ fn a_far_step_rotates_by_the_integral_of_the_asymptotic_frame_dragging() {
         (trapezoid / exact).abs() > 100.0,
         "{trapezoid} against {exact}"
     );
-    // A near step keeps the trapezoid, and ω = 0 (no rotation) gives none either way.
+    // ω = 0 (no rotation) gives none.
     assert_eq!(frame_rotation(&old, &new, 0.0, 0.0, true), 0.0);
+    // ω ∝ 1/r (k = 1): ∫ω dt = (Δt/Δr) C ln(r_new/r_old), the limit of the power law.
+    let c = 1e-3;
+    let exact = -1.02 * c * (new[1] / old[1]).ln();
+    let far = frame_rotation(&old, &new, c / old[1], c / new[1], true);
+    assert!((far / exact - 1.0).abs() < 1e-12, "{far} against {exact}");
+    // A far step that passes a radial turning point (p_r changes sign) keeps the trapezoid.
+    (old[5], new[5]) = (1.0, -1.0);
+    let turning = frame_rotation(&old, &new, omega(old[1]), omega(new[1]), true);
+    assert_eq!(turning, trapezoid);
 }
 
 #[test]
