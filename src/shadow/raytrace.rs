@@ -1086,7 +1086,7 @@ impl<'a> Tracer<'a> {
                     event = if early && path.turned {
                         Some(Some(RayFate::Escaped))
                     } else {
-                        self.step_event(old, new, phase)
+                        self.step_event(old, new, phase != next)
                     };
                     if event.is_some() {
                         Control::Stop
@@ -1132,13 +1132,13 @@ impl<'a> Tracer<'a> {
     }
 
     /// What an accepted step from `old` to `new` ends in: `Some(Some(fate))` for capture or
-    /// escape, `Some(None)` for a switch between strict and relaxed error control (strict
-    /// except while moving outward beyond `relaxed_radius`), `None` to go on.
+    /// escape, `Some(None)` when the ray belongs in another [`Phase`] from here (`switch`,
+    /// from [`Tracer::phase_after`]), `None` to go on.
     fn step_event(
         &self,
         old: &PhaseState,
         new: &PhaseState,
-        phase: Phase,
+        switch: bool,
     ) -> Option<Option<RayFate>> {
         let outward = new[1] > old[1];
         let small_inward_step = !outward && old[1] - new[1] < self.options.domain_edge * new[1];
@@ -1149,7 +1149,7 @@ impl<'a> Tracer<'a> {
         } else if self.horizonless && small_inward_step && self.at_domain_edge(new) {
             // Small inward steps: the domain edge may be near.
             Some(Some(RayFate::Captured))
-        } else if phase != self.phase_after(new, outward) {
+        } else if switch {
             Some(None)
         } else {
             None
