@@ -26,6 +26,7 @@
 //!
 //! with all five components functions of `(r, θ)` alone. That is all a user writes.
 
+mod capture;
 mod components;
 mod declared;
 mod entry;
@@ -37,6 +38,7 @@ mod separation;
 mod spacetime;
 mod spherical;
 
+pub use capture::CarterRadial;
 pub use components::{InverseComponents, MetricComponents};
 pub use declared::{Capabilities, Declared, DeclaredHorizon};
 pub use entry::MetricEntry;
@@ -121,6 +123,15 @@ pub trait Metric: Declared + Send + Sync {
 
     /// Separation data, polar part: `Θ(θ; λ, η)` with `(Σ̃ dθ/dτ)² = Θ`. Default: `None`.
     fn polar_potential<D: DualScalar>(&self, _theta: D, _lambda: D, _eta: D) -> Option<D> {
+        None
+    }
+
+    /// For a metric whose radial potential is Carter's with Δ = r² − 2r + a² + q² (Kerr,
+    /// Kerr–Newman), its spin and charge: rays that certainly fall in can then be ended early
+    /// ([`CarterRadial::capture_certified_below`]). It must agree with
+    /// [`Metric::radial_potential`] (tests/capture_certificate.rs checks the built-in ones).
+    /// Default: `None`.
+    fn carter_radial(&self) -> Option<CarterRadial> {
         None
     }
 }

@@ -135,6 +135,9 @@ pub trait Spacetime: Send + Sync {
     fn hamiltonian_hessian(&self, r: f64, theta: f64, p: &[f64; 4]) -> [[f64; 2]; 2];
     /// Outer horizon radius, if any.
     fn outer_horizon(&self) -> Option<f64>;
+    /// The Kerr–Newman form of the radial potential, if the metric declares it
+    /// ([`super::Metric::carter_radial`]).
+    fn carter_radial(&self) -> Option<super::CarterRadial>;
     /// Black hole (with its outer horizon) or horizonless.
     fn classify(&self) -> Classification;
     /// A, B, C and their first two r-derivatives, for a metric declared spherical.
@@ -388,6 +391,10 @@ impl<M: Metric> Spacetime for M {
 
     fn outer_horizon(&self) -> Option<f64> {
         self.declared_horizon().radius(self)
+    }
+
+    fn carter_radial(&self) -> Option<super::CarterRadial> {
+        Metric::carter_radial(self)
     }
 
     fn classify(&self) -> Classification {

@@ -7,7 +7,7 @@
 
 use super::kerr_like;
 use crate::declare_metric;
-use crate::metric::{Capabilities, Domain, Metric, MetricComponents, PhaseGradient};
+use crate::metric::{Capabilities, CarterRadial, Domain, Metric, MetricComponents, PhaseGradient};
 use crate::scalar::DualScalar;
 
 declare_metric! {
@@ -100,6 +100,12 @@ impl Metric for Kerr {
             lambda,
             eta,
         ))
+    }
+    fn carter_radial(&self) -> Option<CarterRadial> {
+        Some(CarterRadial {
+            spin: self.a,
+            charge_squared: 0.0,
+        })
     }
     fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
         Some(kerr_like::polar_potential(self.a, theta, lambda, eta))

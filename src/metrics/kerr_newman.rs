@@ -7,7 +7,7 @@
 
 use super::kerr_like;
 use crate::declare_metric;
-use crate::metric::{Capabilities, Domain, Metric, MetricComponents};
+use crate::metric::{Capabilities, CarterRadial, Domain, Metric, MetricComponents};
 use crate::scalar::DualScalar;
 
 declare_metric! {
@@ -53,6 +53,12 @@ impl Metric for KerrNewman {
     fn radial_potential<D: DualScalar>(&self, r: D, lambda: D, eta: D) -> Option<D> {
         let mu = r * 2.0 - self.q * self.q;
         Some(kerr_like::radial_potential(self.a, r * r, mu, lambda, eta))
+    }
+    fn carter_radial(&self) -> Option<CarterRadial> {
+        Some(CarterRadial {
+            spin: self.a,
+            charge_squared: self.q * self.q,
+        })
     }
     fn polar_potential<D: DualScalar>(&self, theta: D, lambda: D, eta: D) -> Option<D> {
         Some(kerr_like::polar_potential(self.a, theta, lambda, eta))

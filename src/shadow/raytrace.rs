@@ -75,7 +75,7 @@
 //! reach zero, r = ∞, at finite σ). The refined re-tracing of the checks never uses the far
 //! chart, so every curve's accuracy estimate compares it with the affine one.
 //!
-//! # Early end: a radial turning point decides escape
+//! # Early end: escape at a radial turning point, capture where certified
 //!
 //! For a distant observer of a metric declared separable or spherically symmetric, a ray
 //! that turns outward after moving inward is declared escaped at its turning point
@@ -94,6 +94,16 @@
 //! Schwarzschild rays; counting that whole step gave up to 6e-2 rad). Beside a photon orbit
 //! it grows about half as fast as the whole ray's (the orbit is symmetric about its turning
 //! point), and each side of a crossing is compared only with itself.
+//!
+//! A ray moving inward is declared captured where the metric certifies that it falls in
+//! ([`crate::metric::CarterRadial::capture_certified_below`]): for Kerr and Kerr–Newman, below
+//! the radius of its own spherical photon orbit, where Carter's radial potential, as
+//! P²/Δ − K, decreases outward, so that no radial turning point is left down to the horizon
+//! (Carter 1968; tests/capture_certificate.rs checks the zero-free potential by brute force).
+//! It holds for any observer. Other metrics, and the rays of
+//! [`Tracer::trace_measured`], are followed to the capture radius. On the 64-angle Kerr curve
+//! (a = 0.9, 60°) it removes 31 % of the integrator steps: the plunge to r₊(1 + margin),
+//! where p_r grows like 1/Δ, costs many steps, the refined re-tracing's (margin 1e-5) most.
 //!
 //! # Checks: photon orbits and accuracy
 //!
@@ -540,6 +550,9 @@ pub struct Tracer<'a> {
     /// A ray that turns outward after moving inward escapes (module docs, "Early end"):
     /// set for a distant observer of a metric declared separable or spherically symmetric.
     turning_point_escapes: bool,
+    /// The metric's Kerr–Newman form of the radial potential, which certifies capture
+    /// (module docs, "Early end").
+    carter_radial: Option<crate::metric::CarterRadial>,
     quadrature: Vec<(f64, f64)>,
 }
 
@@ -814,6 +827,7 @@ impl<'a> Tracer<'a> {
             winding_radius: capture_radius,
             turning_point_escapes: observer.radius.is_none()
                 && (spacetime.is_separable() || spacetime.symmetry() == Symmetry::Spherical),
+            carter_radial: spacetime.carter_radial(),
             quadrature: crate::numerics::gauss_legendre_unit(options.correction_nodes),
         })
     }
@@ -1017,6 +1031,12 @@ impl<'a> Tracer<'a> {
             }
         };
         let capture = self.capture_radius;
+        // Inward below this radius the ray certainly falls in (module docs, "Early end").
+        let captured_below = self
+            .carter_radial
+            .filter(|_| early)
+            .and_then(|c| c.capture_certified_below(y0[7] / -y0[4]))
+            .unwrap_or(f64::NEG_INFINITY);
         let early = early && self.turning_point_escapes;
         // The absolute tolerance is at most the relative one (see `RaytraceOptions::integrator`).
         let strict_settings = IntegratorSettings {
@@ -1085,6 +1105,8 @@ impl<'a> Tracer<'a> {
                     next = self.phase_after(new, new[1] > old[1]);
                     event = if early && path.turned {
                         Some(Some(RayFate::Escaped))
+                    } else if new[1] < captured_below && new[1] < old[1] {
+                        Some(Some(RayFate::Captured))
                     } else {
                         self.step_event(old, new, phase != next)
                     };
