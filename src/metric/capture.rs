@@ -27,7 +27,8 @@ pub struct CarterRadial {
 }
 
 /// Relative margin on h: a value is positive for the certificate only above this fraction of
-/// the cubic's largest term (rounding of a cubic evaluated in double precision is far below).
+/// the sum of the magnitudes of the cubic's terms (rounding of a cubic evaluated in double
+/// precision is far below).
 const H_MARGIN: f64 = 1e-9;
 
 impl CarterRadial {

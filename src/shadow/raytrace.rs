@@ -96,17 +96,20 @@
 //! point), and each side of a crossing is compared only with itself.
 //!
 //! A ray moving inward is declared captured where the metric certifies that it falls in
-//! ([`crate::metric::CarterRadial::capture_certified_below`]): for Kerr and Kerr–Newman, below
-//! the radius of its own spherical photon orbit, where Carter's radial potential, as
-//! P²/Δ − K, decreases outward, so that no radial turning point is left down to the horizon
-//! (Carter 1968; tests/capture_certificate.rs checks the zero-free potential by brute force).
-//! It holds for any observer. Other metrics, and the rays of
+//! ([`crate::metric::CarterRadial::capture_certified_below`]). For Kerr and Kerr–Newman,
+//! Carter's radial potential is R = Δ (P²/Δ − K) with K constant along the ray (Carter 1968);
+//! below the smallest radius above the horizon where P²/Δ is stationary (for a ray beside
+//! the critical curve, the radius of its spherical photon orbit) P²/Δ decreases outward, so
+//! an inward ray there meets no radial turning point before the horizon
+//! (tests/capture_certificate.rs checks the zero-free potential by brute force). It holds
+//! for any observer. The step that passes that radius counts toward the winding only up to
+//! it (interpolated linearly in r). Other metrics, and the rays of
 //! [`Tracer::trace_measured`], are followed to the capture radius. On the 64-angle Kerr curve
-//! (a = 0.9, 60°) it removes 31 % of the integrator steps. A ray beside the curve spends many
+//! (a = 0.9, 60°) it removes 37 % of the integrator steps. A ray beside the curve spends many
 //! steps winding close to its photon orbit; it crosses that orbit's radius half-way through
 //! and ends there, so, as on the escaping side, its winding grows about half as fast as the
 //! whole ray's. Ending it half-way from there to the horizon instead, which keeps the whole
-//! winding, removed only 16 % (measured), and each side is compared only with itself anyway.
+//! winding, removed 20 % (measured), and each side is compared only with itself anyway.
 //!
 //! # Checks: photon orbits and accuracy
 //!
@@ -389,11 +392,13 @@ pub struct RayOutcome {
     /// sin θ sin φ, cos θ), relative to the locally non-rotating frames (each step's change
     /// of φ less ω Δt, ω = −g_tφ/g_φφ), summed while r exceeds the tracer's capture radius;
     /// 0 unless measured ([`Tracer::trace_measured`]); for a ray that ends at its radial
-    /// turning point, the winding there (module docs, "Early end"). For a planar orbit of a
+    /// turning point, the winding there, and for a ray captured at a certified radius, the
+    /// winding down to that radius (module docs, "Early end"). For a planar orbit of a
     /// static metric it is the angle swept in the orbital plane. Measured relative to those frames it stays
     /// finite near a horizon, where φ itself winds without bound.
     pub winding: f64,
-    /// The smallest radius reached.
+    /// The smallest radius reached before the ray ended (for a ray captured at a certified
+    /// radius, about that radius).
     pub min_radius: f64,
     /// The ray was declared escaped at its radial turning point (module docs, "Early end"),
     /// not followed out to the escape radius.
@@ -580,10 +585,19 @@ struct PathRecord {
     /// The winding at the first sign change of p_r (∝ dr/dτ), the radial turning point,
     /// with the step that passes it counted up to it (interpolated linearly in p_r).
     winding_at_turn: Option<f64>,
+    /// Moving inward below this radius the ray is captured (a certificate, module docs
+    /// "Early end"; −∞ without one): the step that passes it counts up to it.
+    captured_below: f64,
 }
 
 impl PathRecord {
-    fn new(y0: &PhaseState, measure: bool, winding_radius: f64, ends_at_turn: bool) -> Self {
+    fn new(
+        y0: &PhaseState,
+        measure: bool,
+        winding_radius: f64,
+        ends_at_turn: bool,
+        captured_below: f64,
+    ) -> Self {
         PathRecord {
             steps: 0,
             winding: 0.0,
@@ -596,6 +610,7 @@ impl PathRecord {
             winding_radius,
             ends_at_turn,
             winding_at_turn: None,
+            captured_below,
         }
     }
 
@@ -619,13 +634,19 @@ impl PathRecord {
             let (st, ct) = sin_cos(new[2]);
             let (sp, cp) = sin_cos(new[3] + turn);
             let current = [st * cp, st * sp, ct];
-            // The part of the step above the winding radius, interpolated linearly in r, so
-            // that the winding does not depend on where the steps happen to fall.
+            // The part of the step above the winding radius (on an inward step, also above
+            // the certified capture radius, where the ray ends), interpolated linearly in r,
+            // so that the winding does not depend on where the steps happen to fall.
             let (hi, lo) = (old[1].max(new[1]), old[1].min(new[1]));
-            let above = if lo > self.winding_radius {
+            let floor = if self.inward {
+                self.winding_radius.max(self.captured_below)
+            } else {
+                self.winding_radius
+            };
+            let above = if lo > floor {
                 1.0
-            } else if hi > self.winding_radius {
-                (hi - self.winding_radius) / (hi - lo)
+            } else if hi > floor {
+                (hi - floor) / (hi - lo)
             } else {
                 0.0
             };
@@ -1060,7 +1081,7 @@ impl<'a> Tracer<'a> {
             strict: true,
             far: self.phase_after(&y0, y0[5] < 0.0).far,
         };
-        let mut path = PathRecord::new(&y0, measure, self.winding_radius, early);
+        let mut path = PathRecord::new(&y0, measure, self.winding_radius, early, captured_below);
         // Phases ([`Phase`]): strict error control, except while moving outward beyond the
         // relaxed radius (then only the escape is left to detect), and the far chart beyond
         // the far radius; the ray returns to strict control as soon as it turns inward again.
@@ -2136,9 +2157,10 @@ pub struct RaytraceChecks {
     /// Smallest and largest growth of the winding per e-fold of distance next to the
     /// boundary on its captured side, over all curve angles, in radians (π/γ for a spherical
     /// photon sphere with ring exponent γ; 1 for Schwarzschild). Where captured rays end at a
-    /// certified radius (Kerr, Kerr–Newman; module docs "Early end") it is about half that
-    /// (0.45–0.58 for Kerr a = 0 seen at 60°, 64 angles), as on the escaping side where rays
-    /// end at their turning point.
+    /// certified radius (Kerr and Kerr–Newman; module docs "Early end") it is about half that,
+    /// as on the escaping side where rays end at their turning point: the same spacetime
+    /// gives about 1 as the metric `schwarzschild`, which declares no certificate, and about
+    /// 1/2 as `kerr` with a = 0 (0.47–0.56 at 60° and 64 angles, docs/performance.md).
     pub winding_growth: [f64; 2],
     /// Curve angles whose crossing was bracketed from their neighbours' prediction and not
     /// scanned for further crossings (module docs, "Neighbour seeding"); mirror images count.
