@@ -11,7 +11,7 @@ use rayon::prelude::*;
 use rayon::ThreadPoolBuilder;
 use umbral::metric::Spacetime;
 use umbral::metrics::{build_metric, Kerr};
-use umbral::shadow::raytrace::{RaytraceOptions, Tracer};
+use umbral::shadow::raytrace::{RayFate, RaytraceOptions, Tracer};
 use umbral::shadow::spherical::photon_sphere_analysis;
 use umbral::shadow::{solve, Observer, ShadowResult, ShadowSettings, ShadowStatus, SolverChoice};
 
@@ -147,7 +147,8 @@ fn traced_spherical_catalogue_metrics_agree_with_the_critical_impact_parameter_t
 /// The early end applies to a distant observer of a separable or spherical metric only.
 /// Johannsen–Psaltis with ε₃ = 0 has Kerr's line element but declares no separation: its
 /// escaping rays are followed to the escape radius (no early end), as are Kerr's rays seen
-/// by a finite observer, and the fates agree with Kerr's early-ended rays.
+/// by a finite observer, and the fates agree with Kerr's early-ended rays. Its captured rays
+/// are followed to the capture radius too: it declares no certificate of capture.
 #[test]
 fn the_early_end_falls_back_to_full_integration_where_it_does_not_apply() {
     let kerr = Kerr::new(0.9).unwrap();
@@ -185,6 +186,15 @@ fn the_early_end_falls_back_to_full_integration_where_it_does_not_apply() {
     }
     assert!(early.trace(7.0, 0.0).escaped_at_turning_point);
     assert!(!early.trace_measured(7.0, 0.0).escaped_at_turning_point);
+    // Captured: Kerr ends the ray where its capture is certified (inside its spherical photon
+    // orbit), Johannsen-Psaltis, which declares no such form, follows it to the capture radius.
+    assert!(kerr.carter_radial().is_some() && jp.carter_radial().is_none());
+    let capture_radius = kerr.outer_horizon().unwrap() * (1.0 + options.capture_margin);
+    let (e, o) = (early.trace(1.5, 0.0), opaque.trace(1.5, 0.0));
+    assert_eq!((e.fate, o.fate), (RayFate::Captured, RayFate::Captured));
+    assert!(o.min_radius <= capture_radius, "{}", o.min_radius);
+    assert!(e.min_radius > 1.05 * capture_radius, "{}", e.min_radius);
+    assert!(e.steps < o.steps, "{} vs {}", e.steps, o.steps);
 }
 
 /// A curve of a metric without symmetry shortcuts (no mirror, no early end) and one with
