@@ -28,6 +28,7 @@
 
 use super::{LineBoundary, SideLaws};
 use rayon::prelude::*;
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// A line's predicted crossing (in M from the curve origin), the half-width of the first
 /// bracket to try around it, and the winding law to guide its refinement.
@@ -43,30 +44,50 @@ pub(crate) struct Seed {
     pub law: Option<SideLaws>,
 }
 
-/// Trace the first `traced` of `n` curve lines in levels (module docs): `locate(k, seed)`
+/// Trace the first `traced` of `n` curve lines in levels (module docs; the numbers are in
+/// `layout`): `locate(k, seed)`
 /// finds line k's crossings, scanning it in full when `seed` is `None`, and `finish` then
 /// completes a line (its checks), which the predictions do not need: the lines of one level
 /// are finished while the next level is located. With `mirror`, line n − k is the mirror
 /// image of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around
 /// the curve, traces every line in full. `min_half_width` is the smallest first bracket.
+///
+/// With `refuses`, tracing stops after the first level whose finished lines include one that
+/// `refuses` (the caller knows the curve is then refused, whatever the other lines): the lines
+/// of the next level are not started once that is known, and those already located are
+/// dropped unfinished, so what is returned, the lines finished up to and including that
+/// level, does not depend on the number of threads either.
 pub(crate) fn trace_in_levels<F, G>(
-    n: usize,
-    traced: usize,
-    mirror: bool,
-    every: usize,
-    min_half_width: f64,
+    layout: Layout,
     locate: F,
     finish: G,
-) -> Vec<LineBoundary>
+    refuses: Option<&(dyn Fn(&LineBoundary) -> bool + Sync)>,
+) -> Levels
 where
     F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
     G: Fn(&mut LineBoundary) + Sync,
 {
+    let Layout {
+        n,
+        traced,
+        mirror,
+        every,
+        min_half_width,
+    } = layout;
     let seeding = every > 1 && n >= 4 * every;
     let mut stride = if seeding { every } else { 1 };
     let mut slots: Vec<Option<LineBoundary>> = vec![None; traced];
     // Lines located but not yet finished.
     let mut pending = vec![false; traced];
+    let refused = AtomicBool::new(false);
+    let finish = |line: &mut LineBoundary| {
+        finish(line);
+        if refuses.is_some_and(|r| r(line)) {
+            refused.store(true, Ordering::Relaxed);
+        }
+    };
+    let locate =
+        |k: usize, seed: Option<Seed>| (!refused.load(Ordering::Relaxed)).then(|| locate(k, seed));
     let anchors: Vec<(usize, Option<Seed>)> =
         (0..traced).step_by(stride).map(|k| (k, None)).collect();
     let located = locate_level(&anchors, &locate);
@@ -89,30 +110,77 @@ where
             || finish_pending(&mut slots, &mut pending, &finish),
             || locate_level(&level, &locate),
         );
+        if refused.load(Ordering::Relaxed) {
+            return Levels::refused(slots, &pending);
+        }
         store(&mut slots, &mut pending, &level, located);
     }
+    // The last level: every line is finished, whatever `refuses` says of them.
     finish_pending(&mut slots, &mut pending, &finish);
-    slots.into_iter().flatten().collect()
+    Levels {
+        lines: slots.into_iter().flatten().collect(),
+        complete: true,
+    }
 }
 
-/// Locate the lines `ks` (each with its seed) in parallel.
-fn locate_level<F>(ks: &[(usize, Option<Seed>)], locate: &F) -> Vec<LineBoundary>
+/// Which lines [`trace_in_levels`] traces, and how.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Layout {
+    /// Curve angles around the curve.
+    pub n: usize,
+    /// The first `traced` of them are traced (the rest are mirror images).
+    pub traced: usize,
+    /// Line n − k is the mirror image of line k.
+    pub mirror: bool,
+    /// Every `every`-th line is an anchor.
+    pub every: usize,
+    /// The smallest first bracket of a seeded line.
+    pub min_half_width: f64,
+}
+
+/// The lines [`trace_in_levels`] returns.
+pub(crate) struct Levels {
+    /// Every traced line in order; when not `complete`, only the finished ones.
+    pub lines: Vec<LineBoundary>,
+    /// False when tracing stopped early at a line the caller refuses.
+    pub complete: bool,
+}
+
+impl Levels {
+    /// The finished lines only (those located but still pending are dropped).
+    fn refused(slots: Vec<Option<LineBoundary>>, pending: &[bool]) -> Levels {
+        Levels {
+            lines: slots
+                .into_iter()
+                .zip(pending)
+                .filter_map(|(slot, &pending)| slot.filter(|_| !pending))
+                .collect(),
+            complete: false,
+        }
+    }
+}
+
+/// Locate the lines `ks` (each with its seed) in parallel; `None` for a line not located.
+fn locate_level<F>(ks: &[(usize, Option<Seed>)], locate: &F) -> Vec<Option<LineBoundary>>
 where
-    F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
+    F: Fn(usize, Option<Seed>) -> Option<LineBoundary> + Sync,
 {
     ks.par_iter().map(|&(k, seed)| locate(k, seed)).collect()
 }
 
-/// Put located lines into their slots, to be finished.
+/// Put located lines into their slots, to be finished (a line not located, which happens
+/// only once tracing is stopped, is left out).
 fn store(
     slots: &mut [Option<LineBoundary>],
     pending: &mut [bool],
     ks: &[(usize, Option<Seed>)],
-    located: Vec<LineBoundary>,
+    located: Vec<Option<LineBoundary>>,
 ) {
     for (&(k, _), line) in ks.iter().zip(located) {
-        slots[k] = Some(line);
-        pending[k] = true;
+        if let Some(line) = line {
+            slots[k] = Some(line);
+            pending[k] = true;
+        }
     }
 }
 
@@ -218,6 +286,15 @@ fn lagrange(nodes: &[(f64, f64)], x: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// 64 lines, every fourth an anchor, no mirror.
+    const LAYOUT: Layout = Layout {
+        n: 64,
+        traced: 64,
+        mirror: false,
+        every: 4,
+        min_half_width: 1e-6,
+    };
 
     fn line(k: usize, n: usize, rho: f64) -> LineBoundary {
         LineBoundary {
@@ -353,11 +430,7 @@ mod tests {
         let calls = std::sync::Mutex::new(Vec::new());
         let finished = std::sync::Mutex::new(Vec::new());
         let lines = trace_in_levels(
-            n,
-            n,
-            false,
-            4,
-            1e-6,
+            LAYOUT,
             |k, seed| {
                 calls.lock().unwrap().push((k, seed.is_some()));
                 line(k, n, curve(k as f64, n))
@@ -366,7 +439,9 @@ mod tests {
                 finished.lock().unwrap().push(l.psi);
                 l.steps += 10;
             },
-        );
+            None,
+        )
+        .lines;
         // Every line finished once.
         assert_eq!(finished.into_inner().unwrap().len(), n);
         assert!(lines.iter().all(|l| l.steps == 11));
@@ -380,12 +455,8 @@ mod tests {
             assert_eq!(seeded, k % 4 != 0, "line {k}");
         }
         // A failed anchor turns seeding off.
-        let lines = trace_in_levels(
-            n,
-            n,
-            false,
-            4,
-            1e-6,
+        let levels = trace_in_levels(
+            LAYOUT,
             |k, seed| {
                 assert!(seed.is_none());
                 let mut l = line(k, n, 5.0);
@@ -395,7 +466,50 @@ mod tests {
                 l
             },
             |_| {},
+            None,
         );
-        assert_eq!(lines.len(), n);
+        assert!(levels.complete);
+        assert_eq!(levels.lines.len(), n);
+    }
+
+    /// A line the caller refuses stops the levels after the one it belongs to: what is
+    /// returned is the lines finished up to then, the same on one thread and on two.
+    #[test]
+    fn a_refused_line_stops_the_levels_after_its_own() {
+        let n = 64;
+        // (refused line, lines finished by then: its level and the ones before).
+        for (bad, want) in [(8, n / 4), (6, n / 2), (5, n)] {
+            let run = |threads: usize| {
+                let pool = rayon::ThreadPoolBuilder::new()
+                    .num_threads(threads)
+                    .build()
+                    .unwrap();
+                let located = std::sync::atomic::AtomicUsize::new(0);
+                let levels = pool.install(|| {
+                    trace_in_levels(
+                        LAYOUT,
+                        |k, _| {
+                            located.fetch_add(1, Ordering::Relaxed);
+                            line(k, n, curve(k as f64, n))
+                        },
+                        |l| l.steps += 10,
+                        Some(&|l: &LineBoundary| {
+                            (l.psi - std::f64::consts::TAU * bad as f64 / n as f64).abs() < 1e-12
+                        }),
+                    )
+                });
+                (levels, located.into_inner())
+            };
+            for threads in [1, 2] {
+                let (levels, located) = run(threads);
+                assert_eq!(levels.complete, want == n, "line {bad}, {threads} threads");
+                assert_eq!(levels.lines.len(), want, "line {bad}, {threads} threads");
+                assert!(levels.lines.iter().all(|l| l.steps == 11));
+                // On one thread the next level is never started once the refusal is known.
+                if threads == 1 && want < n {
+                    assert!(located < n, "line {bad}: {located} lines located");
+                }
+            }
+        }
     }
 }

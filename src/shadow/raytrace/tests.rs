@@ -319,3 +319,54 @@ fn a_far_radius_below_ten_m_is_refused_and_infinity_turns_the_far_chart_off() {
         );
     }
 }
+
+/// Johannsen–Psaltis (a = 0.79, ε₃ = 0.9) at 60°: its photon orbits on the retrograde side
+/// lie within the capture margin of the horizon, so the curve is refused (the boundary there
+/// is the capture surface's outline). Traced for the curve alone, the lines stop after the
+/// level where that shows, with fewer rays, the same kind of error and a message that says
+/// so, the same on one and on two threads; a curve that is not refused is unchanged.
+#[test]
+fn a_curve_certain_to_be_refused_is_not_traced_to_the_end() {
+    use crate::metrics::JohannsenPsaltis;
+    let jp = JohannsenPsaltis::new(0.7916666, 0.9).unwrap();
+    let observer = Observer::distant(f64::to_radians(60.0));
+    let settings = ShadowSettings {
+        points: 32,
+        ..Default::default()
+    };
+    let options = RaytraceOptions::default();
+    let full = trace_lines(&jp, &observer, &settings, &options, false).unwrap();
+    let on = |threads: usize| {
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap();
+        pool.install(|| trace_lines(&jp, &observer, &settings, &options, true).unwrap())
+    };
+    let stopped = on(2);
+    assert_eq!(stopped.stopped_early, Some(32));
+    assert!(stopped.lines.len() < 32, "{} lines", stopped.lines.len());
+    assert!(
+        stopped.diagnostics.rays_traced < full.diagnostics.rays_traced,
+        "{} rays against {}",
+        stopped.diagnostics.rays_traced,
+        full.diagnostics.rays_traced
+    );
+    let message = |r: RaytraceReport| match r.into_result() {
+        Err(ShadowError::NotConverged(m)) => m,
+        other => panic!("expected a refusal, got {other:?}"),
+    };
+    let quick = message(on(1));
+    assert_eq!(quick, message(stopped));
+    assert!(quick.contains("not formed by photon orbits"), "{quick}");
+    assert!(quick.contains("tracing stopped"), "{quick}");
+    let whole = message(full);
+    assert!(whole.contains("not formed by photon orbits"), "{whole}");
+    assert!(!whole.contains("tracing stopped"), "{whole}");
+
+    // Kerr, not refused: the same curve either way.
+    let kerr = Kerr::new(0.9).unwrap();
+    let a = solve_with(&kerr, &observer, &settings, &options).unwrap();
+    let b = solve_curve_with(&kerr, &observer, &settings, &options).unwrap();
+    assert_eq!(a.curve, b.curve);
+}
