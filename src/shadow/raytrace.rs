@@ -1289,7 +1289,7 @@ impl<'a> Tracer<'a> {
             count(&out, line);
             out
         };
-        let far = self.options.winding_far.min(0.5 * crossing);
+        let (far, _) = self.ladder_distances(crossing, width);
         let mut check = LineCheck {
             crossing,
             validated_within: None,
@@ -1341,6 +1341,14 @@ impl<'a> Tracer<'a> {
             |offset: f64, rtol: f64, line: &mut LineBoundary| ray(self, offset, rtol, line);
         self.winding_ladder(&mut check, near, width, &nearby, ladder, line);
         line.check = Some(check);
+    }
+
+    /// The distances from a crossing `crossing` M from the curve origin of the winding
+    /// check's far and middle rays, when its near rays are `near` M from it: far =
+    /// min(`winding_far`, crossing/2), middle = √(far · near) (module docs, "Checks").
+    fn ladder_distances(&self, crossing: f64, near: f64) -> (f64, f64) {
+        let far = self.options.winding_far.min(0.5 * crossing);
+        (far, (far * near).sqrt())
     }
 
     /// The winding comparison of [`Tracer::check_crossing`]: rays at the far distance (loose
@@ -1397,7 +1405,7 @@ impl<'a> Tracer<'a> {
         // tolerance, in about a quarter of the steps. (Its noise is ~1e-6 M for most rays but
         // more for rays that run close to the axis: at 179.99° rays 1e-5 M from the crossing
         // were misclassified.)
-        let mid = (far * near.0).sqrt();
+        let (_, mid) = self.ladder_distances(check.crossing, near.0);
         let loose_from = 1e-3;
         let rtol = |d: f64| {
             if d >= loose_from {
@@ -1512,6 +1520,13 @@ impl<'a> Tracer<'a> {
         seed: seeding::Seed,
         scan: &LineScan,
     ) -> LineBoundary {
+        let mut seed = seed;
+        if seed.law.is_some() {
+            // The check's middle rays, from the bracket (module docs, "Neighbour seeding").
+            let width = 2.0 * scan.tolerance;
+            let (_, mid) = self.ladder_distances(seed.guess, width.max(WINDING_NEAR_MIN));
+            seed.half_width = seed.half_width.max(mid);
+        }
         let coarse = self.options.coarse_rtol.max(self.options.integrator.rtol);
         let mut line = LineBoundary::empty(psi, true);
         let probe = LineProbe::new(self, origin, psi);

@@ -4,19 +4,24 @@
 //! Every `anchor_every`-th line (the anchors) is scanned and refined in full
 //! ([`super::Tracer::boundary_along_line`]). The other lines follow in levels of halving
 //! stride (with the default 4: the lines k ≡ 2 mod 4, then the odd ones); each starts from
-//! the crossing predicted by Lagrange interpolation in the screen angle through the three
-//! nearest finished lines on either side (quintic; lines at most three anchor spacings and
-//! less than half the circle away), with a first bracket of half-width twice the difference
-//! between that quintic and the cubic through the nearest two on either side (the usual
-//! estimate of an interpolant's error by the next lower order; e.g. Press et al., *Numerical
-//! Recipes*, 3rd ed., §3.2). With only two finished lines on a side, the cubic through them is
-//! the prediction and its difference from the linear interpolation between the nearest two
-//! the estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°):
-//! the quintic of the last level is within 4e-9 M of the traced crossing, the cubic within
+//! the crossing predicted by Lagrange interpolation in the screen angle through the four
+//! nearest finished lines on either side (septic; lines at most three anchor spacings and
+//! less than half the circle away, so on a line of the first level of a curve of 64 angles
+//! only three), with a first bracket of half-width twice the difference between that
+//! polynomial and the one through one line fewer on either side (the usual estimate of an
+//! interpolant's error by the next lower order; e.g. Press et al., *Numerical Recipes*, 3rd
+//! ed., §3.2). With only two finished lines on a side, the cubic through them is the
+//! prediction and its difference from the linear interpolation between the nearest two the
+//! estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°): the
+//! quintic of the last level is within 4e-9 M of the traced crossing, the cubic within
 //! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line
-//! (with strict rays throughout, and guided from the first bracket on by the winding law of
-//! the nearest finished lines on either side, when both have one), so the crossing is as
-//! accurate as before; what a seeded line does not do is the scan for
+//! (with strict rays throughout, and guided from the first bracket on by the winding law
+//! interpolated between the nearest finished lines on either side that have one), so the
+//! crossing is as accurate as before. When a law guides it, the first bracket is at least
+//! as wide as the distance of the photon-orbit check's middle rays
+//! ([`super::Tracer::check_crossing`]): the check then takes the bracket's rays instead of
+//! tracing its own, and the law-guided refinement closes the wider bracket in about as
+//! many rays as bisection closes the narrower one. What a seeded line does not do is the scan for
 //! further crossings along it (one loose ray where that scan would have stopped must
 //! escape). Seeding is therefore used
 //! only while the curve looks star-shaped: every anchor must have exactly one crossing, and a
@@ -39,8 +44,8 @@ pub(crate) struct Seed {
     /// Half-width of the first bracket.
     pub half_width: f64,
     /// The winding law beside the crossing, interpolated linearly in the screen angle between
-    /// the nearest finished lines on either side (when both have one), to guide the
-    /// refinement.
+    /// the nearest finished lines on either side that have one (within the reach of the
+    /// prediction), to guide the refinement.
     pub law: Option<SideLaws>,
 }
 
@@ -205,7 +210,7 @@ fn single_crossing(line: &LineBoundary) -> bool {
     line.failure.is_none() && line.crossings.len() == 1
 }
 
-/// The crossing of line k predicted from the three (at least two) nearest finished
+/// The crossing of line k predicted from the four (at least two) nearest finished
 /// single-crossing lines on either side within `reach` lines of it (module docs); `None`
 /// without two on each side, or when
 /// the predicted bracket would reach a quarter of the way to the origin (the curve is not
@@ -230,7 +235,7 @@ pub(crate) fn predict(
         (1..=(reach as isize).min((n_signed - 1) / 2))
             .map(|d| k + direction * d)
             .filter_map(|j| rho(j).map(|r| (j as f64, r)))
-            .take(3)
+            .take(4)
             .collect()
     };
     let (below, above) = (side(-1), side(1));
@@ -249,16 +254,18 @@ pub(crate) fn predict(
     let guess = lagrange(&nodes, x);
     let lower = lagrange(&nodes[1..nodes.len() - 1], x);
     let half_width = (2.0 * (guess - lower).abs()).max(min_half_width);
-    // The law between the nearest finished line on either side (it is mirrored with them).
-    let (j0, j1) = (below[0].0, above[0].0);
-    let law = finished(j0 as isize)
-        .and_then(|l| l.law)
-        .zip(finished(j1 as isize).and_then(|l| l.law))
-        .map(|(l0, l1)| {
-            let t = (x - j0) / (j1 - j0);
-            let mix = |a: f64, b: f64| a + t * (b - a);
-            [0, 1].map(|s| (mix(l0[s].0, l1[s].0), mix(l0[s].1, l1[s].1)))
-        });
+    // The law between the nearest finished lines with one on either side (it is mirrored
+    // with them).
+    let law_side = |direction: isize| -> Option<(f64, SideLaws)> {
+        (1..=(reach as isize).min((n_signed - 1) / 2))
+            .map(|d| k + direction * d)
+            .find_map(|j| finished(j).and_then(|l| l.law).map(|law| (j as f64, law)))
+    };
+    let law = law_side(-1).zip(law_side(1)).map(|((j0, l0), (j1, l1))| {
+        let t = (x - j0) / (j1 - j0);
+        let mix = |a: f64, b: f64| a + t * (b - a);
+        [0, 1].map(|s| (mix(l0[s].0, l1[s].0), mix(l0[s].1, l1[s].1)))
+    });
     (guess.is_finite() && half_width < 0.25 * guess).then_some(Seed {
         guess,
         half_width,
@@ -335,11 +342,41 @@ mod tests {
         for s in 0..2 {
             assert!((got[s].0 - want[s].0).abs() < 1e-14 && (got[s].1 - want[s].1).abs() < 1e-14);
         }
-        // Without a law on the nearest line of one side: no law, the same crossing.
+        // Without a law on the nearest line of one side, the nearest line there that has one
+        // (12; the law is linear in k, so the same law); without one within the reach on
+        // that side, no law. The crossing is the same throughout.
         slots[8].as_mut().unwrap().law = None;
+        let farther = predict(&slots, 6, n, false, 12, 1e-12).unwrap();
+        let got = farther.law.unwrap();
+        for s in 0..2 {
+            assert!((got[s].0 - want[s].0).abs() < 1e-14 && (got[s].1 - want[s].1).abs() < 1e-14);
+        }
+        for k in [12, 16] {
+            slots[k].as_mut().unwrap().law = None;
+        }
         let without = predict(&slots, 6, n, false, 12, 1e-12).unwrap();
         assert_eq!(without.law, None);
         assert_eq!(without.guess, seed.guess);
+        assert_eq!(farther.guess, seed.guess);
+    }
+
+    /// With four finished lines on either side within reach, the septic through them, and
+    /// twice its difference from the quintic through the nearest three as the half-width.
+    #[test]
+    fn the_prediction_is_the_septic_through_four_lines_on_either_side() {
+        let n = 64;
+        let mut slots: Vec<Option<LineBoundary>> = vec![None; n];
+        for k in (0..n).step_by(4) {
+            slots[k] = Some(line(k, n, curve(k as f64, n)));
+        }
+        let seed = predict(&slots, 6, n, false, 16, 1e-12).unwrap();
+        let nodes = |ks: &[f64]| ks.iter().map(|&k| (k, curve(k, n))).collect::<Vec<_>>();
+        let septic = lagrange(&nodes(&[-8.0, -4.0, 0.0, 4.0, 8.0, 12.0, 16.0, 20.0]), 6.0);
+        let quintic = lagrange(&nodes(&[-4.0, 0.0, 4.0, 8.0, 12.0, 16.0]), 6.0);
+        assert_eq!(seed.guess, septic);
+        assert!((seed.half_width - 2.0 * (septic - quintic).abs()).abs() < 1e-15);
+        let error = (seed.guess - curve(6.0, n)).abs();
+        assert!(error < seed.half_width, "{error:e} {seed:?}");
     }
 
     #[test]
