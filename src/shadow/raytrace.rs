@@ -39,7 +39,8 @@
 //!
 //! # Neighbour seeding
 //!
-//! Only every `anchor_every`-th angle (4 by default) is scanned as above. The others are
+//! Only every `anchor_every`-th angle (4 by default; with more than 64 angles, every
+//! n/16-th, `max_anchors`) is scanned as above. The others are
 //! traced afterwards, in levels of halving stride, each from the crossing that Lagrange
 //! interpolation through its finished neighbours predicts, with a first bracket whose
 //! half-width h is twice the interpolant's estimated error (then searched outward on the
@@ -57,9 +58,10 @@
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
 //! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
 //! whose bracket is not found is scanned in full ([`RaytraceChecks::seeded_lines`] counts the
-//! seeded angles). Measured on a 256-angle Johannsen–Psaltis curve (a = 0.5, ε₃ = 0, 60°): a
-//! seeded line takes 6.6 rays to place its crossing, a scanned one 27; on a 64-angle Kerr
-//! curve (a = 0.9, 60°), whose anchors are farther apart, 8.3 and 26 (15 before the law).
+//! seeded angles). Measured on a 256-angle Johannsen–Psaltis curve (a = 0.5, ε₃ = 0, 60°;
+//! 16 anchors): a seeded line takes 7.0 rays to place its crossing, two of which the check
+//! then takes as its middle rays, a scanned one 27; on a 64-angle Kerr curve (a = 0.9, 60°)
+//! 7.6 and 27 (15 before the law).
 //!
 //! A caller that wants the curve alone ([`solve_curve_with`]: bounds, scans, tables) does not
 //! trace a curve that is certain to be refused to its end: after the first level in which a
@@ -241,6 +243,11 @@ pub struct RaytraceOptions {
     /// the crossing their finished neighbours predict (module docs, "Neighbour seeding").
     /// 1 scans every angle.
     pub anchor_every: usize,
+    /// With more than `anchor_every` · `max_anchors` curve angles, the anchors are spread
+    /// to `max_anchors` around the curve instead (every n/`max_anchors`-th angle): a seeded
+    /// line costs a quarter of an anchor's rays, and with more angles the seeded levels
+    /// predict their crossings better. Ignored when `anchor_every` is 1.
+    pub max_anchors: usize,
     /// While a ray moves outward beyond this radius (in M) only its escape is left to detect,
     /// and the relative tolerance is relaxed to `relaxed_rtol`; strict control resumes if it
     /// turns inward again.
@@ -323,6 +330,7 @@ impl Default for RaytraceOptions {
             horizonless_capture_radius: 0.05,
             scan_samples: 8,
             anchor_every: 4,
+            max_anchors: 16,
             relaxed_radius: 25.0,
             relaxed_rtol: 1.0e-7,
             far_radius: 50.0,
@@ -758,11 +766,13 @@ fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
         || options.scan_samples < 2
         || options.correction_nodes < 2
         || options.anchor_every < 1
+        || options.max_anchors < 1
     {
         return Err(ShadowError::BadRequest(
             "capture margins and radii, widths, tolerances and scan lengths must be \
              positive, the validation start radius at least the start radius, scan \
-             samples and correction nodes at least 2, the anchor spacing at least 1"
+             samples and correction nodes at least 2, the anchor spacing and the most \
+             anchors at least 1"
                 .into(),
         ));
     }
@@ -2531,7 +2541,10 @@ fn trace_lines(
         n,
         traced,
         mirror,
-        every: options.anchor_every,
+        every: match options.anchor_every {
+            1 => 1,
+            every => every.max(n / options.max_anchors),
+        },
         min_half_width: target,
     };
     let levels = seeding::trace_in_levels(
