@@ -40,8 +40,9 @@
 //! # Neighbour seeding
 //!
 //! Only every `anchor_every`-th angle (4 by default; with more than 64 angles, every
-//! n/16-th, `max_anchors`) is scanned as above. The others are
-//! traced afterwards, in levels of halving stride, each from the crossing that Lagrange
+//! ⌈n/16⌉-th, `max_anchors`, so that the star-shape diagnostic below then rests on 16 lines)
+//! is scanned as above. The others are
+//! traced afterwards, in levels of halving stride (rounded down), each from the crossing that Lagrange
 //! interpolation through its finished neighbours predicts, with a first bracket whose
 //! half-width h is twice the interpolant's estimated error (then searched outward on the
 //! crossing's side in steps of 4h, 16h and 64h). The logarithmic winding law beside the
@@ -65,11 +66,12 @@
 //!
 //! A caller that wants the curve alone ([`solve_curve_with`]: bounds, scans, tables) does not
 //! trace a curve that is certain to be refused to its end: after the first level in which a
-//! finished line has a failed ray or, with a horizon, a boundary not formed by photon orbits,
-//! no further level is started (the curve would be refused whatever the other lines give).
-//! The error says how many angles were traced. Which lines are finished by then does not
-//! depend on the number of threads. On the Johannsen–Psaltis bound of docs/performance.md a
-//! refused curve near the horizon's edge then takes about 40 % of its former time.
+//! finished line did not converge or, with a horizon, has a boundary not formed by photon
+//! orbits (or not checked to be), no further level is started (the curve would be refused
+//! whatever the other lines give). The error says how many angles were finished. Which lines
+//! are finished by then does not depend on the number of threads. On the Johannsen–Psaltis
+//! bound of docs/performance.md a refused curve near the horizon's edge then takes about
+//! 40 % of its former time.
 //!
 //! # Far legs in the inverse radius
 //!
@@ -244,9 +246,12 @@ pub struct RaytraceOptions {
     /// 1 scans every angle.
     pub anchor_every: usize,
     /// With more than `anchor_every` · `max_anchors` curve angles, the anchors are spread
-    /// to `max_anchors` around the curve instead (every n/`max_anchors`-th angle): a seeded
-    /// line costs a quarter of an anchor's rays, and with more angles the seeded levels
-    /// predict their crossings better. Ignored when `anchor_every` is 1.
+    /// to at most `max_anchors` around the curve instead (every ⌈n/`max_anchors`⌉-th angle):
+    /// a seeded line costs about a quarter of an anchor's rays, and with more angles the
+    /// seeded levels predict their crossings better. The anchors also carry the star-shape
+    /// diagnostic (a seeded line does not scan for further crossings), so with many angles it
+    /// rests on `max_anchors` lines. At least 4 (seeding needs four anchors around the curve);
+    /// ignored when `anchor_every` is 1.
     pub max_anchors: usize,
     /// While a ray moves outward beyond this radius (in M) only its escape is left to detect,
     /// and the relative tolerance is relaxed to `relaxed_rtol`; strict control resumes if it
@@ -766,13 +771,13 @@ fn check_options(options: &RaytraceOptions) -> Result<(), ShadowError> {
         || options.scan_samples < 2
         || options.correction_nodes < 2
         || options.anchor_every < 1
-        || options.max_anchors < 1
+        || options.max_anchors < 4
     {
         return Err(ShadowError::BadRequest(
             "capture margins and radii, widths, tolerances and scan lengths must be \
              positive, the validation start radius at least the start radius, scan \
-             samples and correction nodes at least 2, the anchor spacing and the most \
-             anchors at least 1"
+             samples and correction nodes at least 2, the anchor spacing at least 1 and the \
+             most anchors at least 4"
                 .into(),
         ));
     }
@@ -2220,9 +2225,10 @@ pub struct RaytraceReport {
     /// Whether the metric has no horizon (the capture radius is the absorbing core's).
     pub horizonless: bool,
     /// `Some(n)` when tracing stopped once a line refused the curve, before all n curve
-    /// angles were traced ([`solve_curve_with`]): `lines` then holds only the angles traced
-    /// and checked by then, and the result is an error.
-    pub stopped_early: Option<usize>,
+    /// angles were traced ([`solve_curve_with`], which turns the report into its error):
+    /// `lines` then holds only the angles finished by then, mirror images not added, and the
+    /// diagnostics count their rays only. Never set in a report [`trace_curve`] returns.
+    pub(crate) stopped_early: Option<usize>,
     /// Counts and timing (every ray traced, including the axis lines).
     pub diagnostics: Diagnostics,
 }
@@ -2270,6 +2276,17 @@ impl RaytraceReport {
                 self.stopped_note()
             )));
         }
+        if self.stopped_early.is_some() {
+            // Tracing stops only at a line that makes the full curve fail: a line that did
+            // not converge (above) or, with a horizon, one whose boundary is not, or could not
+            // be checked to be, formed by photon orbits (an error below). Never a result.
+            self.not_photon_orbits()?;
+            return Err(ShadowError::NotConverged(format!(
+                "ray tracing stopped after {} curve angles{}",
+                self.lines.len(),
+                self.stopped_note()
+            )));
+        }
         if let Some(reason) = self.no_shadow.clone() {
             let status = ShadowStatus::NoShadow { reason };
             return Ok(result(status, None, self.diagnostics.clone()));
@@ -2277,14 +2294,6 @@ impl RaytraceReport {
         if let Some(reason) = self.not_photon_orbits()? {
             let status = ShadowStatus::NoShadow { reason };
             return Ok(result(status, None, self.diagnostics.clone()));
-        }
-        if self.stopped_early.is_some() {
-            // Not reached: tracing stops only at a line that makes one of the above fail.
-            return Err(ShadowError::NotConverged(format!(
-                "ray tracing stopped after {} curve angles{}",
-                self.lines.len(),
-                self.stopped_note()
-            )));
         }
         let origin = self
             .origin
@@ -2308,8 +2317,8 @@ impl RaytraceReport {
     fn stopped_note(&self) -> String {
         match self.stopped_early {
             Some(n) => format!(
-                " (the angles traced before tracing stopped at the first that refuses the \
-                 curve; {n} were asked for)"
+                " (only the angles finished before tracing stopped, after the level of lines \
+                 in which one refused the curve; {n} were asked for)"
             ),
             None => String::new(),
         }
@@ -2446,9 +2455,9 @@ pub fn solve_with(
 /// [`solve_with`] for a caller that needs the curve alone (bounds, scans, tables; the
 /// solver's [`super::ShadowSolver::solve_curve`]): the same curve, or the same kind of error,
 /// but a curve that is certain to be refused is not traced to the end. Tracing stops after
-/// the first level of lines (module docs, "Neighbour seeding") in which a line has a failed
-/// ray or, with a horizon, a boundary not formed by photon orbits; the error's counts are
-/// then those of the angles traced by then, and it says so.
+/// the first level of lines (module docs, "Neighbour seeding") in which a line did not
+/// converge or, with a horizon, has a boundary not formed by photon orbits (or not checked to
+/// be); the error's counts are then those of the angles finished by then, and it says so.
 pub fn solve_curve_with(
     spacetime: &dyn Spacetime,
     observer: &Observer,
@@ -2472,10 +2481,11 @@ pub fn trace_curve(
     trace_lines(spacetime, observer, settings, options, false)
 }
 
-/// [`trace_curve`]; with `stop_when_refused`, the lines stop at the first level where a
-/// finished line refuses the curve (a failed ray, or, with a horizon, a boundary not formed by
-/// photon orbits: [`RaytraceReport::into_result`] then fails whatever the other lines give),
-/// and the report holds the lines finished by then ([`RaytraceReport::stopped_early`]).
+/// [`trace_curve`]; with `stop_when_refused`, the lines stop after the first level in which a
+/// finished line refuses the curve (a line that did not converge, or, with a horizon, one
+/// whose boundary is not, or could not be checked to be, formed by photon orbits:
+/// [`RaytraceReport::into_result`] then fails whatever the other lines give), and the report
+/// holds the lines finished by then (`RaytraceReport::stopped_early`).
 fn trace_lines(
     spacetime: &dyn Spacetime,
     observer: &Observer,
@@ -2533,18 +2543,18 @@ fn trace_lines(
     };
     let traced = if mirror { n / 2 + 1 } else { n };
     let horizonless = tracer.horizonless;
+    // The lines that make `into_result` fail whatever the others give: one that did not
+    // converge, and, with a horizon, one whose boundary is not, or could not be checked to
+    // be, formed by photon orbits (without a horizon that is no shadow, a result).
     let refuses = move |line: &LineBoundary| {
         line.failure.is_some()
-            || (!horizonless && line.check.as_ref().and_then(|c| c.photon_orbit) == Some(false))
+            || (!horizonless && line.check.as_ref().and_then(|c| c.photon_orbit) != Some(true))
     };
     let layout = seeding::Layout {
         n,
         traced,
         mirror,
-        every: match options.anchor_every {
-            1 => 1,
-            every => every.max(n / options.max_anchors),
-        },
+        every: seeding::anchor_stride(n, options.anchor_every, options.max_anchors),
         min_half_width: target,
     };
     let levels = seeding::trace_in_levels(

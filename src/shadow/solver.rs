@@ -106,8 +106,9 @@ pub trait ShadowSolver: Send + Sync {
 
     /// The critical curve only: a solver may leave `exponents` at `None` and skip their cost.
     /// The curve must be the one [`ShadowSolver::solve`] returns; where `solve` fails, this
-    /// fails with an error of the same kind, whose message may say less (the ray tracer stops
-    /// tracing a curve once it is certain to be refused). By default it is `solve`.
+    /// fails with an error of the same kind, whose message may differ (the ray tracer stops
+    /// tracing a curve once it is certain to be refused, and reports what it found by then).
+    /// By default it is `solve`.
     fn solve_curve(
         &self,
         spacetime: &dyn Spacetime,

@@ -2,19 +2,20 @@
 //! the lines already finished.
 //!
 //! Every `anchor_every`-th line (the anchors) is scanned and refined in full
-//! ([`super::Tracer::boundary_along_line`]). The other lines follow in levels of halving
-//! stride (with the default 4: the lines k ≡ 2 mod 4, then the odd ones); each starts from
+//! ([`super::Tracer::boundary_along_line`]; with more than 64 angles, every ⌈n/16⌉-th,
+//! [`anchor_stride`]). The other lines follow in levels of halving stride, rounded down
+//! (with the default 4: the lines k ≡ 2 mod 4, then the odd ones); each starts from
 //! the crossing predicted by Lagrange interpolation in the screen angle through the four
 //! nearest finished lines on either side (septic; lines at most three anchor spacings and
-//! less than half the circle away, so on a line of the first level of a curve of 64 angles
-//! only three), with a first bracket of half-width twice the difference between that
+//! less than half the circle away, so on a line of the first level only three), with a
+//! first bracket of half-width twice the difference between that
 //! polynomial and the one through one line fewer on either side (the usual estimate of an
 //! interpolant's error by the next lower order; e.g. Press et al., *Numerical Recipes*, 3rd
 //! ed., §3.2). With only two finished lines on a side, the cubic through them is the
 //! prediction and its difference from the linear interpolation between the nearest two the
-//! estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°): the
-//! quintic of the last level is within 4e-9 M of the traced crossing, the cubic within
-//! 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line
+//! estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°)
+//! with an anchor every 4th angle, before the septic: the quintic of the last level is within
+//! 4e-9 M of the traced crossing, the cubic within 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line
 //! (with strict rays throughout, and guided from the first bracket on by the winding law
 //! interpolated between the nearest finished lines on either side that have one), so the
 //! crossing is as accurate as before. When a law guides it, the first bracket is at least
@@ -125,6 +126,16 @@ where
     Levels {
         lines: slots.into_iter().flatten().collect(),
         complete: true,
+    }
+}
+
+/// The spacing of the anchors among `n` curve angles: every `anchor_every`-th, or, with
+/// more than `anchor_every` · `max_anchors` angles, every ⌈n/`max_anchors`⌉-th, so that there
+/// are at most `max_anchors` (module docs); `anchor_every` = 1 scans every angle.
+pub(crate) fn anchor_stride(n: usize, anchor_every: usize, max_anchors: usize) -> usize {
+    match anchor_every {
+        0 | 1 => 1,
+        every => every.max(n.div_ceil(max_anchors.max(1))),
     }
 }
 
@@ -537,15 +548,66 @@ mod tests {
                 });
                 (levels, located.into_inner())
             };
+            // The lines of the refused line's level and those before: every (n / want)-th.
+            let expected: Vec<usize> = (0..n).step_by(n / want).collect();
             for threads in [1, 2] {
                 let (levels, located) = run(threads);
                 assert_eq!(levels.complete, want == n, "line {bad}, {threads} threads");
-                assert_eq!(levels.lines.len(), want, "line {bad}, {threads} threads");
+                let got: Vec<usize> = levels
+                    .lines
+                    .iter()
+                    .map(|l| (l.psi * n as f64 / std::f64::consts::TAU).round() as usize)
+                    .collect();
+                assert_eq!(got, expected, "line {bad}, {threads} threads");
                 assert!(levels.lines.iter().all(|l| l.steps == 11));
                 // On one thread the next level is never started once the refusal is known.
-                if threads == 1 && want < n {
-                    assert!(located < n, "line {bad}: {located} lines located");
+                if threads == 1 {
+                    assert_eq!(located, want, "line {bad}");
                 }
+            }
+        }
+    }
+
+    /// The anchor spacing, and every line traced once for counts of angles that are not
+    /// powers of two, with and without the mirror, the anchors at most `max_anchors`.
+    #[test]
+    fn spread_anchors_are_at_most_max_anchors_and_every_line_is_traced_once() {
+        assert_eq!(anchor_stride(64, 4, 16), 4);
+        assert_eq!(anchor_stride(256, 4, 16), 16);
+        assert_eq!(anchor_stride(100, 4, 16), 7);
+        assert_eq!(anchor_stride(1000, 4, 16), 63);
+        assert_eq!(anchor_stride(1000, 1, 16), 1);
+        for n in [100, 1000] {
+            for mirror in [false, true] {
+                let every = anchor_stride(n, 4, 16);
+                let traced = if mirror { n / 2 + 1 } else { n };
+                let layout = Layout {
+                    n,
+                    traced,
+                    mirror,
+                    every,
+                    min_half_width: 1e-9,
+                };
+                let calls = std::sync::Mutex::new(vec![0usize; traced]);
+                let anchors = std::sync::atomic::AtomicUsize::new(0);
+                let levels = trace_in_levels(
+                    layout,
+                    |k, seed| {
+                        calls.lock().unwrap()[k] += 1;
+                        if k % every == 0 {
+                            assert!(seed.is_none(), "anchor {k} of {n}");
+                            anchors.fetch_add(1, Ordering::Relaxed);
+                        }
+                        line(k, n, curve(k as f64, n))
+                    },
+                    |_| {},
+                    None,
+                );
+                assert!(levels.complete);
+                assert_eq!(levels.lines.len(), traced);
+                assert!(calls.into_inner().unwrap().iter().all(|&c| c == 1), "{n}");
+                let anchors = anchors.into_inner();
+                assert!(anchors <= 16, "{n} {mirror}: {anchors} anchors");
             }
         }
     }

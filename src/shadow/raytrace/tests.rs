@@ -356,7 +356,15 @@ fn a_curve_certain_to_be_refused_is_not_traced_to_the_end() {
         Err(ShadowError::NotConverged(m)) => m,
         other => panic!("expected a refusal, got {other:?}"),
     };
-    let quick = message(on(1));
+    // The same lines and counts on one thread as on two.
+    let one = on(1);
+    let counts = |r: &RaytraceReport| {
+        let d = &r.diagnostics;
+        let psi: Vec<f64> = r.lines.iter().map(|l| l.psi).collect();
+        (psi, d.rays_traced, d.failed_rays, d.integrator_steps)
+    };
+    assert_eq!(counts(&one), counts(&stopped));
+    let quick = message(one);
     assert_eq!(quick, message(stopped));
     assert!(quick.contains("not formed by photon orbits"), "{quick}");
     assert!(quick.contains("tracing stopped"), "{quick}");
@@ -369,4 +377,9 @@ fn a_curve_certain_to_be_refused_is_not_traced_to_the_end() {
     let a = solve_with(&kerr, &observer, &settings, &options).unwrap();
     let b = solve_curve_with(&kerr, &observer, &settings, &options).unwrap();
     assert_eq!(a.curve, b.curve);
+    let work = |r: &ShadowResult| {
+        let d = &r.diagnostics;
+        (d.rays_traced, d.integrator_steps, d.raytrace.clone())
+    };
+    assert_eq!(work(&a), work(&b));
 }
