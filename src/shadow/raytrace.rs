@@ -41,8 +41,8 @@
 //!
 //! Only every `anchor_every`-th angle (4 by default; with more than 64 angles, every
 //! ⌈n/16⌉-th, `max_anchors`, so that the star-shape diagnostic below then rests on 16 lines)
-//! is scanned as above. The others are
-//! traced afterwards, in levels of halving stride (rounded down), each from the crossing that Lagrange
+//! is scanned as above. The others are traced afterwards, in levels of halving stride
+//! (rounded down), each from the crossing that Lagrange
 //! interpolation through its finished neighbours predicts, with a first bracket whose
 //! half-width h is twice the interpolant's estimated error (then searched outward on the
 //! crossing's side in steps of 4h, 16h and 64h). The logarithmic winding law beside the

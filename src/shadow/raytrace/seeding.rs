@@ -8,23 +8,23 @@
 //! the crossing predicted by Lagrange interpolation in the screen angle through the four
 //! nearest finished lines on either side (septic; lines at most three anchor spacings and
 //! less than half the circle away, so on a line of the first level only three), with a
-//! first bracket of half-width twice the difference between that
-//! polynomial and the one through one line fewer on either side (the usual estimate of an
+//! first bracket of half-width twice the difference between that polynomial and the one
+//! through one line fewer on either side (the usual estimate of an
 //! interpolant's error by the next lower order; e.g. Press et al., *Numerical Recipes*, 3rd
 //! ed., §3.2). With only two finished lines on a side, the cubic through them is the
 //! prediction and its difference from the linear interpolation between the nearest two the
 //! estimate. Measured on a Johannsen–Psaltis curve of 256 points (a = 0.5, ε₃ = 0, 60°)
 //! with an anchor every 4th angle, before the septic: the quintic of the last level is within
-//! 4e-9 M of the traced crossing, the cubic within 1.2e-7 M. Bisection and the winding-guided refinement then proceed as on a scanned line
-//! (with strict rays throughout, and guided from the first bracket on by the winding law
-//! interpolated between the nearest finished lines on either side that have one), so the
-//! crossing is as accurate as before. When a law guides it, the first bracket is at least
-//! as wide as the distance of the photon-orbit check's middle rays
-//! ([`super::Tracer::check_crossing`]): the check then takes the bracket's rays instead of
-//! tracing its own, and the law-guided refinement closes the wider bracket in about as
-//! many rays as bisection closes the narrower one. What a seeded line does not do is the scan for
-//! further crossings along it (one loose ray where that scan would have stopped must
-//! escape). Seeding is therefore used
+//! 4e-9 M of the traced crossing, the cubic within 1.2e-7 M. Bisection and the
+//! winding-guided refinement then proceed as on a scanned line (with strict rays throughout,
+//! and guided from the first bracket on by the winding law interpolated between the nearest
+//! finished lines on either side that have one), so the crossing is as accurate as before.
+//! When a law guides it, the first bracket is at least as wide as the distance of the
+//! photon-orbit check's middle rays ([`super::Tracer::check_crossing`]): the check then takes
+//! the bracket's rays instead of tracing its own, and the law-guided refinement closes the
+//! wider bracket in about as many rays as bisection closes the narrower one. What a seeded
+//! line does not do is the scan for further crossings along it (one loose ray where that
+//! scan would have stopped must escape). Seeding is therefore used
 //! only while the curve looks star-shaped: every anchor must have exactly one crossing, and a
 //! line is predicted only from lines with one crossing; a line whose predicted bracket cannot
 //! be confirmed within a few widenings is scanned in full after all.
@@ -51,8 +51,7 @@ pub(crate) struct Seed {
 }
 
 /// Trace the first `traced` of `n` curve lines in levels (module docs; the numbers are in
-/// `layout`): `locate(k, seed)`
-/// finds line k's crossings, scanning it in full when `seed` is `None`, and `finish` then
+/// `layout`): `locate(k, seed)` finds line k's crossings, scanning it in full when `seed` is `None`, and `finish` then
 /// completes a line (its checks), which the predictions do not need: the lines of one level
 /// are finished while the next level is located. With `mirror`, line n − k is the mirror
 /// image of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around
