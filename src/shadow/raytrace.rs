@@ -2445,11 +2445,7 @@ pub fn solve_with(
     settings: &ShadowSettings,
     options: &RaytraceOptions,
 ) -> Result<ShadowResult, ShadowError> {
-    check_request(observer, settings)?;
-    if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
-        return Ok(result);
-    }
-    trace_curve(spacetime, observer, settings, options)?.into_result()
+    solve_lines(spacetime, observer, settings, options, false)
 }
 
 /// [`solve_with`] for a caller that needs the curve alone (bounds, scans, tables; the
@@ -2464,11 +2460,22 @@ pub fn solve_curve_with(
     settings: &ShadowSettings,
     options: &RaytraceOptions,
 ) -> Result<ShadowResult, ShadowError> {
+    solve_lines(spacetime, observer, settings, options, true)
+}
+
+/// [`solve_with`], or with `stop_when_refused` [`solve_curve_with`].
+fn solve_lines(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &ShadowSettings,
+    options: &RaytraceOptions,
+    stop_when_refused: bool,
+) -> Result<ShadowResult, ShadowError> {
     check_request(observer, settings)?;
     if let Some(result) = super::singular_exterior(spacetime, observer, NAME) {
         return Ok(result);
     }
-    trace_lines(spacetime, observer, settings, options, true)?.into_result()
+    trace_lines(spacetime, observer, settings, options, stop_when_refused)?.into_result()
 }
 
 /// Trace the critical curve and report every line, failures included.
