@@ -53,8 +53,11 @@
 //! follow the law to ~1e-8 M from the crossing, the loose tolerance's only to ~1e-5 M:
 //! measured on Kerr a = 0.9, 60°, where the loose rays' classification noise of ~1e-6 M
 //! shifts their distances); without a law, strict rays are used when h is at most
-//! `coarse_width`. Their crossings are as accurate as a scanned line's, and checked in the
-//! same way. A seeded line does not scan for further crossings along it: one loose ray where
+//! `coarse_width`. A prediction whose estimated error is under 0.3 of the final bracket's
+//! width (the last levels of a curve with many angles) has the two rays after the first
+//! bracket aimed at it, ∓ the larger of three times the estimate and 0.45 of that width:
+//! when they straddle the crossing the refinement ends there. Their crossings are as
+//! accurate as a scanned line's, and checked in the same way. A seeded line does not scan for further crossings along it: one loose ray where
 //! a scan would have stopped must escape, and the star-shape diagnostic
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls
 //! back to the scan). Seeding is used only when every anchor has exactly one crossing; a line
@@ -1536,9 +1539,13 @@ impl<'a> Tracer<'a> {
         scan: &LineScan,
     ) -> LineBoundary {
         let mut seed = seed;
+        let width = 2.0 * scan.tolerance;
+        // A prediction known to a small fraction of the final bracket: its rays go there
+        // first (module docs, "Neighbour seeding").
+        let aim = (seed.error <= AIM_ERROR_FRACTION * width)
+            .then_some((seed.guess, (AIM_ERRORS * seed.error).max(0.45 * width)));
         if seed.law.is_some() {
             // The check's middle rays, from the bracket (module docs, "Neighbour seeding").
-            let width = 2.0 * scan.tolerance;
             let (_, mid) = self.ladder_distances(seed.guess, width.max(WINDING_NEAR_MIN));
             seed.half_width = seed.half_width.max(mid);
         }
@@ -1551,7 +1558,7 @@ impl<'a> Tracer<'a> {
             // the start: strict rays throughout.
             probe
                 .seeded_bracket(seed, strict, &mut line)
-                .and_then(|b| probe.strict_crossing(b, scan.tolerance, seed.law, &mut line))
+                .and_then(|b| probe.strict_crossing(b, scan.tolerance, seed.law, aim, &mut line))
         } else {
             probe
                 .seeded_bracket(seed, coarse, &mut line)
@@ -1829,6 +1836,18 @@ fn by_side(laws: SideLaws, captured_a: bool) -> SideLaws {
     }
 }
 
+/// A seeded line whose predicted crossing has an estimated error of at most this fraction
+/// of the final bracket's width aims its first two rays at it ([`guided_refine`]), ∓
+/// [`AIM_ERRORS`] times the estimate or ∓0.45 of that width, whichever is more: below 0.15
+/// of the width the two rays make the final bracket when they straddle the crossing, that
+/// is, when the error is less than three times its estimate (at most 1.5 times in the
+/// prediction's measurements, docs/performance.md). Aiming at less precise predictions
+/// took more rays than the winding law's guidance (measured).
+const AIM_ERROR_FRACTION: f64 = 0.3;
+
+/// See [`AIM_ERROR_FRACTION`].
+const AIM_ERRORS: f64 = 3.0;
+
 /// Refine `bracket` until it is at most `width` wide, guided by the winding. Beside a photon
 /// orbit the winding grows like w = c − k ln|ρ − ρ_c| on each side of the crossing ρ_c
 /// (module docs, "Checks"), so the windings say where the crossing is: ρ_c fitted jointly
@@ -1845,13 +1864,40 @@ fn by_side(laws: SideLaws, captured_a: bool) -> SideLaws {
 /// always holds a change of fate, so the windings choose the rays but never weaken the
 /// result's guarantee. `probe(ρ)` classifies a ray (on the side of `a`?) and gives its
 /// winding; its error ends the refinement. Rays go into `probed`.
+///
+/// With `aim` = (ρ̂, h), a predicted crossing and a half-width, the first two rays go at
+/// ρ̂ ∓ h (the side of `a` first, each only if inside the bracket): when they fall on either
+/// side, the bracket is 2h wide. A ray on the unexpected side ends this, and the refinement
+/// goes on as above from the bracket it leaves.
 fn guided_refine<E>(
     mut bracket: Bracket,
     width: f64,
     prior: Option<SideLaws>,
+    aim: Option<(f64, f64)>,
     probed: &mut Vec<Probed>,
     mut probe: impl FnMut(f64) -> Result<(bool, f64), E>,
 ) -> Result<Bracket, E> {
+    if let Some((centre, half)) = aim {
+        let dir = (bracket.b - bracket.a).signum();
+        for (rho, expect_a) in [(centre - dir * half, true), (centre + dir * half, false)] {
+            let inside = (rho - bracket.a) * dir > 0.0 && (bracket.b - rho) * dir > 0.0;
+            if bracket.width() <= width || !inside {
+                break;
+            }
+            let (side_a, winding) = probe(rho)?;
+            probed.push((rho, winding, side_a));
+            if side_a {
+                bracket.a = rho;
+                bracket.wa = winding;
+            } else {
+                bracket.b = rho;
+                bracket.wb = winding;
+            }
+            if side_a != expect_a {
+                break;
+            }
+        }
+    }
     // The width two rays ago, for the bisection safeguard.
     let mut widths = [f64::INFINITY; 2];
     let mut eps: f64 = 0.1;
@@ -2070,12 +2116,14 @@ impl<'t, 'a> LineProbe<'t, 'a> {
     }
 
     /// The crossing in a bracket whose rays were traced at the strict tolerance, refined to
-    /// `tolerance` by [`guided_refine`]; `None` for a failed ray.
+    /// `tolerance` by [`guided_refine`] (its first rays beside `aim`, if given); `None` for a
+    /// failed ray.
     fn strict_crossing(
         &self,
         bracket: LineBracket,
         tolerance: f64,
         prior: Option<SideLaws>,
+        aim: Option<(f64, f64)>,
         line: &mut LineBoundary,
     ) -> Option<f64> {
         let strict = self.tracer.options.integrator.rtol;
@@ -2091,7 +2139,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
             wb: bracket.winding[1],
         };
         let prior = prior.map(|laws| by_side(laws, captured_lo));
-        let refined = guided_refine(start, 2.0 * tolerance, prior, &mut probed, |rho| {
+        let refined = guided_refine(start, 2.0 * tolerance, prior, aim, &mut probed, |rho| {
             self.classify(rho, strict, line)
                 .map(|(captured, w)| (captured == captured_lo, w))
                 .ok_or(())
@@ -2137,7 +2185,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
             b: scan_hi,
             wb: winding[1],
         };
-        let coarse_bracket = guided_refine(start, width, None, &mut probed, |rho| {
+        let coarse_bracket = guided_refine(start, width, None, None, &mut probed, |rho| {
             same_as_lo(rho, coarse)
         })?;
         let (lo, hi) = (coarse_bracket.a, coarse_bracket.b);
@@ -2164,7 +2212,7 @@ impl<'t, 'a> LineProbe<'t, 'a> {
         };
         // Stage 3, strict tolerance: stop when the midpoint is within `tolerance` of every
         // point of the bracket.
-        let bracket = guided_refine(bracket, 2.0 * tolerance, None, &mut probed, |rho| {
+        let bracket = guided_refine(bracket, 2.0 * tolerance, None, None, &mut probed, |rho| {
             same_as_lo(rho, strict)
         })?;
         let rho = 0.5 * (bracket.a + bracket.b);

@@ -44,6 +44,9 @@ pub(crate) struct Seed {
     pub guess: f64,
     /// Half-width of the first bracket.
     pub half_width: f64,
+    /// The prediction's estimated error: its difference from the interpolant of the next
+    /// lower order (`half_width` is twice that, but never below the smallest first bracket).
+    pub error: f64,
     /// The winding law beside the crossing, interpolated linearly in the screen angle between
     /// the nearest finished lines on either side that have one (within the reach of the
     /// prediction), to guide the refinement.
@@ -263,7 +266,8 @@ pub(crate) fn predict(
     let x = k as f64;
     let guess = lagrange(&nodes, x);
     let lower = lagrange(&nodes[1..nodes.len() - 1], x);
-    let half_width = (2.0 * (guess - lower).abs()).max(min_half_width);
+    let error = (guess - lower).abs();
+    let half_width = (2.0 * error).max(min_half_width);
     // The law between the nearest finished lines with one on either side (it is mirrored
     // with them).
     let law_side = |direction: isize| -> Option<(f64, SideLaws)> {
@@ -279,6 +283,7 @@ pub(crate) fn predict(
     (guess.is_finite() && half_width < 0.25 * guess).then_some(Seed {
         guess,
         half_width,
+        error,
         law,
     })
 }

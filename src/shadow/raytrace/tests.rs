@@ -77,6 +77,7 @@ fn a_seeded_line_finds_the_crossing_near_its_guess_and_falls_back_to_the_scan_fa
         let seed = seeding::Seed {
             guess,
             half_width,
+            error: 0.5 * half_width,
             law: None,
         };
         tracer.boundary_near([0.0, 0.0], 0.7, seed, &scan(0.0, 1e-9))
@@ -205,6 +206,43 @@ fn with_the_neighbours_slope_two_rays_on_one_side_place_the_crossing() {
         (fitted - rho_c).abs() < 1e-3 * (rho_c - bracket.a),
         "{fitted} vs {rho_c}"
     );
+}
+
+#[test]
+fn rays_aimed_at_a_precise_prediction_end_the_refinement_and_a_wrong_aim_keeps_the_guarantee() {
+    // A synthetic line: captured below ρ_c, windings on the law w = c − k ln|ρ − ρ_c|
+    // (Bozza 2002, Phys. Rev. D 66, 103001), from a first bracket ±1e-5 about the crossing.
+    let rho_c = 5.0 + 3.3e-10;
+    let width = 1e-8;
+    // (A ray that lands on ρ_c itself, as the law's guidance may place one, escapes.)
+    let winding = |rho: f64| 3.0 - (rho - rho_c).abs().max(1e-300).ln();
+    let refine = |aim: Option<(f64, f64)>| {
+        let start = Bracket {
+            a: rho_c - 1e-5,
+            wa: winding(rho_c - 1e-5),
+            b: rho_c + 1e-5,
+            wb: winding(rho_c + 1e-5),
+        };
+        let mut probed = Vec::new();
+        let end = guided_refine(start, width, None, aim, &mut probed, |rho| {
+            Ok::<_, ()>((rho < rho_c, winding(rho)))
+        })
+        .unwrap();
+        assert!(end.width() <= width && end.a < rho_c && rho_c <= end.b, "{end:?}");
+        probed
+    };
+    // A prediction 2e-9 M off, aimed at ∓0.45 of the width: two rays, one on either side.
+    let aimed = refine(Some((5.0 + 2.3e-9, 0.45 * width)));
+    assert_eq!(aimed.len(), 2, "{aimed:?}");
+    assert!(aimed[0].2 && !aimed[1].2);
+    // Without an aim the law's guidance takes more.
+    let unaimed = refine(None);
+    assert!(unaimed.len() > 2, "{unaimed:?}");
+    // An aim 1e-7 M short: the ray meant for the escaping side is captured too, and the
+    // refinement still ends with the crossing inside a bracket of the width (checked in
+    // `refine`).
+    let wrong = refine(Some((rho_c - 1e-7, 0.45 * width)));
+    assert!(wrong[0].2 && wrong[1].2 && wrong.len() > 2, "{wrong:?}");
 }
 
 #[test]
