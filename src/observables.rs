@@ -592,6 +592,50 @@ pub fn centroid_size(curve: &CriticalCurve) -> Option<(f64, f64)> {
     (mean.is_finite() && mean > 0.0).then(|| (mean, variance.sqrt() / mean))
 }
 
+/// The estimated sampling error of a quantity q computed from a curve's N samples: q on
+/// every second and every fourth sample (the curves of N/2 and N/4 points about the same
+/// origin) gives e₂ = |q_N − q_{N/2}| and e₄ = |q_N − q_{N/4}|, and the estimate is e₂²/e₄
+/// when e₄ > e₂, else e₂. For a smooth closed curve the trapezoid rule's error falls
+/// geometrically with N (Trefethen & Weideman 2014, SIAM Rev. 56, 385), e_N ≈ C ρ⁻ᴺ, so
+/// e₂ ≈ e_{N/2} and e₂²/e₄ ≈ e_N; while the errors do not yet fall that way the estimate is
+/// e₂, the error of q_{N/2}. On Kerr's mean radius (separable curves of 32–256 points
+/// against 4096, 17°–90°, a from 0.9 to 0.9999) it was never below the true error except at
+/// the level of rounding (1e-14 M), and up to about 700 times above it
+/// (tests/sampling_error.rs).
+/// `None` when N is not a multiple of 4 or q is not defined on a subset.
+///
+/// ```
+/// use umbral::observables::{centroid_size, sampling_error};
+/// use umbral::shadow::CriticalCurve;
+/// // An ellipse with semi-axes 5 and 2 about its centre, on 32 points: the mean radius is
+/// // 1.1e-6 off (against 4096 points), and estimated to be 3.3e-5 off.
+/// let ellipse = |n| CriticalCurve::from_polar([0.0, 0.0], n, |p: f64| {
+///     10.0 / (4.0 * p.cos().powi(2) + 25.0 * p.sin().powi(2)).sqrt()
+/// });
+/// let size = |c: &CriticalCurve| centroid_size(c).map(|s| s.0);
+/// let estimate = sampling_error(&ellipse(32), size).unwrap();
+/// let error = (size(&ellipse(32)).unwrap() - size(&ellipse(4096)).unwrap()).abs();
+/// assert!(error <= estimate && estimate < 1e-4);
+/// ```
+pub fn sampling_error(
+    curve: &CriticalCurve,
+    quantity: impl Fn(&CriticalCurve) -> Option<f64>,
+) -> Option<f64> {
+    let n = curve.len();
+    if n == 0 || n % 4 != 0 {
+        return None;
+    }
+    let every = |k: usize| CriticalCurve {
+        origin: curve.origin,
+        radii: curve.radii.iter().step_by(k).copied().collect(),
+    };
+    let full = quantity(curve)?;
+    let e2 = (quantity(&every(2))? - full).abs();
+    let e4 = (quantity(&every(4))? - full).abs();
+    let estimate = if e4 > e2 { e2 * e2 / e4 } else { e2 };
+    estimate.is_finite().then_some(estimate)
+}
+
 /// Area ½∮R² dψ and area centroid ((1/3A)∮R³ cos ψ dψ, (1/3A)∮R³ sin ψ dψ) + origin, by the
 /// periodic trapezoid rule on the samples.
 fn area_and_centroid(curve: &CriticalCurve) -> (f64, [f64; 2]) {

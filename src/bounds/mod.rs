@@ -54,7 +54,7 @@ use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
-use crate::observables::{CentreChoice, Observables, Quantity};
+use crate::observables::{sampling_error, CentreChoice, Observables, Quantity};
 use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use serde::{Deserialize, Serialize};
@@ -574,6 +574,23 @@ pub(crate) fn measure_curve(
         .curve
         .as_ref()
         .ok_or_else(|| "the solver reported a shadow without a curve".to_string())?;
+    measure_samples(
+        curve,
+        result.photon_orbit_radii,
+        spacetime,
+        measure,
+        want_circularity,
+    )
+}
+
+/// [`measure_curve`] of the samples `curve`.
+fn measure_samples(
+    curve: &shadow::CriticalCurve,
+    photon_orbit_radii: Option<[f64; 2]>,
+    spacetime: &dyn Spacetime,
+    measure: SizeMeasure,
+    want_circularity: bool,
+) -> Result<(f64, f64), String> {
     let (lo, hi) = curve
         .radii
         .iter()
@@ -599,10 +616,123 @@ pub(crate) fn measure_curve(
         curve,
         CentreChoice::Centroid,
         spacetime.outer_horizon(),
-        result.photon_orbit_radii,
+        photon_orbit_radii,
     )
     .map_err(|e| e.to_string())?;
     Ok((o.get(measure.quantity()), o.circularity_deviation))
+}
+
+/// Most curve points [`solve_sized`] doubles to.
+pub const MAX_SIZE_POINTS: usize = 1024;
+
+/// What [`solve_sized`] does about the size's sampling error with `points` curve points, for
+/// the assumptions printed with a result.
+pub(crate) fn sampling_note(points: usize) -> String {
+    if points % 4 == 0 && points > 0 {
+        format!(
+            "doubled, up to {MAX_SIZE_POINTS}, where the size's sampling error estimated from \
+             every second and fourth point exceeds the boundary tolerance"
+        )
+    } else {
+        "the size's sampling error is not estimated: the number of points is not a multiple \
+         of 4"
+            .to_string()
+    }
+}
+
+/// A point's shadow reduced to its size measure.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SizedPoint {
+    /// No horizon, and not evaluated (see [`PointShadow::NoHorizon`]).
+    NoHorizon,
+    /// A horizon but no shadow; the solver's reason.
+    NoShadow(String),
+    /// The size (r_sh/M) and ΔC (NaN unless wanted), and whether the point has no horizon.
+    Shadow {
+        /// The size measure, r_sh/M.
+        size: f64,
+        /// ΔC, NaN unless wanted.
+        circularity: f64,
+        /// Whether the point has no horizon.
+        horizonless: bool,
+    },
+}
+
+/// Solve a point ([`shadow::solve_classified`]) and measure its curve ([`measure_curve`]),
+/// with the size's sampling error within the boundary tolerance: while the error estimated
+/// from every second and fourth point ([`crate::observables::sampling_error`]) exceeds
+/// `settings.tolerance` (or ΔC's, when wanted, the tolerance over the size), the curve is
+/// solved again with twice the points, up to [`MAX_SIZE_POINTS`]. A size still not within the
+/// tolerance there is an error, never a value. With 64 points the mean radius of Kerr at 90°
+/// is off by 1.2e-7 M at a = 0.998 and 3e-6 M at a = 0.9999 (128 and 256 points bring both
+/// under 1e-9 M); below a = 0.99 no doubling is needed.
+///
+/// ```
+/// use umbral::bounds::{solve_sized, SizeMeasure, SizedPoint};
+/// use umbral::metrics::Kerr;
+/// use umbral::shadow::{Observer, ShadowSettings};
+/// let kerr = Kerr::new(0.5).unwrap();
+/// let point = solve_sized(&kerr, &Observer::distant(1.0), &ShadowSettings::default(), false,
+///     SizeMeasure::Mean, false).unwrap();
+/// let SizedPoint::Shadow { size, .. } = point else { panic!() };
+/// // Near 3√3 for any spin (Bardeen 1973).
+/// assert!((size - 27f64.sqrt()).abs() < 0.1);
+/// ```
+pub fn solve_sized(
+    spacetime: &dyn Spacetime,
+    observer: &Observer,
+    settings: &shadow::ShadowSettings,
+    require_horizon: bool,
+    measure: SizeMeasure,
+    want_circularity: bool,
+) -> Result<SizedPoint, String> {
+    let mut settings = settings.clone();
+    loop {
+        let (result, horizonless) =
+            match shadow::solve_classified(spacetime, observer, &settings, require_horizon)
+                .map_err(|e| e.to_string())?
+            {
+                PointShadow::NoHorizon => return Ok(SizedPoint::NoHorizon),
+                PointShadow::NoShadow { reason, .. } => return Ok(SizedPoint::NoShadow(reason)),
+                PointShadow::Shadow {
+                    result,
+                    horizonless,
+                } => (result, horizonless),
+            };
+        let (size, circularity) = measure_curve(&result, spacetime, measure, want_circularity)?;
+        let tolerance = settings.tolerance;
+        // Of the size (0) or ΔC (1), on a subset of the samples.
+        let of = |k: usize| {
+            let radii = result.photon_orbit_radii;
+            move |curve: &shadow::CriticalCurve| {
+                measure_samples(curve, radii, spacetime, measure, want_circularity)
+                    .ok()
+                    .map(|m| if k == 0 { m.0 } else { m.1 })
+            }
+        };
+        let curve = result.curve.as_ref().expect("a shadow has a curve");
+        let mut error = sampling_error(curve, of(0)).unwrap_or(0.0);
+        if want_circularity {
+            let c = sampling_error(curve, of(1)).unwrap_or(0.0);
+            error = error.max(c * size);
+        }
+        if error <= tolerance {
+            return Ok(SizedPoint::Shadow {
+                size,
+                circularity,
+                horizonless,
+            });
+        }
+        if 2 * settings.points > MAX_SIZE_POINTS {
+            return Err(format!(
+                "the size's sampling error is estimated at {error:.1e} M with {} curve points \
+                 (tolerance {} M); more points are needed than the {MAX_SIZE_POINTS} allowed",
+                settings.points,
+                Num(tolerance)
+            ));
+        }
+        settings.points *= 2;
+    }
 }
 
 impl PointModel for Model<'_> {
@@ -613,30 +743,25 @@ impl PointModel for Model<'_> {
         };
         let observer = Observer::distant(inclination);
         let settings = &self.request.settings;
-        match shadow::solve_classified(
+        match solve_sized(
             spacetime.as_ref(),
             &observer,
             &settings.shadow,
             settings.require_horizon,
+            self.request.size_measure,
+            self.want_circularity,
         ) {
-            Err(e) => PointValue::Failed(e.to_string()),
-            Ok(PointShadow::NoHorizon) => PointValue::NoHorizon,
-            Ok(PointShadow::NoShadow { reason, .. }) => PointValue::NoShadow(reason),
-            Ok(PointShadow::Shadow {
-                result,
+            Err(e) => PointValue::Failed(e),
+            Ok(SizedPoint::NoHorizon) => PointValue::NoHorizon,
+            Ok(SizedPoint::NoShadow(reason)) => PointValue::NoShadow(reason),
+            Ok(SizedPoint::Shadow {
+                size,
+                circularity,
                 horizonless,
-            }) => match measure_curve(
-                &result,
-                spacetime.as_ref(),
-                self.request.size_measure,
-                self.want_circularity,
-            ) {
-                Ok((size, circularity)) => PointValue::Valid {
-                    size,
-                    circularity,
-                    horizon: !horizonless,
-                },
-                Err(m) => PointValue::Failed(m),
+            }) => PointValue::Valid {
+                size,
+                circularity,
+                horizon: !horizonless,
             },
         }
     }
@@ -1051,8 +1176,10 @@ fn describe(prep: &Prepared, partial: bool, node_count: usize, failure_edges: bo
         s.shadow.solver.name()
     };
     a.push(format!(
-        "solver: {solver} shadow solver, {} curve points, boundary tolerance {:e} M",
-        s.shadow.points, s.shadow.tolerance
+        "solver: {solver} shadow solver, {} curve points ({}), boundary tolerance {:e} M",
+        s.shadow.points,
+        sampling_note(s.shadow.points),
+        s.shadow.tolerance
     ));
     a
 }

@@ -59,7 +59,7 @@ use crate::metric::Symmetry;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
 use crate::sampling::Prior;
-use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
+use crate::shadow::{self, Observer, ShadowSettings, SolverChoice};
 
 /// What to infer: the metric, the priors given, the measured sources and how shadows are
 /// computed.
@@ -576,8 +576,12 @@ impl PosteriorModel {
             self.shadow.tolerance,
             if self.tabulated {
                 "solver chosen automatically, interpolated (piecewise cubic) in a table per source"
+                    .to_string()
             } else {
-                "curve-only solve at every sample, solver chosen automatically"
+                format!(
+                    "curve-only solve at every sample ({}), solver chosen automatically",
+                    crate::bounds::sampling_note(self.shadow.points)
+                )
             }
         ));
         for r in self
@@ -735,23 +739,21 @@ impl PosteriorModel {
             return Ok(f64::NEG_INFINITY);
         };
         let observer = Observer::distant(inclination);
-        let classified = shadow::solve_classified(
+        let sized = crate::bounds::solve_sized(
             spacetime.as_ref(),
             &observer,
             &self.shadow,
             self.require_horizon,
-        )
-        .map_err(|e| format!("source {}: {e}", k + 1))?;
-        let PointShadow::Shadow { result, .. } = classified else {
-            return Ok(f64::NEG_INFINITY);
-        };
-        let (size, delta_c) = crate::bounds::measure_curve(
-            &result,
-            spacetime.as_ref(),
             self.size_measure,
             term.needs_circularity(),
         )
         .map_err(|e| format!("source {}: {e}", k + 1))?;
-        Ok(term.log_likelihood(size, delta_c, &ring))
+        let crate::bounds::SizedPoint::Shadow {
+            size, circularity, ..
+        } = sized
+        else {
+            return Ok(f64::NEG_INFINITY);
+        };
+        Ok(term.log_likelihood(size, circularity, &ring))
     }
 }

@@ -228,7 +228,10 @@ fn rays_aimed_at_a_precise_prediction_end_the_refinement_and_a_wrong_aim_keeps_t
             Ok::<_, ()>((rho < rho_c, winding(rho)))
         })
         .unwrap();
-        assert!(end.width() <= width && end.a < rho_c && rho_c <= end.b, "{end:?}");
+        assert!(
+            end.width() <= width && end.a < rho_c && rho_c <= end.b,
+            "{end:?}"
+        );
         probed
     };
     // A prediction 2e-9 M off, aimed at ∓0.45 of the width: two rays, one on either side.
