@@ -91,7 +91,9 @@ pub const TABLE_NODES: usize = 9;
 
 /// Points per critical curve in a likelihood evaluation: the mean radius of a smooth curve
 /// converges spectrally in the number of points, and at 64 it agrees with 256 to below 1e-9 M
-/// for Kerr up to a = 0.99 (tests/posterior.rs checks this).
+/// for Kerr up to a = 0.99 (tests/posterior.rs checks this). Where the estimated sampling
+/// error exceeds the boundary tolerance (Kerr a = 0.998 seen edge-on), the curve is solved
+/// again with more points ([`crate::bounds::solve_sized`]).
 pub const LIKELIHOOD_POINTS: usize = 64;
 
 impl InferenceRequest {
