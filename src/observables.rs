@@ -622,7 +622,7 @@ pub fn sampling_error(
     quantity: impl Fn(&CriticalCurve) -> Option<f64>,
 ) -> Option<f64> {
     let n = curve.len();
-    if n == 0 || n % 4 != 0 {
+    if n == 0 || !n.is_multiple_of(4) {
         return None;
     }
     let every = |k: usize| CriticalCurve {

@@ -628,7 +628,7 @@ pub const MAX_SIZE_POINTS: usize = 1024;
 /// What [`solve_sized`] does about the size's sampling error with `points` curve points, for
 /// the assumptions printed with a result.
 pub(crate) fn sampling_note(points: usize) -> String {
-    if points % 4 == 0 && points > 0 {
+    if points.is_multiple_of(4) && points > 0 {
         format!(
             "doubled, up to {MAX_SIZE_POINTS}, where the size's sampling error estimated from \
              every second and fourth point exceeds the boundary tolerance"
@@ -686,7 +686,7 @@ pub fn solve_sized(
     measure: SizeMeasure,
     want_circularity: bool,
 ) -> Result<SizedPoint, String> {
-    let mut settings = settings.clone();
+    let mut settings = *settings;
     loop {
         let (result, horizonless) =
             match shadow::solve_classified(spacetime, observer, &settings, require_horizon)
