@@ -596,13 +596,13 @@ pub fn centroid_size(curve: &CriticalCurve) -> Option<(f64, f64)> {
 /// every second and every fourth sample (the curves of N/2 and N/4 points about the same
 /// origin) gives e₂ = |q_N − q_{N/2}| and e₄ = |q_N − q_{N/4}|, and the estimate is e₂²/e₄
 /// when e₄ > e₂, else e₂. For a smooth closed curve the trapezoid rule's error falls
-/// geometrically with N (Trefethen & Weideman 2014, SIAM Rev. 56, 385), e_N ≈ C ρ⁻ᴺ, so
-/// e₂ ≈ e_{N/2} and e₂²/e₄ ≈ e_N; while the errors do not yet fall that way the estimate is
-/// e₂, the error of q_{N/2}. On Kerr's mean radius (separable curves of 32–256 points
-/// against 4096, 17°–90°, a from 0.9 to 0.9999) it was never below the true error except at
-/// the level of rounding (1e-14 M), and up to about 700 times above it
-/// (tests/sampling_error.rs).
-/// `None` when N is not a multiple of 4 or q is not defined on a subset.
+/// geometrically with N (Trefethen & Weideman 2014, SIAM Rev. 56, 385), e_M ≈ C ρ⁻ᴹ, so
+/// e₂ ≈ e_{N/2}, e₄ ≈ e_{N/4}, and e₂²/e₄ ≈ e_{3N/4}: above e_N by the factor e₄/e₂ = ρ^{N/4},
+/// a deliberate margin. While the errors do not yet fall that way the estimate is e₂, the
+/// error of q_{N/2}. On Kerr's mean radius (separable curves of 32–256 points against 4096,
+/// 17°–90°, a from 0.9 to 0.9999) it was never below the true error except at the level of
+/// rounding (1e-13 M), and up to about 700 times above it (tests/sampling_error.rs). `None`
+/// when N is not a multiple of 4 or q is not defined on a subset.
 ///
 /// ```
 /// use umbral::observables::{centroid_size, sampling_error};

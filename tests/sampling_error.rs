@@ -43,6 +43,8 @@ fn the_estimate_bounds_the_mean_radius_error_of_kerr_curves() {
     for degrees in [17.0, 60.0, 90.0] {
         for a in [0.9, 0.99, 0.998, 0.9999] {
             let reference = mean_radius(&kerr_curve(a, degrees, 4096)).unwrap();
+            let half = mean_radius(&kerr_curve(a, degrees, 2048)).unwrap();
+            assert!((reference - half).abs() < 1e-13, "a = {a}, {degrees} deg");
             for points in [32, 64, 128, 256] {
                 let curve = kerr_curve(a, degrees, points);
                 let error = (mean_radius(&curve).unwrap() - reference).abs();
@@ -83,16 +85,18 @@ fn a_size_not_resolved_by_the_points_is_solved_again_with_more() {
     let sized = |a: f64| {
         let kerr = Kerr::new(a).unwrap();
         match solve_sized(&kerr, &observer, &settings, false, SizeMeasure::Mean, true).unwrap() {
-            SizedPoint::Shadow { size, .. } => size,
+            SizedPoint::Shadow { size, points, .. } => (size, points),
             other => panic!("{other:?}"),
         }
     };
     let reference = mean_radius(&kerr_curve(0.998, 90.0, 4096)).unwrap();
     let plain = mean_radius(&kerr_curve(0.998, 90.0, 64)).unwrap();
     assert!((plain - reference).abs() > 5e-8, "{:e}", plain - reference);
-    let size = sized(0.998);
+    let (size, points) = sized(0.998);
+    assert_eq!(points, 128);
     assert!((size - reference).abs() < 1e-9, "{:e}", size - reference);
-    let low_spin = sized(0.5);
+    let (low_spin, points) = sized(0.5);
+    assert_eq!(points, 64);
     assert_eq!(
         low_spin,
         mean_radius(&kerr_curve_within(0.5, 90.0, 64, 1e-8)).unwrap()
@@ -166,10 +170,28 @@ fn a_size_never_resolved_is_an_error() {
         Err(message) => {
             println!("{message}");
             assert!(
-                message.contains("sampling error") && message.contains("1024 curve points"),
+                message.contains("sampling error is estimated")
+                    && message.contains("1024 curve points"),
                 "{message}"
             )
         }
         Ok(point) => panic!("{point:?}"),
+    }
+}
+
+/// Fewer than 16 points (subsets under 4 points) are measured as asked, without an estimate:
+/// the near-extremal edge-on curve on 12 points is returned from 12 points.
+#[test]
+fn too_few_points_are_not_doubled() {
+    let settings = ShadowSettings {
+        points: 12,
+        tolerance: 1e-8,
+        ..Default::default()
+    };
+    let kerr = Kerr::new(0.998).unwrap();
+    let observer = Observer::distant(90f64.to_radians());
+    match solve_sized(&kerr, &observer, &settings, false, SizeMeasure::Mean, false).unwrap() {
+        SizedPoint::Shadow { points, .. } => assert_eq!(points, 12),
+        other => panic!("{other:?}"),
     }
 }

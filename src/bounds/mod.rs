@@ -562,29 +562,9 @@ impl Model<'_> {
     }
 }
 
-/// The size measure (and ΔC) of a critical curve. A curve with equal radii about the screen
-/// origin is a circle: R̄ = √(Area/π) = R and ΔC = 0 exactly.
-pub(crate) fn measure_curve(
-    result: &shadow::ShadowResult,
-    spacetime: &dyn Spacetime,
-    measure: SizeMeasure,
-    want_circularity: bool,
-) -> Result<(f64, f64), String> {
-    let curve = result
-        .curve
-        .as_ref()
-        .ok_or_else(|| "the solver reported a shadow without a curve".to_string())?;
-    measure_samples(
-        curve,
-        result.photon_orbit_radii,
-        spacetime,
-        measure,
-        want_circularity,
-    )
-}
-
-/// [`measure_curve`] of the samples `curve`.
-fn measure_samples(
+/// The size measure (and ΔC) of a critical curve's samples. A curve with equal radii about
+/// the screen origin is a circle: R̄ = √(Area/π) = R and ΔC = 0 exactly.
+fn measure_curve(
     curve: &shadow::CriticalCurve,
     photon_orbit_radii: Option<[f64; 2]>,
     spacetime: &dyn Spacetime,
@@ -622,23 +602,30 @@ fn measure_samples(
     Ok((o.get(measure.quantity()), o.circularity_deviation))
 }
 
-/// Most curve points [`solve_sized`] doubles to.
-pub const MAX_SIZE_POINTS: usize = 1024;
-
 /// What [`solve_sized`] does about the size's sampling error with `points` curve points, for
 /// the assumptions printed with a result.
 pub(crate) fn sampling_note(points: usize) -> String {
-    if points.is_multiple_of(4) && points > 0 {
+    if estimates_sampling_error(points) {
         format!(
-            "doubled, up to {MAX_SIZE_POINTS}, where the size's sampling error estimated from \
-             every second and fourth point exceeds the boundary tolerance"
+            "points doubled, up to {MAX_SIZE_POINTS}, where the sampling error of the size (and \
+             of ΔC times the size, when ΔC is constrained), estimated from every second and \
+             fourth point, exceeds the boundary tolerance"
         )
     } else {
-        "the size's sampling error is not estimated: the number of points is not a multiple \
-         of 4"
+        "the size's sampling error is not estimated: that needs a multiple of 4 points, at \
+         least 16"
             .to_string()
     }
 }
+
+/// Whether [`solve_sized`] estimates the sampling error with `points` curve points: the
+/// subsets of every second and fourth point must be curves of at least 4 points.
+fn estimates_sampling_error(points: usize) -> bool {
+    points.is_multiple_of(4) && points / 4 >= crate::observables::MIN_POINTS
+}
+
+/// Most curve points [`solve_sized`] doubles to.
+pub const MAX_SIZE_POINTS: usize = 1024;
 
 /// A point's shadow reduced to its size measure.
 #[derive(Debug, Clone, PartialEq)]
@@ -655,17 +642,21 @@ pub enum SizedPoint {
         circularity: f64,
         /// Whether the point has no horizon.
         horizonless: bool,
+        /// The curve points it was measured on.
+        points: usize,
     },
 }
 
-/// Solve a point ([`shadow::solve_classified`]) and measure its curve ([`measure_curve`]),
+/// Solve a point ([`shadow::solve_classified`]) and measure its curve,
 /// with the size's sampling error within the boundary tolerance: while the error estimated
 /// from every second and fourth point ([`crate::observables::sampling_error`]) exceeds
-/// `settings.tolerance` (or ΔC's, when wanted, the tolerance over the size), the curve is
-/// solved again with twice the points, up to [`MAX_SIZE_POINTS`]. A size still not within the
-/// tolerance there is an error, never a value. With 64 points the mean radius of Kerr at 90°
-/// is off by 1.2e-7 M at a = 0.998 and 3e-6 M at a = 0.9999 (128 and 256 points bring both
-/// under 1e-9 M); below a = 0.99 no doubling is needed.
+/// `settings.tolerance` (or ΔC's, when wanted, the tolerance over the size: ΔC R̄ is the
+/// curve's rms deviation in M), or cannot be estimated on those subsets, the curve is solved
+/// again with twice the points, up to [`MAX_SIZE_POINTS`]. A size still not known within the
+/// tolerance there is an error, never a value. With fewer than 16 points, or a number that
+/// is not a multiple of 4, nothing is estimated ([`sampling_note`] says so). With 64 points
+/// the mean radius of Kerr at 90° is off by 1.2e-7 M at a = 0.998 and 3e-6 M at a = 0.9999
+/// (128 and 256 points bring both under 1e-9 M); below a = 0.99 no doubling is needed.
 ///
 /// ```
 /// use umbral::bounds::{solve_sized, SizeMeasure, SizedPoint};
@@ -674,9 +665,10 @@ pub enum SizedPoint {
 /// let kerr = Kerr::new(0.5).unwrap();
 /// let point = solve_sized(&kerr, &Observer::distant(1.0), &ShadowSettings::default(), false,
 ///     SizeMeasure::Mean, false).unwrap();
-/// let SizedPoint::Shadow { size, .. } = point else { panic!() };
-/// // Near 3√3 for any spin (Bardeen 1973).
+/// let SizedPoint::Shadow { size, points, .. } = point else { panic!() };
+/// // Near 3√3 for any spin (Bardeen 1973), and resolved by the 256 points asked for.
 /// assert!((size - 27f64.sqrt()).abs() < 0.1);
+/// assert_eq!(points, 256);
 /// ```
 pub fn solve_sized(
     spacetime: &dyn Spacetime,
@@ -699,34 +691,46 @@ pub fn solve_sized(
                     horizonless,
                 } => (result, horizonless),
             };
-        let (size, circularity) = measure_curve(&result, spacetime, measure, want_circularity)?;
-        let tolerance = settings.tolerance;
-        // Of the size (0) or ΔC (1), on a subset of the samples.
-        let of = |k: usize| {
-            let radii = result.photon_orbit_radii;
-            move |curve: &shadow::CriticalCurve| {
-                measure_samples(curve, radii, spacetime, measure, want_circularity)
-                    .ok()
-                    .map(|m| if k == 0 { m.0 } else { m.1 })
-            }
+        let curve = result
+            .curve
+            .as_ref()
+            .ok_or_else(|| "the solver reported a shadow without a curve".to_string())?;
+        let radii = result.photon_orbit_radii;
+        let measured = |c: &shadow::CriticalCurve| {
+            measure_curve(c, radii, spacetime, measure, want_circularity)
         };
-        let curve = result.curve.as_ref().expect("a shadow has a curve");
-        let mut error = sampling_error(curve, of(0)).unwrap_or(0.0);
-        if want_circularity {
-            let c = sampling_error(curve, of(1)).unwrap_or(0.0);
-            error = error.max(c * size);
+        let (size, circularity) = measured(curve)?;
+        let shadow = SizedPoint::Shadow {
+            size,
+            circularity,
+            horizonless,
+            points: settings.points,
+        };
+        if !estimates_sampling_error(settings.points) {
+            return Ok(shadow);
         }
-        if error <= tolerance {
-            return Ok(SizedPoint::Shadow {
-                size,
-                circularity,
-                horizonless,
-            });
+        // The size's, and ΔC's in M; `None` if a subset could not be measured.
+        let error = sampling_error(curve, |c| measured(c).ok().map(|m| m.0)).and_then(|e| {
+            if want_circularity {
+                sampling_error(curve, |c| measured(c).ok().map(|m| m.1)).map(|c| e.max(c * size))
+            } else {
+                Some(e)
+            }
+        });
+        let tolerance = settings.tolerance;
+        if error.is_some_and(|e| e <= tolerance) {
+            return Ok(shadow);
         }
         if 2 * settings.points > MAX_SIZE_POINTS {
+            let estimate = match error {
+                Some(e) => format!("is estimated at {e:.1e} M"),
+                None => "cannot be estimated (a subset of the points is not a curve that can \
+                         be measured)"
+                    .to_string(),
+            };
             return Err(format!(
-                "the size's sampling error is estimated at {error:.1e} M with {} curve points \
-                 (tolerance {} M); more points are needed than the {MAX_SIZE_POINTS} allowed",
+                "the size's sampling error {estimate} with {} curve points (tolerance {} M), \
+                 and the points are not doubled beyond {MAX_SIZE_POINTS}",
                 settings.points,
                 Num(tolerance)
             ));
@@ -758,6 +762,7 @@ impl PointModel for Model<'_> {
                 size,
                 circularity,
                 horizonless,
+                ..
             }) => PointValue::Valid {
                 size,
                 circularity,

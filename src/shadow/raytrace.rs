@@ -56,7 +56,8 @@
 //! `coarse_width`. A prediction whose estimated error is under 0.3 of the final bracket's
 //! width (the last levels of a curve with many angles) has the two rays after the first
 //! bracket aimed at it, ∓ the larger of three times the estimate and 0.45 of that width:
-//! when they straddle the crossing the refinement ends there. Their crossings are as
+//! with an estimate under 0.15 of the width, the refinement ends there when they straddle
+//! the crossing; otherwise it goes on from the bracket they leave. Their crossings are as
 //! accurate as a scanned line's, and checked in the same way. A seeded line does not scan for further crossings along it: one loose ray where
 //! a scan would have stopped must escape, and the star-shape diagnostic
 //! ([`super::Diagnostics::star_shaped`]) is made on the anchors (and on any line that falls

@@ -211,41 +211,58 @@ fn with_the_neighbours_slope_two_rays_on_one_side_place_the_crossing() {
 #[test]
 fn rays_aimed_at_a_precise_prediction_end_the_refinement_and_a_wrong_aim_keeps_the_guarantee() {
     // A synthetic line: captured below ρ_c, windings on the law w = c − k ln|ρ − ρ_c|
-    // (Bozza 2002, Phys. Rev. D 66, 103001), from a first bracket ±1e-5 about the crossing.
+    // (Bozza 2002, Phys. Rev. D 66, 103001), from a first bracket ±1e-5 about the crossing;
+    // `reversed` puts the bracket's `a` end (the side of the first aimed ray) above ρ_c.
     let rho_c = 5.0 + 3.3e-10;
     let width = 1e-8;
     // (A ray that lands on ρ_c itself, as the law's guidance may place one, escapes.)
     let winding = |rho: f64| 3.0 - (rho - rho_c).abs().max(1e-300).ln();
-    let refine = |aim: Option<(f64, f64)>| {
+    let refine = |aim: Option<(f64, f64)>, reversed: bool| {
+        let (a, b) = if reversed {
+            (rho_c + 1e-5, rho_c - 1e-5)
+        } else {
+            (rho_c - 1e-5, rho_c + 1e-5)
+        };
         let start = Bracket {
-            a: rho_c - 1e-5,
-            wa: winding(rho_c - 1e-5),
-            b: rho_c + 1e-5,
-            wb: winding(rho_c + 1e-5),
+            a,
+            wa: winding(a),
+            b,
+            wb: winding(b),
         };
         let mut probed = Vec::new();
         let end = guided_refine(start, width, None, aim, &mut probed, |rho| {
-            Ok::<_, ()>((rho < rho_c, winding(rho)))
+            let captured = rho < rho_c;
+            Ok::<_, ()>((captured != reversed, winding(rho)))
         })
         .unwrap();
-        assert!(
-            end.width() <= width && end.a < rho_c && rho_c <= end.b,
-            "{end:?}"
-        );
+        // A change of fate within the width, and every ray inside the first bracket.
+        let (lo, hi) = (end.a.min(end.b), end.a.max(end.b));
+        assert!(end.width() <= width && lo < rho_c && rho_c <= hi, "{end:?}");
+        assert!(probed.iter().all(|p| p.0 > a.min(b) && p.0 < a.max(b)));
         probed
     };
-    // A prediction 2e-9 M off, aimed at ∓0.45 of the width: two rays, one on either side.
-    let aimed = refine(Some((5.0 + 2.3e-9, 0.45 * width)));
-    assert_eq!(aimed.len(), 2, "{aimed:?}");
-    assert!(aimed[0].2 && !aimed[1].2);
-    // Without an aim the law's guidance takes more.
-    let unaimed = refine(None);
-    assert!(unaimed.len() > 2, "{unaimed:?}");
-    // An aim 1e-7 M short: the ray meant for the escaping side is captured too, and the
-    // refinement still ends with the crossing inside a bracket of the width (checked in
-    // `refine`).
-    let wrong = refine(Some((rho_c - 1e-7, 0.45 * width)));
-    assert!(wrong[0].2 && wrong[1].2 && wrong.len() > 2, "{wrong:?}");
+    for reversed in [false, true] {
+        let dir = if reversed { -1.0 } else { 1.0 };
+        // A prediction 2e-9 M off, aimed at ∓0.45 of the width: two rays, one on either side.
+        let aimed = refine(Some((rho_c + dir * 2e-9, 0.45 * width)), reversed);
+        assert_eq!(aimed.len(), 2, "{aimed:?}");
+        assert!(aimed[0].2 && !aimed[1].2);
+        // Without an aim the law's guidance takes more.
+        let unaimed = refine(None, reversed);
+        assert!(unaimed.len() > 2, "{unaimed:?}");
+        // An aim 1e-7 M short of the crossing: the ray meant for b's side falls on a's too,
+        // and the refinement still ends with the crossing in a bracket of the width.
+        let short = refine(Some((rho_c - dir * 1e-7, 0.45 * width)), reversed);
+        assert!(short[0].2 && short[1].2 && short.len() > 2, "{short:?}");
+        // 1e-7 M beyond it: the first ray is already on b's side, and no second is aimed
+        // (the next ray is not 0.9 width from it).
+        let beyond = refine(Some((rho_c + dir * 1e-7, 0.45 * width)), reversed);
+        assert!(!beyond[0].2 && beyond.len() > 2, "{beyond:?}");
+        assert!((beyond[1].0 - beyond[0].0).abs() > width, "{beyond:?}");
+        // An aim whose first ray would fall outside the bracket: nothing is aimed.
+        let outside = refine(Some((rho_c - dir * 1e-5, 0.45 * width)), reversed);
+        assert!(outside.len() > 2, "{outside:?}");
+    }
 }
 
 #[test]
