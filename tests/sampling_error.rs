@@ -195,3 +195,101 @@ fn too_few_points_are_not_doubled() {
         other => panic!("{other:?}"),
     }
 }
+
+/// A solver whose curve ripples: R(ψ) = 5 + 0.01 (cos 15ψ + cos 17ψ) about the origin. Every
+/// harmonic of R, and of R³ cos ψ and R³ sin ψ (the centroid's integrands), is below 16 or
+/// not a multiple of 16, except the ones whose means vanish; so the trapezoid rule gives the
+/// area, the centroid and the mean radius exactly on 64, 32 and 16 points. The square of R,
+/// which ΔC's rms deviation integrates, holds cos 32ψ (from the product of the two ripples):
+/// exact on 64 points, aliased on 32 and 16 (the trapezoid rule integrates cos mψ exactly
+/// on N points unless N divides m; e.g. Trefethen & Weideman 2014, SIAM Rev. 56, 385, §3).
+/// Only ΔC's estimate is then above the tolerance on 64 points.
+struct RippledCurve;
+
+impl ShadowSolver for RippledCurve {
+    fn name(&self) -> &'static str {
+        "rippled-test-curve"
+    }
+    fn summary(&self) -> &'static str {
+        "a test curve with two ripples, for any metric"
+    }
+    fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
+        Ok(())
+    }
+    fn solve(
+        &self,
+        _: &dyn Spacetime,
+        _: &Observer,
+        settings: &ShadowSettings,
+    ) -> Result<ShadowResult, ShadowError> {
+        Ok(ShadowResult {
+            solver: self.name(),
+            status: ShadowStatus::Shadow,
+            curve: Some(CriticalCurve::from_polar(
+                [0.0, 0.0],
+                settings.points,
+                |p| 5.0 + 0.01 * ((15.0 * p).cos() + (17.0 * p).cos()),
+            )),
+            photon_orbit_radii: Some([3.0, 3.0]),
+            photon_spheres: Vec::new(),
+            exponents: None,
+            orbits: None,
+            diagnostics: Diagnostics {
+                star_shaped: true,
+                ..Diagnostics::default()
+            },
+        })
+    }
+}
+
+/// ΔC alone doubles the points when it is constrained: on the rippled curve the size's
+/// estimate is at rounding on 64 points and its ΔC's is not, so a sized solve that wants ΔC
+/// goes to 128 points and one that does not keeps 64, with the same size.
+#[test]
+fn a_circularity_not_resolved_by_the_points_doubles_them_alone() {
+    match register_solver(RippledCurve) {
+        Ok(()) => {}
+        Err(ShadowError::BadRequest(m)) => assert!(m.contains("already registered"), "{m}"),
+        Err(e) => panic!("{e}"),
+    }
+    let settings = ShadowSettings {
+        points: 64,
+        tolerance: 1e-8,
+        solver: "rippled-test-curve".parse().unwrap(),
+    };
+    let curve = RippledCurve
+        .solve(&Schwarzschild, &Observer::distant(1.0), &settings)
+        .unwrap()
+        .curve
+        .unwrap();
+    let size_estimate = sampling_error(&curve, mean_radius).unwrap();
+    assert!(size_estimate < 1e-12, "{size_estimate:e}");
+    let sized = |want_circularity: bool| match solve_sized(
+        &Schwarzschild,
+        &Observer::distant(1.0),
+        &settings,
+        false,
+        SizeMeasure::Mean,
+        want_circularity,
+    )
+    .unwrap()
+    {
+        SizedPoint::Shadow {
+            size,
+            circularity,
+            points,
+            ..
+        } => (size, circularity, points),
+        other => panic!("{other:?}"),
+    };
+    let (size, _, points) = sized(false);
+    assert_eq!(points, 64);
+    let (size_with, circularity, points_with) = sized(true);
+    assert_eq!(points_with, 128);
+    assert!((size - size_with).abs() < 1e-12, "{size} {size_with}");
+    // ΔC (the rms deviation of the radius over the mean radius) of R = 5 + ε (cos 15ψ +
+    // cos 17ψ) about its centroid, the origin: the rms is ε (1/2 + 1/2)^½ = ε, so ΔC = ε/5,
+    // exact on 128 points. On 32 and 16 points cos 32ψ adds ε² to the variance (ΔC = √2 ε/5),
+    // so ΔC's estimate on 64 points was 8e-4: 4e-3 M times the size, far above 1e-8 M.
+    assert!((circularity - 0.002).abs() < 1e-14, "{circularity}");
+}
