@@ -16,7 +16,8 @@ use umbral::bounds::{
 };
 use umbral::measurement::{DerivedRadii, RadiusInterval};
 use umbral::metrics::MetricSource;
-use umbral::scan::{run_scan, GridAxis, ScanRequest};
+use umbral::scan::{run_scan, GridAxis, ScanRequest, DEFAULT_SCAN_POINTS};
+use umbral::shadow::ShadowSettings;
 
 /// Invented intervals on the mean radius.
 fn radii() -> DerivedRadii {
@@ -89,7 +90,11 @@ fn traced_bounds(c: &mut Criterion) {
         ],
         fixed: vec![],
         inclination_deg: Some(60.0),
-        settings: Default::default(),
+        // The command line's default: curves start from 64 points, doubled where needed.
+        settings: ShadowSettings {
+            points: DEFAULT_SCAN_POINTS,
+            ..Default::default()
+        },
         require_horizon: false,
     };
     let path = std::env::temp_dir().join(format!(

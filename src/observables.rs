@@ -19,6 +19,8 @@
 // `!(x > 0.0)` is used on purpose: it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+pub mod resolved;
+
 use crate::metric::Spacetime;
 use crate::numerics::{safeguarded_newton, NewtonEval};
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};

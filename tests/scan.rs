@@ -286,12 +286,12 @@ fn builtin_metric_hash_and_version_are_checked() {
     );
     let e = resume_refused(&path, &bad);
     assert!(e.contains("umbral_version"), "{e}");
-    // A file from an earlier scan format (2: horizonless points were not evaluated) is
-    // refused, naming the format.
+    // A file from an earlier scan format (3: every curve had exactly the points asked for)
+    // is refused, naming the format.
     let mut bad = lines;
-    bad[0] = edit(&bad[0], "\"umbral_scan\":3", "\"umbral_scan\":2");
+    bad[0] = edit(&bad[0], "\"umbral_scan\":4", "\"umbral_scan\":3");
     let e = resume_refused(&path, &bad);
-    assert!(e.contains("scan format 2"), "{e}");
+    assert!(e.contains("scan format 3"), "{e}");
 }
 
 #[test]

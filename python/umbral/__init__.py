@@ -227,7 +227,7 @@ def scan(
     metric: Union[Metric, str],
     grid: Mapping[str, Union[Sequence[float], np.ndarray]],
     inclination: Optional[float] = None,
-    points: int = 256,
+    points: int = 64,
     solver: str = "auto",
     tolerance: float = 1e-8,
     require_horizon: bool = False,
@@ -247,7 +247,11 @@ def scan(
         exactly these values.
     inclination : float, optional
         The observer's inclination in degrees, unless it is an axis.
-    points, solver, tolerance
+    points : int
+        Curve points to start each curve from: doubled, up to 1024, while the sampling error
+        of any observable (estimated from every second and fourth point) exceeds the
+        tolerance.
+    solver, tolerance
         As in :func:`shadow`.
     require_horizon : bool
         Record every horizonless point as ``no_horizon`` (by default a horizonless object

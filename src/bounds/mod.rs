@@ -54,8 +54,11 @@ use crate::measurement::DerivedRadii;
 use crate::metric::{Classification, Spacetime, Symmetry};
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
+use crate::observables::resolved::{
+    estimates_sampling_error, solve_resolved, Resolved, SamplingError, MAX_RESOLVED_POINTS,
+};
 use crate::observables::{sampling_error, CentreChoice, Observables, Quantity};
-use crate::shadow::{self, Observer, PointShadow, ShadowSettings, SolverChoice};
+use crate::shadow::{self, Observer, ShadowSettings, SolverChoice};
 use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -627,14 +630,8 @@ pub(crate) fn sampling_note(points: usize) -> String {
     }
 }
 
-/// Whether [`solve_sized`] estimates the sampling error with `points` curve points: the
-/// subsets of every second and fourth point must be curves of at least 4 points.
-fn estimates_sampling_error(points: usize) -> bool {
-    points.is_multiple_of(4) && points / 4 >= crate::observables::MIN_POINTS
-}
-
 /// Most curve points [`solve_sized`] doubles to.
-pub const MAX_SIZE_POINTS: usize = 1024;
+pub const MAX_SIZE_POINTS: usize = MAX_RESOLVED_POINTS;
 
 /// A point's shadow reduced to its size measure.
 #[derive(Debug, Clone, PartialEq)]
@@ -687,65 +684,54 @@ pub fn solve_sized(
     measure: SizeMeasure,
     want_circularity: bool,
 ) -> Result<SizedPoint, String> {
-    let mut settings = *settings;
-    loop {
-        let (result, horizonless) =
-            match shadow::solve_classified(spacetime, observer, &settings, require_horizon)
-                .map_err(|e| e.to_string())?
-            {
-                PointShadow::NoHorizon => return Ok(SizedPoint::NoHorizon),
-                PointShadow::NoShadow { reason, .. } => return Ok(SizedPoint::NoShadow(reason)),
-                PointShadow::Shadow {
-                    result,
-                    horizonless,
-                } => (result, horizonless),
+    let measured = |curve: &shadow::CriticalCurve, result: &shadow::ShadowResult| {
+        measure_curve(
+            curve,
+            result.photon_orbit_radii,
+            spacetime,
+            measure,
+            want_circularity,
+        )
+    };
+    let resolved = solve_resolved(
+        spacetime,
+        observer,
+        settings,
+        require_horizon,
+        |result| measured(result.curve.as_ref().ok_or("no curve")?, result),
+        |result, &(size, _)| {
+            let curve = result.curve.as_ref()?;
+            let error_of = |pick: fn((f64, f64)) -> f64| {
+                sampling_error(curve, |c| measured(c, result).ok().map(pick))
             };
-        let curve = result
-            .curve
-            .as_ref()
-            .ok_or_else(|| "the solver reported a shadow without a curve".to_string())?;
-        let radii = result.photon_orbit_radii;
-        let measured = |c: &shadow::CriticalCurve| {
-            measure_curve(c, radii, spacetime, measure, want_circularity)
-        };
-        let (size, circularity) = measured(curve)?;
-        let shadow = SizedPoint::Shadow {
+            let size_error = error_of(|m| m.0)?;
+            // ΔC's in M: R̄ ΔC is the curve's rms deviation.
+            let estimate = if want_circularity {
+                size_error.max(error_of(|m| m.1)? * size)
+            } else {
+                size_error
+            };
+            Some(SamplingError {
+                estimate,
+                quantity: "size".to_string(),
+            })
+        },
+    )?;
+    Ok(match resolved {
+        Resolved::NoHorizon => SizedPoint::NoHorizon,
+        Resolved::NoShadow { reason, .. } => SizedPoint::NoShadow(reason),
+        Resolved::Shadow {
+            horizonless,
+            measured: (size, circularity),
+            points,
+            ..
+        } => SizedPoint::Shadow {
             size,
             circularity,
             horizonless,
-            points: settings.points,
-        };
-        if !estimates_sampling_error(settings.points) {
-            return Ok(shadow);
-        }
-        // The size's, and ΔC's in M; `None` if a subset could not be measured.
-        let error = sampling_error(curve, |c| measured(c).ok().map(|m| m.0)).and_then(|e| {
-            if want_circularity {
-                sampling_error(curve, |c| measured(c).ok().map(|m| m.1)).map(|c| e.max(c * size))
-            } else {
-                Some(e)
-            }
-        });
-        let tolerance = settings.tolerance;
-        if error.is_some_and(|e| e <= tolerance) {
-            return Ok(shadow);
-        }
-        if 2 * settings.points > MAX_SIZE_POINTS {
-            let estimate = match error {
-                Some(e) => format!("is estimated at {e:.1e} M"),
-                None => "cannot be estimated (a subset of the points is not a curve that can \
-                         be measured)"
-                    .to_string(),
-            };
-            return Err(format!(
-                "the size's sampling error {estimate} with {} curve points (tolerance {} M), \
-                 and the points are not doubled beyond {MAX_SIZE_POINTS}",
-                settings.points,
-                Num(tolerance)
-            ));
-        }
-        settings.points *= 2;
-    }
+            points,
+        },
+    })
 }
 
 impl PointModel for Model<'_> {

@@ -10,7 +10,11 @@ use std::collections::BTreeMap;
 /// The scan-file format written by this version.
 /// 3: horizonless points that cast a shadow are evaluated (`"horizonless": true`), unless the
 /// header's `require_horizon` says otherwise.
-pub const FORMAT: u32 = 3;
+/// 4: `points` is where each curve starts: the points are doubled, up to 1024, while the
+/// sampling error of an observable exceeds the tolerance
+/// ([`crate::observables::resolved::solve_with_observables`]); before, every curve had
+/// exactly `points`.
+pub const FORMAT: u32 = 4;
 
 /// The header line.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
