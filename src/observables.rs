@@ -632,10 +632,20 @@ pub fn sampling_error(
         radii: curve.radii.iter().step_by(k).copied().collect(),
     };
     let full = quantity(curve)?;
-    let e2 = (quantity(&every(2))? - full).abs();
-    let e4 = (quantity(&every(4))? - full).abs();
-    let estimate = if e4 > e2 { e2 * e2 / e4 } else { e2 };
+    let estimate = extrapolated_error(full, quantity(&every(2))?, quantity(&every(4))?);
     estimate.is_finite().then_some(estimate)
+}
+
+/// The error of `full` (a quantity on N points) estimated from the same quantity on N/2 and
+/// N/4 points ([`sampling_error`]): e₂²/e₄ when e₄ > e₂, else e₂.
+pub(crate) fn extrapolated_error(full: f64, half: f64, quarter: f64) -> f64 {
+    let e2 = (half - full).abs();
+    let e4 = (quarter - full).abs();
+    if e4 > e2 {
+        e2 * e2 / e4
+    } else {
+        e2
+    }
 }
 
 /// Area ½∮R² dψ and area centroid ((1/3A)∮R³ cos ψ dψ, (1/3A)∮R³ sin ψ dψ) + origin, by the

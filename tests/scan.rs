@@ -917,3 +917,74 @@ fn refinement_traces_the_horizon_edge_and_the_allowed_edge() {
     assert!(checked >= 3, "{checked}");
     std::fs::remove_file(&path).ok();
 }
+
+/// A scan's curves start from a multiple of 4 points, at least 64 (the fewest the
+/// observables' sampling error is estimated from): fewer is refused with exit code 2, naming
+/// the rule; each shadow line records the points it was measured on.
+#[test]
+fn cli_scan_refuses_too_few_curve_points_and_records_those_used() {
+    let out = temp("cli-points.jsonl");
+    let o = out.to_str().unwrap();
+    for bad in ["32", "66"] {
+        let (code, _, err) = umbral(&[
+            "scan",
+            "--metric",
+            "kerr",
+            "--grid",
+            "a=0:0.5:2",
+            "--inclination",
+            "60",
+            "--points",
+            bad,
+            "--out",
+            o,
+            "--quiet",
+        ]);
+        assert_eq!(code, 2, "{err}");
+        assert!(err.contains("multiple of 4") && err.contains(bad), "{err}");
+        assert_eq!(err.trim().lines().count(), 1, "{err}");
+    }
+    let (code, _, err) = umbral(&[
+        "scan",
+        "--metric",
+        "kerr",
+        "--grid",
+        "a=0:0.5:2",
+        "--inclination",
+        "60",
+        "--out",
+        o,
+        "--quiet",
+    ]);
+    assert_eq!(code, 0, "{err}");
+    let text = std::fs::read_to_string(&out).unwrap();
+    assert!(
+        text.lines().next().unwrap().contains("\"points\":64"),
+        "{text}"
+    );
+    for line in text.lines().skip(1) {
+        assert!(line.contains("\"points\":64"), "{line}");
+    }
+}
+
+#[test]
+fn curve_points_that_are_not_the_headers_doubled_are_refused() {
+    let (path, lines) = finished("points.jsonl");
+    let mut bad = lines;
+    let at = bad[1]
+        .find("\"points\":")
+        .expect("a shadow line records its points");
+    let start = at + "\"points\":".len();
+    let end = start + bad[1][start..].find(',').unwrap();
+    let header_points = bad[1][start..end].to_string();
+    let odd = (3 * header_points.parse::<usize>().unwrap()).to_string();
+    bad[1] = format!("{}{odd}{}", &bad[1][..start], &bad[1][end..]);
+    let e = resume_refused(&path, &bad);
+    assert!(
+        e.contains("line 2")
+            && e.contains(&format!(
+                "{odd} curve points are not the header's {header_points} doubled"
+            )),
+        "{e}"
+    );
+}

@@ -248,9 +248,9 @@ def scan(
     inclination : float, optional
         The observer's inclination in degrees, unless it is an axis.
     points : int
-        Curve points to start each curve from: doubled, up to 1024, while the sampling error
-        of any observable (estimated from every second and fourth point) exceeds the
-        tolerance.
+        Curve points to start each curve from, a multiple of 4, at least 64: doubled, up to
+        1024, while the sampling error of any observable (estimated from every second and
+        fourth point) exceeds the tolerance. Each point's count is in the scan file.
     solver, tolerance
         As in :func:`shadow`.
     require_horizon : bool

@@ -698,6 +698,7 @@ pub fn solve_sized(
         observer,
         settings,
         require_horizon,
+        "size",
         |result| measured(result.curve.as_ref().ok_or("no curve")?, result),
         |result, &(size, _)| {
             let curve = result.curve.as_ref()?;

@@ -1205,7 +1205,8 @@ fn report_text(results: &Results) -> String {
          * mass {mass:.2e} Msun, distance {dist} Mpc, so theta_g = GM/(c^2 D) = {tg:.4} uas \
          (IAU 2015 nominal GM_sun, IAU 2012 astronomical unit);\n\
          * inclination {inc} deg, distant observer; observables about the area centroid; \
-         curves with {points} points, boundary tolerance {tol:e} M.\n\n\
+         the families' curves with {points} points (the scan's start from {scan_points} and the bounds' \
+         from {bound_points}, doubled where the sampling error asks), boundary tolerance {tol:e} M.\n\n\
          ## Kerr family\n\n![Kerr shadows](kerr-family.svg)\n\n{kt}\n\
          General relativity predicts a diameter near 2*3*sqrt(3) M = {gr:.4} M for any spin, and a nearly circular curve.\n\n\
          ## Reissner-Nordstrom family\n\n![Reissner-Nordstrom shadows](reissner-nordstrom-family.svg)\n\n{rt}\n",
@@ -1216,6 +1217,8 @@ fn report_text(results: &Results) -> String {
         tg = sc.theta_g_uas,
         inc = sc.inclination_deg,
         points = settings.points,
+        scan_points = umbral::scan::DEFAULT_SCAN_POINTS,
+        bound_points = umbral::bounds::DEFAULT_BOUND_POINTS,
         tol = settings.tolerance,
         kt = table(kerr_family, "a", sc.theta_g_uas),
         rt = table(rn_family, "q", sc.theta_g_uas),

@@ -70,9 +70,8 @@ pub struct ScanArgs {
     require_horizon: bool,
     /// Curve points to start each critical curve from (uniform in screen polar angle):
     /// doubled, up to 1024, while the sampling error of any observable, estimated from every
-    /// second and fourth point, exceeds the tolerance. The estimate needs 64 points: from 16
-    /// to 60 they are doubled to at least 64; below 16, or for a number that is not a
-    /// multiple of 4, nothing is estimated and the curve keeps the points asked for.
+    /// second and fourth point, exceeds the tolerance. A multiple of 4, at least 64 (the
+    /// fewest the estimate is made from).
     #[arg(long, default_value_t = umbral::scan::DEFAULT_SCAN_POINTS)]
     points: usize,
     /// Boundary tolerance of each critical curve in M, from 1e-12 to 1e-3.

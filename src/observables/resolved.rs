@@ -10,7 +10,7 @@
 //! (`bounds::solve_sized`), scans every observable they report
 //! ([`observables_sampling_error`]).
 
-use super::{CentreChoice, Observables, Quantity, MIN_POINTS};
+use super::{extrapolated_error, CentreChoice, Observables, Quantity, MIN_POINTS};
 use crate::metric::Spacetime;
 use crate::numfmt::Num;
 use crate::shadow::{self, CriticalCurve, Observer, PointShadow, ShadowResult, ShadowSettings};
@@ -32,7 +32,7 @@ pub fn estimates_sampling_error(points: usize) -> bool {
 /// curves of 32 points the estimate fell below the true error by up to a factor 5 (a = 0.998
 /// at 60°, the height), while from 64 points on it was never below it beyond rounding
 /// (1e-11 M; tests/sampling_error.rs). A resolved solve asked for 16 to 60 points therefore
-/// doubles them to at least 64.
+/// doubles them to at least 64; scans refuse fewer than 64.
 pub const MIN_OBSERVABLES_POINTS: usize = 64;
 
 /// A sampling error in M and the quantity it is the largest for.
@@ -70,8 +70,8 @@ pub enum Resolved<T> {
     },
 }
 
-/// Solve a point ([`shadow::solve_classified`]) and measure its curve, doubling the points
-/// while `estimate_error` (the sampling error in M) exceeds `settings.tolerance` or is `None`, up to
+/// Solve a point ([`shadow::solve_classified`]) and measure `what` on its curve, doubling the
+/// points while `estimate_error` (the sampling error in M) exceeds `settings.tolerance` or is `None`, up to
 /// [`MAX_RESOLVED_POINTS`]. With fewer than 16 points, or a number that is not a multiple
 /// of 4, nothing is estimated and the curve is measured as asked. A solver failure, a failed
 /// measurement and a quantity not resolved at the most points are errors (one line each).
@@ -89,6 +89,7 @@ pub enum Resolved<T> {
 ///     &Observer::distant(90f64.to_radians()),
 ///     &settings,
 ///     false,
+///     "size",
 ///     |result| Ok(size(result.curve.as_ref().unwrap()).unwrap()),
 ///     |result, _| sampling_error(result.curve.as_ref().unwrap(), size)
 ///         .map(|estimate| SamplingError { estimate, quantity: "size".into() }),
@@ -102,6 +103,7 @@ pub fn solve_resolved<T>(
     observer: &Observer,
     settings: &ShadowSettings,
     require_horizon: bool,
+    what: &str,
     measure: impl Fn(&ShadowResult) -> Result<T, String>,
     estimate_error: impl Fn(&ShadowResult, &T) -> Option<SamplingError>,
 ) -> Result<Resolved<T>, String> {
@@ -146,9 +148,11 @@ pub fn solve_resolved<T>(
                     possessive(&e.quantity),
                     e.estimate
                 ),
-                None => "the sampling error cannot be estimated (a subset of the points is not \
-                         a curve that can be measured)"
-                    .to_string(),
+                None => format!(
+                    "the {} sampling error cannot be estimated (a subset of the points is not \
+                     a curve that can be measured, or a quantity is not finite on it)",
+                    possessive(what)
+                ),
             };
             return Err(format!(
                 "{estimate} with {} curve points (tolerance {} M), and the points are not \
@@ -194,22 +198,47 @@ pub fn observables_sampling_error(
     horizon_radius: Option<f64>,
     photon_orbit_radii: Option<[f64; 2]>,
 ) -> Option<SamplingError> {
+    let full = Observables::from_curve(curve, centre, horizon_radius, photon_orbit_radii).ok()?;
+    error_of_observables(curve, &full, centre, horizon_radius, photon_orbit_radii)
+}
+
+/// [`observables_sampling_error`] with the full curve's observables already measured.
+fn error_of_observables(
+    curve: &CriticalCurve,
+    full: &Observables,
+    centre: CentreChoice,
+    horizon_radius: Option<f64>,
+    photon_orbit_radii: Option<[f64; 2]>,
+) -> Option<SamplingError> {
     let n = curve.len();
     if n < MIN_OBSERVABLES_POINTS || !n.is_multiple_of(4) {
         return None;
     }
-    let measure = |c: &CriticalCurve| {
-        Observables::from_curve(c, centre, horizon_radius, photon_orbit_radii).ok()
+    let measure = |k: usize| {
+        let subset = CriticalCurve {
+            origin: curve.origin,
+            radii: curve.radii.iter().step_by(k).copied().collect(),
+        };
+        Observables::from_curve(&subset, centre, horizon_radius, photon_orbit_radii).ok()
     };
-    let every = |k: usize| CriticalCurve {
-        origin: curve.origin,
-        radii: curve.radii.iter().step_by(k).copied().collect(),
-    };
-    let full = measure(curve)?;
-    let (half, quarter) = (measure(&every(2))?, measure(&every(4))?);
+    let (half, quarter) = (measure(2)?, measure(4)?);
+    // The Hioki–Maeda circle passes through the α-extreme of the less flattened side; where
+    // the subsets pick the other side the two sides are about equally flattened, and the fit
+    // jumps with the choice rather than converging. Its values are then left out: they are
+    // the full curve's choice, which no number of points makes more certain.
+    let side = &full.hioki_maeda_reference_side;
+    let same_side =
+        *side == half.hioki_maeda_reference_side && *side == quarter.hioki_maeda_reference_side;
     let mut worst: Option<SamplingError> = None;
     for &q in Quantity::ALL {
-        let values = [q.of(&full), q.of(&half), q.of(&quarter)];
+        let hioki_maeda = matches!(
+            q,
+            Quantity::HiokiMaedaRadius | Quantity::HiokiMaedaDistortion
+        );
+        if hioki_maeda && !same_side {
+            continue;
+        }
+        let values = [q.of(full), q.of(&half), q.of(&quarter)];
         if values.iter().all(|v| !v.is_finite()) {
             // Undefined on this curve at every resolution.
             continue;
@@ -219,9 +248,7 @@ pub fn observables_sampling_error(
             "M^2" => 1.0 / (TAU * full.area_radius),
             _ => full.mean_radius,
         };
-        let e2 = (q.of(&half) - q.of(&full)).abs();
-        let e4 = (q.of(&quarter) - q.of(&full)).abs();
-        let estimate = if e4 > e2 { e2 * e2 / e4 } else { e2 } * scale;
+        let estimate = extrapolated_error(values[0], values[1], values[2]) * scale;
         if !estimate.is_finite() {
             return None;
         }
@@ -250,14 +277,15 @@ pub fn solve_with_observables(
         observer,
         settings,
         require_horizon,
+        "observables",
         |result| {
             let curve = result.curve.as_ref().ok_or("no curve")?;
             Observables::from_curve(curve, centre, horizon, result.photon_orbit_radii)
                 .map_err(|e| e.to_string())
         },
-        |result, _| {
+        |result, full| {
             let curve = result.curve.as_ref()?;
-            observables_sampling_error(curve, centre, horizon, result.photon_orbit_radii)
+            error_of_observables(curve, full, centre, horizon, result.photon_orbit_radii)
         },
     )
 }

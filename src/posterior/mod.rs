@@ -577,7 +577,9 @@ impl PosteriorModel {
             self.shadow.points,
             self.shadow.tolerance,
             if self.tabulated {
-                "solver chosen automatically, interpolated (piecewise cubic) in a table per source"
+                "solver chosen automatically, interpolated (piecewise cubic) in a table per source \
+                 whose nodes are scan points (the points doubled, up to 1024, where the sampling \
+                 error of any observable exceeds the tolerance)"
                     .to_string()
             } else {
                 format!(

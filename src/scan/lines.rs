@@ -49,12 +49,14 @@ struct StoredPoint {
     #[serde(default)]
     solver: Option<String>,
     #[serde(default)]
+    points: Option<usize>,
+    #[serde(default)]
     observables: Option<PointObservables>,
     checksum: String,
 }
 
-/// What a status requires of the other fields.
-fn check_status(p: &ScanPoint) -> Result<(), String> {
+/// What a status requires of the other fields; `start` is the header's curve points.
+fn check_status(p: &ScanPoint, start: usize) -> Result<(), String> {
     let known_solver = |s: &Option<String>| match s {
         Some(s) if crate::shadow::find_solver(s).is_some() => Ok(()),
         Some(s) => Err(format!("unknown solver '{s}'")),
@@ -100,7 +102,18 @@ fn check_status(p: &ScanPoint) -> Result<(), String> {
         other => Err(format!(
             "unknown status '{other}' (known: shadow, no_shadow, no_horizon, failed)"
         )),
+    }?;
+    // A shadow's curve points: the header's, or doubled from them.
+    has("points", p.points.is_some(), p.status == "shadow")?;
+    if let Some(points) = p.points {
+        let doubled = start > 0 && points % start == 0 && (points / start).is_power_of_two();
+        if !doubled {
+            return Err(format!(
+                "{points} curve points are not the header's {start} doubled"
+            ));
+        }
     }
+    Ok(())
 }
 
 fn check_observables(o: Option<&PointObservables>) -> Result<(), String> {
@@ -171,6 +184,7 @@ impl RecordFormat for ScanFormat<'_> {
             horizonless: stored.horizonless,
             reason: stored.reason,
             solver: stored.solver,
+            points: stored.points,
             observables: stored.observables,
         };
         let axes = &self.request.axes;
@@ -221,7 +235,7 @@ impl RecordFormat for ScanFormat<'_> {
             (None, Some(_)) => return Err("the inclination axis needs an inclination_deg".into()),
             (Some(_), None) => return Err("an inclination_deg without an inclination axis".into()),
         }
-        check_status(p)
+        check_status(p, self.request.settings.points)
     }
 
     /// Grid order, last axis fastest.

@@ -1,8 +1,8 @@
 //! Grid scans: the observables at every point of a 1-D or 2-D parameter grid, streamed to a
 //! JSON-lines file that survives interruption.
 //!
-//! Each point's curve starts from the points asked for and is doubled while the sampling
-//! error of an observable exceeds the tolerance
+//! Each point's curve starts from the points asked for (a multiple of 4, at least 64) and is
+//! doubled while the sampling error of an observable exceeds the tolerance
 //! ([`crate::observables::resolved::solve_with_observables`]); a point still unresolved at
 //! 1024 points is `failed`, with the estimate in its reason.
 //!
@@ -55,7 +55,7 @@ use crate::bounds::{allowed_margin, SizeMeasure};
 use crate::error::MetricError;
 use crate::metrics::MetricSource;
 use crate::numfmt::Num;
-use crate::observables::resolved::{solve_with_observables, Resolved};
+use crate::observables::resolved::{solve_with_observables, Resolved, MIN_OBSERVABLES_POINTS};
 use crate::observables::{CentreChoice, Observables, Quantity};
 use crate::run::{
     Checkpoint, CheckpointError, Controls, Executor, JsonlCheckpoint, MetricHashError, ProgressFn,
@@ -232,6 +232,10 @@ pub struct ScanPoint {
     /// The solver that ran, once the metric was built.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub solver: Option<String>,
+    /// The curve points a `shadow` point's observables were measured on: the header's
+    /// `points`, or a multiple of it where the sampling error asked for more.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub points: Option<usize>,
     /// The [`Observables`] of a `shadow` point.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub observables: Option<PointObservables>,
@@ -355,6 +359,7 @@ impl ScanSummary {
     ///     horizonless: false,
     ///     reason: None,
     ///     solver: None,
+    ///     points: (status == "shadow").then_some(64),
     ///     observables: Some(PointObservables::from_json(serde_json::json!({ "mean_radius": r }))),
     /// };
     /// // Grid order: the second axis fastest.
@@ -444,6 +449,13 @@ pub enum ScanError {
     /// The two axes name the same parameter.
     #[error("the two grid axes must differ (both are '{0}')")]
     SameAxis(String),
+    /// Curve points a scan cannot estimate its observables' sampling error from.
+    #[error(
+        "a scan's curves start from a multiple of 4 curve points, at least \
+         {MIN_OBSERVABLES_POINTS} (the observables' sampling error is estimated from every \
+         second and fourth point), got {0}"
+    )]
+    CurvePoints(usize),
     /// A parameter both on the grid and fixed.
     #[error("parameter '{0}' is both fixed and on the grid")]
     FixedAndGrid(String),
@@ -494,6 +506,10 @@ fn validate(request: &ScanRequest) -> Result<(), ScanError> {
     }
     if request.axes.len() == 2 && request.axes[0].name == request.axes[1].name {
         return Err(ScanError::SameAxis(request.axes[0].name.clone()));
+    }
+    let points = request.settings.points;
+    if points < MIN_OBSERVABLES_POINTS || !points.is_multiple_of(4) {
+        return Err(ScanError::CurvePoints(points));
     }
     let inclination_axis = request.axes.iter().find(|a| a.is_inclination());
     let inclinations = match (inclination_axis, request.inclination_deg) {
@@ -651,6 +667,7 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
         horizonless: false,
         reason: None,
         solver: None,
+        points: None,
         observables: None,
     };
     let spacetime = match built {
@@ -684,11 +701,12 @@ fn solve_point(request: &ScanRequest, index: &[usize]) -> ScanPoint {
             result,
             horizonless,
             measured,
-            ..
+            points,
         }) => {
             point.solver = Some(result.solver.into());
             point.status = "shadow".into();
             point.horizonless = horizonless;
+            point.points = Some(points);
             point.observables = Some(PointObservables::new(&measured));
         }
     }

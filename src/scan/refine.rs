@@ -34,8 +34,9 @@ pub struct RefineRequest {
 /// One node of the fine grid.
 #[derive(Debug, Clone, PartialEq)]
 pub enum FineNode {
-    /// A computed point (a coarse grid point or a refined one).
-    Point(ScanPoint),
+    /// A computed point (a coarse grid point or a refined one); boxed, as most nodes are
+    /// interpolated.
+    Point(Box<ScanPoint>),
     /// Inside a cell whose corners agree: interpolated.
     Interpolated,
 }
@@ -266,11 +267,11 @@ pub fn refine(
     let mut nodes = vec![FineNode::Interpolated; nx * ny];
     for cj in 0..ay.count {
         for ci in 0..ax.count {
-            nodes[cj * r * nx + ci * r] = FineNode::Point(coarse(ci, cj).clone());
+            nodes[cj * r * nx + ci * r] = FineNode::Point(Box::new(coarse(ci, cj).clone()));
         }
     }
     for (&(k, _, _), p) in work.nodes.iter().zip(batch.outputs) {
-        nodes[k] = FineNode::Point(p);
+        nodes[k] = FineNode::Point(Box::new(p));
     }
     let horizon_trace = trace_horizon(request, (&x, &y), r, (ax.count, ay.count));
     let scale = margin_scale(&nodes, refine, (nx, ny));
