@@ -4,7 +4,7 @@
 //! one-line errors for a missing, duplicated, incomplete or foreign shard (exit code 2).
 //!
 //! The scans are small so that each runs in seconds: a separable metric (Kerr–Newman, the
-//! separable solver) and a ray-traced one (Johannsen–Psaltis with 16 curve points, whose
+//! separable solver) and a ray-traced one (Johannsen–Psaltis from 64 curve points, whose
 //! grid reaches points without a horizon, so the scan mixes instant and slow points).
 
 mod common;
@@ -52,7 +52,7 @@ const RAYTRACED: &[&str] = &[
     "--inclination",
     "50",
     "--points",
-    "16",
+    "64",
     "--tolerance",
     "1e-6",
 ];

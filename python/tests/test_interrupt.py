@@ -33,9 +33,9 @@ CHILD = textwrap.dedent(
     threading.Timer(1.5, lambda: os.kill(os.getpid(), signal.SIGINT)).start()
     start = time.monotonic()
     try:
-        # About a minute of ray tracing on two cores: 400 points, a quarter second each.
+        # Minutes of ray tracing on two cores: 400 points, about half a second each.
         umbral.scan("kerr", grid={"a": np.linspace(0, 0.9, 20), "inclination": np.linspace(5, 85, 20)},
-                    solver="raytrace", points=32, out=out)
+                    solver="raytrace", points=64, out=out)
         outcome = "completed"
     except KeyboardInterrupt:
         outcome = "KeyboardInterrupt"

@@ -25,9 +25,9 @@ check() { # check NAME FILE-A FILE-B
 }
 
 # 14 points of Johannsen-Psaltis: eps3 from -2 to 4 at a = 0.5 and 0.9; at a = 0.9 the largest
-# eps3 have no horizon (instant), the others are ray traced with 16 curve points.
+# eps3 have no horizon (instant), the others are ray traced from 64 curve points.
 scan=(scan --metric johannsen-psaltis --grid eps3=-2:4:7 --grid a=0.5:0.9:2 --inclination 50
-  --points 16 --tolerance 1e-6 --quiet)
+  --points 64 --tolerance 1e-6 --quiet)
 "$umbral" "${scan[@]}" --out single.jsonl > /dev/null
 "${ranks[@]}" "$umbral" "${scan[@]}" --out ranks.jsonl > ranks.txt
 if ! grep -q "14 points" ranks.txt || ! grep -q '"no_horizon"' single.jsonl ||
