@@ -106,17 +106,19 @@ fn a_size_not_resolved_by_the_points_is_solved_again_with_more() {
     );
 }
 
-/// A solver whose curve has corners: R(ψ) = 5 + 0.3 |sin ψ| about the origin. The trapezoid
-/// rule then converges only like N⁻² (its error is set by the kinks; e.g. Trefethen &
-/// Weideman 2014, SIAM Rev. 56, 385, §3), so 1024 points leave the mean radius ~1e-7 M off.
-struct KinkedCurve;
+/// A test solver for any metric: the curve R(ψ) = `radius`(ψ) about the screen origin.
+struct PolarTestCurve {
+    name: &'static str,
+    summary: &'static str,
+    radius: fn(f64) -> f64,
+}
 
-impl ShadowSolver for KinkedCurve {
+impl ShadowSolver for PolarTestCurve {
     fn name(&self) -> &'static str {
-        "kinked-test-curve"
+        self.name
     }
     fn summary(&self) -> &'static str {
-        "a test curve with two corners, for any metric"
+        self.summary
     }
     fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
         Ok(())
@@ -133,7 +135,7 @@ impl ShadowSolver for KinkedCurve {
             curve: Some(CriticalCurve::from_polar(
                 [0.0, 0.0],
                 settings.points,
-                |p| 5.0 + 0.3 * p.sin().abs(),
+                self.radius,
             )),
             photon_orbit_radii: Some([3.0, 3.0]),
             photon_spheres: Vec::new(),
@@ -147,15 +149,29 @@ impl ShadowSolver for KinkedCurve {
     }
 }
 
-/// Where even the most points allowed do not resolve the size, the point fails with the
-/// estimate in the message, never a value.
-#[test]
-fn a_size_never_resolved_is_an_error() {
-    match register_solver(KinkedCurve) {
+/// Register `curve` once per test process (tests run in parallel and share the registry).
+fn register(curve: PolarTestCurve) {
+    match register_solver(curve) {
         Ok(()) => {}
         Err(ShadowError::BadRequest(m)) => assert!(m.contains("already registered"), "{m}"),
         Err(e) => panic!("{e}"),
     }
+}
+
+/// A curve with corners: R(ψ) = 5 + 0.3 |sin ψ| about the origin. The trapezoid rule then
+/// converges only like N⁻² (its error is set by the kinks; e.g. Trefethen & Weideman 2014,
+/// SIAM Rev. 56, 385, §3), so 1024 points leave the mean radius ~1e-7 M off.
+const KINKED: PolarTestCurve = PolarTestCurve {
+    name: "kinked-test-curve",
+    summary: "a test curve with two corners, for any metric",
+    radius: |p| 5.0 + 0.3 * p.sin().abs(),
+};
+
+/// Where even the most points allowed do not resolve the size, the point fails with the
+/// estimate in the message, never a value.
+#[test]
+fn a_size_never_resolved_is_an_error() {
+    register(KINKED);
     let settings = ShadowSettings {
         points: 64,
         tolerance: 1e-8,
@@ -199,7 +215,7 @@ fn too_few_points_are_not_doubled() {
     }
 }
 
-/// A solver whose curve ripples: R(ψ) = 5 + 0.01 (cos 15ψ + cos 17ψ) about the origin. The
+/// A curve that ripples: R(ψ) = 5 + 0.01 (cos 15ψ + cos 17ψ) about the origin. The
 /// trapezoid rule integrates cos mψ exactly on N points unless N divides m (e.g. Trefethen &
 /// Weideman 2014, SIAM Rev. 56, 385, §3). R itself has no harmonic that 32 or 64 divides, nor
 /// have R³ cos ψ and R³ sin ψ (the centroid), so the centroid and the mean radius are exact on
@@ -208,60 +224,24 @@ fn too_few_points_are_not_doubled() {
 /// which ΔC's rms deviation integrates, holds cos 32ψ (from the product of the two ripples):
 /// exact on 64 points, aliased on 32 and 16. Only ΔC's estimate is then above the tolerance
 /// on 64 points.
-struct RippledCurve;
-
-impl ShadowSolver for RippledCurve {
-    fn name(&self) -> &'static str {
-        "rippled-test-curve"
-    }
-    fn summary(&self) -> &'static str {
-        "a test curve with two ripples, for any metric"
-    }
-    fn applies_to(&self, _: &dyn Spacetime) -> Result<(), String> {
-        Ok(())
-    }
-    fn solve(
-        &self,
-        _: &dyn Spacetime,
-        _: &Observer,
-        settings: &ShadowSettings,
-    ) -> Result<ShadowResult, ShadowError> {
-        Ok(ShadowResult {
-            solver: self.name(),
-            status: ShadowStatus::Shadow,
-            curve: Some(CriticalCurve::from_polar(
-                [0.0, 0.0],
-                settings.points,
-                |p| 5.0 + 0.01 * ((15.0 * p).cos() + (17.0 * p).cos()),
-            )),
-            photon_orbit_radii: Some([3.0, 3.0]),
-            photon_spheres: Vec::new(),
-            exponents: None,
-            orbits: None,
-            diagnostics: Diagnostics {
-                star_shaped: true,
-                ..Diagnostics::default()
-            },
-        })
-    }
-}
+const RIPPLED: PolarTestCurve = PolarTestCurve {
+    name: "rippled-test-curve",
+    summary: "a test curve with two ripples, for any metric",
+    radius: |p| 5.0 + 0.01 * ((15.0 * p).cos() + (17.0 * p).cos()),
+};
 
 /// ΔC alone doubles the points when it is constrained: on the rippled curve the size's
 /// estimate is at rounding on 64 points and its ΔC's is not, so a sized solve that wants ΔC
 /// goes to 128 points and one that does not keeps 64, with the same size.
 #[test]
 fn a_circularity_not_resolved_by_the_points_doubles_them_alone() {
-    match register_solver(RippledCurve) {
-        Ok(()) => {}
-        Err(ShadowError::BadRequest(m)) => assert!(m.contains("already registered"), "{m}"),
-        Err(e) => panic!("{e}"),
-    }
+    register(RIPPLED);
     let settings = ShadowSettings {
         points: 64,
         tolerance: 1e-8,
         solver: "rippled-test-curve".parse().unwrap(),
     };
-    let curve = RippledCurve
+    let curve = RIPPLED
         .solve(&Schwarzschild, &Observer::distant(1.0), &settings)
         .unwrap()
         .curve
@@ -417,11 +397,7 @@ fn a_scan_doubles_the_points_a_curves_observables_need() {
 /// in its reason, never a value.
 #[test]
 fn a_scan_point_never_resolved_fails_with_the_estimate() {
-    match register_solver(KinkedCurve) {
-        Ok(()) => {}
-        Err(ShadowError::BadRequest(m)) => assert!(m.contains("already registered"), "{m}"),
-        Err(e) => panic!("{e}"),
-    }
+    register(KINKED);
     let request = ScanRequest {
         metric: MetricSource::builtin("schwarzschild").unwrap(),
         axes: vec![GridAxis::new("inclination", 30.0, 60.0, 2)],
