@@ -700,6 +700,8 @@ fn linear_size(x: f64) -> Aggregate {
         horizonless: false,
         wall_backoff: 0.0,
         refinement_cut: None,
+        witnessed: false,
+        failure_passed_over: None,
     })
 }
 

@@ -291,7 +291,7 @@ fn a_bound_checkpoint_is_refused_by_another_run() {
     assert_eq!(first.code, Some(0), "{}", first.describe());
     let written = std::fs::read_to_string(dir.join("c.jsonl")).unwrap();
     assert!(
-        written.starts_with("{\"umbral_bound\":1,") && written.contains("\"metric_sha256\":\""),
+        written.starts_with("{\"umbral_bound\":2,") && written.contains("\"metric_sha256\":\""),
         "the header names its format and the metric's hash: {}",
         written.lines().next().unwrap_or("")
     );
@@ -338,12 +338,12 @@ fn a_bound_checkpoint_is_refused_by_another_run() {
         common::repo_file("metrics/reissner-nordstrom.toml"),
     )
     .unwrap();
-    let other_format = written.replacen("{\"umbral_bound\":1,", "{\"umbral_bound\":2,", 1);
+    let other_format = written.replacen("{\"umbral_bound\":2,", "{\"umbral_bound\":1,", 1);
     std::fs::write(dir.join("c.jsonl"), &other_format).unwrap();
     refused(
         "another checkpoint format",
         quick_bound(by_file, &[]),
-        &["different arguments", "bound format 2 in the file, 1 now"],
+        &["different arguments", "bound format 1 in the file, 2 now"],
     );
     // An edited size on the third line (the second evaluation).
     let mut lines: Vec<String> = written.lines().map(String::from).collect();

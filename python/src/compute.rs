@@ -165,7 +165,7 @@ fn range(name: &str, (low, high): (f64, f64), what: &str) -> Result<ParameterRan
 
 /// The bound as `umbral bound --json` prints it.
 #[pyfunction]
-#[pyo3(signature = (metric, vary, measurement_path, inclination, inclination_range, nuisance, size, levels, require_horizon, checkpoint, progress))]
+#[pyo3(signature = (metric, vary, measurement_path, inclination, inclination_range, nuisance, size, levels, require_horizon, checkpoint, progress, full_extremes))]
 #[allow(clippy::too_many_arguments)]
 pub fn bound_json(
     py: Python<'_>,
@@ -180,6 +180,7 @@ pub fn bound_json(
     require_horizon: bool,
     checkpoint: Option<PathBuf>,
     progress: Option<f64>,
+    full_extremes: bool,
 ) -> PyResult<String> {
     let run = |stop: &std::sync::atomic::AtomicBool| -> Result<String, Fail> {
         let vary = range(&vary.0, vary.1, &format!("vary {}", vary.0))?;
@@ -221,6 +222,7 @@ pub fn bound_json(
             circularity_max: m.circularity_max,
             settings: BoundSettings {
                 require_horizon,
+                full_extremes,
                 ..BoundSettings::default()
             },
         };

@@ -309,6 +309,7 @@ def bound(
     require_horizon: bool = False,
     checkpoint: Optional[PathLike] = None,
     progress: Union[bool, float] = False,
+    full_extremes: bool = False,
 ) -> dict[str, Any]:
     """Allowed ranges of a parameter from a measured shadow or ring (``umbral bound``).
 
@@ -334,6 +335,12 @@ def bound(
         Keep every nuisance evaluation in this JSON-lines file and resume from it.
     progress : bool or float
         As in :func:`scan`.
+    full_extremes : bool
+        Search the predicted size's min and max over the nuisance box at every value (the
+        band in ``predicted``), as ``umbral bound --full-extremes``. By default a value is
+        decided as soon as the nuisance points evaluated allow it at every level (its
+        ``predicted`` entry then has ``witnessed`` true and only ``witnessed_sizes``); the
+        allowed ranges are the same.
 
     Returns
     -------
@@ -360,6 +367,7 @@ def bound(
         [(str(n), (float(lo), float(hi))) for n, (lo, hi) in (nuisance or {}).items()],
         str(size_measure), None if levels is None else [float(x) for x in levels],
         bool(require_horizon), None if checkpoint is None else os.fspath(checkpoint), _progress(progress),
+        bool(full_extremes),
     )
     return json.loads(text)
 

@@ -56,6 +56,7 @@ def bound_json(
     require_horizon: bool,
     checkpoint: Optional[_Path],
     progress: Optional[float],
+    full_extremes: bool,
 ) -> str: ...
 def infer(
     metric: Metric, measurements: Sequence[_Path], options: Any

@@ -9,6 +9,17 @@
 //! ends are sign changes of these margins, bracketed on an adaptive grid and refined by
 //! Brent's method ([`crate::numerics::brent_root_within`]).
 //!
+//! Allowed needs a witness, excluded the whole box. A value is therefore evaluated only as
+//! far as deciding it needs ([`nuisance::decide`]): the box's corners first, then the grid
+//! from coarse to fine, stopping as soon as the points evaluated put a size inside (or on
+//! both sides of) every interval with ΔC under the limit; only a value not decided so gets
+//! the full search of s₋ and s₊, and so does every evaluation that refines a bound end (its
+//! margin's value, not only its sign, is used there). A solver failure at a nuisance point is
+//! then fatal to a value only where the full search is needed. Where nearly everything is
+//! allowed this skips most of the work: the Johannsen–Psaltis bound of docs/performance.md
+//! evaluates 64 curves instead of 320. [`BoundSettings::full_extremes`] searches every value
+//! in full (the predicted band a figure draws), with the same allowed sets.
+//!
 //! Values are classified by whether a shadow exists. A horizonless object is evaluated like a
 //! black hole when the spherical solver finds a photon sphere that bounds capture (a JNW naked
 //! singularity with ν > 1/2, a Simpson–Visser wormhole): rays inside it end at the central
@@ -59,7 +70,7 @@ use crate::observables::resolved::{
 };
 use crate::observables::{sampling_error, CentreChoice, Observables, Quantity};
 use crate::shadow::{self, Observer, ShadowSettings, SolverChoice};
-use nuisance::{extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue};
+use nuisance::{decide, Aggregate, Effort, Extremes, NuisanceSearch, PointModel, PointValue};
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 
@@ -196,6 +207,13 @@ pub struct BoundSettings {
     /// Evaluate only values with a horizon. By default a horizonless object is evaluated when
     /// the spherical solver finds a photon sphere that bounds capture (module docs).
     pub require_horizon: bool,
+    /// Search the nuisance extremes in full at every value (the predicted band a figure of
+    /// the bound draws). By default a value is decided as soon as the nuisance points
+    /// evaluated allow it at every level ([`nuisance::decide`]): only values that may be
+    /// excluded, and the refinement of the bound's ends, get the full search. The allowed
+    /// sets are the same; the default skips most of the work where nearly every value is
+    /// allowed.
+    pub full_extremes: bool,
 }
 
 impl Default for BoundSettings {
@@ -215,6 +233,7 @@ impl Default for BoundSettings {
                 solver: SolverChoice::AUTO,
             },
             require_horizon: false,
+            full_extremes: false,
         }
     }
 }
@@ -315,12 +334,21 @@ pub struct PredictedPoint {
     /// Whether an `ok` node's prediction includes horizonless objects.
     pub horizonless: bool,
     /// Min of the predicted size (r_sh/M, by the request's size measure) over the points of
-    /// the (feasible) nuisance box with ΔC under the limit; `None` unless `ok`.
+    /// the (feasible) nuisance box with ΔC under the limit; `None` unless `ok` and searched
+    /// (not `witnessed`).
     pub size_min: Option<f64>,
-    /// Max of the predicted size over the same points; `None` unless `ok`.
+    /// Max of the predicted size over the same points; `None` unless `ok` and searched.
     pub size_max: Option<f64>,
-    /// Min of the circularity deviation ΔC over the nuisance box; `None` unless `ok`.
+    /// Min of the circularity deviation ΔC over the nuisance box; `None` unless `ok` and
+    /// searched.
     pub circularity_min: Option<f64>,
+    /// Whether the value was decided allowed at every level by the nuisance points evaluated
+    /// first, without the full search of its extremes ([`BoundSettings::full_extremes`]).
+    pub witnessed: bool,
+    /// For a witnessed value, the smallest and largest size among the points evaluated (the
+    /// true min is at most the first, the true max at least the second).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub witnessed_sizes: Option<[f64; 2]>,
 }
 
 /// A bound, ready to serialise.
@@ -555,6 +583,8 @@ struct Model<'a> {
     request: &'a BoundRequest,
     x: f64,
     dims: &'a [Dimension],
+    /// The nuisance box, one range per dimension.
+    ranges: &'a [(f64, f64)],
     fixed_inclination: f64,
     want_circularity: bool,
 }
@@ -771,17 +801,32 @@ impl PointModel for Model<'_> {
         let Ok((spacetime, _)) = self.build(n) else {
             return false;
         };
-        // Horizonless values count only through the spherical solver: elsewhere the horizon
-        // still bounds what can be evaluated.
+        self.counts_horizonless_of(spacetime.as_ref())
+            || matches!(spacetime.classify(), Classification::BlackHole { .. })
+    }
+
+    fn counts_horizonless(&self) -> bool {
+        let low: Vec<f64> = self.ranges.iter().map(|r| r.0).collect();
+        let corner = self.build(&low).map(|(s, _)| s);
+        // The solver is chosen by the metric's declared symmetry, the same at every point
+        // (the box's corner stands for all of it; a metric that cannot be built there counts).
+        corner.map_or(true, |s| self.counts_horizonless_of(s.as_ref()))
+    }
+}
+
+impl Model<'_> {
+    /// Whether a horizonless point of `spacetime` can count: only through the spherical
+    /// solver (elsewhere the horizon still bounds what can be evaluated), and unless a horizon
+    /// is required.
+    fn counts_horizonless_of(&self, spacetime: &dyn Spacetime) -> bool {
         let capture = self
             .request
             .settings
             .shadow
             .solver
-            .resolve(spacetime.as_ref())
+            .resolve(spacetime)
             .is_ok_and(|s| s.bounds_capture_without_horizon());
-        (capture && !self.request.settings.require_horizon)
-            || matches!(spacetime.classify(), Classification::BlackHole { .. })
+        capture && !self.request.settings.require_horizon
     }
 }
 
@@ -807,19 +852,37 @@ impl Prepared<'_> {
         (s.failure_edge_relative_tolerance * (r.vary.high - r.vary.low)).max(s.parameter_tolerance)
     }
 
-    fn evaluate(&self, x: f64) -> Aggregate {
+    /// The prediction at `x`: with `full` (or [`BoundSettings::full_extremes`]) the full
+    /// search of the nuisance extremes, else as far as deciding `x` at every level needs
+    /// ([`nuisance::decide`]).
+    fn evaluate(&self, x: f64, full: bool) -> Aggregate {
         let model = Model {
             request: self.request,
             x,
             dims: &self.dims,
+            ranges: &self.ranges,
             fixed_inclination: self.fixed_inclination,
             want_circularity: self.request.circularity_max.is_some(),
         };
-        extremes(
+        let r = self.request;
+        let levels: Vec<[f64; 2]> = r
+            .radii
+            .intervals
+            .iter()
+            .map(|iv| [iv.low, iv.high])
+            .collect();
+        let effort = if full || r.settings.full_extremes {
+            Effort::FullSearch
+        } else {
+            Effort::Decide
+        };
+        decide(
             &model,
             &self.ranges,
-            self.request.circularity_max,
-            &self.request.settings.nuisance,
+            &levels,
+            r.circularity_max,
+            &r.settings.nuisance,
+            effort,
         )
     }
 }
@@ -1038,6 +1101,8 @@ pub fn allowed_margin(
         horizonless: false,
         wall_backoff: 0.0,
         refinement_cut: None,
+        witnessed: false,
+        failure_passed_over: None,
     };
     refine::margins(
         &point,

@@ -7,6 +7,10 @@
 //! fails right at the boundary, at the closest point inside where it succeeds); an extreme at
 //! an edge of the box (or at a horizon boundary) is accepted when the adjacent grid value is
 //! less extreme.
+//!
+//! [`decide`] makes only as much of that search as deciding a value needs: a value some
+//! points already show allowed at every level is not searched further (its extremes are
+//! marked [`Extremes::witnessed`]).
 
 use crate::numerics::{bisect_predicate, brent_minimise};
 use rayon::prelude::*;
@@ -43,6 +47,12 @@ pub trait PointModel: Sync {
     /// evaluated; a model that also evaluates horizonless objects returns `true` everywhere
     /// (the edge of what it can evaluate is then found by evaluating).
     fn passes_horizon_test(&self, n: &[f64]) -> bool;
+    /// Whether some point of the box may count as a horizonless object with a shadow. Such a
+    /// model's values are not decided on the box's corners alone ([`decide`]): whether a
+    /// value's prediction includes horizonless objects is a property of the whole grid.
+    fn counts_horizonless(&self) -> bool {
+        true
+    }
 }
 
 /// Extremes of the prediction over the feasible part of the box (as a bound's checkpoint
@@ -72,6 +82,15 @@ pub struct Extremes {
     /// extreme is then the best value found before it; grid-point failures are fatal).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub refinement_cut: Option<String>,
+    /// The extremes are those of the nuisance points evaluated, which already decided the
+    /// value allowed at every level ([`decide`]); the full search was not made, so the true
+    /// min is at most `size_min` and the true max at least `size_max`.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub witnessed: bool,
+    /// A solver failure at some nuisance point of a witnessed value: other points decided it,
+    /// so the failure did not matter (a failure is fatal only where the full search is made).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub failure_passed_over: Option<String>,
 }
 
 /// The prediction at one value of the varied parameter.
@@ -191,13 +210,209 @@ pub fn extremes(
     circularity_limit: Option<f64>,
     search: &NuisanceSearch,
 ) -> Aggregate {
-    let axes: Vec<Vec<f64>> = dims
-        .iter()
-        .map(|&(lo, hi)| linspace(lo, hi, search.grid))
-        .collect();
+    let axes = grid_axes(dims, search);
     let points = grid_points(&axes);
     let values: Vec<PointValue> = points.par_iter().map(|p| model.value(p)).collect();
-    if let Some(outcome) = without_valid_point(&values) {
+    search_from_grid(
+        model,
+        dims,
+        &axes,
+        &points,
+        &values,
+        circularity_limit,
+        search,
+    )
+}
+
+/// The extremes of the points evaluated when they already decide the value allowed at every
+/// level: for each interval [L, H] some counted size at most H and some at least L (then, the
+/// size taking every value in between, one inside it), and, with a circularity limit, some ΔC
+/// under it. Counted are the valid points with ΔC under the limit. `None` when they do not.
+fn witnessed(
+    values: &[PointValue],
+    levels: &[[f64; 2]],
+    circularity_limit: Option<f64>,
+) -> Option<Extremes> {
+    let best = |goal: Goal| {
+        values
+            .iter()
+            .map(|v| goal.objective(v, circularity_limit))
+            .fold(f64::INFINITY, f64::min)
+    };
+    let size_min = best(Goal::SizeMin);
+    if !size_min.is_finite() {
+        return None;
+    }
+    let extremes = Extremes {
+        size_min,
+        size_max: -best(Goal::SizeMax),
+        circularity_min: best(Goal::CircularityMin),
+        partial: values
+            .iter()
+            .any(|v| !matches!(v, PointValue::Valid { .. })),
+        horizonless: values
+            .iter()
+            .any(|v| matches!(v, PointValue::Valid { horizon: false, .. })),
+        wall_backoff: 0.0,
+        refinement_cut: None,
+        witnessed: true,
+        failure_passed_over: values.iter().find_map(|v| match v {
+            PointValue::Failed(m) => Some(m.clone()),
+            _ => None,
+        }),
+    };
+    super::refine::margins(&extremes, levels, circularity_limit)
+        .iter()
+        .all(|m| *m >= 0.0)
+        .then_some(extremes)
+}
+
+/// How much of the nuisance search [`decide`] makes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Effort {
+    /// Stop as soon as the points evaluated decide the value allowed at every level.
+    Decide,
+    /// The full search (the predicted band a figure draws), except where a grid point
+    /// failed and the others decide the value allowed.
+    FullSearch,
+}
+
+/// The prediction at one value as far as deciding it needs. With [`Effort::Decide`]: the
+/// box's corners first, then the rest of the grid, each stopping as soon as the points
+/// evaluated decide the value allowed at every level of `levels` (r_sh/M intervals) and the
+/// circularity limit ([`Extremes::witnessed`]: allowed needs one point inside each interval,
+/// or points on both sides of it, whatever the other points give, even a solver failure);
+/// only a value not decided so, which may be excluded, gets the full search of [`extremes`],
+/// with the grid already evaluated. A model that may count horizonless objects starts from
+/// the whole grid ([`PointModel::counts_horizonless`]). With [`Effort::FullSearch`], the
+/// full search, unless a grid point failed: then the value is witnessed as above, or failed.
+/// Both efforts decide every value alike. Without nuisance dimensions the one point is its
+/// own full search.
+///
+/// ```
+/// use umbral::bounds::nuisance::{decide, extremes, Aggregate, Effort, NuisanceSearch, PointModel, PointValue};
+/// // The size falls from 5.3 to 4.9 across the box.
+/// struct Falling;
+/// impl PointModel for Falling {
+///     fn value(&self, n: &[f64]) -> PointValue {
+///         PointValue::Valid { size: 5.3 - 0.4 * n[0], circularity: 0.0, horizon: true }
+///     }
+///     fn passes_horizon_test(&self, _: &[f64]) -> bool { true }
+///     fn counts_horizonless(&self) -> bool { false }
+/// }
+/// let search = NuisanceSearch { grid: 7, relative_tolerance: 1e-10 };
+/// let box_ = [(0.0, 1.0)];
+/// // [5.0, 5.1] lies between the corners' sizes: allowed, from two points.
+/// let Aggregate::Ok(e) = decide(&Falling, &box_, &[[5.0, 5.1]], None, &search, Effort::Decide)
+/// else { panic!() };
+/// assert!(e.witnessed && e.size_min == 5.3 - 0.4 && e.size_max == 5.3);
+/// // Nothing reaches 5.4: the full search.
+/// let full = decide(&Falling, &box_, &[[5.4, 5.5]], None, &search, Effort::Decide);
+/// assert_eq!(full, extremes(&Falling, &box_, None, &search));
+/// ```
+pub fn decide(
+    model: &dyn PointModel,
+    dims: &[(f64, f64)],
+    levels: &[[f64; 2]],
+    circularity_limit: Option<f64>,
+    search: &NuisanceSearch,
+    effort: Effort,
+) -> Aggregate {
+    let axes = grid_axes(dims, search);
+    let points = grid_points(&axes);
+    let batches = if effort == Effort::Decide && !model.counts_horizonless() {
+        coarse_to_fine(axes.iter().map(Vec::len).collect())
+    } else {
+        vec![(0..points.len()).collect()]
+    };
+    let mut values: Vec<Option<PointValue>> = vec![None; points.len()];
+    for batch in batches {
+        let batch_values: Vec<PointValue> =
+            batch.par_iter().map(|&i| model.value(&points[i])).collect();
+        for (i, v) in batch.into_iter().zip(batch_values) {
+            values[i] = Some(v);
+        }
+        let evaluated: Vec<PointValue> = values.iter().flatten().cloned().collect();
+        let failed = evaluated.iter().any(|v| matches!(v, PointValue::Failed(_)));
+        if !dims.is_empty() && (effort == Effort::Decide || failed) {
+            if let Some(e) = witnessed(&evaluated, levels, circularity_limit) {
+                return Aggregate::Ok(e);
+            }
+        }
+    }
+    let values: Vec<PointValue> = values.into_iter().flatten().collect();
+    search_from_grid(
+        model,
+        dims,
+        &axes,
+        &points,
+        &values,
+        circularity_limit,
+        search,
+    )
+}
+
+/// The indices of a product grid (`sizes` points per axis, the last axis fastest) in
+/// batches from coarse to fine: the corners (stride n − 1 on every axis), then the points of
+/// the grids of half that stride while it halves evenly, then the rest. With 7 points per
+/// axis: the 2 ends, the middle, the other 4.
+fn coarse_to_fine(sizes: Vec<usize>) -> Vec<Vec<usize>> {
+    let total: usize = sizes.iter().product();
+    let n = sizes.iter().copied().max().unwrap_or(1);
+    let on_stride = |mut i: usize, stride: usize| {
+        sizes.iter().rev().all(|&len| {
+            let k = i % len;
+            i /= len;
+            // An axis of one point, or its last point, is on every stride.
+            len == 1 || k == len - 1 || k % stride == 0
+        })
+    };
+    let mut strides = vec![(n - 1).max(1)];
+    while let Some(&s) = strides.last() {
+        if s > 1 && s % 2 == 0 {
+            strides.push(s / 2);
+        } else {
+            break;
+        }
+    }
+    if strides.last() != Some(&1) {
+        strides.push(1);
+    }
+    let mut done = vec![false; total];
+    let mut batches = Vec::new();
+    for stride in strides {
+        let batch: Vec<usize> = (0..total)
+            .filter(|&i| !done[i] && on_stride(i, stride))
+            .collect();
+        for &i in &batch {
+            done[i] = true;
+        }
+        if !batch.is_empty() {
+            batches.push(batch);
+        }
+    }
+    batches
+}
+
+fn grid_axes(dims: &[(f64, f64)], search: &NuisanceSearch) -> Vec<Vec<f64>> {
+    dims.iter()
+        .map(|&(lo, hi)| linspace(lo, hi, search.grid))
+        .collect()
+}
+
+/// [`extremes`] from the grid's values.
+#[allow(clippy::too_many_arguments)]
+// Long: the full search's inputs (the box, its grid and values, the limit, the settings).
+fn search_from_grid(
+    model: &dyn PointModel,
+    dims: &[(f64, f64)],
+    axes: &[Vec<f64>],
+    points: &[Vec<f64>],
+    values: &[PointValue],
+    circularity_limit: Option<f64>,
+    search: &NuisanceSearch,
+) -> Aggregate {
+    if let Some(outcome) = without_valid_point(values) {
         return outcome;
     }
     let partial = values
@@ -212,9 +427,9 @@ pub fn extremes(
         refine_goal(
             model,
             dims,
-            &axes,
-            &points,
-            &values,
+            axes,
+            points,
+            values,
             goal,
             circularity_limit,
             search,
@@ -256,6 +471,8 @@ pub fn extremes(
         horizonless,
         wall_backoff,
         refinement_cut,
+        witnessed: false,
+        failure_passed_over: None,
     })
 }
 
@@ -501,5 +718,31 @@ mod number {
                 ))),
             },
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::coarse_to_fine;
+
+    #[test]
+    fn grid_batches_run_from_the_corners_to_every_point_once() {
+        assert_eq!(
+            coarse_to_fine(vec![7]),
+            vec![vec![0, 6], vec![3], vec![1, 2, 4, 5]]
+        );
+        assert_eq!(
+            coarse_to_fine(vec![9]),
+            vec![vec![0, 8], vec![4], vec![2, 6], vec![1, 3, 5, 7]]
+        );
+        // 3 × 3, the last axis fastest: corners, then the rest.
+        assert_eq!(
+            coarse_to_fine(vec![3, 3]),
+            vec![vec![0, 2, 6, 8], vec![1, 3, 4, 5, 7]]
+        );
+        assert_eq!(coarse_to_fine(vec![]), vec![vec![0]]);
+        let mut all: Vec<usize> = coarse_to_fine(vec![7, 7, 7]).concat();
+        all.sort_unstable();
+        assert_eq!(all, (0..343).collect::<Vec<_>>());
     }
 }

@@ -76,19 +76,20 @@ pub(super) struct Cells {
 }
 
 impl Search<'_, '_> {
-    /// Evaluate at every value of `xs` (in parallel), in order.
-    fn nodes(&mut self, xs: &[f64], stage: &str) -> Result<Vec<Node>, BoundError> {
+    /// Evaluate at every value of `xs` (in parallel), in order: as far as deciding each value
+    /// needs, or (`full`) with the full search of the nuisance extremes.
+    fn nodes(&mut self, xs: &[f64], stage: &str, full: bool) -> Result<Vec<Node>, BoundError> {
         let prep = self.prep;
         let node = |x| Node {
             x,
-            value: prep.evaluate(x),
+            value: prep.evaluate(x, full),
         };
         Ok(self.evaluator.evaluate(stage, xs, &node)?)
     }
 
     /// Evaluate at `x`.
-    fn value(&mut self, x: f64, stage: &str) -> Result<Aggregate, BoundError> {
-        let mut nodes = self.nodes(&[x], stage)?;
+    fn value(&mut self, x: f64, stage: &str, full: bool) -> Result<Aggregate, BoundError> {
+        let mut nodes = self.nodes(&[x], stage, full)?;
         Ok(nodes.remove(0).value)
     }
 
@@ -107,14 +108,14 @@ impl Search<'_, '_> {
                 }
             })
             .collect();
-        let mut nodes = self.nodes(&xs, "starting grid")?;
+        let mut nodes = self.nodes(&xs, "starting grid", false)?;
         self.locate_category_boundaries(&mut nodes)?;
         for _ in 0..s.refinement_rounds {
             let extra = hidden_crossing_candidates(&nodes, &self.levels, self.cmax);
             if extra.is_empty() {
                 break;
             }
-            let mut new = self.nodes(&extra, "hidden crossings")?;
+            let mut new = self.nodes(&extra, "hidden crossings", false)?;
             nodes.append(&mut new);
             nodes.sort_by(|a, b| a.x.total_cmp(&b.x));
             nodes.dedup_by(|a, b| a.x == b.x);
@@ -146,7 +147,7 @@ impl Search<'_, '_> {
                 return Ok(());
             };
             let x = 0.5 * (nodes[i].x + nodes[i + 1].x);
-            let value = self.value(x, "category edges")?;
+            let value = self.value(x, "category edges", false)?;
             nodes.insert(i + 1, Node { x, value });
         }
     }
@@ -231,7 +232,15 @@ impl Search<'_, '_> {
             // Once another category was met (the cell is then reported whole) or the
             // evaluator stopped, the root is not used: nothing more is evaluated.
             |x| match (&inner_failure, &stopped) {
-                (None, None) => match self.value(x, "bound ends") {
+                // The full search: the margin's value, not only its sign, steers the search
+                // and ends it within the curves' resolution. A value witnessed despite a
+                // failed grid point has no full search: a failure met on the way.
+                (None, None) => match self.value(x, "bound ends", true) {
+                    Ok(Aggregate::Ok(e)) if e.witnessed => {
+                        let m = e.failure_passed_over.unwrap_or_default();
+                        inner_failure.get_or_insert(Aggregate::Failed(m));
+                        f64::NAN
+                    }
                     Ok(Aggregate::Ok(e)) => margins(&e, &levels, cmax)[j],
                     Ok(other) => {
                         inner_failure.get_or_insert(other);
@@ -278,6 +287,11 @@ fn hidden_crossing_candidates(nodes: &[Node], levels: &[[f64; 2]], cmax: Option<
         else {
             continue;
         };
+        // A witnessed value's margins are lower bounds from some of its nuisance points, not
+        // the function the parabola would interpolate.
+        if a.witnessed || b.witnessed || c.witnessed {
+            continue;
+        }
         let (ma, mb, mc) = (
             margins(a, levels, cmax),
             margins(b, levels, cmax),
@@ -480,6 +494,32 @@ fn assumptions(prep: &Prepared, nodes: &[Node]) -> (Vec<String>, Vec<f64>) {
             prep.request.vary.name
         ));
     }
+    let witnessed: Vec<&Node> = nodes
+        .iter()
+        .filter(|n| matches!(&n.value, Aggregate::Ok(e) if e.witnessed))
+        .collect();
+    if !witnessed.is_empty() {
+        assumptions.push(format!(
+            "{} of {} values of {} were decided allowed at every level by the nuisance points              evaluated first (the box's corners, then coarse to fine through the grid: a size              inside each interval, or sizes on both sides of it, with ΔC under its limit);              their extremes were not searched (the JSON's `predicted` lists them as witnessed;              --full-extremes searches them)",
+            witnessed.len(),
+            nodes.len(),
+            prep.request.vary.name
+        ));
+    }
+    let passed_over: Vec<(f64, &str)> = witnessed
+        .iter()
+        .filter_map(|n| match &n.value {
+            Aggregate::Ok(e) => e.failure_passed_over.as_deref().map(|m| (n.x, m)),
+            _ => None,
+        })
+        .collect();
+    if let Some(&(x, m)) = passed_over.first() {
+        assumptions.push(format!(
+            "the shadow solver failed at some nuisance points of {} allowed value(s) of {},              which other points decided (first at {x}: {m})",
+            passed_over.len(),
+            prep.request.vary.name
+        ));
+    }
     if backoff > 0.0 {
         assumptions.push(format!(
             "the shadow solver failed right at a horizon boundary inside the nuisance box; the \
@@ -501,13 +541,17 @@ fn predicted(nodes: &[Node]) -> Vec<PredictedPoint> {
                 Aggregate::Failed(_) => ("failed", None),
             };
             let finite = |v: f64| v.is_finite().then_some(v);
+            let witnessed = e.is_some_and(|e| e.witnessed);
+            let searched = e.filter(|_| !witnessed);
             PredictedPoint {
                 value: n.x,
                 status,
                 horizonless: horizonless(&n.value),
-                size_min: e.and_then(|e| finite(e.size_min)),
-                size_max: e.and_then(|e| finite(e.size_max)),
-                circularity_min: e.and_then(|e| finite(e.circularity_min)),
+                size_min: searched.and_then(|e| finite(e.size_min)),
+                size_max: searched.and_then(|e| finite(e.size_max)),
+                circularity_min: searched.and_then(|e| finite(e.circularity_min)),
+                witnessed,
+                witnessed_sizes: e.filter(|_| witnessed).map(|e| [e.size_min, e.size_max]),
             }
         })
         .collect()

@@ -82,6 +82,13 @@ pub struct BoundArgs {
     /// Keep no checkpoint (an interrupted bound starts over).
     #[arg(long = "no-checkpoint", conflicts_with = "checkpoint")]
     no_checkpoint: bool,
+    /// Search the predicted size's min and max over the nuisance box at every value (the
+    /// band of the JSON's `predicted` and of the figure; --plot implies it). By default a
+    /// value is decided as soon as the nuisance points evaluated allow it at every level,
+    /// and only values that may be excluded get the full search: the same allowed ranges,
+    /// sooner.
+    #[arg(long = "full-extremes")]
+    full_extremes: bool,
 }
 
 /// Read `LO:HI` with LO < HI, both finite.
@@ -193,6 +200,8 @@ fn request_from(args: &BoundArgs, progress: &ProgressArgs) -> Result<BoundReques
         circularity_max: measurement.circularity_max,
         settings: BoundSettings {
             require_horizon: args.require_horizon,
+            // A figure draws the predicted band: every value's extremes searched.
+            full_extremes: args.full_extremes || args.plot.is_some(),
             ..BoundSettings::default()
         },
     })

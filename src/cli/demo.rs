@@ -832,7 +832,11 @@ impl DemoBound<'_> {
             size_measure: SizeMeasure::Mean,
             radii: self.radii.clone(),
             circularity_max: self.measurement.circularity_max,
-            settings: BoundSettings::default(),
+            // The figures draw the predicted band: every value's extremes searched.
+            settings: BoundSettings {
+                full_extremes: true,
+                ..BoundSettings::default()
+            },
         };
         let _graceful = interrupt::Graceful::enter("nuisance evaluations");
         let controls = Controls {

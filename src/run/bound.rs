@@ -7,9 +7,11 @@
 //!
 //! The header holds what an evaluation depends on: the metric and its hash, the varied
 //! parameter's name, the fixed values, the nuisance box, the inclination, the size measure,
-//! the circularity limit, the horizon policy and the nuisance and shadow settings. The range
-//! of the varied parameter, the levels and the refinement settings only decide which values
-//! are evaluated, so a checkpoint serves a rerun with other levels too. A line is
+//! the measured intervals and the circularity limit (a value is decided as soon as its
+//! nuisance points allow it at every level, [`crate::bounds::nuisance::decide`]), whether
+//! every value's extremes are searched in full, the horizon policy and the nuisance and
+//! shadow settings. The range of the varied parameter and the refinement settings only decide
+//! which values are evaluated. A line is
 //! `{"x":0.35,"status":"ok","extremes":{...},"checksum":"..."}` (statuses `ok`,
 //! `no_horizon`, `no_shadow` and `failed`, the last two with a `reason`); a number that is
 //! not finite (a size with no feasible nuisance point) is written as the string `nan`, `inf`
@@ -29,8 +31,9 @@ use std::cmp::Ordering;
 use std::collections::BTreeMap;
 use std::path::Path;
 
-/// The bound checkpoint format written by this version.
-pub const FORMAT: u32 = 1;
+/// The bound checkpoint format written by this version (2: the intervals and the search
+/// effort in the header, witnessed values in the lines).
+pub const FORMAT: u32 = 2;
 
 /// A checkpoint of a bound's nuisance evaluations.
 pub type BoundCheckpoint = JsonlCheckpoint<NodeFormat>;
@@ -188,7 +191,9 @@ struct Header {
     nuisance: Vec<ParameterRange>,
     inclination: Inclination,
     size_measure: SizeMeasure,
+    intervals: Vec<[f64; 2]>,
     circularity_max: Option<f64>,
+    full_extremes: bool,
     require_horizon: bool,
     nuisance_grid: usize,
     nuisance_tolerance: f64,
@@ -209,7 +214,14 @@ fn header(request: &BoundRequest) -> Result<Header, MetricHashError> {
         nuisance: request.nuisance.clone(),
         inclination: request.inclination,
         size_measure: request.size_measure,
+        intervals: request
+            .radii
+            .intervals
+            .iter()
+            .map(|iv| [iv.low, iv.high])
+            .collect(),
         circularity_max: request.circularity_max,
+        full_extremes: s.full_extremes,
         require_horizon: s.require_horizon,
         nuisance_grid: s.nuisance.grid,
         nuisance_tolerance: s.nuisance.relative_tolerance,

@@ -1,0 +1,382 @@
+//! Values decided by witnesses: a bound evaluates a value's nuisance box only as far as
+//! deciding it needs (`bounds::nuisance::decide`), and gives the same allowed sets as the full
+//! search of every value's extremes (`BoundSettings::full_extremes`).
+
+use proptest::prelude::*;
+use std::sync::atomic::{AtomicUsize, Ordering};
+use umbral::bounds::nuisance::{
+    decide, extremes, Aggregate, Effort, NuisanceSearch, PointModel, PointValue,
+};
+use umbral::bounds::{
+    bound, BoundRequest, BoundSettings, Inclination, ParameterRange, SizeMeasure,
+};
+use umbral::measurement::{DerivedRadii, RadiusInterval};
+
+const SEARCH: NuisanceSearch = NuisanceSearch {
+    grid: 7,
+    relative_tolerance: 1e-10,
+};
+
+/// A synthetic size over a 1-D or 2-D box, counting its solves; `fails` marks points whose
+/// solve fails.
+struct Synthetic<S: Fn(&[f64]) -> f64 + Sync, F: Fn(&[f64]) -> bool + Sync> {
+    size: S,
+    fails: F,
+    horizonless: bool,
+    solves: AtomicUsize,
+}
+
+impl<S: Fn(&[f64]) -> f64 + Sync, F: Fn(&[f64]) -> bool + Sync> Synthetic<S, F> {
+    fn new(size: S, fails: F) -> Self {
+        Synthetic {
+            size,
+            fails,
+            horizonless: false,
+            solves: AtomicUsize::new(0),
+        }
+    }
+
+    fn solves(&self) -> usize {
+        self.solves.swap(0, Ordering::Relaxed)
+    }
+}
+
+impl<S: Fn(&[f64]) -> f64 + Sync, F: Fn(&[f64]) -> bool + Sync> PointModel for Synthetic<S, F> {
+    fn value(&self, n: &[f64]) -> PointValue {
+        self.solves.fetch_add(1, Ordering::Relaxed);
+        if (self.fails)(n) {
+            return PointValue::Failed("synthetic solver failure".into());
+        }
+        PointValue::Valid {
+            size: (self.size)(n),
+            circularity: 0.0,
+            horizon: true,
+        }
+    }
+
+    fn passes_horizon_test(&self, _: &[f64]) -> bool {
+        true
+    }
+
+    fn counts_horizonless(&self) -> bool {
+        self.horizonless
+    }
+}
+
+fn never(_: &[f64]) -> bool {
+    false
+}
+
+/// Whether every margin of the extremes passes at every level: the definition of allowed
+/// (`bounds` module docs).
+fn allowed_at_every_level(a: &Aggregate, levels: &[[f64; 2]]) -> bool {
+    match a {
+        Aggregate::Ok(e) => levels
+            .iter()
+            .all(|[lo, hi]| e.size_min <= *hi && e.size_max >= *lo),
+        _ => false,
+    }
+}
+
+#[test]
+fn a_value_the_corners_show_allowed_costs_two_solves() {
+    // Falling from 5.3 to 4.9 across the box: [5.0, 5.1] lies between the corners' sizes.
+    let model = Synthetic::new(|n: &[f64]| 5.3 - 0.4 * n[0], never);
+    let a = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.0, 5.1]],
+        None,
+        &SEARCH,
+        Effort::Decide,
+    );
+    let Aggregate::Ok(e) = &a else {
+        panic!("{a:?}")
+    };
+    assert!(e.witnessed);
+    assert_eq!((e.size_min, e.size_max), (5.3 - 0.4, 5.3));
+    assert_eq!(model.solves(), 2);
+    // The full search: the 7 grid points (the extremes are at the edges, accepted there).
+    let full = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.0, 5.1]],
+        None,
+        &SEARCH,
+        Effort::FullSearch,
+    );
+    assert_eq!(model.solves(), 7);
+    assert_eq!(full, extremes(&model, &[(0.0, 1.0)], None, &SEARCH));
+    let Aggregate::Ok(f) = full else { panic!() };
+    assert!(!f.witnessed);
+}
+
+#[test]
+fn the_grid_is_walked_from_coarse_to_fine_until_it_decides() {
+    // A bump: 5.0 at both corners, 5.36 at the middle. [5.2, 5.4] needs the middle point.
+    let model = Synthetic::new(|n: &[f64]| 5.36 - 1.44 * (n[0] - 0.5).powi(2), never);
+    let a = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.2, 5.4]],
+        None,
+        &SEARCH,
+        Effort::Decide,
+    );
+    assert!(matches!(&a, Aggregate::Ok(e) if e.witnessed), "{a:?}");
+    assert_eq!(model.solves(), 3, "the corners, then the middle");
+    // [5.355, 5.4]: the grid's largest (the middle, 5.36) already reaches into it.
+    let b = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.355, 5.4]],
+        None,
+        &SEARCH,
+        Effort::Decide,
+    );
+    assert!(matches!(&b, Aggregate::Ok(e) if e.witnessed), "{b:?}");
+    assert_eq!(model.solves(), 3);
+    // [5.37, 5.4] is above every size: excluded, after the whole grid and the search, whose
+    // maximum is the true one.
+    let c = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.37, 5.4]],
+        None,
+        &SEARCH,
+        Effort::Decide,
+    );
+    let Aggregate::Ok(e) = &c else {
+        panic!("{c:?}")
+    };
+    assert!(!e.witnessed);
+    assert!((e.size_max - 5.36).abs() < 1e-9, "{e:?}");
+    assert!(model.solves() > 7);
+    assert!(!allowed_at_every_level(&c, &[[5.37, 5.4]]));
+}
+
+#[test]
+fn a_failure_beside_a_witness_does_not_matter_and_is_kept() {
+    // The solver fails at the upper corner; the lower corner and the middle show [5.0, 5.2].
+    let model = Synthetic::new(|n: &[f64]| 5.3 - 0.4 * n[0], |n: &[f64]| n[0] == 1.0);
+    let box_ = [(0.0, 1.0)];
+    let levels = [[5.0, 5.2]];
+    let a = decide(&model, &box_, &levels, None, &SEARCH, Effort::Decide);
+    let Aggregate::Ok(e) = &a else {
+        panic!("{a:?}")
+    };
+    assert!(e.witnessed);
+    assert_eq!(
+        e.failure_passed_over.as_deref(),
+        Some("synthetic solver failure")
+    );
+    assert_eq!((e.size_min, e.size_max), (5.1, 5.3));
+    assert_eq!(model.solves(), 3);
+    // The full search alone fails on the failed grid point; with the full effort the value
+    // is decided alike (the failure is still passed over).
+    assert!(matches!(
+        extremes(&model, &box_, None, &SEARCH),
+        Aggregate::Failed(_)
+    ));
+    let full = decide(&model, &box_, &levels, None, &SEARCH, Effort::FullSearch);
+    assert!(matches!(&full, Aggregate::Ok(e) if e.witnessed && e.failure_passed_over.is_some()));
+    // A level the evaluated points do not decide: the failure is fatal, as before.
+    let b = decide(&model, &box_, &[[5.5, 5.6]], None, &SEARCH, Effort::Decide);
+    assert!(matches!(b, Aggregate::Failed(_)), "{b:?}");
+}
+
+#[test]
+fn a_model_that_counts_horizonless_points_starts_from_the_whole_grid() {
+    let mut model = Synthetic::new(|n: &[f64]| 5.3 - 0.4 * n[0], never);
+    model.horizonless = true;
+    let a = decide(
+        &model,
+        &[(0.0, 1.0)],
+        &[[5.0, 5.1]],
+        None,
+        &SEARCH,
+        Effort::Decide,
+    );
+    assert!(matches!(&a, Aggregate::Ok(e) if e.witnessed));
+    assert_eq!(model.solves(), 7);
+}
+
+#[test]
+fn a_circularity_limit_is_part_of_the_decision() {
+    // ΔC = 0.1 n: under the limit 0.05 only on the lower half of the box.
+    struct Oblate;
+    impl PointModel for Oblate {
+        fn value(&self, n: &[f64]) -> PointValue {
+            PointValue::Valid {
+                size: 5.3 - 0.4 * n[0],
+                circularity: 0.1 * n[0],
+                horizon: true,
+            }
+        }
+        fn passes_horizon_test(&self, _: &[f64]) -> bool {
+            true
+        }
+        fn counts_horizonless(&self) -> bool {
+            false
+        }
+    }
+    // Sizes 5.1 to 5.3 count (n ≤ 0.5): [4.9, 5.0] is reached only by points over the limit.
+    let a = decide(
+        &Oblate,
+        &[(0.0, 1.0)],
+        &[[4.9, 5.0]],
+        Some(0.05),
+        &SEARCH,
+        Effort::Decide,
+    );
+    let Aggregate::Ok(e) = &a else {
+        panic!("{a:?}")
+    };
+    assert!(!e.witnessed, "{e:?}");
+    assert!(e.size_min > 5.0);
+    let b = decide(
+        &Oblate,
+        &[(0.0, 1.0)],
+        &[[5.0, 5.2]],
+        Some(0.05),
+        &SEARCH,
+        Effort::Decide,
+    );
+    assert!(matches!(&b, Aggregate::Ok(e) if e.witnessed), "{b:?}");
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(200))]
+
+    /// Witnessed only where the full search allows too; otherwise the full search itself.
+    #[test]
+    fn a_witness_never_allows_what_the_full_search_excludes(
+        c0 in 4.5f64..5.5, c1 in -0.5f64..0.5, c2 in -0.5f64..0.5, k in 0.5f64..6.0,
+        d in -0.3f64..0.3, lo in 4.5f64..5.5, width in 0.01f64..0.4, two_d in any::<bool>(),
+    ) {
+        let size = move |n: &[f64]| {
+            let y = n.get(1).copied().unwrap_or(0.0);
+            c0 + c1 * n[0] + c2 * (k * n[0]).sin() + d * y * n[0]
+        };
+        let model = Synthetic::new(size, never);
+        let box_: Vec<(f64, f64)> = if two_d {
+            vec![(0.0, 1.0), (-1.0, 1.0)]
+        } else {
+            vec![(0.0, 1.0)]
+        };
+        let levels = [[lo, lo + width], [lo - width, lo + 2.0 * width]];
+        let decided = decide(&model, &box_, &levels, None, &SEARCH, Effort::Decide);
+        let full = extremes(&model, &box_, None, &SEARCH);
+        match &decided {
+            Aggregate::Ok(e) if e.witnessed => {
+                prop_assert!(allowed_at_every_level(&full, &levels), "{decided:?} {full:?}");
+                let Aggregate::Ok(f) = &full else { unreachable!() };
+                prop_assert!(f.size_min <= e.size_min && f.size_max >= e.size_max);
+            }
+            _ => prop_assert_eq!(&decided, &full),
+        }
+        prop_assert_eq!(
+            decide(&model, &box_, &levels, None, &SEARCH, Effort::FullSearch),
+            full
+        );
+    }
+}
+
+fn kerr_newman_request(full_extremes: bool) -> BoundRequest {
+    // Invented intervals on the mean radius.
+    let interval = |confidence, low, high| RadiusInterval {
+        confidence,
+        low,
+        high,
+    };
+    BoundRequest {
+        metric: umbral::metrics::MetricSource::builtin("kerr-newman").unwrap(),
+        vary: ParameterRange {
+            name: "q".into(),
+            low: 0.0,
+            high: 0.9,
+        },
+        fixed: vec![],
+        inclination: Inclination::Range {
+            low_degrees: 20.0,
+            high_degrees: 80.0,
+        },
+        nuisance: vec![ParameterRange {
+            name: "a".into(),
+            low: 0.0,
+            high: 0.99,
+        }],
+        size_measure: SizeMeasure::Mean,
+        radii: DerivedRadii {
+            intervals: vec![interval(0.68, 5.0, 5.15), interval(0.95, 4.95, 5.2)],
+            ring: None,
+            assumptions: vec![],
+        },
+        circularity_max: None,
+        settings: BoundSettings {
+            full_extremes,
+            ..BoundSettings::default()
+        },
+    }
+}
+
+/// Kerr–Newman with spin and an inclination range as nuisances (separable curves, Carter
+/// 1968): the same allowed sets, decided by witnesses or searched in full, and every
+/// witnessed value allowed at every level by the full search's extremes there.
+#[test]
+fn witnessed_and_fully_searched_bounds_allow_the_same_values() {
+    let decided = bound(&kerr_newman_request(false)).unwrap();
+    let full = bound(&kerr_newman_request(true)).unwrap();
+    for (d, f) in decided.levels.iter().zip(&full.levels) {
+        assert_eq!(d.allowed.len(), f.allowed.len(), "{d:?} {f:?}");
+        for (a, b) in d.allowed.iter().zip(&f.allowed) {
+            // The ends are refined by the same full evaluations, from other bracket values.
+            assert!(
+                (a[0] - b[0]).abs() < 1e-6 && (a[1] - b[1]).abs() < 1e-6,
+                "{a:?} {b:?}"
+            );
+        }
+    }
+    let witnessed: Vec<_> = decided.predicted.iter().filter(|p| p.witnessed).collect();
+    assert!(witnessed.len() > 10, "{:?}", decided.predicted);
+    assert!(full
+        .predicted
+        .iter()
+        .all(|p| !p.witnessed && p.size_min.is_some()));
+    for p in witnessed {
+        assert!(p.size_min.is_none() && p.size_max.is_none());
+        let [lo, hi] = p.witnessed_sizes.unwrap();
+        // The full search at that value: its extremes reach at least as far.
+        let mut one = kerr_newman_request(true);
+        one.vary = ParameterRange {
+            name: "q".into(),
+            low: p.value,
+            high: p.value + 1e-9,
+        };
+        one.settings.initial_grid = 3;
+        let at = bound(&one).unwrap();
+        let q = &at.predicted[0];
+        assert!(q.size_min.unwrap() <= lo + 1e-12 && q.size_max.unwrap() >= hi - 1e-12);
+        for level in &decided.radii_levels() {
+            assert!(q.size_min.unwrap() <= level[1] && q.size_max.unwrap() >= level[0]);
+        }
+    }
+    assert!(decided
+        .assumptions
+        .iter()
+        .any(|a| a.contains("were decided allowed at every level by the nuisance points")));
+    assert!(!full
+        .assumptions
+        .iter()
+        .any(|a| a.contains("were decided allowed")));
+}
+
+trait Levels {
+    fn radii_levels(&self) -> Vec<[f64; 2]>;
+}
+
+impl Levels for umbral::bounds::BoundResult {
+    fn radii_levels(&self) -> Vec<[f64; 2]> {
+        self.levels.iter().map(|l| l.radius_interval).collect()
+    }
+}
