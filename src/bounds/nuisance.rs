@@ -364,12 +364,12 @@ fn coarse_to_fine(sizes: Vec<usize>) -> Vec<Vec<usize>> {
             let k = i % len;
             i /= len;
             // An axis of one point, or its last point, is on every stride.
-            len == 1 || k == len - 1 || k % stride == 0
+            len == 1 || k == len - 1 || k.is_multiple_of(stride)
         })
     };
     let mut strides = vec![(n - 1).max(1)];
     while let Some(&s) = strides.last() {
-        if s > 1 && s % 2 == 0 {
+        if s > 1 && s.is_multiple_of(2) {
             strides.push(s / 2);
         } else {
             break;
