@@ -380,3 +380,85 @@ impl Levels for umbral::bounds::BoundResult {
         self.levels.iter().map(|l| l.radius_interval).collect()
     }
 }
+
+fn umbral_json(args: &[&str]) -> serde_json::Value {
+    let out = std::process::Command::new(env!("CARGO_BIN_EXE_umbral"))
+        .args(args)
+        .output()
+        .expect("run umbral");
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    serde_json::from_slice(&out.stdout).expect("JSON")
+}
+
+/// The command line: witnessed values by default (no band, their sizes apart), every value
+/// searched with --full-extremes and with --plot (whose band needs it), the same allowed sets.
+#[test]
+fn the_command_line_searches_every_value_for_a_figure() {
+    let dir = std::env::temp_dir().join(format!("umbral-witnessed-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let figure = dir.join("band.svg");
+    let measurement = concat!(
+        env!("CARGO_MANIFEST_DIR"),
+        "/examples/measurement_radius.toml"
+    );
+    let args = [
+        "bound",
+        "--metric",
+        "kerr-newman",
+        "--vary",
+        "q=0:1",
+        "--nuisance",
+        "a=0:0.9",
+        "--inclination",
+        "30",
+        "--measurement",
+        measurement,
+        "--no-checkpoint",
+        "--quiet",
+        "--json",
+    ];
+    let decided = umbral_json(&args);
+    let full = umbral_json(&[&args[..], &["--full-extremes"]].concat());
+    let plotted = umbral_json(&[&args[..], &["--plot", figure.to_str().unwrap()]].concat());
+    assert!(figure.exists());
+    let witnessed = |v: &serde_json::Value| {
+        v["predicted"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .filter(|p| p["witnessed"] == true)
+            .count()
+    };
+    assert!(witnessed(&decided) > 5, "{}", decided["predicted"]);
+    assert_eq!(witnessed(&full), 0);
+    assert_eq!(plotted, full);
+    for p in decided["predicted"].as_array().unwrap() {
+        if p["witnessed"] == true {
+            assert!(p["size_min"].is_null() && p["size_max"].is_null(), "{p}");
+            let sizes = p["witnessed_sizes"].as_array().unwrap();
+            assert!(sizes[0].as_f64().unwrap() <= sizes[1].as_f64().unwrap());
+        } else {
+            assert!(p.get("witnessed_sizes").is_none(), "{p}");
+        }
+    }
+    // The same allowed ranges; the ends' root searches start from other bracket values.
+    let ends = |v: &serde_json::Value| -> Vec<f64> {
+        v["levels"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .flat_map(|l| l["allowed"].as_array().unwrap().clone())
+            .flat_map(|r| r.as_array().unwrap().clone())
+            .map(|x| x.as_f64().unwrap())
+            .collect()
+    };
+    let (a, b) = (ends(&decided), ends(&full));
+    assert_eq!(a.len(), b.len(), "{a:?} {b:?}");
+    assert!(a.iter().zip(&b).all(|(x, y)| (x - y).abs() < 1e-7), "{a:?} {b:?}");
+    std::fs::remove_dir_all(&dir).unwrap();
+}

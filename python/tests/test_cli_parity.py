@@ -98,6 +98,21 @@ def test_bound_equals_the_cli(cli_json):
     assert got == want
 
 
+def test_bound_with_full_extremes_equals_the_cli(cli_json):
+    measurement = EXAMPLES / "measurement_radius.toml"
+    args = ("bound", "--metric", "kerr-newman", "--vary", "q=0:1", "--nuisance", "a=0:0.9",
+            "--inclination", "30", "--measurement", measurement, "--no-checkpoint")
+    want = cli_json(*args, "--full-extremes")
+    got = umbral.bound("kerr-newman", vary={"q": (0, 1)}, nuisance={"a": (0, 0.9)}, inclination=30,
+                       measurement=measurement, full_extremes=True)
+    assert got == want
+    # Every value searched in full, and the same allowed ranges as the default's witnesses.
+    assert not any(p["witnessed"] for p in got["predicted"])
+    decided = cli_json(*args)
+    assert any(p["witnessed"] and p["size_min"] is None for p in decided["predicted"])
+    assert [lv["allowed"] for lv in decided["levels"]] == [lv["allowed"] for lv in got["levels"]]
+
+
 def test_bound_over_an_inclination_range_equals_the_cli(cli_json):
     measurement = EXAMPLES / "measurement_ring.toml"
     want = cli_json(
