@@ -118,12 +118,14 @@ impl Evaluate for Counting {
         &mut self,
         stage: &str,
         xs: &[f64],
+        full: bool,
         node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted> {
         if stage == "bound ends" {
+            assert!(full, "the bound ends are refined with the full search");
             self.at_ends += xs.len();
         }
-        Parallel.evaluate(stage, xs, node)
+        Parallel.evaluate(stage, xs, full, node)
     }
     fn finish(&mut self) -> Result<(), Halted> {
         Ok(())

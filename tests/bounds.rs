@@ -670,6 +670,7 @@ impl Evaluate for Synthetic {
         &mut self,
         stage: &str,
         xs: &[f64],
+        full: bool,
         _node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted> {
         Ok(xs
@@ -679,6 +680,7 @@ impl Evaluate for Synthetic {
                 Node {
                     x,
                     value: (self.model)(x),
+                    full,
                 }
             })
             .collect())

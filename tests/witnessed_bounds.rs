@@ -1,6 +1,6 @@
 //! Values decided by witnesses: a bound evaluates a value's nuisance box only as far as
-//! deciding it needs (`bounds::nuisance::decide`), and gives the same allowed sets as the full
-//! search of every value's extremes (`BoundSettings::full_extremes`).
+//! deciding it needs (`bounds::nuisance::decide`), and decides every value it evaluates as the
+//! full search of its extremes would (`BoundSettings::full_extremes`).
 
 use proptest::prelude::*;
 use std::sync::atomic::{AtomicUsize, Ordering};
@@ -282,6 +282,38 @@ proptest! {
     }
 }
 
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(200))]
+
+    /// With solver failures at random grid points: a value the witnesses decide is decided
+    /// alike by the full effort, and a value fails with one effort exactly when it fails with
+    /// the other.
+    #[test]
+    fn failures_beside_witnesses_are_passed_over_alike(
+        c0 in 4.5f64..5.5, c1 in -0.5f64..0.5, lo in 4.5f64..5.5, width in 0.01f64..0.4,
+        failing in proptest::collection::vec(any::<bool>(), 7),
+    ) {
+        let grid: Vec<f64> = (0..7).map(|i| i as f64 / 6.0).collect();
+        let fails = move |n: &[f64]| {
+            grid.iter().zip(&failing).any(|(g, f)| *f && (g - n[0]).abs() < 1e-12)
+        };
+        let model = Synthetic::new(move |n: &[f64]| c0 + c1 * n[0], fails);
+        let levels = [[lo, lo + width]];
+        let decided = decide(&model, &[(0.0, 1.0)], &levels, None, &SEARCH, Effort::Decide);
+        let full = decide(&model, &[(0.0, 1.0)], &levels, None, &SEARCH, Effort::FullSearch);
+        prop_assert_eq!(
+            matches!(decided, Aggregate::Failed(_)),
+            matches!(full, Aggregate::Failed(_)),
+            "{:?} {:?}", decided, full
+        );
+        if let Aggregate::Ok(e) = &decided {
+            if e.witnessed {
+                prop_assert!(allowed_at_every_level(&full, &levels), "{:?} {:?}", decided, full);
+            }
+        }
+    }
+}
+
 fn kerr_newman_request(full_extremes: bool) -> BoundRequest {
     // Invented intervals on the mean radius.
     let interval = |confidence, low, high| RadiusInterval {
@@ -321,10 +353,11 @@ fn kerr_newman_request(full_extremes: bool) -> BoundRequest {
 }
 
 /// Kerr–Newman with spin and an inclination range as nuisances (separable curves, Carter
-/// 1968): the same allowed sets, decided by witnesses or searched in full, and every
-/// witnessed value allowed at every level by the full search's extremes there.
+/// 1968), whose size falls monotonically with the charge (no narrow excluded band for the
+/// full search alone to find): the same allowed sets, decided by witnesses or searched in
+/// full, and every witnessed value allowed at every level by the full search's extremes.
 #[test]
-fn witnessed_and_fully_searched_bounds_allow_the_same_values() {
+fn witnessed_and_fully_searched_kerr_newman_bounds_allow_the_same_values() {
     let decided = bound(&kerr_newman_request(false)).unwrap();
     let full = bound(&kerr_newman_request(true)).unwrap();
     for (d, f) in decided.levels.iter().zip(&full.levels) {
@@ -399,9 +432,8 @@ fn umbral_json(args: &[&str]) -> serde_json::Value {
 /// searched with --full-extremes and with --plot (whose band needs it), the same allowed sets.
 #[test]
 fn the_command_line_searches_every_value_for_a_figure() {
-    let dir = std::env::temp_dir().join(format!("umbral-witnessed-{}", std::process::id()));
-    std::fs::create_dir_all(&dir).unwrap();
-    let figure = dir.join("band.svg");
+    let dir = Scratch::new("cli");
+    let figure = dir.0.join("band.svg");
     let measurement = concat!(
         env!("CARGO_MANIFEST_DIR"),
         "/examples/measurement_radius.toml"
@@ -459,6 +491,173 @@ fn the_command_line_searches_every_value_for_a_figure() {
     };
     let (a, b) = (ends(&decided), ends(&full));
     assert_eq!(a.len(), b.len(), "{a:?} {b:?}");
-    assert!(a.iter().zip(&b).all(|(x, y)| (x - y).abs() < 1e-7), "{a:?} {b:?}");
-    std::fs::remove_dir_all(&dir).unwrap();
+    assert!(
+        a.iter().zip(&b).all(|(x, y)| (x - y).abs() < 1e-7),
+        "{a:?} {b:?}"
+    );
+}
+
+/// A folder removed when dropped, also when an assertion fails.
+struct Scratch(std::path::PathBuf);
+
+impl Scratch {
+    fn new(name: &str) -> Scratch {
+        let dir =
+            std::env::temp_dir().join(format!("umbral-witnessed-{name}-{}", std::process::id()));
+        let _ = std::fs::remove_dir_all(&dir);
+        std::fs::create_dir_all(&dir).unwrap();
+        Scratch(dir)
+    }
+}
+
+impl Drop for Scratch {
+    fn drop(&mut self) {
+        let _ = std::fs::remove_dir_all(&self.0);
+    }
+}
+
+fn umbral_in(dir: &std::path::Path, args: &[&str]) -> std::process::Output {
+    std::process::Command::new(env!("CARGO_BIN_EXE_umbral"))
+        .current_dir(dir)
+        .args(args)
+        .output()
+        .expect("run umbral")
+}
+
+const JP_INTERVALS: &str = "label = \"invented intervals\"\n[size.shadow_radius]\nintervals = [ { confidence = 0.68, low = 5.0, high = 5.15 }, { confidence = 0.95, low = 4.95, high = 5.2 } ]\n";
+
+/// The ray-traced Johannsen–Psaltis bound of docs/performance.md, decided by witnesses: the
+/// values ε₃ ≥ 0.875, where the full search meets curves the tracer refuses beside the
+/// horizon's edge (not formed by photon orbits), are allowed from a = 0 alone. The checkpoint
+/// keeps the bound end's full evaluations apart; a rerun recalls everything and prints the
+/// same; other intervals are refused.
+#[test]
+fn a_traced_bound_decides_from_witnesses_and_keeps_full_evaluations_apart() {
+    let dir = Scratch::new("traced");
+    std::fs::write(dir.0.join("m.toml"), JP_INTERVALS).unwrap();
+    let args = [
+        "bound",
+        "--metric",
+        "johannsen-psaltis",
+        "--vary",
+        "eps3=-1:1",
+        "--nuisance",
+        "a=0:0.95",
+        "--inclination",
+        "60",
+        "--measurement",
+        "m.toml",
+        "--checkpoint",
+        "c.jsonl",
+        "--quiet",
+        "--json",
+    ];
+    let first = umbral_in(&dir.0, &args);
+    assert_eq!(
+        first.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&first.stderr)
+    );
+    let v: serde_json::Value = serde_json::from_slice(&first.stdout).unwrap();
+    assert!(
+        v["failures"].as_array().unwrap().is_empty(),
+        "{}",
+        v["failures"]
+    );
+    let assumptions = v["assumptions"].to_string();
+    assert!(assumptions.contains("were decided allowed at every level by the nuisance points"));
+    assert!(
+        !assumptions.contains("  "),
+        "no runs of spaces: {assumptions}"
+    );
+    // 0.68: only ε₃ near −1 is excluded (the size exceeds 5.15 at every spin).
+    let allowed = &v["levels"][0]["allowed"];
+    assert_eq!(allowed.as_array().unwrap().len(), 1, "{allowed}");
+    assert!(
+        (allowed[0][0].as_f64().unwrap() + 0.987).abs() < 1e-3,
+        "{allowed}"
+    );
+    assert_eq!(allowed[0][1].as_f64().unwrap(), 1.0);
+    let kept = std::fs::read_to_string(dir.0.join("c.jsonl")).unwrap();
+    assert!(kept.lines().any(|l| l.contains("\"full\":true")), "{kept}");
+    let again = umbral_in(&dir.0, &args);
+    assert_eq!(again.status.code(), Some(0));
+    assert_eq!(again.stdout, first.stdout);
+    let other: Vec<&str> = args.iter().copied().chain(["--levels", "0.68"]).collect();
+    let refused = umbral_in(&dir.0, &other);
+    assert_eq!(refused.status.code(), Some(2));
+    let err = String::from_utf8_lossy(&refused.stderr);
+    assert!(
+        err.contains("different arguments") && err.contains("intervals"),
+        "{err}"
+    );
+}
+
+/// The same bound searched in full over ε₃ ∈ [0.9, 0.95] (3 starting values): the tracer
+/// refuses a curve at some grid spin of each value, and a = 0 decides it allowed. The
+/// failure is passed over, listed with the value and in the assumptions; before witnesses
+/// these values were solver failures, neither allowed nor excluded.
+#[test]
+fn a_traced_bound_searched_in_full_passes_over_failures_beside_witnesses() {
+    let radii = DerivedRadii {
+        intervals: vec![
+            RadiusInterval {
+                confidence: 0.68,
+                low: 5.0,
+                high: 5.15,
+            },
+            RadiusInterval {
+                confidence: 0.95,
+                low: 4.95,
+                high: 5.2,
+            },
+        ],
+        ring: None,
+        assumptions: vec![],
+    };
+    let request = BoundRequest {
+        metric: umbral::metrics::MetricSource::builtin("johannsen-psaltis").unwrap(),
+        vary: ParameterRange {
+            name: "eps3".into(),
+            low: 0.9,
+            high: 0.95,
+        },
+        fixed: vec![],
+        inclination: Inclination::Fixed { degrees: 60.0 },
+        nuisance: vec![ParameterRange {
+            name: "a".into(),
+            low: 0.0,
+            high: 0.95,
+        }],
+        size_measure: SizeMeasure::Mean,
+        radii,
+        circularity_max: None,
+        settings: BoundSettings {
+            initial_grid: 3,
+            full_extremes: true,
+            ..BoundSettings::default()
+        },
+    };
+    let result = bound(&request).unwrap();
+    assert!(result.failures.is_empty(), "{:?}", result.failures);
+    for level in &result.levels {
+        assert_eq!(level.allowed, vec![[0.9, 0.95]]);
+    }
+    let passed: Vec<_> = result
+        .predicted
+        .iter()
+        .filter(|p| p.witnessed && p.failure_passed_over.is_some())
+        .collect();
+    assert!(!passed.is_empty(), "{:?}", result.predicted);
+    for p in &passed {
+        let m = p.failure_passed_over.as_deref().unwrap();
+        assert!(m.contains("not formed by photon orbits"), "{m}");
+        assert!(p.size_min.is_none() && p.witnessed_sizes.is_some());
+    }
+    assert!(result
+        .assumptions
+        .iter()
+        .any(|a| a.contains("which other points decided allowed at every level")));
+    assert!(!result.assumptions.iter().any(|a| a.contains("  ")));
 }

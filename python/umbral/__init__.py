@@ -339,8 +339,9 @@ def bound(
         Search the predicted size's min and max over the nuisance box at every value (the
         band in ``predicted``), as ``umbral bound --full-extremes``. By default a value is
         decided as soon as the nuisance points evaluated allow it at every level (its
-        ``predicted`` entry then has ``witnessed`` true and only ``witnessed_sizes``); the
-        allowed ranges are the same.
+        ``predicted`` entry then has ``witnessed`` true and only ``witnessed_sizes``); every
+        value is decided alike, but only the full search looks for a narrow excluded sliver
+        between two allowed grid values.
 
     Returns
     -------

@@ -14,6 +14,10 @@ pub struct Node {
     pub x: f64,
     /// The extremes over the nuisance box there, or why there are none.
     pub value: Aggregate,
+    /// Whether the full search of the nuisance extremes was asked for (the evaluations that
+    /// refine a bound end), rather than as much as deciding the value needs: a program that
+    /// keeps evaluations keys the two apart.
+    pub full: bool,
 }
 
 /// The evaluations were stopped (the evaluator knows why: an interruption, a checkpoint
@@ -26,11 +30,13 @@ pub struct Halted;
 pub trait Evaluate {
     /// `node(x)` for every value of `xs`, in the order of `xs`. Each call is independent of
     /// the others (they may run in parallel, or be recalled from an earlier run). `stage`
-    /// names the step of the search (`starting grid`, `bound ends`, ...).
+    /// names the step of the search (`starting grid`, `bound ends`, ...); `full` says whether
+    /// the nodes are asked for with the full search ([`Node::full`]).
     fn evaluate(
         &mut self,
         stage: &str,
         xs: &[f64],
+        full: bool,
         node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted>;
 
@@ -44,7 +50,7 @@ pub trait Evaluate {
 /// use umbral::bounds::{Evaluate, Node, Parallel};
 /// use umbral::bounds::nuisance::Aggregate;
 /// let nodes = Parallel
-///     .evaluate("grid", &[0.5, 0.1], &|x| Node { x, value: Aggregate::NoHorizon })
+///     .evaluate("grid", &[0.5, 0.1], false, &|x| Node { x, value: Aggregate::NoHorizon, full: false })
 ///     .unwrap();
 /// assert_eq!(nodes.iter().map(|n| n.x).collect::<Vec<_>>(), vec![0.5, 0.1]);
 /// ```
@@ -56,6 +62,7 @@ impl Evaluate for Parallel {
         &mut self,
         _stage: &str,
         xs: &[f64],
+        _full: bool,
         node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted> {
         Ok(xs.par_iter().map(|&x| node(x)).collect())

@@ -17,8 +17,10 @@
 //! margin's value, not only its sign, is used there). A solver failure at a nuisance point is
 //! then fatal to a value only where the full search is needed. Where nearly everything is
 //! allowed this skips most of the work: the Johannsen–Psaltis bound of docs/performance.md
-//! evaluates 64 curves instead of 320. [`BoundSettings::full_extremes`] searches every value
-//! in full (the predicted band a figure draws), with the same allowed sets.
+//! solves 64 curves instead of 320. [`BoundSettings::full_extremes`] searches every value
+//! in full (the predicted band a figure draws). Both decide every value they evaluate alike;
+//! the full search also looks for a double crossing next to every value (a narrow excluded
+//! sliver between two allowed values), which a witnessed value's sizes cannot show.
 //!
 //! Values are classified by whether a shadow exists. A horizonless object is evaluated like a
 //! black hole when the spherical solver finds a photon sphere that bounds capture (a JNW naked
@@ -210,9 +212,10 @@ pub struct BoundSettings {
     /// Search the nuisance extremes in full at every value (the predicted band a figure of
     /// the bound draws). By default a value is decided as soon as the nuisance points
     /// evaluated allow it at every level ([`nuisance::decide`]): only values that may be
-    /// excluded, and the refinement of the bound's ends, get the full search. The allowed
-    /// sets are the same; the default skips most of the work where nearly every value is
-    /// allowed.
+    /// excluded, and the refinement of the bound's ends, get the full search. Every value
+    /// evaluated is decided alike; double crossings between grid values are looked for only
+    /// next to values searched in full. The default skips most of the work where nearly every
+    /// value is allowed.
     pub full_extremes: bool,
 }
 
@@ -349,6 +352,10 @@ pub struct PredictedPoint {
     /// true min is at most the first, the true max at least the second).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub witnessed_sizes: Option<[f64; 2]>,
+    /// For a witnessed value, a solver failure at one of its nuisance grid points that the
+    /// witnesses made irrelevant.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub failure_passed_over: Option<String>,
 }
 
 /// A bound, ready to serialise.

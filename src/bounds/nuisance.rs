@@ -224,11 +224,25 @@ pub fn extremes(
     )
 }
 
+/// The margins whose signs decide allowedness: per level (H − s₋, s₊ − L), then the
+/// circularity margin (limit − min ΔC) if a limit is set. Non-negative means "passes".
+pub(super) fn margins(e: &Extremes, levels: &[[f64; 2]], circularity_max: Option<f64>) -> Vec<f64> {
+    let mut m = Vec::with_capacity(2 * levels.len() + 1);
+    for [lo, hi] in levels {
+        m.push(hi - e.size_min);
+        m.push(e.size_max - lo);
+    }
+    if let Some(c) = circularity_max {
+        m.push(c - e.circularity_min);
+    }
+    m
+}
+
 /// The extremes of the points evaluated when they already decide the value allowed at every
 /// level: for each interval [L, H] some counted size at most H and some at least L (then, the
 /// size taking every value in between, one inside it), and, with a circularity limit, some ΔC
 /// under it. Counted are the valid points with ΔC under the limit. `None` when they do not.
-fn witnessed(
+fn witness_of(
     values: &[PointValue],
     levels: &[[f64; 2]],
     circularity_limit: Option<f64>,
@@ -261,7 +275,7 @@ fn witnessed(
             _ => None,
         }),
     };
-    super::refine::margins(&extremes, levels, circularity_limit)
+    margins(&extremes, levels, circularity_limit)
         .iter()
         .all(|m| *m >= 0.0)
         .then_some(extremes)
@@ -335,7 +349,7 @@ pub fn decide(
         let evaluated: Vec<PointValue> = values.iter().flatten().cloned().collect();
         let failed = evaluated.iter().any(|v| matches!(v, PointValue::Failed(_)));
         if !dims.is_empty() && (effort == Effort::Decide || failed) {
-            if let Some(e) = witnessed(&evaluated, levels, circularity_limit) {
+            if let Some(e) = witness_of(&evaluated, levels, circularity_limit) {
                 return Aggregate::Ok(e);
             }
         }

@@ -5,7 +5,8 @@
 //! grid, each round of candidates) or one at a time (bisection and Brent steps), so a program
 //! can report, checkpoint and interrupt them like any other run's items.
 
-use super::nuisance::{Aggregate, Extremes};
+pub(super) use super::nuisance::margins;
+use super::nuisance::Aggregate;
 use super::{describe, BoundError, BoundResult, Failure, LevelBound, PredictedPoint, Prepared};
 use super::{Evaluate, Node};
 use crate::numerics::brent_root_within;
@@ -27,20 +28,6 @@ fn category(a: &Aggregate) -> u8 {
         Aggregate::NoShadow(_) => 2,
         Aggregate::Failed(_) => 3,
     }
-}
-
-/// The margins whose signs decide allowedness: per level (H − s₋, s₊ − L), then the
-/// circularity margin (limit − min ΔC) if a limit is set. Non-negative means "passes".
-pub(super) fn margins(e: &Extremes, levels: &[[f64; 2]], circularity_max: Option<f64>) -> Vec<f64> {
-    let mut m = Vec::with_capacity(2 * levels.len() + 1);
-    for [lo, hi] in levels {
-        m.push(hi - e.size_min);
-        m.push(e.size_max - lo);
-    }
-    if let Some(c) = circularity_max {
-        m.push(c - e.circularity_min);
-    }
-    m
 }
 
 /// Which margins belong to level `l`.
@@ -83,8 +70,9 @@ impl Search<'_, '_> {
         let node = |x| Node {
             x,
             value: prep.evaluate(x, full),
+            full,
         };
-        Ok(self.evaluator.evaluate(stage, xs, &node)?)
+        Ok(self.evaluator.evaluate(stage, xs, full, &node)?)
     }
 
     /// Evaluate at `x`.
@@ -148,7 +136,14 @@ impl Search<'_, '_> {
             };
             let x = 0.5 * (nodes[i].x + nodes[i + 1].x);
             let value = self.value(x, "category edges", false)?;
-            nodes.insert(i + 1, Node { x, value });
+            nodes.insert(
+                i + 1,
+                Node {
+                    x,
+                    value,
+                    full: false,
+                },
+            );
         }
     }
 
@@ -180,6 +175,8 @@ impl Search<'_, '_> {
                     Ok(r) => {
                         cells.roots[i][j] = Some(r);
                         if j < 2 * self.levels.len() {
+                            // With a witnessed node, whose passing margin is a lower bound,
+                            // the slope is underestimated and the spread overstated.
                             let slope = (mb[j] - ma[j]).abs() / (b.0 - a.0);
                             let spread = self.prep.size_resolution / slope;
                             cells.end_spread = cells.end_spread.max(spread);
@@ -237,7 +234,9 @@ impl Search<'_, '_> {
                 // failed grid point has no full search: a failure met on the way.
                 (None, None) => match self.value(x, "bound ends", true) {
                     Ok(Aggregate::Ok(e)) if e.witnessed => {
-                        let m = e.failure_passed_over.unwrap_or_default();
+                        let m = e.failure_passed_over.unwrap_or_else(|| {
+                            "the nuisance extremes were not searched".to_string()
+                        });
                         inner_failure.get_or_insert(Aggregate::Failed(m));
                         f64::NAN
                     }
@@ -253,7 +252,9 @@ impl Search<'_, '_> {
                 },
                 _ => f64::NAN,
             },
-            // The nodes' margins are known: neither is evaluated again.
+            // The nodes' margins are known: neither is evaluated again. A witnessed node's
+            // is a lower bound of a passing margin: its sign is exact, and only the first
+            // interpolation steps are less direct.
             (a, Some(margin_a)),
             (b, Some(margin_b)),
             xtol,
@@ -498,12 +499,17 @@ fn assumptions(prep: &Prepared, nodes: &[Node]) -> (Vec<String>, Vec<f64>) {
         .iter()
         .filter(|n| matches!(&n.value, Aggregate::Ok(e) if e.witnessed))
         .collect();
-    if !witnessed.is_empty() {
+    let name = &prep.request.vary.name;
+    if !witnessed.is_empty() && !prep.request.settings.full_extremes {
         assumptions.push(format!(
-            "{} of {} values of {} were decided allowed at every level by the nuisance points              evaluated first (the box's corners, then coarse to fine through the grid: a size              inside each interval, or sizes on both sides of it, with ΔC under its limit);              their extremes were not searched (the JSON's `predicted` lists them as witnessed;              --full-extremes searches them)",
+            "{} of {} values of {name} were decided allowed at every level by the nuisance \
+             points evaluated first (coarse to fine through the grid, stopping at a size \
+             inside each interval, or sizes on both sides of it, with ΔC under its limit): \
+             their extremes were not searched (the JSON's `predicted` lists them as \
+             witnessed), and no double crossing was looked for next to them; --full-extremes \
+             searches every value",
             witnessed.len(),
             nodes.len(),
-            prep.request.vary.name
         ));
     }
     let passed_over: Vec<(f64, &str)> = witnessed
@@ -515,9 +521,11 @@ fn assumptions(prep: &Prepared, nodes: &[Node]) -> (Vec<String>, Vec<f64>) {
         .collect();
     if let Some(&(x, m)) = passed_over.first() {
         assumptions.push(format!(
-            "the shadow solver failed at some nuisance points of {} allowed value(s) of {},              which other points decided (first at {x}: {m})",
+            "the shadow solver failed at some nuisance grid points of {} value(s) of {name}, \
+             which other points decided allowed at every level (their extremes were not \
+             searched; the JSON's `predicted` lists them as witnessed, with the failure; first \
+             at {x}: {m})",
             passed_over.len(),
-            prep.request.vary.name
         ));
     }
     if backoff > 0.0 {
@@ -552,6 +560,7 @@ fn predicted(nodes: &[Node]) -> Vec<PredictedPoint> {
                 circularity_min: searched.and_then(|e| finite(e.circularity_min)),
                 witnessed,
                 witnessed_sizes: e.filter(|_| witnessed).map(|e| [e.size_min, e.size_max]),
+                failure_passed_over: e.and_then(|e| e.failure_passed_over.clone()),
             }
         })
         .collect()
@@ -592,7 +601,8 @@ pub(super) fn result(
         assumptions.push(format!(
             "bound ends of {} from a size margin: known to about ±{:.1e} (the curves' \
              resolution {:e} M over the smallest slope of the size at such an end, estimated \
-             across its grid cell), whatever the number of decimals printed",
+             across its grid cell, and underestimated where a witnessed value bounds the \
+             cell), whatever the number of decimals printed",
             request.vary.name, cells.end_spread, prep.size_resolution
         ));
     }

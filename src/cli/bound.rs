@@ -85,8 +85,9 @@ pub struct BoundArgs {
     /// Search the predicted size's min and max over the nuisance box at every value (the
     /// band of the JSON's `predicted` and of the figure; --plot implies it). By default a
     /// value is decided as soon as the nuisance points evaluated allow it at every level,
-    /// and only values that may be excluded get the full search: the same allowed ranges,
-    /// sooner.
+    /// and only values that may be excluded get the full search: every value decided alike,
+    /// sooner (only --full-extremes looks for a narrow excluded sliver between two allowed
+    /// grid values).
     #[arg(long = "full-extremes")]
     full_extremes: bool,
 }

@@ -11,8 +11,11 @@
 //! nuisance points allow it at every level, [`crate::bounds::nuisance::decide`]), whether
 //! every value's extremes are searched in full, the horizon policy and the nuisance and
 //! shadow settings. The range of the varied parameter and the refinement settings only decide
-//! which values are evaluated. A line is
-//! `{"x":0.35,"status":"ok","extremes":{...},"checksum":"..."}` (statuses `ok`,
+//! which values are evaluated. An evaluation asked for with the full search (where a bound end
+//! is refined) is kept apart from one asked for as far as deciding the value needs, also at
+//! the same x. A line is
+//! `{"x":0.35,"status":"ok","extremes":{...},"checksum":"..."}`, with `"full":true` for the
+//! former (statuses `ok`,
 //! `no_horizon`, `no_shadow` and `failed`, the last two with a `reason`); a number that is
 //! not finite (a size with no feasible nuisance point) is written as the string `nan`, `inf`
 //! or `-inf`. The completed file lists the values in increasing order.
@@ -31,16 +34,22 @@ use std::cmp::Ordering;
 use std::collections::BTreeMap;
 use std::path::Path;
 
-/// The bound checkpoint format written by this version (2: the intervals and the search
-/// effort in the header, witnessed values in the lines).
+/// The bound checkpoint format written by this version (2: the intervals and the search effort
+/// in the header, full evaluations marked, witnessed values in the lines).
 pub const FORMAT: u32 = 2;
 
 /// A checkpoint of a bound's nuisance evaluations.
 pub type BoundCheckpoint = JsonlCheckpoint<NodeFormat>;
 
-/// The work-item key of the value `x` (its shortest round-trip decimal form).
-fn key(x: f64) -> String {
-    serde_json::to_string(&x).unwrap_or_else(|_| format!("{x:e}"))
+/// The work-item key of the value `x` (its shortest round-trip decimal form), followed by
+/// ` full` for an evaluation asked for with the full search.
+fn key(x: f64, full: bool) -> String {
+    let number = serde_json::to_string(&x).unwrap_or_else(|_| format!("{x:e}"));
+    if full {
+        format!("{number} full")
+    } else {
+        number
+    }
 }
 
 /// A node line (the checksum is empty while the body is written).
@@ -53,6 +62,8 @@ struct StoredNode {
     reason: Option<String>,
     #[serde(default, skip_serializing_if = "Option::is_none")]
     extremes: Option<Extremes>,
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    full: bool,
     #[serde(default, skip_serializing_if = "String::is_empty")]
     checksum: String,
 }
@@ -69,6 +80,7 @@ fn stored(node: &Node) -> StoredNode {
         status: status.to_string(),
         reason,
         extremes,
+        full: node.full,
         checksum: String::new(),
     }
 }
@@ -115,7 +127,11 @@ fn node(s: StoredNode) -> Result<Node, String> {
         ("failed", Some(r), _) => Aggregate::Failed(r),
         _ => Aggregate::NoHorizon,
     };
-    Ok(Node { x: s.x, value })
+    Ok(Node {
+        x: s.x,
+        value,
+        full: s.full,
+    })
 }
 
 /// Node lines of a bound.
@@ -130,11 +146,16 @@ impl RecordFormat for NodeFormat {
     const AN_ITEM: &'static str = "an evaluation";
 
     fn key(&self, n: &Node) -> String {
-        key(n.x)
+        key(n.x, n.full)
     }
 
     fn describe(&self, n: &Node) -> String {
-        format!("the evaluation at {} = {}", self.vary, key(n.x))
+        let search = if n.full { " (full search)" } else { "" };
+        format!(
+            "the evaluation at {} = {}{search}",
+            self.vary,
+            key(n.x, false)
+        )
     }
 
     fn body(&self, n: &Node) -> Result<String, String> {
@@ -153,7 +174,7 @@ impl RecordFormat for NodeFormat {
     }
 
     fn order(&self, a: &Node, b: &Node) -> Ordering {
-        a.x.total_cmp(&b.x)
+        a.x.total_cmp(&b.x).then(a.full.cmp(&b.full))
     }
 
     fn max_line_bytes(&self) -> usize {
@@ -371,10 +392,11 @@ impl Evaluate for OnExecutor<'_> {
         &mut self,
         stage: &str,
         xs: &[f64],
+        full: bool,
         node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted> {
         self.exec.stage(stage);
-        let batch = self.exec.batch(&Values { xs, node }, &Selection::All);
+        let batch = self.exec.batch(&Values { xs, full, node }, &Selection::All);
         Ok(self.halted(batch)?.outputs)
     }
 
@@ -384,9 +406,11 @@ impl Evaluate for OnExecutor<'_> {
     }
 }
 
-/// Values of the varied parameter as work items (key: the value's shortest decimal form).
+/// Values of the varied parameter as work items (key: the value's shortest decimal form, and
+/// the effort asked for).
 struct Values<'a> {
     xs: &'a [f64],
+    full: bool,
     node: &'a (dyn Fn(f64) -> Node + Sync),
 }
 
@@ -398,7 +422,7 @@ impl WorkList for Values<'_> {
     }
 
     fn key(&self, index: usize) -> String {
-        key(self.xs[index])
+        key(self.xs[index], self.full)
     }
 
     fn run(&self, index: usize) -> Node {
