@@ -31,6 +31,7 @@ use crate::shadow::{
     ShadowSettings, ShadowStatus,
 };
 use compensated_summation::KahanBabuskaNeumaier as Compensated;
+use rayon::prelude::*;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
@@ -402,9 +403,7 @@ fn radii_about_with(
     };
     let angles = unwrapped_angles(curve, centre).ok_or_else(not_star)?;
     let d = [curve.origin[0] - centre[0], curve.origin[1] - centre[1]];
-    let mut out = Vec::with_capacity(samples);
-    let mut k = 0usize;
-    for j in 0..samples {
+    let distance_at = |j: usize| -> Result<f64, ObservablesError> {
         // Target angle in [angles[0], angles[0] + 2π).
         let mut phi = TAU * j as f64 / samples as f64;
         while phi < angles[0] {
@@ -413,13 +412,8 @@ fn radii_about_with(
         while phi >= angles[0] + TAU {
             phi -= TAU;
         }
-        // The targets increase with j except for one wrap; search from the last bracket.
-        if phi < angles[k] {
-            k = 0;
-        }
-        while k + 1 < angles.len() && angles[k + 1] <= phi {
-            k += 1;
-        }
+        // The bracket: the last sample angle at or below φ (the angles increase).
+        let k = angles.partition_point(|&a| a <= phi).saturating_sub(1);
         let k_bracket = k.min(n - 1);
         let (sp, cp) = phi.sin_cos();
         let Some(psi) = ray_crossing(table, d, &angles, k_bracket, phi) else {
@@ -433,10 +427,20 @@ fn radii_about_with(
         if !(distance > 0.0 && distance.is_finite()) {
             return Err(not_star());
         }
-        out.push(distance);
-    }
-    Ok(out)
+        Ok(distance)
+    };
+    // Each angle alone, in parallel chunks; the first failure in angle order is reported.
+    let distances: Vec<Result<f64, ObservablesError>> = (0..samples)
+        .into_par_iter()
+        .with_min_len(ANGLES_PER_TASK)
+        .map(distance_at)
+        .collect();
+    distances.into_iter().collect()
 }
+
+/// Angles per parallel task of [`radii_about`]: each takes well under a microsecond, so a task
+/// of fewer would cost more to schedule than to compute.
+const ANGLES_PER_TASK: usize = 2048;
 
 /// Polar angles of the curve's samples about `centre`, unwrapped, then the first plus 2π:
 /// `None` unless they increase by < π per step and by 2π once round (a star-shaped curve).
@@ -733,10 +737,17 @@ impl Observables {
         let interp = curve.interpolant();
         let (alphas, betas) = curve.alpha_beta();
         let samples: Vec<[f64; 2]> = alphas.iter().zip(&betas).map(|(&a, &b)| [a, b]).collect();
-        let right = extreme(&interp, &samples, [1.0, 0.0])?.point;
-        let left = extreme(&interp, &samples, [-1.0, 0.0])?.point;
-        let top = extreme(&interp, &samples, [0.0, 1.0])?.point;
-        let bottom = extreme(&interp, &samples, [0.0, -1.0])?.point;
+        // The four extremes in parallel (each sums the interpolant's series, O(N) per step).
+        let directions = [[1.0, 0.0], [-1.0, 0.0], [0.0, 1.0], [0.0, -1.0]];
+        let found: Vec<Result<Extreme, ObservablesError>> = directions
+            .par_iter()
+            .map(|&dir| extreme(&interp, &samples, dir))
+            .collect();
+        let mut found = found.into_iter();
+        let mut next = || -> Result<[f64; 2], ObservablesError> {
+            Ok(found.next().expect("four directions")?.point)
+        };
+        let (right, left, top, bottom) = (next()?, next()?, next()?, next()?);
         let (alpha_min, alpha_max) = (left[0], right[0]);
         let (beta_min, beta_max) = (bottom[1], top[1]);
         let (area, centroid) = area_and_centroid(curve);

@@ -76,8 +76,14 @@ use super::{
 use crate::geodesic::null_radial_momentum;
 use crate::metric::{PotentialJet, Spacetime};
 use crate::numerics::{brent_root, fallible_root as root, golden_max, parabolic_min};
+use rayon::prelude::*;
 use serde::Serialize;
 use std::f64::consts::{PI, TAU};
+use std::sync::atomic::Ordering;
+
+/// Screen angles per parallel task of a curve: a task's Brent searches take a few
+/// microseconds each, so fewer would spend more on scheduling than on work.
+const ANGLES_PER_TASK: usize = 8;
 
 /// The solver's name on the command line and in results.
 pub const NAME: &str = "separable";
@@ -208,7 +214,7 @@ struct Problem<'a> {
     /// θ_o is 0 or π: the curve is the circle of the polar orbit.
     on_axis: bool,
     /// Set once the radial potential has been verified to be exactly quadratic in (λ, η).
-    exact_quadratic: std::cell::Cell<bool>,
+    exact_quadratic: std::sync::atomic::AtomicBool,
     /// Whether to compute the γ range.
     with_exponents: bool,
 }
@@ -385,7 +391,7 @@ impl<'a> Problem<'a> {
             face_on,
             near_axis,
             on_axis,
-            exact_quadratic: std::cell::Cell::new(false),
+            exact_quadratic: std::sync::atomic::AtomicBool::new(false),
             with_exponents,
         })
     }
@@ -520,7 +526,7 @@ impl<'a> Problem<'a> {
         match best {
             None => Ok(None),
             // An exact model needs no polish: its root is as accurate as Newton's.
-            Some((lambda, eta, _)) if self.exact_quadratic.get() => {
+            Some((lambda, eta, _)) if self.exact_quadratic.load(Ordering::Relaxed) => {
                 Ok(Some(SphericalOrbit { r, lambda, eta }))
             }
             Some((l, e, _)) => {
@@ -636,7 +642,8 @@ impl<'a> Problem<'a> {
             ));
         };
         let (r_lo, grid) = Self::scan_grid(r_h);
-        self.exact_quadratic.set(self.radial_is_quadratic(r_lo)?);
+        let exact = self.radial_is_quadratic(r_lo)?;
+        self.exact_quadratic.store(exact, Ordering::Relaxed);
         if self.is_degenerate(r_lo)? {
             return self.run_degenerate(&grid, r_h, settings);
         }
@@ -975,19 +982,24 @@ impl<'a> Problem<'a> {
             u => mid - half * u.cos(),
         };
         let angle = |j: usize| PI * j as f64 / TABLE_INTERVALS as f64;
-        let mut points = Vec::with_capacity(TABLE_INTERVALS + 1);
-        for j in 0..=TABLE_INTERVALS {
-            let s = s_of(angle(j));
-            let o = self.orbit(family, s)?;
-            let (x, mut y) = self.screen_point(&o)?;
-            if j == 0 || j == TABLE_INTERVALS {
-                y = 0.0; // the ends lie on the α axis (Θ = 0 there up to rounding)
-            }
-            if !(x.is_finite() && y.is_finite()) {
-                return Err(not_converged(format!("non-finite screen point at s = {s}")));
-            }
-            points.push((x, y));
-        }
+        // The table's orbits, then the screen angles, in parallel; results in order, and the
+        // first failure in that order is the one reported, at any thread count.
+        let table: Vec<Result<(f64, f64), ShadowError>> = (0..=TABLE_INTERVALS)
+            .into_par_iter()
+            .map(|j| {
+                let s = s_of(angle(j));
+                let o = self.orbit(family, s)?;
+                let (x, mut y) = self.screen_point(&o)?;
+                if j == 0 || j == TABLE_INTERVALS {
+                    y = 0.0; // the ends lie on the α axis (Θ = 0 there up to rounding)
+                }
+                if !(x.is_finite() && y.is_finite()) {
+                    return Err(not_converged(format!("non-finite screen point at s = {s}")));
+                }
+                Ok((x, y))
+            })
+            .collect();
+        let points: Vec<(f64, f64)> = table.into_iter().collect::<Result<_, _>>()?;
         let x0 = 0.5 * (points[0].0 + points[TABLE_INTERVALS].0);
         let psi_of = |(x, y): (f64, f64)| y.atan2(x - x0);
         let psis: Vec<f64> = points.iter().map(|&p| psi_of(p)).collect();
@@ -996,11 +1008,9 @@ impl<'a> Problem<'a> {
         let star_shaped = increasing || decreasing;
         let radius_of = |(x, y): (f64, f64)| (x - x0).hypot(y);
 
-        let mut radii = vec![0.0; n];
-        let mut orbit_s = vec![f64::NAN; n];
-        let mut extra_crossings = Vec::new();
-        for (k, radius) in radii.iter_mut().enumerate().take(n / 2 + 1) {
-            let target = TAU * k as f64 / n as f64;
+        // Every crossing of the ray at screen angle `target` with the sampled curve: (radius,
+        // orbit parameter s).
+        let crossings_at = |target: f64| -> Result<Vec<(f64, f64)>, ShadowError> {
             let mut crossings = Vec::new();
             for (j, &psi) in psis.iter().enumerate() {
                 if psi == target {
@@ -1061,6 +1071,19 @@ impl<'a> Problem<'a> {
                 }
                 crossings.push((r, s));
             }
+            Ok(crossings)
+        };
+        let per_angle: Vec<Result<Vec<(f64, f64)>, ShadowError>> = (0..n / 2 + 1)
+            .into_par_iter()
+            .with_min_len(ANGLES_PER_TASK)
+            .map(|k| crossings_at(TAU * k as f64 / n as f64))
+            .collect();
+        let mut radii = vec![0.0; n];
+        let mut orbit_s = vec![f64::NAN; n];
+        let mut extra_crossings = Vec::new();
+        for (k, crossings) in per_angle.into_iter().enumerate() {
+            let crossings = crossings?;
+            let target = TAU * k as f64 / n as f64;
             let Some((outer, outer_s)) =
                 crossings
                     .iter()
@@ -1071,7 +1094,7 @@ impl<'a> Problem<'a> {
                     "no curve point at screen angle {target}: the origin lies outside the curve"
                 )));
             };
-            *radius = outer;
+            radii[k] = outer;
             orbit_s[k] = outer_s;
             if crossings.len() > 1 {
                 extra_crossings.push((target, crossings.iter().map(|c| c.0).collect()));
@@ -1152,18 +1175,20 @@ impl<'a> Problem<'a> {
                 GammaSource::Along { family, .. } => self.orbit(family, s),
             }
         };
-        let mut out = Vec::with_capacity(n);
-        for k in 0..n {
-            let s = sampled.orbit_s.get(k).copied().unwrap_or(f64::NAN);
-            let o = orbit_at(s).ok()?;
-            let gamma = if with_gamma {
-                separable_gamma(self.spacetime, o.r, o.lambda, o.eta).ok()
-            } else {
-                None
-            };
-            out.push(CurveOrbit { radius: o.r, gamma });
-        }
-        Some(out)
+        (0..n)
+            .into_par_iter()
+            .with_min_len(ANGLES_PER_TASK)
+            .map(|k| {
+                let s = sampled.orbit_s.get(k).copied().unwrap_or(f64::NAN);
+                let o = orbit_at(s).ok()?;
+                let gamma = if with_gamma {
+                    separable_gamma(self.spacetime, o.r, o.lambda, o.eta).ok()
+                } else {
+                    None
+                };
+                Some(CurveOrbit { radius: o.r, gamma })
+            })
+            .collect()
     }
 
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
