@@ -435,10 +435,12 @@ fn search_from_grid(
     let horizonless = values
         .iter()
         .any(|v| matches!(v, PointValue::Valid { horizon: false, .. }));
-    let backoff = Mutex::new(0.0f64);
-    let cut = Mutex::new(None::<String>);
-    let refine = |goal: Goal| -> Result<f64, String> {
-        refine_goal(
+    // Each goal is refined alone, the three at once (their line searches are sequential, so
+    // this is where a box's search finds its parallelism); each keeps its own back-off and
+    // cut, combined below in goal order, as one goal after the other would have recorded them.
+    let refine = |goal: Goal| -> (Result<f64, String>, f64, Option<String>) {
+        let (backoff, cut) = (Mutex::new(0.0f64), Mutex::new(None::<String>));
+        let value = refine_goal(
             model,
             dims,
             axes,
@@ -449,34 +451,51 @@ fn search_from_grid(
             search,
             &backoff,
             &cut,
+        );
+        let backoff = backoff.into_inner().unwrap_or_else(|e| e.into_inner());
+        (
+            value,
+            backoff,
+            cut.into_inner().unwrap_or_else(|e| e.into_inner()),
         )
     };
-    let size_min = match refine(Goal::SizeMin) {
+    let (min, (max, circularity)) = rayon::join(
+        || refine(Goal::SizeMin),
+        || {
+            rayon::join(
+                || refine(Goal::SizeMax),
+                || circularity_limit.map(|_| refine(Goal::CircularityMin)),
+            )
+        },
+    );
+    let mut wall_backoff = 0.0f64;
+    let mut refinement_cut = None;
+    let mut outcome = |(value, backoff, cut): (Result<f64, String>, f64, Option<String>)| {
+        wall_backoff = wall_backoff.max(backoff);
+        refinement_cut = refinement_cut.take().or(cut);
+        value
+    };
+    let size_min = match outcome(min) {
         Ok(v) => v,
         Err(m) => return Aggregate::Failed(m),
     };
-    let size_max = match refine(Goal::SizeMax) {
+    let size_max = match outcome(max) {
         Ok(v) => -v,
         Err(m) => return Aggregate::Failed(m),
     };
-    let circularity_min = if circularity_limit.is_some() {
-        match refine(Goal::CircularityMin) {
-            Ok(v) => v,
-            Err(m) => return Aggregate::Failed(m),
-        }
-    } else {
-        values
+    let circularity_min = match circularity.map(&mut outcome) {
+        Some(Ok(v)) => v,
+        Some(Err(m)) => return Aggregate::Failed(m),
+        None => values
             .iter()
             .map(|v| Goal::CircularityMin.objective(v, None))
-            .fold(f64::INFINITY, f64::min)
+            .fold(f64::INFINITY, f64::min),
     };
     let (size_min, size_max) = if size_min.is_finite() {
         (size_min, size_max)
     } else {
         (f64::NAN, f64::NAN)
     };
-    let wall_backoff = backoff.into_inner().unwrap_or_else(|e| e.into_inner());
-    let refinement_cut = cut.into_inner().unwrap_or_else(|e| e.into_inner());
     Aggregate::Ok(Extremes {
         size_min,
         size_max,

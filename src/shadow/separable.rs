@@ -81,9 +81,12 @@ use serde::Serialize;
 use std::f64::consts::{PI, TAU};
 use std::sync::atomic::Ordering;
 
-/// Screen angles per parallel task of a curve: a task's Brent searches take a few
-/// microseconds each, so fewer would spend more on scheduling than on work.
-const ANGLES_PER_TASK: usize = 8;
+/// Screen angles (and curve points) per parallel task of a curve. A point's Brent search
+/// takes a few microseconds; a bound's or a scan's curves of 32 to 128 points are then one
+/// task each (those runs are parallel over their curves already, and splitting such a curve
+/// made the Kerr–Newman bound of docs/performance.md 10 % slower), while a curve of many
+/// points runs on every thread.
+const ANGLES_PER_TASK: usize = 64;
 
 /// The solver's name on the command line and in results.
 pub const NAME: &str = "separable";
@@ -983,9 +986,16 @@ impl<'a> Problem<'a> {
         };
         let angle = |j: usize| PI * j as f64 / TABLE_INTERVALS as f64;
         // The table's orbits, then the screen angles, in parallel; results in order, and the
-        // first failure in that order is the one reported, at any thread count.
-        let table: Vec<Result<(f64, f64), ShadowError>> = (0..=TABLE_INTERVALS)
+        // first failure in that order is the one reported, at any thread count. The table is
+        // split only for a curve whose angles are (the rest costs more than the table then).
+        let table_task = if n / 2 + 1 > ANGLES_PER_TASK {
+            1
+        } else {
+            TABLE_INTERVALS + 1
+        };
+        let table: Vec<Result<(f64, f64), ShadowError>> = (0..TABLE_INTERVALS + 1)
             .into_par_iter()
+            .with_min_len(table_task)
             .map(|j| {
                 let s = s_of(angle(j));
                 let o = self.orbit(family, s)?;
