@@ -292,9 +292,9 @@ pub enum Effort {
 }
 
 /// The prediction at one value as far as deciding it needs. With [`Effort::Decide`]: the
-/// box's corners first, then the rest of the grid, each stopping as soon as the points
-/// evaluated decide the value allowed at every level of `levels` (r_sh/M intervals) and the
-/// circularity limit ([`Extremes::witnessed`]: allowed needs one point inside each interval,
+/// grid from coarse to fine (the box's corners, then the middle, then the rest; the batches of
+/// `coarse_to_fine`), stopping after any batch whose points, with those before, decide the
+/// value allowed at every level of `levels` (r_sh/M intervals) and the circularity limit ([`Extremes::witnessed`]: allowed needs one point inside each interval,
 /// or points on both sides of it, whatever the other points give, even a solver failure);
 /// only a value not decided so, which may be excluded, gets the full search of [`extremes`],
 /// with the grid already evaluated. A model that may count horizonless objects starts from
