@@ -63,6 +63,23 @@ impl<S: Fn(&[f64]) -> f64 + Sync, F: Fn(&[f64]) -> bool + Sync> PointModel for S
     }
 }
 
+/// [`decide`] over the box [0, 1] with the default grid.
+fn on_unit_box(
+    model: &dyn PointModel,
+    levels: &[[f64; 2]],
+    circularity_limit: Option<f64>,
+    effort: Effort,
+) -> Aggregate {
+    decide(
+        model,
+        &[(0.0, 1.0)],
+        levels,
+        circularity_limit,
+        &SEARCH,
+        effort,
+    )
+}
+
 fn never(_: &[f64]) -> bool {
     false
 }
@@ -82,14 +99,7 @@ fn allowed_at_every_level(a: &Aggregate, levels: &[[f64; 2]]) -> bool {
 fn a_value_the_corners_show_allowed_costs_two_solves() {
     // Falling from 5.3 to 4.9 across the box: [5.0, 5.1] lies between the corners' sizes.
     let model = Synthetic::new(|n: &[f64]| 5.3 - 0.4 * n[0], never);
-    let a = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.0, 5.1]],
-        None,
-        &SEARCH,
-        Effort::Decide,
-    );
+    let a = on_unit_box(&model, &[[5.0, 5.1]], None, Effort::Decide);
     let Aggregate::Ok(e) = &a else {
         panic!("{a:?}")
     };
@@ -97,14 +107,7 @@ fn a_value_the_corners_show_allowed_costs_two_solves() {
     assert_eq!((e.size_min, e.size_max), (5.3 - 0.4, 5.3));
     assert_eq!(model.solves(), 2);
     // The full search: the 7 grid points (the extremes are at the edges, accepted there).
-    let full = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.0, 5.1]],
-        None,
-        &SEARCH,
-        Effort::FullSearch,
-    );
+    let full = on_unit_box(&model, &[[5.0, 5.1]], None, Effort::FullSearch);
     assert_eq!(model.solves(), 7);
     assert_eq!(full, extremes(&model, &[(0.0, 1.0)], None, &SEARCH));
     let Aggregate::Ok(f) = full else { panic!() };
@@ -115,37 +118,16 @@ fn a_value_the_corners_show_allowed_costs_two_solves() {
 fn the_grid_is_walked_from_coarse_to_fine_until_it_decides() {
     // A bump: 5.0 at both corners, 5.36 at the middle. [5.2, 5.4] needs the middle point.
     let model = Synthetic::new(|n: &[f64]| 5.36 - 1.44 * (n[0] - 0.5).powi(2), never);
-    let a = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.2, 5.4]],
-        None,
-        &SEARCH,
-        Effort::Decide,
-    );
+    let a = on_unit_box(&model, &[[5.2, 5.4]], None, Effort::Decide);
     assert!(matches!(&a, Aggregate::Ok(e) if e.witnessed), "{a:?}");
     assert_eq!(model.solves(), 3, "the corners, then the middle");
     // [5.355, 5.4]: the grid's largest (the middle, 5.36) already reaches into it.
-    let b = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.355, 5.4]],
-        None,
-        &SEARCH,
-        Effort::Decide,
-    );
+    let b = on_unit_box(&model, &[[5.355, 5.4]], None, Effort::Decide);
     assert!(matches!(&b, Aggregate::Ok(e) if e.witnessed), "{b:?}");
     assert_eq!(model.solves(), 3);
     // [5.37, 5.4] is above every size: excluded, after the whole grid and the search, whose
     // maximum is the true one.
-    let c = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.37, 5.4]],
-        None,
-        &SEARCH,
-        Effort::Decide,
-    );
+    let c = on_unit_box(&model, &[[5.37, 5.4]], None, Effort::Decide);
     let Aggregate::Ok(e) = &c else {
         panic!("{c:?}")
     };
@@ -189,14 +171,7 @@ fn a_failure_beside_a_witness_does_not_matter_and_is_kept() {
 fn a_model_that_counts_horizonless_points_starts_from_the_whole_grid() {
     let mut model = Synthetic::new(|n: &[f64]| 5.3 - 0.4 * n[0], never);
     model.horizonless = true;
-    let a = decide(
-        &model,
-        &[(0.0, 1.0)],
-        &[[5.0, 5.1]],
-        None,
-        &SEARCH,
-        Effort::Decide,
-    );
+    let a = on_unit_box(&model, &[[5.0, 5.1]], None, Effort::Decide);
     assert!(matches!(&a, Aggregate::Ok(e) if e.witnessed));
     assert_eq!(model.solves(), 7);
 }
@@ -221,27 +196,13 @@ fn a_circularity_limit_is_part_of_the_decision() {
         }
     }
     // Sizes 5.1 to 5.3 count (n ≤ 0.5): [4.9, 5.0] is reached only by points over the limit.
-    let a = decide(
-        &Oblate,
-        &[(0.0, 1.0)],
-        &[[4.9, 5.0]],
-        Some(0.05),
-        &SEARCH,
-        Effort::Decide,
-    );
+    let a = on_unit_box(&Oblate, &[[4.9, 5.0]], Some(0.05), Effort::Decide);
     let Aggregate::Ok(e) = &a else {
         panic!("{a:?}")
     };
     assert!(!e.witnessed, "{e:?}");
     assert!(e.size_min > 5.0);
-    let b = decide(
-        &Oblate,
-        &[(0.0, 1.0)],
-        &[[5.0, 5.2]],
-        Some(0.05),
-        &SEARCH,
-        Effort::Decide,
-    );
+    let b = on_unit_box(&Oblate, &[[5.0, 5.2]], Some(0.05), Effort::Decide);
     assert!(matches!(&b, Aggregate::Ok(e) if e.witnessed), "{b:?}");
 }
 
