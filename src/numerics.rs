@@ -11,6 +11,10 @@
 //! evaluated (one more shadow solve per refinement), takes a parabolic step with NaN when the
 //! objective is +∞ (umbral marks an infeasible nuisance point that way), and brings eight
 //! crates (argmin-math, anyhow, rand_xoshiro, web-time, ...) for two short functions.
+//!
+//! [`lockstep`] runs several such searches side by side with their evaluations batched.
+
+pub(crate) mod lockstep;
 
 use roots::{find_root_brent, Convergency};
 use std::convert::Infallible;

@@ -681,6 +681,16 @@ fn refine_line(
             }
         }
     }
+    // A bracket flat to rounding: the parabola through its three values dips below the
+    // middle one by at most (d₋ + d₊)/8 for rises d₋, d₊ ≥ 0 to the neighbours, so for a
+    // function the grid resolves (what a local refinement assumes) Brent's method could gain
+    // only rounding noise, and it takes some forty steps chasing it (the size along the
+    // inclination at zero spin is such a line).
+    let rounding = 16.0 * f64::EPSILON * f[k].abs().max(1.0);
+    let flat = |i: usize| (f[i] - f[k]).abs() <= rounding;
+    if interior && flat(k - 1) && flat(k + 1) {
+        interior = false;
+    }
     if interior {
         if let (Some(a), Some(b)) = (lo, hi) {
             // A failure inside the bracket must be reported, not skipped. It ends the
@@ -756,7 +766,38 @@ mod number {
 
 #[cfg(test)]
 mod tests {
-    use super::coarse_to_fine;
+    use super::{coarse_to_fine, refine_line};
+    use std::sync::Mutex;
+
+    /// A line whose bracket about the grid minimum is flat to rounding is not refined (no
+    /// solve); one a few units in the last place above it is, and Brent's method finds the
+    /// parabola's vertex.
+    #[test]
+    fn a_bracket_flat_to_rounding_is_not_refined() {
+        let nodes: Vec<f64> = (0..7).map(|i| i as f64 / 6.0).collect();
+        let backoff = Mutex::new(0.0);
+        let horizon = |_: f64| true;
+        let mut solves = 0;
+        let flat = [5.0, 5.0, 5.0, 5.0 - 8.9e-16, 5.0, 5.0, 5.0];
+        let mut eval = |_: f64| {
+            solves += 1;
+            Ok(5.0)
+        };
+        let best = refine_line(&nodes, &flat, &mut eval, &horizon, 1e-10, &backoff).unwrap();
+        assert_eq!(best, (0.5, 5.0 - 8.9e-16));
+        assert_eq!(solves, 0);
+        // A parabola with its vertex off the grid, 9e-5 below the grid minimum.
+        let curved = |t: f64| 5.0 + 0.036 * (t - 0.45) * (t - 0.45);
+        let values: Vec<f64> = nodes.iter().map(|&t| curved(t)).collect();
+        let mut solves = 0;
+        let mut eval = |t: f64| {
+            solves += 1;
+            Ok(curved(t))
+        };
+        let (t, v) = refine_line(&nodes, &values, &mut eval, &horizon, 1e-10, &backoff).unwrap();
+        assert!(solves > 0);
+        assert!((t - 0.45).abs() < 1e-6 && v < values[3] - 8e-5, "{t} {v}");
+    }
 
     #[test]
     fn grid_batches_run_from_the_corners_to_every_point_once() {

@@ -2,14 +2,16 @@
 //! (no horizon, no shadow, failure) located by bisection, crossings hidden between grid
 //! points looked for with parabolas, and the ends of the allowed ranges refined by Brent's
 //! method. The nuisance evaluations are asked of an [`Evaluate`], in batches (the starting
-//! grid, each round of candidates) or one at a time (bisection and Brent steps), so a program
-//! can report, checkpoint and interrupt them like any other run's items.
+//! grid, each round of candidates, each round of the bound ends' Brent searches, run in
+//! lockstep) or one at a time (bisection), so a program can report, checkpoint and interrupt
+//! them like any other run's items.
 
 pub(super) use super::nuisance::margins;
 use super::nuisance::Aggregate;
 use super::{describe, BoundError, BoundResult, Failure, LevelBound, PredictedPoint, Prepared};
 use super::{Evaluate, Node};
 use crate::numerics::brent_root_within;
+use crate::numerics::lockstep::{in_lockstep, LockstepSearch};
 
 /// Whether a node's prediction includes horizonless objects.
 fn horizonless(a: &Aggregate) -> bool {
@@ -147,7 +149,8 @@ impl Search<'_, '_> {
         }
     }
 
-    /// Roots of every margin that changes sign between adjacent Ok nodes, by Brent's method;
+    /// Roots of every margin that changes sign between adjacent Ok nodes, by Brent's method,
+    /// the searches run in lockstep (each round's values evaluated as one parallel batch);
     /// a cell where the prediction changes category on the way is a failure of that cell.
     pub(super) fn bound_ends(&mut self, nodes: &[Node]) -> Result<Cells, BoundError> {
         let tol = self.prep.request.settings.parameter_tolerance;
@@ -157,6 +160,9 @@ impl Search<'_, '_> {
             failures: Vec::new(),
             end_spread: 0.0,
         };
+        // Every sign change of a margin between adjacent nodes: (cell, margin, the two ends
+        // with their margins).
+        let mut crossings = Vec::new();
         for i in 0..nodes.len().saturating_sub(1) {
             let (Aggregate::Ok(ea), Aggregate::Ok(eb)) = (&nodes[i].value, &nodes[i + 1].value)
             else {
@@ -167,110 +173,174 @@ impl Search<'_, '_> {
                 margins(eb, &self.levels, self.cmax),
             );
             for j in 0..count {
-                if !(ma[j].is_finite() && mb[j].is_finite()) || passes(ma[j]) == passes(mb[j]) {
-                    continue;
+                if ma[j].is_finite() && mb[j].is_finite() && passes(ma[j]) != passes(mb[j]) {
+                    crossings.push((i, j, (nodes[i].x, ma[j]), (nodes[i + 1].x, mb[j])));
                 }
-                let (a, b) = ((nodes[i].x, ma[j]), (nodes[i + 1].x, mb[j]));
-                match self.margin_root(j, a, b, 0.25 * tol)? {
-                    Ok(r) => {
-                        cells.roots[i][j] = Some(r);
-                        if j < 2 * self.levels.len() {
-                            // With a witnessed node, whose passing margin is a lower bound,
-                            // the slope is underestimated and the spread overstated.
-                            let slope = (mb[j] - ma[j]).abs() / (b.0 - a.0);
-                            let spread = self.prep.size_resolution / slope;
-                            cells.end_spread = cells.end_spread.max(spread);
-                        }
+            }
+        }
+        let (levels, cmax) = (&self.levels, self.cmax);
+        let size_resolution = self.prep.size_resolution;
+        let searches: Vec<LockstepSearch<f64, Option<Aggregate>, MarginRoot>> = crossings
+            .iter()
+            .map(|&(_, j, a, b)| {
+                // A size within the curves' resolution of the interval's end is at it
+                // (stopping at the noise level: common practice, no source); the circularity
+                // margin, last, is searched to the tolerance.
+                let ftol = if j < 2 * levels.len() {
+                    size_resolution
+                } else {
+                    0.0
+                };
+                Box::new(move |ask: &mut dyn FnMut(f64) -> Option<Aggregate>| {
+                    margin_root(ask, |e| margins(e, levels, cmax)[j], a, b, 0.25 * tol, ftol)
+                }) as LockstepSearch<f64, Option<Aggregate>, MarginRoot>
+            })
+            .collect();
+        let prep = self.prep;
+        let evaluator = &mut *self.evaluator;
+        let mut stopped = None;
+        let node = |x| Node {
+            x,
+            value: prep.evaluate(x, true),
+            full: true,
+        };
+        let outcomes = in_lockstep(searches, |xs| {
+            if stopped.is_some() {
+                return vec![None; xs.len()];
+            }
+            // Two searches may ask for the same value: it is evaluated once.
+            let mut distinct: Vec<f64> = Vec::with_capacity(xs.len());
+            for &x in xs {
+                if !distinct.iter().any(|d| d.to_bits() == x.to_bits()) {
+                    distinct.push(x);
+                }
+            }
+            match evaluator.evaluate("bound ends", &distinct, true, &node) {
+                Ok(evaluated) => xs
+                    .iter()
+                    .map(|x| {
+                        let k = distinct.iter().position(|d| d.to_bits() == x.to_bits());
+                        k.map(|k| evaluated[k].value.clone())
+                    })
+                    .collect(),
+                Err(e) => {
+                    stopped = Some(e);
+                    vec![None; xs.len()]
+                }
+            }
+        });
+        if let Some(e) = stopped {
+            return Err(e.into());
+        }
+        for (&(i, j, a, b), outcome) in crossings.iter().zip(outcomes) {
+            match outcome {
+                MarginRoot::Root(r) => {
+                    cells.roots[i][j] = Some(r);
+                    if j < 2 * self.levels.len() {
+                        // With a witnessed node, whose passing margin is a lower bound,
+                        // the slope is underestimated and the spread overstated.
+                        let slope = (b.1 - a.1).abs() / (b.0 - a.0);
+                        let spread = self.prep.size_resolution / slope;
+                        cells.end_spread = cells.end_spread.max(spread);
                     }
-                    Err(other) => cells.failures.push(Failure {
-                        low: a.0,
-                        high: b.0,
-                        evaluated_below: Some(a.0),
-                        evaluated_above: Some(b.0),
-                        error: format!(
-                            "the prediction changed to '{}' between grid points while refining a \
-                             bound end",
-                            match other {
-                                Aggregate::Failed(m) => m,
-                                Aggregate::NoShadow(r) => format!("no shadow: {r}"),
-                                Aggregate::NoHorizon => "no horizon".into(),
-                                Aggregate::Ok(_) => unreachable!(),
-                            }
-                        ),
-                    }),
                 }
+                MarginRoot::Met(other) => cells.failures.push(Failure {
+                    low: a.0,
+                    high: b.0,
+                    evaluated_below: Some(a.0),
+                    evaluated_above: Some(b.0),
+                    error: format!(
+                        "the prediction changed to '{}' between grid points while refining a \
+                         bound end",
+                        match other {
+                            Aggregate::Failed(m) => m,
+                            Aggregate::NoShadow(r) => format!("no shadow: {r}"),
+                            Aggregate::NoHorizon => "no horizon".into(),
+                            Aggregate::Ok(_) => unreachable!(),
+                        }
+                    ),
+                }),
+                MarginRoot::NotConverged(e) => {
+                    return Err(BoundError::NotConverged(format!(
+                        "refining a bound end of '{}' failed: {e}",
+                        self.prep.request.vary.name
+                    )))
+                }
+                // Only a stopped evaluator leaves a search without answers, handled above.
+                MarginRoot::Stopped => unreachable!("the evaluator stopped without a reason"),
             }
         }
         Ok(cells)
     }
+}
 
-    /// Where margin `j` crosses zero between the nodes `a` and `b` (each with its margin):
-    /// the root, or the other category met on the way (the outer error is an interruption or
-    /// a search that did not converge).
-    fn margin_root(
-        &mut self,
-        j: usize,
-        (a, margin_a): (f64, f64),
-        (b, margin_b): (f64, f64),
-        xtol: f64,
-    ) -> Result<Result<f64, Aggregate>, BoundError> {
-        let (levels, cmax) = (self.levels.clone(), self.cmax);
-        // A size within the curves' resolution of the interval's end is at it (stopping at
-        // the noise level: common practice, no source); the circularity margin, last, is
-        // searched to `xtol`.
-        let ftol = if j < 2 * levels.len() {
-            self.prep.size_resolution
-        } else {
-            0.0
-        };
-        let mut inner_failure = None;
-        let mut stopped = None;
-        let root = brent_root_within(
-            // Once another category was met (the cell is then reported whole) or the
-            // evaluator stopped, the root is not used: nothing more is evaluated.
-            |x| match (&inner_failure, &stopped) {
-                // The full search: the margin's value, not only its sign, steers the search
-                // and ends it within the curves' resolution. A value witnessed despite a
-                // failed grid point has no full search: a failure met on the way.
-                (None, None) => match self.value(x, "bound ends", true) {
-                    Ok(Aggregate::Ok(e)) if e.witnessed => {
-                        let m = e.failure_passed_over.unwrap_or_else(|| {
-                            "the nuisance extremes were not searched".to_string()
-                        });
-                        inner_failure.get_or_insert(Aggregate::Failed(m));
-                        f64::NAN
-                    }
-                    Ok(Aggregate::Ok(e)) => margins(&e, &levels, cmax)[j],
-                    Ok(other) => {
-                        inner_failure.get_or_insert(other);
-                        f64::NAN
-                    }
-                    Err(e) => {
-                        stopped.get_or_insert(e);
-                        f64::NAN
-                    }
-                },
-                _ => f64::NAN,
-            },
-            // The nodes' margins are known: neither is evaluated again. A witnessed node's
-            // is a lower bound of a passing margin: its sign is exact, and only the first
-            // interpolation steps are less direct.
-            (a, Some(margin_a)),
-            (b, Some(margin_b)),
-            xtol,
-            ftol,
-        );
-        if let Some(e) = stopped {
-            return Err(e);
-        }
-        match (root, inner_failure) {
-            (Ok(r), None) => Ok(Ok(r)),
-            (_, Some(other)) => Ok(Err(other)),
-            (Err(e), None) => Err(BoundError::NotConverged(format!(
-                "refining a bound end of '{}' failed: {e}",
-                self.prep.request.vary.name
-            ))),
-        }
+/// How the search for a margin's root between two nodes ended.
+enum MarginRoot {
+    /// The margin crosses zero here.
+    Root(f64),
+    /// Another category was met on the way (the cell is reported whole).
+    Met(Aggregate),
+    /// The root search did not converge.
+    NotConverged(crate::numerics::RootError),
+    /// The evaluator stopped.
+    Stopped,
+}
+
+/// Where `margin` crosses zero between the nodes `a` and `b` (each with its margin), by
+/// Brent's method, the full search asked of `ask` at each value (`None`: the evaluator
+/// stopped); the search stops at a margin within `ftol` of zero.
+fn margin_root(
+    ask: &mut dyn FnMut(f64) -> Option<Aggregate>,
+    margin: impl Fn(&super::nuisance::Extremes) -> f64,
+    (a, margin_a): (f64, f64),
+    (b, margin_b): (f64, f64),
+    xtol: f64,
+    ftol: f64,
+) -> MarginRoot {
+    let mut met = None;
+    let mut stopped = false;
+    let root = brent_root_within(
+        // Once another category was met (the cell is then reported whole) or the evaluator
+        // stopped, the root is not used: nothing more is evaluated.
+        |x| {
+            if met.is_some() || stopped {
+                return f64::NAN;
+            }
+            // The full search: the margin's value, not only its sign, steers the search and
+            // ends it within the curves' resolution. A value witnessed despite a failed grid
+            // point has no full search: a failure met on the way.
+            match ask(x) {
+                Some(Aggregate::Ok(e)) if e.witnessed => {
+                    let m = e
+                        .failure_passed_over
+                        .unwrap_or_else(|| "the nuisance extremes were not searched".to_string());
+                    met = Some(Aggregate::Failed(m));
+                    f64::NAN
+                }
+                Some(Aggregate::Ok(e)) => margin(&e),
+                Some(other) => {
+                    met = Some(other);
+                    f64::NAN
+                }
+                None => {
+                    stopped = true;
+                    f64::NAN
+                }
+            }
+        },
+        // The nodes' margins are known: neither is evaluated again. A witnessed node's is a
+        // lower bound of a passing margin: its sign is exact, and only the first
+        // interpolation steps are less direct.
+        (a, Some(margin_a)),
+        (b, Some(margin_b)),
+        xtol,
+        ftol,
+    );
+    match (stopped, met, root) {
+        (true, _, _) => MarginRoot::Stopped,
+        (false, Some(other), _) => MarginRoot::Met(other),
+        (false, None, Ok(r)) => MarginRoot::Root(r),
+        (false, None, Err(e)) => MarginRoot::NotConverged(e),
     }
 }
 
