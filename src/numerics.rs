@@ -40,6 +40,53 @@ pub enum RootError {
     },
 }
 
+/// Sums of at most this many terms are summed in one pass ([`compensated_sums`], the
+/// curve's Fourier series); longer ones in parallel parts of [`SUM_PART`] terms.
+pub(crate) const SUM_CHUNK: usize = 8192;
+/// Terms per parallel part of a long sum (small enough that two threads share the parts
+/// evenly; a multiple of the curve series' re-seeding interval).
+pub(crate) const SUM_PART: usize = 1024;
+/// Most parts per parallel task (rayon otherwise splits a range only a few times, and two
+/// threads share uneven halves).
+pub(crate) const SUM_PARTS_PER_TASK: usize = 4;
+
+/// The `K` sums Σᵢ term(i)[k], i = 0..n, each compensated (Kahan–Babuška–Neumaier, the
+/// `compensated_summation` crate; Neumaier 1974, ZAMM 54, 39). For n > [`SUM_CHUNK`], the
+/// terms in fixed parts of [`SUM_PART`], each part summed alone (in parallel), then the
+/// parts' totals summed in order: the result depends on n only, never on the thread count,
+/// and for n ≤ [`SUM_CHUNK`] it is the plain compensated sum.
+pub(crate) fn compensated_sums<const K: usize>(
+    n: usize,
+    term: impl Fn(usize) -> [f64; K] + Sync,
+) -> [f64; K] {
+    use compensated_summation::KahanBabuskaNeumaier as Compensated;
+    use rayon::prelude::*;
+    let part = |start: usize, end: usize| -> [f64; K] {
+        let mut sums = [(); K].map(|_| Compensated::<f64>::new());
+        for i in start..end {
+            for (sum, t) in sums.iter_mut().zip(term(i)) {
+                *sum += t;
+            }
+        }
+        sums.map(|s| s.total())
+    };
+    if n <= SUM_CHUNK {
+        return part(0, n);
+    }
+    let totals: Vec<[f64; K]> = (0..n.div_ceil(SUM_PART))
+        .into_par_iter()
+        .with_max_len(SUM_PARTS_PER_TASK)
+        .map(|c| part(c * SUM_PART, ((c + 1) * SUM_PART).min(n)))
+        .collect();
+    let mut sums = [(); K].map(|_| Compensated::<f64>::new());
+    for t in totals {
+        for (sum, x) in sums.iter_mut().zip(t) {
+            *sum += x;
+        }
+    }
+    sums.map(|s| s.total())
+}
+
 /// Stop when the bracket is as small as the spacing of doubles allows (plus `xtol`).
 struct FullPrecision {
     xtol: f64,

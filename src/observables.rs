@@ -25,6 +25,7 @@ use crate::metric::Spacetime;
 use crate::numerics::{safeguarded_newton, NewtonEval};
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
 // Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
+use crate::numerics::compensated_sums;
 use crate::shadow::observer::celestial_curve;
 use crate::shadow::{
     CriticalCurve, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowError, ShadowResult,
@@ -381,12 +382,20 @@ pub fn radii_about(
         .validate(MIN_POINTS)
         .map_err(ObservablesError::BadCurve)?;
     // R and R′ between samples in O(1) each, so the whole is O(N log N + samples).
-    radii_about_with(curve, &curve.interpolant().table(), centre, samples)
+    let samples_ab = curve.alpha_beta();
+    radii_about_with(
+        curve,
+        &samples_ab,
+        &curve.interpolant().table(),
+        centre,
+        samples,
+    )
 }
 
 /// [`radii_about`] with the curve's interpolant table already built (a validated curve).
 fn radii_about_with(
     curve: &CriticalCurve,
+    (alphas, betas): &(Vec<f64>, Vec<f64>),
     table: &InterpolantTable,
     centre: [f64; 2],
     samples: usize,
@@ -401,7 +410,7 @@ fn radii_about_with(
         alpha: centre[0],
         beta: centre[1],
     };
-    let angles = unwrapped_angles(curve, centre).ok_or_else(not_star)?;
+    let angles = unwrapped_angles(alphas, betas, centre).ok_or_else(not_star)?;
     let d = [curve.origin[0] - centre[0], curve.origin[1] - centre[1]];
     let distance_at = |j: usize| -> Result<f64, ObservablesError> {
         // Target angle in [angles[0], angles[0] + 2π).
@@ -433,6 +442,7 @@ fn radii_about_with(
     let distances: Vec<Result<f64, ObservablesError>> = (0..samples)
         .into_par_iter()
         .with_min_len(ANGLES_PER_TASK)
+        .with_max_len(2 * ANGLES_PER_TASK)
         .map(distance_at)
         .collect();
     distances.into_iter().collect()
@@ -444,16 +454,27 @@ const ANGLES_PER_TASK: usize = 2048;
 
 /// Polar angles of the curve's samples about `centre`, unwrapped, then the first plus 2π:
 /// `None` unless they increase by < π per step and by 2π once round (a star-shaped curve).
-fn unwrapped_angles(curve: &CriticalCurve, centre: [f64; 2]) -> Option<Vec<f64>> {
-    let n = curve.len();
-    let (alphas, betas) = curve.alpha_beta();
+fn unwrapped_angles(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<Vec<f64>> {
+    let n = alphas.len();
+    // The raw angles in parallel (NaN at the centre itself), unwrapped in order.
+    let raws: Vec<f64> = (0..n)
+        .into_par_iter()
+        .with_min_len(ANGLES_PER_TASK)
+        .with_max_len(2 * ANGLES_PER_TASK)
+        .map(|k| {
+            let (x, y) = (alphas[k] - centre[0], betas[k] - centre[1]);
+            if x == 0.0 && y == 0.0 {
+                f64::NAN
+            } else {
+                y.atan2(x)
+            }
+        })
+        .collect();
     let mut angles = Vec::with_capacity(n + 1);
-    for k in 0..n {
-        let (x, y) = (alphas[k] - centre[0], betas[k] - centre[1]);
-        if x == 0.0 && y == 0.0 {
+    for &raw in &raws {
+        if raw.is_nan() {
             return None;
         }
-        let raw = y.atan2(x);
         let angle = match angles.last() {
             None => raw,
             Some(&prev) => {
@@ -657,19 +678,17 @@ pub(crate) fn extrapolated_error(full: f64, half: f64, quarter: f64) -> f64 {
 fn area_and_centroid(curve: &CriticalCurve) -> (f64, [f64; 2]) {
     let n = curve.len();
     let h = TAU / n as f64;
-    let (mut area, mut mx, mut my) = (Compensated::new(), Compensated::new(), Compensated::new());
-    for (k, r) in curve.radii.iter().enumerate() {
+    let [area, mx, my] = compensated_sums(n, |k| {
+        let r = curve.radii[k];
         let (s, c) = curve.angle(k).sin_cos();
-        area += 0.5 * r * r;
-        mx += r * r * r * c / 3.0;
-        my += r * r * r * s / 3.0;
-    }
-    let area = area.total() * h;
+        [0.5 * r * r, r * r * r * c / 3.0, r * r * r * s / 3.0]
+    });
+    let area = area * h;
     (
         area,
         [
-            curve.origin[0] + mx.total() * h / area,
-            curve.origin[1] + my.total() * h / area,
+            curve.origin[0] + mx * h / area,
+            curve.origin[1] + my * h / area,
         ],
     )
 }
@@ -735,8 +754,9 @@ impl Observables {
             .validate(MIN_POINTS)
             .map_err(ObservablesError::BadCurve)?;
         let interp = curve.interpolant();
-        let (alphas, betas) = curve.alpha_beta();
-        let samples: Vec<[f64; 2]> = alphas.iter().zip(&betas).map(|(&a, &b)| [a, b]).collect();
+        let alpha_beta = curve.alpha_beta();
+        let (alphas, betas) = &alpha_beta;
+        let samples: Vec<[f64; 2]> = alphas.iter().zip(betas).map(|(&a, &b)| [a, b]).collect();
         // The four extremes in parallel (each sums the interpolant's series, O(N) per step).
         let directions = [[1.0, 0.0], [-1.0, 0.0], [0.0, 1.0], [0.0, -1.0]];
         let found: Vec<Result<Extreme, ObservablesError>> = directions
@@ -758,18 +778,16 @@ impl Observables {
         };
         let radii = radii_about_with(
             curve,
+            &alpha_beta,
             &interp.table(),
             centre_point,
             curve.len().max(MIN_CENTRE_SAMPLES),
         )?;
         let m = radii.len() as f64;
-        let mean_radius = radii.iter().sum::<Compensated<f64>>().total() / m;
-        let variance = radii
-            .iter()
-            .map(|r| (r - mean_radius).powi(2))
-            .sum::<Compensated<f64>>()
-            .total()
-            / m;
+        let [sum] = compensated_sums(radii.len(), |j| [radii[j]]);
+        let mean_radius = sum / m;
+        let [squares] = compensated_sums(radii.len(), |j| [(radii[j] - mean_radius).powi(2)]);
+        let variance = squares / m;
         let circularity_deviation = variance.sqrt() / mean_radius;
         let width = alpha_max - alpha_min;
         let height = beta_max - beta_min;

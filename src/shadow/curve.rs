@@ -1,6 +1,8 @@
 //! A closed critical curve on the observer's screen, sampled uniformly in polar angle, and its
 //! trigonometric (Fourier) interpolant.
 
+use crate::numerics::{compensated_sums, SUM_CHUNK, SUM_PART, SUM_PARTS_PER_TASK};
+use rayon::prelude::*;
 use rustfft::num_complex::Complex;
 use rustfft::FftPlanner;
 use serde::Serialize;
@@ -56,9 +58,12 @@ impl CriticalCurve {
         std::f64::consts::TAU * k as f64 / self.radii.len() as f64
     }
 
-    /// Screen coordinates (α_k, β_k) of the samples.
+    /// Screen coordinates (α_k, β_k) of the samples (computed in parallel chunks).
     pub fn alpha_beta(&self) -> (Vec<f64>, Vec<f64>) {
         (0..self.radii.len())
+            .into_par_iter()
+            .with_min_len(PARALLEL_CHUNK)
+            .with_max_len(2 * PARALLEL_CHUNK)
             .map(|k| {
                 let (s, c) = self.angle(k).sin_cos();
                 (
@@ -129,8 +134,11 @@ pub struct TrigInterpolant {
     coefficients: Vec<(f64, f64)>,
 }
 
-/// Re-seed the cos/sin recurrence from the library functions this often (bounds round-off).
+/// Re-seed the cos/sin recurrence from the library functions this often (bounds round-off;
+/// the parts of a long series start on a re-seed).
 const RESEED: usize = 32;
+// A long series's parts must start on a re-seed.
+const _: () = assert!(SUM_PART.is_multiple_of(RESEED));
 
 thread_local! {
     /// One FFT planner per thread: it keeps the plans (twiddle factors) of the sizes used, so
@@ -140,6 +148,48 @@ thread_local! {
 
 fn with_planner<T>(f: impl FnOnce(&mut FftPlanner<f64>) -> T) -> T {
     PLANNER.with(|p| f(&mut p.borrow_mut()))
+}
+
+/// Items per parallel task of the curve's per-sample loops (each item costs nanoseconds; at
+/// most twice as many, so that rayon splits a long loop finely enough to share it evenly).
+const PARALLEL_CHUNK: usize = 4096;
+
+/// Transforms of at least this many points are split in parallel parts (below, one `rustfft`
+/// call; the split depends on the size only, so results are the same at any thread count).
+const FFT_SPLIT_MIN: usize = 16384;
+
+/// The DFT X_m = Σ_k x_k e^{−2πimk/N} of real samples, as a function of m ∈ [0, N/2]. For
+/// even N ≥ [`FFT_SPLIT_MIN`], one radix-2 decimation-in-time step (Cooley & Tukey 1965,
+/// Math. Comp. 19, 297): the even and odd samples' DFTs E and O of N/2 points in parallel,
+/// then X_m = E_m + e^{−2πim/N} O_m, with E and O periodic in N/2.
+fn forward_dft(x: &[f64]) -> impl Fn(usize) -> Complex<f64> {
+    let n = x.len();
+    let complex = |v: &mut dyn Iterator<Item = f64>| -> Vec<Complex<f64>> {
+        v.map(|r| Complex::new(r, 0.0)).collect()
+    };
+    let (whole, halves) = if n % 2 == 1 || n < FFT_SPLIT_MIN {
+        let mut whole = complex(&mut x.iter().copied());
+        with_planner(|p| p.plan_fft_forward(n)).process(&mut whole);
+        (whole, None)
+    } else {
+        let transform = |mut v: Vec<Complex<f64>>| {
+            with_planner(|p| p.plan_fft_forward(n / 2)).process(&mut v);
+            v
+        };
+        let (even, odd) = rayon::join(
+            || transform(complex(&mut x.iter().step_by(2).copied())),
+            || transform(complex(&mut x.iter().skip(1).step_by(2).copied())),
+        );
+        (Vec::new(), Some((even, odd)))
+    };
+    move |m| match &halves {
+        None => whole[m],
+        Some((even, odd)) => {
+            let half = n / 2;
+            let (s, c) = (-TAU * m as f64 / n as f64).sin_cos();
+            even[m % half] + Complex::new(c, s) * odd[m % half]
+        }
+    }
 }
 
 impl TrigInterpolant {
@@ -153,17 +203,17 @@ impl TrigInterpolant {
             };
         }
         // X_m = Σ_k R_k e^{−2πimk/N} = Σ R_k cos(mψ_k) − i Σ R_k sin(mψ_k).
-        let mut buffer: Vec<Complex<f64>> = radii.iter().map(|&r| Complex::new(r, 0.0)).collect();
-        with_planner(|p| p.plan_fft_forward(n)).process(&mut buffer);
+        let spectrum = forward_dft(radii);
         let scale = 2.0 / n as f64;
-        let mean = radii
-            .iter()
-            .sum::<compensated_summation::KahanBabuskaNeumaier<f64>>()
-            .total()
-            / n as f64;
-        let coefficients = (1..=n / 2)
+        let [sum] = compensated_sums(n, |k| [radii[k]]);
+        let mean = sum / n as f64;
+        let coefficients = (1..n / 2 + 1)
+            .into_par_iter()
+            .with_min_len(PARALLEL_CHUNK)
+            .with_max_len(2 * PARALLEL_CHUNK)
             .map(|m| {
-                let (a, b) = (buffer[m].re, -buffer[m].im);
+                let x = spectrum(m);
+                let (a, b) = (x.re, -x.im);
                 if 2 * m == n {
                     (0.5 * a * scale, 0.0)
                 } else {
@@ -210,25 +260,42 @@ impl TrigInterpolant {
         &self.coefficients
     }
 
-    /// R(ψ), R′(ψ), R″(ψ).
+    /// R(ψ), R′(ψ), R″(ψ). A series of more than 8192 terms is summed in parts of 1024, in
+    /// parallel, the parts' sums added in order (the same at any thread count).
     pub fn radius_derivatives(&self, psi: f64) -> [f64; 3] {
         let (s1, c1) = psi.sin_cos();
-        let (mut s, mut c) = (s1, c1);
-        let (mut r, mut dr, mut ddr) = (self.mean, 0.0, 0.0);
-        for (i, &(a, b)) in self.coefficients.iter().enumerate() {
-            let m = (i + 1) as f64;
-            if i > 0 {
-                if i % RESEED == 0 {
-                    (s, c) = (m * psi).sin_cos();
-                } else {
-                    (s, c) = (s * c1 + c * s1, c * c1 - s * s1);
+        let top = self.coefficients.len();
+        // The terms i = start..end added to `sums`; cos mψ and sin mψ by the angle-addition
+        // recurrence, re-seeded every RESEED terms (a part starts on a re-seed).
+        let add_terms = |start: usize, end: usize, mut sums: [f64; 3]| -> [f64; 3] {
+            let (mut s, mut c) = (s1, c1);
+            for (i, &(a, b)) in self.coefficients[start..end].iter().enumerate() {
+                let i = start + i;
+                let m = (i + 1) as f64;
+                if i > 0 {
+                    if i.is_multiple_of(RESEED) {
+                        (s, c) = (m * psi).sin_cos();
+                    } else {
+                        (s, c) = (s * c1 + c * s1, c * c1 - s * s1);
+                    }
                 }
+                sums[0] += a * c + b * s;
+                sums[1] += m * (b * c - a * s);
+                sums[2] -= m * m * (a * c + b * s);
             }
-            r += a * c + b * s;
-            dr += m * (b * c - a * s);
-            ddr -= m * m * (a * c + b * s);
+            sums
+        };
+        if top <= SUM_CHUNK {
+            return add_terms(0, top, [self.mean, 0.0, 0.0]);
         }
-        [r, dr, ddr]
+        let parts: Vec<[f64; 3]> = (0..top.div_ceil(SUM_PART))
+            .into_par_iter()
+            .with_max_len(SUM_PARTS_PER_TASK)
+            .map(|k| add_terms(k * SUM_PART, ((k + 1) * SUM_PART).min(top), [0.0; 3]))
+            .collect();
+        parts.iter().fold([self.mean, 0.0, 0.0], |sums, part| {
+            [sums[0] + part[0], sums[1] + part[1], sums[2] + part[2]]
+        })
     }
 
     /// R(ψ).
@@ -264,12 +331,62 @@ const STENCIL: usize = 16;
 /// rounding level for the smooth part of a curve, whose amplitudes fall spectrally.
 #[derive(Debug, Clone, PartialEq)]
 pub struct InterpolantTable {
-    /// (R(ψ_j), R′(ψ_j)) at ψ_j = j h.
-    values: Vec<(f64, f64)>,
+    /// R(ψ_j) + iR′(ψ_j) at ψ_j = j h, stored in 2^`shift` interleaved parts: node j is
+    /// `parts[j mod 2^shift][j >> shift]`.
+    parts: Vec<Vec<Complex<f64>>>,
+    shift: u32,
+    /// G, the number of nodes.
+    nodes: usize,
     /// Grid spacing h = 2π/G.
     step: f64,
     /// Barycentric weights of the stencil.
     weights: [f64; STENCIL],
+}
+
+/// y_j = Σ_{|m| ≤ top} X_m e^{2πimj/G}, j = 0..G, for G = 4M with M ≥ 2·top: the samples
+/// j = 4p + q are y_{4p+q} = Σ_m (X_m w^{mq}) e^{2πimp/M}, w = e^{2πi/G}, so the four
+/// residues q are four inverse DFTs of M points of the twiddled spectrum folded mod M
+/// (decimation in time on the output; Cooley & Tukey 1965, Math. Comp. 19, 297), computed in
+/// parallel and returned as the parts q = 0..4. `spectrum(m, negative)` gives X_{±m}.
+fn interleaved_inverse(
+    g: usize,
+    top: usize,
+    spectrum: &(impl Fn(usize, bool) -> Complex<f64> + Sync),
+) -> Vec<Vec<Complex<f64>>> {
+    let quarter = g / TABLE_OVERSAMPLING;
+    debug_assert!(2 * top <= quarter);
+    // w^m, m = 0..=top, in parallel.
+    let twiddles: Vec<Complex<f64>> = (0..top + 1)
+        .into_par_iter()
+        .with_min_len(PARALLEL_CHUNK)
+        .with_max_len(2 * PARALLEL_CHUNK)
+        .map(|m| {
+            let (s, c) = (TAU * m as f64 / g as f64).sin_cos();
+            Complex::new(c, s)
+        })
+        .collect();
+    (0..TABLE_OVERSAMPLING)
+        .into_par_iter()
+        .map(|q| {
+            let mut folded = vec![Complex::new(0.0, 0.0); quarter];
+            // X_m w^{mq} at m (top ≤ M/2: no folding), X_{−m} w^{−mq} at M − m (the Nyquist
+            // terms ±M/2 share a slot).
+            for (m, &w1) in twiddles.iter().enumerate() {
+                let w = match q {
+                    0 => Complex::new(1.0, 0.0),
+                    1 => w1,
+                    2 => w1 * w1,
+                    _ => w1 * w1 * w1,
+                };
+                folded[m] += spectrum(m, false) * w;
+                if m > 0 {
+                    folded[quarter - m] += spectrum(m, true) * w.conj();
+                }
+            }
+            with_planner(|p| p.plan_fft_inverse(quarter)).process(&mut folded);
+            folded
+        })
+        .collect()
 }
 
 /// Barycentric weights (−1)^k C(p−1, k) of p equispaced nodes.
@@ -287,39 +404,68 @@ impl InterpolantTable {
     fn new(interp: &TrigInterpolant) -> Self {
         let top = interp.coefficients.len();
         let g = (TABLE_OVERSAMPLING * 2 * top.max(1)).max(TABLE_MIN_GRID);
-        let mut spectrum = vec![Complex::new(0.0, 0.0); g];
         // R = Σ_m X_m e^{imψ}: X_0 = a₀/2, X_{±m} = (a_m ∓ i b_m)/2; R′ has i m X_m, so
-        // R + iR′ has (1 − m) X_m.
-        spectrum[0] = Complex::new(interp.mean, 0.0);
-        for (i, &(a, b)) in interp.coefficients.iter().enumerate() {
-            let m = (i + 1) as f64;
-            spectrum[i + 1] = Complex::new(0.5 * a, -0.5 * b) * (1.0 - m);
-            spectrum[g - i - 1] = Complex::new(0.5 * a, 0.5 * b) * (1.0 + m);
-        }
-        with_planner(|p| p.plan_fft_inverse(g)).process(&mut spectrum);
+        // R + iR′ has (1 − m) X_m, m = −top, …, top.
+        let spectrum = |m: usize, negative: bool| -> Complex<f64> {
+            if m == 0 {
+                return Complex::new(interp.mean, 0.0);
+            }
+            let (a, b) = interp.coefficients[m - 1];
+            let m = m as f64;
+            if negative {
+                Complex::new(0.5 * a, 0.5 * b) * (1.0 + m)
+            } else {
+                Complex::new(0.5 * a, -0.5 * b) * (1.0 - m)
+            }
+        };
+        let (parts, shift) = if g < FFT_SPLIT_MIN || 2 * top > g / TABLE_OVERSAMPLING {
+            let mut padded = vec![Complex::new(0.0, 0.0); g];
+            for m in 0..=top {
+                padded[m] = spectrum(m, false);
+                if m > 0 {
+                    padded[g - m] = spectrum(m, true);
+                }
+            }
+            with_planner(|p| p.plan_fft_inverse(g)).process(&mut padded);
+            (vec![padded], 0)
+        } else {
+            (
+                interleaved_inverse(g, top, &spectrum),
+                TABLE_OVERSAMPLING.trailing_zeros(),
+            )
+        };
         InterpolantTable {
-            values: spectrum.iter().map(|z| (z.re, z.im)).collect(),
+            parts,
+            shift,
+            nodes: g,
             step: TAU / g as f64,
             weights: stencil_weights(),
         }
     }
 
+    /// R + iR′ at node j (0 ≤ j < G).
+    fn node(&self, j: usize) -> Complex<f64> {
+        self.parts[j & ((1 << self.shift) - 1)][j >> self.shift]
+    }
+
     /// [R(ψ), R′(ψ)] of the interpolant.
     pub fn radius_slope(&self, psi: f64) -> [f64; 2] {
-        let g = self.values.len();
+        let g = self.nodes;
         let t = psi.rem_euclid(TAU) / self.step;
         let j0 = t.floor();
         let s = t - j0;
         // Nodes j0 − 7, …, j0 + 8 at positions 0, …, 15; ψ sits at position 7 + s, s in [0, 1).
         let centre = STENCIL / 2 - 1;
         let first = (j0 as usize % g + g - centre) % g;
+        let wrapped = |j: usize| if j >= g { j - g } else { j };
         if s == 0.0 {
-            let (r, dr) = self.values[(first + centre) % g];
-            return [r, dr];
+            let z = self.node(wrapped(first + centre));
+            return [z.re, z.im];
         }
         let (mut num_r, mut num_dr, mut den) = (0.0, 0.0, 0.0);
         for (k, w) in self.weights.iter().enumerate() {
-            let (r, dr) = self.values[(first + k) % g];
+            let z = self.node(wrapped(first + k));
+            let (r, dr) = (z.re, z.im);
             // s − (k − 7), exact and non-zero for s in (0, 1).
             let c = w / (s - (k as f64 - centre as f64));
             num_r += c * r;
@@ -332,5 +478,58 @@ impl InterpolantTable {
     /// R(ψ) of the interpolant.
     pub fn radius(&self, psi: f64) -> f64 {
         self.radius_slope(psi)[0]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// R(ψ) = 5 + 0.3 cos 3ψ + 0.1 sin 7ψ + 10⁻³ cos 4000ψ and its first two derivatives.
+    fn exact(psi: f64) -> [f64; 3] {
+        let (c3, s7, c4k) = ((3.0 * psi).cos(), (7.0 * psi).sin(), (4000.0 * psi).cos());
+        let (s3, c7, s4k) = ((3.0 * psi).sin(), (7.0 * psi).cos(), (4000.0 * psi).sin());
+        [
+            5.0 + 0.3 * c3 + 0.1 * s7 + 1e-3 * c4k,
+            -0.9 * s3 + 0.7 * c7 - 4.0 * s4k,
+            -2.7 * c3 - 4.9 * s7 - 1.6e4 * c4k,
+        ]
+    }
+
+    /// The split transforms (a curve of more than FFT_SPLIT_MIN samples, a series of more
+    /// than SUM_CHUNK terms, a table of more than FFT_SPLIT_MIN points) give the trigonometric
+    /// polynomial sampled: its coefficients, values and derivatives (closed forms above).
+    #[test]
+    fn split_transforms_reproduce_a_trigonometric_polynomial() {
+        for n in [20_000usize, 20_001] {
+            let curve = CriticalCurve::from_polar([0.1, -0.2], n, |p| exact(p)[0]);
+            let interp = curve.interpolant();
+            assert!(interp.coefficients().len() > SUM_CHUNK);
+            assert!((interp.mean() - 5.0).abs() < 1e-14);
+            for (i, &(a, b)) in interp.coefficients().iter().enumerate() {
+                let expected = match i + 1 {
+                    3 => (0.3, 0.0),
+                    7 => (0.0, 0.1),
+                    4000 => (1e-3, 0.0),
+                    _ => (0.0, 0.0),
+                };
+                assert!(
+                    (a - expected.0).abs() < 1e-14 && (b - expected.1).abs() < 1e-14,
+                    "n = {n}, m = {}: ({a}, {b})",
+                    i + 1
+                );
+            }
+            let table = interp.table();
+            for psi in [0.0, 1e-4, 0.7, 2.0, 3.3, 6.2] {
+                let [r, dr, ddr] = interp.radius_derivatives(psi);
+                let [er, edr, eddr] = exact(psi);
+                assert!((r - er).abs() < 1e-12, "{psi}: {r} vs {er}");
+                assert!((dr - edr).abs() < 1e-9, "{psi}: {dr} vs {edr}");
+                assert!((ddr - eddr).abs() < 1e-5, "{psi}: {ddr} vs {eddr}");
+                let [tr, tdr] = table.radius_slope(psi);
+                assert!((tr - er).abs() < 1e-12, "{psi}: table {tr} vs {er}");
+                assert!((tdr - edr).abs() < 1e-9, "{psi}: table {tdr} vs {edr}");
+            }
+        }
     }
 }

@@ -87,6 +87,9 @@ use std::sync::atomic::Ordering;
 /// made the Kerr–Newman bound of docs/performance.md 10 % slower), while a curve of many
 /// points runs on every thread.
 const ANGLES_PER_TASK: usize = 64;
+/// Most angles per parallel task: with fewer, larger tasks (rayon splits a range a few times
+/// only, unless work is stolen), uneven costs left one thread idle for ~10 % of a long curve.
+const MAX_ANGLES_PER_TASK: usize = 8 * ANGLES_PER_TASK;
 
 /// The solver's name on the command line and in results.
 pub const NAME: &str = "separable";
@@ -1083,31 +1086,39 @@ impl<'a> Problem<'a> {
             }
             Ok(crossings)
         };
-        let per_angle: Vec<Result<Vec<(f64, f64)>, ShadowError>> = (0..n / 2 + 1)
+        // Per angle: the outermost crossing (radius, s), and every crossing's radius where
+        // there are several (reduced in the parallel loop: the sequential one only copies).
+        type AtAngle = ((f64, f64), Option<Vec<f64>>);
+        let per_angle: Vec<Result<AtAngle, ShadowError>> = (0..n / 2 + 1)
             .into_par_iter()
             .with_min_len(ANGLES_PER_TASK)
-            .map(|k| crossings_at(TAU * k as f64 / n as f64))
+            .with_max_len(MAX_ANGLES_PER_TASK)
+            .map(|k| {
+                let target = TAU * k as f64 / n as f64;
+                let crossings = crossings_at(target)?;
+                let Some(outer) = crossings
+                    .iter()
+                    .copied()
+                    .reduce(|a, b| if b.0 > a.0 { b } else { a })
+                else {
+                    return Err(not_converged(format!(
+                        "no curve point at screen angle {target}: the origin lies outside the curve"
+                    )));
+                };
+                let several =
+                    (crossings.len() > 1).then(|| crossings.iter().map(|c| c.0).collect());
+                Ok((outer, several))
+            })
             .collect();
         let mut radii = vec![0.0; n];
         let mut orbit_s = vec![f64::NAN; n];
         let mut extra_crossings = Vec::new();
-        for (k, crossings) in per_angle.into_iter().enumerate() {
-            let crossings = crossings?;
-            let target = TAU * k as f64 / n as f64;
-            let Some((outer, outer_s)) =
-                crossings
-                    .iter()
-                    .copied()
-                    .reduce(|a, b| if b.0 > a.0 { b } else { a })
-            else {
-                return Err(not_converged(format!(
-                    "no curve point at screen angle {target}: the origin lies outside the curve"
-                )));
-            };
+        for (k, at_angle) in per_angle.into_iter().enumerate() {
+            let ((outer, outer_s), several) = at_angle?;
             radii[k] = outer;
             orbit_s[k] = outer_s;
-            if crossings.len() > 1 {
-                extra_crossings.push((target, crossings.iter().map(|c| c.0).collect()));
+            if let Some(all) = several {
+                extra_crossings.push((TAU * k as f64 / n as f64, all));
             }
         }
         for k in n / 2 + 1..n {
@@ -1148,29 +1159,30 @@ impl<'a> Problem<'a> {
         let nodes: Vec<f64> = (0..=GAMMA_NODES)
             .map(|j| PI * j as f64 / GAMMA_NODES as f64)
             .collect();
-        let mut values = Vec::with_capacity(nodes.len());
-        for &u in &nodes {
-            values.push(gamma(u)?);
-        }
-        let mut range = [f64::INFINITY, f64::NEG_INFINITY];
-        for (slot, sign) in range.iter_mut().zip([1.0, -1.0]) {
+        // The nodes in parallel (the first failure in node order is the one reported), then
+        // the minimum and the maximum refined at once.
+        let values: Vec<f64> = nodes
+            .par_iter()
+            .map(|&u| gamma(u))
+            .collect::<Result<_, _>>()?;
+        let extremum = |sign: f64| -> Result<f64, ShadowError> {
             // Minimise sign·γ.
             let i = (0..nodes.len())
                 .min_by(|&i, &j| (sign * values[i]).total_cmp(&(sign * values[j])))
                 .unwrap_or(0);
-            *slot = if i == 0 || i == GAMMA_NODES {
-                values[i]
-            } else {
-                let f = |u: f64| gamma(u).map(|g| sign * g);
-                let bracket = [
-                    (nodes[i - 1], sign * values[i - 1]),
-                    (nodes[i], sign * values[i]),
-                    (nodes[i + 1], sign * values[i + 1]),
-                ];
-                sign * parabolic_min(&f, bracket)?
-            };
-        }
-        Ok((range[0], range[1]))
+            if i == 0 || i == GAMMA_NODES {
+                return Ok(values[i]);
+            }
+            let f = |u: f64| gamma(u).map(|g| sign * g);
+            let bracket = [
+                (nodes[i - 1], sign * values[i - 1]),
+                (nodes[i], sign * values[i]),
+                (nodes[i + 1], sign * values[i + 1]),
+            ];
+            Ok(sign * parabolic_min(&f, bracket)?)
+        };
+        let (min, max) = rayon::join(|| extremum(1.0), || extremum(-1.0));
+        Ok((min?, max?))
     }
 
     /// Each curve point's photon orbit: its radius, and its γ when the exponents are wanted
@@ -1188,6 +1200,7 @@ impl<'a> Problem<'a> {
         (0..n)
             .into_par_iter()
             .with_min_len(ANGLES_PER_TASK)
+            .with_max_len(MAX_ANGLES_PER_TASK)
             .map(|k| {
                 let s = sampled.orbit_s.get(k).copied().unwrap_or(f64::NAN);
                 let o = orbit_at(s).ok()?;
@@ -1203,20 +1216,30 @@ impl<'a> Problem<'a> {
 
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
         // The curve does not depend on γ: `None`, with the reason, if any evaluation fails.
-        let (range, undefined) = if !self.with_exponents {
-            (None, None)
-        } else {
-            match self.gamma_range(&sampled.gamma_source) {
-                Ok(r) => (Some(r), None),
-                Err(e) => (None, Some(format!("photon-ring exponent undefined: {e}"))),
-            }
+        // γ's range and the points' orbits at once: each point's γ is kept only if the range
+        // is defined.
+        let (gamma_range, mut orbits) = rayon::join(
+            || {
+                self.with_exponents
+                    .then(|| self.gamma_range(&sampled.gamma_source))
+            },
+            || self.point_orbits(&sampled, self.with_exponents),
+        );
+        let (range, undefined) = match gamma_range {
+            None => (None, None),
+            Some(Ok(r)) => (Some(r), None),
+            Some(Err(e)) => (None, Some(format!("photon-ring exponent undefined: {e}"))),
         };
+        if range.is_none() {
+            for o in orbits.iter_mut().flatten() {
+                o.gamma = None;
+            }
+        }
         let exponents = range.map(|(lo, hi)| RingExponents {
             lyapunov: None,
             gamma_min: lo,
             gamma_max: hi,
         });
-        let orbits = self.point_orbits(&sampled, exponents.is_some());
         Ok(ShadowResult {
             solver: NAME,
             status: ShadowStatus::Shadow,
