@@ -22,15 +22,15 @@
 pub mod resolved;
 
 use crate::metric::Spacetime;
+use crate::numerics::compensated_sums;
 use crate::numerics::{safeguarded_newton, NewtonEval};
 use crate::shadow::curve::{InterpolantTable, TrigInterpolant};
-// Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
-use crate::numerics::compensated_sums;
 use crate::shadow::observer::celestial_curve;
 use crate::shadow::{
     CriticalCurve, Diagnostics, Observer, PhotonSphere, RingExponents, ShadowError, ShadowResult,
     ShadowSettings, ShadowStatus,
 };
+// Kahan–Babuška–Neumaier summation: the sums over 10⁵ samples keep full precision.
 use compensated_summation::KahanBabuskaNeumaier as Compensated;
 use rayon::prelude::*;
 use serde::Serialize;
@@ -382,17 +382,18 @@ pub fn radii_about(
         .validate(MIN_POINTS)
         .map_err(ObservablesError::BadCurve)?;
     // R and R′ between samples in O(1) each, so the whole is O(N log N + samples).
-    let samples_ab = curve.alpha_beta();
+    let alpha_beta = curve.alpha_beta();
     radii_about_with(
         curve,
-        &samples_ab,
+        &alpha_beta,
         &curve.interpolant().table(),
         centre,
         samples,
     )
 }
 
-/// [`radii_about`] with the curve's interpolant table already built (a validated curve).
+/// [`radii_about`] with the curve's sample points (α_k, β_k) and interpolant table already
+/// built (a validated curve).
 fn radii_about_with(
     curve: &CriticalCurve,
     (alphas, betas): &(Vec<f64>, Vec<f64>),
@@ -496,7 +497,7 @@ fn unwrapped_angles(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<V
         angles.push(angle);
     }
     let closing = angles[n - 1] + {
-        let raw = (betas[0] - centre[1]).atan2(alphas[0] - centre[0]);
+        let raw = raws[0];
         let mut d = raw - angles[n - 1];
         while d <= -PI {
             d += TAU;

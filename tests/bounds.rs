@@ -6,7 +6,7 @@ use umbral::bounds::nuisance::{
     extremes, Aggregate, Extremes, NuisanceSearch, PointModel, PointValue,
 };
 use umbral::bounds::{
-    bound, bound_on, BoundRequest, BoundSettings, Evaluate, Halted, Inclination, Node,
+    bound, bound_on, BoundError, BoundRequest, BoundSettings, Evaluate, Halted, Inclination, Node,
     ParameterRange, SizeMeasure,
 };
 use umbral::measurement::{DerivedRadii, Measurement, RadiusInterval};
@@ -973,4 +973,88 @@ fn a_failure_inside_a_nuisance_minimisation_stops_it() {
         1,
         "{asked:?}"
     );
+}
+
+/// Records each "bound ends" batch; answers with `curved_size`, and halts at batch `halt_at`
+/// (counted from 1) if set.
+struct EndBatches {
+    batches: Vec<Vec<f64>>,
+    halt_at: Option<usize>,
+}
+
+impl Evaluate for EndBatches {
+    fn evaluate(
+        &mut self,
+        stage: &str,
+        xs: &[f64],
+        full: bool,
+        _node: &(dyn Fn(f64) -> Node + Sync),
+    ) -> Result<Vec<Node>, Halted> {
+        if stage == "bound ends" {
+            self.batches.push(xs.to_vec());
+            if Some(self.batches.len()) == self.halt_at {
+                return Err(Halted);
+            }
+        }
+        Ok(xs
+            .iter()
+            .map(|&x| Node {
+                x,
+                value: curved_size(x),
+                full,
+            })
+            .collect())
+    }
+
+    fn finish(&mut self) -> Result<(), Halted> {
+        Ok(())
+    }
+}
+
+/// A prediction of size 5 + 0.2 x + 0.05 x² (no nuisance spread: Brent's method needs a few
+/// rounds for its ends).
+fn curved_size(x: f64) -> Aggregate {
+    let Aggregate::Ok(mut e) = linear_size(x) else {
+        unreachable!()
+    };
+    e.size_min += 0.05 * x * x;
+    e.size_max = e.size_min;
+    Aggregate::Ok(e)
+}
+
+/// The four bound ends of two levels (the size 5 + 0.2 x + 0.05 x² crosses 5.021, 5.051,
+/// 5.149 and 5.179 between grid values) are searched in lockstep: every round of Brent steps is one batch
+/// with a value of each search still running, and the ends are the exact crossings. A halt
+/// in the second round stops the bound there, with nothing more asked.
+#[test]
+fn bound_ends_are_searched_in_lockstep_and_a_halt_stops_them() {
+    let r = synthetic_request(&[(0.68, 5.051, 5.149), (0.95, 5.021, 5.179)]);
+    let mut eval = EndBatches {
+        batches: Vec::new(),
+        halt_at: None,
+    };
+    let result = bound_on(&r, &mut eval).unwrap();
+    assert_eq!(eval.batches[0].len(), 4, "{:?}", eval.batches);
+    assert!(eval.batches.len() >= 3, "{:?}", eval.batches);
+    assert!(eval.batches.iter().all(|b| !b.is_empty() && b.len() <= 4));
+    let allowed: Vec<Vec<[f64; 2]>> = result.levels.iter().map(|l| l.allowed.clone()).collect();
+    // Exact crossings x = (√(0.04 + 0.2 (s − 5)) − 0.2)/0.1, within the parameter tolerance
+    // (1e-8).
+    let x = |s: f64| ((0.04 + 0.2 * (s - 5.0)).sqrt() - 0.2) / 0.1;
+    let expected = [[x(5.051), x(5.149)], [x(5.021), x(5.179)]];
+    for (got, want) in allowed.iter().zip(expected) {
+        assert_eq!(got.len(), 1, "{allowed:?}");
+        assert!(
+            (got[0][0] - want[0]).abs() < 1e-8 && (got[0][1] - want[1]).abs() < 1e-8,
+            "{allowed:?}"
+        );
+    }
+
+    let mut halting = EndBatches {
+        batches: Vec::new(),
+        halt_at: Some(2),
+    };
+    let stopped = bound_on(&r, &mut halting);
+    assert!(matches!(stopped, Err(BoundError::Halted(_))), "{stopped:?}");
+    assert_eq!(halting.batches.len(), 2, "{:?}", halting.batches);
 }

@@ -681,11 +681,12 @@ fn refine_line(
             }
         }
     }
-    // A bracket flat to rounding: the parabola through its three values dips below the
-    // middle one by at most (d₋ + d₊)/8 for rises d₋, d₊ ≥ 0 to the neighbours, so for a
-    // function the grid resolves (what a local refinement assumes) Brent's method could gain
-    // only rounding noise, and it takes some forty steps chasing it (the size along the
-    // inclination at zero spin is such a line).
+    // A bracket flat to rounding: on equally spaced nodes (the grid's), the parabola through
+    // its three values dips below the middle one by at most (d₋ + d₊)/8 for rises d₋, d₊ ≥ 0
+    // to the neighbours, so for a function the grid resolves (what a local refinement
+    // assumes) Brent's method could gain only rounding noise, and it takes some forty steps
+    // chasing it (the size along the inclination at zero spin is such a line). Relative to
+    // the value, absolute (about 4e-15) for values below 1 such as a circularity near 0.
     let rounding = 16.0 * f64::EPSILON * f[k].abs().max(1.0);
     let flat = |i: usize| (f[i] - f[k]).abs() <= rounding;
     if interior && flat(k - 1) && flat(k + 1) {
@@ -770,8 +771,8 @@ mod tests {
     use std::sync::Mutex;
 
     /// A line whose bracket about the grid minimum is flat to rounding is not refined (no
-    /// solve); one a few units in the last place above it is, and Brent's method finds the
-    /// parabola's vertex.
+    /// solve); one whose neighbours rise by 40 units in the last place is, and a curved one is,
+    /// Brent's method finding the parabola's vertex.
     #[test]
     fn a_bracket_flat_to_rounding_is_not_refined() {
         let nodes: Vec<f64> = (0..7).map(|i| i as f64 / 6.0).collect();
@@ -786,6 +787,15 @@ mod tests {
         let best = refine_line(&nodes, &flat, &mut eval, &horizon, 1e-10, &backoff).unwrap();
         assert_eq!(best, (0.5, 5.0 - 8.9e-16));
         assert_eq!(solves, 0);
+        let ulps = 40.0 * f64::EPSILON * 5.0;
+        let barely = [5.1, 5.1, 5.0 + ulps, 5.0, 5.0 + ulps, 5.1, 5.1];
+        let mut solves = 0;
+        let mut eval = |_: f64| {
+            solves += 1;
+            Ok(5.0 + ulps)
+        };
+        refine_line(&nodes, &barely, &mut eval, &horizon, 1e-10, &backoff).unwrap();
+        assert!(solves > 0);
         // A parabola with its vertex off the grid, 9e-5 below the grid minimum.
         let curved = |t: f64| 5.0 + 0.036 * (t - 0.45) * (t - 0.45);
         let values: Vec<f64> = nodes.iter().map(|&t| curved(t)).collect();

@@ -9,7 +9,7 @@
 //! batches depend only on the searches, never on timing: a round holds exactly one request
 //! of every search still running, in the searches' order.
 
-use std::sync::mpsc;
+use std::sync::{mpsc, Mutex};
 
 /// What a search thread tells the coordinator.
 enum Message<X> {
@@ -35,15 +35,27 @@ impl<X> Drop for DoneOnDrop<X> {
 pub(crate) type LockstepSearch<'s, X, Y, R> =
     Box<dyn FnOnce(&mut dyn FnMut(X) -> Y) -> R + Send + 's>;
 
+/// The search in `slot`, taken out (each search runs once).
+fn take_search<'s, X, Y, R>(
+    slot: &Mutex<Option<LockstepSearch<'s, X, Y, R>>>,
+) -> LockstepSearch<'s, X, Y, R> {
+    slot.lock()
+        .unwrap_or_else(|e| e.into_inner())
+        .take()
+        .expect("each search runs once")
+}
+
 /// Run `searches` in lockstep, each round's requests evaluated by one call of `batch` (the
 /// values in the order of the searches that asked, one answer per value, in that order).
-/// Returns the searches' results in their order.
+/// Returns the searches' results in their order. A search whose thread cannot be started
+/// runs afterwards on the caller's thread, one value per batch (the same result: a search's
+/// answers depend only on its values).
 ///
 /// # Panics
 /// If a search panics (after the others finished), or if `batch` returns a different number
 /// of answers than values.
-pub(crate) fn in_lockstep<X, Y, R>(
-    searches: Vec<LockstepSearch<'_, X, Y, R>>,
+pub(crate) fn in_lockstep<'s, X, Y, R>(
+    searches: Vec<LockstepSearch<'s, X, Y, R>>,
     mut batch: impl FnMut(&[X]) -> Vec<Y>,
 ) -> Vec<R>
 where
@@ -52,16 +64,20 @@ where
     R: Send,
 {
     let count = searches.len();
+    // Each search is taken by its thread; one whose thread did not start stays here.
+    let slots: Vec<Mutex<Option<LockstepSearch<'s, X, Y, R>>>> =
+        searches.into_iter().map(|s| Mutex::new(Some(s))).collect();
     let (to_coordinator, inbox) = mpsc::channel::<Message<X>>();
     std::thread::scope(|scope| {
         let mut replies = Vec::with_capacity(count);
         let mut handles = Vec::with_capacity(count);
-        for (index, search) in searches.into_iter().enumerate() {
+        for (index, slot) in slots.iter().enumerate() {
             let (reply, answers) = mpsc::channel::<Y>();
             replies.push(reply);
             let to_coordinator = to_coordinator.clone();
-            handles.push(scope.spawn(move || {
+            let spawned = std::thread::Builder::new().spawn_scoped(scope, move || {
                 let done = DoneOnDrop { to_coordinator };
+                let search = take_search(slot);
                 let mut ask = |x: X| -> Y {
                     done.to_coordinator
                         .send(Message::Ask(index, x))
@@ -71,10 +87,11 @@ where
                         .expect("the coordinator answers every request of a running search")
                 };
                 search(&mut ask)
-            }));
+            });
+            handles.push(spawned.ok());
         }
         drop(to_coordinator);
-        let mut running = count;
+        let mut running = handles.iter().filter(|h| h.is_some()).count();
         let mut asked: Vec<Option<X>> = (0..count).map(|_| None).collect();
         let mut waiting = 0;
         while running > 0 {
@@ -86,7 +103,7 @@ where
                         waiting += 1;
                     }
                     Ok(Message::Done) => running -= 1,
-                    // Every search thread has ended.
+                    // Not reached: a search thread says Done before its sender is dropped.
                     Err(_) => running = waiting,
                 }
             }
@@ -108,9 +125,17 @@ where
         }
         handles
             .into_iter()
-            .map(|h| match h.join() {
-                Ok(r) => r,
-                Err(panic) => std::panic::resume_unwind(panic),
+            .zip(&slots)
+            .map(|(handle, slot)| match handle {
+                Some(h) => match h.join() {
+                    Ok(r) => r,
+                    Err(panic) => std::panic::resume_unwind(panic),
+                },
+                None => take_search(slot)(&mut |x: X| {
+                    let mut ys = batch(std::slice::from_ref(&x));
+                    assert_eq!(ys.len(), 1, "one answer per value asked for");
+                    ys.remove(0)
+                }),
             })
             .collect()
     })

@@ -313,6 +313,8 @@ impl TrigInterpolant {
 
 /// Grid refinement of [`InterpolantTable`] over the samples.
 const TABLE_OVERSAMPLING: usize = 4;
+// The interleaved table's twiddle powers and part indexing assume four parts.
+const _: () = assert!(TABLE_OVERSAMPLING == 4);
 /// Fewest grid points of an [`InterpolantTable`] (at least twice the Lagrange stencil).
 const TABLE_MIN_GRID: usize = 64;
 /// Points of the local Lagrange stencil of an [`InterpolantTable`].
@@ -323,7 +325,8 @@ const STENCIL: usize = 16;
 /// interpolation in barycentric form: O(N log N) to build, O(1) per evaluation.
 ///
 /// The grid values are exact samples of the interpolant: the coefficients, zero-padded to G
-/// and multiplied by (1 − im) so that R + iR′ comes out of one inverse FFT (`rustfft`). The
+/// and multiplied by (1 − im) so that R + iR′ comes out of one inverse FFT (`rustfft`; four
+/// interleaved ones of G/4 points, in parallel, for G ≥ 16384). The
 /// local interpolation error for a Fourier mode m is at most about 3e-6 (mh)¹⁶ times its
 /// amplitude, h = 2π/G (the Lagrange remainder on equispaced nodes, e.g. Trefethen 2019,
 /// Approximation Theory and Approximation Practice, ch. 5): with mh ≤ π/4 (every mode of the
@@ -334,6 +337,7 @@ pub struct InterpolantTable {
     /// R(ψ_j) + iR′(ψ_j) at ψ_j = j h, stored in 2^`shift` interleaved parts: node j is
     /// `parts[j mod 2^shift][j >> shift]`.
     parts: Vec<Vec<Complex<f64>>>,
+    /// log₂ of the number of parts (0: one array; 2: the four parts of a long table).
     shift: u32,
     /// G, the number of nodes.
     nodes: usize,
@@ -346,8 +350,9 @@ pub struct InterpolantTable {
 /// y_j = Σ_{|m| ≤ top} X_m e^{2πimj/G}, j = 0..G, for G = 4M with M ≥ 2·top: the samples
 /// j = 4p + q are y_{4p+q} = Σ_m (X_m w^{mq}) e^{2πimp/M}, w = e^{2πi/G}, so the four
 /// residues q are four inverse DFTs of M points of the twiddled spectrum folded mod M
-/// (decimation in time on the output; Cooley & Tukey 1965, Math. Comp. 19, 297), computed in
-/// parallel and returned as the parts q = 0..4. `spectrum(m, negative)` gives X_{±m}.
+/// (one radix-4 step of decimation in frequency: the output index split by its residue, the
+/// input folded; Cooley & Tukey 1965, Math. Comp. 19, 297), computed in parallel and returned
+/// as the parts q = 0..4. `spectrum(m, negative)` gives X_{±m}.
 fn interleaved_inverse(
     g: usize,
     top: usize,
@@ -418,7 +423,7 @@ impl InterpolantTable {
                 Complex::new(0.5 * a, -0.5 * b) * (1.0 - m)
             }
         };
-        let (parts, shift) = if g < FFT_SPLIT_MIN || 2 * top > g / TABLE_OVERSAMPLING {
+        let (parts, shift) = if g < FFT_SPLIT_MIN {
             let mut padded = vec![Complex::new(0.0, 0.0); g];
             for m in 0..=top {
                 padded[m] = spectrum(m, false);
@@ -530,6 +535,50 @@ mod tests {
                 assert!((tr - er).abs() < 1e-12, "{psi}: table {tr} vs {er}");
                 assert!((tdr - edr).abs() < 1e-9, "{psi}: table {tdr} vs {edr}");
             }
+        }
+    }
+
+    /// The four interleaved inverse DFTs equal the one zero-padded inverse DFT of G points,
+    /// for pseudo-random coefficients with a non-zero Nyquist term (the slot ±top share).
+    #[test]
+    fn interleaved_inverse_equals_the_padded_transform() {
+        let top = 2048;
+        let g = 8 * top;
+        assert!(g >= FFT_SPLIT_MIN);
+        // A fixed linear congruential sequence in [−0.5, 0.5).
+        let mut state = 12345u64;
+        let mut next = move || {
+            state = state
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (state >> 11) as f64 / (1u64 << 53) as f64 - 0.5
+        };
+        let mut spectrum_values = vec![(Complex::new(0.0, 0.0), Complex::new(0.0, 0.0)); top + 1];
+        for v in spectrum_values.iter_mut() {
+            *v = (Complex::new(next(), next()), Complex::new(next(), next()));
+        }
+        spectrum_values[0].1 = spectrum_values[0].0;
+        assert!(spectrum_values[top].0.norm() > 0.1 && spectrum_values[top].1.norm() > 0.1);
+        let spectrum = |m: usize, negative: bool| {
+            let (p, n) = spectrum_values[m];
+            if negative {
+                n
+            } else {
+                p
+            }
+        };
+        let parts = interleaved_inverse(g, top, &spectrum);
+        let mut padded = vec![Complex::new(0.0, 0.0); g];
+        for m in 0..=top {
+            padded[m] += spectrum(m, false);
+            if m > 0 {
+                padded[g - m] += spectrum(m, true);
+            }
+        }
+        FftPlanner::new().plan_fft_inverse(g).process(&mut padded);
+        for (j, z) in padded.iter().enumerate() {
+            let w = parts[j % 4][j / 4];
+            assert!((w - z).norm() < 1e-11, "node {j}: {w} vs {z}");
         }
     }
 }

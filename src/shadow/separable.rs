@@ -1161,10 +1161,8 @@ impl<'a> Problem<'a> {
             .collect();
         // The nodes in parallel (the first failure in node order is the one reported), then
         // the minimum and the maximum refined at once.
-        let values: Vec<f64> = nodes
-            .par_iter()
-            .map(|&u| gamma(u))
-            .collect::<Result<_, _>>()?;
+        let values: Vec<Result<f64, ShadowError>> = nodes.par_iter().map(|&u| gamma(u)).collect();
+        let values: Vec<f64> = values.into_iter().collect::<Result<_, _>>()?;
         let extremum = |sign: f64| -> Result<f64, ShadowError> {
             // Minimise sign·γ.
             let i = (0..nodes.len())
@@ -1215,9 +1213,9 @@ impl<'a> Problem<'a> {
     }
 
     fn finish(&self, sampled: Sampled, radii: [f64; 2]) -> Result<ShadowResult, ShadowError> {
-        // The curve does not depend on γ: `None`, with the reason, if any evaluation fails.
-        // γ's range and the points' orbits at once: each point's γ is kept only if the range
-        // is defined.
+        // γ's range and the points' orbits at once. The curve does not depend on γ: the range
+        // is `None`, with the reason, if any evaluation fails, and each point's γ is kept only
+        // if the range is defined.
         let (gamma_range, mut orbits) = rayon::join(
             || {
                 self.with_exponents
