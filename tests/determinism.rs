@@ -200,7 +200,35 @@ fn assert_deterministic_at(label: &str, args: &[&str], thread_counts: &[&str], t
 #[test]
 fn shadow_json_with_each_solver() {
     let base = ["shadow", "--json"];
-    let cases: [(&str, &[&str]); 5] = [
+    let cases: [(&str, &[&str]); 7] = [
+        // Long curves take the split transforms, sums and tasks of `shadow::curve` and the
+        // separable solver (20 000 points: more than 16 384).
+        (
+            "spherical-long",
+            &[
+                "--metric",
+                "reissner-nordstrom",
+                "--set",
+                "q=0.5",
+                "--inclination",
+                "30",
+                "--points",
+                "20000",
+            ],
+        ),
+        (
+            "separable-long",
+            &[
+                "--metric",
+                "kerr",
+                "--set",
+                "a=0.9",
+                "--inclination",
+                "60",
+                "--points",
+                "20000",
+            ],
+        ),
         (
             "spherical",
             &[
