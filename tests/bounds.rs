@@ -975,9 +975,10 @@ fn a_failure_inside_a_nuisance_minimisation_stops_it() {
     );
 }
 
-/// Records each "bound ends" batch; answers with `curved_size`, and halts at batch `halt_at`
-/// (counted from 1) if set.
+/// Records each "bound ends" batch and halts at batch `halt_at` (counted from 1) if set;
+/// `inner` answers.
 struct EndBatches {
+    inner: Synthetic,
     batches: Vec<Vec<f64>>,
     halt_at: Option<usize>,
 }
@@ -988,7 +989,7 @@ impl Evaluate for EndBatches {
         stage: &str,
         xs: &[f64],
         full: bool,
-        _node: &(dyn Fn(f64) -> Node + Sync),
+        node: &(dyn Fn(f64) -> Node + Sync),
     ) -> Result<Vec<Node>, Halted> {
         if stage == "bound ends" {
             self.batches.push(xs.to_vec());
@@ -996,14 +997,7 @@ impl Evaluate for EndBatches {
                 return Err(Halted);
             }
         }
-        Ok(xs
-            .iter()
-            .map(|&x| Node {
-                x,
-                value: curved_size(x),
-                full,
-            })
-            .collect())
+        self.inner.evaluate(stage, xs, full, node)
     }
 
     fn finish(&mut self) -> Result<(), Halted> {
@@ -1029,7 +1023,12 @@ fn curved_size(x: f64) -> Aggregate {
 #[test]
 fn bound_ends_are_searched_in_lockstep_and_a_halt_stops_them() {
     let r = synthetic_request(&[(0.68, 5.051, 5.149), (0.95, 5.021, 5.179)]);
+    let curved = || Synthetic {
+        model: curved_size,
+        asked: Vec::new(),
+    };
     let mut eval = EndBatches {
+        inner: curved(),
         batches: Vec::new(),
         halt_at: None,
     };
@@ -1051,6 +1050,7 @@ fn bound_ends_are_searched_in_lockstep_and_a_halt_stops_them() {
     }
 
     let mut halting = EndBatches {
+        inner: curved(),
         batches: Vec::new(),
         halt_at: Some(2),
     };
