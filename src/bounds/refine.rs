@@ -152,6 +152,8 @@ impl Search<'_, '_> {
     /// Roots of every margin that changes sign between adjacent Ok nodes, by Brent's method,
     /// the searches run in lockstep (each round's values evaluated as one parallel batch);
     /// a cell where the prediction changes category on the way is a failure of that cell.
+    /// Every search runs to its end; a stop of the evaluator comes first, then the first
+    /// search in cell order that did not converge.
     pub(super) fn bound_ends(&mut self, nodes: &[Node]) -> Result<Cells, BoundError> {
         let tol = self.prep.request.settings.parameter_tolerance;
         let count = margin_count(&self.levels, self.cmax);
