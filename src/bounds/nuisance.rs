@@ -771,8 +771,8 @@ mod tests {
     use std::sync::Mutex;
 
     /// A line whose bracket about the grid minimum is flat to rounding is not refined (no
-    /// solve); one whose neighbours rise by 40 units in the last place is, and a curved one is,
-    /// Brent's method finding the parabola's vertex.
+    /// solve); one whose neighbours rise by 40 ε·|f| (2.5 times the threshold) is, and a curved
+    /// one is, Brent's method finding the parabola's vertex.
     #[test]
     fn a_bracket_flat_to_rounding_is_not_refined() {
         let nodes: Vec<f64> = (0..7).map(|i| i as f64 / 6.0).collect();
