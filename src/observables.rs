@@ -300,16 +300,17 @@ struct Extreme {
 }
 
 /// The point of the interpolated curve that maximises `dir · P(ψ)`, refined by safeguarded
-/// Newton iteration on d/dψ (dir · P) = 0 around the best sample.
+/// Newton iteration on d/dψ (dir · P) = 0 around the best sample (the samples' (α_k, β_k)).
 fn extreme(
     interp: &TrigInterpolant,
-    samples: &[[f64; 2]],
+    (alphas, betas): &(Vec<f64>, Vec<f64>),
     dir: [f64; 2],
 ) -> Result<Extreme, ObservablesError> {
-    let n = samples.len();
+    let n = alphas.len();
+    let sample = |k: usize| [alphas[k], betas[k]];
     let project = |p: [f64; 2]| dir[0] * p[0] + dir[1] * p[1];
     let k = (0..n)
-        .max_by(|&i, &j| project(samples[i]).total_cmp(&project(samples[j])))
+        .max_by(|&i, &j| project(sample(i)).total_cmp(&project(sample(j))))
         .unwrap_or(0);
     let h = TAU / n as f64;
     let psi_k = h * k as f64;
@@ -325,14 +326,14 @@ fn extreme(
     let (g_lo, g_hi) = (derivatives(lo).0, derivatives(hi).0);
     if !(g_lo >= 0.0 && g_hi <= 0.0) {
         // No bracket on the interpolant (e.g. a flat edge with ripples): keep the best sample.
-        return Ok(Extreme { point: samples[k] });
+        return Ok(Extreme { point: sample(k) });
     }
     let finish = |psi: f64| {
         let point = interp.point(psi);
-        let point = if project(point) >= project(samples[k]) {
+        let point = if project(point) >= project(sample(k)) {
             point
         } else {
-            samples[k]
+            sample(k)
         };
         Ok(Extreme { point })
     };
@@ -756,13 +757,11 @@ impl Observables {
             .map_err(ObservablesError::BadCurve)?;
         let interp = curve.interpolant();
         let alpha_beta = curve.alpha_beta();
-        let (alphas, betas) = &alpha_beta;
-        let samples: Vec<[f64; 2]> = alphas.iter().zip(betas).map(|(&a, &b)| [a, b]).collect();
         // The four extremes in parallel (each sums the interpolant's series, O(N) per step).
         let directions = [[1.0, 0.0], [-1.0, 0.0], [0.0, 1.0], [0.0, -1.0]];
         let found: Vec<Result<Extreme, ObservablesError>> = directions
             .par_iter()
-            .map(|&dir| extreme(&interp, &samples, dir))
+            .map(|&dir| extreme(&interp, &alpha_beta, dir))
             .collect();
         let mut found = found.into_iter();
         let mut next = || -> Result<[f64; 2], ObservablesError> {
