@@ -36,6 +36,7 @@ use rayon::prelude::*;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::f64::consts::{PI, TAU};
+use std::sync::atomic::{AtomicBool, Ordering};
 
 /// Fewest samples a curve must have.
 pub const MIN_POINTS: usize = 4;
@@ -440,14 +441,26 @@ fn radii_about_with(
         }
         Ok(distance)
     };
-    // Each angle alone, in parallel chunks; the first failure in angle order is reported.
-    let distances: Vec<Result<f64, ObservablesError>> = (0..samples)
+    // Each angle alone, in parallel chunks. A failed angle is marked NaN (a distance is
+    // otherwise positive and finite) and the first in angle order is solved again for its
+    // error: the same error at any thread count, and no list of results to unpack.
+    let failed = AtomicBool::new(false);
+    let distances: Vec<f64> = (0..samples)
         .into_par_iter()
         .with_min_len(ANGLES_PER_TASK)
         .with_max_len(2 * ANGLES_PER_TASK)
-        .map(distance_at)
+        .map(|j| {
+            distance_at(j).unwrap_or_else(|_| {
+                failed.store(true, Ordering::Relaxed);
+                f64::NAN
+            })
+        })
         .collect();
-    distances.into_iter().collect()
+    if !failed.into_inner() {
+        return Ok(distances);
+    }
+    let first = distances.iter().position(|d| d.is_nan()).unwrap_or(0);
+    Err(distance_at(first).err().unwrap_or_else(not_star))
 }
 
 /// Angles per parallel task of [`radii_about`]: each takes well under a microsecond, so a task
@@ -456,13 +469,20 @@ const ANGLES_PER_TASK: usize = 2048;
 
 /// Polar angles of the curve's samples about `centre`, unwrapped, then the first plus 2π:
 /// `None` unless they increase by < π per step and by 2π once round (a star-shaped curve).
+///
+/// Unwrapping adds 2π·w_k to the raw angle (atan2) of sample k, w_k counting the steps
+/// j ≤ k where the raw angle falls by π or more (+1) or rises by more than π (−1): each step
+/// is then taken in (−π, π]. Every stage runs in parallel chunks.
 fn unwrapped_angles(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<Vec<f64>> {
     let n = alphas.len();
-    // The raw angles in parallel (NaN at the centre itself), unwrapped in order.
-    let raws: Vec<f64> = (0..n)
-        .into_par_iter()
-        .with_min_len(ANGLES_PER_TASK)
-        .with_max_len(2 * ANGLES_PER_TASK)
+    let chunked = |range: std::ops::Range<usize>| {
+        range
+            .into_par_iter()
+            .with_min_len(ANGLES_PER_TASK)
+            .with_max_len(2 * ANGLES_PER_TASK)
+    };
+    // The raw angles (NaN at the centre itself).
+    let raws: Vec<f64> = chunked(0..n)
         .map(|k| {
             let (x, y) = (alphas[k] - centre[0], betas[k] - centre[1]);
             if x == 0.0 && y == 0.0 {
@@ -472,34 +492,51 @@ fn unwrapped_angles(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<V
             }
         })
         .collect();
+    // The steps across the branch cut of atan2, in order: (k, ±1); a NaN anywhere, (k, NaN).
+    let wraps: Vec<(usize, f64)> = chunked(0..n)
+        .filter_map(|k| {
+            let step = if k == 0 { 0.0 } else { raws[k] - raws[k - 1] };
+            if raws[k].is_nan() {
+                Some((k, f64::NAN))
+            } else if step <= -PI {
+                Some((k, 1.0))
+            } else if step > PI {
+                Some((k, -1.0))
+            } else {
+                None
+            }
+        })
+        .collect();
+    if wraps.iter().any(|(_, dw)| dw.is_nan()) {
+        return None;
+    }
+    // w after each wrap (a handful at most for a curve that winds once).
+    let turns: Vec<f64> = wraps
+        .iter()
+        .scan(0.0, |w, &(_, dw)| {
+            *w += dw;
+            Some(*w)
+        })
+        .collect();
+    let unwrapped = |k: usize| match wraps.partition_point(|&(j, _)| j <= k) {
+        0 => raws[k],
+        i => raws[k] + TAU * turns[i - 1],
+    };
+    // The angles, each checked against the one before (recomputed, the same value).
+    let decreasing = AtomicBool::new(false);
     let mut angles = Vec::with_capacity(n + 1);
-    for &raw in &raws {
-        if raw.is_nan() {
-            return None;
+    angles.par_extend(chunked(0..n).map(|k| {
+        let angle = unwrapped(k);
+        if k > 0 && !(angle > unwrapped(k - 1)) {
+            decreasing.store(true, Ordering::Relaxed);
         }
-        let angle = match angles.last() {
-            None => raw,
-            Some(&prev) => {
-                let mut a = raw;
-                while a <= prev - PI {
-                    a += TAU;
-                }
-                while a > prev + PI {
-                    a -= TAU;
-                }
-                a
-            }
-        };
-        if let Some(&prev) = angles.last() {
-            if !(angle > prev) {
-                return None;
-            }
-        }
-        angles.push(angle);
+        angle
+    }));
+    if decreasing.into_inner() {
+        return None;
     }
     let closing = angles[n - 1] + {
-        let raw = raws[0];
-        let mut d = raw - angles[n - 1];
+        let mut d = raws[0] - angles[n - 1];
         while d <= -PI {
             d += TAU;
         }
@@ -1152,4 +1189,87 @@ pub fn shadow_report(
         orbits: result.orbits.clone(),
         diagnostics: result.diagnostics,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The unwrapping as a single pass (the definition): each raw angle moved by 2π until it
+    /// lies within π of the previous angle, and required to increase.
+    fn unwrapped_in_order(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<Vec<f64>> {
+        let mut angles: Vec<f64> = Vec::new();
+        for (&a, &b) in alphas.iter().zip(betas) {
+            let mut angle = (b - centre[1]).atan2(a - centre[0]);
+            if let Some(&prev) = angles.last() {
+                while angle <= prev - PI {
+                    angle += TAU;
+                }
+                while angle > prev + PI {
+                    angle -= TAU;
+                }
+                if !(angle > prev) {
+                    return None;
+                }
+            }
+            angles.push(angle);
+        }
+        Some(angles)
+    }
+
+    fn points(n: usize, point: impl Fn(f64) -> [f64; 2]) -> (Vec<f64>, Vec<f64>) {
+        (0..n)
+            .map(|k| {
+                let [a, b] = point(TAU * k as f64 / n as f64);
+                (a, b)
+            })
+            .unzip()
+    }
+
+    #[test]
+    fn parallel_unwrapping_equals_the_single_pass() {
+        // Long enough to be split in parallel chunks; the raw angles start near −π/2 and
+        // cross the branch cut of atan2 once, half-way.
+        for n in [64, 20_000] {
+            let (alphas, betas) = points(n, |t| {
+                let r = 5.0 + 0.3 * (3.0 * t).cos();
+                [r * (t - 1.5).cos(), r * (t - 1.5).sin()]
+            });
+            let centre = [0.2, -0.1];
+            let parallel = unwrapped_angles(&alphas, &betas, centre).unwrap();
+            let single = unwrapped_in_order(&alphas, &betas, centre).unwrap();
+            assert_eq!(parallel.len(), n + 1);
+            assert_eq!(&parallel[..n], &single[..]);
+            assert_eq!(parallel[n], parallel[0] + TAU);
+        }
+    }
+
+    #[test]
+    fn unwrapping_refuses_what_is_not_star_shaped() {
+        let n = 20_000;
+        // Twice round: the steps increase, but the total is 4π.
+        let (alphas, betas) = points(n, |t| [(2.0 * t).cos(), (2.0 * t).sin()]);
+        assert!(unwrapped_angles(&alphas, &betas, [0.0, 0.0]).is_none());
+        // One step back (sample 7000 swapped with 7001).
+        let (mut alphas, mut betas) = points(n, |t| [t.cos(), t.sin()]);
+        alphas.swap(7000, 7001);
+        betas.swap(7000, 7001);
+        assert!(unwrapped_angles(&alphas, &betas, [0.0, 0.0]).is_none());
+        assert!(unwrapped_in_order(&alphas, &betas, [0.0, 0.0]).is_none());
+        // A sample at the centre itself.
+        let (alphas, betas) = points(n, |t| [t.cos(), t.sin()]);
+        assert!(unwrapped_angles(&alphas, &betas, [alphas[12_345], betas[12_345]]).is_none());
+        // Round the other way.
+        let (alphas, betas) = points(n, |t| [t.cos(), -t.sin()]);
+        assert!(unwrapped_angles(&alphas, &betas, [0.0, 0.0]).is_none());
+    }
+
+    #[test]
+    fn the_first_bad_radius_is_reported_in_a_long_curve() {
+        let mut curve = CriticalCurve::circle([0.0, 0.0], 1.0, 20_000);
+        curve.radii[15_000] = -1.0;
+        curve.radii[9_001] = f64::NAN;
+        let problem = curve.validate(MIN_POINTS).unwrap_err();
+        assert!(problem.contains("radius 9001 is NaN"), "{problem}");
+    }
 }

@@ -4,8 +4,9 @@
 use crate::numerics::{compensated_sums, SUM_CHUNK, SUM_PART, SUM_PARTS_PER_TASK};
 use rayon::prelude::*;
 use rustfft::num_complex::Complex;
-use rustfft::FftPlanner;
+use rustfft::{FftDirection, FftPlanner};
 use serde::Serialize;
+use std::cell::RefCell;
 use std::f64::consts::TAU;
 
 /// A star-shaped closed curve: radii R_k at polar angles ψ_k = 2πk/N about `origin`,
@@ -23,7 +24,7 @@ impl CriticalCurve {
     pub fn circle(origin: [f64; 2], radius: f64, points: usize) -> Self {
         CriticalCurve {
             origin,
-            radii: vec![radius; points],
+            radii: filled(radius, points),
         }
     }
 
@@ -86,14 +87,16 @@ impl CriticalCurve {
         if !self.origin.iter().all(|x| x.is_finite()) {
             return Err(format!("curve origin {:?} is not finite", self.origin));
         }
-        if let Some((k, r)) = self
+        // In parallel chunks for a long curve; the first bad radius in order is reported.
+        if let Some(k) = self
             .radii
-            .iter()
-            .enumerate()
-            .find(|(_, r)| !(r.is_finite() && **r > 0.0))
+            .par_iter()
+            .with_min_len(PARALLEL_CHUNK)
+            .position_first(|r| !(r.is_finite() && *r > 0.0))
         {
             return Err(format!(
-                "curve radius {k} is {r}: radii must be finite and positive"
+                "curve radius {k} is {}: radii must be finite and positive",
+                self.radii[k]
             ));
         }
         Ok(())
@@ -143,16 +146,29 @@ const _: () = assert!(SUM_PART.is_multiple_of(RESEED));
 thread_local! {
     /// One FFT planner per thread: it keeps the plans (twiddle factors) of the sizes used, so
     /// the many equal-sized curves of a bound or scan are planned once.
-    static PLANNER: std::cell::RefCell<FftPlanner<f64>> = std::cell::RefCell::new(FftPlanner::new());
+    static PLANNER: RefCell<FftPlanner<f64>> = RefCell::new(FftPlanner::new());
 }
 
-fn with_planner<T>(f: impl FnOnce(&mut FftPlanner<f64>) -> T) -> T {
-    PLANNER.with(|p| f(&mut p.borrow_mut()))
+/// The FFT of `buffer` in place (`rustfft`; unnormalised, e^{∓2πimk/N} for `direction`
+/// forward or inverse), planned by the calling thread's planner.
+fn fft_in_place(direction: FftDirection, buffer: &mut [Complex<f64>]) {
+    PLANNER
+        .with(|p| p.borrow_mut().plan_fft(buffer.len(), direction))
+        .process(buffer);
 }
 
 /// Items per parallel task of the curve's per-sample loops (each item costs nanoseconds; at
 /// most twice as many, so that rayon splits a long loop finely enough to share it evenly).
 const PARALLEL_CHUNK: usize = 4096;
+
+/// `n` copies of `value`, written in parallel chunks for a long vector (the first writes
+/// to fresh memory are page faults, costly enough to share).
+pub(crate) fn filled<T: Clone + Send + Sync>(value: T, n: usize) -> Vec<T> {
+    rayon::iter::repeat_n(value, n)
+        .with_min_len(PARALLEL_CHUNK)
+        .with_max_len(2 * PARALLEL_CHUNK)
+        .collect()
+}
 
 /// Transforms of at least this many points are split in parallel parts (below, one `rustfft`
 /// call; the split depends on the size only, so results are the same at any thread count).
@@ -169,11 +185,11 @@ fn forward_dft(x: &[f64]) -> impl Fn(usize) -> Complex<f64> {
     };
     let (whole, halves) = if n % 2 == 1 || n < FFT_SPLIT_MIN {
         let mut whole = complex(&mut x.iter().copied());
-        with_planner(|p| p.plan_fft_forward(n)).process(&mut whole);
+        fft_in_place(FftDirection::Forward, &mut whole);
         (whole, None)
     } else {
         let transform = |mut v: Vec<Complex<f64>>| {
-            with_planner(|p| p.plan_fft_forward(n / 2)).process(&mut v);
+            fft_in_place(FftDirection::Forward, &mut v);
             v
         };
         let (even, odd) = rayon::join(
@@ -388,7 +404,7 @@ fn interleaved_inverse(
                     folded[quarter - m] += spectrum(m, true) * w.conj();
                 }
             }
-            with_planner(|p| p.plan_fft_inverse(quarter)).process(&mut folded);
+            fft_in_place(FftDirection::Inverse, &mut folded);
             folded
         })
         .collect()
@@ -431,7 +447,7 @@ impl InterpolantTable {
                     padded[g - m] = spectrum(m, true);
                 }
             }
-            with_planner(|p| p.plan_fft_inverse(g)).process(&mut padded);
+            fft_in_place(FftDirection::Inverse, &mut padded);
             (vec![padded], 0)
         } else {
             (

@@ -16,6 +16,7 @@
 // `!(x > 0.0)` is used on purpose: it also rejects NaN.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+use super::curve::filled;
 use super::exponents::spherical_exponents;
 use super::{
     structure_why, CriticalCurve, Diagnostics, Observer, PhotonSphere, ShadowError, ShadowResult,
@@ -488,20 +489,21 @@ pub fn solve(
     Ok(ShadowResult {
         solver: NAME,
         status: ShadowStatus::Shadow,
-        curve: Some(CriticalCurve {
-            origin: [0.0, 0.0],
-            radii: vec![screen_radius; settings.points],
-        }),
+        curve: Some(CriticalCurve::circle(
+            [0.0, 0.0],
+            screen_radius,
+            settings.points,
+        )),
         photon_orbit_radii: Some([capture.radius, capture.radius]),
         photon_spheres: analysis.spheres,
         // Every point of the circle comes from the photon sphere that bounds capture.
-        orbits: Some(vec![
+        orbits: Some(filled(
             super::CurveOrbit {
                 radius: capture.radius,
                 gamma: exponents.as_ref().map(|e| e.gamma_min),
-            };
-            settings.points
-        ]),
+            },
+            settings.points,
+        )),
         exponents,
         diagnostics: Diagnostics {
             exponents_undefined: undefined,
