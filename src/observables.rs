@@ -468,11 +468,14 @@ fn radii_about_with(
 const ANGLES_PER_TASK: usize = 2048;
 
 /// Polar angles of the curve's samples about `centre`, unwrapped, then the first plus 2π:
-/// `None` unless they increase by < π per step and by 2π once round (a star-shaped curve).
+/// `None` unless they increase by at most π per step and by 2π once round (a star-shaped
+/// curve).
 ///
 /// Unwrapping adds 2π·w_k to the raw angle (atan2) of sample k, w_k counting the steps
 /// j ≤ k where the raw angle falls by π or more (+1) or rises by more than π (−1): each step
-/// is then taken in (−π, π]. Every stage runs in parallel chunks.
+/// is then taken in (−π, π]. Every pass over the samples runs in parallel chunks. (A step
+/// within rounding of π, the centre on the chord between two samples, may be decided either
+/// way.)
 fn unwrapped_angles(alphas: &[f64], betas: &[f64], centre: [f64; 2]) -> Option<Vec<f64>> {
     let n = alphas.len();
     let chunked = |range: std::ops::Range<usize>| {
@@ -1265,11 +1268,37 @@ mod tests {
     }
 
     #[test]
-    fn the_first_bad_radius_is_reported_in_a_long_curve() {
+    fn unwrapping_starts_on_the_branch_cut() {
+        // The first sample on the negative α axis, seen from a centre at (0, −0): atan2 gives
+        // −π there, and every later angle is unwrapped from it.
+        for n in [64, 20_000] {
+            let (alphas, betas) = points(n, |t| {
+                [-(3.0 + t.cos()) * t.cos(), -(3.0 + t.cos()) * t.sin()]
+            });
+            let centre = [0.0, -0.0];
+            let parallel = unwrapped_angles(&alphas, &betas, centre).unwrap();
+            let single = unwrapped_in_order(&alphas, &betas, centre).unwrap();
+            assert_eq!(&parallel[..n], &single[..]);
+            assert!((parallel[0].abs() - PI).abs() < 1e-15);
+        }
+    }
+
+    #[test]
+    fn a_failed_distance_is_the_same_error_at_any_thread_count() {
+        // Star-shaped samples whose interpolant is not: one radius 400 times the others rings
+        // below zero between samples, so rays from the centre between the samples (30 011
+        // angles, not a multiple of the samples) do not meet it.
         let mut curve = CriticalCurve::circle([0.0, 0.0], 1.0, 20_000);
-        curve.radii[15_000] = -1.0;
-        curve.radii[9_001] = f64::NAN;
-        let problem = curve.validate(MIN_POINTS).unwrap_err();
-        assert!(problem.contains("radius 9001 is NaN"), "{problem}");
+        curve.radii[7_000] = 400.0;
+        let radii = |threads: usize| {
+            rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap()
+                .install(|| radii_about(&curve, [0.0, 0.0], 30_011))
+        };
+        let one = radii(1);
+        assert!(one.is_err(), "{one:?}");
+        assert_eq!(one, radii(2));
     }
 }

@@ -506,6 +506,16 @@ impl InterpolantTable {
 mod tests {
     use super::*;
 
+    #[test]
+    fn the_first_bad_radius_is_reported_in_a_long_curve() {
+        // Two bad radii in different parallel chunks: the first in order is named.
+        let mut curve = CriticalCurve::circle([0.0, 0.0], 1.0, 20_000);
+        curve.radii[15_000] = -1.0;
+        curve.radii[9_001] = f64::NAN;
+        let problem = curve.validate(4).unwrap_err();
+        assert!(problem.contains("radius 9001 is NaN"), "{problem}");
+    }
+
     /// R(ψ) = 5 + 0.3 cos 3ψ + 0.1 sin 7ψ + 10⁻³ cos 4000ψ and its first two derivatives.
     fn exact(psi: f64) -> [f64; 3] {
         let (c3, s7, c4k) = ((3.0 * psi).cos(), (7.0 * psi).sin(), (4000.0 * psi).cos());
