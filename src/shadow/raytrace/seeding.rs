@@ -33,8 +33,9 @@
 //! its own, so the result does not depend on the number of threads.
 
 use super::{LineBoundary, SideLaws};
-use rayon::prelude::*;
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::cmp::Reverse;
+use std::collections::BinaryHeap;
+use std::sync::{Mutex, MutexGuard, PoisonError};
 
 /// A line's predicted crossing (in M from the curve origin), the half-width of the first
 /// bracket to try around it, and the winding law to guide its refinement.
@@ -54,17 +55,25 @@ pub(crate) struct Seed {
 }
 
 /// Trace the first `traced` of `n` curve lines in levels (module docs; the numbers are in
-/// `layout`): `locate(k, seed)` finds line k's crossings, scanning it in full when `seed` is `None`, and `finish` then
-/// completes a line (its checks), which the predictions do not need: the lines of one level
-/// are finished while the next level is located. With `mirror`, line n − k is the mirror
-/// image of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around
-/// the curve, traces every line in full. `min_half_width` is the smallest first bracket.
+/// `layout`): `locate(k, seed)` finds line k's crossings, scanning it in full when `seed` is
+/// `None`, and `finish` then completes a line (its checks). `finish` must not change what the
+/// predictions read (a line's crossings, failure and winding law), so a line can be finished
+/// while the next level is predicted from it. With `mirror`, line n − k is the mirror image
+/// of line k (only k ≤ n/2 are traced). `every` ≤ 1, or fewer than four anchors around the
+/// curve, traces every line in full. `min_half_width` is the smallest first bracket.
+///
+/// The work is a queue of tasks, each taken by the next free thread, the most urgent first:
+/// the lines of a level are located, each is finished once located, and the next level's
+/// lines are predicted and queued once every line of the level is located. A level's lines
+/// come before its finishes, and those before the next level's lines: a thread with no line
+/// left to locate finishes lines instead of waiting at the end of a level, and on one thread
+/// the order is level by level, every line finished before the next level starts.
 ///
 /// With `refuses`, tracing stops after the first level whose finished lines include one that
-/// `refuses` (the caller knows the curve is then refused, whatever the other lines): the lines
-/// of the next level are not started once that is known, and those already located are
-/// dropped unfinished, so what is returned, the lines finished up to and including that
-/// level, does not depend on the number of threads either.
+/// `refuses` (the caller knows the curve is then refused, whatever the other lines): the tasks
+/// of later levels are not started once that is known, and lines of those levels already
+/// located are dropped unfinished, so what is returned, the lines of that level and the ones
+/// before, all finished, does not depend on the number of threads either.
 pub(crate) fn trace_in_levels<F, G>(
     layout: Layout,
     locate: F,
@@ -75,59 +84,234 @@ where
     F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
     G: Fn(&mut LineBoundary) + Sync,
 {
-    let Layout {
-        n,
-        traced,
-        mirror,
-        every,
-        min_half_width,
-    } = layout;
-    let seeding = every > 1 && n >= 4 * every;
-    let mut stride = if seeding { every } else { 1 };
-    let mut slots: Vec<Option<LineBoundary>> = vec![None; traced];
-    // Lines located but not yet finished.
-    let mut pending = vec![false; traced];
-    let refused = AtomicBool::new(false);
-    let finish = |line: &mut LineBoundary| {
-        finish(line);
-        if refuses.is_some_and(|r| r(line)) {
-            refused.store(true, Ordering::Relaxed);
+    let levels = level_lines(&layout);
+    if levels.is_empty() {
+        return Levels {
+            lines: Vec::new(),
+            complete: true,
+        };
+    }
+    let mut level_of = vec![0; layout.traced];
+    for (level, lines) in levels.iter().enumerate() {
+        for &k in lines {
+            level_of[k] = level;
         }
+    }
+    let queue = LineQueue {
+        layout,
+        levels,
+        level_of,
+        locate,
+        finish,
+        refuses,
+        state: Mutex::new(QueueState {
+            slots: vec![None; layout.traced],
+            seeds: vec![None; layout.traced],
+            finished: vec![false; layout.traced],
+            ready: BinaryHeap::new(),
+            unlocated: Vec::new(),
+            refused_level: None,
+        }),
     };
-    let locate =
-        |k: usize, seed: Option<Seed>| (!refused.load(Ordering::Relaxed)).then(|| locate(k, seed));
-    let anchors: Vec<(usize, Option<Seed>)> =
-        (0..traced).step_by(stride).map(|k| (k, None)).collect();
-    let located = locate_level(&anchors, &locate);
-    store(&mut slots, &mut pending, &anchors, located);
-    let star_shaped = anchors
+    rayon::scope(|scope| {
+        let tasks = {
+            let mut state = queue.lock();
+            state.unlocated = queue.levels.iter().map(Vec::len).collect();
+            for &k in &queue.levels[0] {
+                state.ready.push(Reverse(Task::locate(0, k)));
+            }
+            queue.levels[0].len()
+        };
+        queue.spawn(scope, tasks);
+    });
+    let state = queue
+        .state
+        .into_inner()
+        .unwrap_or_else(PoisonError::into_inner);
+    // Every line of the levels up to the refused one (all of them without a refusal).
+    let last = state.refused_level.unwrap_or(queue.levels.len() - 1);
+    let lines: Vec<LineBoundary> = state
+        .slots
+        .into_iter()
+        .zip(&queue.level_of)
+        .filter(|&(_, &level)| level <= last)
+        .map(|(slot, _)| slot.expect("every line of a level up to the last one is located"))
+        .collect();
+    debug_assert!(state
+        .finished
         .iter()
-        .all(|&(k, _)| slots[k].as_ref().is_some_and(single_crossing));
+        .zip(&queue.level_of)
+        .all(|(&done, &level)| done || level > last));
+    Levels {
+        lines,
+        complete: last + 1 == queue.levels.len(),
+    }
+}
+
+/// The lines of each level in order: the anchors (every `every`-th, or every line without
+/// seeding), then those of each halving stride, rounded down, not in a level before.
+fn level_lines(layout: &Layout) -> Vec<Vec<usize>> {
+    let seeding = layout.every > 1 && layout.n >= 4 * layout.every;
+    let mut stride = if seeding { layout.every } else { 1 };
+    let mut levels = vec![(0..layout.traced).step_by(stride).collect::<Vec<_>>()];
     while stride > 1 {
         stride /= 2;
-        let level: Vec<(usize, Option<Seed>)> = (0..traced)
-            .filter(|&k| k % stride == 0 && slots[k].is_none())
-            .map(|k| {
-                let seed = star_shaped
-                    .then(|| predict(&slots, k, n, mirror, 3 * every, min_half_width))
-                    .flatten();
-                (k, seed)
-            })
-            .collect();
-        let ((), located) = rayon::join(
-            || finish_pending(&mut slots, &mut pending, &finish),
-            || locate_level(&level, &locate),
+        levels.push(
+            (0..layout.traced)
+                .filter(|&k| k % stride == 0 && levels.iter().all(|l| l.binary_search(&k).is_err()))
+                .collect(),
         );
-        if refused.load(Ordering::Relaxed) {
-            return Levels::refused(slots, &pending);
-        }
-        store(&mut slots, &mut pending, &level, located);
     }
-    // The last level: every line is finished, whatever `refuses` says of them.
-    finish_pending(&mut slots, &mut pending, &finish);
-    Levels {
-        lines: slots.into_iter().flatten().collect(),
-        complete: true,
+    levels.retain(|l| !l.is_empty());
+    levels
+}
+
+/// One task of [`trace_in_levels`]: locate or finish a line. Ordered by urgency (smaller
+/// first): a level's lines (rank 2·level), then their finishes (2·level + 1), then the next
+/// level; within a rank, in line order.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+struct Task {
+    rank: usize,
+    line: usize,
+}
+
+impl Task {
+    fn locate(level: usize, line: usize) -> Task {
+        Task {
+            rank: 2 * level,
+            line,
+        }
+    }
+
+    fn finish(level: usize, line: usize) -> Task {
+        Task {
+            rank: 2 * level + 1,
+            line,
+        }
+    }
+
+    fn level(self) -> usize {
+        self.rank / 2
+    }
+
+    fn is_finish(self) -> bool {
+        self.rank % 2 == 1
+    }
+}
+
+/// What the threads of [`trace_in_levels`] share.
+struct QueueState {
+    /// Located lines (finished ones once finished).
+    slots: Vec<Option<LineBoundary>>,
+    /// Each seeded line's prediction, set when its level is queued.
+    seeds: Vec<Option<Seed>>,
+    finished: Vec<bool>,
+    /// Tasks ready to run, the most urgent first.
+    ready: BinaryHeap<Reverse<Task>>,
+    /// Lines of each level not located yet.
+    unlocated: Vec<usize>,
+    /// The lowest level with a finished line that `refuses`.
+    refused_level: Option<usize>,
+}
+
+/// The levels, the caller's closures and the shared state of [`trace_in_levels`].
+struct LineQueue<'a, F, G> {
+    layout: Layout,
+    levels: Vec<Vec<usize>>,
+    level_of: Vec<usize>,
+    locate: F,
+    finish: G,
+    refuses: Option<&'a (dyn Fn(&LineBoundary) -> bool + Sync)>,
+    state: Mutex<QueueState>,
+}
+
+impl<F, G> LineQueue<'_, F, G>
+where
+    F: Fn(usize, Option<Seed>) -> LineBoundary + Sync,
+    G: Fn(&mut LineBoundary) + Sync,
+{
+    fn lock(&self) -> MutexGuard<'_, QueueState> {
+        // The closures run outside the lock, so a panic in one cannot poison it half-updated.
+        self.state.lock().unwrap_or_else(PoisonError::into_inner)
+    }
+
+    /// Start `tasks` threads' worth of work: each spawned job runs the most urgent ready task
+    /// (one job per task queued, so every task is run or skipped).
+    fn spawn<'s>(&'s self, scope: &rayon::Scope<'s>, tasks: usize) {
+        for _ in 0..tasks {
+            scope.spawn(move |scope| self.run_next(scope));
+        }
+    }
+
+    fn run_next<'s>(&'s self, scope: &rayon::Scope<'s>) {
+        let (task, work) = {
+            let mut state = self.lock();
+            let Some(Reverse(task)) = state.ready.pop() else {
+                return;
+            };
+            // Nothing after a refused level is started.
+            if state
+                .refused_level
+                .is_some_and(|level| task.level() > level)
+            {
+                return;
+            }
+            let work = if task.is_finish() {
+                Err(state.slots[task.line].clone().expect("a located line"))
+            } else {
+                Ok(state.seeds[task.line])
+            };
+            (task, work)
+        };
+        let queued = match work {
+            Ok(seed) => self.located(task, (self.locate)(task.line, seed)),
+            Err(mut line) => {
+                (self.finish)(&mut line);
+                let refused = self.refuses.is_some_and(|r| r(&line));
+                let mut state = self.lock();
+                state.slots[task.line] = Some(line);
+                state.finished[task.line] = true;
+                if refused {
+                    let level = task.level();
+                    state.refused_level = Some(state.refused_level.map_or(level, |l| l.min(level)));
+                }
+                0
+            }
+        };
+        self.spawn(scope, queued);
+    }
+
+    /// Store a located line and queue its finish, and the next level once this one is
+    /// located; returns the number of tasks queued.
+    fn located(&self, task: Task, line: LineBoundary) -> usize {
+        let level = task.level();
+        let mut state = self.lock();
+        state.slots[task.line] = Some(line);
+        state.ready.push(Reverse(Task::finish(level, task.line)));
+        state.unlocated[level] -= 1;
+        if state.unlocated[level] > 0 || level + 1 == self.levels.len() {
+            return 1;
+        }
+        let Layout {
+            n,
+            mirror,
+            every,
+            min_half_width,
+            ..
+        } = self.layout;
+        // Seeding only while every anchor has exactly one crossing.
+        let star_shaped = self.levels[0]
+            .iter()
+            .all(|&k| state.slots[k].as_ref().is_some_and(single_crossing));
+        let next = &self.levels[level + 1];
+        for &k in next {
+            let seed = star_shaped
+                .then(|| predict(&state.slots, k, n, mirror, 3 * every, min_half_width))
+                .flatten();
+            state.seeds[k] = seed;
+            state.ready.push(Reverse(Task::locate(level + 1, k)));
+        }
+        1 + next.len()
     }
 }
 
@@ -162,60 +346,6 @@ pub(crate) struct Levels {
     pub lines: Vec<LineBoundary>,
     /// False when tracing stopped early at a line the caller refuses.
     pub complete: bool,
-}
-
-impl Levels {
-    /// The finished lines only (those located but still pending are dropped).
-    fn refused(slots: Vec<Option<LineBoundary>>, pending: &[bool]) -> Levels {
-        Levels {
-            lines: slots
-                .into_iter()
-                .zip(pending)
-                .filter_map(|(slot, &pending)| slot.filter(|_| !pending))
-                .collect(),
-            complete: false,
-        }
-    }
-}
-
-/// Locate the lines `ks` (each with its seed) in parallel; `None` for a line not located.
-fn locate_level<F>(ks: &[(usize, Option<Seed>)], locate: &F) -> Vec<Option<LineBoundary>>
-where
-    F: Fn(usize, Option<Seed>) -> Option<LineBoundary> + Sync,
-{
-    ks.par_iter().map(|&(k, seed)| locate(k, seed)).collect()
-}
-
-/// Put located lines into their slots, to be finished (a line not located, which happens
-/// only once tracing is stopped, is left out).
-fn store(
-    slots: &mut [Option<LineBoundary>],
-    pending: &mut [bool],
-    ks: &[(usize, Option<Seed>)],
-    located: Vec<Option<LineBoundary>>,
-) {
-    for (&(k, _), line) in ks.iter().zip(located) {
-        if let Some(line) = line {
-            slots[k] = Some(line);
-            pending[k] = true;
-        }
-    }
-}
-
-/// Finish every pending line, in parallel.
-fn finish_pending<G>(slots: &mut [Option<LineBoundary>], pending: &mut [bool], finish: &G)
-where
-    G: Fn(&mut LineBoundary) + Sync,
-{
-    slots
-        .par_iter_mut()
-        .zip(pending.par_iter_mut())
-        .for_each(|(slot, pending)| {
-            if let (true, Some(line)) = (*pending, slot.as_mut()) {
-                finish(line);
-            }
-            *pending = false;
-        });
 }
 
 /// A converged line with exactly one crossing.
@@ -308,6 +438,7 @@ fn lagrange(nodes: &[(f64, f64)], x: f64) -> f64 {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::sync::atomic::Ordering;
 
     /// 64 lines, every fourth an anchor, no mirror.
     const LAYOUT: Layout = Layout {
