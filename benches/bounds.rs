@@ -2,6 +2,11 @@
 //! levels under 50 ms; Kerr-Newman varying q with spin as nuisance over [0, 0.99] at fixed
 //! inclination under 2 s; a 40 x 40 scan of a separable rotating metric under 10 s on 2 cores.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 use std::time::Duration;

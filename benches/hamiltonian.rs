@@ -4,6 +4,11 @@
 //!
 //! Goal (see docs/performance.md): the dual-number path within 3x of the hand-written one.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use num_dual::{Dual64, HyperDual64};
 use std::hint::black_box;

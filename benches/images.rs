@@ -3,6 +3,11 @@
 //! n = 2, under 5 s; a calibration over the eight built-in models at one inclination (Kerr
 //! a = 0.6, 25°, 128 × 128 pixels, 10 μas beam at θ_g = 2.9134 μas) under a minute.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::collections::BTreeMap;
 use std::hint::black_box;

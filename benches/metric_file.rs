@@ -7,6 +7,11 @@
 //! Also a whole ray-traced critical curve (Kerr a = 0.9 seen at 60 degrees, 16 angles) from
 //! the file-defined and the built-in Kerr, with the same goal: within 4x.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 use std::path::Path;

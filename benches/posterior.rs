@@ -4,6 +4,11 @@
 //! 4 x (2d + 2) x steps of them), and the whole 1-D Reissner-Nordstrom posterior by the
 //! ensemble sampler and by quadrature (about 100 evaluations, 20000 draws).
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 use std::time::Duration;

@@ -4,6 +4,11 @@
 //! of the solve on the global pool and on a 1-thread pool, a summary line reports rays per
 //! second, integrator steps per ray and the 1 → 2 thread speed-up.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use rayon::ThreadPoolBuilder;
 use std::hint::black_box;

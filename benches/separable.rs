@@ -5,6 +5,11 @@
 //! 100 000-point cases also on a 1-thread pool, for the parallel speed-up (goal: at least
 //! 1.8 on 2 cores).
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use std::hint::black_box;
 use std::time::Duration;

@@ -7,6 +7,11 @@
 //! 1e-8 M; goal 0.7 ms per angle) is `benches/raytrace.rs`; 100 000-point curves are in
 //! `benches/separable.rs`.
 
+// Run with the allocator the command-line tool ships with (src/main.rs).
+#[cfg(feature = "cli")]
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use criterion::{criterion_group, criterion_main, Criterion};
 use rayon::ThreadPoolBuilder;
 use std::hint::black_box;

@@ -2,6 +2,11 @@
 
 mod cli;
 
+/// mimalloc instead of the system allocator: the parallel loops allocate on rayon's threads,
+/// where glibc's per-thread arenas took more page faults and lock waits (docs/performance.md).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use std::io::Write;
 use std::process::ExitCode;
 

@@ -12,6 +12,11 @@ mod interrupt;
 mod metric;
 mod scan;
 
+/// The command-line tool's allocator, mimalloc, for the library's parallel loops (see
+/// `src/main.rs` of the library).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use pyo3::prelude::*;
 
 #[pymodule]
