@@ -703,6 +703,90 @@ mod tests {
         }
     }
 
+    /// On one thread the queue runs level by level: a level's lines, then their checks, then
+    /// the next level.
+    #[test]
+    fn on_one_thread_each_level_is_located_then_finished_before_the_next() {
+        let n = 64;
+        let events = std::sync::Mutex::new(Vec::new());
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(1)
+            .build()
+            .unwrap();
+        let levels = pool.install(|| {
+            trace_in_levels(
+                LAYOUT,
+                |k, _| {
+                    events.lock().unwrap().push((k, false));
+                    line(k, n, curve(k as f64, n))
+                },
+                |l| {
+                    let k = (l.psi * n as f64 / std::f64::consts::TAU).round() as usize;
+                    events.lock().unwrap().push((k, true));
+                },
+                None,
+            )
+        });
+        assert!(levels.complete);
+        // The level of line k with anchors every 4th: 0 (k ≡ 0 mod 4), 1 (k ≡ 2), 2 (odd).
+        let level = |k: usize| match k % 4 {
+            0 => 0,
+            2 => 1,
+            _ => 2,
+        };
+        let ranks: Vec<usize> = events
+            .into_inner()
+            .unwrap()
+            .iter()
+            .map(|&(k, finished)| 2 * level(k) + usize::from(finished))
+            .collect();
+        assert_eq!(ranks.len(), 2 * n);
+        assert!(ranks.windows(2).all(|w| w[0] <= w[1]), "{ranks:?}");
+    }
+
+    /// On two threads, while one thread is held on a line, the other finishes the lines of
+    /// that level already located instead of waiting for the level to end. The held line
+    /// waits (at most 60 s) until every other anchor is finished; the old level-by-level
+    /// order never finished them before the level ended.
+    #[test]
+    fn a_thread_left_without_a_line_to_locate_finishes_lines() {
+        let n = 64;
+        let anchors = n / 4;
+        let finished = std::sync::Mutex::new(0usize);
+        let all_others = std::sync::Condvar::new();
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(2)
+            .build()
+            .unwrap();
+        let levels = pool.install(|| {
+            trace_in_levels(
+                LAYOUT,
+                |k, _| {
+                    if k == 0 {
+                        let done = finished.lock().unwrap();
+                        let (done, _) = all_others
+                            .wait_timeout_while(done, std::time::Duration::from_secs(60), |d| {
+                                *d < anchors - 1
+                            })
+                            .unwrap();
+                        assert_eq!(*done, anchors - 1, "the other anchors were not finished");
+                    }
+                    line(k, n, curve(k as f64, n))
+                },
+                |l| {
+                    // Anchors other than line 0 (no other line is located before line 0 is).
+                    if l.psi > 0.0 {
+                        *finished.lock().unwrap() += 1;
+                        all_others.notify_all();
+                    }
+                },
+                None,
+            )
+        });
+        assert!(levels.complete);
+        assert_eq!(levels.lines.len(), n);
+    }
+
     /// The anchor spacing, and every line traced once for counts of angles that are not
     /// powers of two, with and without the mirror, the anchors at most `max_anchors`.
     #[test]
