@@ -29,11 +29,10 @@ fn scratch(name: &str) -> PathBuf {
 fn command(args: &[&str]) -> Command {
     use std::os::unix::process::CommandExt;
     let mut c = Command::new(env!("CARGO_BIN_EXE_umbral"));
-    // Few threads and malloc arenas, so the limit bounds the data and not the machine's size.
+    // Few threads, so the limit bounds the data and not the machine's size.
     c.args(args)
         .stdin(Stdio::null())
-        .env("RAYON_NUM_THREADS", "2")
-        .env("MALLOC_ARENA_MAX", "2");
+        .env("RAYON_NUM_THREADS", "2");
     // SAFETY: only setrlimit, async-signal-safe, between fork and exec.
     unsafe {
         c.pre_exec(|| {

@@ -12,8 +12,8 @@ mod interrupt;
 mod metric;
 mod scan;
 
-/// The command-line tool's allocator, mimalloc, for the library's parallel loops (see
-/// `src/main.rs` of the library).
+/// The command-line tool's allocator, mimalloc, for the library's parallel loops (see the
+/// command-line tool's `src/main.rs`).
 #[global_allocator]
 static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 

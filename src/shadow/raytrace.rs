@@ -2541,7 +2541,7 @@ pub fn trace_curve(
 /// finished line refuses the curve (a line that did not converge, or, with a horizon, one
 /// whose boundary is not, or could not be checked to be, formed by photon orbits:
 /// [`RaytraceReport::into_result`] then fails whatever the other lines give), and the report
-/// holds the lines finished by then (`RaytraceReport::stopped_early`).
+/// holds the lines of that level and the ones before (`RaytraceReport::stopped_early`).
 fn trace_lines(
     spacetime: &dyn Spacetime,
     observer: &Observer,

@@ -72,8 +72,8 @@ pub(crate) struct Seed {
 /// With `refuses`, tracing stops after the first level whose finished lines include one that
 /// `refuses` (the caller knows the curve is then refused, whatever the other lines): the tasks
 /// of later levels are not started once that is known, and lines of those levels already
-/// located are dropped unfinished, so what is returned, the lines of that level and the ones
-/// before, all finished, does not depend on the number of threads either.
+/// located are dropped, finished or not, so what is returned, the lines of that level and the
+/// ones before, all finished, does not depend on the number of threads either.
 pub(crate) fn trace_in_levels<F, G>(
     layout: Layout,
     locate: F,
@@ -235,8 +235,8 @@ where
         self.state.lock().unwrap_or_else(PoisonError::into_inner)
     }
 
-    /// Start `tasks` threads' worth of work: each spawned job runs the most urgent ready task
-    /// (one job per task queued, so every task is run or skipped).
+    /// Spawn one job per task queued: each runs the most urgent ready task, so every task is
+    /// run or skipped.
     fn spawn<'s>(&'s self, scope: &rayon::Scope<'s>, tasks: usize) {
         for _ in 0..tasks {
             scope.spawn(move |scope| self.run_next(scope));
@@ -289,7 +289,11 @@ where
         state.slots[task.line] = Some(line);
         state.ready.push(Reverse(Task::finish(level, task.line)));
         state.unlocated[level] -= 1;
-        if state.unlocated[level] > 0 || level + 1 == self.levels.len() {
+        // The next level, unless this is the last or a level up to this one refused.
+        if state.unlocated[level] > 0
+            || level + 1 == self.levels.len()
+            || state.refused_level.is_some_and(|refused| refused <= level)
+        {
             return 1;
         }
         let Layout {
@@ -342,7 +346,8 @@ pub(crate) struct Layout {
 
 /// The lines [`trace_in_levels`] returns.
 pub(crate) struct Levels {
-    /// Every traced line in order; when not `complete`, only the finished ones.
+    /// Every traced line in order; when not `complete`, those of the levels up to the refused
+    /// one.
     pub lines: Vec<LineBoundary>,
     /// False when tracing stopped early at a line the caller refuses.
     pub complete: bool,
@@ -785,6 +790,51 @@ mod tests {
         });
         assert!(levels.complete);
         assert_eq!(levels.lines.len(), n);
+    }
+
+    /// A refusal found in a later level before one in an earlier level: the earlier one
+    /// decides. Line 0's check is held until line 6 (of the second level) is checked and
+    /// refused; then line 0 refuses too, and only the anchors are returned, all finished.
+    #[test]
+    fn an_earlier_level_refusing_last_still_decides() {
+        let n = 64;
+        let k_of = |l: &LineBoundary| (l.psi * n as f64 / std::f64::consts::TAU).round() as usize;
+        let later_refused = std::sync::Mutex::new(false);
+        let signal = std::sync::Condvar::new();
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(2)
+            .build()
+            .unwrap();
+        let levels = pool.install(|| {
+            trace_in_levels(
+                LAYOUT,
+                |k, _| line(k, n, curve(k as f64, n)),
+                |l| {
+                    l.steps += 10;
+                    match k_of(l) {
+                        0 => {
+                            let done = later_refused.lock().unwrap();
+                            let (done, _) = signal
+                                .wait_timeout_while(done, std::time::Duration::from_secs(60), |d| {
+                                    !*d
+                                })
+                                .unwrap();
+                            assert!(*done, "line 6 was not checked while line 0 was held");
+                        }
+                        6 => {
+                            *later_refused.lock().unwrap() = true;
+                            signal.notify_all();
+                        }
+                        _ => {}
+                    }
+                },
+                Some(&|l: &LineBoundary| matches!(k_of(l), 0 | 6)),
+            )
+        });
+        assert!(!levels.complete);
+        let got: Vec<usize> = levels.lines.iter().map(k_of).collect();
+        assert_eq!(got, (0..n).step_by(4).collect::<Vec<_>>());
+        assert!(levels.lines.iter().all(|l| l.steps == 11));
     }
 
     /// The anchor spacing, and every line traced once for counts of angles that are not
