@@ -475,6 +475,19 @@ mod tests {
         5.0 + 0.1 * psi.cos() + 0.02 * (2.0 * psi).cos() + 0.01 * (3.0 * psi).sin()
     }
 
+    /// The index k of a line of `n` from its angle.
+    fn index(l: &LineBoundary, n: usize) -> usize {
+        (l.psi * n as f64 / std::f64::consts::TAU).round() as usize
+    }
+
+    /// A pool of `threads` threads.
+    fn pool(threads: usize) -> rayon::ThreadPool {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+    }
+
     #[test]
     fn the_winding_law_is_interpolated_between_the_nearest_lines_and_needs_both() {
         // Line 6 of 64, halfway between lines 4 and 8: (k, c) on each side interpolated
@@ -668,10 +681,7 @@ mod tests {
         // (refused line, lines finished by then: its level and the ones before).
         for (bad, want) in [(8, n / 4), (6, n / 2), (5, n)] {
             let run = |threads: usize| {
-                let pool = rayon::ThreadPoolBuilder::new()
-                    .num_threads(threads)
-                    .build()
-                    .unwrap();
+                let pool = pool(threads);
                 let located = std::sync::atomic::AtomicUsize::new(0);
                 let levels = pool.install(|| {
                     trace_in_levels(
@@ -693,11 +703,7 @@ mod tests {
             for threads in [1, 2] {
                 let (levels, located) = run(threads);
                 assert_eq!(levels.complete, want == n, "line {bad}, {threads} threads");
-                let got: Vec<usize> = levels
-                    .lines
-                    .iter()
-                    .map(|l| (l.psi * n as f64 / std::f64::consts::TAU).round() as usize)
-                    .collect();
+                let got: Vec<usize> = levels.lines.iter().map(|l| index(l, n)).collect();
                 assert_eq!(got, expected, "line {bad}, {threads} threads");
                 assert!(levels.lines.iter().all(|l| l.steps == 11));
                 // On one thread the next level is never started once the refusal is known.
@@ -714,10 +720,7 @@ mod tests {
     fn on_one_thread_each_level_is_located_then_finished_before_the_next() {
         let n = 64;
         let events = std::sync::Mutex::new(Vec::new());
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(1)
-            .build()
-            .unwrap();
+        let pool = pool(1);
         let levels = pool.install(|| {
             trace_in_levels(
                 LAYOUT,
@@ -726,7 +729,7 @@ mod tests {
                     line(k, n, curve(k as f64, n))
                 },
                 |l| {
-                    let k = (l.psi * n as f64 / std::f64::consts::TAU).round() as usize;
+                    let k = index(l, n);
                     events.lock().unwrap().push((k, true));
                 },
                 None,
@@ -759,10 +762,7 @@ mod tests {
         let anchors = n / 4;
         let finished = std::sync::Mutex::new(0usize);
         let all_others = std::sync::Condvar::new();
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(2)
-            .build()
-            .unwrap();
+        let pool = pool(2);
         let levels = pool.install(|| {
             trace_in_levels(
                 LAYOUT,
@@ -798,13 +798,10 @@ mod tests {
     #[test]
     fn an_earlier_level_refusing_last_still_decides() {
         let n = 64;
-        let k_of = |l: &LineBoundary| (l.psi * n as f64 / std::f64::consts::TAU).round() as usize;
+        let k_of = |l: &LineBoundary| index(l, n);
         let later_refused = std::sync::Mutex::new(false);
         let signal = std::sync::Condvar::new();
-        let pool = rayon::ThreadPoolBuilder::new()
-            .num_threads(2)
-            .build()
-            .unwrap();
+        let pool = pool(2);
         let levels = pool.install(|| {
             trace_in_levels(
                 LAYOUT,
