@@ -97,6 +97,7 @@ where
             level_of[k] = level;
         }
     }
+    let unlocated = levels.iter().map(Vec::len).collect();
     let queue = LineQueue {
         layout,
         levels,
@@ -109,14 +110,13 @@ where
             seeds: vec![None; layout.traced],
             finished: vec![false; layout.traced],
             ready: BinaryHeap::new(),
-            unlocated: Vec::new(),
+            unlocated,
             refused_level: None,
         }),
     };
     rayon::scope(|scope| {
         let tasks = {
             let mut state = queue.lock();
-            state.unlocated = queue.levels.iter().map(Vec::len).collect();
             for &k in &queue.levels[0] {
                 state.ready.push(Reverse(Task::locate(0, k)));
             }
@@ -199,12 +199,21 @@ impl Task {
     }
 }
 
+/// What a task of [`trace_in_levels`] does, taken from the queue under its lock.
+enum Work {
+    /// Locate the line from this seed (`None`: scan it in full).
+    Locate(Option<Seed>),
+    /// Finish (check) this copy of the located line.
+    Finish(Box<LineBoundary>),
+}
+
 /// What the threads of [`trace_in_levels`] share.
 struct QueueState {
     /// Located lines (finished ones once finished).
     slots: Vec<Option<LineBoundary>>,
     /// Each seeded line's prediction, set when its level is queued.
     seeds: Vec<Option<Seed>>,
+    /// Lines finished (for the check that every returned line is).
     finished: Vec<bool>,
     /// Tasks ready to run, the most urgent first.
     ready: BinaryHeap<Reverse<Task>>,
@@ -257,19 +266,21 @@ where
                 return;
             }
             let work = if task.is_finish() {
-                Err(state.slots[task.line].clone().expect("a located line"))
+                Work::Finish(Box::new(
+                    state.slots[task.line].clone().expect("a located line"),
+                ))
             } else {
-                Ok(state.seeds[task.line])
+                Work::Locate(state.seeds[task.line])
             };
             (task, work)
         };
         let queued = match work {
-            Ok(seed) => self.located(task, (self.locate)(task.line, seed)),
-            Err(mut line) => {
+            Work::Locate(seed) => self.located(task, (self.locate)(task.line, seed)),
+            Work::Finish(mut line) => {
                 (self.finish)(&mut line);
                 let refused = self.refuses.is_some_and(|r| r(&line));
                 let mut state = self.lock();
-                state.slots[task.line] = Some(line);
+                state.slots[task.line] = Some(*line);
                 state.finished[task.line] = true;
                 if refused {
                     let level = task.level();
